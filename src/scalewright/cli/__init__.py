@@ -1,0 +1,85 @@
+"""The command line: parse, call the library, render. Errors become one ``error:`` line and an exit code."""
+from __future__ import annotations
+
+import importlib
+import sys
+
+import click
+
+from .. import __version__
+from ..errors import ScalewrightError
+
+#: command name -> module of this package that defines a click command of the same name
+COMMANDS = {
+    "demo": "demo",
+    "draft": "draft",
+    "lint": "lint",
+    "score": "score",
+    "reliability": "reliability",
+    "structure": "structure",
+    "shape": "shape",
+    "compare": "compare",
+    "tally": "tally",
+    "screen": "screen",
+    "report": "report",
+}
+
+
+class LazyGroup(click.Group):
+    """Imports a command's module only when that command runs, so the tool starts fast."""
+
+    def list_commands(self, ctx: click.Context) -> list[str]:
+        return list(COMMANDS)
+
+    def get_command(self, ctx: click.Context, cmd_name: str) -> click.Command | None:
+        module_name = COMMANDS.get(cmd_name)
+        if module_name is None:
+            return None
+        module = importlib.import_module(f"{__name__}.{module_name}")
+        return getattr(module, cmd_name.replace("-", "_"))
+
+
+@click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
+@click.version_option(__version__, prog_name="scalewright")
+def cli() -> None:
+    """Score, check and describe multi-item rating scales.
+
+    Every command reads one data file and one scale file (YAML). Start with
+    `scalewright demo --out DIR` to see a full report on fictional data.
+
+    Scores describe groups of respondents; they are not a diagnosis or a basis
+    for decisions about one person.
+    """
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the console script; never lets a traceback reach the user."""
+    try:
+        cli.main(args=argv, prog_name="scalewright", standalone_mode=False)
+    except ScalewrightError as error:
+        click.echo(f"error: {error}", err=True)
+        return error.exit_code
+    except click.exceptions.Abort:
+        click.echo("error: interrupted", err=True)
+        return 130
+    except click.ClickException as error:
+        click.echo(f"error: {error.format_message()}", err=True)
+        return 2
+    except click.exceptions.Exit as done:
+        return done.exit_code
+    except KeyboardInterrupt:
+        click.echo("error: interrupted", err=True)
+        return 130
+    except BrokenPipeError:
+        return 0
+    except MemoryError:
+        click.echo("error: out of memory; try a smaller file or fewer scales", err=True)
+        return 1
+    except OSError as error:
+        click.echo(f"error: {error.strerror or error}: {error.filename or ''}".rstrip(": "), err=True)
+        return 1
+    return 0
+
+
+def run() -> None:  # pragma: no cover - console script shim
+    sys.exit(main())

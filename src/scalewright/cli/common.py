@@ -1,0 +1,117 @@
+"""What every analysis command shares: its options, loading the inputs, and emitting the output."""
+from __future__ import annotations
+
+import sys
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import click
+
+from ..errors import UsageError
+from ..files import write_atomic
+from ..present.document import InputInfo, envelope
+from ..present.render import render_csv, render_json, render_markdown, render_text
+from ..present.table import Table
+
+FORMATS = ("table", "json", "md", "csv")
+
+
+def data_argument(fn: Callable) -> Callable:
+    return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(fn)
+
+
+def scales_option(fn: Callable) -> Callable:
+    return click.option("--scales", "-s", "scales", required=True, type=click.Path(dir_okay=False, path_type=Path),
+                        help="Scale file (YAML).")(fn)
+
+
+def output_options(fn: Callable) -> Callable:
+    fn = click.option("--decimals", type=click.IntRange(0, 6), default=2, show_default=True,
+                      help="Decimals shown in tables (JSON and CSV keep full precision).")(fn)
+    fn = click.option("--out", "-o", "out", type=click.Path(dir_okay=False, path_type=Path),
+                      help="Write the output to this file instead of the screen.")(fn)
+    fn = click.option("--format", "-f", "fmt", type=click.Choice(FORMATS), default=None,
+                      help="Output format (default: table on a terminal, else by --out's extension or json).")(fn)
+    return fn
+
+
+def input_options(fn: Callable) -> Callable:
+    fn = click.option("--exclude", type=click.Path(dir_okay=False, path_type=Path),
+                      help="File of respondent ids to set aside (one per line, or a CSV whose first column holds them).")(fn)
+    fn = click.option("--lenient", is_flag=True,
+                      help="Turn out-of-range values and unknown answer texts into missing values (counted) instead of stopping.")(fn)
+    return fn
+
+
+def by_option(fn: Callable) -> Callable:
+    return click.option("--by", "by", multiple=True, metavar="COLUMN",
+                        help="Subgroup column (repeatable). Default: the scale file's `groups`.")(fn)
+
+
+@dataclass(frozen=True)
+class Inputs:
+    """What a command works on: the scale file, the responses, and their provenance."""
+
+    spec: Any
+    responses: Any
+    info: InputInfo
+    excluded: int
+    notes: tuple[str, ...]
+
+
+def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Path | None = None) -> Inputs:
+    from ..data import read_exclusion_list, read_responses
+    from ..spec import load_spec
+
+    spec = load_spec(scales)
+    responses = read_responses(data, spec, lenient=lenient)
+    notes: list[str] = list(responses.notes())
+    excluded = 0
+    if exclude is not None:
+        ids = read_exclusion_list(exclude)
+        responses, excluded, unknown = responses.without_ids(ids)
+        notes.append(f"{excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
+                     f"{len(unknown)} not found in the data)")
+    return Inputs(spec=spec, responses=responses, info=InputInfo.from_paths(data, scales),
+                  excluded=excluded, notes=tuple(notes))
+
+
+def resolve_by(by: Sequence[str], spec: Any) -> tuple[str, ...]:
+    return tuple(by) if by else tuple(getattr(spec, "groups", ()) or ())
+
+
+def choose_format(fmt: str | None, out: Path | None) -> str:
+    if fmt:
+        return fmt
+    if out is not None:
+        suffix = out.suffix.lower().lstrip(".")
+        return {"json": "json", "csv": "csv", "md": "md", "markdown": "md", "txt": "table"}.get(suffix, "json")
+    return "table" if sys.stdout.isatty() else "json"
+
+
+def emit(*, command: str, inputs: Inputs, body: dict[str, Any], tables: Sequence[Table],
+         fmt: str | None, out: Path | None, decimals: int = 2, options: dict[str, Any] | None = None,
+         preface: Sequence[str] = ()) -> None:
+    """Render the result in the chosen format and write it to ``out`` (atomically) or stdout."""
+    chosen = choose_format(fmt, out)
+    document = envelope(command, inputs.info, body, options=options, notes=list(inputs.notes))
+    if chosen == "json":
+        text = render_json(document)
+    elif chosen == "csv":
+        text = render_csv(tables)
+    elif chosen == "md":
+        text = render_markdown(tables, decimals=decimals, preface=[*preface, *inputs.notes])
+    else:
+        text = render_text(tables, decimals=decimals, preface=[*preface, *inputs.notes])
+    if out is None:
+        click.echo(text, nl=False)
+    else:
+        write_atomic(out, text, inputs=[p for p in (inputs.info.data, inputs.info.scales) if p])
+        click.echo(f"wrote {out}", err=True)
+
+
+def require(condition: bool, message: str) -> None:
+    if not condition:
+        raise UsageError(message)

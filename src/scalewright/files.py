@@ -1,0 +1,75 @@
+"""Writing outputs safely: atomically, and never over an input file."""
+from __future__ import annotations
+
+import hashlib
+import os
+import tempfile
+from collections.abc import Iterable
+from pathlib import Path
+
+from .errors import UsageError
+
+
+def sha256_of(path: str | os.PathLike[str]) -> str:
+    digest = hashlib.sha256()
+    with open(path, "rb") as handle:
+        for block in iter(lambda: handle.read(1 << 20), b""):
+            digest.update(block)
+    return digest.hexdigest()
+
+
+def refuse_input_overwrite(target: str | os.PathLike[str], inputs: Iterable[str | os.PathLike[str]]) -> None:
+    """Raise ``UsageError`` when ``target`` is one of the input files (also through links)."""
+    target_path = Path(target)
+    for source in inputs:
+        if source is None:
+            continue
+        source_path = Path(source)
+        if target_path.exists() and source_path.exists() and os.path.samefile(target_path, source_path):
+            raise UsageError(f"refusing to write {target}: it is an input file")
+        if target_path.resolve() == source_path.resolve():
+            raise UsageError(f"refusing to write {target}: it is an input file")
+
+
+def write_atomic(
+    target: str | os.PathLike[str],
+    content: str | bytes,
+    *,
+    inputs: Iterable[str | os.PathLike[str]] = (),
+) -> Path:
+    """Write ``content`` to ``target`` through a temporary file in the same folder and a rename."""
+    target_path = Path(target)
+    refuse_input_overwrite(target_path, inputs)
+    folder = target_path.parent if str(target_path.parent) else Path(".")
+    if not folder.is_dir():
+        raise UsageError(f"cannot write {target}: folder {folder} does not exist")
+    data = content.encode("utf-8") if isinstance(content, str) else content
+    handle, temp_name = tempfile.mkstemp(prefix=f".{target_path.name}.", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(handle, "wb") as stream:
+            stream.write(data)
+        os.replace(temp_name, target_path)
+    except BaseException:
+        if os.path.exists(temp_name):
+            os.unlink(temp_name)
+        raise
+    return target_path
+
+
+def write_atomic_with(target: str | os.PathLike[str], writer, *, inputs: Iterable = ()) -> Path:
+    """Like ``write_atomic`` for libraries that write to a path themselves: ``writer(temp_path)``."""
+    target_path = Path(target)
+    refuse_input_overwrite(target_path, inputs)
+    folder = target_path.parent if str(target_path.parent) else Path(".")
+    if not folder.is_dir():
+        raise UsageError(f"cannot write {target}: folder {folder} does not exist")
+    handle, temp_name = tempfile.mkstemp(prefix=f".{target_path.name}.", suffix=target_path.suffix, dir=folder)
+    os.close(handle)
+    try:
+        writer(Path(temp_name))
+        os.replace(temp_name, target_path)
+    except BaseException:
+        if os.path.exists(temp_name):
+            os.unlink(temp_name)
+        raise
+    return target_path

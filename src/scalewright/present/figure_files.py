@@ -1,0 +1,35 @@
+"""Saving matplotlib figures as SVG and PNG files, atomically."""
+from __future__ import annotations
+
+from collections.abc import Iterable
+from pathlib import Path
+
+from ..files import write_atomic_with
+
+
+def use_agg() -> None:
+    """Select the non-interactive Agg backend (no screen needed); call before importing pyplot."""
+    import matplotlib
+
+    matplotlib.use("Agg", force=True)
+
+
+def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "png"), dpi: int = 150,
+                inputs: Iterable = ()) -> list[Path]:
+    """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure."""
+    import matplotlib.pyplot as plt
+
+    written = []
+    stem = Path(stem)
+    try:
+        for fmt in formats:
+            target = stem.with_suffix(f".{fmt}")
+            # svg.hashsalt keeps SVG ids stable, so the same input gives the same file
+            written.append(write_atomic_with(
+                target,
+                lambda tmp, fmt=fmt: figure.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight",
+                                                    metadata={"Date": None} if fmt == "svg" else None),
+                inputs=inputs))
+    finally:
+        plt.close(figure)
+    return written

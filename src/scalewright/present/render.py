@@ -1,0 +1,114 @@
+"""Render lists of ``Table`` objects as terminal text, Markdown or CSV, and documents as JSON."""
+from __future__ import annotations
+
+import csv
+import io
+import json
+from collections.abc import Sequence
+from typing import Any
+
+from ..results import to_jsonable
+from .numbers import format_value
+from .table import Table
+
+
+def _cells(table: Table, decimals: int) -> list[list[str]]:
+    return [
+        [format_value(value, table.kind_of(column), decimals) for column, value in zip(table.columns, row)]
+        for row in table.rows
+    ]
+
+
+def _is_numeric_column(table: Table, column: str) -> bool:
+    return table.kind_of(column) != "text"
+
+
+def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence[str] = ()) -> str:
+    """Plain aligned columns for a terminal: text left-aligned, numbers right-aligned."""
+    out: list[str] = list(preface)
+    if preface:
+        out.append("")
+    for table in tables:
+        cells = _cells(table, decimals)
+        widths = [len(c) for c in table.columns]
+        for row in cells:
+            widths = [max(w, len(c)) for w, c in zip(widths, row)]
+        out.append(table.title)
+        out.append("=" * max(len(table.title), 1))
+
+        def line(values: Sequence[str]) -> str:
+            parts = []
+            for column, value, width in zip(table.columns, values, widths):
+                parts.append(value.rjust(width) if _is_numeric_column(table, column) else value.ljust(width))
+            return "  ".join(parts).rstrip()
+
+        if table.columns:
+            out.append(line(table.columns))
+            out.append("  ".join("-" * w for w in widths))
+            out.extend(line(row) for row in cells)
+        for note in table.notes:
+            out.append(f"  note: {note}")
+        out.append("")
+    return "\n".join(out).rstrip() + "\n"
+
+
+def escape_markdown(text: str) -> str:
+    """Escape text so Markdown (and the HTML it may become) shows it literally."""
+    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
+    for char in "\\`*_{}[]()#+!|":
+        text = text.replace(char, "\\" + char)
+    return text.replace("\n", " ")
+
+
+def render_markdown(tables: Sequence[Table], *, decimals: int = 2, heading_level: int = 2,
+                    preface: Sequence[str] = ()) -> str:
+    out: list[str] = [escape_markdown(p) for p in preface]
+    if preface:
+        out.append("")
+    for table in tables:
+        out.append(f"{'#' * heading_level} {escape_markdown(table.title)}")
+        out.append("")
+        if table.columns:
+            out.append("| " + " | ".join(escape_markdown(c) for c in table.columns) + " |")
+            out.append("| " + " | ".join("---:" if _is_numeric_column(table, c) else ":---"
+                                         for c in table.columns) + " |")
+            for row in _cells(table, decimals):
+                out.append("| " + " | ".join(escape_markdown(c) for c in row) + " |")
+            out.append("")
+        for note in table.notes:
+            out.append(f"*Note.* {escape_markdown(note)}")
+            out.append("")
+    return "\n".join(out).rstrip() + "\n"
+
+
+def neutralise_formula(value: Any) -> Any:
+    """Prefix text cells a spreadsheet would run as a formula with an apostrophe."""
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        return "'" + value
+    return value
+
+
+def render_csv(tables: Sequence[Table]) -> str:
+    """One long CSV: a ``table`` column, then the union of all columns. Values are not rounded."""
+    columns: list[str] = []
+    for table in tables:
+        for column in table.columns:
+            if column not in columns:
+                columns.append(column)
+    buffer = io.StringIO()
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow(["table", *columns])
+    for table in tables:
+        name = table.key or table.title
+        for row in table.rows:
+            record = dict(zip(table.columns, row))
+            values = []
+            for column in columns:
+                value = to_jsonable(record.get(column))
+                values.append("" if value is None else neutralise_formula(value))
+            writer.writerow([name, *values])
+    return buffer.getvalue()
+
+
+def render_json(document: dict[str, Any]) -> str:
+    return json.dumps(to_jsonable(document), indent=2, ensure_ascii=False, allow_nan=False) + "\n"

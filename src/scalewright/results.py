@@ -1,0 +1,43 @@
+"""Shared plumbing of result objects: conversion to the JSON contract's plain values."""
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Mapping
+from typing import Any
+
+import numpy as np
+
+
+def to_jsonable(value: Any) -> Any:
+    """Turn numpy scalars/arrays, tuples and nested dataclasses into JSON-ready values.
+
+    NaN and infinities become ``None``: the contract never carries NaN; the reason belongs in ``notes``.
+    """
+    if dataclasses.is_dataclass(value) and not isinstance(value, type):
+        if hasattr(value, "to_dict"):
+            return value.to_dict()
+        return {f.name: to_jsonable(getattr(value, f.name)) for f in dataclasses.fields(value)}
+    if isinstance(value, Mapping):
+        return {str(k): to_jsonable(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [to_jsonable(v) for v in value]
+    if isinstance(value, np.ndarray):
+        return [to_jsonable(v) for v in value.tolist()]
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)):
+        return int(value)
+    if isinstance(value, (float, np.floating)):
+        value = float(value)
+        return value if math.isfinite(value) else None
+    if value is None or isinstance(value, str):
+        return value
+    return str(value)
+
+
+class ResultMixin:
+    """Default ``to_dict`` for frozen result dataclasses: every field, JSON-ready."""
+
+    def to_dict(self) -> dict[str, Any]:
+        return {f.name: to_jsonable(getattr(self, f.name)) for f in dataclasses.fields(self)}  # type: ignore[arg-type]

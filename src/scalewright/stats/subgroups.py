@@ -1,0 +1,74 @@
+"""Splitting respondents into subgroup levels, naming (not analysing) the ones too small."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..results import ResultMixin
+
+
+@dataclass(frozen=True)
+class SubgroupSplit(ResultMixin):
+    """Levels of one grouping column.
+
+    ``levels`` maps each analysable level (as text) to the row positions in it; ``too_small`` maps the
+    levels below ``min_size`` to their row counts; ``missing`` counts rows with no group value.
+    """
+
+    column: str
+    levels: dict[str, np.ndarray]
+    too_small: dict[str, int]
+    missing: int
+    min_size: int
+
+    def to_dict(self) -> dict:
+        return {"column": self.column, "levels": {k: int(len(v)) for k, v in self.levels.items()},
+                "too_small": dict(self.too_small), "missing": self.missing, "min_size": self.min_size}
+
+    def notes(self) -> list[str]:
+        out = []
+        for level, n in self.too_small.items():
+            out.append(f"{self.column} = {level}: {n} respondent(s), fewer than {self.min_size}; not analysed")
+        if self.missing:
+            out.append(f"{self.column}: {self.missing} respondent(s) with no value; left out of the subgroups")
+        return out
+
+
+def level_order(values: pd.Series) -> list:
+    """Levels in their natural order: categorical order if given, numbers numerically, else text order."""
+    present = values.dropna()
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        return [c for c in values.cat.categories if (present == c).any()]
+    uniques = list(pd.unique(present))
+    try:
+        return sorted(uniques)
+    except TypeError:
+        return sorted(uniques, key=str)
+
+
+def level_name(level) -> str:
+    if isinstance(level, float) and level.is_integer():
+        return str(int(level))
+    return str(level)
+
+
+def split_by(values: pd.Series, *, min_size: int = 10, column: str | None = None) -> SubgroupSplit:
+    """Row positions of each level of ``values``; levels with fewer than ``min_size`` rows are set apart."""
+    values = pd.Series(values).reset_index(drop=True)
+    if values.dtype == object or pd.api.types.is_string_dtype(values.dtype):
+        stripped = values.astype("string").str.strip()
+        values = stripped.mask(stripped == "")
+    missing_mask = values.isna().to_numpy()
+    levels: dict[str, np.ndarray] = {}
+    too_small: dict[str, int] = {}
+    for level in level_order(values):
+        positions = np.flatnonzero((values == level).fillna(False).to_numpy())
+        name = level_name(level)
+        if len(positions) < min_size:
+            too_small[name] = int(len(positions))
+        else:
+            levels[name] = positions
+    return SubgroupSplit(column=column or str(values.name), levels=levels, too_small=too_small,
+                         missing=int(missing_mask.sum()), min_size=min_size)
