@@ -1,0 +1,89 @@
+"""Item covariance matrices from a keyed item matrix: listwise or pairwise, as sufficient statistics."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import DataError
+
+
+@dataclass(frozen=True)
+class ItemCovariance:
+    """The sufficient statistics reliability needs: row counts and the item covariance matrix.
+
+    ``n_used`` is the number of rows the matrix rests on: the complete rows (listwise), or the smallest
+    pairwise count (pairwise, the conservative choice for confidence intervals). ``pair_counts`` holds every
+    pairwise count (all equal to ``n_used`` when listwise).
+    """
+
+    cov: np.ndarray
+    means: np.ndarray
+    n_used: int
+    n_rows: int
+    n_complete: int
+    pair_counts: np.ndarray
+    pairwise: bool
+
+    @property
+    def k(self) -> int:
+        return int(self.cov.shape[0])
+
+
+def as_item_matrix(keyed: np.ndarray, *, name: str = "keyed") -> np.ndarray:
+    """Validate an n x k matrix of keyed answers (NaN = missing) and return it as float64."""
+    matrix = np.asarray(keyed, dtype=np.float64)
+    if matrix.ndim != 2:
+        raise DataError(f"{name}: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
+    if np.isinf(matrix).any():
+        raise DataError(f"{name}: infinite values are not answers")
+    return matrix
+
+
+def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovariance:
+    """Covariance matrix (ddof = 1) of the keyed items, listwise by default or pairwise.
+
+    Pairwise covariances use, for each pair, the rows where both items are answered (the same
+    definition as :meth:`pandas.DataFrame.cov`); they are computed with matrix products so the cost
+    does not grow with a Python loop over rows or pairs.
+    """
+    matrix = as_item_matrix(keyed)
+    n_rows, k = matrix.shape
+    answered = ~np.isnan(matrix)
+    complete = answered.all(axis=1)
+    n_complete = int(complete.sum())
+    if not pairwise or n_complete == n_rows:
+        rows = matrix if n_complete == n_rows else matrix[complete]
+        means = rows.mean(axis=0) if n_complete else np.full(k, np.nan)
+        if n_complete >= 2:
+            centred = rows - means
+            cov = centred.T @ centred / (n_complete - 1)
+        else:
+            cov = np.full((k, k), np.nan)
+        counts = np.full((k, k), n_complete, dtype=np.int64)
+        return ItemCovariance(cov=cov, means=means, n_used=n_complete, n_rows=n_rows, n_complete=n_complete,
+                              pair_counts=counts, pairwise=pairwise)
+    mask = answered.astype(np.float64)
+    zeroed = np.where(answered, matrix, 0.0)
+    counts = mask.T @ mask                     # n_ij
+    sums = zeroed.T @ mask                     # sum of x_i over rows where j is answered
+    cross = zeroed.T @ zeroed                  # sum of x_i x_j over rows where both are answered
+    with np.errstate(invalid="ignore", divide="ignore"):
+        cov = (cross - sums * sums.T / counts) / (counts - 1)
+        means = np.diag(sums) / np.diag(counts)
+    cov = np.where(counts >= 2, cov, np.nan)
+    cov = (cov + cov.T) / 2
+    n_used = int(counts.min()) if k else 0
+    return ItemCovariance(cov=cov, means=means, n_used=n_used, n_rows=n_rows, n_complete=n_complete,
+                          pair_counts=counts.astype(np.int64), pairwise=True)
+
+
+def correlation_from_cov(cov: np.ndarray) -> np.ndarray:
+    """Correlation matrix of a covariance matrix; NaN where an item has no variance."""
+    cov = np.asarray(cov, dtype=np.float64)
+    sd = np.sqrt(np.diag(cov))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        corr = cov / np.outer(sd, sd)
+    corr[~np.isfinite(corr)] = np.nan
+    np.fill_diagonal(corr, np.where(sd > 0, 1.0, np.nan))
+    return corr
