@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import importlib
+import os
 import sys
 
 import click
@@ -78,6 +79,12 @@ def main(argv: list[str] | None = None) -> int:
     except OSError as error:
         click.echo(f"error: {error.strerror or error}: {error.filename or ''}".rstrip(": "), err=True)
         return 1
+    except Exception as error:  # the last line of defence: a bug must not show a user a traceback
+        if os.environ.get("SCALEWRIGHT_DEBUG"):
+            raise
+        click.echo(f"error: internal error ({type(error).__name__}: {error}); please report it with the "
+                   "command you ran (set SCALEWRIGHT_DEBUG=1 to see the details)", err=True)
+        return 70
     return 0
 
 

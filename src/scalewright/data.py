@@ -1,0 +1,406 @@
+"""Reading the data file into clean item codes, checked against the scale file.
+
+Answer texts become their codes, "no answer" codes and blanks become missing, and every value that is
+neither an answer nor a missing code is refused with its row and column (or, with ``lenient``, turned
+into a missing value and counted). Nothing is dropped without being counted.
+"""
+from __future__ import annotations
+
+import csv
+import difflib
+import io
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any, Iterable, Sequence
+
+import numpy as np
+import pandas as pd
+
+from .errors import DataError, Problem
+from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
+
+DELIMITERS = (",", ";", "\t")
+READABLE = (".csv", ".tsv", ".txt", ".xlsx", ".parquet")
+SHOW_FIRST = 20  # bad cells listed one by one before the rest are only counted
+
+
+# ----------------------------------------------------------------------------------------------------------
+# files
+
+
+def _first_line(body: bytes) -> str:
+    end = body.find(b"\n")
+    return body[: end if end >= 0 else len(body)].decode("utf-8", errors="replace")
+
+
+def sniff_delimiter(header_line: str) -> str:
+    """The delimiter among , ; and tab that occurs most in the header line (outside quotes)."""
+    outside, quoted = [], False
+    for char in header_line:
+        if char == '"':
+            quoted = not quoted
+        elif not quoted:
+            outside.append(char)
+    text = "".join(outside)
+    counts = {d: text.count(d) for d in DELIMITERS}
+    best = max(counts, key=lambda d: counts[d])
+    return best if counts[best] > 0 else ","
+
+
+def _decode_check(path: Path, body: bytes) -> bytes:
+    """Strip a UTF-8 byte-order mark and refuse text that is not UTF-8."""
+    if body.startswith(b"\xef\xbb\xbf"):
+        body = body[3:]
+    elif body.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise DataError(Problem(file=str(path), message="the file is UTF-16; save it as UTF-8"))
+    try:
+        body.decode("utf-8")
+    except UnicodeDecodeError as error:
+        line = body.count(b"\n", 0, error.start) + 1
+        raise DataError(Problem(file=str(path), line=line,
+                                message=f"not UTF-8 text (byte 0x{body[error.start]:02x} at offset {error.start}); "
+                                        "save the file as UTF-8")) from None
+    return body
+
+
+def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
+    body = _decode_check(path, path.read_bytes())
+    if not body.strip():
+        raise DataError(Problem(file=str(path), message="the file is empty"))
+    header = _first_line(body)
+    sep = delimiter or sniff_delimiter(header)
+    names = next(csv.reader([header], delimiter=sep))
+    _check_header(path, [n.strip() for n in names])
+    try:
+        frame = pd.read_csv(io.BytesIO(body), sep=sep, engine="pyarrow")
+    except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
+        message = str(error).splitlines()[0] if str(error) else type(error).__name__
+        raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
+    frame.columns = [str(c).strip() for c in frame.columns]
+    return frame
+
+
+def _check_header(path: Path, names: Sequence[str]) -> None:
+    seen: set[str] = set()
+    for position, name in enumerate(names, start=1):
+        if not name:
+            raise DataError(Problem(file=str(path), line=1, where=f"column {position}",
+                                    message="the header has an empty column name"))
+        if name in seen:
+            raise DataError(Problem(file=str(path), line=1, where=f"column {position}",
+                                    message=f"the column name {name!r} appears twice in the header"))
+        seen.add(name)
+
+
+def read_table(path: str | Path, *, delimiter: str | None = None) -> pd.DataFrame:
+    """Read a CSV/TSV, XLSX or Parquet file as it is (no scale file needed), by its extension."""
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if not path.exists():
+        raise DataError(Problem(file=str(path), message="data file not found"))
+    if path.is_dir():
+        raise DataError(Problem(file=str(path), message="is a folder, not a data file"))
+    if suffix not in READABLE:
+        raise DataError(Problem(file=str(path), message=f"cannot read {suffix or 'files without an extension'}; "
+                                                        "use .csv, .tsv, .xlsx or .parquet"))
+    if suffix in (".csv", ".txt"):
+        frame = _read_delimited(path, delimiter)
+    elif suffix == ".tsv":
+        frame = _read_delimited(path, delimiter or "\t")
+    elif suffix == ".xlsx":
+        try:
+            frame = pd.read_excel(path, engine="openpyxl")
+        except Exception as error:  # openpyxl raises several types for broken workbooks
+            raise DataError(Problem(file=str(path), message=f"cannot read the workbook: {error}")) from None
+        frame.columns = [str(c).strip() for c in frame.columns]
+        _check_header(path, [c for c in frame.columns])
+    else:
+        try:
+            frame = pd.read_parquet(path)
+        except Exception as error:  # pyarrow raises its own types for broken files
+            raise DataError(Problem(file=str(path), message=f"cannot read the Parquet file: {error}")) from None
+        frame.columns = [str(c).strip() for c in frame.columns]
+    if len(frame.columns) == 0:
+        raise DataError(Problem(file=str(path), message="the file has no columns"))
+    if len(frame) == 0:
+        raise DataError(Problem(file=str(path), message="the file has a header but no rows of data"))
+    return frame
+
+
+def first_row_number(path: str | Path) -> int:
+    """Row number of the first data row as a person sees it: 2 below a header, 1 in Parquet."""
+    return 1 if Path(path).suffix.lower() == ".parquet" else 2
+
+
+# ----------------------------------------------------------------------------------------------------------
+# responses
+
+
+@dataclass(frozen=True, eq=False)
+class Responses:
+    """Clean answer codes of every item, with ids, the other columns and what was refused.
+
+    ``items`` holds raw codes (not reverse-keyed) as one float64 matrix, NaN where no answer was given.
+    """
+
+    path: str
+    items: np.ndarray
+    item_names: tuple[str, ...]
+    frame: pd.DataFrame
+    ids: pd.Series
+    line_numbers: np.ndarray
+    id_column: str | None = None
+    refused: tuple[Problem, ...] = ()
+    refused_total: int = 0
+    refused_by_column: dict[str, int] = field(default_factory=dict)
+    missing_code_by_column: dict[str, int] = field(default_factory=dict)
+    blank_by_column: dict[str, int] = field(default_factory=dict)
+    texts_by_column: dict[str, int] = field(default_factory=dict)
+
+    @property
+    def n(self) -> int:
+        return int(self.items.shape[0])
+
+    def item_index(self, name: str) -> int:
+        try:
+            return self.item_names.index(name)
+        except ValueError:
+            raise DataError(Problem(file=self.path, message=f"no item column {name!r}")) from None
+
+    def item(self, name: str) -> np.ndarray:
+        return self.items[:, self.item_index(name)]
+
+    def matrix(self, names: Sequence[str]) -> np.ndarray:
+        return self.items[:, [self.item_index(n) for n in names]]
+
+    def column(self, name: str) -> pd.Series:
+        """A non-item column (a group, id or other), or an item's clean codes, as a Series."""
+        if name in self.frame.columns:
+            return self.frame[name]
+        if name in self.item_names:
+            return pd.Series(self.item(name), name=name)
+        choices = list(self.frame.columns) + list(self.item_names)
+        close = difflib.get_close_matches(name, choices, n=1)
+        hint = f"; did you mean {close[0]!r}?" if close else ""
+        raise DataError(Problem(file=self.path, message=f"no column named {name!r}{hint}"))
+
+    def subset(self, rows: np.ndarray | Sequence[int] | Sequence[bool]) -> "Responses":
+        rows = np.asarray(rows)
+        positions = np.flatnonzero(rows) if rows.dtype == bool else rows.astype(int)
+        return Responses(
+            path=self.path, items=self.items[positions], item_names=self.item_names,
+            frame=self.frame.iloc[positions].reset_index(drop=True), ids=self.ids.iloc[positions].reset_index(drop=True),
+            line_numbers=self.line_numbers[positions], id_column=self.id_column, refused=self.refused,
+            refused_total=self.refused_total, refused_by_column=self.refused_by_column,
+            missing_code_by_column=self.missing_code_by_column, blank_by_column=self.blank_by_column,
+            texts_by_column=self.texts_by_column)
+
+    def without_ids(self, ids: Iterable[str]) -> tuple["Responses", int, list[str]]:
+        """Drop the respondents whose id is listed; return the rest, how many were dropped, unknown ids."""
+        wanted = {str(i).strip() for i in ids if str(i).strip()}
+        present = self.ids.astype(str)
+        drop = present.isin(wanted).to_numpy()
+        unknown = sorted(wanted - set(present[drop]))
+        return self.subset(~drop), int(drop.sum()), unknown
+
+    def notes(self) -> list[str]:
+        """Plain-language notes about what reading the data changed."""
+        out = []
+        if self.refused_total:
+            detail = ", ".join(f"{c} {n}" for c, n in self.refused_by_column.items())
+            out.append(f"{self.refused_total} value(s) were neither an answer nor a missing code and were "
+                       f"treated as missing (--lenient): {detail}")
+        codes = sum(self.missing_code_by_column.values())
+        if codes:
+            out.append(f"{codes} 'no answer' code(s) were read as missing")
+        return out
+
+    def reading_summary(self) -> dict[str, Any]:
+        return {
+            "rows": self.n,
+            "refused_total": self.refused_total,
+            "refused_by_column": dict(self.refused_by_column),
+            "refused_first": [str(p) for p in self.refused],
+            "missing_code_by_column": dict(self.missing_code_by_column),
+            "blank_by_column": dict(self.blank_by_column),
+            "texts_by_column": dict(self.texts_by_column),
+        }
+
+
+@dataclass(frozen=True)
+class _Converted:
+    values: np.ndarray
+    bad: np.ndarray
+    missing_codes: int
+    blanks: int
+    texts: int
+
+
+def _text_lookup(fmt: ResponseFormat) -> dict[str, float]:
+    return {text: float(code) for text, code in fmt.code_for_text().items()}
+
+
+def convert_item(series: pd.Series, fmt: ResponseFormat) -> _Converted:
+    """Codes of one item column: texts via labels, missing codes and blanks to NaN, the rest checked."""
+    texts = 0
+    if pd.api.types.is_bool_dtype(series.dtype):
+        series = series.astype(object)
+    if pd.api.types.is_numeric_dtype(series.dtype):
+        values = series.to_numpy(dtype=np.float64, na_value=np.nan)
+        unreadable = np.zeros(len(values), dtype=bool)
+    else:
+        lookup = _text_lookup(fmt)
+        decoded: dict[Any, float] = {}
+        not_answer = np.nan
+        for raw in pd.unique(series.dropna()):
+            text = normalise_answer_text(raw)
+            if text == "":
+                decoded[raw] = np.nan
+            elif text in lookup:
+                decoded[raw] = lookup[text]
+            else:
+                try:
+                    decoded[raw] = float(text)
+                except ValueError:
+                    decoded[raw] = np.inf  # marks an unknown text; no real code is infinite
+        mapped = series.map(decoded)
+        values = mapped.to_numpy(dtype=np.float64, na_value=not_answer)
+        unreadable = np.isposinf(values)
+        label_texts = {k for k, v in decoded.items() if normalise_answer_text(k) in lookup}
+        texts = int(series.isin(label_texts).sum()) if label_texts else 0
+    blank = np.isnan(values)
+    is_code = np.isin(values, np.asarray(fmt.missing_codes, dtype=np.float64)) if fmt.missing_codes else \
+        np.zeros(len(values), dtype=bool)
+    outside = ~blank & ~is_code & ((values < fmt.min) | (values > fmt.max) | unreadable)
+    clean = values.copy()
+    clean[is_code | outside] = np.nan
+    return _Converted(values=clean, bad=outside, missing_codes=int(is_code.sum()), blanks=int(blank.sum()),
+                      texts=texts)
+
+
+def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
+    shown = repr(value) if isinstance(value, str) else f"{value}"
+    codes = f" or a 'no answer' code ({', '.join(f'{c:g}' for c in fmt.missing_codes)})" if fmt.missing_codes else ""
+    if isinstance(value, str) and not _is_number(value):
+        known = f"; known answer texts: {', '.join(repr(t) for t in fmt.labels.values())}" if fmt.labels else ""
+        return f"{shown} is not an answer text of this item{known}"
+    return f"{shown} is outside the answer range {fmt.min}..{fmt.max}{codes}"
+
+
+def _is_number(text: str) -> bool:
+    try:
+        float(text)
+    except ValueError:
+        return False
+    return True
+
+
+def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) -> Responses:
+    """Read the data file and check it against the scale file.
+
+    Raises ``DataError`` naming row and column for every refused value (the first 20 and the total)
+    unless ``lenient``, which turns them into missing values counted per column.
+    """
+    path = Path(path)
+    frame = read_table(path)
+    columns = list(frame.columns)
+    start = first_row_number(path)
+    problems: list[Problem] = []
+    needed = list(spec.items)
+    absent = [c for c in needed if c not in columns]
+    for column in ([spec.id_column] if spec.id_column else []) + list(spec.groups):
+        if column not in columns:
+            absent.append(column)
+    if absent:
+        for name in absent:
+            close = difflib.get_close_matches(name, columns, n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            problems.append(Problem(file=str(path), line=1, message=f"the scale file names column {name!r}, "
+                                                                    f"which the data file does not have{hint}"))
+        raise DataError(problems)
+
+    n = len(frame)
+    line_numbers = np.arange(start, start + n)
+    ids = _check_ids(path, frame, spec.id_column, line_numbers)
+    items = np.empty((n, len(needed)), dtype=np.float64)
+    bad_sample: list[Problem] = []
+    bad_total = 0
+    refused_by_column: dict[str, int] = {}
+    missing_by_column: dict[str, int] = {}
+    blank_by_column: dict[str, int] = {}
+    texts_by_column: dict[str, int] = {}
+    for position, name in enumerate(needed):
+        fmt = spec.response_for(name)
+        converted = convert_item(frame[name], fmt)
+        items[:, position] = converted.values
+        if converted.missing_codes:
+            missing_by_column[name] = converted.missing_codes
+        if converted.blanks:
+            blank_by_column[name] = converted.blanks
+        if converted.texts:
+            texts_by_column[name] = converted.texts
+        count = int(converted.bad.sum())
+        if count:
+            refused_by_column[name] = count
+            bad_total += count
+            if len(bad_sample) < SHOW_FIRST:
+                rows = np.flatnonzero(converted.bad)[: SHOW_FIRST - len(bad_sample)]
+                raw = frame[name].iloc[rows]
+                for row, value in zip(rows, raw):
+                    bad_sample.append(Problem(file=str(path), where=f"row {line_numbers[row]}, column {name}",
+                                              message=_describe_bad(value, fmt)))
+    if bad_total and not lenient:
+        bad_sample.sort(key=lambda p: int(p.where.split(",")[0].split()[1]))
+        summary = Problem(file=str(path), message=f"{bad_total} value(s) in all are neither an answer nor a "
+                                                  "'no answer' code; fix them, add them to missing_codes, or use "
+                                                  "--lenient to treat them as missing")
+        raise DataError([*bad_sample, summary] if bad_total > 1 else bad_sample)
+    rest = frame.drop(columns=[c for c in needed if c in frame.columns])
+    return Responses(path=str(path), items=items, item_names=tuple(needed), frame=rest.reset_index(drop=True),
+                     ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
+                     refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
+                     missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
+                     texts_by_column=texts_by_column)
+
+
+def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numbers: np.ndarray) -> pd.Series:
+    if id_column is None:
+        return pd.Series(line_numbers.astype(str), name="row")
+    raw = frame[id_column]
+    empty = raw.isna().to_numpy().copy()
+    if raw.dtype == object or pd.api.types.is_string_dtype(raw.dtype):
+        empty |= (raw.astype("string").str.strip() == "").fillna(True).to_numpy()
+    if empty.any():
+        rows = line_numbers[empty]
+        raise DataError(Problem(file=str(path), where=f"row {rows[0]}, column {id_column}",
+                                message=f"the id is empty ({int(empty.sum())} row(s) without an id)"))
+    ids = raw.map(_id_text).astype(str)
+    duplicated = ids.duplicated(keep=False).to_numpy()
+    if duplicated.any():
+        first_value = ids[duplicated].iloc[0]
+        rows = line_numbers[(ids == first_value).to_numpy()]
+        raise DataError(Problem(file=str(path), where=f"column {id_column}",
+                                message=f"id {first_value!r} appears more than once (rows "
+                                        f"{', '.join(str(r) for r in rows[:5])}); "
+                                        f"{int(ids.duplicated().sum())} duplicate id(s) in all"))
+    return ids.rename(id_column).reset_index(drop=True)
+
+
+def _id_text(value: Any) -> str:
+    if isinstance(value, float) and value.is_integer():
+        return str(int(value))
+    return str(value).strip()
+
+
+def read_exclusion_list(path: str | Path) -> list[str]:
+    """Ids to set aside: a CSV (first column, below a header) or plain text with one id per line."""
+    path = Path(path)
+    if not path.exists():
+        raise DataError(Problem(file=str(path), message="exclusion list not found"))
+    body = _decode_check(path, path.read_bytes()).decode("utf-8")
+    lines = [line for line in body.splitlines() if line.strip() and not line.lstrip().startswith("#")]
+    if path.suffix.lower() in (".csv", ".tsv"):
+        sep = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(lines[0] if lines else "")
+        rows = list(csv.reader(lines, delimiter=sep))
+        return [row[0].strip() for row in rows[1:] if row and row[0].strip()]
+    return [line.strip() for line in lines]

@@ -1,0 +1,160 @@
+"""Scoring: reverse-key items and build one composite score per scale per respondent."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any, Iterable
+
+import numpy as np
+import pandas as pd
+
+from .data import Responses
+from .errors import UsageError
+from .files import write_atomic, write_atomic_with
+from .present.render import neutralise_formula
+from .results import ResultMixin
+from .spec import Scale, ScaleSpec
+
+STANDARDIZE = ("pomp", "z")
+
+
+def reverse_key(values: np.ndarray, low: float, high: float) -> np.ndarray:
+    """Reverse-key answers on the range ``low..high``: ``low + high - x`` (missing stays missing)."""
+    return low + high - np.asarray(values, dtype=np.float64)
+
+
+def keyed_items(responses: Responses, scale: Scale) -> np.ndarray:
+    """The scale's items as an n x k float64 matrix, reverse-worded items keyed, NaN where missing."""
+    keyed = responses.matrix(scale.items).copy()
+    for position, item in enumerate(scale.items):
+        if scale.is_reversed(item):
+            keyed[:, position] = reverse_key(keyed[:, position], scale.response.min, scale.response.max)
+    return keyed
+
+
+def composite(keyed: np.ndarray, *, method: str = "mean", required: int | None = None) -> tuple[np.ndarray, np.ndarray]:
+    """Composite score of each row and how many items it answered.
+
+    ``mean`` is the mean of the answered items; ``sum`` is prorated: that mean times ``k``, so a
+    respondent who skipped an item is not scored as if the answer were zero. Rows with fewer than
+    ``required`` answered items get NaN.
+    """
+    keyed = np.asarray(keyed, dtype=np.float64)
+    if keyed.ndim != 2:
+        raise UsageError("composite() needs a respondents x items matrix")
+    k = keyed.shape[1]
+    required = k if required is None else int(required)
+    if not 1 <= required <= k:
+        raise UsageError(f"required answered items must be between 1 and {k}, not {required}")
+    if method not in ("mean", "sum"):
+        raise UsageError(f"score method must be mean or sum, not {method!r}")
+    answered = np.sum(~np.isnan(keyed), axis=1)
+    totals = np.nansum(keyed, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        means = totals / answered
+    scores = means * k if method == "sum" else means
+    scores = np.where(answered >= required, scores, np.nan)
+    return scores, answered
+
+
+def score_range(scale: Scale) -> tuple[float, float]:
+    """Lowest and highest possible composite score."""
+    low, high = float(scale.response.min), float(scale.response.max)
+    return (low * scale.k, high * scale.k) if scale.score == "sum" else (low, high)
+
+
+def pomp(scores: np.ndarray, low: float, high: float) -> np.ndarray:
+    """Percent of maximum possible: 100 (x - low) / (high - low). Cohen, Cohen, Aiken & West (1999)."""
+    return 100.0 * (np.asarray(scores, dtype=np.float64) - low) / (high - low)
+
+
+def z_scores(scores: np.ndarray) -> np.ndarray:
+    """Standard scores in this sample (sd with n - 1); NaN stays NaN; all NaN if the sd is 0."""
+    scores = np.asarray(scores, dtype=np.float64)
+    valid = scores[~np.isnan(scores)]
+    if valid.size < 2 or np.std(valid, ddof=1) == 0:
+        return np.full_like(scores, np.nan)
+    return (scores - valid.mean()) / np.std(valid, ddof=1)
+
+
+@dataclass(frozen=True, eq=False)
+class ScaleScores(ResultMixin):
+    """Scores of one scale."""
+
+    scale: str
+    scores: np.ndarray
+    answered: np.ndarray
+    required: int
+    k: int
+    method: str
+    n_scored: int
+    n_unscored: int
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"scale": self.scale, "k": self.k, "method": self.method, "required_answered": self.required,
+                "n_scored": self.n_scored, "n_unscored": self.n_unscored}
+
+
+@dataclass(frozen=True, eq=False)
+class ScoreTable(ResultMixin):
+    """Composite scores of every scale, in input row order."""
+
+    ids: pd.Series
+    id_name: str
+    scales: dict[str, ScaleScores]
+    standardize: str | None
+
+    def to_frame(self) -> pd.DataFrame:
+        columns: dict[str, Any] = {self.id_name: self.ids.to_numpy()}
+        for name, result in self.scales.items():
+            columns[name] = result.scores
+            columns[f"{name}__answered"] = result.answered
+        return pd.DataFrame(columns)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"standardize": self.standardize, "scales": {n: s.to_dict() for n, s in self.scales.items()}}
+
+
+def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | None = None,
+                 scales: Iterable[str] | None = None) -> ScoreTable:
+    """Score every scale of ``spec`` (or those named) for every respondent."""
+    if standardize not in (None, *STANDARDIZE):
+        raise UsageError(f"--standardize must be pomp or z, not {standardize!r}")
+    names = list(scales) if scales is not None else list(spec.scales)
+    results: dict[str, ScaleScores] = {}
+    for name in names:
+        scale = spec.scale(name)
+        required = scale.required_answered()
+        scores, answered = composite(keyed_items(responses, scale), method=scale.score, required=required)
+        if standardize == "pomp":
+            scores = pomp(scores, *score_range(scale))
+        elif standardize == "z":
+            scores = z_scores(scores)
+        n_scored = int(np.sum(~np.isnan(scores)))
+        results[name] = ScaleScores(scale=name, scores=scores, answered=answered, required=required, k=scale.k,
+                                    method=scale.score, n_scored=n_scored, n_unscored=responses.n - n_scored)
+    id_name = spec.id_column or "row"
+    return ScoreTable(ids=responses.ids, id_name=id_name, scales=results, standardize=standardize)
+
+
+SCORE_FILE_TYPES = (".csv", ".xlsx", ".parquet")
+
+
+def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path] = ()) -> Path:
+    """Write the scored file as CSV, XLSX or Parquet (by extension), atomically, never over an input.
+
+    Text cells that a spreadsheet would run as a formula are neutralised in CSV and XLSX.
+    """
+    target = Path(target)
+    suffix = target.suffix.lower()
+    if suffix not in SCORE_FILE_TYPES:
+        raise UsageError(f"cannot write {target}: the scored file must end in .csv, .xlsx or .parquet")
+    frame = table.to_frame()
+    if suffix in (".csv", ".xlsx"):
+        frame[table.id_name] = frame[table.id_name].map(neutralise_formula)
+    if suffix == ".csv":
+        return write_atomic(target, frame.to_csv(index=False, lineterminator="\n"), inputs=inputs)
+    if suffix == ".xlsx":
+        return write_atomic_with(target, lambda tmp: frame.to_excel(tmp, index=False, engine="openpyxl"),
+                                 inputs=inputs)
+    return write_atomic_with(target, lambda tmp: frame.to_parquet(tmp, index=False), inputs=inputs)

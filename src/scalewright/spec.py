@@ -1,0 +1,492 @@
+"""The scale file: read it safely, check every part of it, and give back an immutable ``ScaleSpec``.
+
+The YAML is composed into nodes (never constructed into objects), so no tag can run code, and every
+problem can name the line it stands on. All problems are collected and reported at once.
+"""
+from __future__ import annotations
+
+import difflib
+import math
+import re
+from dataclasses import dataclass, field
+from pathlib import Path
+from types import MappingProxyType
+from typing import Any, Mapping
+
+import yaml
+
+from .errors import Problem, SpecError
+
+SCORE_METHODS = ("mean", "sum")
+TOP_KEYS = ("version", "title", "id_column", "groups", "response", "scales")
+RESPONSE_KEYS = ("min", "max", "labels", "missing_codes")
+SCALE_KEYS = ("title", "items", "reverse", "score", "min_answered", "wording", "response")
+SCALE_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_.-]*$")
+_PLAIN_TAGS = {f"tag:yaml.org,2002:{t}" for t in ("str", "int", "float", "bool", "null", "map", "seq")}
+_TEXT_TAGS = {"tag:yaml.org,2002:timestamp"}  # a date in a title is text to us
+_REFUSED = object()  # stands in for a value whose YAML tag was refused
+
+
+def normalise_answer_text(text: str) -> str:
+    """Case- and whitespace-insensitive form of an answer text."""
+    return " ".join(str(text).split()).casefold()
+
+
+@dataclass(frozen=True)
+class ResponseFormat:
+    """The answer format of rating items: the code range, answer texts and "no answer" codes."""
+
+    min: int
+    max: int
+    labels: Mapping[int, str] = field(default_factory=dict)
+    missing_codes: tuple[float, ...] = ()
+
+    @property
+    def levels(self) -> tuple[int, ...]:
+        return tuple(range(self.min, self.max + 1))
+
+    @property
+    def midpoint(self) -> float:
+        return (self.min + self.max) / 2
+
+    def code_for_text(self) -> dict[str, int]:
+        """Normalised answer text -> code."""
+        return {normalise_answer_text(text): code for code, text in self.labels.items()}
+
+    def label(self, code: int) -> str:
+        return self.labels.get(code, str(code))
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"min": self.min, "max": self.max, "labels": {str(k): v for k, v in self.labels.items()},
+                "missing_codes": list(self.missing_codes)}
+
+
+@dataclass(frozen=True)
+class Scale:
+    """One multi-item scale as the scale file defines it."""
+
+    name: str
+    title: str
+    items: tuple[str, ...]
+    reverse: tuple[str, ...]
+    score: str
+    min_answered: int | float
+    response: ResponseFormat
+    wording: Mapping[str, str] = field(default_factory=dict)
+    line: int | None = None
+
+    @property
+    def k(self) -> int:
+        return len(self.items)
+
+    def is_reversed(self, item: str) -> bool:
+        return item in self.reverse
+
+    def required_answered(self) -> int:
+        """How many items a respondent must have answered to get a score."""
+        if isinstance(self.min_answered, int):
+            return self.min_answered
+        return max(1, math.ceil(self.min_answered * self.k - 1e-9))
+
+    def describe_rule(self) -> str:
+        need = self.required_answered()
+        how = "mean of the answered items" if self.score == "mean" else \
+            f"sum prorated to {self.k} items (mean of the answered items x {self.k})"
+        return f"{how}; needs at least {need} of {self.k} items answered"
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"title": self.title, "items": list(self.items), "reverse": list(self.reverse),
+                "score": self.score, "min_answered": self.min_answered,
+                "required_answered": self.required_answered(), "response": self.response.to_dict()}
+
+
+@dataclass(frozen=True)
+class ScaleSpec:
+    """A validated scale file."""
+
+    title: str
+    id_column: str | None
+    groups: tuple[str, ...]
+    response: ResponseFormat
+    scales: Mapping[str, Scale]
+    path: str
+    version: int = 1
+
+    @property
+    def items(self) -> tuple[str, ...]:
+        """Every item of every scale, in first-mentioned order, each once."""
+        seen: dict[str, None] = {}
+        for scale in self.scales.values():
+            for item in scale.items:
+                seen.setdefault(item, None)
+        return tuple(seen)
+
+    def response_for(self, item: str) -> ResponseFormat:
+        for scale in self.scales.values():
+            if item in scale.items:
+                return scale.response
+        return self.response
+
+    def wording_for(self, item: str) -> str | None:
+        for scale in self.scales.values():
+            if item in scale.wording:
+                return scale.wording[item]
+        return None
+
+    def scale(self, name: str) -> Scale:
+        if name not in self.scales:
+            from .errors import UsageError
+
+            raise UsageError(f"no scale named {name!r} in {self.path}{_suggest(name, list(self.scales))}")
+        return self.scales[name]
+
+
+# ----------------------------------------------------------------------------------------------------------
+# reading
+
+
+def _suggest(word: str, choices: list[str]) -> str:
+    close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""
+
+
+class _Checker:
+    """Walks the composed YAML nodes, collecting problems with line numbers and key paths."""
+
+    def __init__(self, path: str) -> None:
+        self.path = path
+        self.problems: list[Problem] = []
+        self._scalars = yaml.constructor.SafeConstructor()
+        self._refused_nodes: set[int] = set()
+        self.top_response_given = False  # an invalid top-level format is reported once, not per scale
+
+    def problem(self, node: yaml.Node | None, where: str, message: str) -> None:
+        line = node.start_mark.line + 1 if node is not None else None
+        self.problems.append(Problem(file=self.path, line=line, where=where, message=message))
+
+    # -- tags and plain values --------------------------------------------------------------------------
+    def check_tags(self, node: yaml.Node, where: str = "") -> None:
+        if node.tag not in _PLAIN_TAGS and node.tag not in _TEXT_TAGS:
+            self.problem(node, where or "(top)", f"YAML tag {node.tag!r} is not allowed; use plain values")
+            self._refused_nodes.add(id(node))
+            return
+        if isinstance(node, yaml.MappingNode):
+            for key, value in node.value:
+                self.check_tags(key, where)
+                self.check_tags(value, f"{where}.{key.value}" if where else str(key.value))
+        elif isinstance(node, yaml.SequenceNode):
+            for index, value in enumerate(node.value):
+                self.check_tags(value, f"{where}[{index}]")
+
+    def scalar(self, node: yaml.Node) -> Any:
+        if id(node) in self._refused_nodes:
+            return _REFUSED
+        if node.tag in _TEXT_TAGS:
+            return str(node.value)
+        return self._scalars.construct_object(node, deep=True)
+
+    def mapping(self, node: yaml.Node | None, where: str, allowed: tuple[str, ...] | None) \
+            -> dict[str, tuple[yaml.Node, yaml.Node]] | None:
+        if node is None:
+            return None
+        if not isinstance(node, yaml.MappingNode):
+            self.problem(node, where, "expected a mapping of keys to values")
+            return None
+        found: dict[str, tuple[yaml.Node, yaml.Node]] = {}
+        for key_node, value_node in node.value:
+            if not isinstance(key_node, yaml.ScalarNode):
+                self.problem(key_node, where, "keys must be plain names")
+                continue
+            key = str(self.scalar(key_node)) if key_node.tag not in _TEXT_TAGS else str(key_node.value)
+            here = f"{where}.{key}" if where else key
+            if key in found:
+                self.problem(key_node, here, f"{key!r} is given twice")
+                continue
+            if allowed is not None and key not in allowed:
+                self.problem(key_node, here, f"unknown key {key!r}{_suggest(key, list(allowed))}")
+                continue
+            found[key] = (key_node, value_node)
+        return found
+
+    def text(self, node: yaml.Node, where: str, *, required: bool = True) -> str | None:
+        if not isinstance(node, yaml.ScalarNode):
+            self.problem(node, where, "expected a text value")
+            return None
+        value = self.scalar(node)
+        if value is None or (isinstance(value, str) and not value.strip()):
+            if required:
+                self.problem(node, where, "must not be empty")
+            return None
+        if isinstance(value, bool) or not isinstance(value, (str, int, float)):
+            self.problem(node, where, f"expected a text value, got {value!r}")
+            return None
+        return str(value).strip()
+
+    def number(self, node: yaml.Node, where: str, *, integer: bool = False) -> float | int | None:
+        value = self.scalar(node) if isinstance(node, yaml.ScalarNode) else None
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or \
+                (isinstance(value, float) and not math.isfinite(value)):
+            self.problem(node, where, f"expected a number, got {node.value if isinstance(node, yaml.ScalarNode) else 'a list or mapping'!r}")
+            return None
+        if integer and not float(value).is_integer():
+            self.problem(node, where, f"expected a whole number, got {value!r}")
+            return None
+        return int(value) if integer or isinstance(value, int) else float(value)
+
+    def text_list(self, node: yaml.Node, where: str) -> list[tuple[str, yaml.Node]] | None:
+        if isinstance(node, yaml.ScalarNode) and self.scalar(node) is None:
+            return []
+        if not isinstance(node, yaml.SequenceNode):
+            self.problem(node, where, "expected a list, e.g. [a, b, c]")
+            return None
+        values = []
+        for index, child in enumerate(node.value):
+            value = self.text(child, f"{where}[{index}]")
+            if value is not None:
+                values.append((value, child))
+        return values
+
+    # -- parts of the file ----------------------------------------------------------------------------
+    def response(self, node: yaml.Node | None, where: str, base: ResponseFormat | None) -> ResponseFormat | None:
+        keys = self.mapping(node, where, RESPONSE_KEYS)
+        if keys is None:
+            if base is None:
+                self.problem(node, where, "the answer format needs at least `min` and `max`")
+            return base
+        low = self.number(keys["min"][1], f"{where}.min", integer=True) if "min" in keys else \
+            (base.min if base else None)
+        high = self.number(keys["max"][1], f"{where}.max", integer=True) if "max" in keys else \
+            (base.max if base else None)
+        for name in ("min", "max"):
+            if name not in keys and base is None:
+                self.problem(node, f"{where}.{name}", f"`{name}` is required")
+        if low is None or high is None:
+            return None
+        if low >= high:
+            self.problem(keys.get("min", keys.get("max", (node, node)))[1], where,
+                         f"min ({low}) must be less than max ({high})")
+            return None
+        range_changed = base is not None and ("min" in keys or "max" in keys) and (low, high) != (base.min, base.max)
+        labels: dict[int, str] = {}
+        if "labels" in keys:
+            label_map = self.mapping(keys["labels"][1], f"{where}.labels", None)
+            seen_texts: dict[str, int] = {}
+            for code_text, (code_node, text_node) in (label_map or {}).items():
+                here = f"{where}.labels.{code_text}"
+                code = self.number(code_node, here, integer=True)
+                text = self.text(text_node, here)
+                if code is None or text is None:
+                    continue
+                if not low <= code <= high:
+                    self.problem(code_node, here, f"label code {code} is outside the answer range {low}..{high}")
+                    continue
+                norm = normalise_answer_text(text)
+                if norm in seen_texts:
+                    self.problem(text_node, here, f"answer text {text!r} is also the label of {seen_texts[norm]}")
+                    continue
+                seen_texts[norm] = code
+                labels[code] = text
+        elif base is not None and not range_changed:
+            labels = dict(base.labels)
+        missing: list[float] = []
+        if "missing_codes" in keys:
+            codes_node = keys["missing_codes"][1]
+            if isinstance(codes_node, yaml.SequenceNode):
+                for index, child in enumerate(codes_node.value):
+                    code = self.number(child, f"{where}.missing_codes[{index}]")
+                    if code is not None:
+                        missing.append(code)
+            elif not (isinstance(codes_node, yaml.ScalarNode) and self.scalar(codes_node) is None):
+                self.problem(codes_node, f"{where}.missing_codes", "expected a list of codes, e.g. [9, 99]")
+        elif base is not None:
+            missing = list(base.missing_codes)
+        for code in missing:
+            if low <= code <= high:
+                at = keys["missing_codes"][1] if "missing_codes" in keys else node
+                self.problem(at, f"{where}.missing_codes",
+                             f"missing code {code:g} lies inside the answer range {low}..{high}; "
+                             "it would be confused with an answer")
+        return ResponseFormat(min=int(low), max=int(high), labels=MappingProxyType(dict(sorted(labels.items()))),
+                              missing_codes=tuple(missing))
+
+    def scale(self, name: str, name_node: yaml.Node, node: yaml.Node, base: ResponseFormat | None) -> Scale | None:
+        where = f"scales.{name}"
+        if not SCALE_NAME.match(name):
+            self.problem(name_node, where, f"scale name {name!r} must start with a letter and hold only "
+                                           "letters, digits, '_', '-' or '.' (it becomes a column name)")
+        keys = self.mapping(node, where, SCALE_KEYS)
+        if keys is None:
+            return None
+        if "items" not in keys:
+            self.problem(node, f"{where}.items", "every scale needs a list of `items`")
+            return None
+        listed = self.text_list(keys["items"][1], f"{where}.items")
+        if listed is None:
+            return None
+        if not listed:
+            self.problem(keys["items"][1], f"{where}.items", "the list of items is empty")
+            return None
+        items: list[str] = []
+        for item, item_node in listed:
+            if item in items:
+                self.problem(item_node, f"{where}.items", f"item {item!r} is listed twice")
+            else:
+                items.append(item)
+        reverse: list[str] = []
+        if "reverse" in keys:
+            for item, item_node in self.text_list(keys["reverse"][1], f"{where}.reverse") or []:
+                if item not in items:
+                    self.problem(item_node, f"{where}.reverse",
+                                 f"{item!r} is not one of this scale's items{_suggest(item, items)}")
+                elif item not in reverse:
+                    reverse.append(item)
+        score = "mean"
+        if "score" in keys:
+            score_value = self.text(keys["score"][1], f"{where}.score")
+            if score_value not in SCORE_METHODS:
+                if score_value is not None:
+                    self.problem(keys["score"][1], f"{where}.score",
+                                 f"score must be mean or sum, not {score_value!r}{_suggest(score_value, list(SCORE_METHODS))}")
+            else:
+                score = score_value
+        min_answered: int | float = 1.0
+        if "min_answered" in keys:
+            min_answered = self.min_answered(keys["min_answered"][1], f"{where}.min_answered", len(items)) or 1.0
+        wording: dict[str, str] = {}
+        if "wording" in keys:
+            for item, (item_node, text_node) in (self.mapping(keys["wording"][1], f"{where}.wording", None) or {}).items():
+                if item not in items:
+                    self.problem(item_node, f"{where}.wording.{item}",
+                                 f"{item!r} is not one of this scale's items{_suggest(item, items)}")
+                    continue
+                text = self.text(text_node, f"{where}.wording.{item}")
+                if text is not None:
+                    wording[item] = text
+        response = base
+        if "response" in keys:
+            response = self.response(keys["response"][1], f"{where}.response", base)
+        if response is None:
+            if base is None and "response" not in keys and not self.top_response_given:
+                self.problem(node, f"{where}.response", "no answer format: give a top-level `response` or one here")
+            return None
+        title = name
+        if "title" in keys:
+            title = self.text(keys["title"][1], f"{where}.title") or name
+        return Scale(name=name, title=title, items=tuple(items), reverse=tuple(reverse), score=score,
+                     min_answered=min_answered, response=response, wording=MappingProxyType(wording),
+                     line=name_node.start_mark.line + 1)
+
+    def min_answered(self, node: yaml.Node, where: str, k: int) -> int | float | None:
+        value = self.scalar(node) if isinstance(node, yaml.ScalarNode) else None
+        if isinstance(value, bool) or not isinstance(value, (int, float)):
+            self.problem(node, where, "min_answered must be a whole count of items (1..k) or a fraction in (0, 1]")
+            return None
+        if isinstance(value, int):
+            if not 1 <= value <= k:
+                self.problem(node, where, f"min_answered {value} must be between 1 and {k}, the number of items")
+                return None
+            return value
+        if not 0 < value <= 1:
+            self.problem(node, where, f"min_answered {value} as a fraction must lie in (0, 1]; "
+                                      "use a whole number for a count of items")
+            return None
+        return float(value)
+
+
+def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
+    """Read and check a scale file; return the spec (None if unusable) and every problem found."""
+    path_text = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except FileNotFoundError:
+        return None, [Problem(file=path_text, message="scale file not found")]
+    except IsADirectoryError:
+        return None, [Problem(file=path_text, message="is a folder, not a scale file")]
+    except OSError as error:
+        return None, [Problem(file=path_text, message=f"cannot read: {error.strerror}")]
+    try:
+        text = raw.decode("utf-8-sig")
+    except UnicodeDecodeError as error:
+        return None, [Problem(file=path_text, message=f"not UTF-8 text (byte 0x{raw[error.start]:02x} at offset "
+                                                      f"{error.start}); save it as UTF-8")]
+    try:
+        root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except yaml.MarkedYAMLError as error:
+        mark = error.problem_mark or error.context_mark
+        return None, [Problem(file=path_text, line=mark.line + 1 if mark else None,
+                              message=f"not valid YAML: {error.problem or error.context}")]
+    except yaml.YAMLError as error:
+        return None, [Problem(file=path_text, message=f"not valid YAML: {error}")]
+    checker = _Checker(path_text)
+    if root is None:
+        return None, [Problem(file=path_text, message="the scale file is empty")]
+    checker.check_tags(root)
+    keys = checker.mapping(root, "", TOP_KEYS)
+    if keys is None:
+        return None, checker.problems
+    version = 1
+    if "version" in keys:
+        value = checker.number(keys["version"][1], "version", integer=True)
+        if value is not None and value != 1:
+            checker.problem(keys["version"][1], "version", f"version {value} is not supported; this tool reads version 1")
+    title = checker.text(keys["title"][1], "title") if "title" in keys else None
+    id_column = checker.text(keys["id_column"][1], "id_column") if "id_column" in keys else None
+    groups: list[str] = []
+    if "groups" in keys:
+        for group, _ in checker.text_list(keys["groups"][1], "groups") or []:
+            if group not in groups:
+                groups.append(group)
+    checker.top_response_given = "response" in keys
+    base = checker.response(keys["response"][1], "response", None) if "response" in keys else None
+    scales: dict[str, Scale] = {}
+    if "scales" not in keys:
+        checker.problem(root, "scales", "the scale file defines no `scales`")
+    else:
+        scale_nodes = checker.mapping(keys["scales"][1], "scales", None) or {}
+        if not scale_nodes and isinstance(keys["scales"][1], yaml.MappingNode):
+            checker.problem(keys["scales"][1], "scales", "no scales are defined")
+        for name, (name_node, node) in scale_nodes.items():
+            scale = checker.scale(name, name_node, node, base)
+            if scale is not None:
+                scales[name] = scale
+    _check_across_scales(checker, scales, id_column, groups, keys)
+    if checker.problems:
+        return None, checker.problems
+    spec = ScaleSpec(title=title or Path(path).stem, id_column=id_column, groups=tuple(groups),
+                     response=base or next(iter(scales.values())).response,
+                     scales=MappingProxyType(scales), path=path_text, version=version)
+    return spec, []
+
+
+def _check_across_scales(checker: _Checker, scales: dict[str, Scale], id_column: str | None,
+                         groups: list[str], keys: dict) -> None:
+    formats: dict[str, tuple[str, ResponseFormat]] = {}
+    for scale in scales.values():
+        for item in scale.items:
+            if item in formats and formats[item][1] != scale.response:
+                other = formats[item][0]
+                checker.problems.append(Problem(
+                    file=checker.path, line=scale.line, where=f"scales.{scale.name}.items",
+                    message=f"item {item!r} also belongs to scale {other!r} with a different answer format"))
+            formats.setdefault(item, (scale.name, scale.response))
+    special = {id_column: "id_column"} if id_column else {}
+    special.update({group: "groups" for group in groups})
+    for item, (scale_name, _) in formats.items():
+        if item in special:
+            checker.problems.append(Problem(file=checker.path, line=scales[scale_name].line,
+                                            where=f"scales.{scale_name}.items",
+                                            message=f"{item!r} is also named in `{special[item]}`"))
+        if item in scales and item != scale_name:
+            pass  # an item may share a name with a scale; scored columns are distinct files
+    for name in scales:
+        if name.endswith("__answered"):
+            checker.problems.append(Problem(file=checker.path, line=scales[name].line, where=f"scales.{name}",
+                                            message="scale names may not end in '__answered'"))
+
+
+def load_spec(path: str | Path) -> ScaleSpec:
+    """Read a scale file; raise ``SpecError`` listing every problem when it is not valid."""
+    spec, problems = check_spec(path)
+    if problems or spec is None:
+        raise SpecError(problems or [Problem(file=str(path), message="unusable scale file")])
+    return spec
