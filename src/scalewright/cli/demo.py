@@ -1,0 +1,71 @@
+"""`scalewright demo`: write the fictional staff climate survey, its scale file and the scored file."""
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..errors import UsageError
+
+DATA_NAME = "staff-climate.csv"
+SCALES_NAME = "staff-climate.yaml"
+SCORES_NAME = "scores.csv"
+
+CAUTION = ("The data are fictional (Kestrel Bay Health does not exist). Scores describe groups of respondents; "
+           "they are not a diagnosis or a basis for decisions about one person. For a published instrument, "
+           "its own manual and licensed professional practice come first.")
+
+
+def prepare_folder(folder: str | Path, *, force: bool = False) -> Path:
+    """Create ``folder`` if needed; refuse one that already holds files unless ``force``."""
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise UsageError(f"cannot write the demo into {folder}: it is a file, not a folder")
+    if folder.is_dir() and any(folder.iterdir()) and not force:
+        raise UsageError(f"refusing to write the demo into {folder}: the folder is not empty (use --force to "
+                         "write into it anyway)")
+    folder.mkdir(parents=True, exist_ok=True)
+    return folder
+
+
+def write_demo_inputs(folder: str | Path, *, seed: int, n: int) -> tuple[Path, Path]:
+    """Write the demo data file and scale file into ``folder`` (which must exist); return their paths."""
+    from ..demo_data import generate_staff_climate, scale_file_text
+    from ..files import write_atomic
+
+    folder = Path(folder)
+    frame, _ = generate_staff_climate(seed=seed, n=n)
+    data_path = write_atomic(folder / DATA_NAME, frame.to_csv(index=False, lineterminator="\n"))
+    scales_path = write_atomic(folder / SCALES_NAME, scale_file_text())
+    return data_path, scales_path
+
+
+def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) -> Path:
+    """Score the demo data with its scale file and write the scored file into ``folder``."""
+    from ..data import read_responses
+    from ..scoring import score_scales, write_scores
+    from ..spec import load_spec
+
+    spec = load_spec(scales_path)
+    table = score_scales(read_responses(data_path, spec), spec)
+    return write_scores(table, Path(folder) / SCORES_NAME, inputs=[data_path, scales_path])
+
+
+@click.command("demo")
+@click.option("--out", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
+              help="Folder to write the demo into (created if missing; must be empty unless --force).")
+@click.option("--seed", type=click.IntRange(min=0), default=2026, show_default=True,
+              help="Seed of the generator: the same seed gives the same data.")
+@click.option("--n", "n", type=click.IntRange(40, 1_000_000), default=600, show_default=True,
+              help="Number of respondents.")
+@click.option("--force", is_flag=True, help="Write into a folder that already holds files.")
+def demo(out: Path, seed: int, n: int, force: bool) -> None:
+    """Write a fictional staff climate survey, its scale file and the scored file into a folder."""
+    folder = prepare_folder(out, force=force)
+    data_path, scales_path = write_demo_inputs(folder, seed=seed, n=n)
+    scores_path = write_demo_scores(folder, data_path, scales_path)
+    click.echo(f"wrote {data_path}  (data: {n} fictional respondents, seed {seed})")
+    click.echo(f"wrote {scales_path}  (scale file)")
+    click.echo(f"wrote {scores_path}  (scored file: one row per respondent, in data order)")
+    click.echo(f"next: scalewright reliability {data_path} --scales {scales_path}")
+    click.echo(CAUTION)
