@@ -1,0 +1,149 @@
+"""Tables and plain-language sentences for subgroup comparisons (numbers in APA style, rounded only here)."""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+from ..stats.groups import Comparison, TestResult, suppressed_text
+from .numbers import format_value
+from .table import Table
+
+#: Cohen (1988) benchmarks, common practice: |g| .2 / .5 / .8; omega- and epsilon-squared .01 / .06 / .14
+_BENCHMARKS = {"Hedges' g": (0.2, 0.5, 0.8), "rank-biserial r": (0.1, 0.3, 0.5),
+               "omega-squared": (0.01, 0.06, 0.14), "epsilon-squared": (0.01, 0.06, 0.14)}
+_SYMBOL = {"Hedges' g": "g", "rank-biserial r": "r", "omega-squared": "ω²", "epsilon-squared": "ε²"}
+_BOUNDED = {"rank-biserial r", "omega-squared", "epsilon-squared"}
+
+
+def effect_label(name: str, value: float | None) -> str:
+    """``negligible``/``small``/``medium``/``large`` by Cohen's benchmarks (common practice, no strict source)."""
+    if value is None or value != value:
+        return "unknown"
+    small, medium, large = _BENCHMARKS[name]
+    size = abs(value)
+    return "negligible" if size < small else "small" if size < medium else "medium" if size < large else "large"
+
+
+def _num(value: Any, decimals: int, kind: str = "num") -> str:
+    return format_value(value, kind, decimals)
+
+
+def _p(value: float | None) -> str:
+    text = format_value(value, "p")
+    return f"p {text}" if text.startswith("<") else f"p = {text}"
+
+
+def _df(value: float | None) -> str:
+    if value is None:
+        return ""
+    return f"{value:.0f}" if float(value).is_integer() else f"{value:.1f}"
+
+
+def _test_text(test: TestResult, decimals: int) -> str:
+    name = "Levene's W" if test.name.startswith("Levene") else test.name
+    dfs = ", ".join(d for d in (_df(test.df), _df(test.df2)) if d)
+    statistic = _num(test.statistic, 0 if name == "Mann-Whitney U" else decimals)
+    text = f"{name}{f'({dfs})' if dfs else ''} = {statistic}, {_p(test.pvalue)}"
+    if test.pvalue_holm is not None:
+        text += f" (Holm-adjusted {_p(test.pvalue_holm)})"
+    return text
+
+
+def _effect_text(c: Comparison, attribute: str, decimals: int) -> str:
+    effect = getattr(c, attribute)
+    if effect is None:
+        return ""
+    kind = "bounded" if effect.name in _BOUNDED else "num"
+    text = f"{_SYMBOL.get(effect.name, effect.name)} = {_num(effect.value, decimals, kind)}"
+    if effect.ci is not None:
+        text += (f", {round(c.confidence_level * 100):d}% CI [{_num(effect.ci[0], decimals, kind)}, "
+                 f"{_num(effect.ci[1], decimals, kind)}]")
+    return text
+
+
+def comparison_sentence(c: Comparison, *, decimals: int = 2) -> str:
+    """One paragraph a survey researcher can paste: who scored how, the tests, and how big the difference is."""
+    subject = c.scale or "The score"
+    if c.test is None:
+        reason = c.notes[-1] if c.notes else "no test was possible"
+        return f"{subject} by {c.column}: not compared ({reason})."
+    groups = "; ".join(f"{g.level} (n = {g.n}, M = {_num(g.mean, decimals)}, SD = {_num(g.sd, decimals)})"
+                       for g in c.groups)
+    significant = c.test.pvalue < 0.05 if c.test.pvalue_holm is None else c.test.pvalue_holm < 0.05
+    size = effect_label(c.effect_size.name, c.effect_size.value) if c.effect_size else "unknown"
+    if len(c.groups) == 2:
+        a, b = c.groups
+        direction = (f"{a.level} scored higher than {b.level}" if a.mean > b.mean
+                     else f"{a.level} scored lower than {b.level}" if a.mean < b.mean
+                     else f"{a.level} and {b.level} scored alike")
+        verdict = (f"{direction}; the difference is {size} and statistically significant" if significant
+                   else f"{direction}, but the difference is {size} and could be due to chance")
+    else:
+        verdict = (f"scores differed across {c.column} levels; the difference is {size}" if significant
+                   else f"scores did not differ clearly across {c.column} levels (a {size} difference)")
+    sentence = (f"{subject} by {c.column}: {verdict}. {groups}. "
+                f"{_test_text(c.test, decimals)}, {_effect_text(c, 'effect_size', decimals)}")
+    if c.nonparametric is not None:
+        sentence += (f"; {_test_text(c.nonparametric, decimals)}, "
+                     f"{_effect_text(c, 'nonparametric_effect_size', decimals)}")
+    sentence += "."
+    if c.pairs:
+        differing = [p for p in c.pairs if p.pvalue == p.pvalue and p.pvalue < 0.05]
+        if differing:
+            listed = ", ".join(f"{p.a} vs {p.b} ({_p(p.pvalue)})" for p in differing)
+            sentence += f" {c.pairs_method} pairs that differ: {listed}."
+        else:
+            sentence += f" No {c.pairs_method} pair differed at p < .05."
+    if c.levene is not None and c.levene.pvalue < 0.05:
+        sentence += (f" The spread differs between levels ({_test_text(c.levene, decimals)}), so the Welch "
+                     "version of the test is the safer reading.")
+    if c.suppressed:
+        sentence += (f" {len(c.suppressed)} level(s) with fewer than {c.min_cell} respondents are not shown "
+                     "and were left out.")
+    return sentence
+
+
+def comparison_record(c: Comparison, *, decimals: int = 2) -> dict[str, Any]:
+    """The JSON record of a comparison: its ``to_dict()`` plus the ``sentence``."""
+    record = c.to_dict()
+    record["sentence"] = comparison_sentence(c, decimals=decimals)
+    return record
+
+
+def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> list[Table]:
+    """Per comparison: a table of the groups (suppressed ones as "< min_cell") and one of the tests; pairs if any."""
+    tables: list[Table] = []
+    for c in comparisons:
+        label = f"{c.scale} by {c.column}" if c.scale else f"by {c.column}"
+        key = f"{c.scale}.{c.column}" if c.scale else c.column
+        rows = [(g.level, g.n, g.mean, g.sd, g.median, g.q1, g.q3, g.iqr) for g in c.groups]
+        rows += [(level, suppressed_text(c.min_cell), None, None, None, None, None, None) for level in c.suppressed]
+        tables.append(Table(title=f"Groups: {label}", key=f"groups.{key}",
+                            columns=("level", "n", "mean", "sd", "median", "q1", "q3", "IQR"),
+                            rows=tuple(rows), kinds={"level": "text", "n": "int"}))
+        test_rows = []
+        for test, effect in ((c.test, c.effect_size), (c.nonparametric, c.nonparametric_effect_size),
+                             (c.levene, None)):
+            if test is None:
+                continue
+            ci = effect.ci if effect is not None and effect.ci is not None else (None, None)
+            test_rows.append((test.name, test.statistic, test.df, test.df2, test.pvalue, test.pvalue_holm,
+                              effect.name if effect else "", effect.value if effect else None, ci[0], ci[1]))
+        tables.append(Table(title=f"Tests: {label}", key=f"tests.{key}",
+                            columns=("test", "statistic", "df", "df2", "p", "p Holm", "effect size", "value",
+                                     "CI low", "CI high"),
+                            rows=tuple(test_rows),
+                            kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text"},
+                            notes=(comparison_sentence(c, decimals=decimals), *c.notes)))
+        if c.pairs:
+            tables.append(Table(title=f"{c.pairs_method} pairs: {label}", key=f"pairs.{key}",
+                                columns=("a", "b", "difference", "se", "statistic", "df", "p", "Hedges' g"),
+                                rows=tuple((p.a, p.b, p.difference, p.se, p.statistic, p.df, p.pvalue, p.hedges_g)
+                                           for p in c.pairs),
+                                kinds={"a": "text", "b": "text", "p": "p"},
+                                notes=("p-values are adjusted for all pairs of this comparison; difference is "
+                                       "mean(a) - mean(b)",)))
+    return tables
+
+
+__all__ = ["compare_tables", "comparison_record", "comparison_sentence", "effect_label"]

@@ -1,0 +1,400 @@
+"""Comparing a score across the levels of one grouping column: summaries, tests, effect sizes, pairs.
+
+The tests come from pingouin (which wraps scipy); only the effect sizes pingouin does not offer for a
+one-way design (omega-squared, epsilon-squared) are computed here from pingouin's own ANOVA table and H.
+Levels with fewer than ``min_cell`` scores are suppressed: their size and statistics never enter the result.
+"""
+from __future__ import annotations
+
+import dataclasses
+import warnings
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from ..errors import DataError, UsageError
+from ..results import ResultMixin, to_jsonable
+from .subgroups import split_by
+
+#: what a suppressed count is shown as, in every rendering
+SUPPRESSED = "< {min_cell}"
+
+
+def suppressed_text(min_cell: int) -> str:
+    return SUPPRESSED.format(min_cell=min_cell)
+
+
+@dataclass(frozen=True)
+class GroupSummary(ResultMixin):
+    """Size and location of the scores in one level (sd with n - 1; quartiles by numpy's default, type 7)."""
+
+    level: str
+    n: int
+    mean: float
+    sd: float
+    median: float
+    q1: float
+    q3: float
+
+    @property
+    def iqr(self) -> float:
+        return self.q3 - self.q1
+
+    def to_dict(self) -> dict[str, Any]:
+        return to_jsonable({"n": self.n, "mean": self.mean, "sd": self.sd, "median": self.median,
+                            "q1": self.q1, "q3": self.q3, "iqr": self.iqr})
+
+
+@dataclass(frozen=True)
+class TestResult(ResultMixin):
+    """One significance test. ``df2`` is the denominator df of an F test (else None).
+
+    ``pvalue_holm`` is filled by :func:`pvalue_holm` when several scales are compared in one run.
+    """
+
+    name: str
+    statistic: float
+    pvalue: float
+    df: float | None = None
+    df2: float | None = None
+    pvalue_holm: float | None = None
+
+
+@dataclass(frozen=True)
+class EffectSize(ResultMixin):
+    name: str
+    value: float
+    ci: tuple[float, float] | None = None
+
+
+@dataclass(frozen=True)
+class PairResult(ResultMixin):
+    """One post-hoc pair: ``difference`` is mean(a) - mean(b); ``pvalue`` is already adjusted for the family."""
+
+    a: str
+    b: str
+    difference: float
+    se: float
+    statistic: float
+    df: float
+    pvalue: float
+    hedges_g: float
+
+
+@dataclass(frozen=True)
+class Comparison(ResultMixin):
+    """A score compared across the levels of one column. See :func:`compare_groups`."""
+
+    column: str
+    groups: tuple[GroupSummary, ...]
+    suppressed: tuple[str, ...]
+    min_cell: int
+    confidence_level: float
+    n_no_score: int
+    n_no_group: int
+    test: TestResult | None = None
+    nonparametric: TestResult | None = None
+    effect_size: EffectSize | None = None
+    nonparametric_effect_size: EffectSize | None = None
+    pairs: tuple[PairResult, ...] = ()
+    pairs_method: str | None = None
+    levene: TestResult | None = None
+    notes: tuple[str, ...] = ()
+    scale: str | None = None
+
+    @property
+    def n_used(self) -> int:
+        return sum(g.n for g in self.groups)
+
+    def group(self, level: str) -> GroupSummary:
+        for summary in self.groups:
+            if summary.level == level:
+                return summary
+        raise KeyError(level)
+
+    def to_dict(self) -> dict[str, Any]:
+        def optional(value: Any) -> Any:
+            return None if value is None else value.to_dict()
+
+        return to_jsonable({
+            "scale": self.scale,
+            "column": self.column,
+            "n_used": self.n_used,
+            "min_cell": self.min_cell,
+            "confidence_level": self.confidence_level,
+            "groups": {g.level: g.to_dict() for g in self.groups},
+            # suppressed levels are named only; their size is shown as "< min_cell" and nothing else
+            "suppressed": {level: suppressed_text(self.min_cell) for level in self.suppressed},
+            "n_no_score": self.n_no_score,
+            "n_no_group": self.n_no_group,
+            "test": optional(self.test),
+            "nonparametric": optional(self.nonparametric),
+            "effect_size": optional(self.effect_size),
+            "nonparametric_effect_size": optional(self.nonparametric_effect_size),
+            "pairs_method": self.pairs_method,
+            "pairs": [p.to_dict() for p in self.pairs],
+            "levene": optional(self.levene),
+            "notes": list(self.notes),
+        })
+
+
+def _summary(level: str, x: np.ndarray) -> GroupSummary:
+    q1, median, q3 = np.quantile(x, [0.25, 0.5, 0.75])
+    sd = float(np.std(x, ddof=1)) if len(x) > 1 else float("nan")
+    return GroupSummary(level=level, n=int(len(x)), mean=float(np.mean(x)), sd=sd,
+                        median=float(median), q1=float(q1), q3=float(q3))
+
+
+def _check_options(min_cell: int, confidence_level: float) -> None:
+    if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
+        raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
+    if not 0 < confidence_level < 1:
+        raise UsageError(f"confidence_level must lie between 0 and 1, got {confidence_level!r}")
+
+
+def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, student: bool = False,
+                   confidence_level: float = 0.95, column: str | None = None,
+                   scale: str | None = None) -> Comparison:
+    r"""Compare scores across the levels of a grouping column.
+
+    Two levels: Welch's t test (Student's with ``student=True``), the Mann-Whitney U test, Hedges' g with
+    a confidence interval and the rank-biserial correlation. Three or more levels: Welch's ANOVA (the
+    classic F with ``student=True``), the Kruskal-Wallis H test, omega-squared and epsilon-squared, and
+    Games-Howell pairs (Tukey HSD pairs with ``student=True``). Levene's test (median-centred) is given
+    as a note on the equal-variance assumption in either case.
+
+    .. math::
+
+        g = d\left(1 - \frac{3}{4(n_1 + n_2) - 9}\right), \qquad
+        r_{rb} = \frac{2U_1}{n_1 n_2} - 1, \qquad
+        \omega^2 = \frac{SS_b - df_b\,MS_w}{SS_t + MS_w}, \qquad
+        \varepsilon^2_R = \frac{H}{(n^2 - 1)/(n + 1)}
+
+    Parameters
+    ----------
+    scores : array of float, shape (n,)
+        One score per respondent; NaN means no score (counted, left out).
+    groups : pandas.Series, length n
+        The grouping column; missing or blank values are counted and left out.
+    min_cell : int, keyword-only
+        Levels with fewer scores are suppressed: named, shown as "< min_cell", kept out of every test.
+    student : bool, keyword-only
+        Assume equal variances (Student's t, classic F, Tukey pairs) instead of Welch's versions.
+    confidence_level : float, keyword-only
+        Of the confidence interval for Hedges' g.
+    column, scale : str, keyword-only
+        Names carried into the result.
+
+    Returns
+    -------
+    Comparison
+        Frozen result; statistics that cannot be computed are None/NaN with the reason in ``notes``.
+
+    Notes
+    -----
+    Hedges' g uses the pooled sd and the small-sample correction of Hedges (1981); its interval is
+    pingouin's normal-theory one, :math:`g \pm t_{n_1+n_2-2}\,\sqrt{(n_1+n_2)/(n_1 n_2) + g^2/(2(n_1+n_2))}`.
+    The rank-biserial correlation is positive when the first level tends to score higher (Kerby 2014).
+    Omega-squared comes from the classic one-way ANOVA table (Olejnik & Algina 2003); epsilon-squared
+    from H (Tomczak & Tomczak 2014).
+
+    References
+    ----------
+    .. [1] Welch, B. L. (1951). On the comparison of several mean values. Biometrika, 38, 330-336.
+    .. [2] Hedges, L. V. (1981). Distribution theory for Glass's estimator of effect size. Journal of
+           Educational Statistics, 6, 107-128.
+    .. [3] Kerby, D. S. (2014). The simple difference formula. Comprehensive Psychology, 3, 11.IT.3.1.
+    .. [4] Olejnik, S. & Algina, J. (2003). Generalized eta and omega squared statistics. Psychological
+           Methods, 8, 434-447.
+    .. [5] Tomczak, M. & Tomczak, E. (2014). The need to report effect size estimates revisited.
+           Trends in Sport Sciences, 21, 19-25.
+    .. [6] Games, P. A. & Howell, J. F. (1976). Pairwise multiple comparison procedures with unequal n's
+           and/or variances. Journal of Educational Statistics, 1, 113-125.
+    """
+    _check_options(min_cell, confidence_level)
+    scores = np.asarray(scores, dtype=float)
+    groups = pd.Series(groups).reset_index(drop=True)
+    if scores.ndim != 1 or len(scores) != len(groups):
+        raise DataError(f"scores ({scores.shape}) and the grouping column ({len(groups)} rows) differ in length")
+    column = column or (str(groups.name) if groups.name is not None else "group")
+    has_score = np.isfinite(scores)
+    split = split_by(groups, min_size=0, column=column)
+    notes: list[str] = []
+    summaries: list[GroupSummary] = []
+    samples: dict[str, np.ndarray] = {}
+    suppressed: list[str] = []
+    n_no_group = int(has_score.sum()) - sum(int(has_score[p].sum()) for p in split.levels.values())
+    for level, positions in split.levels.items():
+        x = scores[positions][has_score[positions]]
+        if len(x) == 0:
+            continue
+        if len(x) < min_cell:
+            suppressed.append(level)
+            continue
+        summaries.append(_summary(level, x))
+        samples[level] = x
+    if suppressed:
+        notes.append(f"{', '.join(f'{column} = {s}' for s in suppressed)}: fewer than {min_cell} respondents "
+                     "with a score; not shown and left out of the tests")
+    n_no_score = int((~has_score).sum())
+    if n_no_score:
+        notes.append(f"{n_no_score} respondent(s) without a score left out")
+    if n_no_group:
+        notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
+    base = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
+                confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
+
+    testable = {level: x for level, x in samples.items() if len(x) >= 2}
+    if len(testable) < len(samples):
+        notes.append("levels with a single score are described but left out of the tests")
+    if len(testable) < 2:
+        notes.append(f"fewer than two levels of {column} with at least {max(min_cell, 2)} scores: no test")
+        return Comparison(**base, notes=tuple(notes))
+    if all(np.ptp(x) == 0 for x in testable.values()):
+        notes.append("every level has the same score throughout (zero variance): no test")
+        return Comparison(**base, notes=tuple(notes))
+    if any(np.ptp(x) == 0 for x in testable.values()):
+        notes.append("a level has no spread in its scores; tests that rely on its variance are fragile")
+    if len(testable) == 2:
+        result = _two_groups(testable, student=student, confidence_level=confidence_level)
+    else:
+        result = _many_groups(testable, student=student)
+    extra_notes = result.pop("extra_notes")
+    return Comparison(**base, **result, notes=tuple(notes + extra_notes))
+
+
+def _levene(data: pd.DataFrame) -> TestResult:
+    import pingouin as pg
+
+    row = pg.homoscedasticity(data, dv="score", group="level", method="levene").iloc[0]
+    k = data["level"].nunique()
+    return TestResult(name="Levene (median-centred)", statistic=float(row["W"]), pvalue=float(row["pval"]),
+                      df=float(k - 1), df2=float(len(data) - k))
+
+
+def _long(samples: dict[str, np.ndarray]) -> pd.DataFrame:
+    return pd.DataFrame({"score": np.concatenate(list(samples.values())),
+                         "level": np.repeat(list(samples), [len(x) for x in samples.values()])})
+
+
+def _two_groups(samples: dict[str, np.ndarray], *, student: bool, confidence_level: float) -> dict[str, Any]:
+    import pingouin as pg
+
+    (name_a, x), (name_b, y) = samples.items()
+    t = pg.ttest(x, y, correction=not student, confidence=confidence_level).iloc[0]
+    u = pg.mwu(x, y, alternative="two-sided").iloc[0]
+    g = float(pg.compute_effsize(x, y, eftype="hedges"))
+    # pingouin rounds this interval to `decimals`; 15 keeps it unrounded (rounding belongs to presentation)
+    ci = pg.compute_esci(stat=g, nx=len(x), ny=len(y), eftype="hedges", confidence=confidence_level, decimals=15)
+    return {
+        "test": TestResult(name="Student's t" if student else "Welch's t", statistic=float(t["T"]),
+                           df=float(t["dof"]), pvalue=float(t["p_val"])),
+        "nonparametric": TestResult(name="Mann-Whitney U", statistic=float(u["U_val"]), pvalue=float(u["p_val"])),
+        "effect_size": EffectSize(name="Hedges' g", value=g, ci=(float(ci[0]), float(ci[1]))),
+        "nonparametric_effect_size": EffectSize(name="rank-biserial r", value=float(u["RBC"])),
+        "levene": _levene(_long(samples)),
+        "extra_notes": [f"Hedges' g and the rank-biserial r compare {name_a} with {name_b} "
+                        f"(positive: {name_a} scores higher)"],
+    }
+
+
+def _many_groups(samples: dict[str, np.ndarray], *, student: bool) -> dict[str, Any]:
+    import pingouin as pg
+
+    data = _long(samples)
+    n, k = len(data), len(samples)
+    classic = pg.anova(data, dv="score", between="level", detailed=True)
+    ss_between, ss_within = (float(v) for v in classic["SS"].iloc[:2])
+    ms_within = float(classic["MS"].iloc[1])
+    omega_sq = (ss_between - (k - 1) * ms_within) / (ss_between + ss_within + ms_within)
+    if student:
+        test = TestResult(name="one-way ANOVA F", statistic=float(classic["F"].iloc[0]),
+                          df=float(classic["DF"].iloc[0]), df2=float(classic["DF"].iloc[1]),
+                          pvalue=float(classic["p_unc"].iloc[0]))
+        pair_table, method = pg.pairwise_tukey(data, dv="score", between="level", effsize="hedges"), "Tukey HSD"
+    else:
+        welch = pg.welch_anova(data, dv="score", between="level").iloc[0]
+        test = TestResult(name="Welch's F", statistic=float(welch["F"]), df=float(welch["ddof1"]),
+                          df2=float(welch["ddof2"]), pvalue=float(welch["p_unc"]))
+        with np.errstate(divide="ignore", invalid="ignore"), warnings.catch_warnings():
+            # a pair of two zero-variance levels has no standard error; its row is NaN and noted below
+            warnings.simplefilter("ignore", RuntimeWarning)
+            pair_table = pg.pairwise_gameshowell(data, dv="score", between="level", effsize="hedges")
+        method = "Games-Howell"
+    h = pg.kruskal(data, dv="score", between="level").iloc[0]
+    pvalue_column = "p_tukey" if student else "pval"
+    order = list(samples)
+    pairs = []
+    for _, row in pair_table.iterrows():
+        a, b = str(row["A"]), str(row["B"])
+        sign = 1.0
+        if order.index(a) > order.index(b):  # keep the column's level order within each pair
+            a, b, sign = b, a, -1.0
+        pairs.append(PairResult(a=a, b=b, difference=sign * float(row["diff"]), se=float(row["se"]),
+                                statistic=sign * float(row["T"]),
+                                df=float(row["df"]) if "df" in row else float(n - k),
+                                pvalue=float(row[pvalue_column]), hedges_g=sign * float(row["hedges"])))
+    pairs.sort(key=lambda p: (order.index(p.a), order.index(p.b)))
+    extra = []
+    if any(not np.isfinite(p.pvalue) for p in pairs):
+        extra.append("some pairs have no spread in either level: no pair test for them")
+    return {
+        "test": test,
+        "nonparametric": TestResult(name="Kruskal-Wallis H", statistic=float(h["H"]), df=float(h["ddof1"]),
+                                    pvalue=float(h["p_unc"])),
+        "effect_size": EffectSize(name="omega-squared", value=omega_sq),
+        "nonparametric_effect_size": EffectSize(name="epsilon-squared", value=float(h["H"]) * (n + 1) / (n * n - 1)),
+        "pairs": tuple(pairs),
+        "pairs_method": method,
+        "levene": _levene(data),
+        "extra_notes": ["omega-squared can fall below zero when the groups differ less than chance would make "
+                        "them; read such values as zero"] if omega_sq < 0 else [],
+    }
+
+
+def holm(pvalues: Sequence[float | None]) -> list[float | None]:
+    """Holm (1979) step-down adjusted p-values; None/NaN entries stay None and do not count in the family.
+
+    Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scand. J. Statist., 6, 65-70.
+    """
+    import pingouin as pg
+
+    values = [None if p is None or not np.isfinite(p) else float(p) for p in pvalues]
+    present = [i for i, p in enumerate(values) if p is not None]
+    if not present:
+        return values
+    _, adjusted = pg.multicomp(np.array([values[i] for i in present]), method="holm")
+    out: list[float | None] = list(values)
+    for i, p in zip(present, np.atleast_1d(adjusted)):
+        out[i] = float(p)
+    return out
+
+
+def pvalue_holm(comparisons: Sequence[Comparison]) -> tuple[Comparison, ...]:
+    """Fill ``pvalue_holm`` of the main and the rank-based test, each a family across ``comparisons``.
+
+    Pass the comparisons of one run for one grouping column (one per scale).
+    """
+    comparisons = tuple(comparisons)
+
+    def adjusted(attribute: str) -> list[float | None]:
+        return holm([getattr(c, attribute).pvalue if getattr(c, attribute) is not None else None
+                     for c in comparisons])
+
+    main, rank = adjusted("test"), adjusted("nonparametric")
+    out = []
+    for c, p_main, p_rank in zip(comparisons, main, rank):
+        changes: dict[str, Any] = {}
+        if c.test is not None:
+            changes["test"] = dataclasses.replace(c.test, pvalue_holm=p_main)
+        if c.nonparametric is not None:
+            changes["nonparametric"] = dataclasses.replace(c.nonparametric, pvalue_holm=p_rank)
+        out.append(dataclasses.replace(c, **changes))
+    return tuple(out)
+
+
+__all__ = ["Comparison", "EffectSize", "GroupSummary", "PairResult", "TestResult", "compare_groups", "holm",
+           "pvalue_holm", "suppressed_text"]
