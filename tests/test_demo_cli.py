@@ -1,0 +1,103 @@
+"""`scalewright demo` and the example script: what they write, and what they refuse."""
+from __future__ import annotations
+
+import importlib.util
+from pathlib import Path
+
+import pandas as pd
+import pytest
+
+from scalewright import demo_data
+from scalewright.cli import main
+from scalewright.cli.demo import DATA_NAME, SCALES_NAME, SCORES_NAME, write_demo_inputs
+
+REPO = Path(__file__).resolve().parents[1]
+
+
+def _snapshot(folder: Path) -> dict[str, bytes]:
+    return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}
+
+
+def test_demo_writes_data_scale_file_and_scores(tmp_path, capsys):
+    out = tmp_path / "demo"
+    assert main(["demo", "--out", str(out), "--seed", "5", "--n", "120"]) == 0
+    assert sorted(p.name for p in out.iterdir()) == sorted([DATA_NAME, SCALES_NAME, SCORES_NAME])
+    printed = capsys.readouterr().out
+    for name in (DATA_NAME, SCALES_NAME, SCORES_NAME):
+        assert str(out / name) in printed
+    assert "fictional" in printed and "not a diagnosis" in printed
+
+    data = pd.read_csv(out / DATA_NAME, dtype=str, keep_default_na=False)
+    scores = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
+    # one row per respondent, in input order
+    assert list(scores["staff_id"]) == list(data["staff_id"]) and len(scores) == 120
+    expected = ["staff_id"] + [c for name in demo_data.SCALE_NAMES for c in (name, f"{name}__answered")]
+    assert list(scores.columns) == expected
+    assert (out / SCALES_NAME).read_bytes() == (REPO / "scales" / demo_data.SCALE_FILE_NAME).read_bytes()
+    # the written data are exactly the generator's, for that seed
+    frame, _ = demo_data.generate_staff_climate(seed=5, n=120)
+    assert (out / DATA_NAME).read_text(encoding="utf-8") == frame.to_csv(index=False, lineterminator="\n")
+
+
+def test_scored_file_matches_scoring_the_written_inputs(tmp_path):
+    from scalewright.data import read_responses
+    from scalewright.scoring import score_scales
+    from scalewright.spec import load_spec
+
+    out = tmp_path / "demo"
+    assert main(["demo", "--out", str(out), "--n", "80"]) == 0
+    spec = load_spec(out / SCALES_NAME)
+    direct = score_scales(read_responses(out / DATA_NAME, spec), spec).to_frame()
+    written = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
+    pd.testing.assert_frame_equal(written, direct, check_dtype=False, rtol=1e-12)
+
+
+def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
+    (tmp_path / "notes.txt").write_text("my own file\n")
+    before = _snapshot(tmp_path)
+    assert main(["demo", "--out", str(tmp_path), "--n", "60"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ") and "not empty" in err and "--force" in err and len(err.splitlines()) == 1
+    assert _snapshot(tmp_path) == before
+
+
+def test_demo_force_writes_into_a_non_empty_folder(tmp_path):
+    (tmp_path / "notes.txt").write_text("my own file\n")
+    assert main(["demo", "--out", str(tmp_path), "--n", "60", "--force"]) == 0
+    assert (tmp_path / "notes.txt").read_text() == "my own file\n"
+    assert len(pd.read_csv(tmp_path / SCORES_NAME)) == 60
+
+
+def test_demo_refuses_a_file_as_folder_and_bad_sizes(tmp_path, capsys):
+    target = tmp_path / "a-file"
+    target.write_text("x")
+    assert main(["demo", "--out", str(target)]) == 2
+    assert main(["demo", "--out", str(tmp_path / "new"), "--n", "3"]) == 2
+    assert target.read_text() == "x" and not (tmp_path / "new").exists()
+    assert capsys.readouterr().err.count("error: ") == 2
+
+
+def test_write_demo_inputs_returns_the_paths(tmp_path):
+    data_path, scales_path = write_demo_inputs(tmp_path, seed=1, n=50)
+    assert (data_path, scales_path) == (tmp_path / DATA_NAME, tmp_path / SCALES_NAME)
+    assert data_path.name == demo_data.DATA_FILE_NAME and scales_path.name == demo_data.SCALE_FILE_NAME
+    assert len(pd.read_csv(data_path)) == 50
+
+
+def test_example_script_writes_data_scale_file_and_truth(tmp_path, capsys):
+    import json
+
+    spec = importlib.util.spec_from_file_location("generate_staff_climate",
+                                                  REPO / "examples" / "generate_staff_climate.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    out = tmp_path / "gen"
+    assert module.main(["--out", str(out), "--seed", "9", "--n", "70"]) == 0
+    truth = json.loads((out / "truth.json").read_text())
+    data = pd.read_csv(out / DATA_NAME, dtype={"staff_id": str})
+    assert truth["n"] == 70 and truth["seed"] == 9 and len(data) == 70
+    assert set(truth["careless_ids"]) <= set(data["staff_id"])
+    _, expected = demo_data.generate_staff_climate(seed=9, n=70)
+    for name, value in expected.population_reliability.items():
+        assert truth["population_reliability"][name] == pytest.approx(value, rel=1e-12)
+    assert module.main(["--out", str(out)]) == 2  # not empty now
