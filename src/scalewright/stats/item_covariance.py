@@ -87,3 +87,11 @@ def correlation_from_cov(cov: np.ndarray) -> np.ndarray:
     corr[~np.isfinite(corr)] = np.nan
     np.fill_diagonal(corr, np.where(sd > 0, 1.0, np.nan))
     return corr
+
+
+def is_invertible(cov: np.ndarray, *, max_condition: float = 1e12) -> bool:
+    """Whether a covariance matrix is finite and numerically invertible (condition number below a bound)."""
+    cov = np.asarray(cov, dtype=np.float64)
+    if cov.size == 0 or not np.isfinite(cov).all():
+        return False
+    return bool(np.linalg.cond(cov) < max_condition)

@@ -7,10 +7,17 @@ engine. :func:`scale_reliability` is the one entry point that starts from the ke
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from ..errors import DataError
+from ..results import ResultMixin, to_jsonable
+from .bootstrap import AlphaBootstrap
+from .subgroups import SubgroupSplit
+from .item_covariance import correlation_from_cov, is_invertible
 
 
 def _as_cov(cov: np.ndarray) -> np.ndarray:
@@ -68,8 +75,6 @@ def standardized_alpha_from_cov(cov: np.ndarray) -> float:
     .. [1] Cronbach, L. J. (1951). Psychometrika, 16, 297-334 (the Spearman-Brown form of alpha for
        standardized items).
     """
-    from .item_covariance import correlation_from_cov
-
     cov = _as_cov(cov)
     k = cov.shape[0]
     if k < 2:
@@ -194,14 +199,6 @@ def guttman_lambda6_from_cov(cov: np.ndarray) -> float:
     return float(1.0 - float((1.0 / precision_diagonal).sum()) / total)
 
 
-def is_invertible(cov: np.ndarray, *, max_condition: float = 1e12) -> bool:
-    """Whether a covariance matrix is finite and numerically invertible (condition number below a bound)."""
-    cov = np.asarray(cov, dtype=np.float64)
-    if cov.size == 0 or not np.isfinite(cov).all():
-        return False
-    return bool(np.linalg.cond(cov) < max_condition)
-
-
 def feldt_alpha_ci(alpha: float, n: int, k: int, *, confidence_level: float = 0.95) -> tuple[float, float]:
     r"""Feldt's confidence interval of coefficient alpha.
 
@@ -237,8 +234,6 @@ def feldt_alpha_ci(alpha: float, n: int, k: int, *, confidence_level: float = 0.
 
 def inter_item_correlations(cov: np.ndarray) -> tuple[float, float, float]:
     """Mean, minimum and maximum of the k(k-1)/2 inter-item correlations (NaN when undefined)."""
-    from .item_covariance import correlation_from_cov
-
     cov = _as_cov(cov)
     k = cov.shape[0]
     if k < 2:
@@ -247,3 +242,527 @@ def inter_item_correlations(cov: np.ndarray) -> tuple[float, float, float]:
     if not np.isfinite(values).all():
         return (math.nan, math.nan, math.nan)
     return (float(values.mean()), float(values.min()), float(values.max()))
+
+
+def alpha_difference_test(alpha_a: float, n_a: int, alpha_b: float, n_b: int) -> tuple[float, float]:
+    r"""Feldt's test that two independent samples have the same coefficient alpha.
+
+    .. math::
+
+        W = \frac{1 - \hat\alpha_a}{1 - \hat\alpha_b} \sim F(n_a - 1,\, n_b - 1)
+
+    Returns
+    -------
+    (W, p) : tuple of float
+        The statistic and its two-sided p-value; NaN when either alpha is undefined or equals 1, or a
+        sample has fewer than 3 rows.
+
+    References
+    ----------
+    .. [1] Feldt, L. S. (1969). A test of the hypothesis that Cronbach's alpha or Kuder-Richardson
+       coefficient twenty is the same for two tests. Psychometrika, 34, 363-373.
+    """
+    from scipy.stats import f
+
+    if not (math.isfinite(alpha_a) and math.isfinite(alpha_b)) or n_a < 3 or n_b < 3 or alpha_b >= 1:
+        return (math.nan, math.nan)
+    w = (1.0 - alpha_a) / (1.0 - alpha_b)
+    if not w > 0:
+        return (math.nan, math.nan)
+    tail = min(float(f.cdf(w, n_a - 1, n_b - 1)), float(f.sf(w, n_a - 1, n_b - 1)))
+    return (float(w), min(1.0, 2.0 * tail))
+
+
+# --------------------------------------------------------------------------------------------------------
+# Results: one scale, its items, its flags
+
+
+@dataclass(frozen=True)
+class ReliabilityThresholds(ResultMixin):
+    """Cut-offs of the flags; every one is a default that a caller may override.
+
+    Sources (see docs/reliability.md): item-rest r below .30 and alpha below .70 are common practice,
+    usually traced to Nunnally & Bernstein (1994); alpha above .95 suggests redundant items (Streiner,
+    2003); an inter-item r above .85 as "the same question twice" is common practice, no single source.
+    """
+
+    weak_item_rest_r: float = 0.30
+    redundant_r: float = 0.85
+    low_alpha: float = 0.70
+    excess_alpha: float = 0.95
+
+
+@dataclass(frozen=True)
+class ReliabilityFlag(ResultMixin):
+    """A finding worth a look: ``item`` is None for scale-level flags; ``items`` names both of a pair."""
+
+    item: str | None
+    code: str
+    message: str
+    value: float = math.nan
+    items: tuple[str, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"item": self.item, "code": self.code, "message": self.message,
+                               "value": to_jsonable(self.value)}
+        if self.items:
+            out["items"] = list(self.items)
+        return out
+
+
+@dataclass(frozen=True)
+class ItemStatistics(ResultMixin):
+    """One item of a scale.
+
+    ``n``, ``missing_pct`` and the answer counts use every answer given to the item; ``mean`` and ``sd``
+    are of the keyed item over those answers. ``floor_pct``/``ceiling_pct`` and ``counts`` are of the answer
+    codes as given (before reverse keying): the shares at the lowest and highest code. ``item_rest_r``,
+    the if-deleted values and ``loading`` (standardized, one-factor model) use the rows the scale statistics
+    use.
+    """
+
+    name: str
+    reversed: bool
+    n: int
+    mean: float
+    sd: float
+    missing_pct: float
+    floor_pct: float
+    ceiling_pct: float
+    item_rest_r: float
+    alpha_if_deleted: float
+    omega_if_deleted: float
+    loading: float
+    counts: dict[str, int]
+
+    def to_dict(self) -> dict[str, Any]:
+        out = super().to_dict()
+        out.pop("name")
+        return out
+
+
+@dataclass(frozen=True)
+class ScaleReliability(ResultMixin):
+    """Reliability and item analysis of one scale in one sample (the contract block ``scales.<name>``)."""
+
+    n_rows: int
+    n_used: int
+    n_set_aside: int
+    k: int
+    missing_handling: str
+    confidence_level: float
+    alpha: float
+    alpha_ci: tuple[float, float]
+    alpha_standardized: float
+    omega_total: float
+    omega_method: str | None
+    omega_converged: bool | None
+    heywood_items: tuple[str, ...]
+    lambda2: float
+    lambda6: float
+    mean_inter_item_r: float
+    min_inter_item_r: float
+    max_inter_item_r: float
+    items: dict[str, ItemStatistics]
+    flags: tuple[ReliabilityFlag, ...]
+    thresholds: ReliabilityThresholds
+    bootstrap: AlphaBootstrap | None
+    notes: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        out = super().to_dict()
+        out["items"] = {name: item.to_dict() for name, item in self.items.items()}
+        return out
+
+    def flag_codes(self) -> set[tuple[str | None, str]]:
+        return {(flag.item, flag.code) for flag in self.flags}
+
+
+@dataclass(frozen=True)
+class ItemDescriptives:
+    """Per-item descriptives from every answer to the item (sufficient statistics too: counts and sums)."""
+
+    n: np.ndarray
+    mean: np.ndarray
+    sd: np.ndarray
+    missing_pct: np.ndarray
+    floor_pct: np.ndarray
+    ceiling_pct: np.ndarray
+    counts: tuple[dict[str, int], ...]
+    off_level: int
+
+
+def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
+                      reversed_mask: np.ndarray | None = None) -> ItemDescriptives:
+    """Count, mean, sd (ddof 1), missing share, floor and ceiling shares and answer counts of each item.
+
+    Floor, ceiling and counts are of the answer codes as given: reverse-keyed items are turned back with
+    ``low + high - x`` first. ``off_level`` counts answers that are not one of the integer levels.
+    """
+    matrix = np.asarray(keyed, dtype=np.float64)
+    n_rows, k = matrix.shape
+    reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
+    levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1)
+    n = np.zeros(k, dtype=np.int64)
+    mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
+    counts: list[dict[str, int]] = []
+    off_level = 0
+    for j in range(k):
+        column = matrix[:, j]
+        answered = column[~np.isnan(column)]
+        n[j] = answered.size
+        if answered.size:
+            mean[j] = answered.mean()
+        if answered.size >= 2:
+            sd[j] = answered.std(ddof=1)
+        codes = (low + high - answered) if reversed_mask[j] else answered
+        offsets = codes - levels[0] if levels.size else codes
+        integral = (offsets == np.round(offsets)) & (offsets >= 0) & (offsets < levels.size)
+        off_level += int(answered.size - integral.sum())
+        tally = np.bincount(offsets[integral].astype(np.int64), minlength=levels.size)
+        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally)})
+        if answered.size and levels.size:
+            floor[j] = 100.0 * tally[0] / answered.size
+            ceiling[j] = 100.0 * tally[-1] / answered.size
+    missing_pct = 100.0 * (n_rows - n) / n_rows if n_rows else np.full(k, np.nan)
+    return ItemDescriptives(n=n, mean=mean, sd=sd, missing_pct=missing_pct, floor_pct=floor,
+                            ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
+
+
+def _fmt(value: float) -> str:
+    # message text only; the numbers themselves stay unrounded in the result
+    if not math.isfinite(value):
+        return "undefined"
+    text = f"{value:.2f}"
+    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
+
+
+def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: np.ndarray,
+                      loadings: np.ndarray, alpha_reversed: np.ndarray, corr: np.ndarray,
+                      reversed_items: Sequence[str] = (),
+                      thresholds: ReliabilityThresholds = ReliabilityThresholds()) -> tuple[ReliabilityFlag, ...]:
+    """The plain-language flags of one scale (codes of the JSON contract)."""
+    flags: list[ReliabilityFlag] = []
+    declared = set(reversed_items)
+    for j, name in enumerate(item_names):
+        r = float(item_rest_r[j])
+        negative_loading = math.isfinite(float(loadings[j])) and float(loadings[j]) < 0
+        if (math.isfinite(r) and r < 0) or negative_loading:
+            evidence = f"item-rest r = {_fmt(r)}" + (", negative loading on the scale's factor"
+                                                     if negative_loading else "")
+            advice = ("it is declared reverse-keyed: check that it should be"
+                      if name in declared else "if its wording is reversed, list it under `reverse`")
+            flags.append(ReliabilityFlag(
+                item=name, code="miskey-suspect", value=r,
+                message=(f"{name} runs against the rest of the scale ({evidence}); {advice}. With it reversed, "
+                         f"alpha would be {_fmt(float(alpha_reversed[j]))} instead of {_fmt(alpha)}.")))
+        elif math.isfinite(r) and r < thresholds.weak_item_rest_r:
+            flags.append(ReliabilityFlag(
+                item=name, code="weak-item", value=r,
+                message=(f"{name} agrees little with the rest of the scale (item-rest r = {_fmt(r)}, "
+                         f"below {_fmt(thresholds.weak_item_rest_r)}); check its wording.")))
+    k = len(item_names)
+    for i in range(k):
+        for j in range(i + 1, k):
+            r = float(corr[i, j])
+            if math.isfinite(r) and r > thresholds.redundant_r:
+                a, b = item_names[i], item_names[j]
+                flags.append(ReliabilityFlag(
+                    item=a, code="redundant-pair", value=r, items=(a, b),
+                    message=(f"{a} and {b} correlate r = {_fmt(r)} (above {_fmt(thresholds.redundant_r)}): "
+                             "they may ask the same thing twice.")))
+    if math.isfinite(alpha) and alpha < thresholds.low_alpha:
+        flags.append(ReliabilityFlag(
+            item=None, code="low-reliability", value=alpha,
+            message=f"alpha = {_fmt(alpha)} is below {_fmt(thresholds.low_alpha)}: the score is noisy in this sample."))
+    if math.isfinite(alpha) and alpha > thresholds.excess_alpha:
+        flags.append(ReliabilityFlag(
+            item=None, code="excess-reliability", value=alpha,
+            message=(f"alpha = {_fmt(alpha)} is above {_fmt(thresholds.excess_alpha)}: items may be "
+                     "near-duplicates; a shorter scale may do.")))
+    return tuple(flags)
+
+
+def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[str],
+                         confidence_level: float = 0.95,
+                         thresholds: ReliabilityThresholds = ReliabilityThresholds(),
+                         reversed_items: Sequence[str] = (),
+                         descriptives: ItemDescriptives | None = None,
+                         n_rows: int | None = None, missing_handling: str = "listwise",
+                         bootstrap: AlphaBootstrap | None = None,
+                         notes: Sequence[str] = ()) -> ScaleReliability:
+    """Every reliability statistic of one scale from its sufficient statistics (n and covariance matrix).
+
+    This is the function to call with a covariance matrix accumulated elsewhere (chunks of a large file,
+    a distributed engine). Item descriptives are optional; without them those fields are NaN.
+    """
+    from .omega import fit_one_factor, omega_if_deleted_from_cov, omega_total_from_fit
+
+    cov = _as_cov(cov)
+    k = cov.shape[0]
+    names = tuple(str(name) for name in item_names)
+    if len(names) != k:
+        raise DataError(f"{len(names)} item name(s) given for a {k} x {k} covariance matrix")
+    if len(set(names)) != k:
+        raise DataError(f"item names must be unique: {', '.join(names)}")
+    out_notes: list[str] = list(notes)
+    nan2 = (math.nan, math.nan)
+    usable = k >= 2 and n_used >= 3 and np.isfinite(cov).all()
+    if k < 2:
+        out_notes.append("only one item: alpha, omega and the other consistency statistics need at least 2 items")
+    elif n_used < 3:
+        out_notes.append(f"only {n_used} usable row(s): the statistics need at least 3")
+    elif not np.isfinite(cov).all():
+        out_notes.append("some item pairs have fewer than 2 rows in common: the covariance matrix is incomplete")
+    if not usable:
+        cov_used = np.full((k, k), np.nan)
+    else:
+        cov_used = cov
+    variances = np.diag(cov_used)
+    constant = [names[j] for j in range(k) if usable and not variances[j] > 0]
+    if constant:
+        out_notes.append(f"no variance among the rows used for {', '.join(constant)}: item-rest r, standardized "
+                         "alpha, inter-item correlations, lambda6 and omega are undefined")
+    alpha = cronbach_alpha_from_cov(cov_used) if usable else math.nan
+    if usable and not math.isfinite(alpha):
+        out_notes.append("the scale's total has no variance among the rows used: alpha is undefined")
+    singular = usable and not constant and not is_invertible(cov_used)
+    if singular:
+        out_notes.append("the item covariance matrix is singular (an item is an exact linear combination of "
+                         "others): lambda6 and omega are undefined")
+    if usable and missing_handling == "pairwise" and np.linalg.eigvalsh(cov_used).min() < -1e-10 * abs(cov_used).max():
+        out_notes.append("the pairwise covariance matrix is not positive semi-definite: treat the results "
+                         "with caution")
+    fit = fit_one_factor(cov_used) if usable and not constant and not singular and k >= 3 else None
+    if usable and k == 2:
+        out_notes.append("omega needs at least 3 items for a one-factor model")
+    elif usable and not constant and not singular and k >= 3 and fit is None:
+        out_notes.append("the one-factor model could not be fitted: omega is undefined")
+    if fit is not None:
+        out_notes.extend(fit.notes)
+        if fit.heywood_items:
+            listed = ", ".join(names[j] for j in fit.heywood_items)
+            out_notes.append(f"improper one-factor solution (Heywood case): the uniqueness of {listed} reached "
+                             "the fitting bound of .005; omega may be overstated")
+    corr = correlation_from_cov(cov_used)
+    mean_r, min_r, max_r = inter_item_correlations(cov_used) if usable else (math.nan,) * 3
+    item_rest_r = item_rest_correlations_from_cov(cov_used) if usable else np.full(k, np.nan)
+    if_deleted = alpha_if_deleted_from_cov(cov_used) if usable else np.full(k, np.nan)
+    omega_deleted = (omega_if_deleted_from_cov(cov_used) if fit is not None and k >= 4
+                     else np.full(k, np.nan))
+    loadings = fit.standardized_loadings if fit is not None else np.full(k, np.nan)
+    alpha_reversed = alpha_with_item_reversed_from_cov(cov_used) if usable else np.full(k, np.nan)
+    declared = set(reversed_items)
+    items: dict[str, ItemStatistics] = {}
+    for j, name in enumerate(names):
+        d = descriptives
+        items[name] = ItemStatistics(
+            name=name, reversed=name in declared,
+            n=int(d.n[j]) if d is not None else n_used,
+            mean=float(d.mean[j]) if d is not None else math.nan,
+            sd=float(d.sd[j]) if d is not None else math.nan,
+            missing_pct=float(d.missing_pct[j]) if d is not None else math.nan,
+            floor_pct=float(d.floor_pct[j]) if d is not None else math.nan,
+            ceiling_pct=float(d.ceiling_pct[j]) if d is not None else math.nan,
+            item_rest_r=float(item_rest_r[j]), alpha_if_deleted=float(if_deleted[j]),
+            omega_if_deleted=float(omega_deleted[j]), loading=float(loadings[j]),
+            counts=dict(d.counts[j]) if d is not None else {})
+    flags = reliability_flags(item_names=names, alpha=alpha, item_rest_r=item_rest_r, loadings=loadings,
+                              alpha_reversed=alpha_reversed, corr=corr, reversed_items=reversed_items,
+                              thresholds=thresholds) if usable else ()
+    n_rows = n_used if n_rows is None else n_rows
+    return ScaleReliability(
+        n_rows=n_rows, n_used=n_used, n_set_aside=max(0, n_rows - n_used) if missing_handling == "listwise" else 0,
+        k=k, missing_handling=missing_handling, confidence_level=confidence_level, alpha=alpha,
+        alpha_ci=feldt_alpha_ci(alpha, n_used, k, confidence_level=confidence_level) if usable else nan2,
+        alpha_standardized=standardized_alpha_from_cov(cov_used) if usable else math.nan,
+        omega_total=omega_total_from_fit(fit), omega_method=fit.method if fit else None,
+        omega_converged=fit.converged if fit else None,
+        heywood_items=tuple(names[j] for j in fit.heywood_items) if fit else (),
+        lambda2=guttman_lambda2_from_cov(cov_used) if usable else math.nan,
+        lambda6=guttman_lambda6_from_cov(cov_used) if usable and not constant else math.nan,
+        mean_inter_item_r=mean_r, min_inter_item_r=min_r, max_inter_item_r=max_r,
+        items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes))
+
+
+def scale_reliability(keyed: np.ndarray, *, item_names: Sequence[str], low: float, high: float,
+                      confidence_level: float = 0.95, pairwise: bool = False,
+                      thresholds: ReliabilityThresholds = ReliabilityThresholds(),
+                      reversed_items: Sequence[str] = (), n_resamples: int = 0,
+                      seed: int | None = None) -> ScaleReliability:
+    """Reliability and item analysis of one scale from its keyed item matrix.
+
+    Parameters
+    ----------
+    keyed : (n, k) array
+        Answers after reverse keying, NaN for missing.
+    item_names : sequence of str
+        The k item names, in column order.
+    low, high : float
+        Ends of the answer range (for floor/ceiling shares and the answer counts).
+    confidence_level : float
+        Coverage of the Feldt (and bootstrap) intervals.
+    pairwise : bool
+        Pairwise instead of listwise deletion of missing answers.
+    thresholds : ReliabilityThresholds
+        Cut-offs of the flags.
+    reversed_items : sequence of str
+        Items that were reverse-keyed (their answer counts are reported on the codes as given).
+    n_resamples, seed : int
+        Bootstrap resamples (0 = no bootstrap) and the seed of the generator.
+
+    Returns
+    -------
+    ScaleReliability
+
+    Notes
+    -----
+    Listwise (default): every statistic uses the rows that answered all k items; the others are counted in
+    ``n_set_aside``. Pairwise: each covariance uses the rows answering both items and the confidence
+    interval uses the smallest pairwise count. Item descriptives use every answer given to the item.
+    """
+    from .bootstrap import bootstrap_alpha
+    from .item_covariance import as_item_matrix, item_covariance
+
+    matrix = as_item_matrix(keyed)
+    names = tuple(item_names)
+    if matrix.shape[1] != len(names):
+        raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
+    unknown = set(reversed_items) - set(names)
+    if unknown:
+        raise DataError(f"reversed items not in the scale: {', '.join(sorted(unknown))}")
+    if not low < high:
+        raise DataError(f"answer range must have low < high, got {low} and {high}")
+    if not 0 < confidence_level < 1:
+        raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
+    stats = item_covariance(matrix, pairwise=pairwise)
+    descriptives = item_descriptives(matrix, low=low, high=high,
+                                     reversed_mask=np.array([name in set(reversed_items) for name in names]))
+    notes: list[str] = []
+    if pairwise:
+        notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
+                     f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
+                     f"confidence interval uses the smallest count, {stats.n_used}")
+    elif stats.n_rows > stats.n_used:
+        notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
+                     f"every item and were set aside")
+    if descriptives.off_level:
+        notes.append(f"{descriptives.off_level} answer(s) are not whole answer codes from {low:g} to {high:g}; "
+                     "they are left out of the answer counts")
+    boot = None
+    if n_resamples:
+        boot = bootstrap_alpha(matrix, n_resamples=n_resamples, confidence_level=confidence_level, seed=seed,
+                               pairwise=pairwise)
+    return reliability_from_cov(stats.cov, stats.n_used, item_names=names, confidence_level=confidence_level,
+                                thresholds=thresholds, reversed_items=reversed_items, descriptives=descriptives,
+                                n_rows=stats.n_rows, missing_handling="pairwise" if pairwise else "listwise",
+                                bootstrap=boot, notes=notes)
+
+
+# --------------------------------------------------------------------------------------------------------
+# Subgroups
+
+
+@dataclass(frozen=True)
+class AlphaComparison(ResultMixin):
+    """Feldt's (1969) test of two subgroup alphas, with the Holm-adjusted p across all pairs of a column."""
+
+    level_a: str
+    level_b: str
+    alpha_a: float
+    alpha_b: float
+    n_a: int
+    n_b: int
+    w: float
+    df1: int
+    df2: int
+    p: float
+    p_holm: float
+
+
+def compare_alphas(results: dict[str, ScaleReliability]) -> tuple[AlphaComparison, ...]:
+    """Feldt's test for every pair of independent subgroups, Holm-corrected across the pairs.
+
+    References
+    ----------
+    .. [1] Feldt, L. S. (1969). Psychometrika, 34, 363-373.
+    .. [2] Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scandinavian Journal
+       of Statistics, 6, 65-70.
+    """
+    levels = list(results)
+    rows = []
+    for i, a in enumerate(levels):
+        for b in levels[i + 1:]:
+            ra, rb = results[a], results[b]
+            w, p = alpha_difference_test(ra.alpha, ra.n_used, rb.alpha, rb.n_used)
+            rows.append((a, b, ra, rb, w, p))
+    p_values = np.array([row[5] for row in rows], dtype=np.float64)
+    adjusted = np.full(len(rows), np.nan)
+    finite = np.isfinite(p_values)
+    if finite.any():
+        from statsmodels.stats.multitest import multipletests
+
+        adjusted[finite] = multipletests(p_values[finite], method="holm")[1]
+    return tuple(AlphaComparison(level_a=a, level_b=b, alpha_a=ra.alpha, alpha_b=rb.alpha, n_a=ra.n_used,
+                                 n_b=rb.n_used, w=w, df1=ra.n_used - 1, df2=rb.n_used - 1, p=p,
+                                 p_holm=float(adjusted[index]))
+                 for index, (a, b, ra, rb, w, p) in enumerate(rows))
+
+
+@dataclass(frozen=True)
+class GroupReliability(ResultMixin):
+    """The statistics of one scale per level of one subgroup column, and the tests between the levels."""
+
+    column: str
+    levels: dict[str, ScaleReliability]
+    too_small: dict[str, int]
+    missing: int
+    min_group: int
+    comparisons: tuple[AlphaComparison, ...]
+    notes: tuple[str, ...]
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"column": self.column, "levels": {k: v.to_dict() for k, v in self.levels.items()},
+                "too_small": dict(self.too_small), "missing": self.missing, "min_group": self.min_group,
+                "comparisons": [c.to_dict() for c in self.comparisons], "notes": list(self.notes)}
+
+
+def reliability_by_group(keyed: np.ndarray, split: SubgroupSplit, **options: Any) -> GroupReliability:
+    """:func:`scale_reliability` for each analysable level of ``split`` and Feldt tests between them.
+
+    ``split`` comes from :func:`scalewright.stats.subgroups.split_by`; its levels below the minimum size
+    are named in ``too_small`` but not analysed. ``options`` are passed to :func:`scale_reliability`.
+    """
+    matrix = np.asarray(keyed, dtype=np.float64)
+    levels = {level: scale_reliability(matrix[positions], **options) for level, positions in split.levels.items()}
+    notes = list(split.notes())
+    if len(levels) < 2:
+        notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "
+                     "no comparison of alphas")
+    return GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),
+                            missing=split.missing, min_group=split.min_size,
+                            comparisons=compare_alphas(levels) if len(levels) >= 2 else (), notes=tuple(notes))
+
+
+@dataclass(frozen=True)
+class ScaleReliabilityReport(ResultMixin):
+    """One scale: the whole sample and its subgroups. ``to_dict`` is the contract block ``scales.<name>``.
+
+    ``by.<column>.<level>`` holds the statistics of that subgroup; ``alpha_comparisons.<column>`` the Feldt
+    tests; ``groups_not_analysed.<column>`` the levels too small to analyse, with their row counts.
+    """
+
+    name: str
+    title: str
+    overall: ScaleReliability
+    groups: tuple[GroupReliability, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        out = {"title": self.title, **self.overall.to_dict()}
+        if self.groups:
+            out["by"] = {g.column: {level: r.to_dict() for level, r in g.levels.items()} for g in self.groups}
+            out["alpha_comparisons"] = {g.column: [c.to_dict() for c in g.comparisons] for g in self.groups}
+            out["groups_not_analysed"] = {g.column: {**g.too_small, **({"(no value)": g.missing} if g.missing else {})}
+                                          for g in self.groups}
+            out["notes"] = [*out["notes"], *(note for g in self.groups for note in g.notes)]
+        return out

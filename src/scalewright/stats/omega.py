@@ -1,0 +1,130 @@
+"""McDonald's omega total from a one-factor model fitted to the item covariance matrix."""
+from __future__ import annotations
+
+import math
+import warnings
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..results import ResultMixin
+from .item_covariance import correlation_from_cov, is_invertible
+
+#: factor_analyzer bounds uniquenesses (of standardized items) below at this value; a fit that ends there is
+#: a Heywood case it clipped silently (REFERENCES.md, known problems)
+FACTOR_ANALYZER_UNIQUENESS_FLOOR = 0.005
+HEYWOOD_TOLERANCE = 1e-3
+
+
+@dataclass(frozen=True)
+class OneFactorFit(ResultMixin):
+    """Loadings and uniquenesses of a one-factor model, in the metric of the item covariances.
+
+    ``loadings`` are signed so that their sum is positive. ``heywood_items`` lists the positions of items
+    whose uniqueness reached the fitting bound (an improper solution). ``method`` is ``ml`` or ``minres``.
+    """
+
+    loadings: np.ndarray
+    uniquenesses: np.ndarray
+    standardized_loadings: np.ndarray
+    method: str
+    converged: bool
+    heywood_items: tuple[int, ...]
+    notes: tuple[str, ...] = field(default=())
+
+
+def _fit_correlation(corr: np.ndarray, method: str) -> tuple[np.ndarray, bool, list[str]]:
+    from factor_analyzer import FactorAnalyzer
+
+    model = FactorAnalyzer(n_factors=1, rotation=None, method=method, use_smc=True, is_corr_matrix=True,
+                           bounds=(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1), impute="drop", svd_method="lapack")
+    with warnings.catch_warnings(record=True) as caught:
+        # factor_analyzer reports non-convergence only as a bare UserWarning; record it instead
+        warnings.simplefilter("always")
+        model.fit(corr)
+    messages = [str(w.message) for w in caught if "Failed to converge" in str(w.message)]
+    loadings = np.asarray(model.loadings_, dtype=np.float64)[:, 0]
+    return loadings, not messages, messages
+
+
+def fit_one_factor(cov: np.ndarray) -> OneFactorFit | None:
+    """Fit a one-factor model by maximum likelihood (factor_analyzer), falling back to minres.
+
+    The model is fitted to the correlation matrix and rescaled to the covariance metric
+    (:math:`\\lambda_j = \\lambda^{*}_j s_j`, :math:`\\psi_j = \\psi^{*}_j s_j^2`); maximum likelihood is
+    scale-invariant, so this equals the fit to the covariance matrix. Returns None when no model can be
+    fitted (fewer than 3 items, an item without variance, a singular matrix).
+
+    References
+    ----------
+    .. [1] Joreskog, K. G. (1967). Some contributions to maximum likelihood factor analysis.
+       Psychometrika, 32, 443-482.
+    """
+    cov = np.asarray(cov, dtype=np.float64)
+    k = cov.shape[0]
+    if k < 3 or not np.isfinite(cov).all() or not (np.diag(cov) > 0).all() or not is_invertible(cov):
+        return None
+    corr = correlation_from_cov(cov)
+    notes: list[str] = []
+    try:
+        standardized, converged, messages = _fit_correlation(corr, "ml")
+        method = "ml"
+    except (np.linalg.LinAlgError, ValueError) as error:
+        standardized, converged, messages = np.full(k, np.nan), False, [str(error)]
+    if not converged or not np.isfinite(standardized).all():
+        notes.append("maximum-likelihood one-factor fit did not converge; minres used instead")
+        try:
+            standardized, converged, messages = _fit_correlation(corr, "minres")
+            method = "minres"
+        except (np.linalg.LinAlgError, ValueError):
+            return None
+        if not np.isfinite(standardized).all():
+            return None
+        if not converged:
+            notes.append("minres one-factor fit did not converge either; omega is uncertain")
+    if standardized.sum() < 0:
+        standardized = -standardized
+    standardized_uniqueness = 1.0 - standardized**2
+    heywood = tuple(int(j) for j in np.flatnonzero(
+        standardized_uniqueness <= FACTOR_ANALYZER_UNIQUENESS_FLOOR + HEYWOOD_TOLERANCE))
+    standardized_uniqueness = np.clip(standardized_uniqueness, 0.0, None)
+    sd = np.sqrt(np.diag(cov))
+    return OneFactorFit(loadings=standardized * sd, uniquenesses=standardized_uniqueness * sd**2,
+                        standardized_loadings=standardized, method=method, converged=converged,
+                        heywood_items=heywood, notes=tuple(notes))
+
+
+def omega_total_from_fit(fit: OneFactorFit | None) -> float:
+    r"""McDonald's omega total of the unweighted sum of the items.
+
+    .. math::
+
+        \omega_t = \frac{\left(\sum_j \lambda_j\right)^2}{\left(\sum_j \lambda_j\right)^2 + \sum_j \psi_j}
+
+    with loadings and uniquenesses in the metric of the item covariances (raw composite).
+
+    References
+    ----------
+    .. [1] McDonald, R. P. (1999). Test Theory: A Unified Treatment. Lawrence Erlbaum.
+    """
+    if fit is None:
+        return math.nan
+    common = float(fit.loadings.sum()) ** 2
+    denominator = common + float(fit.uniquenesses.sum())
+    return common / denominator if denominator > 0 else math.nan
+
+
+def omega_total_from_cov(cov: np.ndarray) -> float:
+    """Omega total of the raw composite from the item covariance matrix (NaN when no model can be fitted)."""
+    return omega_total_from_fit(fit_one_factor(cov))
+
+
+def omega_if_deleted_from_cov(cov: np.ndarray) -> np.ndarray:
+    """Omega total of the remaining items when each item in turn is left out (length-k array)."""
+    cov = np.asarray(cov, dtype=np.float64)
+    k = cov.shape[0]
+    out = np.full(k, np.nan)
+    for j in range(k):
+        keep = np.arange(k) != j
+        out[j] = omega_total_from_cov(cov[np.ix_(keep, keep)])
+    return out
