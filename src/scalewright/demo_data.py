@@ -184,11 +184,22 @@ class DemoTruth:
     careless: np.ndarray
     careless_kind: np.ndarray
     partial: np.ndarray
-    population_reliability: dict[str, float]
-    population_alpha: dict[str, float]
-    omega_continuous: dict[str, float]
     population_size: int = POPULATION_SIZE
     population_seed: int = POPULATION_SEED
+
+    # the population values describe the model, not the sample: computed on first use (about 1.5 s), cached
+
+    @property
+    def population_reliability(self) -> dict[str, float]:
+        return dict(population_values(self.population_size, self.population_seed)[0])
+
+    @property
+    def population_alpha(self) -> dict[str, float]:
+        return dict(population_values(self.population_size, self.population_seed)[1])
+
+    @property
+    def omega_continuous(self) -> dict[str, float]:
+        return dict(population_values(self.population_size, self.population_seed)[2])
 
     def to_dict(self) -> dict[str, Any]:
         return {
@@ -414,7 +425,6 @@ def generate_staff_climate(seed: int = DEFAULT_SEED, n: int = DEFAULT_N) -> tupl
         column[rows] = _as_text(rng, answers[rows, j], labels)
         frame[item] = column
 
-    reliability, alpha, omega = population_values()
     truth = DemoTruth(
         seed=int(seed), n=int(n),
         scales={s.name: s.items for s in SCALES},
@@ -425,7 +435,6 @@ def generate_staff_climate(seed: int = DEFAULT_SEED, n: int = DEFAULT_N) -> tupl
         group_effects=GROUP_EFFECTS,
         true_scores=pd.DataFrame({"staff_id": ids, **{name: eta[:, i] for i, name in enumerate(SCALE_NAMES)}}),
         careless=kind != "", careless_kind=kind, partial=partial,
-        population_reliability=dict(reliability), population_alpha=dict(alpha), omega_continuous=dict(omega),
     )
     return frame, truth
 
