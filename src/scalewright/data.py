@@ -280,7 +280,8 @@ def convert_item(series: pd.Series, fmt: ResponseFormat) -> _Converted:
 
 def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
     shown = repr(value) if isinstance(value, str) else f"{value}"
-    codes = f" or a 'no answer' code ({', '.join(f'{c:g}' for c in fmt.missing_codes)})" if fmt.missing_codes else ""
+    codes = f" and is not a 'no answer' code ({', '.join(f'{c:g}' for c in fmt.missing_codes)})" \
+        if fmt.missing_codes else ""
     if isinstance(value, str) and not _is_number(value):
         known = f"; known answer texts: {', '.join(repr(t) for t in fmt.labels.values())}" if fmt.labels else ""
         return f"{shown} is not an answer text of this item{known}"

@@ -56,7 +56,7 @@ def cli() -> None:
 def main(argv: list[str] | None = None) -> int:
     """Entry point of the console script; never lets a traceback reach the user."""
     try:
-        cli.main(args=argv, prog_name="scalewright", standalone_mode=False)
+        returned = cli.main(args=argv, prog_name="scalewright", standalone_mode=False)
     except ScalewrightError as error:
         click.echo(f"error: {error}", err=True)
         return error.exit_code
@@ -85,7 +85,8 @@ def main(argv: list[str] | None = None) -> int:
         click.echo(f"error: internal error ({type(error).__name__}: {error}); please report it with the "
                    "command you ran (set SCALEWRIGHT_DEBUG=1 to see the details)", err=True)
         return 70
-    return 0
+    # without standalone mode click hands back the code of ctx.exit(); a finished command returns None
+    return returned if isinstance(returned, int) else 0
 
 
 def run() -> None:  # pragma: no cover - console script shim
