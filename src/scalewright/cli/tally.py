@@ -1,0 +1,152 @@
+"""`scalewright tally`: frequency tables of categorical columns and rating items, and reference proportions."""
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..errors import UsageError
+from .common import Inputs, data_argument, emit, input_options, load_inputs, output_options
+
+
+def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dict[str, str]:
+    """``COL=VALUE`` entries, or one bare VALUE when exactly one column is tallied."""
+    out: dict[str, str] = {}
+    for entry in values:
+        column, sep, value = entry.partition("=")
+        if sep and column.strip() in columns:
+            out[column.strip()] = value
+        elif len(columns) == 1:
+            out[columns[0]] = entry
+        else:
+            raise UsageError(f"{option} {entry!r}: with several columns write {option} COLUMN=..., "
+                             f"COLUMN one of {', '.join(columns)}")
+    return out
+
+
+def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
+    from ..data import read_table
+    from ..present.document import InputInfo
+
+    frame = read_table(data)
+    return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=()), frame
+
+
+@click.command("tally")
+@data_argument
+@click.option("--scales", "-s", "scales", type=click.Path(dir_okay=False, path_type=Path),
+              help="Scale file (YAML); needed for --items and to use the answer labels of items.")
+@click.option("--columns", "-c", "columns", default="", metavar="A,B",
+              help="Columns to tally, separated by commas.")
+@click.option("--items", is_flag=True, help="Also tally every rating item of the scale file, in its answer order.")
+@click.option("--order", "orders", multiple=True, metavar="[COLUMN=]a,b,c",
+              help="Order of the categories (repeatable; COLUMN= needed with several columns).")
+@click.option("--expected", "expected", multiple=True, metavar="[COLUMN=]FILE",
+              help="CSV with columns category,proportion: test the column against these reference proportions.")
+@click.option("--min-cell", type=click.IntRange(min=1), default=5, show_default=True,
+              help="Categories with fewer respondents are shown as '< N' and left out of tests.")
+@click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
+              help="Write a bar chart per column (and diverging bars of the items) into this folder.")
+@click.option("--percent", is_flag=True, help="Bar charts of valid percentages instead of counts.")
+@click.option("--pie", is_flag=True, help="Pie charts instead of bar charts (refused above 5 slices).")
+@input_options
+@output_options
+def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tuple[str, ...],
+          expected: tuple[str, ...], min_cell: int, figures: Path | None, percent: bool, pie: bool, lenient: bool,
+          exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+    """Count and percentage tables of categorical columns, with missing answers as their own row.
+
+    Ordered categories keep their order (the scale file's answer labels for items, or --order);
+    cumulative percentages are shown for them. --expected checks the sample against reference
+    proportions (e.g. a workforce census) with a chi-square test, residuals and the effect size w.
+    """
+    from ..expected_file import read_expected
+    from ..present.tally import tally_record, tally_tables
+    from ..stats.tally import answer_distribution, goodness_of_fit
+    from ..stats.tally import tally as count
+
+    names = [c.strip() for c in columns.split(",") if c.strip()]
+    if scales is not None:
+        inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+        spec, responses = inputs.spec, inputs.responses
+        column_of = responses.column
+    else:
+        if items:
+            raise UsageError("--items needs the scale file: give --scales FILE")
+        if exclude is not None:
+            raise UsageError("--exclude needs the scale file (it names the id column): give --scales FILE")
+        inputs, frame = _inputs_without_scales(data)
+        spec = responses = None
+
+        def column_of(name: str):
+            if name not in frame.columns:
+                raise UsageError(f"{data} has no column named {name!r} (columns: {', '.join(map(str, frame.columns))})")
+            return frame[name]
+    if items:
+        names += [item for item in spec.items if item not in names]
+    if not names:
+        raise UsageError("nothing to tally: give --columns A,B or --items")
+    order_of = {c: [v.strip() for v in text.split(",") if v.strip()] for c, text in
+                _per_column(orders, names, "--order").items()}
+    expected_of = _per_column(expected, names, "--expected")
+    tallies, fits = [], []
+    for name in names:
+        is_item = spec is not None and name in spec.items
+        labels = order = None
+        if is_item:
+            response = spec.response_for(name)
+            order = list(response.levels)
+            labels = {level: response.label(level) for level in response.levels}
+        if name in order_of:
+            order = order_of[name]
+        result = count(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
+        tallies.append(result)
+        fit = None
+        if name in expected_of:
+            reference = read_expected(Path(expected_of[name]))
+            fit = goodness_of_fit(result, reference.proportions, source=reference.path, rows=reference.lines)
+        fits.append(fit)
+    body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
+    distributions = {}
+    if items and spec is not None:
+        for scale_name, scale in spec.scales.items():
+            response = scale.response
+            distributions[scale_name] = answer_distribution(
+                responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
+                item_names=scale.items, min_cell=min_cell)
+    if figures is not None:
+        _write_figures(figures, tallies, distributions, percent=percent, pie=pie,
+                       inputs=[p for p in (data, scales) if p is not None])
+    emit(command="tally", inputs=inputs, body=body, tables=tally_tables(tallies, fits, decimals=decimals), fmt=fmt,
+         out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})
+
+
+def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:
+    from ..present.figure_files import save_figure, use_agg
+
+    if not folder.is_dir():
+        raise UsageError(f"cannot write figures: folder {folder} does not exist")
+    use_agg()
+    from ..present.figures_groups import diverging_bars, tally_bars, tally_pie
+
+    import matplotlib.pyplot as plt
+
+    drawn = []  # every figure is drawn before any is written, so a refused pie leaves no partial output
+    try:
+        for t in tallies:
+            drawn.append((tally_pie(t) if pie else tally_bars(t, percent=percent), f"tally_{_safe(t.column)}"))
+        for scale_name, distribution in distributions.items():
+            drawn.append((diverging_bars(distribution), f"items_{_safe(scale_name)}"))
+    except Exception:
+        for ax, _ in drawn:
+            plt.close(ax.figure)
+        plt.close(plt.gcf())
+        raise
+    written = []
+    for ax, stem in drawn:
+        written += save_figure(ax.figure, folder / stem, inputs=inputs)
+    click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
+
+
+def _safe(name: str) -> str:
+    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))
