@@ -321,7 +321,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
     if n_values == 0:
         return ColumnProfile(role=EMPTY, reason="every cell is blank", n_distinct=0, **base), parsed
     if pd.api.types.is_datetime64_any_dtype(series.dtype):
-        return ColumnProfile(role=DATE, reason="dates", n_distinct=int(series.nunique()), **base), parsed
+        return ColumnProfile(role=DATE, reason="values are dates", n_distinct=int(series.nunique()), **base), parsed
     texts = parsed.texts.dropna()
     distinct_texts = tuple(pd.unique(texts))
     numbers = parsed.numbers.dropna()
@@ -351,7 +351,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
                              f"(e.g. {unknown[0]!r})", texts=distinct_texts, **numeric, **base), parsed
     if distinct_texts:
         if _mostly_dates(texts):
-            return ColumnProfile(role=DATE, reason="dates written as text", **base), parsed
+            return ColumnProfile(role=DATE, reason="texts that read as dates", **base), parsed
         if n_distinct == 1:
             return ColumnProfile(role=CONSTANT, reason=f"one value only ({distinct_texts[0]!r})", **base), parsed
         if n_distinct == n_values and not texts.str.contains(r"\s", regex=True).any() \
@@ -363,7 +363,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
         if n_distinct <= MAX_CATEGORY_LEVELS and n_distinct <= n_values / 2:
             return ColumnProfile(role=CATEGORY, reason=f"{n_distinct} text levels", texts=distinct_texts,
                                  **base), parsed
-        return ColumnProfile(role=FREE_TEXT, reason=f"free text ({n_distinct} distinct values)", **base), parsed
+        return ColumnProfile(role=FREE_TEXT, reason=f"{n_distinct} distinct texts", **base), parsed
     # numbers only
     if numbers.nunique() == 1:
         return ColumnProfile(role=CONSTANT, reason=f"one value only ({numbers.iloc[0]:g})", **base), parsed
@@ -379,7 +379,8 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
         return ColumnProfile(role=RATING, reason="answer codes", **numeric, **base), parsed
     span = f"{numbers.min():g} to {numbers.max():g}"
     kind = "whole numbers" if all_integers else "numbers with decimals"
-    return ColumnProfile(role=NUMBER, reason=f"{kind} from {span} (e.g. ages, counts or durations)",
+    return ColumnProfile(role=NUMBER, reason=f"{kind} from {span}, too many values for answers (ages, counts or "
+                         "durations?)",
                          low=float(numbers.min()), high=float(numbers.max()), **base), parsed
 
 

@@ -1,0 +1,40 @@
+"""`scalewright draft`: a first scale file from a data file's columns."""
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from ..errors import UsageError
+from ..files import refuse_input_overwrite, write_atomic
+
+
+@click.command("draft")
+@click.argument("data", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--out", "-o", "out", type=click.Path(dir_okay=False, path_type=Path),
+              help="Write the drafted scale file here (default: print it).")
+@click.option("--force", is_flag=True, help="Replace --out if it exists (never the data file).")
+def draft(data: Path, out: Path | None, force: bool) -> None:
+    """Draft a scale file from DATA: item groups, answer range and labels, suspected reverse items.
+
+    Every choice is written with its evidence as a comment; check them against the questionnaire,
+    then run `scalewright lint DATA --scales FILE`. A short summary goes to stderr.
+    """
+    from ..data import read_table
+    from ..drafting import draft_scales
+    from ..present.draft_yaml import draft_summary_lines, draft_yaml_text
+
+    if out is not None:
+        refuse_input_overwrite(out, [data])
+        if out.exists() and not force:
+            raise UsageError(f"{out} exists; add --force to replace it")
+    result = draft_scales(read_table(data))
+    out_name = str(out) if out is not None else "SCALE_FILE"
+    text = draft_yaml_text(result, data_name=str(data), out_name=out_name)
+    if out is None:
+        click.echo(text, nl=False)
+    else:
+        write_atomic(out, text, inputs=[data])
+        click.echo(f"wrote {out}", err=True)
+    for line in draft_summary_lines(result, data_name=str(data), out_name=out_name):
+        click.echo(line, err=True)
