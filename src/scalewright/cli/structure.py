@@ -1,0 +1,107 @@
+"""`scalewright structure`: KMO, Bartlett, parallel analysis and factor loadings against the intended scales."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import click
+import numpy as np
+
+from .common import data_argument, emit, input_options, load_inputs, output_options, scales_option
+
+ROTATION_CHOICES = ("oblimin", "promax", "varimax", "none")
+METHOD_CHOICES = ("minres", "ml")
+
+
+@dataclass(frozen=True)
+class JointItems:
+    """Every item of the scale file once, keyed, with the scale it is matched against."""
+
+    matrix: np.ndarray
+    item_names: tuple[str, ...]
+    item_scale: dict[str, str]
+    scale_items: dict[str, tuple[str, ...]]
+    notes: tuple[str, ...]
+
+
+def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
+    """One keyed column per item, even when an item belongs to several scales (a total and a subscale).
+
+    Each item is matched against the smallest scale containing it (its subscale rather than the total)
+    and keyed as that scale keys it; a scale keying it otherwise is noted.
+    """
+    from ..scoring import keyed_items
+
+    keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
+    columns, item_scale, notes = [], {}, []
+    for item in spec.items:
+        homes = [s for s in spec.scales.values() if item in s.items]
+        home = min(homes, key=lambda s: s.k)  # min keeps the first of equal size
+        columns.append(keyed[home.name][:, home.items.index(item)])
+        item_scale[item] = home.name
+        directions = {s.is_reversed(item) for s in homes}
+        if len(directions) > 1:
+            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    matrix = np.column_stack(columns) if columns else np.empty((responses.n, 0))
+    return JointItems(matrix=matrix, item_names=tuple(spec.items), item_scale=item_scale,
+                      scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
+                      notes=tuple(notes))
+
+
+def parse_factors(value: str | None) -> int | str | None:
+    if value is None:
+        return None
+    text = value.strip().lower()
+    if text == "scales":
+        return "scales"
+    if text.isdigit() and int(text) >= 1:
+        return int(text)
+    raise click.BadParameter(f"expected a whole number of at least 1 or 'scales', not {value!r}",
+                             param_hint="--factors")
+
+
+@click.command("structure")
+@data_argument
+@scales_option
+@click.option("--factors", "factors", metavar="N|scales", default=None,
+              help="Number of factors: a whole number, or 'scales' for one per scale. Default: parallel analysis.")
+@click.option("--rotation", type=click.Choice(ROTATION_CHOICES), default="oblimin", show_default=True,
+              help="Factor rotation (oblimin and promax let factors correlate).")
+@click.option("--method", type=click.Choice(METHOD_CHOICES), default="minres", show_default=True,
+              help="Factor extraction: minimum residuals or maximum likelihood.")
+@click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
+              help="Random data sets drawn for parallel analysis.")
+@click.option("--seed", type=int, default=20261201, show_default=True, help="Seed of the parallel analysis.")
+@click.option("--min-loading", type=click.FloatRange(0, 1, min_open=True), default=0.40, show_default=True,
+              help="Flag items loading less than this on their own scale's factor.")
+@click.option("--cross-loading", type=click.FloatRange(0, 1, min_open=True), default=0.30, show_default=True,
+              help="Flag items loading more than this on another factor.")
+@input_options
+@output_options
+def structure(data: Path, scales: Path, factors: str | None, rotation: str, method: str, iterations: int,
+              seed: int, min_loading: float, cross_loading: float, lenient: bool, exclude: Path | None,
+              fmt: str | None, out: Path | None, decimals: int) -> None:
+    """Check dimensionality: do each scale's items measure one thing, and the scales different things?
+
+    Reports sampling adequacy (KMO, Bartlett's test), parallel analysis, an
+    exploratory factor analysis with loadings laid against the scale file's
+    scales, and flags for items that sit with the wrong factor. Respondents with
+    any missing answer are set aside (listwise) and counted.
+    """
+    from ..present.structure import structure_tables
+    from ..stats.structure import analyse_structure
+
+    n_factors = parse_factors(factors)
+    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    joint = joint_keyed_items(inputs.responses, inputs.spec)
+    result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
+                               scale_items=joint.scale_items, n_factors=n_factors, rotation=rotation,
+                               method=method, seed=seed, iterations=iterations, min_loading=min_loading,
+                               max_cross_loading=cross_loading)
+    body = result.to_dict()
+    body["notes"] = [*joint.notes, *body["notes"]]
+    options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
+               "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading}
+    emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,
+         decimals=decimals, options=options, preface=joint.notes)
