@@ -536,6 +536,8 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
     fit = fit_one_factor(cov_used) if usable and not constant and not singular and k >= 3 else None
     if usable and k == 2:
         out_notes.append("omega needs at least 3 items for a one-factor model")
+    elif fit is not None and k == 3:
+        out_notes.append("omega if deleted needs at least 4 items (a one-factor model needs 3)")
     elif usable and not constant and not singular and k >= 3 and fit is None:
         out_notes.append("the one-factor model could not be fitted: omega is undefined")
     if fit is not None:
