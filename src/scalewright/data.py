@@ -63,19 +63,43 @@ def _decode_check(path: Path, body: bytes) -> bytes:
     return body
 
 
+def _head(path: Path) -> bytes:
+    """The start of the file up to and including the first line break (or all of a short file)."""
+    with open(path, "rb") as handle:
+        head = handle.read(1 << 16)
+        while b"\n" not in head:
+            more = handle.read(1 << 16)
+            if not more:
+                break
+            head += more
+    return head
+
+
 def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
-    body = _decode_check(path, path.read_bytes())
-    if not body.strip():
+    head = _head(path)
+    if head.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise DataError(Problem(file=str(path), message="the file is UTF-16; save it as UTF-8"))
+    if head.startswith(b"\xef\xbb\xbf"):
+        head = head[3:]
+    if not head.strip() and path.stat().st_size <= len(head) + 3:
         raise DataError(Problem(file=str(path), message="the file is empty"))
-    header = _first_line(body)
+    header = _first_line(head)
+    try:
+        header.encode("utf-8")
+        head.split(b"\n", 1)[0].decode("utf-8")
+    except UnicodeDecodeError:
+        _decode_check(path, path.read_bytes())
     sep = delimiter or sniff_delimiter(header)
     names = next(csv.reader([header], delimiter=sep))
     _check_header(path, [n.strip() for n in names])
     try:
-        frame = pd.read_csv(io.BytesIO(body), sep=sep, engine="pyarrow")
+        # pyarrow reads the file itself (fast, skips a UTF-8 BOM); it keeps bytes it cannot decode as binary
+        frame = pd.read_csv(path, sep=sep, engine="pyarrow")
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
         message = str(error).splitlines()[0] if str(error) else type(error).__name__
         raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
+    if any(frame[c].dtype == object for c in frame.columns):
+        _decode_check(path, path.read_bytes())  # names the first byte that is not UTF-8, if any
     frame.columns = [str(c).strip() for c in frame.columns]
     return frame
 
@@ -246,36 +270,39 @@ def convert_item(series: pd.Series, fmt: ResponseFormat) -> _Converted:
     if pd.api.types.is_bool_dtype(series.dtype):
         series = series.astype(object)
     if pd.api.types.is_numeric_dtype(series.dtype):
-        values = series.to_numpy(dtype=np.float64, na_value=np.nan)
-        unreadable = np.zeros(len(values), dtype=bool)
+        values = np.array(series.to_numpy(dtype=np.float64, na_value=np.nan), dtype=np.float64, copy=True)
     else:
         lookup = _text_lookup(fmt)
         decoded: dict[Any, float] = {}
-        not_answer = np.nan
         for raw in pd.unique(series.dropna()):
             text = normalise_answer_text(raw)
             if text == "":
                 decoded[raw] = np.nan
             elif text in lookup:
                 decoded[raw] = lookup[text]
+                texts += 1
             else:
                 try:
                     decoded[raw] = float(text)
                 except ValueError:
-                    decoded[raw] = np.inf  # marks an unknown text; no real code is infinite
-        mapped = series.map(decoded)
-        values = mapped.to_numpy(dtype=np.float64, na_value=not_answer)
-        unreadable = np.isposinf(values)
-        label_texts = {k for k, v in decoded.items() if normalise_answer_text(k) in lookup}
-        texts = int(series.isin(label_texts).sum()) if label_texts else 0
-    blank = np.isnan(values)
-    is_code = np.isin(values, np.asarray(fmt.missing_codes, dtype=np.float64)) if fmt.missing_codes else \
-        np.zeros(len(values), dtype=bool)
-    outside = ~blank & ~is_code & ((values < fmt.min) | (values > fmt.max) | unreadable)
-    clean = values.copy()
-    clean[is_code | outside] = np.nan
-    return _Converted(values=clean, bad=outside, missing_codes=int(is_code.sum()), blanks=int(blank.sum()),
-                      texts=texts)
+                    decoded[raw] = np.inf  # an unknown text: above any range, so refused below
+        values = np.array(series.map(decoded).to_numpy(dtype=np.float64, na_value=np.nan), copy=True)
+        if texts:
+            label_texts = [k for k in decoded if normalise_answer_text(k) in lookup]
+            texts = int(np.count_nonzero(series.isin(label_texts).to_numpy()))
+    blanks = int(np.count_nonzero(np.isnan(values)))
+    outside = (values < fmt.min) | (values > fmt.max)  # NaN compares False: blanks are not refused
+    missing_codes = 0
+    if fmt.missing_codes:
+        is_code = values == fmt.missing_codes[0]
+        for code in fmt.missing_codes[1:]:
+            is_code |= values == code
+        missing_codes = int(np.count_nonzero(is_code))
+        if missing_codes:
+            outside &= ~is_code
+            values[is_code] = np.nan
+    values[outside] = np.nan
+    return _Converted(values=values, bad=outside, missing_codes=missing_codes, blanks=blanks, texts=texts)
 
 
 def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
@@ -323,7 +350,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
     n = len(frame)
     line_numbers = np.arange(start, start + n)
     ids = _check_ids(path, frame, spec.id_column, line_numbers)
-    items = np.empty((n, len(needed)), dtype=np.float64)
+    items = np.empty((n, len(needed)), dtype=np.float64, order="F")  # filled column by column
     bad_sample: list[Problem] = []
     bad_total = 0
     refused_by_column: dict[str, int] = {}
@@ -340,7 +367,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
             blank_by_column[name] = converted.blanks
         if converted.texts:
             texts_by_column[name] = converted.texts
-        count = int(converted.bad.sum())
+        count = int(np.count_nonzero(converted.bad))
         if count:
             refused_by_column[name] = count
             bad_total += count
@@ -375,7 +402,7 @@ def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numb
         rows = line_numbers[empty]
         raise DataError(Problem(file=str(path), where=f"row {rows[0]}, column {id_column}",
                                 message=f"the id is empty ({int(empty.sum())} row(s) without an id)"))
-    ids = raw.map(_id_text).astype(str)
+    ids = _ids_as_text(raw)
     duplicated = ids.duplicated(keep=False).to_numpy()
     if duplicated.any():
         first_value = ids[duplicated].iloc[0]
@@ -387,10 +414,16 @@ def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numb
     return ids.rename(id_column).reset_index(drop=True)
 
 
-def _id_text(value: Any) -> str:
-    if isinstance(value, float) and value.is_integer():
-        return str(int(value))
-    return str(value).strip()
+def _ids_as_text(raw: pd.Series) -> pd.Series:
+    """Ids as text, whole-number floats without '.0' (a spreadsheet's 17 is the id '17')."""
+    if pd.api.types.is_integer_dtype(raw.dtype):
+        return raw.astype(str)
+    if pd.api.types.is_float_dtype(raw.dtype):
+        values = raw.to_numpy(dtype=np.float64)
+        if np.all(np.mod(values, 1) == 0):
+            return pd.Series(values.astype(np.int64).astype(str), index=raw.index)
+        return raw.astype(str)
+    return raw.astype(str).str.strip()
 
 
 def read_exclusion_list(path: str | Path) -> list[str]:
