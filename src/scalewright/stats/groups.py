@@ -6,6 +6,7 @@ Levels with fewer than ``min_cell`` scores are suppressed: their size and statis
 """
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import warnings
 from collections.abc import Sequence
@@ -266,10 +267,19 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
     return Comparison(**base, **result, notes=tuple(notes + extra_notes))
 
 
+@contextlib.contextmanager
+def _quiet_pingouin():
+    """pingouin 0.7 calls ``DataFrame.dropna(inplace=True)``, which pandas >= 3.1 deprecates; nothing else is hidden."""
+    with warnings.catch_warnings():
+        warnings.filterwarnings("ignore", message="The inplace keyword", category=DeprecationWarning)
+        yield
+
+
 def _levene(data: pd.DataFrame) -> TestResult:
     import pingouin as pg
 
-    row = pg.homoscedasticity(data, dv="score", group="level", method="levene").iloc[0]
+    with _quiet_pingouin():
+        row = pg.homoscedasticity(data, dv="score", group="level", method="levene").iloc[0]
     k = data["level"].nunique()
     return TestResult(name="Levene (median-centred)", statistic=float(row["W"]), pvalue=float(row["pval"]),
                       df=float(k - 1), df2=float(len(data) - k))
@@ -284,8 +294,9 @@ def _two_groups(samples: dict[str, np.ndarray], *, student: bool, confidence_lev
     import pingouin as pg
 
     (name_a, x), (name_b, y) = samples.items()
-    t = pg.ttest(x, y, correction=not student, confidence=confidence_level).iloc[0]
-    u = pg.mwu(x, y, alternative="two-sided").iloc[0]
+    with _quiet_pingouin():
+        t = pg.ttest(x, y, correction=not student, confidence=confidence_level).iloc[0]
+        u = pg.mwu(x, y, alternative="two-sided").iloc[0]
     g = float(pg.compute_effsize(x, y, eftype="hedges"))
     # pingouin rounds this interval to `decimals`; 15 keeps it unrounded (rounding belongs to presentation)
     ci = pg.compute_esci(stat=g, nx=len(x), ny=len(y), eftype="hedges", confidence=confidence_level, decimals=15)
@@ -306,7 +317,10 @@ def _many_groups(samples: dict[str, np.ndarray], *, student: bool) -> dict[str, 
 
     data = _long(samples)
     n, k = len(data), len(samples)
-    classic = pg.anova(data, dv="score", between="level", detailed=True)
+    with _quiet_pingouin():
+        classic = pg.anova(data, dv="score", between="level", detailed=True)
+        welch = pg.welch_anova(data, dv="score", between="level").iloc[0]
+        h = pg.kruskal(data, dv="score", between="level").iloc[0]
     ss_between, ss_within = (float(v) for v in classic["SS"].iloc[:2])
     ms_within = float(classic["MS"].iloc[1])
     omega_sq = (ss_between - (k - 1) * ms_within) / (ss_between + ss_within + ms_within)
@@ -314,17 +328,17 @@ def _many_groups(samples: dict[str, np.ndarray], *, student: bool) -> dict[str, 
         test = TestResult(name="one-way ANOVA F", statistic=float(classic["F"].iloc[0]),
                           df=float(classic["DF"].iloc[0]), df2=float(classic["DF"].iloc[1]),
                           pvalue=float(classic["p_unc"].iloc[0]))
-        pair_table, method = pg.pairwise_tukey(data, dv="score", between="level", effsize="hedges"), "Tukey HSD"
+        with _quiet_pingouin():
+            pair_table = pg.pairwise_tukey(data, dv="score", between="level", effsize="hedges")
+        method = "Tukey HSD"
     else:
-        welch = pg.welch_anova(data, dv="score", between="level").iloc[0]
         test = TestResult(name="Welch's F", statistic=float(welch["F"]), df=float(welch["ddof1"]),
                           df2=float(welch["ddof2"]), pvalue=float(welch["p_unc"]))
-        with np.errstate(divide="ignore", invalid="ignore"), warnings.catch_warnings():
+        with np.errstate(divide="ignore", invalid="ignore"), _quiet_pingouin(), warnings.catch_warnings():
             # a pair of two zero-variance levels has no standard error; its row is NaN and noted below
             warnings.simplefilter("ignore", RuntimeWarning)
             pair_table = pg.pairwise_gameshowell(data, dv="score", between="level", effsize="hedges")
         method = "Games-Howell"
-    h = pg.kruskal(data, dv="score", between="level").iloc[0]
     pvalue_column = "p_tukey" if student else "pval"
     order = list(samples)
     pairs = []
