@@ -303,13 +303,12 @@ def _mostly_dates(texts: pd.Series) -> bool:
 
 def _stem_of(name: str) -> str | None:
     """Shared name stem of numbered or lettered items: wl1 -> wl, support_a -> support, q1_2 -> q1."""
-    numbered = re.fullmatch(r"(.*[A-Za-z].*?)[_\-. ]?(\d+)", name)
-    if numbered:
-        return numbered.group(1).rstrip("_-. ") or None
-    lettered = re.fullmatch(r"(.*[A-Za-z0-9].*?)[_\-. ]([A-Za-z])", name)
-    if lettered:
-        return lettered.group(1).rstrip("_-. ") or None
-    return None
+    found = re.fullmatch(r"(.*[A-Za-z].*?)[_\-. ]?(\d+)", name) or \
+        re.fullmatch(r"(.*[A-Za-z0-9].*?)[_\-. ]([A-Za-z])", name)
+    if not found:
+        return None
+    # punctuation around a stem ("yes: 3", "#yes 4") is decoration, not part of the name
+    return re.sub(r"^[^A-Za-z0-9]+|[^A-Za-z0-9]+$", "", found.group(1)) or None
 
 
 def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed]:
