@@ -242,9 +242,8 @@ def _is_code_like(value: float, rest_low: float) -> bool:
     """9, 99, 999, 8, 88, 98 ... or a negative number below non-negative answers (common practice, no source)."""
     if not float(value).is_integer():
         return False
-    if value < 0:
-        return rest_low >= 0
-    return re.fullmatch(r"9+|8+|9+8", str(int(value))) is not None
+    nines = re.fullmatch(r"9+|8+|9+8", str(abs(int(value)))) is not None
+    return nines or (value < 0 <= rest_low)
 
 
 def _peel_codes(numbers: pd.Series) -> tuple[tuple[float, ...], tuple[float, ...], np.ndarray]:
@@ -477,7 +476,7 @@ def _codes_for_texts(profiles: list[ColumnProfile], family: str, positions: dict
                          "check that no answer option went unchosen (codes would shift)")
         return labels, notes
     a, b = int(min(lows)), int(max(highs))
-    best: tuple[tuple[int, int, int], int, tuple[float, ...]] | None = None
+    best: tuple[tuple[int, ...], int, tuple[float, ...]] | None = None
     for template in _TEMPLATES[family]:
         size = len(template)
         if not set(seen) <= set(template) or size < b - a + 1:
@@ -485,16 +484,20 @@ def _codes_for_texts(profiles: list[ColumnProfile], family: str, positions: dict
         for preference, start in enumerate(dict.fromkeys((1, 0, a, b - size + 1))):
             if start > a or start + size - 1 < b:
                 continue
-            covered = set(range(a, b + 1)) | {start + template.index(p) for p in seen}
-            full = covered == set(range(start, start + size))
-            key = (0 if full else 1, size, preference)
+            text_codes = {start + template.index(p) for p in seen}
+            full = set(range(a, b + 1)) | text_codes == set(range(start, start + size))
+            # a wording exactly as wide as the numbers means texts spell codes in that range; otherwise the
+            # texts extend the range and should sit outside the numbers seen
+            inside = sum(a <= code <= b for code in text_codes)
+            exact = size == b - a + 1
+            key = (0 if full else 1, 0 if exact else 1, 0 if exact else inside, size, preference)
             if best is None or key < best[0]:
                 best = (key, start, template)
     if best is None:
         notes.append(f"the answer texts ({', '.join(repr(t) for t in first_seen.values())}) do not fit the numeric "
                      f"codes {a}..{b} of the same columns; no labels written")
         return {}, notes
-    (not_full, size, _), start, template = best
+    (not_full, _, _, size, _), start, template = best
     labels = {start + i: by_position[p][0] if p in by_position else _canonical_phrase(family, p)
               for i, p in enumerate(template)}
     if not_full or size > b - a + 1:
