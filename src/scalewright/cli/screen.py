@@ -1,0 +1,116 @@
+"""`scalewright screen`: careless-responding and data-quality flags per respondent."""
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+
+from .common import choose_format, data_argument, emit, input_options, load_inputs, output_options, scales_option
+
+
+def questionnaire_order(data: Path | None, item_names: tuple[str, ...]) -> list[int]:
+    """Positions of ``item_names`` in the order their columns stand in the data file (the order shown)."""
+    if data is None:
+        return list(range(len(item_names)))
+    from ..data import read_table
+
+    if data.suffix.lower() in (".csv", ".tsv", ".txt"):
+        import pandas as pd
+
+        header = list(pd.read_csv(data, nrows=0, sep=None if data.suffix.lower() == ".txt" else
+                                  ("\t" if data.suffix.lower() == ".tsv" else ","), engine="python").columns)
+    else:
+        header = list(read_table(data).columns)
+    rank = {str(name).strip(): position for position, name in enumerate(header)}
+    return sorted(range(len(item_names)), key=lambda i: rank.get(item_names[i], len(header) + i))
+
+
+def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
+                   data_path: Path | None = None) -> Any:
+    """:class:`~scalewright.stats.quality.ScreenResult` of the responses (plain function; the report uses it)."""
+    import numpy as np
+
+    from ..errors import DataError
+    from ..scoring import keyed_items
+    from ..stats.quality import ScreenThresholds, screen_respondents
+
+    order = questionnaire_order(data_path, tuple(responses.item_names))
+    raw = responses.items[:, order]
+    keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
+    durations = None
+    if duration_column:
+        import pandas as pd
+
+        column = responses.column(duration_column)
+        values = pd.to_numeric(column, errors="coerce")
+        bad = values.isna() & column.notna()
+        if bad.any():
+            first = int(np.flatnonzero(bad.to_numpy())[0])
+            raise DataError(f"{responses.path}: column {duration_column!r}, row {int(responses.line_numbers[first])}: "
+                            f"{column.iloc[first]!r} is not a number of seconds or minutes")
+        durations = values.to_numpy(dtype=float, na_value=np.nan)
+    return screen_respondents(raw, keyed, ids=[str(i) for i in responses.ids],
+                              thresholds=thresholds or ScreenThresholds(), durations=durations)
+
+
+@click.command("screen")
+@data_argument
+@scales_option
+@click.option("--duration-column", metavar="COLUMN", default=None,
+              help="Column holding each respondent's completion time; enables the 'fast' flag.")
+@click.option("--speed-share", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=1 / 3,
+              show_default="1/3", help="Flag 'fast' below this share of the median completion time.")
+@click.option("--flagged-only", is_flag=True,
+              help="List (and with --out FILE.csv write) only the flagged respondents.")
+@click.option("--long-run-share", type=click.FloatRange(0, 1, min_open=True), default=0.6, show_default=True,
+              help="Flag 'long-run' when one answer repeats over at least this share of the items.")
+@click.option("--mahalanobis-p", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.001,
+              show_default=True, help="Flag 'far-from-sample' below this chi-square p of the Mahalanobis distance.")
+@click.option("--mahalanobis-p-weak", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.05,
+              show_default=True, help="Weak signal 'somewhat-far' below this p.")
+@click.option("--even-odd-min", type=click.FloatRange(-1, 1), default=0.3, show_default=True,
+              help="Weak signal 'uneven-halves' below this even-odd consistency.")
+@click.option("--person-total-min", type=click.FloatRange(-1, 1), default=0.15, show_default=True,
+              help="Weak signal 'against-sample' below this person-total correlation.")
+@click.option("--missing-share-max", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.5,
+              show_default=True, help="List 'many-missing' above this share of unanswered items.")
+@click.option("--duplicate-min-items", type=click.IntRange(min=1), default=10, show_default=True,
+              help="Flag identical answer rows only when at least this many items are answered.")
+@input_options
+@output_options
+def screen(data: Path, scales: Path, duration_column: str | None, speed_share: float, flagged_only: bool,
+           long_run_share: float, mahalanobis_p: float, mahalanobis_p_weak: float, even_odd_min: float,
+           person_total_min: float, missing_share_max: float, duplicate_min_items: int, lenient: bool,
+           exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+    """Flag respondents whose answers look careless or whose records look suspicious.
+
+    With --out FILE.csv the per-respondent table is written with the id first, so
+    `--exclude FILE.csv` of any other command reads it directly (use --flagged-only
+    to list only the flagged). A flag marks a record to look at, not a verdict on a person.
+    """
+    from ..files import write_atomic
+    from ..present.quality import respondents_csv, screen_tables
+    from ..stats.quality import ScreenThresholds
+
+    thresholds = ScreenThresholds(
+        long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,
+        person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
+        speed_share=speed_share, duplicate_min_items=duplicate_min_items)
+    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds,
+                            data_path=data)
+    document = result.to_dict()
+    if out is not None and fmt is None and out.suffix.lower() == ".csv":
+        write_atomic(out, respondents_csv(document, flagged_only=flagged_only), inputs=[data, scales])
+        written = result.n if not flagged_only else int(result.flagged.sum())
+        click.echo(f"wrote {out} ({written} respondent(s); {int(result.flagged.sum())} of {result.n} flagged)",
+                   err=True)
+        for note in (*inputs.notes, *document["notes"]):
+            click.echo(f"note: {note}", err=True)
+        return
+    if flagged_only:
+        document["respondents"] = [r for r in document["respondents"] if r["flagged"]]
+    emit(command="screen", inputs=inputs, body=document, tables=screen_tables(result.to_dict(), flagged_only=True),
+         fmt=choose_format(fmt, out), out=out, decimals=decimals,
+         options={"duration_column": duration_column, "flagged_only": flagged_only, "excluded": inputs.excluded})
