@@ -167,3 +167,12 @@ def test_data_errors_end_in_one_line_exit_4_and_no_traceback(write_file, tmp_pat
     assert code == 4 and err.startswith("error: ") and err.count("\n") == 1
     assert "row 4, column wl1" in err and "Traceback" not in err
     assert folder_fingerprint(tmp_path) == before
+
+
+def test_ordered_group_levels_become_ordered_categories(write_file):
+    scales = BASIC_SCALES.replace("groups: [shift]", "groups: [{shift: [night, day]}]")
+    spec = load_spec(write_file("s.yaml", scales))
+    shift = read_responses(write_file("d.csv", BASIC_DATA), spec).column("shift")
+    assert list(shift.cat.categories) == ["night", "day"] and shift.cat.ordered
+    with pytest.raises(DataError, match="row 2, column shift.*'dawn' is not one of the levels"):
+        read_responses(write_file("e.csv", BASIC_DATA.replace("s01,day", "s01,dawn")), spec)

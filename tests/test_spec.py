@@ -193,3 +193,14 @@ def test_other_commands_report_a_bad_scale_file_in_one_error_line(basic_files, w
     assert code == 3
     assert err.startswith("error: ") and err.count("\n") == 1 and "bad.yaml:" in err
     assert folder_fingerprint(tmp_path) == before
+
+
+def test_ordered_group_levels(write_file):
+    spec = load_spec(write_file("s.yaml", "groups: [shift, {tenure: [new, mid, long]}]\n"
+                                          "response: {min: 1, max: 5}\nscales: {a: {items: [x, y]}}\n"))
+    assert spec.groups == ("shift", "tenure")
+    assert dict(spec.group_levels) == {"tenure": ("new", "mid", "long")}
+    found = problems_of(write_file, "groups: [{tenure: [new, new]}, shift, shift]\n"
+                                    "response: {min: 1, max: 5}\nscales: {a: {items: [x, y]}}\n")
+    assert any("a level is listed twice" in p for p in found)
+    assert any("'shift' is listed twice" in p for p in found)

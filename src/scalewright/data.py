@@ -384,11 +384,27 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
                                                   "--lenient to treat them as missing")
         raise DataError([*bad_sample, summary] if bad_total > 1 else bad_sample)
     rest = frame.drop(columns=[c for c in needed if c in frame.columns])
+    for column, order in spec.group_levels.items():
+        rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
     return Responses(path=str(path), items=items, item_names=tuple(needed), frame=rest.reset_index(drop=True),
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
                      refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
                      missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
                      texts_by_column=texts_by_column)
+
+
+def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],
+                    line_numbers: np.ndarray, *, lenient: bool) -> pd.Series:
+    """A group column as an ordered categorical in the scale file's order; unknown levels are refused."""
+    text = values.astype("string").str.strip()
+    text = text.mask(text == "")
+    unknown = text.notna() & ~text.isin(order)
+    if unknown.any() and not lenient:
+        first = int(np.flatnonzero(unknown.to_numpy())[0])
+        raise DataError(Problem(file=str(path), where=f"row {line_numbers[first]}, column {column}",
+                                message=f"{text.iloc[first]!r} is not one of the levels the scale file lists for "
+                                        f"{column} ({', '.join(order)}); {int(unknown.sum())} such value(s)"))
+    return pd.Series(pd.Categorical(text.where(~unknown), categories=list(order), ordered=True), name=column)
 
 
 def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numbers: np.ndarray) -> pd.Series:

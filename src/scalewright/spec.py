@@ -111,6 +111,8 @@ class ScaleSpec:
     scales: Mapping[str, Scale]
     path: str
     version: int = 1
+    #: group column -> its levels in order, for columns given as ``{column: [level, ...]}`` in ``groups``
+    group_levels: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
 
     @property
     def items(self) -> tuple[str, ...]:
@@ -431,11 +433,7 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
             checker.problem(keys["version"][1], "version", f"version {value} is not supported; this tool reads version 1")
     title = checker.text(keys["title"][1], "title") if "title" in keys else None
     id_column = checker.text(keys["id_column"][1], "id_column") if "id_column" in keys else None
-    groups: list[str] = []
-    if "groups" in keys:
-        for group, _ in checker.text_list(keys["groups"][1], "groups") or []:
-            if group not in groups:
-                groups.append(group)
+    groups, group_levels = _groups(checker, keys["groups"][1]) if "groups" in keys else ([], {})
     checker.top_response_given = "response" in keys
     base = checker.response(keys["response"][1], "response", None) if "response" in keys else None
     scales: dict[str, Scale] = {}
@@ -453,9 +451,47 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
     if checker.problems:
         return None, checker.problems
     spec = ScaleSpec(title=title or Path(path).stem, id_column=id_column, groups=tuple(groups),
+                     group_levels=MappingProxyType(group_levels),
                      response=base or next(iter(scales.values())).response,
                      scales=MappingProxyType(scales), path=path_text, version=version)
     return spec, []
+
+
+def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tuple[str, ...]]]:
+    """``groups``: column names, each either plain or ``{column: [levels in order]}``."""
+    groups: list[str] = []
+    levels: dict[str, tuple[str, ...]] = {}
+    if isinstance(node, yaml.ScalarNode) and checker.scalar(node) is None:
+        return groups, levels
+    if not isinstance(node, yaml.SequenceNode):
+        checker.problem(node, "groups", "expected a list of column names, e.g. [shift, site]")
+        return groups, levels
+    for index, child in enumerate(node.value):
+        where = f"groups[{index}]"
+        if isinstance(child, yaml.MappingNode):
+            entry = checker.mapping(child, where, None) or {}
+            if len(entry) != 1:
+                checker.problem(child, where, "an ordered group is one column with its levels, e.g. "
+                                              "{tenure: [under 1 year, 1-4 years, 5+ years]}")
+                continue
+            (column, (_, levels_node)), = entry.items()
+            ordered = [text for text, _ in checker.text_list(levels_node, f"{where}.{column}") or []]
+            if len(set(ordered)) != len(ordered):
+                checker.problem(levels_node, f"{where}.{column}", "a level is listed twice")
+                continue
+            if not ordered:
+                checker.problem(levels_node, f"{where}.{column}", "the list of levels is empty")
+                continue
+            levels[column] = tuple(ordered)
+        else:
+            column = checker.text(child, where)
+            if column is None:
+                continue
+        if column in groups:
+            checker.problem(child, where, f"group column {column!r} is listed twice")
+        else:
+            groups.append(column)
+    return groups, levels
 
 
 def _check_across_scales(checker: _Checker, scales: dict[str, Scale], id_column: str | None,

@@ -1,6 +1,7 @@
 """Splitting respondents into subgroup levels, naming (not analysing) the ones too small."""
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -36,16 +37,21 @@ class SubgroupSplit(ResultMixin):
         return out
 
 
+def natural_key(text: object) -> list:
+    """Sort key that puts '5-9 years' before '10+ years': runs of digits compare as numbers."""
+    return [(0, int(part), "") if part.isdigit() else (1, 0, part.casefold())
+            for part in re.split(r"(\d+)", str(text)) if part]
+
+
 def level_order(values: pd.Series) -> list:
-    """Levels in their natural order: categorical order if given, numbers numerically, else text order."""
+    """Levels in their natural order: categorical order if given, numbers numerically, else natural text order."""
     present = values.dropna()
     if isinstance(values.dtype, pd.CategoricalDtype):
         return [c for c in values.cat.categories if (present == c).any()]
     uniques = list(pd.unique(present))
-    try:
+    if all(isinstance(u, (int, float, np.integer, np.floating)) for u in uniques):
         return sorted(uniques)
-    except TypeError:
-        return sorted(uniques, key=str)
+    return sorted(uniques, key=natural_key)
 
 
 def level_name(level) -> str:
@@ -57,7 +63,8 @@ def level_name(level) -> str:
 def split_by(values: pd.Series, *, min_size: int = 10, column: str | None = None) -> SubgroupSplit:
     """Row positions of each level of ``values``; levels with fewer than ``min_size`` rows are set apart."""
     values = pd.Series(values).reset_index(drop=True)
-    if values.dtype == object or pd.api.types.is_string_dtype(values.dtype):
+    if not isinstance(values.dtype, pd.CategoricalDtype) and (
+            values.dtype == object or pd.api.types.is_string_dtype(values.dtype)):
         stripped = values.astype("string").str.strip()
         values = stripped.mask(stripped == "")
     missing_mask = values.isna().to_numpy()
