@@ -336,7 +336,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
     rating_numbers = len(answers) == 0 or (integer_answers and high - low + 1 <= MAX_RATING_POINTS)
     numeric = {"low": low, "high": high, "codes": codes, "odd_values": odd}
 
-    if distinct_texts and not numbers.empty or known:
+    if (distinct_texts and not numbers.empty) or known:
         unknown_count = int(texts.isin(unknown).sum())
         if not rating_numbers:
             return ColumnProfile(role=UNCLEAR, reason="numbers with a wide range mixed with texts",
