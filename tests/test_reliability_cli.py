@@ -1,0 +1,148 @@
+"""`scalewright reliability` end to end on small generated files."""
+from __future__ import annotations
+
+import csv
+import io
+import json
+
+import numpy as np
+import pytest
+
+from scalewright.cli import main
+from scalewright.stats.reliability import cronbach_alpha_from_cov
+
+SCALES = """\
+version: 1
+title: Staff climate survey
+id_column: staff_id
+response: {min: 1, max: 5, missing_codes: [9]}
+scales:
+  workload:
+    title: Workload strain
+    items: [wl1, wl2, wl3, wl4]
+    reverse: [wl4]
+  climate:
+    title: Team climate
+    items: [cl1, cl2, cl3, cl4, cl5]
+"""
+
+
+def make_rows(n: int, rng: np.random.Generator, *, miskey_cl3: bool = False) -> tuple[str, np.ndarray, np.ndarray]:
+    factor = rng.standard_normal((n, 2))
+
+    def items(column: int, k: int) -> np.ndarray:
+        latent = 0.75 * factor[:, [column]] + 0.66 * rng.standard_normal((n, k))
+        return 1 + (latent[:, :, None] > np.array([-1.3, -0.4, 0.4, 1.3])).sum(axis=2)
+
+    workload = items(0, 4)
+    workload[:, 3] = 6 - workload[:, 3]  # worded the other way, declared under `reverse`
+    climate = items(1, 5)
+    if miskey_cl3:
+        climate[:, 2] = 6 - climate[:, 2]  # worded the other way but not declared
+    shift = np.where(np.arange(n) % 2 == 0, "day", "night").astype(object)
+    shift[:4] = "on-call"
+    lines = ["staff_id,shift,wl1,wl2,wl3,wl4,cl1,cl2,cl3,cl4,cl5"]
+    for i in range(n):
+        lines.append(",".join([f"s{i:04d}", shift[i], *map(str, workload[i]), *map(str, climate[i])]))
+    return "\n".join(lines) + "\n", workload.astype(float), climate.astype(float)
+
+
+@pytest.fixture
+def files(write_file):
+    text, workload, climate = make_rows(240, np.random.default_rng(77), miskey_cl3=True)
+    return write_file("climate.csv", text), write_file("climate.yaml", SCALES), workload, climate
+
+
+def run_json(capsys, *args) -> dict:
+    assert main(list(args)) == 0
+    return json.loads(capsys.readouterr().out)
+
+
+def test_json_contract_and_values(files, capsys):
+    # reference: numpy covariance of the keyed items (wl4 reversed as 6 - x) for alpha; the contract of DESIGN.md
+    data, scales, workload, climate = files
+    document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
+    assert document["tool"]["name"] == "scalewright" and document["command"] == "reliability"
+    block = document["scales"]["workload"]
+    for key in ("n_used", "k", "alpha", "alpha_ci", "alpha_standardized", "omega_total", "lambda2", "lambda6",
+                "mean_inter_item_r", "items", "flags", "notes"):
+        assert key in block
+    keyed = workload.copy()
+    keyed[:, 3] = 6 - keyed[:, 3]
+    assert block["alpha"] == pytest.approx(cronbach_alpha_from_cov(np.cov(keyed, rowvar=False)), rel=1e-12)
+    assert block["n_used"] == 240 and block["k"] == 4
+    for key in ("mean", "sd", "item_rest_r", "alpha_if_deleted", "omega_if_deleted", "missing_pct", "floor_pct",
+                "ceiling_pct"):
+        assert key in block["items"]["wl1"]
+    # counts are of the answer codes as given (wl4 before reverse keying)
+    given = {str(v): int((workload[:, 3] == v).sum()) for v in range(1, 6)}
+    assert block["items"]["wl4"]["counts"] == given
+    codes = {(f["item"], f["code"]) for f in document["scales"]["climate"]["flags"]}
+    assert ("cl3", "miskey-suspect") in codes
+    assert not [f for f in block["flags"] if f["code"] in ("miskey-suspect", "weak-item")]
+
+
+def test_by_subgroup_and_small_level_named(files, capsys):
+    # reference: Feldt (1969) comparisons present for the two analysed levels; 'on-call' (4 rows) below --min-group
+    data, scales, _, _ = files
+    document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "--by", "shift", "-f", "json",
+                        "--bootstrap", "50", "--seed", "3")
+    block = document["scales"]["workload"]
+    assert set(block["by"]["shift"]) == {"day", "night"}
+    assert block["groups_not_analysed"]["shift"] == {"on-call": 4}
+    assert len(block["alpha_comparisons"]["shift"]) == 1
+    assert block["bootstrap"]["n_resamples"] == 50 and document["options"]["seed"] == 3
+    assert any("on-call" in note for note in block["notes"])
+
+
+def test_pairwise_is_said_in_output(write_file, capsys):
+    text, _, _ = make_rows(120, np.random.default_rng(5))
+    lines = text.splitlines()
+    lines[3] = lines[3].rsplit(",", 1)[0] + ","  # one blank answer
+    data = write_file("gaps.csv", "\n".join(lines) + "\n")
+    scales = write_file("s.yaml", SCALES)
+    listwise = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
+    assert listwise["scales"]["climate"]["n_used"] == 119 and listwise["scales"]["climate"]["n_set_aside"] == 1
+    pairwise = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json", "--pairwise")
+    assert pairwise["scales"]["climate"]["missing_handling"] == "pairwise"
+    assert any("pairwise" in note for note in pairwise["scales"]["climate"]["notes"])
+
+
+@pytest.mark.parametrize("fmt", ["table", "md", "csv"])
+def test_text_renderings(files, capsys, fmt):
+    data, scales, _, _ = files
+    assert main(["reliability", str(data), "--scales", str(scales), "-f", fmt]) == 0
+    out = capsys.readouterr().out
+    assert "cl3" in out and "miskey-suspect" in out
+    if fmt == "csv":
+        rows = list(csv.DictReader(io.StringIO(out)))
+        assert sum(r["table"] == "reliability" for r in rows) == 2
+        assert sum(r["table"] == "reliability_items" for r in rows) == 9
+        float(next(r for r in rows if r["table"] == "reliability")["alpha"])  # unrounded number
+
+
+def test_degenerate_scale_still_produces_output(write_file, capsys):
+    # a constant item and a one-item scale: nulls with notes, the rest still computed
+    rng = np.random.default_rng(2)
+    lines = ["staff_id,a1,a2,a3,b1"]
+    for i in range(30):
+        lines.append(f"s{i},{rng.integers(1, 6)},{rng.integers(1, 6)},3,{rng.integers(1, 6)}")
+    data = write_file("d.csv", "\n".join(lines) + "\n")
+    scales = write_file("d.yaml", "version: 1\ntitle: t\nid_column: staff_id\nresponse: {min: 1, max: 5}\n"
+                                  "scales:\n  a:\n    title: A\n    items: [a1, a2, a3]\n"
+                                  "  b:\n    title: B\n    items: [b1]\n")
+    document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
+    assert document["scales"]["b"]["alpha"] is None and document["scales"]["b"]["notes"]
+    assert document["scales"]["a"]["omega_total"] is None
+    assert document["scales"]["a"]["items"]["a3"]["item_rest_r"] is None
+    assert document["scales"]["a"]["alpha"] is not None
+
+
+def test_bad_input_is_one_error_line_and_writes_nothing(files, capsys, tmp_path):
+    data, scales, _, _ = files
+    out = tmp_path / "result.json"
+    assert main(["reliability", str(data), "--scales", str(scales), "--by", "nosuch", "-o", str(out)]) != 0
+    err = capsys.readouterr().err
+    assert err.startswith("error:") and "nosuch" in err and not out.exists()
+    assert main(["reliability", str(data), "--scales", str(scales), "--confidence-level", "1.5"]) != 0
+    assert capsys.readouterr().err.startswith("error:")
