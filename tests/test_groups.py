@@ -11,7 +11,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy import stats
 
-from scalewright.errors import DataError, UsageError
+from scalewright.errors import UsageError
 from scalewright.present.groups import compare_tables, comparison_record, comparison_sentence
 from scalewright.present.render import render_csv, render_json, render_markdown, render_text
 from scalewright.stats.groups import compare_groups, holm, pvalue_holm
@@ -223,7 +223,7 @@ def test_missing_scores_and_groups_are_counted():
 
 
 def test_bad_input_raises_project_errors():
-    with pytest.raises(DataError, match="differ in length"):
+    with pytest.raises(UsageError, match="differ in length"):
         compare_groups(np.arange(5.0), pd.Series(list("aabbb")[:4]))
     with pytest.raises(UsageError, match="min_cell"):
         compare_groups(np.arange(5.0), pd.Series(list("aabbb")), min_cell=0)

@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..errors import DataError, UsageError
+from ..errors import UsageError
 from ..results import ResultMixin, to_jsonable
 from .subgroups import split_by
 
@@ -219,7 +219,7 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
     scores = np.asarray(scores, dtype=float)
     groups = pd.Series(groups).reset_index(drop=True)
     if scores.ndim != 1 or len(scores) != len(groups):
-        raise DataError(f"scores ({scores.shape}) and the grouping column ({len(groups)} rows) differ in length")
+        raise UsageError(f"scores ({scores.shape}) and the grouping column ({len(groups)} rows) differ in length")
     column = column or (str(groups.name) if groups.name is not None else "group")
     has_score = np.isfinite(scores)
     split = split_by(groups, min_size=0, column=column)

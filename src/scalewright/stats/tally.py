@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..errors import DataError, UsageError
+from ..errors import DataError, Problem, UsageError
 from ..results import ResultMixin, to_jsonable
 from .groups import suppressed_text
 from .subgroups import level_name, level_order
@@ -97,7 +97,7 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
     values : pandas.Series
         One value per respondent; NaN, None and blank text are missing.
     order : sequence, keyword-only
-        The categories in their order. Every value present must be listed (else ``DataError``); listed
+        The categories in their order. Every value present must be listed (else ``UsageError``); listed
         categories nobody chose get a zero row. Without it the order is that of ``labels``, else the natural
         order (a categorical's order, numbers numerically, text alphabetically).
     labels : mapping, keyword-only
@@ -135,7 +135,7 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
             raise UsageError(f"the order for {column} lists a category twice: {', '.join(categories)}")
         unknown = [c for c in counts.index if c not in categories]
         if unknown:
-            raise DataError(f"column {column} has value(s) {', '.join(map(repr, unknown))} that the given order "
+            raise UsageError(f"column {column} has value(s) {', '.join(map(repr, unknown))} that the given order "
                             f"({', '.join(categories)}) does not list")
     else:
         natural = [level_name(v) for v in level_order(series)]
@@ -253,30 +253,35 @@ def check_expected(tally_result: Tally, expected: Mapping[str, float], *, source
     """Validated reference proportions keyed by the tally's category names; ``DataError`` names source and row."""
     rows = rows or {}
 
-    def where(category: str) -> str:
-        return f"{source}:{rows[category]}" if category in rows else source
+    def problem(raw: Any, message: str) -> DataError:
+        return DataError(Problem(file=source, line=rows.get(raw), message=message))
 
     known = [c.category for c in tally_result.categories]
     proportions: dict[str, float] = {}
     for raw, value in expected.items():
         category = level_name(raw)
         if category not in known:
-            raise DataError(f"{where(raw)}: category {category!r} does not occur in {tally_result.column} "
-                            f"(categories: {', '.join(known)})")
+            raise problem(raw, f"category {category!r} does not occur in {tally_result.column} "
+                               f"(categories: {', '.join(known)})")
         try:
             number = float(value)
         except (TypeError, ValueError):
-            raise DataError(f"{where(raw)}: proportion {value!r} for {category!r} is not a number") from None
-        if not np.isfinite(number) or number < 0 or number > 1:
-            raise DataError(f"{where(raw)}: proportion {value!r} for {category!r} must lie between 0 and 1")
+            raise problem(raw, f"proportion {value!r} for {category!r} is not a number") from None
         proportions[category] = number
+    total = sum(proportions.values())
+    if abs(total - 100) < 1 and all(0 <= v <= 100 for v in proportions.values()):
+        raise DataError(Problem(file=source, message=f"proportions sum to {total:g}, not 1 (they look like "
+                                                     "percentages: give proportions between 0 and 1)"))
+    for raw, value in expected.items():
+        number = proportions[level_name(raw)]
+        if not np.isfinite(number) or number < 0 or number > 1:
+            raise problem(raw, f"proportion {value!r} for {level_name(raw)!r} must lie between 0 and 1")
     absent = [c for c in known if c not in proportions]
     if absent:
-        raise DataError(f"{source}: no proportion given for {', '.join(map(repr, absent))} of {tally_result.column}")
-    total = sum(proportions.values())
+        raise DataError(Problem(file=source, message=f"no proportion given for {', '.join(map(repr, absent))} "
+                                                     f"of {tally_result.column}"))
     if abs(total - 1) > PROPORTION_TOLERANCE:
-        hint = " (they look like percentages: give proportions between 0 and 1)" if abs(total - 100) < 1 else ""
-        raise DataError(f"{source}: proportions sum to {total:g}, not 1{hint}")
+        raise DataError(Problem(file=source, message=f"proportions sum to {total:g}, not 1"))
     return proportions
 
 
@@ -392,14 +397,14 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
     """Tally every column of an n x p answer-code matrix (NaN missing) over the same answer levels.
 
     Pass raw codes to show what respondents answered, or keyed codes to line items up in one direction.
-    Codes outside ``levels`` raise ``DataError``.
+    Codes outside ``levels`` raise ``UsageError`` (the data reader refuses them first).
     """
     matrix = np.asarray(items, dtype=float)
     if matrix.ndim != 2:
-        raise DataError(f"the item matrix must have two dimensions, got shape {matrix.shape}")
+        raise UsageError(f"the item matrix must have two dimensions, got shape {matrix.shape}")
     names = list(item_names) if item_names is not None else [f"item{j + 1}" for j in range(matrix.shape[1])]
     if len(names) != matrix.shape[1]:
-        raise DataError(f"{len(names)} item names for {matrix.shape[1]} item columns")
+        raise UsageError(f"{len(names)} item names for {matrix.shape[1]} item columns")
     levels = [int(v) for v in levels]
     label_map = {int(k): str(v) for k, v in (labels or {}).items()}
     tallies = tuple(tally(pd.Series(matrix[:, j], name=name), order=levels,
