@@ -203,3 +203,19 @@ def test_awkward_column_names_survive_the_yaml(tmp_path):
     spec = load_spec(out)
     assert list(spec.scales["yes"].items) == names and spec.groups == ("null",)
     assert main(["lint", str(path), "--scales", str(out)]) == 0
+
+
+def test_draft_recovers_the_demo_survey_of_the_project(tmp_path):
+    # a second generator with known truth, written independently of the draft (the project's demo data)
+    from scalewright.demo_data import generate_staff_climate
+
+    frame, truth = generate_staff_climate()
+    path = tmp_path / "demo.csv"
+    frame.to_csv(path, index=False)
+    draft = draft_scales(read_table(path))
+    found = sorted((sorted(s.items), sorted(s.reverse_items)) for s in draft.scales)
+    expected = sorted((sorted(items), sorted(truth.reverse[name])) for name, items in truth.scales.items())
+    assert found == expected
+    out = tmp_path / "demo.yaml"
+    assert main(["draft", str(path), "--out", str(out)]) == 0
+    assert main(["lint", str(path), "--scales", str(out)]) == 0

@@ -146,3 +146,18 @@ def test_ambiguous_columns_are_reported_in_the_draft():
 def test_a_table_without_rows_is_refused():
     with pytest.raises(DataError, match="no rows"):
         draft_scales(pd.DataFrame({"a": []}))
+
+
+def test_codes_among_answer_texts_are_missing_codes():
+    words = ["Strongly disagree", "Disagree", "Neither agree nor disagree", "Agree", "Strongly agree"]
+    profile, _ = profile_column("item", pd.Series(words * 5 + ["9", "99", "9"], dtype=object))
+    assert profile.role == RATING and profile.codes == (9.0, 99.0)
+    fmt, _ = infer_answer_format([profile])
+    assert (fmt.min, fmt.max, fmt.missing_codes) == (1, 5, (9.0, 99.0))
+
+
+def test_seven_point_likelihood_with_extreme_ends_continues_codes_one_to_seven():
+    words = ["Extremely unlikely", "Very unlikely", "Somewhat unlikely", "Neither likely nor unlikely",
+             "Somewhat likely", "Very likely", "Extremely likely"]
+    fmt, _ = fmt_of(list(range(1, 8)) * 3 + [w.upper() for w in words[::-1]])
+    assert fmt.labels_dict() == dict(enumerate(words, start=1)) and fmt.wording == "likelihood"

@@ -64,31 +64,34 @@ _WORDINGS: dict[str, dict[str, float]] = {
         "always": 6,
     },
     "satisfaction": {
-        "very dissatisfied": -3, "extremely dissatisfied": -3, "completely dissatisfied": -3,
+        "extremely dissatisfied": -4, "completely dissatisfied": -4,
+        "very dissatisfied": -3,
         "dissatisfied": -2,
         "somewhat dissatisfied": -1, "slightly dissatisfied": -1,
         "neither satisfied nor dissatisfied": 0, "neither dissatisfied nor satisfied": 0, "neutral": 0,
         "somewhat satisfied": 1, "slightly satisfied": 1,
         "satisfied": 2,
-        "very satisfied": 3, "extremely satisfied": 3, "completely satisfied": 3,
+        "very satisfied": 3,
+        "extremely satisfied": 4, "completely satisfied": 4,
     },
     "quality": {"very poor": -1, "poor": 0, "fair": 1, "good": 2, "very good": 3, "excellent": 4},
     "extent": {"not at all": 0, "a little": 1, "slightly": 1, "moderately": 2, "somewhat": 2,
                "quite a bit": 3, "a lot": 3, "extremely": 4, "very much": 4},
     "importance": {"not at all important": 0, "slightly important": 1, "moderately important": 2,
                    "very important": 3, "extremely important": 4},
-    "likelihood": {"very unlikely": -2, "unlikely": -1, "neither likely nor unlikely": 0, "likely": 1,
-                   "very likely": 2},
+    "likelihood": {"extremely unlikely": -4, "very unlikely": -3, "unlikely": -2, "somewhat unlikely": -1,
+                   "neither likely nor unlikely": 0, "somewhat likely": 1, "likely": 2, "very likely": 3,
+                   "extremely likely": 4},
 }
 
 _TEMPLATES: dict[str, tuple[tuple[float, ...], ...]] = {
     "agreement": ((-3, -2, 2, 3), (-3, -2, 0, 2, 3), (-3, -2, -1, 1, 2, 3), (-3, -2, -1, 0, 1, 2, 3)),
     "frequency": ((0, 3, 4, 6), (0, 2, 3, 4, 6), (0, 1, 2, 3, 4, 5, 6)),
-    "satisfaction": ((-3, -2, 2, 3), (-3, -2, 0, 2, 3), (-3, -2, -1, 0, 1, 2, 3)),
+    "satisfaction": ((-3, -2, 2, 3), (-3, -2, 0, 2, 3), (-3, -2, -1, 0, 1, 2, 3), (-4, -3, -1, 0, 1, 3, 4)),
     "quality": ((0, 1, 2, 4), (0, 1, 2, 3, 4), (-1, 0, 1, 2, 3)),
     "extent": ((0, 1, 2, 3, 4),),
     "importance": ((0, 1, 2, 3, 4),),
-    "likelihood": ((-2, -1, 1, 2), (-2, -1, 0, 1, 2)),
+    "likelihood": ((-3, -2, 2, 3), (-3, -2, 0, 2, 3), (-3, -2, -1, 0, 1, 2, 3), (-4, -3, -1, 0, 1, 3, 4)),
 }
 
 
@@ -246,12 +249,14 @@ def _is_code_like(value: float, rest_low: float) -> bool:
     return nines or (value < 0 <= rest_low)
 
 
-def _peel_codes(numbers: pd.Series) -> tuple[tuple[float, ...], tuple[float, ...], np.ndarray]:
+def _peel_codes(numbers: pd.Series, *, texts_are_answers: bool = False) \
+        -> tuple[tuple[float, ...], tuple[float, ...], np.ndarray]:
     """Set apart "no answer" codes and rare odd values lying far outside the rest of the numbers.
 
     Returns (codes, odd values, the remaining distinct values). A value is far outside when at least one
     unused whole number separates it from the rest (gap >= 2); codes are code-like values (9, 99, -9 ...),
-    odd values are other far values that are rare (at most 1 % of the numbers, at least 1).
+    odd values are other far values that are rare (at most 1 % of the numbers, at least 1). When the
+    column's answers are texts, its numbers may all be codes (e.g. only 9 and 99 among answer texts).
     """
     counts = numbers.dropna().value_counts().sort_index()
     values = counts.index.to_numpy(dtype=np.float64)
@@ -259,7 +264,13 @@ def _peel_codes(numbers: pd.Series) -> tuple[tuple[float, ...], tuple[float, ...
     rare = max(1, math.floor(0.01 * total))
     codes: list[float] = []
     odd: list[float] = []
-    while len(values) >= 3:
+    while len(values) > (0 if texts_are_answers else 2):
+        if len(values) == 1:
+            if not _is_code_like(values[0], 0.0):
+                break
+            codes.append(float(values[0]))
+            values = values[1:]
+            break
         for end in (-1, 0):
             value = values[end]
             rest = values[:-1] if end == -1 else values[1:]
@@ -330,7 +341,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
 
     unknown = tuple(t for t in distinct_texts if not is_answer_wording(t))
     known = tuple(t for t in distinct_texts if is_answer_wording(t))
-    codes, odd, answers = _peel_codes(numbers)
+    codes, odd, answers = _peel_codes(numbers, texts_are_answers=bool(known))
     low, high = (float(answers[0]), float(answers[-1])) if len(answers) else (None, None)
     integer_answers = bool(len(answers)) and bool(np.all(np.equal(np.mod(answers, 1), 0)))
     rating_numbers = len(answers) == 0 or (integer_answers and high - low + 1 <= MAX_RATING_POINTS)
