@@ -129,7 +129,7 @@ def test_data_read_strictly_with_all_kinds_of_mess(scored):
     summary = responses.reading_summary()
     assert responses.n == 600 and summary["refused_total"] == 0
     assert set(demo_data.TEXT_COLUMNS) <= set(summary["texts_by_column"])
-    assert sum(summary["missing_code_by_column"].values()) > 100
+    assert sum(summary["missing_code_by_column"].values()) > 40  # about 0.8% of 18 x 600 cells carry a code
     assert sum(summary["blank_by_column"].values()) > 100
     raw = frame["rc2"].dropna().astype(str)
     assert raw.str.startswith(" ").any() and raw.str.isupper().any() and raw.str.islower().any()

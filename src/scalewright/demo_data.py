@@ -157,9 +157,9 @@ TEXT_COLUMNS: dict[str, tuple[str, str] | None] = {
 
 CARELESS_SHARE = 0.05
 PARTIAL_SHARE = 0.03
-BLANK_SHARE = 0.015
-CODE_9_SHARE = 0.015
-CODE_99_SHARE = 0.003
+BLANK_SHARE = 0.006
+CODE_9_SHARE = 0.006
+CODE_99_SHARE = 0.002
 
 
 @dataclass(frozen=True)
