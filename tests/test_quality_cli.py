@@ -1,0 +1,104 @@
+"""`scalewright screen` end to end on a small generated survey."""
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scalewright.cli import main
+
+SCALES = """\
+version: 1
+title: Ward climate pulse
+id_column: staff_id
+response: {min: 1, max: 5, missing_codes: [9]}
+scales:
+  pace: {title: Pace, items: [pa1, pa2, pa3, pa4], reverse: [pa2]}
+  team: {title: Team, items: [tm1, tm2, tm3, tm4]}
+  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}
+"""
+
+
+def write_survey(folder: Path, *, n: int = 120, seed: int = 5) -> tuple[Path, Path]:
+    rng = np.random.default_rng(seed)
+    trait = rng.normal(size=(n, 3))
+    columns = {"staff_id": [f"W{i:03d}" for i in range(n)], "minutes": rng.normal(20, 3, size=n).round(1)}
+    for s, (scale, reverse) in enumerate((("pa", {2}), ("tm", set()), ("vo", {4}))):
+        for j in range(1, 5):
+            keyed = np.clip(np.round(3 + trait[:, s] + rng.normal(scale=0.6, size=n)), 1, 5)
+            columns[f"{scale}{j}"] = (6 - keyed if j in reverse else keyed).astype(int)
+    frame = pd.DataFrame(columns)
+    items = [c for c in frame.columns if c[:2] in ("pa", "tm", "vo")]
+    frame.loc[0, items] = 2                 # straight-liner
+    frame.loc[1, "minutes"] = 2.0           # speeder
+    data = folder / "pulse.csv"
+    frame.to_csv(data, index=False)
+    scales = folder / "pulse.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    return data, scales
+
+
+def test_screen_json_contract(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "minutes", "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["command"] == "screen" and doc["tool"]["name"] == "scalewright"
+    by_id = {r["id"]: r for r in doc["respondents"]}
+    assert len(by_id) == 120
+    assert "long-run" in by_id["W000"]["flags"] and by_id["W000"]["flagged"]
+    assert "fast" in by_id["W001"]["flags"]
+    assert by_id["W000"]["longstring"] == 12
+    assert set(doc["summary"]["alpha_change"]) == {"pace", "team", "voice"}
+
+
+def test_screen_out_csv_feeds_exclude(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    flagged = tmp_path / "flagged.csv"
+    assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "minutes",
+                 "--out", str(flagged), "--flagged-only"]) == 0
+    with open(flagged, newline="", encoding="utf-8") as handle:
+        rows = list(csv.DictReader(handle))
+    assert list(rows[0])[0] == "id" and {"W000", "W001"} <= {r["id"] for r in rows}
+    assert all(r["flagged"] == "yes" for r in rows) and all(r["explanation"] for r in rows)
+    capsys.readouterr()
+    assert main(["screen", str(data), "--scales", str(scales), "--exclude", str(flagged), "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["n"] == 120 - len(rows)
+    assert any(f"{len(rows)} respondent(s) set aside" in note for note in doc["notes"])
+
+
+def test_screen_table_explains_in_words(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "table"]) == 0
+    out = capsys.readouterr().out
+    assert "Gave the same answer to 12 items in a row" in out
+    assert "not a verdict on a person" in out
+
+
+def test_screen_bad_options_and_columns(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "nope"]) != 0
+    assert "error:" in capsys.readouterr().err
+    assert main(["screen", str(data), "--scales", str(scales), "--mahalanobis-p", "0.2"]) != 0
+    assert "mahalanobis-p-weak" in capsys.readouterr().err
+    before = data.read_bytes()
+    assert main(["screen", str(data), "--scales", str(scales), "--out", str(data)]) != 0
+    assert data.read_bytes() == before
+
+
+def test_present_tables_have_raw_values(tmp_path):
+    from scalewright.present.quality import screen_tables
+    from scalewright.stats.quality import screen_respondents
+
+    raw = np.random.default_rng(2).integers(1, 6, size=(40, 9)).astype(float)
+    raw[3] = 5
+    keyed = {"a": raw[:, :3], "b": raw[:, 3:6], "c": raw[:, 6:]}
+    tables = screen_tables(screen_respondents(raw, keyed, ids=[str(i) for i in range(40)]).to_dict())
+    respondents = next(t for t in tables if t.key == "respondents")
+    row = next(r for r in respondents.rows if r[0] == "3")
+    assert row[2] == 9 and isinstance(row[3], float)
+    assert "9 items in a row" in row[-1]
