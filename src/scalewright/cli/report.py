@@ -1,0 +1,72 @@
+"""`scalewright report`: every analysis into one folder (index.html, report.md, results.json, figures/, scores.csv)."""
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+
+from .common import by_option, data_argument, input_options, load_inputs, resolve_by, scales_option
+
+
+def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
+                        exclude: Path | None = None, decimals: int = 2, force: bool = False,
+                        seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
+                        min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
+                        quiet: bool = False) -> Any:
+    """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
+    from ..present.progress import Progress
+    from ..present.report_files import WRITE_STEPS, prepare_report_folder, write_report_folder
+    from ..report import DEFAULT_SEED, STEPS, ReportOptions, build_report
+
+    progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
+    progress.step("reading the inputs")
+    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    options = ReportOptions(by=resolve_by(by, inputs.spec), seed=DEFAULT_SEED if seed is None else seed,
+                            iterations=iterations, confidence_level=confidence_level, min_group=min_group,
+                            min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
+                            decimals=decimals, duration_column=duration_column)
+    # every check of the inputs and options runs before the folder is touched
+    folder = prepare_report_folder(out, force=force)
+    results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
+                           input_notes=inputs.notes, n_excluded=inputs.excluded, progress=progress.step)
+    write_report_folder(results, folder, decimals=decimals, inputs=[data, scales, exclude], progress=progress.step)
+    progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
+    return results
+
+
+@click.command("report")
+@data_argument
+@scales_option
+@by_option
+@click.option("--out", "-o", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
+              help="Folder for the report (created if missing; must be empty unless --force).")
+@click.option("--force", is_flag=True, help="Write into a folder that already holds files.")
+@click.option("--decimals", type=click.IntRange(0, 6), default=2, show_default=True,
+              help="Decimals shown in the pages (results.json keeps full precision).")
+@click.option("--seed", type=click.IntRange(min=0), default=None,
+              help="Seed of every random step (parallel analysis, dip test); default 2026, recorded in the report.")
+@click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
+              help="Random data sets drawn for parallel analysis (fewer is faster, less exact).")
+@click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
+              show_default=True, help="Coverage of the confidence intervals.")
+@click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
+              help="Subgroup levels with fewer respondents are named but not analysed.")
+@click.option("--min-cell", type=click.IntRange(min=1), default=5, show_default=True,
+              help="Groups and answer counts below this are shown as '< N'.")
+@click.option("--duration-column", metavar="COLUMN", default=None,
+              help="Column of completion times; enables the screen's check for respondents who went too fast.")
+@click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while working.")
+@input_options
+def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
+           iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
+           quiet: bool, lenient: bool, exclude: Path | None) -> None:
+    """Build the full report: every scale's reliability, items, scores, subgroups and structure.
+
+    Writes DIR/index.html (one self-contained page: no scripts, nothing from the
+    network), DIR/report.md, DIR/results.json (every result at full precision),
+    DIR/figures/ (SVG and PNG) and DIR/scores.csv.
+    """
+    build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
+                        seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
+                        min_cell=min_cell, duration_column=duration_column, quiet=quiet)

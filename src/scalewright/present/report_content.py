@@ -1,0 +1,424 @@
+"""What the report says: a :class:`ReportDocument` built from a ``ReportResults`` and its figure files.
+
+This module words sentences and picks tables; numbers are formatted with :func:`format_value` and never
+computed here. Tables come from each analysis' own ``present`` module wherever one exists.
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from .. import __version__
+from .methods import CAUTIONS, METHODS, thresholds_used
+from .numbers import format_value
+from .report_layout import Bullets, FigureBlock, FigureRow, Paragraph, ReportDocument, Section, TableBlock
+from .table import Table
+
+#: figure key -> figure; keys: ("answers", scale), ("histogram", scale), ("boxplot", scale, column),
+#: ("scree",), ("loadings",)
+FigureMap = Mapping[tuple[str, ...], FigureBlock]
+
+
+def _n(value: Any, kind: str = "num", decimals: int = 2) -> str:
+    return format_value(value, kind, decimals)
+
+
+def scale_label(findings: Any) -> str:
+    title = findings.scale.title or findings.name
+    return title if title == findings.name else f"{title} ({findings.name})"
+
+
+def _alpha_with_ci(result: Any, decimals: int) -> str:
+    if result is None:
+        return "–"
+    low, high = result.alpha_ci
+    text = _n(result.alpha, "bounded", decimals)
+    if text != "–" and _n(low) != "–":
+        text += f" [{_n(low, 'bounded', decimals)}, {_n(high, 'bounded', decimals)}]"
+    return text
+
+
+def _without(table: Table, column: str) -> Table:
+    """The same table without one column (the per-scale sections need no ``scale`` column)."""
+    if column not in table.columns:
+        return table
+    position = table.columns.index(column)
+    return Table(title=table.title, columns=table.columns[:position] + table.columns[position + 1:],
+                 rows=tuple(row[:position] + row[position + 1:] for row in table.rows),
+                 kinds={k: v for k, v in table.kinds.items() if k != column}, notes=table.notes, key=table.key)
+
+
+def _retitled(table: Table, title: str) -> Table:
+    return Table(title=title, columns=table.columns, rows=table.rows, kinds=table.kinds, notes=table.notes,
+                 key=table.key)
+
+
+# ---------------------------------------------------------------------------------------------- summary
+
+def summary_table(results: Any, decimals: int) -> Table:
+    """One row per scale: items, n, alpha [CI], omega, mean, sd, shape."""
+    level = f"{100 * results.options.confidence_level:g}%"
+    alpha_column = f"alpha [{level} CI]"
+    rows = []
+    for findings in results.scales.values():
+        overall = findings.reliability.overall if findings.reliability is not None else None
+        shape = findings.shape
+        rows.append((scale_label(findings), findings.scale.k, findings.scores.n_scored,
+                     _alpha_with_ci(overall, decimals), None if overall is None else overall.omega_total,
+                     None if shape is None else shape.mean, None if shape is None else shape.sd,
+                     (shape.shape if shape is not None and shape.shape else "–")))
+    return Table(title="Every scale at a glance",
+                 columns=("scale", "items", "n", alpha_column, "omega", "mean", "sd", "shape"),
+                 rows=tuple(rows),
+                 kinds={"scale": "text", "items": "int", "n": "int", alpha_column: "text", "omega": "bounded",
+                        "shape": "text"},
+                 notes=(f"n: respondents with a score. CI: Feldt {level} interval of alpha. omega: omega total "
+                        "of a one-factor model. mean and sd: of the scores, on each scale's own score range.",),
+                 key="summary")
+
+
+# ----------------------------------------------------------------------------------------------- scales
+
+def _item_flags(findings: Any, structure: Any) -> dict[str, list[str]]:
+    flags: dict[str, list[str]] = {item: [] for item in findings.scale.items}
+    if findings.reliability is not None:
+        for flag in findings.reliability.overall.flags:
+            for item in (flag.items or ((flag.item,) if flag.item else ())):
+                if item in flags and flag.code not in flags[item]:
+                    flags[item].append(flag.code)
+    if structure is not None:
+        for flag in structure.flags:
+            if flag.item in flags and flag.code not in flags[flag.item] and flag.scale in (None, findings.name):
+                flags[flag.item].append(flag.code)
+    return flags
+
+
+def item_table(findings: Any, structure: Any, decimals: int) -> Table | None:
+    """The reliability module's item table for one scale, with the wording and every flag of each item."""
+    from .reliability import reliability_tables
+
+    if findings.reliability is None:
+        return None
+    tables = {t.key: t for t in reliability_tables([findings.reliability])}
+    items = _without(tables["reliability_items"], "scale")
+    flags = _item_flags(findings, structure)
+    wording = findings.scale.wording
+    position = items.columns.index("item") + 1
+    rows = []
+    for row in items.rows:
+        item = row[0]
+        rows.append(row[:position] + (wording.get(item, ""),) + row[position:] + (", ".join(flags.get(item, [])),))
+    columns = items.columns[:position] + ("wording",) + items.columns[position:] + ("flags",)
+    kinds = {**items.kinds, "wording": "text", "flags": "text"}
+    return Table(title=f"Items of {scale_label(findings)}", columns=columns, rows=tuple(rows), kinds=kinds,
+                 notes=items.notes, key="items")
+
+
+def _flag_sentences(findings: Any) -> list[str]:
+    if findings.reliability is None:
+        return []
+    flags = findings.reliability.overall.flags
+    if not flags:
+        return ["No item or scale statistic was flagged in the whole sample."]
+    return [f"{flag.item + ': ' if flag.item else ''}{flag.message} ({flag.code})" for flag in flags]
+
+
+def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
+    """Plain sentences that say what the tables show for one scale."""
+    scale = findings.scale
+    scores = findings.scores
+    sentences = []
+    reverse = (f" ({len(scale.reverse)} reverse-worded: {', '.join(scale.reverse)})" if scale.reverse
+               else " (none reverse-worded)")
+    sentences.append(f"{scale_label(findings)} has {scale.k} items{reverse}. Score: {scale.describe_rule()}.")
+    sentences.append(f"{scores.n_scored} of {results.n_rows} respondents have a score"
+                     + (f"; {scores.n_unscored} answered too few items to be scored." if scores.n_unscored else "."))
+    if findings.reliability is not None:
+        overall = findings.reliability.overall
+        level = f"{100 * overall.confidence_level:g}%"
+        if _n(overall.alpha) == "–":
+            sentences.append("Alpha could not be computed: " + ("; ".join(overall.notes) or "no usable rows") + ".")
+        else:
+            text = (f"Internal consistency: alpha = {_n(overall.alpha, 'bounded', decimals)}, {level} CI "
+                    f"[{_n(overall.alpha_ci[0], 'bounded', decimals)}, {_n(overall.alpha_ci[1], 'bounded', decimals)}]"
+                    f", from the {overall.n_used} respondents who answered every item")
+            if _n(overall.omega_total) != "–":
+                text += f"; omega total = {_n(overall.omega_total, 'bounded', decimals)}"
+            sentences.append(text + ".")
+    shape = findings.shape
+    if shape is not None and _n(shape.mean) != "–":
+        text = (f"Scores: M = {_n(shape.mean, 'num', decimals)}, SD = {_n(shape.sd, 'num', decimals)}, median "
+                f"{_n(shape.median, 'num', decimals)}, from {_n(shape.min, 'num', decimals)} to "
+                f"{_n(shape.max, 'num', decimals)}")
+        if shape.shape:
+            text += f"; the distribution reads as {shape.shape}"
+            if shape.evidence:
+                text += f" ({shape.evidence})"
+        sentences.append(text + ".")
+        for side, effect, share in (("floor", shape.floor_effect, shape.floor_pct),
+                                    ("ceiling", shape.ceiling_effect, shape.ceiling_pct)):
+            if effect:
+                sentences.append(f"A {side} effect: {_n(share, 'pct')}% of the scores sit at the "
+                                 f"{'lowest' if side == 'floor' else 'highest'} possible value.")
+    return sentences
+
+
+def _shape_table(findings: Any, decimals: int) -> Table | None:
+    """Descriptives of the scores, overall and per subgroup, from the shape results."""
+    if findings.shape is None:
+        return None
+    samples = [("all", findings.shape)]
+    for group in findings.shape_by:
+        samples += [(f"{group.column} = {level}", summary) for level, summary in group.levels.items()]
+    columns = ("sample", "n", "mean", "sd", "median", "q1", "q3", "min", "max", "skewness", "SE skew",
+               "kurtosis", "SE kurt", "BC", "dip p", "floor %", "ceiling %", "shape")
+    rows = tuple((name, s.n, s.mean, s.sd, s.median, s.q1, s.q3, s.min, s.max, s.skewness, s.skewness_se,
+                  s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.floor_pct, s.ceiling_pct,
+                  s.shape or "–") for name, s in samples)
+    notes = list(findings.shape.notes) + [note for group in findings.shape_by for note in group.notes]
+    notes.append("kurtosis is excess kurtosis (0 for a normal distribution); BC: bimodality coefficient; dip p: "
+                 "Hartigan's dip test on jittered scores")
+    return Table(title=f"Distribution of the {scale_label(findings)} scores", columns=columns, rows=rows,
+                 kinds={"sample": "text", "n": "int", "BC": "bounded", "dip p": "p", "floor %": "pct",
+                        "ceiling %": "pct", "shape": "text"},
+                 notes=tuple(notes), key="shape")
+
+
+def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals: int) -> list[Section]:
+    from .groups import compare_tables, comparison_sentence
+
+    sections = []
+    reliability_tables_by_key: dict[str, Table] = {}
+    if findings.reliability is not None and findings.reliability.groups:
+        from .reliability import reliability_tables
+
+        reliability_tables_by_key = {t.key: t for t in reliability_tables([findings.reliability])}
+    for position, column in enumerate(results.options.by):
+        blocks: list[Any] = []
+        comparison = next((c for c in findings.comparisons if c.column == column), None)
+        if comparison is not None:
+            blocks.append(Paragraph(comparison_sentence(comparison, decimals=decimals)))
+        figure = figures.get(("boxplot", findings.name, column))
+        if figure is not None:
+            blocks.append(figure)
+        if comparison is not None:
+            blocks.extend(TableBlock(t) for t in compare_tables([comparison], decimals=decimals))
+        summary = reliability_tables_by_key.get("reliability")
+        if summary is not None:
+            rows = tuple(row for row in summary.rows if row[1] == "all" or str(row[1]).startswith(f"{column} = "))
+            table = _without(Table(title=f"Reliability by {column}", columns=summary.columns, rows=rows,
+                                   kinds=summary.kinds, key=summary.key), "scale")
+            group = next((g for g in findings.reliability.groups if g.column == column), None)
+            notes = tuple(group.notes) if group is not None else ()
+            blocks.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
+                                           kinds=table.kinds, notes=notes, key=table.key)))
+        tests = reliability_tables_by_key.get("reliability_comparisons")
+        if tests is not None:
+            rows = tuple(row for row in tests.rows if row[1] == column)
+            if rows:
+                blocks.append(TableBlock(_without(_without(
+                    Table(title=f"Alphas compared between levels of {column} (Feldt 1969, Holm-adjusted)",
+                          columns=tests.columns, rows=rows, kinds=tests.kinds, key=tests.key), "scale"), "column")))
+        sections.append(Section(anchor=f"scale-{findings.name}-by-{position + 1}", title=f"By {column}",
+                                blocks=tuple(blocks)))
+    return sections
+
+
+def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int) -> Section:
+    blocks: list[Any] = [Paragraph(" ".join(narrative(findings, results, decimals)))]
+    flags = _flag_sentences(findings)
+    if flags:
+        blocks.append(Bullets(tuple(flags)))
+    items_blocks: list[Any] = []
+    table = item_table(findings, results.structure, decimals)
+    if table is not None:
+        items_blocks.append(TableBlock(table, flag_column="flags"))
+    answers = figures.get(("answers", findings.name))
+    if answers is not None:
+        items_blocks.append(answers)
+    distribution_blocks: list[Any] = []
+    histogram = figures.get(("histogram", findings.name))
+    if histogram is not None:
+        distribution_blocks.append(histogram)
+    shape_table = _shape_table(findings, decimals)
+    if shape_table is not None:
+        distribution_blocks.append(TableBlock(shape_table))
+    anchor = f"scale-{findings.name}"
+    subsections = [Section(anchor=f"{anchor}-items", title="Items", blocks=tuple(items_blocks)),
+                   Section(anchor=f"{anchor}-distribution", title="Score distribution",
+                           blocks=tuple(distribution_blocks))]
+    subgroups = _subgroup_sections(findings, results, figures, decimals)
+    if subgroups:
+        subsections.append(Section(anchor=f"{anchor}-subgroups", title="Subgroups",
+                                   blocks=(Paragraph("Reliability, scores and comparisons for each level of the "
+                                                     "grouping columns. Levels too small to analyse are named, "
+                                                     "not described.", tone="note"),),
+                                   subsections=tuple(subgroups)))
+    return Section(anchor=anchor, title=scale_label(findings), blocks=tuple(blocks), subsections=tuple(subsections))
+
+
+# ---------------------------------------------------------------------------------------------- quality
+
+def _reading_table(results: Any) -> Table:
+    reading = results.reading
+    columns = list(dict.fromkeys([*reading.get("refused_by_column", {}), *reading.get("missing_code_by_column", {}),
+                                  *reading.get("blank_by_column", {}), *reading.get("texts_by_column", {})]))
+    rows = tuple((column, reading.get("blank_by_column", {}).get(column, 0),
+                  reading.get("missing_code_by_column", {}).get(column, 0),
+                  reading.get("texts_by_column", {}).get(column, 0),
+                  reading.get("refused_by_column", {}).get(column, 0)) for column in columns)
+    return Table(title="What reading the data changed, by column",
+                 columns=("column", "blank", "'no answer' code", "answer text read as its code",
+                          "refused (set to missing)"),
+                 rows=rows, kinds={"column": "text", "blank": "int", "'no answer' code": "int",
+                                   "answer text read as its code": "int", "refused (set to missing)": "int"},
+                 notes=() if rows else ("every value was a plain answer code",), key="reading")
+
+
+def _scored_table(results: Any) -> Table:
+    rows = tuple((scale_label(f), f.scores.k, f.scores.required, f.scores.n_scored, f.scores.n_unscored)
+                 for f in results.scales.values())
+    return Table(title="Respondents scored", columns=("scale", "items", "needs answered", "scored", "not scored"),
+                 rows=rows, kinds={"scale": "text", "items": "int", "needs answered": "int", "scored": "int",
+                                   "not scored": "int"}, key="scored")
+
+
+def _screen_blocks(screen: Any, decimals: int) -> list[Any]:
+    from .quality import screen_tables
+
+    if screen is None:
+        return [Paragraph("The careless-responding screen was not run: there are no respondents.", tone="note")]
+    document = screen.to_dict()
+    summary = document["summary"]
+    share = summary["flagged_share"]
+    blocks: list[Any] = [Paragraph(
+        f"The careless-responding screen flagged {summary['n_flagged']} of {summary['n']} respondents "
+        f"({_n(None if share is None else 100 * share, 'pct')}%). Flagged respondents are kept in every "
+        "analysis of this report: a flag marks a record to look at, not a verdict. results.json lists every "
+        "respondent with every index.")]
+    blocks.extend(TableBlock(t) for t in screen_tables(document, flagged_only=True, max_rows=MAX_RESPONDENT_ROWS))
+    return blocks
+
+
+#: flagged respondents listed in the page (all of them are in results.json)
+MAX_RESPONDENT_ROWS = 40
+
+
+def quality_section(results: Any, decimals: int) -> Section:
+    from .tally import tally_tables
+
+    kept = results.n_rows
+    lead = f"{kept + results.n_excluded} respondent rows were read"
+    lead += (f"; {results.n_excluded} were set aside as listed in {results.options.exclude}, leaving {kept}."
+             if results.n_excluded else f" and all {kept} are analysed.")
+    refused = results.reading.get("refused_total", 0)
+    if refused:
+        lead += f" {refused} value(s) were neither an answer nor a 'no answer' code and were treated as missing."
+    blocks: list[Any] = [Paragraph(lead), TableBlock(_reading_table(results))]
+    if results.input_notes:
+        blocks.append(Bullets(tuple(results.input_notes), tone="note"))
+    blocks.append(TableBlock(_scored_table(results)))
+    subsections = [Section(anchor="quality-screen", title="Careless responding",
+                           blocks=tuple(_screen_blocks(results.screen, decimals)))]
+    if results.group_tallies:
+        subsections.append(Section(anchor="quality-groups", title="Who answered",
+                                   blocks=tuple(TableBlock(t) for t in
+                                                tally_tables(list(results.group_tallies), decimals=decimals))))
+    return Section(anchor="quality", title="Data quality", blocks=tuple(blocks), subsections=tuple(subsections))
+
+
+# -------------------------------------------------------------------------------------------- structure
+
+def structure_section(results: Any, figures: FigureMap, decimals: int) -> Section:
+    from .structure import structure_tables
+
+    structure = results.structure
+    if structure is None:
+        return Section(anchor="structure", title="Structure",
+                       blocks=(Paragraph("The structure was not analysed: it needs at least two items.", tone="note"),))
+    blocks: list[Any] = []
+    suggested = structure.parallel.suggested_factors if structure.parallel is not None else None
+    text = (f"The structure uses the {structure.n_used} respondents who answered every item"
+            + (f" ({structure.n_set_aside} set aside)" if structure.n_set_aside else "") + ".")
+    if suggested is not None:
+        text += (f" Parallel analysis suggests {suggested} factor(s) for {len(results.scales)} scale(s); "
+                 f"{0 if structure.solution is None else structure.solution.n_factors} were fitted "
+                 f"({structure.n_factors_rule}).")
+    blocks.append(Paragraph(text))
+    row = tuple(f for f in (figures.get(("scree",)), figures.get(("loadings",))) if f is not None)
+    if row:
+        blocks.append(FigureRow(row))
+    blocks.extend(TableBlock(t) for t in structure_tables(structure))
+    if structure.notes:
+        blocks.append(Bullets(tuple(structure.notes), tone="note"))
+    return Section(anchor="structure", title="Structure", blocks=tuple(blocks))
+
+
+# -------------------------------------------------------------------------------------- methods and rest
+
+def methods_section(results: Any) -> Section:
+    methods = Table(title="Statistics and their sources", columns=("topic", "statistic", "how", "source"),
+                    rows=tuple((m.topic, m.statistic, m.formula, m.citation) for m in METHODS),
+                    kinds={c: "text" for c in ("topic", "statistic", "how", "source")}, key="methods")
+    thresholds = Table(title="Thresholds used in this report", columns=("topic", "rule", "value", "source"),
+                       rows=tuple((t.topic, t.rule, t.value, t.source) for t in thresholds_used(results)),
+                       kinds={c: "text" for c in ("topic", "rule", "value", "source")}, key="thresholds")
+    return Section(anchor="methods", title="Methods", blocks=(
+        Paragraph("Every number in this report comes from one of the methods below; every flag and label from "
+                  "one of the thresholds. Statistics that cannot exceed 1 in size are printed without a leading "
+                  "zero; p-values below .001 as < .001. A dash marks a statistic that could not be computed; the "
+                  "note beside its table says why."),
+        TableBlock(methods), TableBlock(thresholds)))
+
+
+def cautions_section() -> Section:
+    return Section(anchor="cautions", title="Cautions", blocks=tuple(Paragraph(c, tone="caution") for c in CAUTIONS))
+
+
+def provenance_rows(results: Any) -> tuple[tuple[str, str], ...]:
+    info = results.info
+    options = results.options
+    return (
+        ("tool", f"scalewright {results.version}"),
+        ("report date", results.created),
+        ("data file", info.data or "–"),
+        ("data SHA-256", info.data_sha256 or "–"),
+        ("scale file", info.scales or "–"),
+        ("scale file SHA-256", info.scales_sha256 or "–"),
+        ("subgroup columns", ", ".join(options.by) or "none"),
+        ("seed", str(options.seed)),
+        ("parallel analysis iterations", str(options.iterations)),
+        ("confidence level", f"{100 * options.confidence_level:g}%"),
+        ("smallest subgroup / cell", f"{options.min_group} / {options.min_cell}"),
+        ("lenient reading", "yes" if options.lenient else "no"),
+        ("respondents set aside from", options.exclude or "none"),
+        ("decimals", str(options.decimals)),
+        ("duration column", options.duration_column or "none"),
+    )
+
+
+def provenance_section(results: Any) -> Section:
+    table = Table(title="How this report was made", columns=("what", "value"), rows=provenance_rows(results),
+                  kinds={"what": "text", "value": "text"}, key="provenance")
+    return Section(anchor="provenance", title="Provenance", blocks=(
+        TableBlock(table),
+        Paragraph("The same inputs and options give the same numbers. results.json holds every result at full "
+                  "precision; scores.csv one row per respondent, in the data file's order.", tone="note")))
+
+
+def build_document(results: Any, *, figures: FigureMap, decimals: int = 2) -> ReportDocument:
+    """The whole report, in reading order."""
+    sections = [Section(anchor="summary", title="Summary", blocks=(
+        Paragraph(f"{len(results.scales)} scale(s), {results.n_rows} respondents"
+                  + (f", subgroups by {', '.join(results.options.by)}" if results.options.by else "") + "."),
+        TableBlock(summary_table(results, decimals)),
+        Paragraph(CAUTIONS[0], tone="caution")))]
+    sections += [scale_section(f, results, figures, decimals) for f in results.scales.values()]
+    sections += [quality_section(results, decimals), structure_section(results, figures, decimals),
+                 methods_section(results), cautions_section(), provenance_section(results)]
+    info = results.info
+    facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), ("Respondents", str(results.n_rows)),
+             ("Date", results.created), ("Made with", f"scalewright {__version__}"))
+    return ReportDocument(title=results.title, subtitle="Reliability, structure and score distributions of "
+                          "multi-item rating scales", lead=(), sections=tuple(sections), decimals=decimals,
+                          facts=facts)

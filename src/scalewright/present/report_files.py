@@ -1,0 +1,104 @@
+"""Writing a report folder: index.html, report.md, results.json, figures/ (SVG and PNG), scores.csv.
+
+Every file is written atomically and never over an input file; the folder must be empty unless the caller
+allows otherwise.
+"""
+from __future__ import annotations
+
+from collections.abc import Callable, Iterable
+from pathlib import Path
+from typing import Any
+
+from ..errors import UsageError
+from ..files import write_atomic
+from .report_layout import FigureBlock
+
+FIGURES = "figures"
+
+
+def prepare_report_folder(folder: str | Path, *, force: bool = False) -> Path:
+    """Create ``folder`` if needed; refuse a file, or a folder that already holds files unless ``force``."""
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise UsageError(f"cannot write the report into {folder}: it is a file, not a folder")
+    if folder.is_dir() and any(folder.iterdir()) and not force:
+        raise UsageError(f"refusing to write the report into {folder}: the folder is not empty "
+                         "(use --force to write into it anyway)")
+    folder.mkdir(parents=True, exist_ok=True)
+    (folder / FIGURES).mkdir(exist_ok=True)
+    return folder
+
+
+def _save(axes: Any, folder: Path, name: str, *, inputs: Iterable) -> str:
+    from .figure_files import save_figure
+
+    save_figure(axes.figure, folder / FIGURES / name, inputs=inputs)
+    return f"{FIGURES}/{name}"
+
+
+def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[tuple[str, ...], FigureBlock]:
+    """Draw and save every figure of the report; return them keyed as :mod:`report_content` expects."""
+    from .figure_files import use_agg
+
+    use_agg()
+    from .figures_groups import diverging_bars
+    from .report_content import scale_label
+
+    inputs = list(inputs)
+    figures: dict[tuple[str, ...], FigureBlock] = {}
+    for name, findings in results.scales.items():
+        label = scale_label(findings)
+        if findings.answers is not None and findings.answers.items:
+            stem = _save(diverging_bars(findings.answers, title=f"Answers to the items of {label}"),
+                         folder, f"{name}-answers", inputs=inputs)
+            figures[("answers", name)] = FigureBlock(
+                stem, f"Answers to the items of {label}",
+                f"Diverging stacked bars, one per item, of the share of each answer ({findings.answers.labels[0]} "
+                f"to {findings.answers.labels[-1]}); answers below the middle of the scale extend to the left, "
+                "above it to the right. Codes as given, before reverse keying.")
+    structure = results.structure
+    if structure is not None:
+        from .figures_structure import loadings_figure, scree_figure
+
+        if structure.parallel is not None:
+            stem = _save(scree_figure(structure), folder, "structure-scree", inputs=inputs)
+            figures[("scree",)] = FigureBlock(
+                stem, "Parallel analysis", f"Observed eigenvalues of the item correlations against those of "
+                f"random normal data of the same size ({structure.parallel.iterations} random data sets); "
+                f"{structure.parallel.suggested_factors} observed eigenvalue(s) lie above the random "
+                f"{structure.parallel.percentile:g}th percentile.")
+        if structure.solution is not None:
+            stem = _save(loadings_figure(structure), folder, "structure-loadings", inputs=inputs)
+            figures[("loadings",)] = FigureBlock(
+                stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
+                f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
+                "vermillion negative, darker for larger loadings. The numbers are in the loadings table.")
+    return figures
+
+
+def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
+                        progress: Callable[[str], None] = lambda step: None) -> list[Path]:
+    """Write every file of the report into ``folder`` (already prepared); return the paths written."""
+    from ..scoring import write_scores
+    from .html import render_html
+    from .render import render_json
+    from .report_content import build_document
+    from .report_md import render_report_markdown
+
+    folder = Path(folder)
+    inputs = [p for p in inputs if p is not None]
+    progress("figures")
+    figures = make_figures(results, folder, inputs=inputs)
+    document = build_document(results, figures=figures, decimals=decimals)
+    progress("pages")
+    written = [write_atomic(folder / "index.html", render_html(document, folder=folder), inputs=inputs),
+               write_atomic(folder / "report.md", render_report_markdown(document), inputs=inputs),
+               write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs),
+               write_scores(results.score_table, folder / "scores.csv", inputs=inputs)]
+    for figure in figures.values():
+        written += [folder / f"{figure.stem}.svg", folder / f"{figure.stem}.png"]
+    return written
+
+
+#: steps :func:`write_report_folder` announces
+WRITE_STEPS = ("figures", "pages")

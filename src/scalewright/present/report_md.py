@@ -1,0 +1,82 @@
+"""The report as Markdown (``report.md``): the same document as the HTML page, figures as files beside it."""
+from __future__ import annotations
+
+from .numbers import format_value
+from .render import escape_markdown
+from .report_layout import Block, Bullets, FigureBlock, FigureRow, Paragraph, ReportDocument, Section, TableBlock
+from .table import Table
+
+
+def _table(table: Table, *, decimals: int) -> list[str]:
+    out = [f"**{escape_markdown(table.title)}**", ""]
+    if table.columns:
+        out.append("| " + " | ".join(escape_markdown(c) for c in table.columns) + " |")
+        out.append("| " + " | ".join(":---" if table.kind_of(c) == "text" else "---:" for c in table.columns) + " |")
+        for row in table.rows:
+            cells = [escape_markdown(format_value(v, table.kind_of(c), decimals)) for c, v in zip(table.columns, row)]
+            out.append("| " + " | ".join(cells) + " |")
+        out.append("")
+    for note in table.notes:
+        out.append(f"*Note.* {escape_markdown(note)}")
+        out.append("")
+    return out
+
+
+def _figure(block: FigureBlock, number: int) -> list[str]:
+    # the image path is ours (a slug), never user text; the alt text is escaped
+    return [f"![{escape_markdown(block.title)}]({block.stem}.png)", "",
+            f"*Figure {number}.* {escape_markdown(block.title)}. {escape_markdown(block.description)} "
+            f"(vector version: `{block.stem}.svg`)", ""]
+
+
+def _block(block: Block, *, decimals: int, counter: list[int]) -> list[str]:
+    if isinstance(block, Paragraph):
+        text = escape_markdown(block.text)
+        if block.tone == "caution":
+            return [f"> **Caution.** {text}", ""]
+        if block.tone == "note":
+            return [f"*{text}*" if text else "", ""]
+        return [text, ""]
+    if isinstance(block, Bullets):
+        return [f"- {escape_markdown(item)}" for item in block.items] + [""]
+    if isinstance(block, TableBlock):
+        return _table(block.table, decimals=decimals)
+    if isinstance(block, FigureBlock):
+        counter[0] += 1
+        return _figure(block, counter[0])
+    if isinstance(block, FigureRow):
+        out: list[str] = []
+        for figure in block.figures:
+            counter[0] += 1
+            out.extend(_figure(figure, counter[0]))
+        return out
+    raise TypeError(f"unknown report block {type(block).__name__}")
+
+
+def _section(section: Section, level: int, *, decimals: int, counter: list[int]) -> list[str]:
+    out = [f"{'#' * level} {escape_markdown(section.title)}", ""]
+    for block in section.blocks:
+        out.extend(_block(block, decimals=decimals, counter=counter))
+    for child in section.subsections:
+        out.extend(_section(child, min(level + 1, 6), decimals=decimals, counter=counter))
+    return out
+
+
+def render_report_markdown(document: ReportDocument) -> str:
+    """``report.md``: headings in order, tables as pipe tables, figures linked as PNG files."""
+    counter = [0]
+    out = [f"# {escape_markdown(document.title)}", "", escape_markdown(document.subtitle), ""]
+    for key, value in document.facts:
+        out.append(f"- **{escape_markdown(key)}:** {escape_markdown(value)}")
+    if document.facts:
+        out.append("")
+    for paragraph in document.lead:
+        out.extend([escape_markdown(paragraph), ""])
+    out.append("## Contents")
+    out.append("")
+    for position, section in enumerate(document.sections, start=1):
+        out.append(f"{position}. {escape_markdown(section.title)}")
+    out.append("")
+    for section in document.sections:
+        out.extend(_section(section, 2, decimals=document.decimals, counter=counter))
+    return "\n".join(out).rstrip() + "\n"

@@ -1,0 +1,268 @@
+"""Everything a report needs, computed once: every analysis of every scale, overall and by subgroup.
+
+:func:`build_report` only orchestrates library calls (scoring, then the ``stats`` modules) and returns one
+frozen :class:`ReportResults`; it renders nothing and writes nothing. Its ``to_dict()`` is ``results.json``:
+one block per analysis, each with the same keys as that analysis' own command.
+"""
+from __future__ import annotations
+
+import datetime as _dt
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from . import __version__
+from .errors import UsageError
+from .present.document import InputInfo, envelope
+from .results import to_jsonable
+
+#: default seed of every random step (parallel analysis, the jittered dip test, bootstrap)
+DEFAULT_SEED = 2026
+#: steps :func:`build_report` announces to its progress callback
+STEPS = ("scoring", "reliability", "score shapes", "subgroup comparisons", "answer distributions",
+         "structure", "data quality")
+
+
+@dataclass(frozen=True)
+class ReportOptions:
+    """The choices a report was built with (all shown in its provenance)."""
+
+    by: tuple[str, ...] = ()
+    seed: int = DEFAULT_SEED
+    iterations: int = 100
+    confidence_level: float = 0.95
+    min_group: int = 10
+    min_cell: int = 5
+    lenient: bool = False
+    exclude: str | None = None
+    decimals: int = 2
+    duration_column: str | None = None
+
+    def __post_init__(self) -> None:
+        if not 0 < self.confidence_level < 1:
+            raise UsageError(f"confidence level must lie between 0 and 1, got {self.confidence_level}")
+        if self.iterations < 1:
+            raise UsageError(f"parallel analysis needs at least 1 iteration, got {self.iterations}")
+        if self.min_group < 2 or self.min_cell < 1:
+            raise UsageError("the smallest subgroup must be at least 2 and the smallest cell at least 1")
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"by": list(self.by), "seed": self.seed, "parallel_iterations": self.iterations,
+                "confidence_level": self.confidence_level, "min_group": self.min_group, "min_cell": self.min_cell,
+                "lenient": self.lenient, "exclude": self.exclude, "decimals": self.decimals,
+                "duration_column": self.duration_column}
+
+
+@dataclass(frozen=True, eq=False)
+class ScaleFindings:
+    """Every result about one scale. A result is None when its analysis could not be run (see ``notes``)."""
+
+    name: str
+    scale: Any                      # spec.Scale
+    scores: Any                     # scoring.ScaleScores
+    reliability: Any | None         # stats.reliability.ScaleReliabilityReport
+    shape: Any | None               # stats.shape.ShapeSummary
+    shape_by: tuple[Any, ...]       # stats.shape.SubgroupShapes, one per --by column
+    comparisons: tuple[Any, ...]    # stats.groups.Comparison, one per --by column (Holm across scales)
+    answers: Any | None             # stats.tally.AnswerDistribution of the answer codes as given
+    notes: tuple[str, ...] = ()
+
+
+@dataclass(frozen=True, eq=False)
+class ReportResults:
+    """One finished set of results: what :func:`build_report` returns and every renderer reads."""
+
+    spec: Any
+    info: InputInfo
+    options: ReportOptions
+    n_rows: int
+    n_excluded: int
+    reading: dict[str, Any]
+    input_notes: tuple[str, ...]
+    score_table: Any
+    scales: Mapping[str, ScaleFindings]
+    structure: Any | None
+    screen: Any | None
+    group_tallies: tuple[Any, ...]
+    created: str
+    version: str = __version__
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def title(self) -> str:
+        return self.spec.title or "Scale report"
+
+    # --- the blocks of results.json, each built from the same to_dict() calls as its own command ---------
+
+    def reliability_block(self) -> dict[str, Any]:
+        return {"scales": {name: f.reliability.to_dict() for name, f in self.scales.items()
+                           if f.reliability is not None}}
+
+    def shape_block(self) -> dict[str, Any]:
+        out: dict[str, Any] = {}
+        for name, findings in self.scales.items():
+            if findings.shape is None:
+                continue
+            entry: dict[str, Any] = {"all": findings.shape.to_dict()}
+            if findings.shape_by:
+                entry["by"] = {g.column: {level: s.to_dict() for level, s in g.levels.items()}
+                               for g in findings.shape_by}
+                entry["groups_not_analysed"] = {g.column: dict(g.too_small) for g in findings.shape_by}
+                entry["notes"] = [note for g in findings.shape_by for note in g.notes]
+            out[name] = entry
+        return {"scales": out}
+
+    def compare_block(self) -> dict[str, Any]:
+        return {"scales": {name: {"by": {c.column: c.to_dict() for c in f.comparisons}}
+                           for name, f in self.scales.items() if f.comparisons}}
+
+    def to_dict(self) -> dict[str, Any]:
+        body: dict[str, Any] = {
+            "title": self.title,
+            "created": self.created,
+            "reading": {**self.reading, "excluded": self.n_excluded},
+            "scores": self.score_table.to_dict(),
+            "reliability": self.reliability_block(),
+            "shape": self.shape_block(),
+            "compare": self.compare_block(),
+            "answers": {name: f.answers.to_dict() for name, f in self.scales.items() if f.answers is not None},
+            "structure": None if self.structure is None else self.structure.to_dict(),
+            "screen": None if self.screen is None else self.screen.to_dict(),
+            "tally": {t.column: t.to_dict() for t in self.group_tallies},
+            "notes": list(self.notes),
+        }
+        return to_jsonable(envelope("report", self.info, body, options=self.options.to_dict(),
+                                    notes=list(self.input_notes)))
+
+
+# ------------------------------------------------------------------------------------------------ building
+
+def _no_progress(step: str) -> None:
+    return None
+
+
+def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
+    # the reliability command's own (click-free) analysis function, so both give the same numbers
+    from .cli.reliability import analyse_reliability
+
+    return analyse_reliability(spec, responses, by=options.by, confidence_level=options.confidence_level,
+                               min_group=options.min_group)
+
+
+def _shape(scale: Any, scores: Any, responses: Any, options: ReportOptions) -> tuple[Any, tuple[Any, ...]]:
+    from .scoring import score_range
+    from .stats.score_grid import attainable_scores
+    from .stats.shape import describe_by_subgroup, describe_scores
+
+    low, high = score_range(scale)
+    grid = attainable_scores(scale.response.min, scale.response.max, scale.k, method=scale.score,
+                             min_answered=scores.required)
+    settings = dict(attainable=grid, low=low, high=high, seed=options.seed)
+    overall = describe_scores(scores.scores, **settings)
+    by = tuple(describe_by_subgroup(scores.scores, responses.column(column), min_group=options.min_group,
+                                    column=column, **settings) for column in options.by)
+    return overall, by
+
+
+def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
+    # the structure command's joint item matrix (each item once, matched to its smallest scale)
+    from .cli.structure import joint_keyed_items
+    from .stats.structure import analyse_structure
+
+    joint = joint_keyed_items(responses, spec)
+    return analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
+                             scale_items=joint.scale_items, seed=options.seed, iterations=options.iterations)
+
+
+def _screen(spec: Any, responses: Any, info: InputInfo, options: ReportOptions) -> Any:
+    # the screen command's own analysis function: items in questionnaire order, durations if named
+    from pathlib import Path
+
+    from .cli.screen import analyse_screen
+
+    return analyse_screen(spec, responses, duration_column=options.duration_column,
+                          data_path=Path(info.data) if info.data else None)
+
+
+def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),
+                 input_notes: Sequence[str] = (), n_excluded: int = 0,
+                 progress: Callable[[str], None] = _no_progress,
+                 today: _dt.date | None = None) -> ReportResults:
+    """Run every analysis of a report on one data set.
+
+    Parameters
+    ----------
+    spec : scalewright.spec.ScaleSpec
+        The validated scale file.
+    responses : scalewright.data.Responses
+        The clean answers (respondents set aside with ``--exclude`` already removed).
+    info : InputInfo
+        Names and SHA-256 digests of the input files (for the provenance).
+    options : ReportOptions
+        Subgroup columns, seed, parallel-analysis iterations, confidence level, smallest group and cell.
+    input_notes : sequence of str
+        What reading the inputs changed (shown in the data-quality section).
+    n_excluded : int
+        Respondents set aside before the analysis.
+    progress : callable
+        Called with the name of each step of :data:`STEPS` as it starts.
+    today : datetime.date, optional
+        The report's date (default: today).
+
+    Returns
+    -------
+    ReportResults
+    """
+    from .scoring import score_scales
+    from .stats.groups import compare_groups, pvalue_holm
+    from .stats.tally import answer_distribution, tally
+
+    for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
+        responses.column(column)  # an unknown column stops here, with a suggestion, before any work
+    progress(STEPS[0])
+    score_table = score_scales(responses, spec)
+
+    progress(STEPS[1])
+    reliability = _reliability(spec, responses, options)
+
+    progress(STEPS[2])
+    shapes = {name: _shape(scale, score_table.scales[name], responses, options) for name, scale in spec.scales.items()}
+
+    progress(STEPS[3])
+    comparisons: dict[str, list[Any]] = {name: [] for name in spec.scales}
+    for column in options.by:
+        values = responses.column(column)
+        per_scale = [compare_groups(score_table.scales[name].scores, values, min_cell=options.min_cell,
+                                    confidence_level=options.confidence_level, column=column, scale=name)
+                     for name in spec.scales]
+        for name, comparison in zip(spec.scales, pvalue_holm(per_scale)):
+            comparisons[name].append(comparison)
+
+    progress(STEPS[4])
+    answers = {name: answer_distribution(responses.matrix(scale.items), scale.response.levels, scale.response.labels,
+                                         item_names=scale.items, min_cell=options.min_cell)
+               for name, scale in spec.scales.items()}
+    group_tallies = tuple(tally(responses.column(column), min_cell=options.min_cell) for column in options.by)
+
+    progress(STEPS[5])
+    structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+
+    progress(STEPS[6])
+    screen = _screen(spec, responses, info, options) if responses.n else None
+
+    findings = {
+        name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name], reliability=reliability[name],
+                            shape=shapes[name][0], shape_by=shapes[name][1], comparisons=tuple(comparisons[name]),
+                            answers=answers[name])
+        for name, scale in spec.scales.items()
+    }
+    notes = []
+    if structure is None:
+        notes.append("the structure needs at least two items; it was not analysed")
+    return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,
+                         reading=responses.reading_summary(), input_notes=tuple(input_notes),
+                         score_table=score_table, scales=findings, structure=structure, screen=screen,
+                         group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
+                         notes=tuple(notes))
