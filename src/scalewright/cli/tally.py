@@ -46,7 +46,7 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
 @click.option("--min-cell", type=click.IntRange(min=1), default=5, show_default=True,
               help="Categories with fewer respondents are shown as '< N' and left out of tests.")
 @click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
-              help="Write a bar chart per column (and diverging bars of the items) into this folder.")
+              help="Write a bar chart per --columns column (and, with --items, diverging bars per scale) here.")
 @click.option("--percent", is_flag=True, help="Bar charts of valid percentages instead of counts.")
 @click.option("--pie", is_flag=True, help="Pie charts instead of bar charts (refused above 5 slices).")
 @input_options
@@ -82,6 +82,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             if name not in frame.columns:
                 raise UsageError(f"{data} has no column named {name!r} (columns: {', '.join(map(str, frame.columns))})")
             return frame[name]
+    asked = list(names)  # these get a bar chart each; --items adds diverging bars per scale instead
     if items:
         names += [item for item in spec.items if item not in names]
     if not names:
@@ -115,7 +116,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                 responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
                 item_names=scale.items, min_cell=min_cell)
     if figures is not None:
-        _write_figures(figures, tallies, distributions, percent=percent, pie=pie,
+        _write_figures(figures, [t for t in tallies if t.column in asked], distributions, percent=percent, pie=pie,
                        inputs=[p for p in (data, scales) if p is not None])
     emit(command="tally", inputs=inputs, body=body, tables=tally_tables(tallies, fits, decimals=decimals), fmt=fmt,
          out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})

@@ -1,0 +1,198 @@
+"""`scalewright compare` and `scalewright tally` end to end on small generated files."""
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from scipy import stats
+
+from scalewright.cli import main
+
+SCALES = """version: 1
+title: Staff climate test
+id_column: staff_id
+groups: [shift]
+response:
+  min: 1
+  max: 5
+  labels: {1: Strongly disagree, 2: Disagree, 3: Neither, 4: Agree, 5: Strongly agree}
+  missing_codes: [9]
+scales:
+  workload:
+    items: [wl1, wl2, wl3]
+    reverse: [wl3]
+  support:
+    items: [sp1, sp2, sp3]
+"""
+
+
+@pytest.fixture
+def files(tmp_path):
+    rng = np.random.default_rng(2026)
+    n = 150
+    shift = np.array(["day"] * 70 + ["night"] * 64 + ["weekend"] * 3 + ["evening"] * 13)
+    site = rng.choice(["North", "South", "East"], n, p=[0.5, 0.3, 0.2])
+    frame = pd.DataFrame({"staff_id": [f"s{i:03d}" for i in range(n)], "shift": shift, "site": site})
+    lean = np.where(shift == "night", 1, 0)
+    for j in range(1, 4):
+        frame[f"wl{j}"] = np.clip(rng.integers(1, 5, n) + lean, 1, 5)
+        frame[f"sp{j}"] = rng.integers(1, 6, n)
+    frame.loc[5, "sp2"] = 9
+    data = tmp_path / "climate.csv"
+    frame.to_csv(data, index=False)
+    scales = tmp_path / "climate.yaml"
+    scales.write_text(SCALES)
+    census = tmp_path / "census.csv"
+    census.write_text("category,proportion\nNorth,0.5\nSouth,0.3\nEast,0.2\n")
+    return data, scales, census, frame
+
+
+def run(capsys, *args):
+    code = main([str(a) for a in args])
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+def test_compare_json_contract_and_scipy(files, capsys):
+    data, scales, _, frame = files
+    code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "shift", "--format", "json")
+    assert code == 0, err
+    document = json.loads(out)
+    record = document["scales"]["workload"]["by"]["shift"]
+    assert set(record["groups"]) == {"day", "night", "evening"}
+    assert record["suppressed"] == {"weekend": "< 5"}
+    assert record["test"]["name"] == "Welch's F"
+    # reference: scipy's Kruskal-Wallis on the workload mean score (wl3 reverse-keyed: 6 - x), weekend left out
+    score = (frame["wl1"] + frame["wl2"] + (6 - frame["wl3"])) / 3
+    samples = [score[frame["shift"] == level] for level in ("day", "night", "evening")]
+    h = stats.kruskal(*samples)
+    np.testing.assert_allclose(record["nonparametric"]["statistic"], h.statistic, rtol=1e-6)
+    np.testing.assert_allclose(record["nonparametric"]["pvalue"], h.pvalue, rtol=1e-6)
+    assert record["test"]["pvalue_holm"] >= record["test"]["pvalue"]
+    assert record["sentence"].startswith("workload by shift:")
+    assert {"tool", "input", "notes"} <= set(document)
+    assert '"weekend": {' not in out  # no summary of the small group in the JSON
+
+
+def test_compare_small_group_never_leaks_in_any_format(files, capsys, tmp_path):
+    data, scales, _, frame = files
+    score = (frame["wl1"] + frame["wl2"] + (6 - frame["wl3"])) / 3
+    small_mean = score[frame["shift"] == "weekend"].mean()
+    for fmt in ("table", "md", "csv", "json"):
+        code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "shift", "--format", fmt,
+                             "--decimals", "4")
+        assert code == 0, err
+        for digits in (2, 3, 4):
+            assert f"{small_mean:.{digits}f}" not in out
+        assert "weekend" in out
+
+
+def test_compare_two_groups_and_student(files, capsys):
+    data, scales, _, frame = files
+    code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "site", "--student",
+                         "--min-cell", "40", "--format", "json")
+    assert code == 0, err
+    record = json.loads(out)["scales"]["workload"]["by"]["site"]
+    assert "East" in record["suppressed"] and set(record["groups"]) == {"North", "South"}
+    # reference: scipy's Student t on the workload mean score (no missing answers), North vs South
+    score = (frame["wl1"] + frame["wl2"] + (6 - frame["wl3"])) / 3
+    north, south = (score[frame["site"] == s] for s in ("North", "South"))
+    ref = stats.ttest_ind(north, south, equal_var=True)
+    assert record["test"]["name"] == "Student's t"
+    np.testing.assert_allclose([record["test"]["statistic"], record["test"]["pvalue"]], [ref.statistic, ref.pvalue],
+                               rtol=1e-6)
+    u = stats.mannwhitneyu(north, south)  # reference: scipy
+    np.testing.assert_allclose(record["nonparametric"]["statistic"], u.statistic, rtol=1e-9)
+
+
+def test_compare_needs_a_grouping_column(files, capsys, tmp_path):
+    data, _, _, _ = files
+    bare = tmp_path / "bare.yaml"
+    bare.write_text(SCALES.replace("groups: [shift]\n", ""))
+    code, out, err = run(capsys, "compare", data, "--scales", bare)
+    assert code != 0 and err.startswith("error:") and "--by" in err
+    code, out, err = run(capsys, "compare", data, "--scales", bare, "--by", "nosuch")
+    assert code != 0 and "nosuch" in err and "Traceback" not in err
+
+
+def test_tally_with_expected_and_items(files, capsys):
+    data, scales, census, frame = files
+    code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site,shift", "--items",
+                         "--expected", f"site={census}", "--format", "json")
+    assert code == 0, err
+    document = json.loads(out)
+    site = document["columns"]["site"]
+    observed = [int((frame["site"] == c).sum()) for c in ("East", "North", "South")]
+    ref = stats.chisquare(observed, np.array([0.2, 0.5, 0.3]) * len(frame))  # reference: scipy, live
+    np.testing.assert_allclose(site["fit"]["chi2"], ref.statistic, rtol=1e-9)
+    np.testing.assert_allclose(site["fit"]["pvalue"], ref.pvalue, rtol=1e-9)
+    assert "sentence" in site["fit"]
+    shift = {row["category"]: row for row in document["columns"]["shift"]["categories"]}
+    assert shift["weekend"]["count"] is None and shift["weekend"]["suppressed"]
+    wl1 = document["columns"]["wl1"]
+    assert [row["label"] for row in wl1["categories"]][0] == "Strongly disagree"
+    assert sum(row["count"] or 0 for row in wl1["categories"]) + wl1["missing"]["count"] <= wl1["n_total"]
+    assert document["columns"]["sp2"]["missing"]["count"] == 1
+
+
+def test_tally_small_cells_never_leak_in_any_format(files, capsys):
+    data, scales, _, _ = files
+    for fmt in ("table", "md", "csv", "json"):
+        code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "shift", "--format", fmt,
+                             "--decimals", "4")
+        assert code == 0, err
+        for secret in (3 / 150 * 100, 13 / 150 * 100):  # weekend, and evening withheld as its complement
+            for digits in (1, 2, 4):
+                assert f"{secret:.{digits}f}" not in out
+        assert "weekend" in out
+
+
+def test_tally_order_option_and_no_scale_file(files, capsys):
+    data, _, _, _ = files
+    code, out, err = run(capsys, "tally", data, "--columns", "site", "--order", "South,North,East", "--format", "json")
+    assert code == 0, err
+    rows = json.loads(out)["columns"]["site"]["categories"]
+    assert [r["category"] for r in rows] == ["South", "North", "East"]
+    assert rows[-1]["cumulative_percent"] == pytest.approx(100.0)
+    code, out, err = run(capsys, "tally", data, "--columns", "site", "--order", "South,North")
+    assert code != 0 and "'East'" in err
+
+
+@pytest.mark.parametrize("content, message", [
+    ("category,proportion\nNorth,0.5\nSouth,0.3\nMars,0.2\n", r"census.csv:4.*'Mars'"),
+    ("category,proportion\nNorth,0.5\nSouth,0.5\n", r"no proportion given for 'East'"),
+    ("category,proportion\nNorth,50\nSouth,30\nEast,20\n", r"percentages"),
+    ("category,share\nNorth,0.5\n", r"census.csv:1.*category and proportion"),
+    ("category,proportion\nNorth,half\n", r"census.csv:2.*not a number"),
+    ("category,proportion\nNorth,0.5\nNorth,0.5\n", r"census.csv:3.*repeats line 2"),
+])
+def test_tally_bad_expected_file(files, capsys, tmp_path, content, message):
+    import re
+
+    data, scales, _, _ = files
+    bad = tmp_path / "census.csv"
+    bad.write_text(content)
+    before = data.read_bytes()
+    code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", bad)
+    assert code != 0 and err.startswith("error:") and re.search(message, err), err
+    assert data.read_bytes() == before
+
+
+def test_tally_figures(files, capsys, tmp_path):
+    data, scales, _, _ = files
+    folder = tmp_path / "figs"
+    folder.mkdir()
+    code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--items",
+                         "--figures", folder, "--format", "json")
+    assert code == 0, err
+    names = {p.name for p in folder.iterdir()}
+    assert {"tally_site.svg", "tally_site.png", "items_workload.svg", "items_support.png"} <= names
+    pies = tmp_path / "pies"
+    pies.mkdir()
+    code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "wl1,site", "--pie",
+                         "--figures", pies, "--format", "json")
+    assert code == 0, err  # five answer levels and three sites: pies allowed
+    code, out, err = run(capsys, "tally", data, "--columns", "staff_id", "--pie", "--figures", pies, "--min-cell", "1")
+    assert code != 0 and "pie" in err
