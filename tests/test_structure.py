@@ -146,23 +146,24 @@ def test_parallel_analysis_recovers_the_number_of_factors(n_factors):
     assert result.suggested_factors_mean >= n_factors
 
 
-def test_random_eigenvalues_follow_the_marchenko_pastur_edge():
+@pytest.mark.parametrize("sampler", ["wishart", "data"])
+def test_random_eigenvalues_follow_the_marchenko_pastur_edge(sampler):
     # closed form, Marchenko & Pastur (1967), Math. USSR-Sbornik 1:457-483: for pure noise the largest
     # eigenvalue of the correlation matrix tends to (1 + sqrt(p/n))^2 and the smallest to (1 - sqrt(p/n))^2
     n, p = 4000, 100
-    values = random_eigenvalues(n, p, iterations=10, seed=1)
+    values = random_eigenvalues(n, p, iterations=10, seed=1, sampler=sampler)
     ratio = np.sqrt(p / n)
     assert values[:, 0].mean() == pytest.approx((1 + ratio) ** 2, rel=0.02)
     assert values[:, -1].mean() == pytest.approx((1 - ratio) ** 2, rel=0.03)
     np.testing.assert_allclose(values.sum(axis=1), p, rtol=1e-10)  # trace of a correlation matrix is p
 
 
-def test_random_eigenvalues_agree_with_scipy_wishart_draws():
+def test_random_data_eigenvalues_agree_with_scipy_wishart_draws():
     from scipy import stats
 
     # reference: the centred cross-products of n x p standard normal data are Wishart(n - 1, I) (scipy.stats)
     n, p, b = 60, 8, 2000
-    ours = random_eigenvalues(n, p, iterations=b, seed=5)
+    ours = random_eigenvalues(n, p, iterations=b, seed=5, sampler="data")
     draws = stats.wishart(df=n - 1, scale=np.eye(p)).rvs(size=b, random_state=np.random.default_rng(6))
     scale = np.sqrt(np.einsum("bii->bi", draws))
     reference = np.linalg.eigvalsh(draws / (scale[:, :, None] * scale[:, None, :]))[:, ::-1]
@@ -181,10 +182,16 @@ def test_parallel_analysis_is_reproducible_and_batched_consistently(monkeypatch)
     assert not np.array_equal(first.random, other.random)
     # the 95th percentile lies above the mean for every position
     assert np.all(first.random >= first.random_mean)
-    # batches draw from one stream in order, so the batch size changes nothing
-    whole = random_eigenvalues(100, 5, iterations=30, seed=99)
+    # data sets come from one stream in order, so the batch size changes nothing
+    whole = random_eigenvalues(100, 5, iterations=30, seed=99, sampler="data")
     monkeypatch.setattr(structure, "BATCH_VALUES", 1200)  # two iterations per batch
-    np.testing.assert_allclose(random_eigenvalues(100, 5, iterations=30, seed=99), whole, rtol=1e-12)
+    np.testing.assert_allclose(random_eigenvalues(100, 5, iterations=30, seed=99, sampler="data"), whole,
+                               rtol=1e-12)
+    # fewer respondents than items: no Wishart draws, the data route is used
+    assert parallel_analysis(np.eye(5), 4, iterations=5).sampler == "data"
+    assert first.sampler == "wishart"
+    with pytest.raises(UsageError):
+        random_eigenvalues(4, 5, iterations=2, sampler="wishart")
 
 
 def test_parallel_analysis_rejects_bad_options():
@@ -192,6 +199,8 @@ def test_parallel_analysis_rejects_bad_options():
         parallel_analysis(np.eye(3), 50, iterations=0)
     with pytest.raises(UsageError):
         parallel_analysis(np.eye(3), 50, percentile=100)
+    with pytest.raises(UsageError):
+        parallel_analysis(np.eye(3), 50, sampler="bootstrap")
 
 
 # --------------------------------------------------------------------------- factor analysis

@@ -72,6 +72,7 @@ class ParallelAnalysisResult(ResultMixin):
     iterations: int
     seed: int | None
     n: int
+    sampler: str = "data"
 
     @property
     def criterion(self) -> str:
@@ -82,7 +83,8 @@ class ParallelAnalysisResult(ResultMixin):
                 "suggested_factors_mean": self.suggested_factors_mean,
                 "observed": to_jsonable(self.observed), "random": to_jsonable(self.random),
                 "random_mean": to_jsonable(self.random_mean), "criterion": self.criterion,
-                "percentile": self.percentile, "iterations": self.iterations, "seed": self.seed, "n": self.n}
+                "percentile": self.percentile, "iterations": self.iterations, "seed": self.seed, "n": self.n,
+                "sampler": self.sampler}
 
 
 @dataclass(frozen=True)
@@ -309,24 +311,59 @@ def _generator(seed: int | np.random.Generator | None) -> np.random.Generator:
     return seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
 
 
+SAMPLERS = ("auto", "wishart", "data")
+
+
+def resolve_sampler(n: int, p: int, sampler: str = "auto") -> str:
+    """The sampler ``auto`` stands for (Wishart draws when n - 1 >= p), after checking the choice."""
+    if sampler not in SAMPLERS:
+        raise UsageError(f"unknown sampler {sampler!r}; choose one of {', '.join(SAMPLERS)}")
+    if sampler == "auto":
+        return "wishart" if n - 1 >= p else "data"
+    if sampler == "wishart" and n - 1 < p:
+        raise UsageError(f"Wishart draws need n - 1 >= p; got n = {n}, p = {p}")
+    return sampler
+
+
+def _correlation_eigenvalues(cross: np.ndarray) -> np.ndarray:
+    scale = np.sqrt(np.einsum("bii->bi", cross))
+    return np.linalg.eigvalsh(cross / (scale[:, :, None] * scale[:, None, :]))[:, ::-1]
+
+
 def random_eigenvalues(n: int, p: int, *, iterations: int = 100,
-                       seed: int | np.random.Generator | None = DEFAULT_SEED) -> np.ndarray:
+                       seed: int | np.random.Generator | None = DEFAULT_SEED, sampler: str = "auto") -> np.ndarray:
     """Eigenvalues (descending, one row per iteration) of correlation matrices of n x p standard normal data.
 
-    Vectorised: each batch of random matrices is centred, cross-multiplied and decomposed at once.
+    ``sampler="data"`` draws the n x p data sets themselves, in batches, and centres and cross-multiplies
+    them at once. ``sampler="wishart"`` draws their centred cross-product matrices directly: for standard
+    normal data these follow the Wishart distribution with n - 1 degrees of freedom and identity scale
+    (scipy.stats.wishart, by the Bartlett decomposition), so the eigenvalues have exactly the same
+    distribution at a cost independent of n. ``auto`` uses the Wishart draws when n - 1 >= p.
+
+    References
+    ----------
+    .. [1] Odell, P. L., & Feiveson, A. H. (1966). A numerical procedure to generate a sample covariance
+       matrix. Journal of the American Statistical Association, 61, 199-203.
     """
     rng = _generator(seed)
-    batch = max(1, min(iterations, BATCH_VALUES // max(n * p, 1)))
+    sampler = resolve_sampler(n, p, sampler)
+    per_draw = p * p if sampler == "wishart" else n * p
+    batch = max(1, min(iterations, BATCH_VALUES // max(per_draw, 1)))
     rows = []
     done = 0
+    if sampler == "wishart":
+        from scipy import stats
+
+        wishart = stats.wishart(df=n - 1, scale=np.eye(p))
     while done < iterations:
         size = min(batch, iterations - done)
-        draws = rng.standard_normal((size, n, p))
-        draws -= draws.mean(axis=1, keepdims=True)
-        cross = np.matmul(draws.transpose(0, 2, 1), draws)
-        scale = np.sqrt(np.einsum("bii->bi", cross))
-        correlations = cross / (scale[:, :, None] * scale[:, None, :])
-        rows.append(np.linalg.eigvalsh(correlations)[:, ::-1])
+        if sampler == "wishart":
+            cross = np.reshape(wishart.rvs(size=size, random_state=rng), (size, p, p))
+        else:
+            draws = rng.standard_normal((size, n, p))
+            draws -= draws.mean(axis=1, keepdims=True)
+            cross = np.matmul(draws.transpose(0, 2, 1), draws)
+        rows.append(_correlation_eigenvalues(cross))
         done += size
     return np.concatenate(rows, axis=0)
 
@@ -337,7 +374,8 @@ def _leading_above(observed: np.ndarray, threshold: np.ndarray) -> int:
 
 
 def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100, percentile: float = 95.0,
-                      seed: int | np.random.Generator | None = DEFAULT_SEED) -> ParallelAnalysisResult:
+                      seed: int | np.random.Generator | None = DEFAULT_SEED,
+                      sampler: str = "auto") -> ParallelAnalysisResult:
     r"""Horn's parallel analysis: how many eigenvalues stand above those of random data of the same size?
 
     With :math:`\lambda_j` the eigenvalues of the observed correlation matrix and :math:`\lambda^{(b)}_j` those
@@ -359,6 +397,8 @@ def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100,
         Percentile of the random eigenvalues used as the criterion.
     seed : int or numpy.random.Generator
         Makes the random data reproducible.
+    sampler : {"auto", "wishart", "data"}
+        How the random correlation matrices are drawn; see :func:`random_eigenvalues`.
 
     Returns
     -------
@@ -378,14 +418,15 @@ def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100,
     correlation = np.asarray(correlation, dtype=float)
     p = correlation.shape[0]
     observed = np.linalg.eigvalsh(correlation)[::-1]
-    simulated = random_eigenvalues(n, p, iterations=int(iterations), seed=seed)
+    simulated = random_eigenvalues(n, p, iterations=int(iterations), seed=seed, sampler=sampler)
     threshold = np.percentile(simulated, percentile, axis=0)
     mean = simulated.mean(axis=0)
     return ParallelAnalysisResult(
         observed=observed, random=threshold, random_mean=mean,
         suggested_factors=_leading_above(observed, threshold), suggested_factors_mean=_leading_above(observed, mean),
         percentile=float(percentile), iterations=int(iterations),
-        seed=seed if isinstance(seed, (int, np.integer)) else None, n=int(n))
+        seed=seed if isinstance(seed, (int, np.integer)) else None, n=int(n),
+        sampler=resolve_sampler(int(n), p, sampler))
 
 
 def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method: str = "minres",
