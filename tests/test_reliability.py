@@ -266,3 +266,23 @@ def test_reliability_by_group_with_holm_across_pairs():
     assert set(block["by"]["shift"]) == {"day", "night", "rotating"}
     assert block["groups_not_analysed"]["shift"] == {"on-call": 6}
     assert compare_alphas({}) == ()
+
+
+def test_one_factor_ml_fit_matches_factor_analyzer():
+    # reference: factor_analyzer FactorAnalyzer(method="ml", n_factors=1) computed live; its L-BFGS-B stops
+    # earlier than ours, hence rtol 1e-4
+    from factor_analyzer import FactorAnalyzer
+
+    rng = np.random.default_rng(17)
+    x = rng.standard_normal(3000)[:, None] * np.array([0.8, 0.7, 0.6, 0.5, 0.4, 0.3]) \
+        + rng.standard_normal((3000, 6)) * 0.7
+    cov = np.cov(x, rowvar=False)
+    corr = np.corrcoef(x, rowvar=False)
+    model = FactorAnalyzer(n_factors=1, rotation=None, method="ml", is_corr_matrix=True, use_smc=True,
+                           bounds=(0.005, 1), impute="drop", svd_method="lapack").fit(corr)
+    reference = np.asarray(model.loadings_)[:, 0]
+    reference = reference if reference.sum() > 0 else -reference
+    fit = fit_one_factor(cov)
+    assert fit.method == "ml" and fit.converged
+    np.testing.assert_allclose(fit.standardized_loadings, reference, rtol=1e-4)
+    np.testing.assert_allclose(fit.uniquenesses / np.diag(cov), model.get_uniquenesses(), rtol=1e-3)

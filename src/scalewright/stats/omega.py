@@ -33,10 +33,54 @@ class OneFactorFit(ResultMixin):
     notes: tuple[str, ...] = field(default=())
 
 
-def _fit_correlation(corr: np.ndarray, method: str) -> tuple[np.ndarray, bool, list[str]]:
+def _ml_loadings(uniqueness: np.ndarray, corr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Loadings that maximise the likelihood for given uniquenesses, and the eigenvalues behind them."""
+    scale = 1.0 / np.sqrt(uniqueness)
+    values, vectors = np.linalg.eigh(corr * np.outer(scale, scale))
+    leading = vectors[:, -1] * math.sqrt(max(values[-1] - 1.0, 0.0))
+    return np.sqrt(uniqueness) * leading, values
+
+
+def _ml_discrepancy(uniqueness: np.ndarray, corr: np.ndarray) -> tuple[float, np.ndarray]:
+    """Concentrated ML discrepancy of the one-factor model and its gradient (Joreskog, 1967)."""
+    loadings, values = _ml_loadings(uniqueness, corr)
+    rest = values[:-1]
+    discrepancy = -float(np.sum(np.log(rest) - rest)) - (len(values) - 1)
+    implied = np.outer(loadings, loadings) + np.diag(uniqueness)
+    gradient = np.diag(implied - corr) / uniqueness**2
+    return discrepancy, gradient
+
+
+def _fit_ml(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
+    """One-factor maximum-likelihood fit of a correlation matrix.
+
+    Hand-written because factor_analyzer imports scikit-learn, which costs seconds per run (more than all
+    the statistics together); the objective, starting values (squared multiple correlations) and the
+    uniqueness bounds are factor_analyzer's, and the tests compare the two live.
+    """
+    from scipy.optimize import minimize
+
+    k = corr.shape[0]
+    start = np.clip(1.0 / np.diag(np.linalg.inv(corr)), FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
+    result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
+                      bounds=[(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)] * k,
+                      options={"maxiter": 1000, "ftol": 1e-15, "gtol": 1e-10})
+    loadings, _ = _ml_loadings(result.x, corr)
+    # a line search that cannot improve an exact fit (just-identified models reach 0) ends "abnormally":
+    # accept it when the gradient, projected on the bounds, vanishes
+    gradient = _ml_discrepancy(result.x, corr)[1]
+    at_lower = (result.x <= FACTOR_ANALYZER_UNIQUENESS_FLOOR) & (gradient > 0)
+    at_upper = (result.x >= 1.0) & (gradient < 0)
+    projected = np.where(at_lower | at_upper, 0.0, gradient)
+    converged = bool(result.success) or float(np.abs(projected).max()) < 1e-6
+    messages = [] if converged else [f"Failed to converge: {result.message}"]
+    return loadings, converged, messages
+
+
+def _fit_minres(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
     from factor_analyzer import FactorAnalyzer
 
-    model = FactorAnalyzer(n_factors=1, rotation=None, method=method, use_smc=True, is_corr_matrix=True,
+    model = FactorAnalyzer(n_factors=1, rotation=None, method="minres", use_smc=True, is_corr_matrix=True,
                            bounds=(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1), impute="drop", svd_method="lapack")
     with warnings.catch_warnings(record=True) as caught:
         # factor_analyzer reports non-convergence only as a bare UserWarning; record it instead
@@ -48,7 +92,7 @@ def _fit_correlation(corr: np.ndarray, method: str) -> tuple[np.ndarray, bool, l
 
 
 def fit_one_factor(cov: np.ndarray) -> OneFactorFit | None:
-    """Fit a one-factor model by maximum likelihood (factor_analyzer), falling back to minres.
+    """Fit a one-factor model by maximum likelihood, falling back to factor_analyzer's minres.
 
     The model is fitted to the correlation matrix and rescaled to the covariance metric
     (:math:`\\lambda_j = \\lambda^{*}_j s_j`, :math:`\\psi_j = \\psi^{*}_j s_j^2`); maximum likelihood is
@@ -67,14 +111,14 @@ def fit_one_factor(cov: np.ndarray) -> OneFactorFit | None:
     corr = correlation_from_cov(cov)
     notes: list[str] = []
     try:
-        standardized, converged, messages = _fit_correlation(corr, "ml")
+        standardized, converged, messages = _fit_ml(corr)
         method = "ml"
     except (np.linalg.LinAlgError, ValueError) as error:
         standardized, converged, messages = np.full(k, np.nan), False, [str(error)]
     if not converged or not np.isfinite(standardized).all():
         notes.append("maximum-likelihood one-factor fit did not converge; minres used instead")
         try:
-            standardized, converged, messages = _fit_correlation(corr, "minres")
+            standardized, converged, messages = _fit_minres(corr)
             method = "minres"
         except (np.linalg.LinAlgError, ValueError):
             return None

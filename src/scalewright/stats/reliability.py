@@ -403,27 +403,28 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     n_rows, k = matrix.shape
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
     levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1)
-    n = np.zeros(k, dtype=np.int64)
-    mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
-    counts: list[dict[str, int]] = []
-    off_level = 0
-    for j in range(k):
-        column = matrix[:, j]
-        answered = column[~np.isnan(column)]
-        n[j] = answered.size
-        if answered.size:
-            mean[j] = answered.mean()
-        if answered.size >= 2:
-            sd[j] = answered.std(ddof=1)
-        codes = (low + high - answered) if reversed_mask[j] else answered
-        offsets = codes - levels[0] if levels.size else codes
-        integral = (offsets == np.round(offsets)) & (offsets >= 0) & (offsets < levels.size)
-        off_level += int(answered.size - integral.sum())
-        tally = np.bincount(offsets[integral].astype(np.int64), minlength=levels.size)
-        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally)})
-        if answered.size and levels.size:
-            floor[j] = 100.0 * tally[0] / answered.size
-            ceiling[j] = 100.0 * tally[-1] / answered.size
+    answered = ~np.isnan(matrix)
+    n = answered.sum(axis=0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mean = np.where(answered, matrix, 0.0).sum(axis=0) / n
+        deviations = np.where(answered, matrix - mean, 0.0)
+        sd = np.sqrt((deviations**2).sum(axis=0) / (n - 1))
+    mean = np.where(n > 0, mean, np.nan)
+    sd = np.where(n > 1, sd, np.nan)
+    # answer codes as given: reverse-keyed columns turned back; NaN stays NaN
+    codes = np.where(reversed_mask, low + high - matrix, matrix)
+    first = levels[0] if levels.size else 0
+    offsets = codes - first
+    with np.errstate(invalid="ignore"):
+        on_level = (offsets == np.floor(offsets)) & (offsets >= 0) & (offsets < levels.size)
+    off_level = int(answered.sum() - on_level.sum())
+    width = max(levels.size, 1)
+    cells = (offsets + np.arange(k) * width)[on_level].astype(np.int64)
+    tally = np.bincount(cells, minlength=k * width).reshape(k, width)[:, :levels.size]
+    counts = tuple({str(int(level)): int(c) for level, c in zip(levels, tally[j])} for j in range(k))
+    with np.errstate(invalid="ignore", divide="ignore"):
+        floor = np.where(n > 0, 100.0 * tally[:, 0] / n, np.nan) if levels.size else np.full(k, np.nan)
+        ceiling = np.where(n > 0, 100.0 * tally[:, -1] / n, np.nan) if levels.size else np.full(k, np.nan)
     missing_pct = 100.0 * (n_rows - n) / n_rows if n_rows else np.full(k, np.nan)
     return ItemDescriptives(n=n, mean=mean, sd=sd, missing_pct=missing_pct, floor_pct=floor,
                             ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
