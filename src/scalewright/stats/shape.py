@@ -3,10 +3,11 @@
 The rule (documented with its measured accuracy in docs/shape.md) reads effect sizes, not p-values alone:
 
 1. *bimodal* -- two peaks with a valley between them whose density is at most ``VALLEY_RATIO`` of the smaller
-   peak's, on score bands holding about ``BAND_EXPECTED`` respondents each, and the valley is lower than that
-   peak beyond chance (one-sided binomial p < ``VALLEY_ALPHA``);
-2. *uniform* -- the bands are flat: w in excess of its chance level, sqrt(max(chi2 - df, 0)/n), below
-   ``FLAT_W``, and the skewness is small;
+   peak's, on windows of one answer step (wider when needed to hold ~``BAND_EXPECTED`` respondents), the valley
+   lower than that peak beyond chance (one-sided binomial p < ``VALLEY_ALPHA``), and the distribution not flat
+   (unless the valley is deeper than ``DEEP_VALLEY_RATIO``);
+2. *uniform* -- flat: on bands of one window, w in excess of its chance level, sqrt(max(chi2 - df, 0)/n), is
+   below ``FLAT_W``, and the skewness is small;
 3. *left-/right-skewed* -- |G1| >= ``SKEW_THRESHOLD`` and beyond twice its standard error;
 4. *symmetric* -- otherwise.
 
@@ -32,15 +33,18 @@ from .subgroups import split_by
 SHAPES = ("symmetric", "left-skewed", "right-skewed", "uniform", "bimodal")
 DEFAULT_PERCENTILES = (5, 10, 25, 50, 75, 90, 95)
 
-#: |G1| from which a distribution is called skewed (Bulmer 1979: |skewness| < 1/2 is "fairly symmetrical")
-SKEW_THRESHOLD = 0.5
+#: |G1| from which a distribution is called skewed; Bulmer (1979) calls |skewness| < 1/2 "fairly symmetrical",
+#: rating scores' skewness is damped by the bounded answer range, so the cut is a little lower (docs/shape.md)
+SKEW_THRESHOLD = 0.4
 #: a flat distribution has bands whose excess w stays below this (Cohen 1988 calls w = 0.1 small, 0.3 medium)
 FLAT_W = 0.2
 #: a valley's density at most this share of the smaller peak's
 VALLEY_RATIO = 0.75
+#: a valley this deep counts even when the distribution passes as flat
+DEEP_VALLEY_RATIO = 0.5
 #: one-sided binomial p below which the valley is lower than the smaller peak beyond chance
 VALLEY_ALPHA = 0.01
-#: respondents expected per score band of the shape rule (bands: at least 5, at most 12)
+#: respondents expected at least per window of the shape rule (windows widen beyond one answer step to reach it)
 BAND_EXPECTED = 15
 #: share at the lowest / highest attainable score above which a floor / ceiling effect is flagged (Terwee et al. 2007)
 FLOOR_CEILING_SHARE = 0.15
@@ -106,11 +110,11 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     sizes = np.asarray(cells.grid_values, dtype=float) if cells.resolution > 0 else np.ones(counts.size)
     n_cells = counts.size
     width = int(min(n_cells, max(period, math.ceil(BAND_EXPECTED * n_cells / max(n, 1)))))
-    starts = np.arange(0, n_cells, width)
+    starts = _symmetric_band_starts(n_cells, width)
     band_counts = np.add.reduceat(counts, starts)
     band_sizes = np.add.reduceat(sizes, starts)
     edges = np.asarray(cells.edges)[np.append(starts, n_cells)]
-    flat = uniform_fit(band_counts, band_sizes).excess_w(n)
+    flat = uniform_fit(band_counts, band_sizes).excess_w(n) if band_counts.size >= 3 else math.nan
     window_sums = np.convolve(counts, np.ones(width), mode="valid")  # window i covers cells i .. i+width-1
     window_sizes = np.convolve(sizes, np.ones(width), mode="valid")
     window_density = window_sums / window_sizes
@@ -137,6 +141,29 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
                          valley_at=at, peaks_at=peaks, window_cells=width)
 
 
+def _symmetric_band_starts(n_cells: int, width: int) -> np.ndarray:
+    """First cells of about ``width``-cell bands laid out the same from either end (so mirrored scores
+    get mirrored bands)."""
+    bands = max(1, int(round(n_cells / width)))
+    if n_cells % 2 == 1 and bands % 2 == 0:
+        bands = bands + 1 if n_cells / (bands + 1) >= width / 2 else bands - 1
+    bands = max(bands, 1)
+    sizes = np.full(bands, n_cells // bands)
+    extra = int(n_cells - sizes.sum())
+    if extra % 2 == 1:  # the parity fix above makes ``bands`` odd here: the middle band takes one
+        sizes[bands // 2] += 1
+        extra -= 1
+    # the rest in mirrored pairs, from the middle outwards
+    for i in range((bands - 1) // 2, -1, -1):
+        if extra == 0:
+            break
+        if i != bands - 1 - i:
+            sizes[i] += 1
+            sizes[bands - 1 - i] += 1
+            extra -= 2
+    return np.concatenate([[0], np.cumsum(sizes)[:-1]])
+
+
 def _fmt(value: float, decimals: int = 2) -> str:
     """Numbers inside the evidence sentence (the raw values are in the result's fields)."""
     if value is None or not math.isfinite(value):
@@ -157,8 +184,9 @@ def shape_label(*, n: int, mean: float, median: float, skewness: float, skewness
     notes: list[str] = []
     skew_text = f"skewness {_fmt(skewness)} (SE {_fmt(skewness_se)})"
     bands = f"windows of {features.window_cells} score value(s)"
+    flat = math.isfinite(features.flat_w) and features.flat_w < FLAT_W
     if (math.isfinite(features.valley_ratio) and features.valley_ratio <= VALLEY_RATIO
-            and features.valley_p < VALLEY_ALPHA):
+            and features.valley_p < VALLEY_ALPHA and (not flat or features.valley_ratio <= DEEP_VALLEY_RATIO)):
         low_peak, high_peak = features.peaks_at
         evidence = (f"two peaks near {_fmt(low_peak)} and {_fmt(high_peak)} with a valley near "
                     f"{_fmt(features.valley_at)} at {features.valley_ratio:.0%} of the smaller peak "
@@ -166,7 +194,7 @@ def shape_label(*, n: int, mean: float, median: float, skewness: float, skewness
                     f"bimodality coefficient {_fmt(bimodality)}")
         return "bimodal", evidence, notes
     small_skew = not (abs(skewness) >= SKEW_THRESHOLD)
-    if small_skew and math.isfinite(features.flat_w) and features.flat_w < FLAT_W:
+    if small_skew and flat:
         evidence = (f"close to flat: excess w {_fmt(features.flat_w)} over {len(features.band_counts)} bands (below {FLAT_W}); "
                     f"{skew_text}; bimodality coefficient {_fmt(bimodality)} (a flat distribution gives 5/9)")
         return "uniform", evidence, notes
