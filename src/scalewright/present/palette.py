@@ -24,8 +24,9 @@ DIVERGING_POSITIVE = ("#9CCBEA", "#56B4E9", "#0072B2")
 def diverging_colours(n_levels: int) -> list[str]:
     """Colours for ``n_levels`` ordered answer levels; a middle level (odd counts) is grey."""
     half = n_levels // 2
-    negative = list(DIVERGING_NEGATIVE[-half:]) if half <= len(DIVERGING_NEGATIVE) else _stretch(DIVERGING_NEGATIVE, half)
-    positive = list(DIVERGING_POSITIVE[:half]) if half <= len(DIVERGING_POSITIVE) else _stretch(DIVERGING_POSITIVE, half)
+    # the strongest answers keep the strongest colours; the lighter tones are dropped first
+    negative = list(DIVERGING_NEGATIVE[:half]) if half <= len(DIVERGING_NEGATIVE) else _stretch(DIVERGING_NEGATIVE, half)
+    positive = list(DIVERGING_POSITIVE[-half:]) if half <= len(DIVERGING_POSITIVE) else _stretch(DIVERGING_POSITIVE, half)
     middle = [NEUTRAL_GREY] if n_levels % 2 else []
     return negative + middle + positive
 
