@@ -465,3 +465,25 @@ def describe_by_subgroup(values, groups, *, min_group: int = 10, column: str | N
         notes.append(f"{unscored} respondent(s) without a score left out of the subgroups")
     return SubgroupShapes(column=split.column, levels=levels, too_small=dict(split.too_small), missing=split.missing,
                           min_group=min_group, notes=tuple(notes))
+
+
+@dataclass(frozen=True)
+class ShapeReport(ResultMixin):
+    """The shape of one scale score (or item): all respondents and every subgroup column asked for.
+
+    ``to_dict`` follows the contract: ``all`` and ``by.<column>.<level>``; levels too small to describe are
+    listed under ``too_small.<column>``.
+    """
+
+    name: str
+    title: str
+    kind: str  # "scale" or "item"
+    overall: ShapeSummary
+    groups: tuple[SubgroupShapes, ...] = ()
+    x_label: str = "score"
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"title": self.title, "kind": self.kind, "x_label": self.x_label, "all": self.overall.to_dict(),
+                "by": {g.column: {level: s.to_dict() for level, s in g.levels.items()} for g in self.groups},
+                "too_small": {g.column: dict(g.too_small) for g in self.groups},
+                "group_notes": {g.column: list(g.notes) for g in self.groups}}

@@ -1,0 +1,166 @@
+"""`scalewright shape`: descriptives and the shape label with its evidence, per scale (and item), per subgroup."""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+import click
+
+from ..errors import UsageError
+from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, resolve_by, scales_option
+
+
+def parse_percentiles(text: str) -> tuple[float, ...]:
+    """'5,10,90' -> (5.0, 10.0, 90.0); every value in 0..100."""
+    values = []
+    for part in text.split(","):
+        part = part.strip()
+        if not part:
+            continue
+        try:
+            value = float(part)
+        except ValueError:
+            raise UsageError(f"--percentiles: {part!r} is not a number") from None
+        if not 0 <= value <= 100:
+            raise UsageError(f"--percentiles: {part} is outside 0..100")
+        values.append(value)
+    if not values:
+        raise UsageError("--percentiles needs at least one value, e.g. 5,25,50,75,95")
+    return tuple(dict.fromkeys(values))
+
+
+def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
+                  percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
+                  min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
+    """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
+
+    Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.
+    """
+    from ..scoring import composite, keyed_items, score_range
+    from ..stats.score_grid import attainable_scores, score_resolution
+    from ..stats.shape import ShapeReport, describe_by_subgroup, describe_scores
+
+    group_values = {column: responses.column(column) for column in by}
+
+    def report(name: str, title: str, kind: str, values, x_label: str, **grid) -> ShapeReport:
+        options = dict(percentiles=percentiles, quantile_method=quantile_method, seed=seed, **grid)
+        overall = describe_scores(values, **options)
+        groups = tuple(describe_by_subgroup(values, series, min_group=min_group, column=column, **options)
+                       for column, series in group_values.items())
+        return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=groups, x_label=x_label)
+
+    scales: dict[str, ShapeReport] = {}
+    for name, scale in spec.scales.items():
+        fmt = scale.response
+        scores, _ = composite(keyed_items(responses, scale), method=scale.score, required=scale.required_answered())
+        low, high = score_range(scale)
+        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
+        word = "mean" if scale.score == "mean" else "prorated sum"
+        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
+        scales[name] = report(name, scale.title, "scale", scores, x_label, attainable=grid, low=low, high=high,
+                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
+                              answer_levels=len(fmt.levels))
+    item_reports: dict[str, ShapeReport] = {}
+    if items:
+        import numpy as np
+
+        for item in spec.items:
+            fmt = spec.response_for(item)
+            wording = spec.wording_for(item)
+            title = f"{item}: {wording}" if wording else item
+            item_reports[item] = report(item, title, "item", responses.item(item),
+                                        f"answer to {item} (as given, {fmt.min} to {fmt.max})",
+                                        attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
+                                        answer_levels=len(fmt.levels))
+    return {"scales": scales, "items": item_reports}
+
+
+@click.command("shape")
+@data_argument
+@scales_option
+@by_option
+@click.option("--items", is_flag=True, help="Also describe every item (answers as given, before reverse keying).")
+@click.option("--percentiles", default="5,10,25,50,75,90,95", show_default=True, metavar="LIST",
+              help="Percentiles to report, separated by commas.")
+@click.option("--quantile-method", type=click.Choice(["inverted_cdf", "averaged_inverted_cdf", "closest_observation",
+                                                      "interpolated_inverted_cdf", "hazen", "weibull", "linear",
+                                                      "median_unbiased", "normal_unbiased"]),
+              default="linear", show_default=True,
+              help="Sample quantile definition (Hyndman & Fan types 1-9 by numpy's names; linear is type 7).")
+@click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
+              help="Subgroup levels with fewer scored respondents are named but not described.")
+@click.option("--seed", type=click.IntRange(min=0), default=0, show_default=True,
+              help="Seed of the jitter used by the dip test on tied scores.")
+@click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
+              help="Write histograms and box plots (SVG and PNG) to this folder.")
+@input_options
+@output_options
+def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentiles: str, quantile_method: str,
+          min_group: int, seed: int, figures: Path | None, lenient: bool, exclude: Path | None, fmt: str | None,
+          out: Path | None, decimals: int) -> None:
+    """Describe each score's distribution and name its shape, with the numbers behind the name.
+
+    Per scale score: n, mean, SD, median, quartiles, IQR, range, percentiles, modes, adjusted skewness
+    and kurtosis with standard errors, bimodality coefficient, dip test, fit to a flat distribution,
+    floor and ceiling shares, and a shape (symmetric, left-skewed, right-skewed, uniform, bimodal) with
+    its evidence. With --by, the same per subgroup; small subgroups are named, not described.
+    """
+    from ..present.shape import shape_tables
+
+    chosen = parse_percentiles(percentiles)
+    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    columns = resolve_by(by, inputs.spec)
+    results = analyse_shape(inputs.spec, inputs.responses, by=columns, items=items, percentiles=chosen,
+                            quantile_method=quantile_method, min_group=min_group, seed=seed)
+    body = {"scales": {name: r.to_dict() for name, r in results["scales"].items()},
+            "reading": inputs.responses.reading_summary()}
+    if items:
+        body["items"] = {name: r.to_dict() for name, r in results["items"].items()}
+    options = {"by": list(columns), "items": items, "percentiles": list(chosen), "quantile_method": quantile_method,
+               "min_group": min_group, "seed": seed}
+    reports = [*results["scales"].values(), *results["items"].values()]
+    if figures is not None:
+        write_shape_figures(figures, reports, spec=inputs.spec, inputs=[data, scales])
+    emit(command="shape", inputs=inputs, body=body, tables=shape_tables(reports), fmt=fmt, out=out,
+         decimals=decimals, options=options)
+
+
+def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = None, inputs: Sequence[Path] = ()) -> list[Path]:
+    """Histogram and box plot of every report, and per-subgroup box plots and small multiples."""
+    from ..present.figure_files import save_figure, use_agg
+
+    if folder.exists() and not folder.is_dir():
+        raise UsageError(f"cannot write figures: {folder} is not a folder")
+    if not folder.parent.is_dir():
+        raise UsageError(f"cannot write figures: folder {folder.parent} does not exist")
+    folder.mkdir(exist_ok=True)
+    use_agg()
+    from ..present.figures_shape import box_plot, box_plots_by_group, histogram, histograms_by_group
+
+    written: list[Path] = []
+    for report in reports:
+        stem = f"shape_{_safe(report.name)}"
+        if report.overall.histogram is None:
+            continue
+        labels = None
+        if report.kind == "item" and spec is not None:
+            labels = {float(code): text for code, text in spec.response_for(report.name).labels.items()}
+        ax = histogram(report.overall, title=report.title, x_label=report.x_label, tick_labels=labels)
+        written += save_figure(ax.figure, folder / f"{stem}_histogram", inputs=inputs)
+        ax = box_plot(report.overall, title=report.title, x_label=report.x_label)
+        written += save_figure(ax.figure, folder / f"{stem}_boxplot", inputs=inputs)
+        for group in report.groups:
+            if not group.levels or any(s.histogram is None for s in group.levels.values()):
+                continue
+            ax = box_plots_by_group(report, column=group.column)
+            written += save_figure(ax.figure, folder / f"{stem}_by_{_safe(group.column)}_boxplots", inputs=inputs)
+            axes = histograms_by_group(report, column=group.column)
+            written += save_figure(axes[0].figure, folder / f"{stem}_by_{_safe(group.column)}_histograms",
+                                   inputs=inputs)
+    click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
+    return written
+
+
+def _safe(name: str) -> str:
+    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))

@@ -1,0 +1,88 @@
+"""Tables of the shape results: descriptives, percentiles, shape label with evidence, histogram counts.
+
+In CSV, rows keyed ``shape`` give one row per score (and subgroup), ``shape_percentiles`` the percentiles,
+``shape_histogram`` the counts per interval. Nothing is computed here; numbers are rounded by the renderers.
+"""
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping
+
+from ..stats.shape import ShapeReport, ShapeSummary
+from .table import Table
+
+SUMMARY_COLUMNS = ("score", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
+                   "skewness", "SE skew", "kurtosis", "SE kurt", "BC", "dip p", "uniform w", "uniform p",
+                   "floor %", "ceiling %", "shape")
+SUMMARY_KINDS = {"score": "text", "sample": "text", "n": "int", "missing": "int", "BC": "bounded", "dip p": "p",
+                 "uniform p": "p", "uniform w": "num", "floor %": "pct", "ceiling %": "pct", "shape": "text"}
+
+
+def _samples(report: ShapeReport) -> Iterable[tuple[str, ShapeSummary]]:
+    yield "all", report.overall
+    for group in report.groups:
+        for level, summary in group.levels.items():
+            yield f"{group.column} = {level}", summary
+
+
+def _summary_row(name: str, sample: str, s: ShapeSummary) -> tuple:
+    return (name, sample, s.n, s.n_missing, s.mean, s.sd, s.median, s.q1, s.q3, s.iqr, s.min, s.max, s.skewness,
+            s.skewness_se, s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.uniform_gof.w,
+            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, s.shape or "–")
+
+
+def _modes_text(s: ShapeSummary) -> str:
+    return ", ".join(f"{m:g}" for m in s.modes) if s.modes else "none"
+
+
+def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, histograms: bool = True) -> list[Table]:
+    """Tables for text, Markdown and CSV rendering of :class:`~scalewright.stats.shape.ShapeReport` objects."""
+    values = list(reports.values()) if isinstance(reports, Mapping) else list(reports)
+    tables: list[Table] = []
+    if not values:
+        return tables
+    method = values[0].overall.quantile_method
+    summary_rows, evidence_rows, percentile_rows = [], [], []
+    notes: list[str] = []
+    percentile_keys: list[str] = list(values[0].overall.percentiles)
+    for report in values:
+        for sample, s in _samples(report):
+            summary_rows.append(_summary_row(report.name, sample, s))
+            evidence_rows.append((report.name, sample, s.shape or "–", _modes_text(s), s.evidence or "–"))
+            percentile_rows.append((report.name, sample, *(s.percentiles.get(k) for k in percentile_keys)))
+            notes.extend(f"{report.name}, {sample}: {note}" for note in s.notes)
+        for group in report.groups:
+            notes.extend(f"{report.name}: {note}" for note in group.notes)
+    tables.append(Table(
+        title="Distribution of each score", columns=SUMMARY_COLUMNS, rows=tuple(summary_rows), kinds=SUMMARY_KINDS,
+        notes=(f"quartiles and percentiles: {method} method (Hyndman & Fan 1996); skewness and kurtosis are the "
+               "adjusted G1 and excess G2 (Joanes & Gill 1998); BC: bimodality coefficient (5/9 for a flat "
+               "distribution); dip p from scores jittered within their resolution; uniform w: chi-square "
+               "effect size against equal counts at every attainable score; floor/ceiling: share at the lowest/"
+               "highest attainable score (flagged above 15%)", *notes),
+        key="shape"))
+    tables.append(Table(
+        title="Shape of each score and the evidence for it", columns=("score", "sample", "shape", "modes", "evidence"),
+        rows=tuple(evidence_rows), kinds={c: "text" for c in ("score", "sample", "shape", "modes", "evidence")},
+        notes=("the rule is described in docs/shape.md; scores describe groups, not any one respondent",),
+        key="shape_evidence"))
+    tables.append(Table(
+        title=f"Percentiles ({method} method)", columns=("score", "sample", *(f"P{k}" for k in percentile_keys)),
+        rows=tuple(percentile_rows), kinds={"score": "text", "sample": "text"}, key="shape_percentiles"))
+    if histograms:
+        for report in values:
+            cells = report.overall.histogram
+            if cells is None:
+                continue
+            labels = cells.labels()
+            total = sum(cells.counts) or 1
+            interval_notes = ["each interval is half-open [a, b); a single value v stands for [v - h/2, v + h/2) "
+                              f"with h = {cells.resolution:g}" if cells.per_value else
+                              "each interval is half-open [a, b)", *cells.notes]
+            tables.append(Table(
+                title=f"{report.title} ({report.name}): counts per score interval",
+                columns=("score", "interval", "from", "to", "count", "%"),
+                rows=tuple((report.name, label, a, b, c, 100.0 * c / total)
+                           for label, a, b, c in zip(labels, cells.edges[:-1], cells.edges[1:], cells.counts)),
+                kinds={"score": "text", "interval": "text", "count": "int", "%": "pct"},
+                notes=tuple(interval_notes), key="shape_histogram"))
+    return tables
