@@ -186,6 +186,12 @@ def _screen(spec: Any, responses: Any, info: InputInfo, options: ReportOptions) 
                           data_path=Path(info.data) if info.data else None)
 
 
+def check_columns(responses: Any, options: ReportOptions) -> None:
+    """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data."""
+    for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
+        responses.column(column)
+
+
 def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),
                  input_notes: Sequence[str] = (), n_excluded: int = 0,
                  progress: Callable[[str], None] = _no_progress,
@@ -219,8 +225,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     from .stats.groups import compare_groups, pvalue_holm
     from .stats.tally import answer_distribution, tally
 
-    for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
-        responses.column(column)  # an unknown column stops here, with a suggestion, before any work
+    check_columns(responses, options)
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 

@@ -17,7 +17,7 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import WRITE_STEPS, prepare_report_folder, write_report_folder
-    from ..report import DEFAULT_SEED, STEPS, ReportOptions, build_report
+    from ..report import DEFAULT_SEED, STEPS, ReportOptions, build_report, check_columns
 
     progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
     progress.step("reading the inputs")
@@ -27,7 +27,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                             min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
                             decimals=decimals, duration_column=duration_column)
     # every check of the inputs and options runs before the folder is touched
-    folder = prepare_report_folder(out, force=force)
+    check_columns(inputs.responses, options)
+    folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude])
     results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
                            input_notes=inputs.notes, n_excluded=inputs.excluded, progress=progress.step)
     write_report_folder(results, folder, decimals=decimals, inputs=[data, scales, exclude], progress=progress.step)

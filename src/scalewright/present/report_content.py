@@ -114,6 +114,22 @@ def item_table(findings: Any, structure: Any, decimals: int) -> Table | None:
                  notes=items.notes, key="items")
 
 
+def reliability_table(findings: Any) -> Table | None:
+    """The whole-sample row of the reliability module's summary table, with its notes."""
+    from .reliability import reliability_tables
+
+    if findings.reliability is None:
+        return None
+    summary = next(t for t in reliability_tables([findings.reliability]) if t.key == "reliability")
+    overall = findings.reliability.overall
+    notes = (f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
+             f"{overall.missing_handling}", *overall.notes)
+    table = _without(Table(title=f"Reliability of {scale_label(findings)}", columns=summary.columns,
+                           rows=tuple(row for row in summary.rows if row[1] == "all"), kinds=summary.kinds,
+                           notes=tuple(notes), key=summary.key), "scale")
+    return _without(table, "sample")
+
+
 def _flag_sentences(findings: Any) -> list[str]:
     if findings.reliability is None:
         return []
@@ -230,6 +246,9 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
     if flags:
         blocks.append(Bullets(tuple(flags)))
     items_blocks: list[Any] = []
+    reliability = reliability_table(findings)
+    if reliability is not None:
+        items_blocks.append(TableBlock(reliability))
     table = item_table(findings, results.structure, decimals)
     if table is not None:
         items_blocks.append(TableBlock(table, flag_column="flags"))
@@ -244,7 +263,7 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
     if shape_table is not None:
         distribution_blocks.append(TableBlock(shape_table))
     anchor = f"scale-{findings.name}"
-    subsections = [Section(anchor=f"{anchor}-items", title="Items", blocks=tuple(items_blocks)),
+    subsections = [Section(anchor=f"{anchor}-items", title="Reliability and items", blocks=tuple(items_blocks)),
                    Section(anchor=f"{anchor}-distribution", title="Score distribution",
                            blocks=tuple(distribution_blocks))]
     subgroups = _subgroup_sections(findings, results, figures, decimals)

@@ -16,9 +16,22 @@ from .report_layout import FigureBlock
 FIGURES = "figures"
 
 
-def prepare_report_folder(folder: str | Path, *, force: bool = False) -> Path:
-    """Create ``folder`` if needed; refuse a file, or a folder that already holds files unless ``force``."""
+#: the files of a report, relative to its folder (figures come on top)
+REPORT_FILES = ("index.html", "report.md", "results.json", "scores.csv")
+
+
+def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: Iterable = ()) -> Path:
+    """Create ``folder`` if needed; refuse a file, a folder that already holds files unless ``force``, and a
+    folder where a report file would replace an input file (checked before anything is written)."""
+    from ..files import refuse_input_overwrite
+
     folder = Path(folder)
+    inputs = [p for p in inputs if p is not None]
+    for name in REPORT_FILES:
+        refuse_input_overwrite(folder / name, inputs)
+    if folder.is_dir() and (folder / FIGURES).is_dir():
+        for existing in (folder / FIGURES).iterdir():
+            refuse_input_overwrite(existing, inputs)
     if folder.exists() and not folder.is_dir():
         raise UsageError(f"cannot write the report into {folder}: it is a file, not a folder")
     if folder.is_dir() and any(folder.iterdir()) and not force:
