@@ -51,7 +51,7 @@ def _ml_discrepancy(uniqueness: np.ndarray, corr: np.ndarray) -> tuple[float, np
     return discrepancy, gradient
 
 
-def _fit_ml(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
+def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarray, bool, list[str]]:
     """One-factor maximum-likelihood fit of a correlation matrix.
 
     Hand-written because factor_analyzer imports scikit-learn, which costs seconds per run (more than all
@@ -61,7 +61,9 @@ def _fit_ml(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
     from scipy.optimize import minimize
 
     k = corr.shape[0]
-    start = np.clip(1.0 / np.diag(np.linalg.inv(corr)), FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
+    if start is None:
+        start = 1.0 / np.diag(np.linalg.inv(corr))
+    start = np.clip(start, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
     result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
                       bounds=[(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)] * k,
                       options={"maxiter": 1000, "ftol": 1e-15, "gtol": 1e-10})
@@ -91,7 +93,7 @@ def _fit_minres(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
     return loadings, not messages, messages
 
 
-def fit_one_factor(cov: np.ndarray) -> OneFactorFit | None:
+def fit_one_factor(cov: np.ndarray, *, start: np.ndarray | None = None) -> OneFactorFit | None:
     """Fit a one-factor model by maximum likelihood, falling back to factor_analyzer's minres.
 
     The model is fitted to the correlation matrix and rescaled to the covariance metric
@@ -111,7 +113,7 @@ def fit_one_factor(cov: np.ndarray) -> OneFactorFit | None:
     corr = correlation_from_cov(cov)
     notes: list[str] = []
     try:
-        standardized, converged, messages = _fit_ml(corr)
+        standardized, converged, messages = _fit_ml(corr, start)
         method = "ml"
     except (np.linalg.LinAlgError, ValueError) as error:
         standardized, converged, messages = np.full(k, np.nan), False, [str(error)]
@@ -158,17 +160,23 @@ def omega_total_from_fit(fit: OneFactorFit | None) -> float:
     return common / denominator if denominator > 0 else math.nan
 
 
-def omega_total_from_cov(cov: np.ndarray) -> float:
-    """Omega total of the raw composite from the item covariance matrix (NaN when no model can be fitted)."""
-    return omega_total_from_fit(fit_one_factor(cov))
+def omega_total_from_cov(cov: np.ndarray, *, start: np.ndarray | None = None) -> float:
+    """Omega total of the raw composite from the item covariance matrix (NaN when no model can be fitted).
+
+    ``start`` optionally gives starting uniquenesses (standardized metric) for the fit.
+    """
+    return omega_total_from_fit(fit_one_factor(cov, start=start))
 
 
-def omega_if_deleted_from_cov(cov: np.ndarray) -> np.ndarray:
-    """Omega total of the remaining items when each item in turn is left out (length-k array)."""
+def omega_if_deleted_from_cov(cov: np.ndarray, *, start: np.ndarray | None = None) -> np.ndarray:
+    """Omega total of the remaining items when each item in turn is left out (length-k array).
+
+    ``start``: uniquenesses of the full fit (standardized), used as starting values of each reduced fit.
+    """
     cov = np.asarray(cov, dtype=np.float64)
     k = cov.shape[0]
     out = np.full(k, np.nan)
     for j in range(k):
         keep = np.arange(k) != j
-        out[j] = omega_total_from_cov(cov[np.ix_(keep, keep)])
+        out[j] = omega_total_from_cov(cov[np.ix_(keep, keep)], start=None if start is None else start[keep])
     return out

@@ -219,7 +219,7 @@ def feldt_alpha_ci(alpha: float, n: int, k: int, *, confidence_level: float = 0.
     .. [1] Feldt, L. S., Woodruff, D. J., & Salih, F. A. (1987). Statistical inference for coefficient
        alpha. Applied Psychological Measurement, 11, 93-103.
     """
-    from scipy.stats import f
+    from scipy.special import fdtri  # inverse F cdf; scipy.stats would cost seconds to import
 
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
@@ -227,8 +227,8 @@ def feldt_alpha_ci(alpha: float, n: int, k: int, *, confidence_level: float = 0.
         return (math.nan, math.nan)
     gamma = 1.0 - confidence_level
     df1, df2 = n - 1, (n - 1) * (k - 1)
-    lower = 1.0 - (1.0 - alpha) * float(f.ppf(1.0 - gamma / 2, df1, df2))
-    upper = 1.0 - (1.0 - alpha) * float(f.ppf(gamma / 2, df1, df2))
+    lower = 1.0 - (1.0 - alpha) * float(fdtri(df1, df2, 1.0 - gamma / 2))
+    upper = 1.0 - (1.0 - alpha) * float(fdtri(df1, df2, gamma / 2))
     return (lower, upper)
 
 
@@ -262,14 +262,14 @@ def alpha_difference_test(alpha_a: float, n_a: int, alpha_b: float, n_b: int) ->
     .. [1] Feldt, L. S. (1969). A test of the hypothesis that Cronbach's alpha or Kuder-Richardson
        coefficient twenty is the same for two tests. Psychometrika, 34, 363-373.
     """
-    from scipy.stats import f
+    from scipy.special import fdtr, fdtrc  # F cdf and survival function without importing scipy.stats
 
     if not (math.isfinite(alpha_a) and math.isfinite(alpha_b)) or n_a < 3 or n_b < 3 or alpha_b >= 1:
         return (math.nan, math.nan)
     w = (1.0 - alpha_a) / (1.0 - alpha_b)
     if not w > 0:
         return (math.nan, math.nan)
-    tail = min(float(f.cdf(w, n_a - 1, n_b - 1)), float(f.sf(w, n_a - 1, n_b - 1)))
+    tail = min(float(fdtr(n_a - 1, n_b - 1, w)), float(fdtrc(n_a - 1, n_b - 1, w)))
     return (float(w), min(1.0, 2.0 * tail))
 
 
@@ -402,29 +402,31 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     matrix = np.asarray(keyed, dtype=np.float64)
     n_rows, k = matrix.shape
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
-    levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1)
-    answered = ~np.isnan(matrix)
-    n = answered.sum(axis=0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        mean = np.where(answered, matrix, 0.0).sum(axis=0) / n
-        deviations = np.where(answered, matrix - mean, 0.0)
-        sd = np.sqrt((deviations**2).sum(axis=0) / (n - 1))
-    mean = np.where(n > 0, mean, np.nan)
-    sd = np.where(n > 1, sd, np.nan)
-    # answer codes as given: reverse-keyed columns turned back; NaN stays NaN
-    codes = np.where(reversed_mask, low + high - matrix, matrix)
-    first = levels[0] if levels.size else 0
-    offsets = codes - first
-    with np.errstate(invalid="ignore"):
-        on_level = (offsets == np.floor(offsets)) & (offsets >= 0) & (offsets < levels.size)
-    off_level = int(answered.sum() - on_level.sum())
-    width = max(levels.size, 1)
-    cells = (offsets + np.arange(k) * width)[on_level].astype(np.int64)
-    tally = np.bincount(cells, minlength=k * width).reshape(k, width)[:, :levels.size]
-    counts = tuple({str(int(level)): int(c) for level, c in zip(levels, tally[j])} for j in range(k))
-    with np.errstate(invalid="ignore", divide="ignore"):
-        floor = np.where(n > 0, 100.0 * tally[:, 0] / n, np.nan) if levels.size else np.full(k, np.nan)
-        ceiling = np.where(n > 0, 100.0 * tally[:, -1] / n, np.nan) if levels.size else np.full(k, np.nan)
+    levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
+    n = np.zeros(k, dtype=np.int64)
+    mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
+    counts: list[dict[str, int]] = []
+    off_level = 0
+    for j in range(k):
+        column = matrix[:, j]
+        # rating answers take few values: their counts are sufficient for n, mean and sd (one pass per level)
+        keyed_levels = (low + high - levels) if reversed_mask[j] else levels
+        tally = np.array([np.count_nonzero(column == value) for value in keyed_levels], dtype=np.int64)
+        n[j] = int(np.count_nonzero(~np.isnan(column)))
+        outside = int(n[j] - tally.sum())
+        off_level += outside
+        if outside:
+            answered = column[~np.isnan(column)]
+            mean[j] = answered.mean()
+            sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
+        elif n[j]:
+            mean[j] = float(tally @ keyed_levels) / n[j]
+            if n[j] >= 2:
+                sd[j] = math.sqrt(float(tally @ (keyed_levels - mean[j]) ** 2) / (n[j] - 1))
+        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally)})
+        if n[j] and levels.size:
+            floor[j] = 100.0 * tally[0] / n[j]
+            ceiling[j] = 100.0 * tally[-1] / n[j]
     missing_pct = 100.0 * (n_rows - n) / n_rows if n_rows else np.full(k, np.nan)
     return ItemDescriptives(n=n, mean=mean, sd=sd, missing_pct=missing_pct, floor_pct=floor,
                             ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
@@ -551,7 +553,8 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
     mean_r, min_r, max_r = inter_item_correlations(cov_used) if usable else (math.nan,) * 3
     item_rest_r = item_rest_correlations_from_cov(cov_used) if usable else np.full(k, np.nan)
     if_deleted = alpha_if_deleted_from_cov(cov_used) if usable else np.full(k, np.nan)
-    omega_deleted = (omega_if_deleted_from_cov(cov_used) if fit is not None and k >= 4
+    omega_deleted = (omega_if_deleted_from_cov(cov_used, start=1.0 - fit.standardized_loadings**2)
+                     if fit is not None and k >= 4
                      else np.full(k, np.nan))
     loadings = fit.standardized_loadings if fit is not None else np.full(k, np.nan)
     alpha_reversed = alpha_with_item_reversed_from_cov(cov_used) if usable else np.full(k, np.nan)
