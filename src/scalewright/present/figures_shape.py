@@ -81,7 +81,7 @@ def _box_stats(summary: ShapeSummary, label: str) -> dict:
 def box_plot(summary: ShapeSummary, *, title: str = "", x_label: str = "score", ax=None):
     """A horizontal box plot: quartiles, whiskers to the last scores inside Tukey's 1.5 IQR fences, outliers."""
     ax = _axes(ax, (6.0, 2.2))
-    ax.bxp([_box_stats(summary, "")], vert=False, showfliers=True, widths=0.5, patch_artist=True,
+    ax.bxp([_box_stats(summary, "")], orientation="horizontal", showfliers=True, widths=0.5, patch_artist=True,
            boxprops={"facecolor": OKABE_ITO[4], "edgecolor": "black"}, medianprops={"color": ACCENT, "linewidth": 2},
            flierprops={"marker": "o", "markerfacecolor": "none", "markeredgecolor": "black", "markersize": 5})
     ax.set_yticks([])
@@ -114,7 +114,7 @@ def box_plots_by_group(report: ShapeReport, *, column: str | None = None, ax=Non
     name, samples = _group_samples(report, column)
     ax = _axes(ax, (6.5, 0.6 * len(samples) + 1.6))
     stats = [_box_stats(s, f"{level} (n = {s.n})") for level, s in samples]
-    parts = ax.bxp(stats, vert=False, showfliers=True, widths=0.55, patch_artist=True,
+    parts = ax.bxp(stats, orientation="horizontal", showfliers=True, widths=0.55, patch_artist=True,
                    medianprops={"color": "black", "linewidth": 2},
                    flierprops={"marker": "o", "markerfacecolor": "none", "markeredgecolor": "black", "markersize": 4})
     for patch, colour in zip(parts["boxes"], _colours(len(samples))):

@@ -12,9 +12,10 @@ from .table import Table
 
 SUMMARY_COLUMNS = ("score", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
                    "skewness", "SE skew", "kurtosis", "SE kurt", "BC", "dip p", "uniform w", "uniform p",
-                   "floor %", "ceiling %", "shape")
+                   "floor %", "ceiling %", "effect", "shape")
 SUMMARY_KINDS = {"score": "text", "sample": "text", "n": "int", "missing": "int", "BC": "bounded", "dip p": "p",
-                 "uniform p": "p", "uniform w": "num", "floor %": "pct", "ceiling %": "pct", "shape": "text"}
+                 "uniform p": "p", "uniform w": "num", "floor %": "pct", "ceiling %": "pct", "effect": "text",
+                 "shape": "text"}
 
 
 def _samples(report: ShapeReport) -> Iterable[tuple[str, ShapeSummary]]:
@@ -27,7 +28,17 @@ def _samples(report: ShapeReport) -> Iterable[tuple[str, ShapeSummary]]:
 def _summary_row(name: str, sample: str, s: ShapeSummary) -> tuple:
     return (name, sample, s.n, s.n_missing, s.mean, s.sd, s.median, s.q1, s.q3, s.iqr, s.min, s.max, s.skewness,
             s.skewness_se, s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.uniform_gof.w,
-            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, s.shape or "–")
+            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, _effect(s), s.shape or "–")
+
+
+def _effect(s: ShapeSummary) -> str:
+    named = [name for name, flag in (("floor", s.floor_effect), ("ceiling", s.ceiling_effect)) if flag]
+    return " + ".join(named)
+
+
+def _table_notes(s: ShapeSummary) -> list[str]:
+    """The summary's notes, less the floor/ceiling ones that the 'effect' column already shows."""
+    return [note for note in s.notes if not note.startswith(("floor effect", "ceiling effect"))]
 
 
 def _modes_text(s: ShapeSummary) -> str:
@@ -49,7 +60,7 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
             summary_rows.append(_summary_row(report.name, sample, s))
             evidence_rows.append((report.name, sample, s.shape or "–", _modes_text(s), s.evidence or "–"))
             percentile_rows.append((report.name, sample, *(s.percentiles.get(k) for k in percentile_keys)))
-            notes.extend(f"{report.name}, {sample}: {note}" for note in s.notes)
+            notes.extend(f"{report.name}, {sample}: {note}" for note in _table_notes(s))
         for group in report.groups:
             notes.extend(f"{report.name}: {note}" for note in group.notes)
     tables.append(Table(
@@ -58,7 +69,7 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
                "adjusted G1 and excess G2 (Joanes & Gill 1998); BC: bimodality coefficient (5/9 for a flat "
                "distribution); dip p from scores jittered within their resolution; uniform w: chi-square "
                "effect size against equal counts at every attainable score; floor/ceiling: share at the lowest/"
-               "highest attainable score (flagged above 15%)", *notes),
+               "highest attainable score; effect: more than 15% there (Terwee et al. 2007)", *notes),
         key="shape"))
     tables.append(Table(
         title="Shape of each score and the evidence for it", columns=("score", "sample", "shape", "modes", "evidence"),
@@ -76,7 +87,8 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
             labels = cells.labels()
             total = sum(cells.counts) or 1
             interval_notes = ["each interval is half-open [a, b); a single value v stands for [v - h/2, v + h/2) "
-                              f"with h = {cells.resolution:g}" if cells.per_value else
+                              f"with h = {cells.resolution:g}; scores between grid values (fewer items answered) count in the "
+                              "nearest cell" if cells.per_value else
                               "each interval is half-open [a, b)", *cells.notes]
             tables.append(Table(
                 title=f"{report.title} ({report.name}): counts per score interval",
