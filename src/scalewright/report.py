@@ -63,8 +63,7 @@ class ScaleFindings:
     scale: Any                      # spec.Scale
     scores: Any                     # scoring.ScaleScores
     reliability: Any | None         # stats.reliability.ScaleReliabilityReport
-    shape: Any | None               # stats.shape.ShapeSummary
-    shape_by: tuple[Any, ...]       # stats.shape.SubgroupShapes, one per --by column
+    shape: Any | None               # stats.shape.ShapeReport (overall and one SubgroupShapes per --by column)
     comparisons: tuple[Any, ...]    # stats.groups.Comparison, one per --by column (Holm across scales)
     answers: Any | None             # stats.tally.AnswerDistribution of the answer codes as given
     notes: tuple[str, ...] = ()
@@ -101,18 +100,7 @@ class ReportResults:
                            if f.reliability is not None}}
 
     def shape_block(self) -> dict[str, Any]:
-        out: dict[str, Any] = {}
-        for name, findings in self.scales.items():
-            if findings.shape is None:
-                continue
-            entry: dict[str, Any] = {"all": findings.shape.to_dict()}
-            if findings.shape_by:
-                entry["by"] = {g.column: {level: s.to_dict() for level, s in g.levels.items()}
-                               for g in findings.shape_by}
-                entry["groups_not_analysed"] = {g.column: dict(g.too_small) for g in findings.shape_by}
-                entry["notes"] = [note for g in findings.shape_by for note in g.notes]
-            out[name] = entry
-        return {"scales": out}
+        return {"scales": {name: f.shape.to_dict() for name, f in self.scales.items() if f.shape is not None}}
 
     def compare_block(self) -> dict[str, Any]:
         return {"scales": {name: {"by": {c.column: c.to_dict() for c in f.comparisons}}
@@ -151,19 +139,11 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
                                min_group=options.min_group)
 
 
-def _shape(scale: Any, scores: Any, responses: Any, options: ReportOptions) -> tuple[Any, tuple[Any, ...]]:
-    from .scoring import score_range
-    from .stats.score_grid import attainable_scores
-    from .stats.shape import describe_by_subgroup, describe_scores
+def _shape(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
+    # the shape command's own (click-free) analysis function
+    from .cli.shape import analyse_shape
 
-    low, high = score_range(scale)
-    grid = attainable_scores(scale.response.min, scale.response.max, scale.k, method=scale.score,
-                             min_answered=scores.required)
-    settings = dict(attainable=grid, low=low, high=high, seed=options.seed)
-    overall = describe_scores(scores.scores, **settings)
-    by = tuple(describe_by_subgroup(scores.scores, responses.column(column), min_group=options.min_group,
-                                    column=column, **settings) for column in options.by)
-    return overall, by
+    return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed)["scales"]
 
 
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
@@ -233,7 +213,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     reliability = _reliability(spec, responses, options)
 
     progress(STEPS[2])
-    shapes = {name: _shape(scale, score_table.scales[name], responses, options) for name, scale in spec.scales.items()}
+    shapes = _shape(spec, responses, options)
 
     progress(STEPS[3])
     comparisons: dict[str, list[Any]] = {name: [] for name in spec.scales}
@@ -259,7 +239,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     findings = {
         name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name], reliability=reliability[name],
-                            shape=shapes[name][0], shape_by=shapes[name][1], comparisons=tuple(comparisons[name]),
+                            shape=shapes[name], comparisons=tuple(comparisons[name]),
                             answers=answers[name])
         for name, scale in spec.scales.items()
     }

@@ -1,4 +1,4 @@
-"""`scalewright demo`: write the fictional staff climate survey, its scale file and the scored file."""
+"""`scalewright demo`: write the fictional staff climate survey and its scale file, and build the full report."""
 from __future__ import annotations
 
 from pathlib import Path
@@ -10,6 +10,9 @@ from ..errors import UsageError
 DATA_NAME = "staff-climate.csv"
 SCALES_NAME = "staff-climate.yaml"
 SCORES_NAME = "scores.csv"
+REPORT_NAME = "index.html"
+#: the demo data's column of completion times (seconds), used by the screen's speed check
+DURATION_COLUMN = "duration_s"
 
 CAUTION = ("The data are fictional (Kestrel Bay Health does not exist). Scores describe groups of respondents; "
            "they are not a diagnosis or a basis for decisions about one person. For a published instrument, "
@@ -59,13 +62,22 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
 @click.option("--n", "n", type=click.IntRange(40, 1_000_000), default=600, show_default=True,
               help="Number of respondents.")
 @click.option("--force", is_flag=True, help="Write into a folder that already holds files.")
-def demo(out: Path, seed: int, n: int, force: bool) -> None:
-    """Write a fictional staff climate survey, its scale file and the scored file into a folder."""
+@click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
+              help="Random data sets drawn for the report's parallel analysis.")
+@click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while the report is built.")
+def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool) -> None:
+    """Write a fictional staff climate survey and its scale file, and build the full report from them."""
+    from .report import build_report_folder
+
     folder = prepare_folder(out, force=force)
     data_path, scales_path = write_demo_inputs(folder, seed=seed, n=n)
-    scores_path = write_demo_scores(folder, data_path, scales_path)
+    # the report writes the scored file (scores.csv) itself, with every other output
+    build_report_folder(data_path, scales_path, folder, force=True, seed=seed, iterations=iterations,
+                        duration_column=DURATION_COLUMN, quiet=quiet)
     click.echo(f"wrote {data_path}  (data: {n} fictional respondents, seed {seed})")
     click.echo(f"wrote {scales_path}  (scale file)")
-    click.echo(f"wrote {scores_path}  (scored file: one row per respondent, in data order)")
+    click.echo(f"wrote {folder / SCORES_NAME}  (scored file: one row per respondent, in data order)")
+    click.echo(f"wrote {folder / REPORT_NAME}  (the report: open it in a browser; also report.md, results.json, "
+               "figures/)")
     click.echo(f"next: scalewright reliability {data_path} --scales {scales_path}")
     click.echo(CAUTION)

@@ -62,7 +62,7 @@ def summary_table(results: Any, decimals: int) -> Table:
     rows = []
     for findings in results.scales.values():
         overall = findings.reliability.overall if findings.reliability is not None else None
-        shape = findings.shape
+        shape = findings.shape.overall if findings.shape is not None else None
         rows.append((scale_label(findings), findings.scale.k, findings.scores.n_scored,
                      _alpha_with_ci(overall, decimals), None if overall is None else overall.omega_total,
                      None if shape is None else shape.mean, None if shape is None else shape.sd,
@@ -161,7 +161,7 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
             if _n(overall.omega_total) != "–":
                 text += f"; omega total = {_n(overall.omega_total, 'bounded', decimals)}"
             sentences.append(text + ".")
-    shape = findings.shape
+    shape = findings.shape.overall if findings.shape is not None else None
     if shape is not None and _n(shape.mean) != "–":
         text = (f"Scores: M = {_n(shape.mean, 'num', decimals)}, SD = {_n(shape.sd, 'num', decimals)}, median "
                 f"{_n(shape.median, 'num', decimals)}, from {_n(shape.min, 'num', decimals)} to "
@@ -179,25 +179,19 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
     return sentences
 
 
-def _shape_table(findings: Any, decimals: int) -> Table | None:
-    """Descriptives of the scores, overall and per subgroup, from the shape results."""
+def _shape_tables(findings: Any) -> list[Table]:
+    """The shape module's tables of one score (all respondents and every subgroup), without the score column."""
+    from .shape import shape_tables
+
     if findings.shape is None:
-        return None
-    samples = [("all", findings.shape)]
-    for group in findings.shape_by:
-        samples += [(f"{group.column} = {level}", summary) for level, summary in group.levels.items()]
-    columns = ("sample", "n", "mean", "sd", "median", "q1", "q3", "min", "max", "skewness", "SE skew",
-               "kurtosis", "SE kurt", "BC", "dip p", "floor %", "ceiling %", "shape")
-    rows = tuple((name, s.n, s.mean, s.sd, s.median, s.q1, s.q3, s.min, s.max, s.skewness, s.skewness_se,
-                  s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.floor_pct, s.ceiling_pct,
-                  s.shape or "–") for name, s in samples)
-    notes = list(findings.shape.notes) + [note for group in findings.shape_by for note in group.notes]
-    notes.append("kurtosis is excess kurtosis (0 for a normal distribution); BC: bimodality coefficient; dip p: "
-                 "Hartigan's dip test on jittered scores")
-    return Table(title=f"Distribution of the {scale_label(findings)} scores", columns=columns, rows=rows,
-                 kinds={"sample": "text", "n": "int", "BC": "bounded", "dip p": "p", "floor %": "pct",
-                        "ceiling %": "pct", "shape": "text"},
-                 notes=tuple(notes), key="shape")
+        return []
+    wanted = {"shape": f"Distribution of the {scale_label(findings)} scores",
+              "shape_evidence": "Shape and the evidence for it", "shape_percentiles": "Percentiles"}
+    out = []
+    for table in shape_tables([findings.shape], histograms=False):
+        if table.key in wanted:
+            out.append(_retitled(_without(table, "score"), wanted[table.key]))
+    return out
 
 
 def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals: int) -> list[Section]:
@@ -259,9 +253,7 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
     histogram = figures.get(("histogram", findings.name))
     if histogram is not None:
         distribution_blocks.append(histogram)
-    shape_table = _shape_table(findings, decimals)
-    if shape_table is not None:
-        distribution_blocks.append(TableBlock(shape_table))
+    distribution_blocks.extend(TableBlock(t) for t in _shape_tables(findings))
     anchor = f"scale-{findings.name}"
     subsections = [Section(anchor=f"{anchor}-items", title="Reliability and items", blocks=tuple(items_blocks)),
                    Section(anchor=f"{anchor}-distribution", title="Score distribution",

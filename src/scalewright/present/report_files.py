@@ -59,8 +59,28 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
 
     inputs = list(inputs)
     figures: dict[tuple[str, ...], FigureBlock] = {}
+    from .figures_shape import box_plots_by_group, histogram
+
     for name, findings in results.scales.items():
         label = scale_label(findings)
+        shape = findings.shape
+        if shape is not None and shape.overall.histogram is not None:
+            stem = _save(histogram(shape.overall, title=f"Scores of {label}", x_label=shape.x_label), folder,
+                         f"{name}-histogram", inputs=inputs)
+            figures[("histogram", name)] = FigureBlock(
+                stem, f"Distribution of the {label} scores",
+                f"Histogram of the {shape.overall.n} scores, one bar per attainable score or score interval; "
+                f"shape: {shape.overall.shape or 'not labelled'}.")
+        for position, group in enumerate(shape.groups if shape is not None else ()):
+            if not group.levels:
+                continue
+            stem = _save(box_plots_by_group(shape, column=group.column), folder,
+                         f"{name}-by-{position + 1}-boxplot", inputs=inputs)
+            figures[("boxplot", name, group.column)] = FigureBlock(
+                stem, f"{label} by {group.column}",
+                f"Box plots of the scores for each of {len(group.levels)} level(s) of {group.column}: the box spans "
+                "the quartiles, the thick line is the median, whiskers reach the last score within 1.5 IQR of "
+                "the box and circles mark scores beyond.")
         if findings.answers is not None and findings.answers.items:
             stem = _save(diverging_bars(findings.answers, title=f"Answers to the items of {label}"),
                          folder, f"{name}-answers", inputs=inputs)
