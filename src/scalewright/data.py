@@ -180,6 +180,8 @@ class Responses:
     missing_code_by_column: dict[str, int] = field(default_factory=dict)
     blank_by_column: dict[str, int] = field(default_factory=dict)
     texts_by_column: dict[str, int] = field(default_factory=dict)
+    #: every column name in the order the data file has them (items in questionnaire order, for longstring)
+    file_columns: tuple[str, ...] = ()
 
     @property
     def n(self) -> int:
@@ -217,7 +219,12 @@ class Responses:
             line_numbers=self.line_numbers[positions], id_column=self.id_column, refused=self.refused,
             refused_total=self.refused_total, refused_by_column=self.refused_by_column,
             missing_code_by_column=self.missing_code_by_column, blank_by_column=self.blank_by_column,
-            texts_by_column=self.texts_by_column)
+            texts_by_column=self.texts_by_column, file_columns=self.file_columns)
+
+    def items_in_file_order(self) -> tuple[str, ...]:
+        """The item names in the order their columns stand in the data file."""
+        rank = {name: position for position, name in enumerate(self.file_columns)}
+        return tuple(sorted(self.item_names, key=lambda item: rank.get(item, len(rank))))
 
     def without_ids(self, ids: Iterable[str]) -> tuple["Responses", int, list[str]]:
         """Drop the respondents whose id is listed; return the rest, how many were dropped, unknown ids."""
@@ -390,7 +397,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
                      refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
                      missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
-                     texts_by_column=texts_by_column)
+                     texts_by_column=texts_by_column, file_columns=tuple(columns))
 
 
 def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],

@@ -9,21 +9,9 @@ import click
 from .common import choose_format, data_argument, emit, input_options, load_inputs, output_options, scales_option
 
 
-def questionnaire_order(data: Path | None, item_names: tuple[str, ...]) -> list[int]:
-    """Positions of ``item_names`` in the order their columns stand in the data file (the order shown)."""
-    if data is None:
-        return list(range(len(item_names)))
-    from ..data import read_table
-
-    if data.suffix.lower() in (".csv", ".tsv", ".txt"):
-        import pandas as pd
-
-        header = list(pd.read_csv(data, nrows=0, sep=None if data.suffix.lower() == ".txt" else
-                                  ("\t" if data.suffix.lower() == ".tsv" else ","), engine="python").columns)
-    else:
-        header = list(read_table(data).columns)
-    rank = {str(name).strip(): position for position, name in enumerate(header)}
-    return sorted(range(len(item_names)), key=lambda i: rank.get(item_names[i], len(header) + i))
+def questionnaire_order(responses: Any) -> list[int]:
+    """Positions of the item columns in the order they stand in the data file (the order shown)."""
+    return [responses.item_names.index(name) for name in responses.items_in_file_order()]
 
 
 def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
@@ -35,7 +23,7 @@ def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = N
     from ..scoring import keyed_items
     from ..stats.quality import ScreenThresholds, screen_respondents
 
-    order = questionnaire_order(data_path, tuple(responses.item_names))
+    order = questionnaire_order(responses)
     raw = responses.items[:, order]
     keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
     durations = None
