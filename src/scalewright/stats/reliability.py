@@ -403,30 +403,30 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     n_rows, k = matrix.shape
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
     levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
-    n = np.zeros(k, dtype=np.int64)
     mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
+    # rating answers take few values: their counts are sufficient for n, mean and sd; one whole-matrix
+    # comparison per level (row-major friendly) instead of a pass per item and level
+    keyed_levels = np.where(reversed_mask[None, :], low + high - levels[:, None], levels[:, None])  # (L, k)
+    tally = np.array([np.count_nonzero(matrix == keyed_levels[l], axis=0) for l in range(levels.size)],
+                     dtype=np.int64).reshape(levels.size, k).T  # (k, L)
+    n = np.count_nonzero(~np.isnan(matrix), axis=0).astype(np.int64)
     counts: list[dict[str, int]] = []
     off_level = 0
     for j in range(k):
-        column = matrix[:, j]
-        # rating answers take few values: their counts are sufficient for n, mean and sd (one pass per level)
-        keyed_levels = (low + high - levels) if reversed_mask[j] else levels
-        tally = np.array([np.count_nonzero(column == value) for value in keyed_levels], dtype=np.int64)
-        n[j] = int(np.count_nonzero(~np.isnan(column)))
-        outside = int(n[j] - tally.sum())
+        outside = int(n[j] - tally[j].sum())
         off_level += outside
         if outside:
-            answered = column[~np.isnan(column)]
+            answered = matrix[:, j][~np.isnan(matrix[:, j])]
             mean[j] = answered.mean()
             sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
         elif n[j]:
-            mean[j] = float(tally @ keyed_levels) / n[j]
+            mean[j] = float(tally[j] @ keyed_levels[:, j]) / n[j]
             if n[j] >= 2:
-                sd[j] = math.sqrt(float(tally @ (keyed_levels - mean[j]) ** 2) / (n[j] - 1))
-        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally)})
+                sd[j] = math.sqrt(float(tally[j] @ (keyed_levels[:, j] - mean[j]) ** 2) / (n[j] - 1))
+        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally[j])})
         if n[j] and levels.size:
-            floor[j] = 100.0 * tally[0] / n[j]
-            ceiling[j] = 100.0 * tally[-1] / n[j]
+            floor[j] = 100.0 * tally[j, 0] / n[j]
+            ceiling[j] = 100.0 * tally[j, -1] / n[j]
     missing_pct = 100.0 * (n_rows - n) / n_rows if n_rows else np.full(k, np.nan)
     return ItemDescriptives(n=n, mean=mean, sd=sd, missing_pct=missing_pct, floor_pct=floor,
                             ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
