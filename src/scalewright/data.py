@@ -98,8 +98,9 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
         message = str(error).splitlines()[0] if str(error) else type(error).__name__
         raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
-    if any(frame[c].dtype == object for c in frame.columns):
-        _decode_check(path, path.read_bytes())  # names the first byte that is not UTF-8, if any
+    if any(frame[c].dtype == object and pd.api.types.infer_dtype(frame[c], skipna=True) not in ("string", "empty")
+           for c in frame.columns):
+        _decode_check(path, path.read_bytes())  # pyarrow kept undecodable bytes: name the first bad byte
     frame.columns = [str(c).strip() for c in frame.columns]
     return frame
 

@@ -25,7 +25,7 @@ def reverse_key(values: np.ndarray, low: float, high: float) -> np.ndarray:
 
 def keyed_items(responses: Responses, scale: Scale) -> np.ndarray:
     """The scale's items as an n x k float64 matrix, reverse-worded items keyed, NaN where missing."""
-    keyed = responses.matrix(scale.items).copy()
+    keyed = responses.matrix(scale.items)  # fancy indexing already made a copy
     for position, item in enumerate(scale.items):
         if scale.is_reversed(item):
             keyed[:, position] = reverse_key(keyed[:, position], scale.response.min, scale.response.max)
