@@ -33,7 +33,7 @@ CSS = """
 *{box-sizing:border-box}
 html{background:var(--tint)}
 body{margin:0;color:var(--ink);background:var(--paper);font:16px/1.55 system-ui,-apple-system,"Segoe UI",
-"Noto Sans","Liberation Sans",Arial,sans-serif;max-width:68rem;margin-inline:auto;padding:0 2rem 3rem;
+"Noto Sans","Liberation Sans",Arial,sans-serif;max-width:76rem;margin-inline:auto;padding:0 2rem 3rem;
 font-variant-numeric:tabular-nums}
 header.masthead{border-bottom:3px solid var(--accent);padding:2.2rem 0 1.2rem;margin-bottom:1.5rem}
 .masthead .kicker{text-transform:uppercase;letter-spacing:.12em;font-size:.78rem;color:var(--accent);margin:0}
@@ -45,6 +45,7 @@ nav.contents{background:var(--tint);border-radius:6px;padding:.8rem 1.2rem;margi
 nav.contents h2{font-size:1rem;margin:0 0 .3rem;border:0;padding:0}
 nav.contents ol{margin:0;padding-left:1.3rem;columns:2;column-gap:2rem}
 nav.contents ol ol{columns:1;font-size:.92rem}
+nav.contents li{break-inside:avoid}
 a{color:var(--accent)}
 section{margin-top:2.4rem}
 section section{margin-top:1.6rem}
@@ -63,11 +64,12 @@ thead th{border-bottom:2px solid var(--ink);font-weight:600;white-space:nowrap}
 tbody tr:nth-child(even){background:var(--tint)}
 tbody th{font-weight:500}
 td.num,th.num{text-align:right;white-space:nowrap}
+td.wide{min-width:14rem;max-width:24rem}
 p.table-note{font-size:.82rem;color:var(--muted);margin:.15rem 0}
 .flag{display:inline-block;background:var(--flag-bg);color:var(--flag-ink);border:1px solid #f0c89a;
 border-radius:3px;padding:0 .35rem;margin:0 .2rem .1rem 0;font-size:.78rem;white-space:nowrap}
 figure{margin:1rem 0 1.6rem;break-inside:avoid;page-break-inside:avoid}
-figure svg{display:block;max-width:100%;height:auto}
+figure svg{display:block;width:100%;max-width:44rem;height:auto}
 figcaption{font-size:.86rem;color:var(--muted);margin-top:.35rem;max-width:48rem}
 figcaption strong{color:var(--ink)}
 .figure-row{display:grid;grid-template-columns:repeat(auto-fit,minmax(20rem,1fr));gap:1.2rem;align-items:start}
@@ -82,6 +84,7 @@ section.scale{break-before:page}
 h2,h3,h4{break-after:avoid;page-break-after:avoid}
 table,figure,.caution{break-inside:avoid;page-break-inside:avoid}
 .table-wrap{overflow:visible}
+table{font-size:7.5pt}th,td{padding:.15rem .3rem}thead th{white-space:normal}
 .figure-row{display:block}
 a{color:inherit;text-decoration:none}
 }
@@ -183,6 +186,9 @@ def _flags_html(value: object) -> str:
 def table_html(table: Table, *, decimals: int, flag_column: str | None = None) -> str:
     """One table: a caption, ``<th scope="col">`` headers, the first cell of a row as its header."""
     numeric = [table.kind_of(c) != "text" for c in table.columns]
+    # long texts (wording, messages, sources) get a readable measure instead of one endless line
+    wide = [not is_number and any(len(str(row[i])) > 40 for row in table.rows)
+            for i, is_number in enumerate(numeric)]
     parts = ['<div class="table-wrap"><table>', f"<caption>{esc(table.title)}</caption>", "<thead><tr>"]
     for column, is_number in zip(table.columns, numeric):
         css = ' class="num"' if is_number else ""
@@ -190,12 +196,12 @@ def table_html(table: Table, *, decimals: int, flag_column: str | None = None) -
     parts.append("</tr></thead><tbody>")
     for row in table.rows:
         parts.append("<tr>")
-        for position, (column, value, is_number) in enumerate(zip(table.columns, row, numeric)):
+        for position, (column, value, is_number, is_wide) in enumerate(zip(table.columns, row, numeric, wide)):
             if column == flag_column:
                 content = _flags_html(value)
             else:
                 content = esc(format_value(value, table.kind_of(column), decimals))
-            css = ' class="num"' if is_number else ""
+            css = ' class="num"' if is_number else (' class="wide"' if is_wide else "")
             if position == 0:
                 parts.append(f'<th scope="row"{css}>{content}</th>')
             else:

@@ -212,7 +212,12 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
         if figure is not None:
             blocks.append(figure)
         if comparison is not None:
-            blocks.extend(TableBlock(t) for t in compare_tables([comparison], decimals=decimals))
+            sentence = comparison_sentence(comparison, decimals=decimals)
+            for table in compare_tables([comparison], decimals=decimals):
+                # the sentence already stands above the tables
+                notes = tuple(note for note in table.notes if note != sentence)
+                blocks.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
+                                               kinds=table.kinds, notes=notes, key=table.key)))
         summary = reliability_tables_by_key.get("reliability")
         if summary is not None:
             rows = tuple(row for row in summary.rows if row[1] == "all" or str(row[1]).startswith(f"{column} = "))
