@@ -4,8 +4,8 @@ The rule (documented with its measured accuracy in docs/shape.md) reads effect s
 
 1. *bimodal* -- two peaks with a valley between them whose density is at most ``VALLEY_RATIO`` of the smaller
    peak's, on windows of one answer step (wider when needed to hold ~``BAND_EXPECTED`` respondents), the valley
-   lower than that peak beyond chance (one-sided binomial p < ``VALLEY_ALPHA``), and the distribution not flat
-   (unless the valley is deeper than ``DEEP_VALLEY_RATIO``);
+   lower than that peak beyond chance (one-sided binomial p < ``VALLEY_ALPHA``), and the distribution not flat;
+   or a valley deeper than ``DEEP_VALLEY_RATIO`` with p < ``DEEP_VALLEY_ALPHA`` whatever the flatness;
 2. *uniform* -- flat: on bands of one window, w in excess of its chance level, sqrt(max(chi2 - df, 0)/n), is
    below ``FLAT_W``, and the skewness is small;
 3. *left-/right-skewed* -- |G1| >= ``SKEW_THRESHOLD`` and beyond twice its standard error;
@@ -40,10 +40,11 @@ SKEW_THRESHOLD = 0.4
 FLAT_W = 0.2
 #: a valley's density at most this share of the smaller peak's
 VALLEY_RATIO = 0.75
-#: a valley this deep counts even when the distribution passes as flat
-DEEP_VALLEY_RATIO = 0.5
 #: one-sided binomial p below which the valley is lower than the smaller peak beyond chance
-VALLEY_ALPHA = 0.01
+VALLEY_ALPHA = 0.05
+#: a valley this deep, and this far beyond chance, counts even when the distribution passes as flat
+DEEP_VALLEY_RATIO = 0.5
+DEEP_VALLEY_ALPHA = 0.01
 #: respondents expected at least per window of the shape rule (windows widen beyond one answer step to reach it)
 BAND_EXPECTED = 15
 #: share at the lowest / highest attainable score above which a floor / ceiling effect is flagged (Terwee et al. 2007)
@@ -178,19 +179,21 @@ def _fmt_p(p: float) -> str:
     return "p < .001" if p < 0.001 else f"p = {p:.3f}".replace("0.", ".", 1)
 
 
-def shape_label(*, n: int, mean: float, median: float, skewness: float, skewness_se: float,
+def shape_label(*, mean: float, median: float, skewness: float, skewness_se: float,
                 bimodality: float, dip_p: float, features: ShapeEvidence) -> tuple[str | None, str, list[str]]:
     """Apply the shape rule; returns (label, evidence sentence, notes)."""
     notes: list[str] = []
     skew_text = f"skewness {_fmt(skewness)} (SE {_fmt(skewness_se)})"
     bands = f"windows of {features.window_cells} score value(s)"
     flat = math.isfinite(features.flat_w) and features.flat_w < FLAT_W
-    if (math.isfinite(features.valley_ratio) and features.valley_ratio <= VALLEY_RATIO
-            and features.valley_p < VALLEY_ALPHA and (not flat or features.valley_ratio <= DEEP_VALLEY_RATIO)):
+    valley = math.isfinite(features.valley_ratio) and (
+        (not flat and features.valley_ratio <= VALLEY_RATIO and features.valley_p < VALLEY_ALPHA)
+        or (features.valley_ratio <= DEEP_VALLEY_RATIO and features.valley_p < DEEP_VALLEY_ALPHA))
+    if valley:
         low_peak, high_peak = features.peaks_at
         evidence = (f"two peaks near {_fmt(low_peak)} and {_fmt(high_peak)} with a valley near "
                     f"{_fmt(features.valley_at)} at {features.valley_ratio:.0%} of the smaller peak "
-                    f"({_fmt_p(features.valley_p)}, {bands}); dip test {_fmt_p(dip_p)} on jittered scores; "
+                    f"({_fmt_p(features.valley_p)}, {bands}); excess w {_fmt(features.flat_w)} against flat; dip test {_fmt_p(dip_p)} on jittered scores; "
                     f"bimodality coefficient {_fmt(bimodality)}")
         return "bimodal", evidence, notes
     small_skew = not (abs(skewness) >= SKEW_THRESHOLD)
@@ -198,7 +201,10 @@ def shape_label(*, n: int, mean: float, median: float, skewness: float, skewness
         evidence = (f"close to flat: excess w {_fmt(features.flat_w)} over {len(features.band_counts)} bands (below {FLAT_W}); "
                     f"{skew_text}; bimodality coefficient {_fmt(bimodality)} (a flat distribution gives 5/9)")
         return "uniform", evidence, notes
-    centre = f"mean {_fmt(mean)} {'below' if mean < median else 'above' if mean > median else 'equal to'} median {_fmt(median)}"
+    if _fmt(mean) == _fmt(median):
+        centre = f"mean and median both {_fmt(median)}"
+    else:
+        centre = f"mean {_fmt(mean)} {'below' if mean < median else 'above'} median {_fmt(median)}"
     if not small_skew and abs(skewness) >= 2 * skewness_se:
         label = "left-skewed" if skewness < 0 else "right-skewed"
         evidence = f"{skew_text}, beyond ±{SKEW_THRESHOLD}; {centre}"
@@ -209,9 +215,11 @@ def shape_label(*, n: int, mean: float, median: float, skewness: float, skewness
             notes.append("mean and median disagree with the direction of the skewness (von Hippel 2005): "
                          "report the skewness, not the mean-median order")
         return label, evidence, notes
-    evidence = f"{skew_text}, within ±{SKEW_THRESHOLD}; no valley between two peaks; not flat (excess w {_fmt(features.flat_w)})"
+    evidence = f"{skew_text}, within ±{SKEW_THRESHOLD}; no clear valley between two peaks"
     if abs(skewness) >= SKEW_THRESHOLD:
-        evidence = f"{skew_text}: beyond ±{SKEW_THRESHOLD} but within twice its SE; no valley between two peaks"
+        evidence = f"{skew_text}: beyond ±{SKEW_THRESHOLD} but within twice its SE; no clear valley between two peaks"
+    if math.isfinite(features.flat_w) and not flat:
+        evidence += f"; not flat (excess w {_fmt(features.flat_w)})"
     if abs(mean - median) > 0 and math.isfinite(skewness) and abs(skewness) < SKEW_THRESHOLD:
         evidence += f"; {centre}"
     return "symmetric", evidence, notes
@@ -382,7 +390,7 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
         notes.append(f"shape label not given: fewer than {MIN_N_FOR_LABEL} scores")
     elif cells is not None:
         features = _band_features(cells, n, period=_cells_per_step(cells, lo, hi, resolution, answer_levels))
-        label, evidence, rule_notes = shape_label(n=n, mean=m.mean, median=median, skewness=m.skewness,
+        label, evidence, rule_notes = shape_label(mean=m.mean, median=median, skewness=m.skewness,
                                                   skewness_se=m.skewness_se, bimodality=bc, dip_p=dip.p,
                                                   features=features)
         notes.extend(rule_notes)
