@@ -278,3 +278,22 @@ def test_label_rule_on_generated_data_of_every_shape():
     overall = np.mean(list(accuracy.values()))
     assert overall >= 0.9, accuracy
     assert min(accuracy.values()) >= 4 / 6, accuracy
+
+
+def test_union_grid_of_partial_answers_keeps_the_complete_answer_resolution():
+    # 4-item mean needing 3 answers: attainable values mix quarters and thirds; counts use the quarter grid
+    rng = np.random.default_rng(15)
+    complete = rng.integers(4, 21, size=300) / 4
+    partial = rng.integers(3, 16, size=20) / 3
+    x = np.r_[complete, partial]
+    grid = attainable_scores(1, 5, 4, min_answered=3)
+    s = describe_scores(x, attainable=grid)
+    assert s.resolution == pytest.approx(0.25)
+    assert s.histogram.per_value and len(s.histogram.counts) == 17 and sum(s.histogram.counts) == x.size
+    assert s.low == 1 and s.high == 5
+
+
+def test_floor_and_ceiling_need_the_range():
+    s = describe_scores(np.arange(30, dtype=float) % 5 + 1)
+    assert s.floor_effect is None and math.isnan(s.floor_pct)
+    assert any("attainable range" in note for note in s.notes)
