@@ -51,6 +51,32 @@ def _ml_discrepancy(uniqueness: np.ndarray, corr: np.ndarray) -> tuple[float, np
     return discrepancy, gradient
 
 
+def _projected_gradient(uniqueness: np.ndarray, corr: np.ndarray) -> float:
+    """Largest gradient component of the ML discrepancy that the uniqueness bounds do not hold back."""
+    gradient = _ml_discrepancy(uniqueness, corr)[1]
+    at_lower = (uniqueness <= FACTOR_ANALYZER_UNIQUENESS_FLOOR) & (gradient > 0)
+    at_upper = (uniqueness >= 1.0) & (gradient < 0)
+    return float(np.abs(np.where(at_lower | at_upper, 0.0, gradient)).max())
+
+
+def _fixed_point_ml(corr: np.ndarray, start: np.ndarray, *, max_iter: int = 2000,
+                    tolerance: float = 1e-12) -> np.ndarray | None:
+    """Uniquenesses from the ML stationarity condition psi = diag(R - lambda lambda') (Joreskog, 1967).
+
+    Each step costs one small eigendecomposition, so a fit takes milliseconds; the result is accepted only
+    when the projected gradient vanishes, otherwise the caller falls back to a quasi-Newton search.
+    """
+    uniqueness = start.copy()
+    for _ in range(max_iter):
+        loadings, _ = _ml_loadings(uniqueness, corr)
+        updated = np.clip(1.0 - loadings**2, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
+        if np.max(np.abs(updated - uniqueness)) < tolerance:
+            uniqueness = updated
+            break
+        uniqueness = updated
+    return uniqueness if _projected_gradient(uniqueness, corr) < 1e-7 else None
+
+
 def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarray, bool, list[str]]:
     """One-factor maximum-likelihood fit of a correlation matrix.
 
@@ -58,12 +84,15 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
     the statistics together); the objective, starting values (squared multiple correlations) and the
     uniqueness bounds are factor_analyzer's, and the tests compare the two live.
     """
-    from scipy.optimize import minimize
-
     k = corr.shape[0]
     if start is None:
         start = 1.0 / np.diag(np.linalg.inv(corr))
     start = np.clip(start, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
+    settled = _fixed_point_ml(corr, start)
+    if settled is not None:
+        return _ml_loadings(settled, corr)[0], True, []
+    from scipy.optimize import minimize
+
     result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
                       bounds=[(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)] * k,
                       options={"maxiter": 1000, "ftol": 1e-15, "gtol": 1e-10})
