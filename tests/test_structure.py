@@ -132,6 +132,11 @@ def test_kmo_lies_in_the_unit_interval_and_does_not_depend_on_item_order(seed, o
     np.testing.assert_allclose(permuted.per_item, base.per_item[list(order)], rtol=1e-10)
     assert bartlett_sphericity(r[np.ix_(order, order)], 40).chi2 == pytest.approx(bartlett_sphericity(r, 40).chi2,
                                                                                     rel=1e-10)
+    # reversing an item flips the signs of its correlations and partial correlations, not their squares
+    flip = np.where(np.arange(6) == order[0], -1.0, 1.0)
+    flipped = kmo(r * np.outer(flip, flip))
+    assert flipped.overall == pytest.approx(base.overall, rel=1e-10)
+    np.testing.assert_allclose(flipped.per_item, base.per_item, rtol=1e-10)
 
 
 # --------------------------------------------------------------------------- parallel analysis
@@ -448,6 +453,7 @@ def test_degenerate_inputs_do_not_crash_and_json_has_no_nan():
     ]
     x = rng.standard_normal((30, 3))
     cases.append(np.column_stack([x, x[:, 0]]))                        # duplicated item: singular matrix
+    cases.append(rng.standard_normal((4, 4)))                          # no more respondents than items
     for data in cases:
         result = analyse_structure(data, item_names=names, item_scale=scales, iterations=5)
         text = json.dumps(result.to_dict(), allow_nan=False)
