@@ -177,7 +177,7 @@ def test_random_data_eigenvalues_agree_with_scipy_wishart_draws():
 
 
 def test_parallel_analysis_is_reproducible_and_batched_consistently(monkeypatch):
-    import scalewright.stats.structure as structure
+    import scalewright.stats.parallel as parallel_module
 
     r = np.eye(5)
     first = parallel_analysis(r, 100, iterations=30, seed=99)
@@ -189,7 +189,7 @@ def test_parallel_analysis_is_reproducible_and_batched_consistently(monkeypatch)
     assert np.all(first.random >= first.random_mean)
     # data sets come from one stream in order, so the batch size changes nothing
     whole = random_eigenvalues(100, 5, iterations=30, seed=99, sampler="data")
-    monkeypatch.setattr(structure, "BATCH_VALUES", 1200)  # two iterations per batch
+    monkeypatch.setattr(parallel_module, "BATCH_VALUES", 1200)  # two iterations per batch
     np.testing.assert_allclose(random_eigenvalues(100, 5, iterations=30, seed=99, sampler="data"), whole,
                                rtol=1e-12)
     # fewer respondents than items: no Wishart draws, the data route is used

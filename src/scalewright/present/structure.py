@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from .numbers import format_value
 from .table import Table
 
 #: parallel analysis shows at least this many leading eigenvalues (and three beyond the suggestion)
@@ -65,8 +66,8 @@ def _loadings_table(result: Any) -> Table | None:
         rows=rows, kinds=kinds,
         notes=(f"{solution.n_factors} factor(s) ({result.n_factors_rule}), {solution.method} extraction, {rotation}; "
                f"factors matched to scales: {own or 'none'}",
-               f"flagged: loading below {result.min_loading:.2f} on the own scale's factor, largest loading on "
-               f"another factor, or a cross-loading above {result.max_cross_loading:.2f} (common practice)"),
+               f"flagged: loading below {format_value(result.min_loading, 'bounded')} on the own scale's factor, largest loading on "
+               f"another factor, or a cross-loading above {format_value(result.max_cross_loading, 'bounded')} (common practice)"),
         key="loadings")
 
 

@@ -1,9 +1,9 @@
 """Dimensionality: sampling adequacy (KMO), Bartlett's sphericity test, parallel analysis, and how the
 factors of an exploratory factor analysis line up with the intended scales.
 
-Every statistic is a function of n and the item correlation matrix of the complete cases. KMO, Bartlett and
-parallel analysis are written here (factor_analyzer's versions fail on missing values and underflow on many
-items); the factor model itself comes from factor_analyzer through :mod:`scalewright.stats.factoring`.
+Every statistic is a function of n and the item correlation matrix of the complete cases. KMO and Bartlett
+(:mod:`scalewright.stats.adequacy`) and parallel analysis (:mod:`scalewright.stats.parallel`) are written in the
+project; the factor model comes from factor_analyzer through :mod:`scalewright.stats.factoring`.
 """
 from __future__ import annotations
 
@@ -15,9 +15,18 @@ import numpy as np
 
 from ..errors import DataError, UsageError
 from ..results import ResultMixin, to_jsonable
+from .adequacy import (BartlettResult, KMOResult, bartlett_sphericity, complete_cases, correlation_of, kmo,
+                       log_determinant)
 from .factoring import FactorSolution, fit_factors
+from .parallel import DEFAULT_SEED, ParallelAnalysisResult, parallel_analysis, random_eigenvalues
 
-DEFAULT_SEED = 20261201
+__all__ = [
+    "BartlettResult", "KMOResult", "ParallelAnalysisResult", "StructureFlag", "StructureResult",
+    "UnidimensionalityResult", "analyse_structure", "assign_factors_to_scales", "bartlett_sphericity",
+    "complete_cases", "correlation_of", "kmo", "loading_flags", "parallel_analysis", "random_eigenvalues",
+    "unidimensionality", "unidimensionality_of_correlation",
+]
+
 #: common practice, no source: a salient loading is at least .40; a cross-loading above .30 muddies an item
 MIN_LOADING = 0.40
 MAX_CROSS_LOADING = 0.30
@@ -25,67 +34,9 @@ MAX_CROSS_LOADING = 0.30
 MIN_KMO = 0.50
 #: common practice, no source: a first-to-second eigenvalue ratio of 3 or more reads as one dominant dimension
 MIN_EIGEN_RATIO = 3.0
-#: random matrices are drawn in batches of at most this many values, so memory stays near 40 MB
-BATCH_VALUES = 5_000_000
 
 
 # --------------------------------------------------------------------------- result objects
-
-@dataclass(frozen=True)
-class KMOResult(ResultMixin):
-    """Kaiser-Meyer-Olkin measure of sampling adequacy, overall and per item (None when undefined)."""
-
-    overall: float | None
-    per_item: np.ndarray
-    notes: tuple[str, ...] = ()
-
-
-@dataclass(frozen=True)
-class BartlettResult(ResultMixin):
-    """Bartlett's test that the population correlation matrix is the identity."""
-
-    chi2: float | None
-    df: int
-    p: float | None
-    n: int
-    notes: tuple[str, ...] = ()
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"chi2": to_jsonable(self.chi2), "df": self.df, "p": to_jsonable(self.p)}
-
-
-@dataclass(frozen=True)
-class ParallelAnalysisResult(ResultMixin):
-    """Observed eigenvalues against those of random normal data of the same size.
-
-    ``random`` holds the chosen percentile (95th by default) of each random eigenvalue, ``random_mean``
-    their means. ``suggested_factors`` counts the leading observed eigenvalues above ``random``;
-    ``suggested_factors_mean`` does the same against ``random_mean`` (Horn's original criterion).
-    """
-
-    observed: np.ndarray
-    random: np.ndarray
-    random_mean: np.ndarray
-    suggested_factors: int
-    suggested_factors_mean: int
-    percentile: float
-    iterations: int
-    seed: int | None
-    n: int
-    sampler: str = "data"
-
-    @property
-    def criterion(self) -> str:
-        return f"{self.percentile:g}th percentile of eigenvalues of random normal data"
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"suggested_factors": self.suggested_factors,
-                "suggested_factors_mean": self.suggested_factors_mean,
-                "observed": to_jsonable(self.observed), "random": to_jsonable(self.random),
-                "random_mean": to_jsonable(self.random_mean), "criterion": self.criterion,
-                "percentile": self.percentile, "iterations": self.iterations, "seed": self.seed, "n": self.n,
-                "sampler": self.sampler}
-
 
 @dataclass(frozen=True)
 class UnidimensionalityResult(ResultMixin):
@@ -181,254 +132,6 @@ class StructureResult(ResultMixin):
 
 # --------------------------------------------------------------------------- building blocks
 
-def complete_cases(matrix: np.ndarray) -> tuple[np.ndarray, int]:
-    """Rows with no missing value (listwise deletion) and the number of rows set aside."""
-    matrix = np.asarray(matrix, dtype=float)
-    if matrix.ndim != 2:
-        raise DataError(f"expected a respondents x items matrix, got an array with {matrix.ndim} dimension(s)")
-    keep = ~np.isnan(matrix).any(axis=1)
-    return matrix[keep], int((~keep).sum())
-
-
-def correlation_of(matrix: np.ndarray) -> np.ndarray:
-    """Pearson correlations of the columns of a complete matrix (columns must vary)."""
-    return np.corrcoef(matrix, rowvar=False)
-
-
-#: a correlation matrix whose smallest eigenvalue is below this is treated as singular (rounding noise)
-SINGULAR_EIGENVALUE = 1e-10
-
-
-def _log_determinant(correlation: np.ndarray) -> float | None:
-    """ln|R| by slogdet (no underflow with many items); None when R is singular or not positive definite."""
-    if correlation.size == 0 or np.linalg.eigvalsh(correlation)[0] < SINGULAR_EIGENVALUE:
-        return None
-    sign, logdet = np.linalg.slogdet(correlation)
-    return float(logdet) if sign > 0 and np.isfinite(logdet) else None
-
-
-def kmo(correlation: np.ndarray) -> KMOResult:
-    r"""Kaiser-Meyer-Olkin measure of sampling adequacy.
-
-    With :math:`r_{ij}` the correlations and :math:`q_{ij} = -(R^{-1})_{ij}/\sqrt{(R^{-1})_{ii}(R^{-1})_{jj}}`
-    the partial correlations given all other items,
-
-    .. math::
-
-        \mathrm{KMO} = \frac{\sum_{i \ne j} r_{ij}^2}{\sum_{i \ne j} r_{ij}^2 + \sum_{i \ne j} q_{ij}^2},
-        \qquad
-        \mathrm{KMO}_j = \frac{\sum_{i \ne j} r_{ij}^2}{\sum_{i \ne j} r_{ij}^2 + \sum_{i \ne j} q_{ij}^2}.
-
-    Parameters
-    ----------
-    correlation : (p, p) array
-        Item correlation matrix.
-
-    Returns
-    -------
-    KMOResult
-        ``overall`` and ``per_item``; None/NaN with a note when the matrix is singular or p < 2.
-
-    Notes
-    -----
-    Written here rather than taken from factor_analyzer because that version needs the raw data (and fails
-    on any missing value); this one needs only the correlation matrix.
-
-    References
-    ----------
-    .. [1] Kaiser, H. F. (1970). A second generation little jiffy. Psychometrika, 35, 401-415.
-    .. [2] Kaiser, H. F., & Rice, J. (1974). Little jiffy, mark IV. Educational and Psychological
-       Measurement, 34, 111-117.
-    """
-    correlation = np.asarray(correlation, dtype=float)
-    p = correlation.shape[0]
-    undefined = np.full(p, np.nan)
-    if p < 2:
-        return KMOResult(None, undefined, ("KMO needs at least two items",))
-    if _log_determinant(correlation) is None:
-        return KMOResult(None, undefined, ("KMO is undefined: the item correlation matrix is singular "
-                                           "(an item is a linear combination of others, or fewer respondents than items)",))
-    inverse = np.linalg.inv(correlation)
-    scale = np.sqrt(np.diag(inverse))
-    partial = -inverse / np.outer(scale, scale)
-    r2 = correlation ** 2
-    q2 = partial ** 2
-    np.fill_diagonal(r2, 0.0)
-    np.fill_diagonal(q2, 0.0)
-    r_sum, q_sum = r2.sum(axis=0), q2.sum(axis=0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        per_item = r_sum / (r_sum + q_sum)
-    overall = float(r_sum.sum() / (r_sum.sum() + q_sum.sum())) if (r_sum.sum() + q_sum.sum()) > 0 else None
-    return KMOResult(overall, per_item, () if overall is not None else ("KMO is undefined: all correlations are zero",))
-
-
-def bartlett_sphericity(correlation: np.ndarray, n: int) -> BartlettResult:
-    r"""Bartlett's test of sphericity: are the items uncorrelated in the population?
-
-    .. math:: \chi^2 = -\left(n - 1 - \frac{2p + 5}{6}\right) \ln |R|, \qquad df = \frac{p(p - 1)}{2}
-
-    Parameters
-    ----------
-    correlation : (p, p) array
-        Item correlation matrix of ``n`` complete cases.
-    n : int
-        Number of respondents the correlations come from.
-
-    Returns
-    -------
-    BartlettResult
-        ``chi2``, ``df`` and the upper-tail ``p``; None with a note when the determinant is not positive.
-
-    Notes
-    -----
-    :math:`\ln|R|` comes from ``numpy.linalg.slogdet``: the determinant itself underflows to 0 with a few
-    hundred items, which makes the statistic infinite.
-
-    References
-    ----------
-    .. [1] Bartlett, M. S. (1950). Tests of significance in factor analysis. British Journal of Statistical
-       Psychology, 3, 77-85.
-    """
-    from scipy import stats
-
-    correlation = np.asarray(correlation, dtype=float)
-    p = correlation.shape[0]
-    df = p * (p - 1) // 2
-    if p < 2:
-        return BartlettResult(None, df, None, n, ("Bartlett's test needs at least two items",))
-    multiplier = n - 1 - (2 * p + 5) / 6
-    if multiplier <= 0:
-        return BartlettResult(None, df, None, n, (f"Bartlett's test needs more respondents than (2p + 11)/6 = "
-                                                   f"{(2 * p + 11) / 6:.1f} for {p} items; {n} were used",))
-    logdet = _log_determinant(correlation)
-    if logdet is None:
-        return BartlettResult(None, df, None, n, ("Bartlett's test is undefined: the item correlation matrix is singular",))
-    chi2 = -multiplier * logdet
-    return BartlettResult(float(chi2), df, float(stats.chi2.sf(chi2, df)), n)
-
-
-def _generator(seed: int | np.random.Generator | None) -> np.random.Generator:
-    return seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
-
-
-SAMPLERS = ("auto", "wishart", "data")
-
-
-def resolve_sampler(n: int, p: int, sampler: str = "auto") -> str:
-    """The sampler ``auto`` stands for (Wishart draws when n - 1 >= p), after checking the choice."""
-    if sampler not in SAMPLERS:
-        raise UsageError(f"unknown sampler {sampler!r}; choose one of {', '.join(SAMPLERS)}")
-    if sampler == "auto":
-        return "wishart" if n - 1 >= p else "data"
-    if sampler == "wishart" and n - 1 < p:
-        raise UsageError(f"Wishart draws need n - 1 >= p; got n = {n}, p = {p}")
-    return sampler
-
-
-def _correlation_eigenvalues(cross: np.ndarray) -> np.ndarray:
-    scale = np.sqrt(np.einsum("bii->bi", cross))
-    return np.linalg.eigvalsh(cross / (scale[:, :, None] * scale[:, None, :]))[:, ::-1]
-
-
-def random_eigenvalues(n: int, p: int, *, iterations: int = 100,
-                       seed: int | np.random.Generator | None = DEFAULT_SEED, sampler: str = "auto") -> np.ndarray:
-    """Eigenvalues (descending, one row per iteration) of correlation matrices of n x p standard normal data.
-
-    ``sampler="data"`` draws the n x p data sets themselves, in batches, and centres and cross-multiplies
-    them at once. ``sampler="wishart"`` draws their centred cross-product matrices directly: for standard
-    normal data these follow the Wishart distribution with n - 1 degrees of freedom and identity scale
-    (scipy.stats.wishart, by the Bartlett decomposition), so the eigenvalues have exactly the same
-    distribution at a cost independent of n. ``auto`` uses the Wishart draws when n - 1 >= p.
-
-    References
-    ----------
-    .. [1] Odell, P. L., & Feiveson, A. H. (1966). A numerical procedure to generate a sample covariance
-       matrix. Journal of the American Statistical Association, 61, 199-203.
-    """
-    rng = _generator(seed)
-    sampler = resolve_sampler(n, p, sampler)
-    per_draw = p * p if sampler == "wishart" else n * p
-    batch = max(1, min(iterations, BATCH_VALUES // max(per_draw, 1)))
-    rows = []
-    done = 0
-    if sampler == "wishart":
-        from scipy import stats
-
-        wishart = stats.wishart(df=n - 1, scale=np.eye(p))
-    while done < iterations:
-        size = min(batch, iterations - done)
-        if sampler == "wishart":
-            cross = np.reshape(wishart.rvs(size=size, random_state=rng), (size, p, p))
-        else:
-            draws = rng.standard_normal((size, n, p))
-            draws -= draws.mean(axis=1, keepdims=True)
-            cross = np.matmul(draws.transpose(0, 2, 1), draws)
-        rows.append(_correlation_eigenvalues(cross))
-        done += size
-    return np.concatenate(rows, axis=0)
-
-
-def _leading_above(observed: np.ndarray, threshold: np.ndarray) -> int:
-    above = observed > threshold
-    return int(len(above) if above.all() else np.argmin(above))
-
-
-def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100, percentile: float = 95.0,
-                      seed: int | np.random.Generator | None = DEFAULT_SEED,
-                      sampler: str = "auto") -> ParallelAnalysisResult:
-    r"""Horn's parallel analysis: how many eigenvalues stand above those of random data of the same size?
-
-    With :math:`\lambda_j` the eigenvalues of the observed correlation matrix and :math:`\lambda^{(b)}_j` those
-    of :math:`B` random n x p standard normal data sets, the suggestion is the number of leading :math:`j` with
-
-    .. math:: \lambda_j > Q_{0.95}\left(\lambda^{(1)}_j, \dots, \lambda^{(B)}_j\right)
-
-    (Glorfeld's percentile criterion); Horn's original criterion compares against the mean.
-
-    Parameters
-    ----------
-    correlation : (p, p) array
-        Observed item correlation matrix.
-    n : int
-        Number of respondents behind it.
-    iterations : int
-        Number of random data sets B.
-    percentile : float
-        Percentile of the random eigenvalues used as the criterion.
-    seed : int or numpy.random.Generator
-        Makes the random data reproducible.
-    sampler : {"auto", "wishart", "data"}
-        How the random correlation matrices are drawn; see :func:`random_eigenvalues`.
-
-    Returns
-    -------
-    ParallelAnalysisResult
-
-    References
-    ----------
-    .. [1] Horn, J. L. (1965). A rationale and test for the number of factors in factor analysis.
-       Psychometrika, 30, 179-185.
-    .. [2] Glorfeld, L. W. (1995). An improvement on Horn's parallel analysis methodology for selecting the
-       correct number of factors to retain. Educational and Psychological Measurement, 55, 377-393.
-    """
-    if not isinstance(iterations, (int, np.integer)) or iterations < 1:
-        raise UsageError(f"parallel analysis needs at least 1 iteration, not {iterations!r}")
-    if not 0 < percentile < 100:
-        raise UsageError(f"the parallel-analysis percentile must lie between 0 and 100, not {percentile!r}")
-    correlation = np.asarray(correlation, dtype=float)
-    p = correlation.shape[0]
-    observed = np.linalg.eigvalsh(correlation)[::-1]
-    simulated = random_eigenvalues(n, p, iterations=int(iterations), seed=seed, sampler=sampler)
-    threshold = np.percentile(simulated, percentile, axis=0)
-    mean = simulated.mean(axis=0)
-    return ParallelAnalysisResult(
-        observed=observed, random=threshold, random_mean=mean,
-        suggested_factors=_leading_above(observed, threshold), suggested_factors_mean=_leading_above(observed, mean),
-        percentile=float(percentile), iterations=int(iterations),
-        seed=seed if isinstance(seed, (int, np.integer)) else None, n=int(n),
-        sampler=resolve_sampler(int(n), p, sampler))
-
-
 def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method: str = "minres",
                                      n_set_aside: int = 0) -> UnidimensionalityResult:
     r"""Unidimensionality summary of one scale from its item correlation matrix.
@@ -464,7 +167,7 @@ def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method:
         notes.append("the second eigenvalue is zero (perfectly correlated items): the eigenvalue ratio is undefined")
     else:
         ratio = float(eigenvalues[0] / eigenvalues[1])
-    if k >= 3 and n > k and _log_determinant(correlation) is not None:
+    if k >= 3 and n > k and log_determinant(correlation) is not None:
         solution = fit_factors(correlation, 1, method=method, rotation="none")
         loadings = solution.loadings[:, 0]
         share = float(solution.variance_explained[0])
@@ -523,6 +226,14 @@ def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
     return mapping
 
 
+def _say(value: float) -> str:
+    # message text only (APA style, no leading zero); the numbers themselves stay unrounded in the result
+    if not np.isfinite(value):
+        return "undefined"
+    text = f"{value:.2f}"
+    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
+
+
 def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequence[str],
                   factor_for_scale: Mapping[str, int | None], *, min_loading: float = MIN_LOADING,
                   max_cross_loading: float = MAX_CROSS_LOADING) -> list[StructureFlag]:
@@ -542,21 +253,21 @@ def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequen
         largest = int(np.argmax(np.abs(row)))
         if largest != own:
             flags.append(StructureFlag(item, "off-scale-factor",
-                                       f"loads most on F{largest + 1} ({row[largest]:.2f}), not on F{own + 1} of "
-                                       f"its scale {scale} ({row[own]:.2f}); check that the item belongs to {scale}",
+                                       f"loads most on F{largest + 1} ({_say(row[largest])}), not on F{own + 1} of "
+                                       f"its scale {scale} ({_say(row[own])}); check that the item belongs to {scale}",
                                        scale))
         if abs(row[own]) < min_loading:
             flags.append(StructureFlag(item, "weak-loading",
-                                       f"loads {row[own]:.2f} on F{own + 1} of its scale {scale}, below {min_loading:.2f}",
+                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale}, below {_say(min_loading)}",
                                        scale))
         if row[own] < 0 and abs(row[own]) >= min_loading:
             flags.append(StructureFlag(item, "negative-loading",
-                                       f"loads {row[own]:.2f} on F{own + 1} of its scale {scale} after keying; "
+                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale} after keying; "
                                        "check whether it should be reverse-keyed", scale))
         for j, value in enumerate(row):
             if j != own and abs(value) > max_cross_loading:
                 flags.append(StructureFlag(item, "cross-loading",
-                                           f"also loads {value:.2f} on F{j + 1}, above {max_cross_loading:.2f}", scale))
+                                           f"also loads {_say(value)} on F{j + 1}, above {_say(max_cross_loading)}", scale))
     return flags
 
 
@@ -672,17 +383,17 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     notes.extend(sampling.notes)
     notes.extend(sphericity.notes)
     if sampling.overall is not None and sampling.overall < MIN_KMO:
-        notes.append(f"overall KMO {sampling.overall:.2f} is below {MIN_KMO:.2f} (Kaiser, 1974): "
+        notes.append(f"overall KMO {_say(sampling.overall)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
                      "the correlations may be too weak for factor analysis")
     for name, value in zip(items, sampling.per_item):
         if np.isfinite(value) and value < MIN_KMO:
-            flags.append(StructureFlag(name, "low-kmo", f"item KMO {value:.2f} is below {MIN_KMO:.2f} (Kaiser, 1974): "
+            flags.append(StructureFlag(name, "low-kmo", f"item KMO {_say(value)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
                                        "it shares little with the other items", item_scale[name]))
     if sphericity.p is not None and sphericity.p >= 0.05:
         notes.append("Bartlett's test does not reject uncorrelated items (p >= .05): factors may be spurious")
     parallel = parallel_analysis(correlation, n, iterations=iterations, percentile=percentile, seed=seed)
 
-    singular = _log_determinant(correlation) is None or n <= p
+    singular = log_determinant(correlation) is None or n <= p
     bound = _ledermann_bound(p)
     if n_factors is None:
         chosen = max(1, parallel.suggested_factors)
