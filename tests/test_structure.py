@@ -306,6 +306,17 @@ def test_non_convergence_becomes_a_note(monkeypatch, two_factor_data):
     assert any("did not converge" in note and "simulated stop" in note for note in solution.notes)
 
 
+def test_a_rotation_stopped_at_its_iteration_limit_becomes_a_note(monkeypatch, two_factor_data):
+    import scalewright.stats.factoring as factoring
+
+    r = correlation_of(two_factor_data[0][:500])
+    assert fit_factors(r, 2).converged
+    monkeypatch.setattr(factoring, "ROTATION_MAX_ITER", 1)  # far too few steps to converge
+    solution = fit_factors(r, 2)
+    assert not solution.converged
+    assert any("did not settle within 1 iteration(s)" in note for note in solution.notes)
+
+
 def test_fit_factors_rejects_bad_options():
     r = np.eye(4)
     for kwargs in ({"method": "principal"}, {"rotation": "quartimax"}):

@@ -21,6 +21,8 @@ OBLIQUE = ("oblimin", "promax")
 
 #: factor_analyzer bounds each uniqueness to [0.005, 1]; a uniqueness at the lower bound is a Heywood case
 UNIQUENESS_FLOOR = 0.005
+#: iterations allowed to the rotation; factor_analyzer's Rotator stops there without saying so
+ROTATION_MAX_ITER = 1000
 
 
 @dataclass(frozen=True)
@@ -90,13 +92,24 @@ def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.n
     return np.asarray(analyser.loadings_, dtype=float), notes
 
 
-def _rotate(unrotated: np.ndarray, rotation: str) -> np.ndarray:
-    """Rotated loadings (pattern matrix) from factor_analyzer's Rotator with every option explicit."""
+def _rotate(unrotated: np.ndarray, rotation: str) -> tuple[np.ndarray, list[str]]:
+    """Rotated loadings (pattern matrix) from factor_analyzer's Rotator with every option explicit.
+
+    The Rotator stops silently at its iteration limit. Its iterations are deterministic and end early once
+    converged, so a second run allowed twice the iterations gives the same loadings exactly when the first
+    had converged: that comparison is the convergence check.
+    """
     from factor_analyzer.rotator import Rotator
 
-    rotator = Rotator(method=rotation, normalize=True, power=4, kappa=0, gamma=0, delta=0.01,
-                      max_iter=500, tol=1e-5)
-    return np.asarray(rotator.fit_transform(unrotated), dtype=float)
+    def run(max_iter: int) -> np.ndarray:
+        rotator = Rotator(method=rotation, normalize=True, power=4, kappa=0, gamma=0, delta=0.01,
+                          max_iter=max_iter, tol=1e-5)
+        return np.asarray(rotator.fit_transform(unrotated.copy()), dtype=float)
+
+    rotated = run(ROTATION_MAX_ITER)
+    settled = np.allclose(rotated, run(2 * ROTATION_MAX_ITER), atol=1e-8)
+    return rotated, [] if settled else [
+        f"the {rotation} rotation did not settle within {ROTATION_MAX_ITER} iteration(s); treat the loadings as provisional"]
 
 
 def factor_correlations_from_transform(transform: np.ndarray) -> np.ndarray:
@@ -158,7 +171,8 @@ def fit_factors(correlation: np.ndarray, n_factors: int, *, method: str = "minre
     _check_options(n_factors, p, method, rotation)
     unrotated, notes = _extract(correlation, int(n_factors), method)
     if n_factors > 1 and rotation != "none":
-        rotated = _rotate(unrotated, rotation)
+        rotated, rotation_notes = _rotate(unrotated, rotation)
+        notes.extend(rotation_notes)
         # the transform is exact (rotated = unrotated @ M) and unrotated has full column rank
         transform = np.linalg.lstsq(unrotated, rotated, rcond=None)[0]
     else:
@@ -188,5 +202,5 @@ def fit_factors(correlation: np.ndarray, n_factors: int, *, method: str = "minre
     return FactorSolution(
         loadings=rotated, factor_correlations=phi, communalities=communalities, uniquenesses=uniquenesses,
         variance_explained=(rotated ** 2).sum(axis=0) / p, method=method, rotation=rotation,
-        converged=not any(n.startswith(f"the {method} extraction did not converge") for n in notes),
+        converged=not any("did not converge" in n or "did not settle" in n for n in notes),
         heywood_items=heywood, notes=tuple(notes))
