@@ -20,8 +20,9 @@ def _snapshot(folder: Path) -> dict[str, bytes]:
 
 def test_demo_writes_data_scale_file_and_scores(tmp_path, capsys):
     out = tmp_path / "demo"
-    assert main(["demo", "--out", str(out), "--seed", "5", "--n", "120"]) == 0
-    assert sorted(p.name for p in out.iterdir()) == sorted([DATA_NAME, SCALES_NAME, SCORES_NAME])
+    assert main(["demo", "--out", str(out), "--seed", "5", "--n", "120", "--iterations", "5", "--quiet"]) == 0
+    report_files = ["index.html", "report.md", "results.json", "figures"]
+    assert sorted(p.name for p in out.iterdir()) == sorted([DATA_NAME, SCALES_NAME, SCORES_NAME, *report_files])
     printed = capsys.readouterr().out
     for name in (DATA_NAME, SCALES_NAME, SCORES_NAME):
         assert str(out / name) in printed
@@ -45,7 +46,7 @@ def test_scored_file_matches_scoring_the_written_inputs(tmp_path):
     from scalewright.spec import load_spec
 
     out = tmp_path / "demo"
-    assert main(["demo", "--out", str(out), "--n", "80"]) == 0
+    assert main(["demo", "--out", str(out), "--n", "80", "--iterations", "5", "--quiet"]) == 0
     spec = load_spec(out / SCALES_NAME)
     direct = score_scales(read_responses(out / DATA_NAME, spec), spec).to_frame()
     written = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
@@ -63,7 +64,7 @@ def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
 
 def test_demo_force_writes_into_a_non_empty_folder(tmp_path):
     (tmp_path / "notes.txt").write_text("my own file\n")
-    assert main(["demo", "--out", str(tmp_path), "--n", "60", "--force"]) == 0
+    assert main(["demo", "--out", str(tmp_path), "--n", "60", "--force", "--iterations", "5", "--quiet"]) == 0
     assert (tmp_path / "notes.txt").read_text() == "my own file\n"
     assert len(pd.read_csv(tmp_path / SCORES_NAME)) == 60
 

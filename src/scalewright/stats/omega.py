@@ -59,22 +59,23 @@ def _projected_gradient(uniqueness: np.ndarray, corr: np.ndarray) -> float:
     return float(np.abs(np.where(at_lower | at_upper, 0.0, gradient)).max())
 
 
-def _fixed_point_ml(corr: np.ndarray, start: np.ndarray, *, max_iter: int = 2000,
-                    tolerance: float = 1e-12) -> np.ndarray | None:
+def _fixed_point_ml(corr: np.ndarray, start: np.ndarray, *, max_iter: int = 150,
+                    tolerance: float = 1e-11) -> tuple[bool, np.ndarray]:
     """Uniquenesses from the ML stationarity condition psi = diag(R - lambda lambda') (Joreskog, 1967).
 
-    Each step costs one small eigendecomposition, so a fit takes milliseconds; the result is accepted only
-    when the projected gradient vanishes, otherwise the caller falls back to a quasi-Newton search.
+    Each step costs one small eigendecomposition, so a fit takes milliseconds. Returns whether the point
+    reached is a solution (its projected gradient vanishes) and the point itself, which is a good start
+    for the quasi-Newton search the caller falls back to when it is not (slow, near-Heywood cases).
     """
     uniqueness = start.copy()
     for _ in range(max_iter):
         loadings, _ = _ml_loadings(uniqueness, corr)
         updated = np.clip(1.0 - loadings**2, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
-        if np.max(np.abs(updated - uniqueness)) < tolerance:
-            uniqueness = updated
-            break
+        step = np.max(np.abs(updated - uniqueness))
         uniqueness = updated
-    return uniqueness if _projected_gradient(uniqueness, corr) < 1e-7 else None
+        if step < tolerance:
+            break
+    return _projected_gradient(uniqueness, corr) < 1e-7, uniqueness
 
 
 def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarray, bool, list[str]]:
@@ -88,9 +89,9 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
     if start is None:
         start = 1.0 / np.diag(np.linalg.inv(corr))
     start = np.clip(start, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
-    settled = _fixed_point_ml(corr, start)
-    if settled is not None:
-        return _ml_loadings(settled, corr)[0], True, []
+    settled, start = _fixed_point_ml(corr, start)
+    if settled:
+        return _ml_loadings(start, corr)[0], True, []
     from scipy.optimize import minimize
 
     result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
