@@ -43,6 +43,8 @@ def main() -> None:
     names = [f"item{j + 1}" for j in range(p)]
     item_scale = {name: f"scale{j * 4 // p + 1}" for j, name in enumerate(names)}
     analyse_structure(data[:200], item_names=names, item_scale=item_scale, iterations=2)  # imports, warm-up
+    for sampler in ("wishart", "data"):
+        random_eigenvalues(50, 5, iterations=2, sampler=sampler)  # scipy.stats is imported on first use
 
     for sampler in ("wishart", "data"):
         best, median = timed(args.repeat, lambda: random_eigenvalues(n, p, iterations=args.iterations, seed=1,
