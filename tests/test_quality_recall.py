@@ -50,7 +50,7 @@ def test_demo_survey_targets_are_met():
     # the project's fictional staff climate survey (about 5% careless, durations recorded), read like the CLI does
     import tempfile
 
-    from scalewright.cli.screen import analyse_screen
+    from scalewright.analyses.screen import analyse_screen
     from scalewright.data import read_responses
     from scalewright.demo_data import generate_staff_climate
     from scalewright.spec import load_spec
@@ -64,7 +64,7 @@ def test_demo_survey_targets_are_met():
             path = Path(folder) / f"survey{seed}.csv"
             frame.to_csv(path, index=False)
             responses = read_responses(path, spec)
-            result = analyse_screen(spec, responses, duration_column="duration_s", data_path=path)
+            result = analyse_screen(spec, responses, duration_column="duration_s")
             flagged.append(result.flagged)
             careless.append(truth.careless)
     flagged, careless = np.concatenate(flagged), np.concatenate(careless)

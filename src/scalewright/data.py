@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import csv
 import difflib
-import io
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable, Sequence

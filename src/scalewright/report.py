@@ -11,7 +11,6 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-import numpy as np
 
 from . import __version__
 from .errors import UsageError
@@ -133,7 +132,7 @@ def _no_progress(step: str) -> None:
 
 def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
     # the reliability command's own (click-free) analysis function, so both give the same numbers
-    from .cli.reliability import analyse_reliability
+    from .analyses.reliability import analyse_reliability
 
     return analyse_reliability(spec, responses, by=options.by, confidence_level=options.confidence_level,
                                min_group=options.min_group)
@@ -141,14 +140,14 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
 
 def _shape(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
     # the shape command's own (click-free) analysis function
-    from .cli.shape import analyse_shape
+    from .analyses.shape import analyse_shape
 
     return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed)["scales"]
 
 
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the structure command's joint item matrix (each item once, matched to its smallest scale)
-    from .cli.structure import joint_keyed_items
+    from .analyses.structure import joint_keyed_items
     from .stats.structure import analyse_structure
 
     joint = joint_keyed_items(responses, spec)
@@ -158,12 +157,10 @@ def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
 def _screen(spec: Any, responses: Any, info: InputInfo, options: ReportOptions) -> Any:
     # the screen command's own analysis function: items in questionnaire order, durations if named
-    from pathlib import Path
 
-    from .cli.screen import analyse_screen
+    from .analyses.screen import analyse_screen
 
-    return analyse_screen(spec, responses, duration_column=options.duration_column,
-                          data_path=Path(info.data) if info.data else None)
+    return analyse_screen(spec, responses, duration_column=options.duration_column)
 
 
 def check_columns(responses: Any, options: ReportOptions) -> None:
@@ -202,7 +199,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     ReportResults
     """
     from .scoring import score_scales
-    from .stats.groups import compare_groups, pvalue_holm
+    from .analyses.compare import analyse_compare
     from .stats.tally import answer_distribution, tally
 
     check_columns(responses, options)
@@ -216,14 +213,10 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     shapes = _shape(spec, responses, options)
 
     progress(STEPS[3])
-    comparisons: dict[str, list[Any]] = {name: [] for name in spec.scales}
-    for column in options.by:
-        values = responses.column(column)
-        per_scale = [compare_groups(score_table.scales[name].scores, values, min_cell=options.min_cell,
-                                    confidence_level=options.confidence_level, column=column, scale=name)
-                     for name in spec.scales]
-        for name, comparison in zip(spec.scales, pvalue_holm(per_scale)):
-            comparisons[name].append(comparison)
+    by_column = analyse_compare(spec, responses, by=options.by, min_cell=options.min_cell,
+                                confidence_level=options.confidence_level, scores=score_table)
+    comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
+                                         for i, name in enumerate(spec.scales)}
 
     progress(STEPS[4])
     answers = {name: answer_distribution(responses.matrix(scale.items), scale.response.levels, scale.response.labels,

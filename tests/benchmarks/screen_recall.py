@@ -114,7 +114,7 @@ def demo_study(seeds: range, *, n: int = 800, with_durations: bool = True) -> di
     import tempfile
     from pathlib import Path
 
-    from scalewright.cli.screen import analyse_screen
+    from scalewright.analyses.screen import analyse_screen
     from scalewright.data import read_responses
     from scalewright.demo_data import generate_staff_climate
     from scalewright.spec import load_spec
@@ -126,7 +126,7 @@ def demo_study(seeds: range, *, n: int = 800, with_durations: bool = True) -> di
             frame, truth = generate_staff_climate(seed=seed, n=n)
             path = Path(folder) / "survey.csv"
             frame.to_csv(path, index=False)
-            result = analyse_screen(spec, read_responses(path, spec), data_path=path,
+            result = analyse_screen(spec, read_responses(path, spec),
                                     duration_column="duration_s" if with_durations else None)
             kind = np.where(truth.careless_kind == "straight-line", STRAIGHT,
                             np.where(truth.careless_kind == "random", RANDOM, ATTENTIVE))

@@ -27,21 +27,17 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     Three or more: Welch's F, Kruskal-Wallis H, omega- and epsilon-squared, Games-Howell pairs. Levene's
     test is reported as a note; p-values are also given Holm-adjusted across the scales of the run.
     """
+    from ..analyses.compare import analyse_compare
     from ..present.groups import compare_tables, comparison_record
     from ..scoring import score_scales
-    from ..stats.groups import compare_groups, pvalue_holm
 
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec)
     if not columns:
         raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
     scored = score_scales(inputs.responses, inputs.spec)
-    per_column = {}
-    for column in columns:
-        values = inputs.responses.column(column)
-        comparisons = [compare_groups(result.scores, values, min_cell=min_cell, student=student, column=column,
-                                      scale=name) for name, result in scored.scales.items()]
-        per_column[column] = pvalue_holm(comparisons)
+    per_column = analyse_compare(inputs.spec, inputs.responses, by=columns, min_cell=min_cell, student=student,
+                                 scores=scored)
     body = {"scales": {name: {"by": {column: comparison_record(per_column[column][i], decimals=decimals)
                                      for column in columns}}
                        for i, name in enumerate(scored.scales)}}

@@ -1,39 +1,12 @@
 """`scalewright reliability`: alpha with its CI, omega, lambdas, item statistics and flags, per scale."""
 from __future__ import annotations
 
-from collections.abc import Sequence
 from pathlib import Path
-from typing import Any
 
 import click
 
+from ..analyses.reliability import analyse_reliability
 from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, resolve_by, scales_option
-
-
-def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
-                        pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
-                        seed: int | None = None, thresholds: Any = None) -> dict[str, Any]:
-    """:class:`~scalewright.stats.reliability.ScaleReliabilityReport` of every scale of ``spec``.
-
-    Plain library function (no click): the report builds on it. ``by`` names subgroup columns.
-    """
-    from ..scoring import keyed_items
-    from ..stats.reliability import (ReliabilityThresholds, ScaleReliabilityReport, reliability_by_group,
-                                     scale_reliability)
-    from ..stats.subgroups import split_by
-
-    thresholds = thresholds or ReliabilityThresholds()
-    splits = [split_by(responses.column(column), min_size=min_group, column=column) for column in by]
-    reports: dict[str, ScaleReliabilityReport] = {}
-    for name, scale in spec.scales.items():
-        keyed = keyed_items(responses, scale)
-        options = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
-                       confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
-                       reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed)
-        overall = scale_reliability(keyed, **options)
-        groups = tuple(reliability_by_group(keyed, split, **options) for split in splits)
-        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups)
-    return reports
 
 
 @click.command("reliability")

@@ -2,44 +2,11 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
 
 import click
 
+from ..analyses.screen import analyse_screen
 from .common import choose_format, data_argument, emit, input_options, load_inputs, output_options, scales_option
-
-
-def questionnaire_order(responses: Any) -> list[int]:
-    """Positions of the item columns in the order they stand in the data file (the order shown)."""
-    return [responses.item_names.index(name) for name in responses.items_in_file_order()]
-
-
-def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
-                   data_path: Path | None = None) -> Any:
-    """:class:`~scalewright.stats.quality.ScreenResult` of the responses (plain function; the report uses it)."""
-    import numpy as np
-
-    from ..errors import DataError
-    from ..scoring import keyed_items
-    from ..stats.quality import ScreenThresholds, screen_respondents
-
-    order = questionnaire_order(responses)
-    raw = responses.items[:, order]
-    keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
-    durations = None
-    if duration_column:
-        import pandas as pd
-
-        column = responses.column(duration_column)
-        values = pd.to_numeric(column, errors="coerce")
-        bad = values.isna() & column.notna()
-        if bad.any():
-            first = int(np.flatnonzero(bad.to_numpy())[0])
-            raise DataError(f"{responses.path}: column {duration_column!r}, row {int(responses.line_numbers[first])}: "
-                            f"{column.iloc[first]!r} is not a number of seconds or minutes")
-        durations = values.to_numpy(dtype=float, na_value=np.nan)
-    return screen_respondents(raw, keyed, ids=[str(i) for i in responses.ids],
-                              thresholds=thresholds or ScreenThresholds(), durations=durations)
 
 
 @click.command("screen")
@@ -86,8 +53,7 @@ def screen(data: Path, scales: Path, duration_column: str | None, speed_share: f
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds,
-                            data_path=data)
+    result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds)
     document = result.to_dict()
     if out is not None and fmt is None and out.suffix.lower() == ".csv":
         write_atomic(out, respondents_csv(document, flagged_only=flagged_only), inputs=[data, scales])

@@ -8,6 +8,7 @@ from typing import Any
 import click
 
 from ..errors import UsageError
+from ..analyses.shape import analyse_shape
 from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, resolve_by, scales_option
 
 
@@ -28,52 +29,6 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
     if not values:
         raise UsageError("--percentiles needs at least one value, e.g. 5,25,50,75,95")
     return tuple(dict.fromkeys(values))
-
-
-def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
-                  percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
-                  min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
-    """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
-
-    Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.
-    """
-    from ..scoring import composite, keyed_items, score_range
-    from ..stats.score_grid import attainable_scores, score_resolution
-    from ..stats.shape import ShapeReport, describe_by_subgroup, describe_scores
-
-    group_values = {column: responses.column(column) for column in by}
-
-    def report(name: str, title: str, kind: str, values, x_label: str, **grid) -> ShapeReport:
-        options = dict(percentiles=percentiles, quantile_method=quantile_method, seed=seed, **grid)
-        overall = describe_scores(values, **options)
-        groups = tuple(describe_by_subgroup(values, series, min_group=min_group, column=column, **options)
-                       for column, series in group_values.items())
-        return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=groups, x_label=x_label)
-
-    scales: dict[str, ShapeReport] = {}
-    for name, scale in spec.scales.items():
-        fmt = scale.response
-        scores, _ = composite(keyed_items(responses, scale), method=scale.score, required=scale.required_answered())
-        low, high = score_range(scale)
-        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
-        word = "mean" if scale.score == "mean" else "prorated sum"
-        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
-        scales[name] = report(name, scale.title, "scale", scores, x_label, attainable=grid, low=low, high=high,
-                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
-                              answer_levels=len(fmt.levels))
-    item_reports: dict[str, ShapeReport] = {}
-    if items:
-        import numpy as np
-
-        for item in spec.items:
-            fmt = spec.response_for(item)
-            wording = spec.wording_for(item)
-            title = f"{item}: {wording}" if wording else item
-            item_reports[item] = report(item, title, "item", responses.item(item),
-                                        f"answer to {item} (as given, {fmt.min} to {fmt.max})",
-                                        attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
-                                        answer_levels=len(fmt.levels))
-    return {"scales": scales, "items": item_reports}
 
 
 @click.command("shape")

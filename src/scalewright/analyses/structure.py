@@ -1,0 +1,42 @@
+"""The joint item matrix of all scales, for the factor structure."""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class JointItems:
+    """Every item of the scale file once, keyed, with the scale it is matched against."""
+
+    matrix: np.ndarray
+    item_names: tuple[str, ...]
+    item_scale: dict[str, str]
+    scale_items: dict[str, tuple[str, ...]]
+    notes: tuple[str, ...]
+
+
+def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
+    """One keyed column per item, even when an item belongs to several scales (a total and a subscale).
+
+    Each item is matched against the smallest scale containing it (its subscale rather than the total)
+    and keyed as that scale keys it; a scale keying it otherwise is noted.
+    """
+    from ..scoring import keyed_items
+
+    keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
+    columns, item_scale, notes = [], {}, []
+    for item in spec.items:
+        homes = [s for s in spec.scales.values() if item in s.items]
+        home = min(homes, key=lambda s: s.k)  # min keeps the first of equal size
+        columns.append(keyed[home.name][:, home.items.index(item)])
+        item_scale[item] = home.name
+        directions = {s.is_reversed(item) for s in homes}
+        if len(directions) > 1:
+            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    matrix = np.column_stack(columns) if columns else np.empty((responses.n, 0))
+    return JointItems(matrix=matrix, item_names=tuple(spec.items), item_scale=item_scale,
+                      scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
+                      notes=tuple(notes))
