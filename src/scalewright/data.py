@@ -271,32 +271,39 @@ def _text_lookup(fmt: ResponseFormat) -> dict[str, float]:
     return {text: float(code) for text, code in fmt.code_for_text().items()}
 
 
-def convert_item(series: pd.Series, fmt: ResponseFormat) -> _Converted:
-    """Codes of one item column: texts via labels, missing codes and blanks to NaN, the rest checked."""
+def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | None = None) -> _Converted:
+    """Codes of one item column: texts via labels, missing codes and blanks to NaN, the rest checked.
+
+    ``out`` (a float64 vector of the column's length) receives the codes in place, sparing a copy.
+    """
     texts = 0
     if pd.api.types.is_bool_dtype(series.dtype):
         series = series.astype(object)
     if pd.api.types.is_numeric_dtype(series.dtype):
-        values = np.array(series.to_numpy(dtype=np.float64, na_value=np.nan), dtype=np.float64, copy=True)
+        raw = series.to_numpy(dtype=np.float64, na_value=np.nan)
     else:
         lookup = _text_lookup(fmt)
         decoded: dict[Any, float] = {}
-        for raw in pd.unique(series.dropna()):
-            text = normalise_answer_text(raw)
+        for text_value in pd.unique(series.dropna()):
+            text = normalise_answer_text(text_value)
             if text == "":
-                decoded[raw] = np.nan
+                decoded[text_value] = np.nan
             elif text in lookup:
-                decoded[raw] = lookup[text]
+                decoded[text_value] = lookup[text]
                 texts += 1
             else:
                 try:
-                    decoded[raw] = float(text)
+                    decoded[text_value] = float(text)
                 except ValueError:
-                    decoded[raw] = np.inf  # an unknown text: above any range, so refused below
-        values = np.array(series.map(decoded).to_numpy(dtype=np.float64, na_value=np.nan), copy=True)
+                    decoded[text_value] = np.inf  # an unknown text: above any range, so refused below
+        raw = series.map(decoded).to_numpy(dtype=np.float64, na_value=np.nan)
         if texts:
             label_texts = [k for k in decoded if normalise_answer_text(k) in lookup]
             texts = int(np.count_nonzero(series.isin(label_texts).to_numpy()))
+    if out is None:
+        out = np.empty(len(raw), dtype=np.float64)
+    out[:] = raw  # a copy in every case: the frame's own data is never changed
+    values = out
     blanks = int(np.count_nonzero(np.isnan(values)))
     outside = (values < fmt.min) | (values > fmt.max)  # NaN compares False: blanks are not refused
     missing_codes = 0
@@ -308,7 +315,8 @@ def convert_item(series: pd.Series, fmt: ResponseFormat) -> _Converted:
         if missing_codes:
             outside &= ~is_code
             values[is_code] = np.nan
-    values[outside] = np.nan
+    if outside.any():
+        values[outside] = np.nan
     return _Converted(values=values, bad=outside, missing_codes=missing_codes, blanks=blanks, texts=texts)
 
 
@@ -364,10 +372,13 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
     missing_by_column: dict[str, int] = {}
     blank_by_column: dict[str, int] = {}
     texts_by_column: dict[str, int] = {}
-    for position, name in enumerate(needed):
+    from .concurrency import map_in_threads
+
+    converted_columns = map_in_threads(
+        lambda position: convert_item(frame[needed[position]], spec.response_for(needed[position]),
+                                      out=items[:, position]), range(len(needed)))
+    for name, converted in zip(needed, converted_columns):
         fmt = spec.response_for(name)
-        converted = convert_item(frame[name], fmt)
-        items[:, position] = converted.values
         if converted.missing_codes:
             missing_by_column[name] = converted.missing_codes
         if converted.blanks:

@@ -16,16 +16,20 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
     from ..stats.reliability import (ReliabilityThresholds, ScaleReliabilityReport, reliability_by_group,
                                      scale_reliability)
     from ..stats.subgroups import split_by
+    from ..concurrency import map_in_threads
 
     thresholds = thresholds or ReliabilityThresholds()
     splits = [split_by(responses.column(column), min_size=min_group, column=column) for column in by]
-    reports: dict[str, ScaleReliabilityReport] = {}
-    for name, scale in spec.scales.items():
+
+    def analyse(name: str) -> ScaleReliabilityReport:
+        scale = spec.scales[name]
         keyed = keyed_items(responses, scale)
         options = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
                        confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
                        reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed)
         overall = scale_reliability(keyed, **options)
         groups = tuple(reliability_by_group(keyed, split, **options) for split in splits)
-        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups)
-    return reports
+        return ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups)
+
+    names = list(spec.scales)
+    return dict(zip(names, map_in_threads(analyse, names)))

@@ -47,22 +47,23 @@ def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovaria
     definition as :meth:`pandas.DataFrame.cov`); they are computed with matrix products so the cost
     does not grow with a Python loop over rows or pairs.
     """
-    matrix = as_item_matrix(keyed)
+    matrix = np.asarray(keyed, dtype=np.float64)
+    if matrix.ndim != 2:
+        raise DataError(f"keyed: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
     n_rows, k = matrix.shape
-    answered = ~np.isnan(matrix)
-    complete = answered.all(axis=1)
-    n_complete = int(complete.sum())
+    # one matrix-vector product finds the incomplete rows (NaN) and any infinity at once
+    row_sums = matrix @ np.ones(k) if k else np.zeros(n_rows)
+    if np.isinf(row_sums).any() or (np.isnan(row_sums).any() and np.isinf(matrix).any()):
+        raise DataError("keyed: infinite values are not answers")
+    complete = ~np.isnan(row_sums)
+    n_complete = int(np.count_nonzero(complete))
     if not pairwise or n_complete == n_rows:
         rows = matrix if n_complete == n_rows else matrix[complete]
-        means = rows.mean(axis=0) if n_complete else np.full(k, np.nan)
-        if n_complete >= 2:
-            centred = rows - means
-            cov = centred.T @ centred / (n_complete - 1)
-        else:
-            cov = np.full((k, k), np.nan)
+        means, cov = _mean_and_covariance(rows)
         counts = np.full((k, k), n_complete, dtype=np.int64)
         return ItemCovariance(cov=cov, means=means, n_used=n_complete, n_rows=n_rows, n_complete=n_complete,
                               pair_counts=counts, pairwise=pairwise)
+    answered = ~np.isnan(matrix)
     mask = answered.astype(np.float64)
     zeroed = np.where(answered, matrix, 0.0)
     counts = mask.T @ mask                     # n_ij
@@ -76,6 +77,28 @@ def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovaria
     n_used = int(counts.min()) if k else 0
     return ItemCovariance(cov=cov, means=means, n_used=n_used, n_rows=n_rows, n_complete=n_complete,
                           pair_counts=counts.astype(np.int64), pairwise=True)
+
+
+def _mean_and_covariance(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Column means and covariance matrix (ddof 1) of complete rows.
+
+    The raw cross-product form (X'X - n m m') / (n - 1) needs one matrix product and no centred copy;
+    it loses about log10(max m^2 / min variance) digits to cancellation, so when that exceeds six digits
+    (values far from zero relative to their spread) the centred two-pass form is used instead.
+    """
+    n, k = rows.shape
+    if n == 0:
+        return np.full(k, np.nan), np.full((k, k), np.nan)
+    means = (np.ones(n) @ rows) / n
+    if n < 2:
+        return means, np.full((k, k), np.nan)
+    cross = rows.T @ rows
+    cov = (cross - n * np.outer(means, means)) / (n - 1)
+    variances = np.diag(cov)
+    if not np.all(variances > 0) or float(np.max(means**2)) > 1e6 * float(np.min(variances)):
+        centred = rows - means
+        cov = centred.T @ centred / (n - 1)
+    return means, (cov + cov.T) / 2
 
 
 def correlation_from_cov(cov: np.ndarray) -> np.ndarray:

@@ -1,0 +1,35 @@
+"""Running independent pieces of work (one per scale, one per column) on the machine's cores."""
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Iterable
+from concurrent.futures import ThreadPoolExecutor
+from typing import TypeVar
+
+Item = TypeVar("Item")
+Result = TypeVar("Result")
+
+
+def worker_count() -> int:
+    """Threads to use: the cores this process may run on (``SCALEWRIGHT_THREADS`` overrides)."""
+    chosen = os.environ.get("SCALEWRIGHT_THREADS", "")
+    if chosen.isdigit() and int(chosen) >= 1:
+        return int(chosen)
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:  # not every platform can tell the cores a process may use
+        return max(1, os.cpu_count() or 1)
+
+
+def map_in_threads(work: Callable[[Item], Result], items: Iterable[Item]) -> list[Result]:
+    """``[work(item) for item in items]``, in order, spread over threads.
+
+    Threads (not processes) suffice because the heavy steps are numpy operations on large arrays, which
+    release the interpreter lock; results are identical to the serial loop.
+    """
+    items = list(items)
+    workers = min(worker_count(), len(items))
+    if workers <= 1:
+        return [work(item) for item in items]
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        return list(pool.map(work, items))
