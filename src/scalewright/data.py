@@ -437,6 +437,8 @@ def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numb
         raise DataError(Problem(file=str(path), where=f"row {rows[0]}, column {id_column}",
                                 message=f"the id is empty ({int(empty.sum())} row(s) without an id)"))
     ids = _ids_as_text(raw)
+    if ids.is_unique:  # one hash pass; the slower search for the duplicates only when there are some
+        return ids.rename(id_column).reset_index(drop=True)
     duplicated = ids.duplicated(keep=False).to_numpy()
     if duplicated.any():
         first_value = ids[duplicated].iloc[0]
