@@ -136,8 +136,8 @@ def test_report_folder_holds_every_file(hostile_report):
     svgs = sorted(p.stem for p in (hostile_report / "figures").glob("*.svg"))
     pngs = sorted(p.stem for p in (hostile_report / "figures").glob("*.png"))
     assert svgs == pngs
-    assert {"morale-answers", "voice-answers", "morale-histogram", "voice-histogram", "morale-by-1-boxplot",
-            "voice-by-1-boxplot", "structure-scree", "structure-loadings"} <= set(svgs)
+    assert {"morale-answers", "voice-answers", "morale-histogram", "voice-histogram", "morale-by-1-team-boxplot",
+            "voice-by-1-team-boxplot", "structure-scree", "structure-loadings"} <= set(svgs)
     scores = (hostile_report / "scores.csv").read_text(encoding="utf-8").splitlines()
     assert scores[0].split(",")[:3] == ["rid", "morale", "morale__answered"]
     assert len(scores) == 151

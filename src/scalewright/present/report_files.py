@@ -5,6 +5,8 @@ allows otherwise.
 """
 from __future__ import annotations
 
+import re
+
 from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
@@ -42,6 +44,12 @@ def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: It
     return folder
 
 
+def _file_part(column: str, position: int) -> str:
+    """Position and a file-safe form of the column name (letters, digits, '-'): unique and readable."""
+    part = re.sub(r"[^A-Za-z0-9]+", "-", column).strip("-")[:40].lower()
+    return f"{position + 1}-{part}" if part else str(position + 1)
+
+
 def _save(axes: Any, folder: Path, name: str, *, inputs: Iterable) -> str:
     from .figure_files import save_figure
 
@@ -75,7 +83,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
             if not group.levels:
                 continue
             stem = _save(box_plots_by_group(shape, column=group.column), folder,
-                         f"{name}-by-{position + 1}-boxplot", inputs=inputs)
+                         f"{name}-by-{_file_part(group.column, position)}-boxplot", inputs=inputs)
             figures[("boxplot", name, group.column)] = FigureBlock(
                 stem, f"{label} by {group.column}",
                 f"Box plots of the scores for each of {len(group.levels)} level(s) of {group.column}: the box spans "

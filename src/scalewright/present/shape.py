@@ -42,7 +42,8 @@ def _table_notes(s: ShapeSummary) -> list[str]:
 
 
 def _modes_text(s: ShapeSummary) -> str:
-    return ", ".join(f"{m:g}" for m in s.modes) if s.modes else "none"
+    # modes of mean scores are fractions such as 3.8333...: two decimals, trailing zeros dropped
+    return ", ".join(f"{m:.2f}".rstrip("0").rstrip(".") for m in s.modes) if s.modes else "none"
 
 
 def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, histograms: bool = True) -> list[Table]:
@@ -74,7 +75,8 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
     tables.append(Table(
         title="Shape of each score and the evidence for it", columns=("score", "sample", "shape", "modes", "evidence"),
         rows=tuple(evidence_rows), kinds={c: "text" for c in ("score", "sample", "shape", "modes", "evidence")},
-        notes=("the rule is described in docs/shape.md; scores describe groups, not any one respondent",),
+        notes=("how the label is chosen for tied rating scores is set out in scalewright's documentation "
+               "(docs/shape.md); scores describe groups, not any one respondent",),
         key="shape_evidence"))
     tables.append(Table(
         title=f"Percentiles ({method} method)", columns=("score", "sample", *(f"P{k}" for k in percentile_keys)),

@@ -470,7 +470,7 @@ def describe_by_subgroup(values, groups, *, min_group: int = 10, column: str | N
     notes = list(split.notes())
     unscored = int((~scored).sum())
     if unscored:
-        notes.append(f"{unscored} respondent(s) without a score left out of the subgroups")
+        notes.append(f"{unscored} respondent(s) without a score left out of the {split.column} subgroups")
     return SubgroupShapes(column=split.column, levels=levels, too_small=dict(split.too_small), missing=split.missing,
                           min_group=min_group, notes=tuple(notes))
 
