@@ -153,7 +153,9 @@ def thresholds_used(results: Any) -> list[Threshold]:
         ]
     out += [
         Threshold("Distribution", "skewed when |G1| reaches (and exceeds twice its SE)",
-                  _v(shape_module.SKEW_THRESHOLD), "Bulmer (1979), Principles of Statistics"),
+                  _v(shape_module.SKEW_THRESHOLD),
+                  "lowered from Bulmer's (1979, Principles of Statistics) 0.5 because a bounded answer range damps "
+                  "the skewness of rating scores; this project's choice, measured in docs/shape.md"),
         Threshold("Distribution", "uniform when the bands' excess w stays below", _v(shape_module.FLAT_W),
                   "Cohen (1988): w = .1 small, .3 medium"),
         Threshold("Distribution", "bimodal: valley density at most this share of the smaller peak",
