@@ -321,7 +321,7 @@ def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | No
 
 
 def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
-    shown = repr(value) if isinstance(value, str) else f"{value}"
+    shown = repr(value) if isinstance(value, str) else (f"{value:g}" if isinstance(value, float) else f"{value}")
     codes = f" and is not a 'no answer' code ({', '.join(f'{c:g}' for c in fmt.missing_codes)})" \
         if fmt.missing_codes else ""
     if isinstance(value, str) and not _is_number(value):
