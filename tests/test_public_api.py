@@ -9,8 +9,10 @@ from scalewright.cli import COMMANDS, cli, main
 
 
 def test_public_names_are_declared_and_importable():
-    assert sorted(scalewright.__all__) == sorted(["__version__", "DataError", "Problem", "ScalewrightError",
-                                                  "SpecError", "UsageError"])
+    assert sorted(scalewright.__all__) == sorted([
+        "__version__", "DataError", "Problem", "ScalewrightError", "SpecError", "UsageError",
+        "load_spec", "check_spec", "read_responses", "read_table", "score_scales", "write_scores",
+        "analyse_reliability", "analyse_shape", "analyse_compare", "analyse_screen", "build_report"])
     for name in scalewright.__all__:
         assert hasattr(scalewright, name)
 
