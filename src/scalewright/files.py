@@ -38,22 +38,20 @@ def write_atomic(
     inputs: Iterable[str | os.PathLike[str]] = (),
 ) -> Path:
     """Write ``content`` to ``target`` through a temporary file in the same folder and a rename."""
-    target_path = Path(target)
-    refuse_input_overwrite(target_path, inputs)
-    folder = target_path.parent if str(target_path.parent) else Path(".")
-    if not folder.is_dir():
-        raise UsageError(f"cannot write {target}: folder {folder} does not exist")
     data = content.encode("utf-8") if isinstance(content, str) else content
-    handle, temp_name = tempfile.mkstemp(prefix=f".{target_path.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(handle, "wb") as stream:
-            stream.write(data)
-        os.replace(temp_name, target_path)
-    except BaseException:
-        if os.path.exists(temp_name):
-            os.unlink(temp_name)
-        raise
-    return target_path
+    return write_atomic_with(target, lambda temp: temp.write_bytes(data), inputs=inputs)
+
+
+def prepare_output_folder(folder: str | os.PathLike[str], *, what: str, force: bool = False) -> Path:
+    """Create ``folder`` if needed; refuse a file, and a folder that already holds files unless ``force``."""
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise UsageError(f"cannot write the {what} into {folder}: it is a file, not a folder")
+    if folder.is_dir() and any(folder.iterdir()) and not force:
+        raise UsageError(f"refusing to write the {what} into {folder}: the folder is not empty "
+                         "(use --force to write into it anyway)")
+    folder.mkdir(parents=True, exist_ok=True)
+    return folder
 
 
 def write_atomic_with(target: str | os.PathLike[str], writer, *, inputs: Iterable = ()) -> Path:

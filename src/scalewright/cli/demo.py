@@ -5,7 +5,7 @@ from pathlib import Path
 
 import click
 
-from ..errors import UsageError
+from ..files import prepare_output_folder
 
 DATA_NAME = "staff-climate.csv"
 SCALES_NAME = "staff-climate.yaml"
@@ -21,14 +21,7 @@ CAUTION = ("The data are fictional (Kestrel Bay Health does not exist). Scores d
 
 def prepare_folder(folder: str | Path, *, force: bool = False) -> Path:
     """Create ``folder`` if needed; refuse one that already holds files unless ``force``."""
-    folder = Path(folder)
-    if folder.exists() and not folder.is_dir():
-        raise UsageError(f"cannot write the demo into {folder}: it is a file, not a folder")
-    if folder.is_dir() and any(folder.iterdir()) and not force:
-        raise UsageError(f"refusing to write the demo into {folder}: the folder is not empty (use --force to "
-                         "write into it anyway)")
-    folder.mkdir(parents=True, exist_ok=True)
-    return folder
+    return prepare_output_folder(folder, what="demo", force=force)
 
 
 def write_demo_inputs(folder: str | Path, *, seed: int, n: int) -> tuple[Path, Path]:

@@ -14,6 +14,16 @@ def use_agg() -> None:
     matplotlib.use("Agg", force=True)
 
 
+def axes_or_new(ax, size: tuple[float, float]):
+    """``ax`` itself, or the Axes of a new figure of ``size`` inches (figure functions take ``ax=None``)."""
+    if ax is not None:
+        return ax
+    import matplotlib.pyplot as plt
+
+    _, ax = plt.subplots(figsize=size)
+    return ax
+
+
 def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "png"), dpi: int = 150,
                 inputs: Iterable = ()) -> list[Path]:
     """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure."""

@@ -8,24 +8,16 @@ from __future__ import annotations
 from ..errors import UsageError
 from ..stats.groups import suppressed_text
 from ..stats.tally import AnswerDistribution, Tally
+from .figure_files import axes_or_new
 from .palette import NEUTRAL_GREY, OKABE_ITO, PRIMARY, diverging_colours
 
 #: a pie with more slices than this cannot be read; a bar chart is offered instead
 MAX_PIE_SLICES = 5
 
 
-def _axes(ax, size: tuple[float, float]):
-    if ax is not None:
-        return ax
-    import matplotlib.pyplot as plt
-
-    _, ax = plt.subplots(figsize=size)
-    return ax
-
-
 def tally_bars(t: Tally, *, percent: bool = False, ax=None):
     """Vertical bars of counts (or valid percentages) per category, in the tally's order."""
-    ax = _axes(ax, (max(4.0, 0.8 * len(t.categories) + 2), 3.5))
+    ax = axes_or_new(ax, (max(4.0, 0.8 * len(t.categories) + 2), 3.5))
     positions = range(len(t.categories))
     heights = []
     for c in t.categories:
@@ -56,7 +48,7 @@ def tally_pie(t: Tally, *, ax=None):
         raise UsageError(f"{t.column} has suppressed categories; a pie chart would have to show them (use a bar chart)")
     if not slices:
         raise UsageError(f"{t.column} has no answers to draw")
-    ax = _axes(ax, (4.5, 4.5))
+    ax = axes_or_new(ax, (4.5, 4.5))
     ax.pie([c.count for c in slices], labels=[c.label for c in slices], colors=list(OKABE_ITO[:len(slices)]),
            autopct="%1.0f%%", startangle=90, counterclock=False, wedgeprops={"edgecolor": "white"})
     ax.set_aspect("equal")
@@ -76,7 +68,7 @@ def diverging_bars(distribution: AnswerDistribution, *, ax=None, titles: dict[st
     k = len(levels)
     colours = diverging_colours(k)
     items = distribution.items
-    ax = _axes(ax, (7.5, 0.45 * len(items) + 1.8))
+    ax = axes_or_new(ax, (7.5, 0.45 * len(items) + 1.8))
     titles = titles or {}
     any_hidden = False
     for row, t in enumerate(items):

@@ -12,19 +12,11 @@ import numpy as np
 
 from ..errors import UsageError
 from ..stats.shape import ShapeReport, ShapeSummary
+from .figure_files import axes_or_new
 from .palette import ACCENT, NEUTRAL_GREY, OKABE_ITO, PRIMARY
 
 #: tick labels are thinned out above this many bars
 MAX_TICK_LABELS = 12
-
-
-def _axes(ax, size: tuple[float, float]):
-    if ax is not None:
-        return ax
-    import matplotlib.pyplot as plt
-
-    _, ax = plt.subplots(figsize=size)
-    return ax
 
 
 def _tidy(ax) -> None:
@@ -40,7 +32,7 @@ def histogram(summary: ShapeSummary, *, title: str = "", x_label: str = "score",
     cells = summary.histogram
     if cells is None:
         raise UsageError("no histogram to draw: the score has no range (no scores, or all the same)")
-    ax = _axes(ax, (6.0, 3.6))
+    ax = axes_or_new(ax, (6.0, 3.6))
     edges = np.asarray(cells.edges)
     counts = np.asarray(cells.counts, dtype=float)
     total = counts.sum() or 1.0
@@ -80,7 +72,7 @@ def _box_stats(summary: ShapeSummary, label: str) -> dict:
 
 def box_plot(summary: ShapeSummary, *, title: str = "", x_label: str = "score", ax=None):
     """A horizontal box plot: quartiles, whiskers to the last scores inside Tukey's 1.5 IQR fences, outliers."""
-    ax = _axes(ax, (6.0, 2.2))
+    ax = axes_or_new(ax, (6.0, 2.2))
     ax.bxp([_box_stats(summary, "")], orientation="horizontal", showfliers=True, widths=0.5, patch_artist=True,
            boxprops={"facecolor": OKABE_ITO[4], "edgecolor": "black"}, medianprops={"color": ACCENT, "linewidth": 2},
            flierprops={"marker": "o", "markerfacecolor": "none", "markeredgecolor": "black", "markersize": 5})
@@ -112,7 +104,7 @@ def _group_samples(report: ShapeReport, column: str | None) -> tuple[str, list[t
 def box_plots_by_group(report: ShapeReport, *, column: str | None = None, ax=None):
     """Side-by-side box plots of one score per level of a subgroup column, on one shared score axis."""
     name, samples = _group_samples(report, column)
-    ax = _axes(ax, (6.5, 0.6 * len(samples) + 1.6))
+    ax = axes_or_new(ax, (6.5, 0.6 * len(samples) + 1.6))
     stats = [_box_stats(s, f"{level} (n = {s.n})") for level, s in samples]
     parts = ax.bxp(stats, orientation="horizontal", showfliers=True, widths=0.55, patch_artist=True,
                    medianprops={"color": "black", "linewidth": 2},

@@ -8,6 +8,7 @@ from typing import Any
 
 import numpy as np
 
+from .figure_files import axes_or_new
 from .palette import NEUTRAL_GREY, OKABE_ITO, PRIMARY
 
 
@@ -21,11 +22,8 @@ def scree_figure(result: Any, ax: Any = None, *, max_shown: int | None = 20) -> 
     ``result`` is a ``StructureResult`` or a ``ParallelAnalysisResult``. At most ``max_shown`` leading
     eigenvalues are drawn (None: all).
     """
-    import matplotlib.pyplot as plt
-
     parallel = _parallel_of(result)
-    if ax is None:
-        _, ax = plt.subplots(figsize=(6.4, 4.0))
+    ax = axes_or_new(ax, (6.4, 4.0))
     if parallel is None:
         ax.text(0.5, 0.5, "no parallel analysis (too few respondents or items)", ha="center", va="center",
                 transform=ax.transAxes)
@@ -58,13 +56,10 @@ def loadings_figure(result: Any, ax: Any = None) -> Any:
 
     Blue for positive, vermillion for negative loadings; the darker, the larger in size.
     """
-    import matplotlib.pyplot as plt
     from matplotlib.colors import LinearSegmentedColormap
 
     solution = result.solution
-    if ax is None:
-        height = 1.2 + 0.28 * max(len(result.items), 1)
-        _, ax = plt.subplots(figsize=(1.6 + 0.9 * max(getattr(solution, "n_factors", 1), 1), height))
+    ax = axes_or_new(ax, (1.6 + 0.9 * max(getattr(solution, "n_factors", 1), 1), 1.2 + 0.28 * max(len(result.items), 1)))
     if solution is None:
         ax.text(0.5, 0.5, "no factor solution", ha="center", va="center", transform=ax.transAxes)
         ax.set_axis_off()

@@ -11,7 +11,6 @@ from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any
 
-from ..errors import UsageError
 from ..files import write_atomic
 from .report_layout import FigureBlock
 
@@ -25,7 +24,7 @@ REPORT_FILES = ("index.html", "report.md", "results.json", "scores.csv")
 def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: Iterable = ()) -> Path:
     """Create ``folder`` if needed; refuse a file, a folder that already holds files unless ``force``, and a
     folder where a report file would replace an input file (checked before anything is written)."""
-    from ..files import refuse_input_overwrite
+    from ..files import prepare_output_folder, refuse_input_overwrite
 
     folder = Path(folder)
     inputs = [p for p in inputs if p is not None]
@@ -34,12 +33,7 @@ def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: It
     if folder.is_dir() and (folder / FIGURES).is_dir():
         for existing in (folder / FIGURES).iterdir():
             refuse_input_overwrite(existing, inputs)
-    if folder.exists() and not folder.is_dir():
-        raise UsageError(f"cannot write the report into {folder}: it is a file, not a folder")
-    if folder.is_dir() and any(folder.iterdir()) and not force:
-        raise UsageError(f"refusing to write the report into {folder}: the folder is not empty "
-                         "(use --force to write into it anyway)")
-    folder.mkdir(parents=True, exist_ok=True)
+    prepare_output_folder(folder, what="report", force=force)
     (folder / FIGURES).mkdir(exist_ok=True)
     return folder
 
