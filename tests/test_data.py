@@ -6,7 +6,12 @@ import pandas as pd
 import pytest
 
 from scalewright.cli import main
-from scalewright.data import read_exclusion_list, read_responses, read_table, sniff_delimiter
+from scalewright.data import (
+    read_exclusion_list,
+    read_responses,
+    read_table,
+    sniff_delimiter,
+)
 from scalewright.errors import DataError
 from scalewright.spec import load_spec
 

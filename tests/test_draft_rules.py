@@ -8,7 +8,15 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from scalewright.drafting import (
-    CONSTANT, DATE, EMPTY, ID, RATING, UNCLEAR, draft_scales, infer_answer_format, profile_column,
+    CONSTANT,
+    DATE,
+    EMPTY,
+    ID,
+    RATING,
+    UNCLEAR,
+    draft_scales,
+    infer_answer_format,
+    profile_column,
     propose_reverse_keys,
 )
 from scalewright.errors import DataError

@@ -12,8 +12,17 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from scalewright.errors import UsageError
-from scalewright.present.groups import compare_tables, comparison_record, comparison_sentence
-from scalewright.present.render import render_csv, render_json, render_markdown, render_text
+from scalewright.present.groups import (
+    compare_tables,
+    comparison_record,
+    comparison_sentence,
+)
+from scalewright.present.render import (
+    render_csv,
+    render_json,
+    render_markdown,
+    render_text,
+)
 from scalewright.stats.groups import compare_groups, holm, pvalue_holm
 
 TOL = dict(rtol=1e-6, atol=1e-9)

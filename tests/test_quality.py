@@ -10,8 +10,16 @@ from scipy.stats import chi2, pearsonr
 
 from scalewright.errors import DataError, UsageError
 from scalewright.stats.quality import (
-    ScreenThresholds, duplicate_records, even_odd_consistency, intra_individual_variability, longstring,
-    mahalanobis_distance, missing_share, pairwise_covariance, person_total_correlation, screen_respondents,
+    ScreenThresholds,
+    duplicate_records,
+    even_odd_consistency,
+    intra_individual_variability,
+    longstring,
+    mahalanobis_distance,
+    missing_share,
+    pairwise_covariance,
+    person_total_correlation,
+    screen_respondents,
     speeders,
 )
 

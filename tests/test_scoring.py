@@ -11,7 +11,15 @@ from hypothesis.extra import numpy as hnp
 from scalewright.cli import main
 from scalewright.data import read_responses
 from scalewright.errors import UsageError
-from scalewright.scoring import composite, keyed_items, pomp, reverse_key, score_scales, write_scores, z_scores
+from scalewright.scoring import (
+    composite,
+    keyed_items,
+    pomp,
+    reverse_key,
+    score_scales,
+    write_scores,
+    z_scores,
+)
 from scalewright.spec import load_spec
 
 from .conftest import BASIC_DATA, BASIC_SCALES, folder_fingerprint

@@ -11,7 +11,12 @@ use_agg()
 
 import matplotlib.pyplot as plt  # noqa: E402  (after selecting the Agg backend)
 
-from scalewright.present.figures_shape import box_plot, box_plots_by_group, histogram, histograms_by_group  # noqa: E402
+from scalewright.present.figures_shape import (  # noqa: E402
+    box_plot,
+    box_plots_by_group,
+    histogram,
+    histograms_by_group,
+)
 from scalewright.present.shape import shape_tables  # noqa: E402
 from scalewright.stats.score_grid import attainable_scores  # noqa: E402
 from scalewright.stats.shape import ShapeReport, describe_by_subgroup, describe_scores  # noqa: E402

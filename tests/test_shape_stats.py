@@ -15,10 +15,26 @@ from scipy import stats
 
 from scalewright.errors import UsageError
 from scalewright.results import to_jsonable
-from scalewright.stats.descriptives import (QUANTILE_METHODS, bimodality_coefficient, kurtosis_se, moments,
-                                            quantiles, skewness_se, uniform_fit)
-from scalewright.stats.score_grid import attainable_scores, histogram_cells, infer_resolution
-from scalewright.stats.shape import SHAPES, describe_by_subgroup, describe_scores, dip_test_jittered
+from scalewright.stats.descriptives import (
+    QUANTILE_METHODS,
+    bimodality_coefficient,
+    kurtosis_se,
+    moments,
+    quantiles,
+    skewness_se,
+    uniform_fit,
+)
+from scalewright.stats.score_grid import (
+    attainable_scores,
+    histogram_cells,
+    infer_resolution,
+)
+from scalewright.stats.shape import (
+    SHAPES,
+    describe_by_subgroup,
+    describe_scores,
+    dip_test_jittered,
+)
 
 
 def _study_module():

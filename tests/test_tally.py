@@ -11,9 +11,19 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from scalewright.errors import DataError, UsageError
-from scalewright.present.render import render_csv, render_json, render_markdown, render_text
+from scalewright.present.render import (
+    render_csv,
+    render_json,
+    render_markdown,
+    render_text,
+)
 from scalewright.present.tally import fit_sentence, tally_record, tally_tables
-from scalewright.stats.tally import answer_distribution, check_expected, goodness_of_fit, tally
+from scalewright.stats.tally import (
+    answer_distribution,
+    check_expected,
+    goodness_of_fit,
+    tally,
+)
 
 TOL = dict(rtol=1e-9, atol=1e-12)
 

@@ -604,7 +604,10 @@ def _fmt_r(value: float) -> str:
 def _scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarray, fmt: AnswerFormat,
                         notes: list[str]) -> ScaleDraft:
     from .stats.item_covariance import item_covariance
-    from .stats.reliability import cronbach_alpha_from_cov, item_rest_correlations_from_cov
+    from .stats.reliability import (
+        cronbach_alpha_from_cov,
+        item_rest_correlations_from_cov,
+    )
 
     stats = item_covariance(matrix, pairwise=True)
     cov = np.nan_to_num(stats.cov, nan=0.0)

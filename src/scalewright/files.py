@@ -6,6 +6,7 @@ import os
 import tempfile
 from collections.abc import Iterable
 from pathlib import Path
+from typing import Any
 
 from .errors import UsageError
 
@@ -71,3 +72,10 @@ def write_atomic_with(target: str | os.PathLike[str], writer, *, inputs: Iterabl
             os.unlink(temp_name)
         raise
     return target_path
+
+
+def neutralise_formula(value: Any) -> Any:
+    """Prefix text cells that a spreadsheet would run as a formula (=, +, -, @, tab, CR) with an apostrophe."""
+    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
+        return "'" + value
+    return value

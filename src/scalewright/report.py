@@ -11,7 +11,6 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
-
 from . import __version__
 from .errors import UsageError
 from .present.document import InputInfo, envelope
@@ -198,8 +197,8 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     -------
     ReportResults
     """
-    from .scoring import score_scales
     from .analyses.compare import analyse_compare
+    from .scoring import score_scales
     from .stats.tally import answer_distribution, tally
 
     check_columns(responses, options)

@@ -10,8 +10,7 @@ import pandas as pd
 
 from .data import Responses
 from .errors import UsageError
-from .files import write_atomic, write_atomic_with
-from .present.render import neutralise_formula
+from .files import neutralise_formula, write_atomic, write_atomic_with
 from .results import ResultMixin
 from .spec import Scale, ScaleSpec
 

@@ -12,11 +12,15 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
 
     Plain library function (no click): the report builds on it. ``by`` names subgroup columns.
     """
-    from ..scoring import keyed_items
-    from ..stats.reliability import (ReliabilityThresholds, ScaleReliabilityReport, reliability_by_group,
-                                     scale_reliability)
-    from ..stats.subgroups import split_by
     from ..concurrency import map_in_threads
+    from ..scoring import keyed_items
+    from ..stats.reliability import (
+        ReliabilityThresholds,
+        ScaleReliabilityReport,
+        reliability_by_group,
+        scale_reliability,
+    )
+    from ..stats.subgroups import split_by
 
     thresholds = thresholds or ReliabilityThresholds()
     splits = [split_by(responses.column(column), min_size=min_group, column=column) for column in by]

@@ -6,7 +6,16 @@ from pathlib import Path
 import click
 
 from ..analyses.reliability import analyse_reliability
-from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, resolve_by, scales_option
+from .common import (
+    by_option,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+    resolve_by,
+    scales_option,
+)
 
 
 @click.command("reliability")

@@ -6,7 +6,14 @@ from typing import Any
 
 import click
 
-from .common import by_option, data_argument, input_options, load_inputs, resolve_by, scales_option
+from .common import (
+    by_option,
+    data_argument,
+    input_options,
+    load_inputs,
+    resolve_by,
+    scales_option,
+)
 
 
 def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
@@ -16,7 +23,11 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         quiet: bool = False) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
-    from ..present.report_files import WRITE_STEPS, prepare_report_folder, write_report_folder
+    from ..present.report_files import (
+        WRITE_STEPS,
+        prepare_report_folder,
+        write_report_folder,
+    )
     from ..report import DEFAULT_SEED, STEPS, ReportOptions, build_report, check_columns
 
     progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)

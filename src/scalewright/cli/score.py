@@ -7,7 +7,15 @@ import click
 
 from ..present.table import Table
 from ..scoring import SCORE_FILE_TYPES, STANDARDIZE, score_scales, write_scores
-from .common import choose_format, data_argument, emit, input_options, load_inputs, output_options, scales_option
+from .common import (
+    choose_format,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+    scales_option,
+)
 
 
 @click.command("score")

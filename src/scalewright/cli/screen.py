@@ -6,7 +6,15 @@ from pathlib import Path
 import click
 
 from ..analyses.screen import analyse_screen
-from .common import choose_format, data_argument, emit, input_options, load_inputs, output_options, scales_option
+from .common import (
+    choose_format,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+    scales_option,
+)
 
 
 @click.command("screen")

@@ -7,9 +7,18 @@ from typing import Any
 
 import click
 
-from ..errors import UsageError
 from ..analyses.shape import analyse_shape
-from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, resolve_by, scales_option
+from ..errors import UsageError
+from .common import (
+    by_option,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+    resolve_by,
+    scales_option,
+)
 
 
 def parse_percentiles(text: str) -> tuple[float, ...]:
@@ -91,7 +100,12 @@ def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = Non
         raise UsageError(f"cannot write figures: folder {folder.parent} does not exist")
     folder.mkdir(exist_ok=True)
     use_agg()
-    from ..present.figures_shape import box_plot, box_plots_by_group, histogram, histograms_by_group
+    from ..present.figures_shape import (
+        box_plot,
+        box_plots_by_group,
+        histogram,
+        histograms_by_group,
+    )
 
     written: list[Path] = []
     for report in reports:

@@ -6,7 +6,14 @@ from pathlib import Path
 import click
 
 from ..analyses.structure import joint_keyed_items
-from .common import data_argument, emit, input_options, load_inputs, output_options, scales_option
+from .common import (
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+    scales_option,
+)
 
 ROTATION_CHOICES = ("oblimin", "promax", "varimax", "none")
 METHOD_CHOICES = ("minres", "ml")

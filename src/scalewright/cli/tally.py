@@ -6,7 +6,14 @@ from pathlib import Path
 import click
 
 from ..errors import UsageError
-from .common import Inputs, data_argument, emit, input_options, load_inputs, output_options
+from .common import (
+    Inputs,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    output_options,
+)
 
 
 def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dict[str, str]:
@@ -128,9 +135,9 @@ def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: 
     if not folder.is_dir():
         raise UsageError(f"cannot write figures: folder {folder} does not exist")
     use_agg()
-    from ..present.figures_groups import diverging_bars, tally_bars, tally_pie
-
     import matplotlib.pyplot as plt
+
+    from ..present.figures_groups import diverging_bars, tally_bars, tally_pie
 
     drawn = []  # every figure is drawn before any is written, so a refused pie leaves no partial output
     try:

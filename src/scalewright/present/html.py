@@ -12,7 +12,16 @@ import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
 from .numbers import format_value
-from .report_layout import Block, Bullets, FigureBlock, FigureRow, Paragraph, ReportDocument, Section, TableBlock
+from .report_layout import (
+    Block,
+    Bullets,
+    FigureBlock,
+    FigureRow,
+    Paragraph,
+    ReportDocument,
+    Section,
+    TableBlock,
+)
 from .table import Table
 
 SVG_NS = "http://www.w3.org/2000/svg"

@@ -6,8 +6,8 @@ import io
 import math
 from typing import Any
 
+from ..files import neutralise_formula
 from .numbers import format_value
-from .render import neutralise_formula
 from .table import Table
 
 CAUTION = ("A flag marks a record to look at, not a verdict on a person: read the answers before setting anyone "

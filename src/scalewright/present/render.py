@@ -7,6 +7,7 @@ import json
 from collections.abc import Sequence
 from typing import Any
 
+from ..files import neutralise_formula
 from ..results import to_jsonable
 from .numbers import format_value
 from .table import Table
@@ -79,13 +80,6 @@ def render_markdown(tables: Sequence[Table], *, decimals: int = 2, heading_level
             out.append(f"*Note.* {escape_markdown(note)}")
             out.append("")
     return "\n".join(out).rstrip() + "\n"
-
-
-def neutralise_formula(value: Any) -> Any:
-    """Prefix text cells a spreadsheet would run as a formula with an apostrophe."""
-    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        return "'" + value
-    return value
 
 
 def render_csv(tables: Sequence[Table]) -> str:

@@ -11,7 +11,15 @@ from typing import Any
 from .. import __version__
 from .methods import CAUTIONS, METHODS, thresholds_used
 from .numbers import format_value
-from .report_layout import Bullets, FigureBlock, FigureRow, Paragraph, ReportDocument, Section, TableBlock
+from .report_layout import (
+    Bullets,
+    FigureBlock,
+    FigureRow,
+    Paragraph,
+    ReportDocument,
+    Section,
+    TableBlock,
+)
 from .table import Table
 
 #: figure key -> figure; keys: ("answers", scale), ("histogram", scale), ("boxplot", scale, column),

@@ -6,7 +6,6 @@ allows otherwise.
 from __future__ import annotations
 
 import re
-
 from collections.abc import Callable, Iterable
 from pathlib import Path
 from typing import Any

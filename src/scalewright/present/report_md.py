@@ -3,7 +3,16 @@ from __future__ import annotations
 
 from .numbers import format_value
 from .render import escape_markdown
-from .report_layout import Block, Bullets, FigureBlock, FigureRow, Paragraph, ReportDocument, Section, TableBlock
+from .report_layout import (
+    Block,
+    Bullets,
+    FigureBlock,
+    FigureRow,
+    Paragraph,
+    ReportDocument,
+    Section,
+    TableBlock,
+)
 from .table import Table
 
 

@@ -7,7 +7,6 @@ from typing import Any
 from ..stats.groups import suppressed_text
 from ..stats.tally import FitResult, Tally
 from .numbers import format_value
-
 from .table import Table
 
 _VERDICT_WORDS = {

@@ -16,8 +16,8 @@ import numpy as np
 from ..errors import DataError
 from ..results import ResultMixin, to_jsonable
 from .bootstrap import AlphaBootstrap
-from .subgroups import SubgroupSplit
 from .item_covariance import correlation_from_cov, is_invertible
+from .subgroups import SubgroupSplit
 
 
 def _as_cov(cov: np.ndarray) -> np.ndarray:
@@ -219,7 +219,9 @@ def feldt_alpha_ci(alpha: float, n: int, k: int, *, confidence_level: float = 0.
     .. [1] Feldt, L. S., Woodruff, D. J., & Salih, F. A. (1987). Statistical inference for coefficient
        alpha. Applied Psychological Measurement, 11, 93-103.
     """
-    from scipy.special import fdtri  # inverse F cdf; scipy.stats would cost seconds to import
+    from scipy.special import (
+        fdtri,  # inverse F cdf; scipy.stats would cost seconds to import
+    )
 
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
@@ -262,7 +264,10 @@ def alpha_difference_test(alpha_a: float, n_a: int, alpha_b: float, n_b: int) ->
     .. [1] Feldt, L. S. (1969). A test of the hypothesis that Cronbach's alpha or Kuder-Richardson
        coefficient twenty is the same for two tests. Psychometrika, 34, 363-373.
     """
-    from scipy.special import fdtr, fdtrc  # F cdf and survival function without importing scipy.stats
+    from scipy.special import (  # F cdf and survival function without importing scipy.stats
+        fdtr,
+        fdtrc,
+    )
 
     if not (math.isfinite(alpha_a) and math.isfinite(alpha_b)) or n_a < 3 or n_b < 3 or alpha_b >= 1:
         return (math.nan, math.nan)

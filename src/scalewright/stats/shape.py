@@ -25,8 +25,17 @@ import pandas as pd
 
 from ..errors import UsageError
 from ..results import ResultMixin, to_jsonable
-from .descriptives import (BoxPlotPoints, UniformFit, bimodality_coefficient, box_plot_points, check_quantile_method,
-                           modes, moments, quantiles, uniform_fit)
+from .descriptives import (
+    BoxPlotPoints,
+    UniformFit,
+    bimodality_coefficient,
+    box_plot_points,
+    check_quantile_method,
+    modes,
+    moments,
+    quantiles,
+    uniform_fit,
+)
 from .score_grid import HistogramCells, histogram_cells, infer_resolution
 from .subgroups import split_by
 

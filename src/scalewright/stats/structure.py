@@ -15,10 +15,22 @@ import numpy as np
 
 from ..errors import DataError, UsageError
 from ..results import ResultMixin, to_jsonable
-from .adequacy import (BartlettResult, KMOResult, bartlett_sphericity, complete_cases, correlation_of, kmo,
-                       log_determinant)
+from .adequacy import (
+    BartlettResult,
+    KMOResult,
+    bartlett_sphericity,
+    complete_cases,
+    correlation_of,
+    kmo,
+    log_determinant,
+)
 from .factoring import FactorSolution, fit_factors
-from .parallel import DEFAULT_SEED, ParallelAnalysisResult, parallel_analysis, random_eigenvalues
+from .parallel import (
+    DEFAULT_SEED,
+    ParallelAnalysisResult,
+    parallel_analysis,
+    random_eigenvalues,
+)
 
 __all__ = [
     "BartlettResult", "KMOResult", "ParallelAnalysisResult", "StructureFlag", "StructureResult",
