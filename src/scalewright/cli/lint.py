@@ -5,7 +5,7 @@ from pathlib import Path
 
 import click
 
-from ..data import read_responses
+from ..data import read_exclusion_list, read_responses
 from ..errors import DataError, Problem
 from ..spec import check_spec
 
@@ -14,7 +14,10 @@ from ..spec import check_spec
 @click.argument("data", required=False, type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--scales", "-s", "scales", required=True, type=click.Path(dir_okay=False, path_type=Path),
               help="Scale file (YAML).")
-def lint(data: Path | None, scales: Path) -> None:
+@click.option("--exclude", type=click.Path(dir_okay=False, path_type=Path),
+              help="Also check a file of respondent ids to set aside: how many it would set aside, which ids "
+                   "the data do not have.")
+def lint(data: Path | None, scales: Path, exclude: Path | None) -> None:
     """Check a scale file (and, if DATA is given, the data against it); exit 0 only when clean."""
     spec, problems = check_spec(scales)
     data_problems: list[Problem] = []
@@ -25,6 +28,12 @@ def lint(data: Path | None, scales: Path) -> None:
             data_problems = list(error.problems)
         else:
             click.echo(f"{data}: {responses.n} respondent(s), {len(responses.item_names)} item(s) read")
+            if exclude is not None:
+                ids = read_exclusion_list(exclude)
+                _, excluded, unknown = responses.without_ids(ids)
+                shown = f" ({', '.join(unknown[:5])}{', ...' if len(unknown) > 5 else ''})" if unknown else ""
+                click.echo(f"note: {excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
+                           f"{len(unknown)} not found in the data{shown})")
     for problem in [*problems, *data_problems]:
         click.echo(str(problem))
     total = len(problems) + len(data_problems)
