@@ -4,6 +4,7 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
 from collections.abc import Sequence
 from typing import Any
 
@@ -54,11 +55,24 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
 
 
 def escape_markdown(text: str) -> str:
-    """Escape text so Markdown (and the HTML it may become) shows it literally."""
-    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
-    for char in "\\`*_{}[]()#+!|":
+    """Escape text so Markdown (and the HTML it may become) shows it literally.
+
+    HTML's own characters become entities; Markdown's inline markers (emphasis, code, links, tables) are
+    backslash-escaped; a marker that only counts at the start of a line (heading, list, quote) is escaped
+    there. Parentheses and other punctuation stay as they are: without a ``]`` before them they make no link.
+    """
+    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("\n", " ")
+    for char in "\\`*_{}[]|~":
         text = text.replace(char, "\\" + char)
-    return text.replace("\n", " ")
+    stripped = text.lstrip()
+    lead = len(text) - len(stripped)
+    numbered = re.match(r"\d+(?=[.)])", stripped)
+    if numbered:  # "1. first" would start an ordered list: escape the dot
+        end = lead + numbered.end()
+        text = text[:end] + "\\" + text[end:]
+    elif stripped[:1] in ("#", "-", "+", "="):
+        text = text[:lead] + "\\" + stripped
+    return text
 
 
 def render_markdown(tables: Sequence[Table], *, decimals: int = 2, heading_level: int = 2,

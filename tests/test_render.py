@@ -1,0 +1,74 @@
+"""Rendering: APA numbers, Markdown escaping, tables in every format."""
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+
+import pytest
+
+from scalewright.present.numbers import format_value
+from scalewright.present.render import escape_markdown, render_csv, render_json, render_markdown, render_text
+from scalewright.present.table import Table
+
+
+@pytest.mark.parametrize("value, kind, expected", [
+    (0.8412, "bounded", ".84"),      # APA: no leading zero for statistics that cannot exceed 1
+    (-0.305, "bounded", "-.30"),
+    (1.0, "bounded", "1.00"),
+    (0.0004, "p", "< .001"),         # APA: p below .001
+    (0.0449, "p", ".045"),
+    (3.14159, "num", "3.14"),
+    (-0.001, "num", "0.00"),         # no negative zero
+    (12.0, "int", "12"),
+    (float("nan"), "num", "–"),
+    (None, "bounded", "–"),
+    (math.inf, "num", "∞"),
+])
+def test_apa_numbers(value, kind, expected):
+    # APA style (Publication Manual, 7th ed.) as commonly applied; recalled from memory
+    assert format_value(value, kind) == expected
+
+
+def test_decimals_are_a_choice():
+    assert format_value(0.84123, "bounded", decimals=3) == ".841"
+    assert format_value(2.5, "num", decimals=0) in ("2", "3")
+
+
+@pytest.mark.parametrize("text, shown", [
+    ("<script>alert(1)</script>", "&lt;script&gt;alert(1)&lt;/script&gt;"),
+    ("a*b* [x](y)", "a\\*b\\* \\[x\\](y)"),
+    ("# not a heading", "\\# not a heading"),
+    ("1. not a list", "1\\. not a list"),
+    ("- not a list", "\\- not a list"),
+    ("age_group | x", "age\\_group \\| x"),
+    ("Workload strain (workload)", "Workload strain (workload)"),  # ordinary punctuation stays readable
+    ("two\nlines", "two lines"),
+])
+def test_markdown_escaping(text, shown):
+    assert escape_markdown(text) == shown
+
+
+TABLE = Table(title="Items <b>", columns=("item", "alpha", "p", "n"),
+              rows=(("=cmd()", 0.8412, 0.0004, 12), ("wl2", float("nan"), 0.2, 3)),
+              kinds={"item": "text", "alpha": "bounded", "p": "p", "n": "int"}, notes=("a note",), key="items")
+
+
+def test_text_and_markdown_round_only_when_rendered():
+    text = render_text([TABLE])
+    assert ".84" in text and "< .001" in text and "note: a note" in text
+    markdown = render_markdown([TABLE])
+    assert "## Items &lt;b&gt;" in markdown and "| .84 |" in markdown
+
+
+def test_csv_keeps_full_precision_and_neutralises_formulas():
+    rows = list(csv.reader(io.StringIO(render_csv([TABLE]))))
+    assert rows[0] == ["table", "item", "alpha", "p", "n"]
+    assert rows[1] == ["items", "'=cmd()", "0.8412", "0.0004", "12"]
+    assert rows[2][2] == ""  # NaN is an empty cell, not 'nan'
+
+
+def test_json_never_carries_nan():
+    text = render_json({"alpha": float("nan"), "values": [1.0, math.inf]})
+    assert json.loads(text) == {"alpha": None, "values": [1.0, None]}
