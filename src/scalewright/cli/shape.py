@@ -92,13 +92,9 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
 
 def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = None, inputs: Sequence[Path] = ()) -> list[Path]:
     """Histogram and box plot of every report, and per-subgroup box plots and small multiples."""
-    from ..present.figure_files import save_figure, use_agg
+    from ..present.figure_files import figure_folder, save_figure, use_agg
 
-    if folder.exists() and not folder.is_dir():
-        raise UsageError(f"cannot write figures: {folder} is not a folder")
-    if not folder.parent.is_dir():
-        raise UsageError(f"cannot write figures: folder {folder.parent} does not exist")
-    folder.mkdir(exist_ok=True)
+    folder = figure_folder(folder)
     use_agg()
     from ..present.figures_shape import (
         box_plot,

@@ -130,10 +130,9 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
 
 
 def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:
-    from ..present.figure_files import save_figure, use_agg
+    from ..present.figure_files import figure_folder, save_figure, use_agg
 
-    if not folder.is_dir():
-        raise UsageError(f"cannot write figures: folder {folder} does not exist")
+    folder = figure_folder(folder)
     use_agg()
     import matplotlib.pyplot as plt
 

@@ -14,6 +14,19 @@ def use_agg() -> None:
     matplotlib.use("Agg", force=True)
 
 
+def figure_folder(folder: Path) -> Path:
+    """The folder for ``--figures``: created when its parent exists; a file or a missing parent is refused."""
+    from ..errors import UsageError
+
+    folder = Path(folder)
+    if folder.exists() and not folder.is_dir():
+        raise UsageError(f"cannot write figures: {folder} is not a folder")
+    if not folder.parent.is_dir():
+        raise UsageError(f"cannot write figures: folder {folder.parent} does not exist")
+    folder.mkdir(exist_ok=True)
+    return folder
+
+
 def axes_or_new(ax, size: tuple[float, float]):
     """``ax`` itself, or the Axes of a new figure of ``size`` inches (figure functions take ``ax=None``)."""
     if ax is not None:
