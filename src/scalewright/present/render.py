@@ -5,6 +5,7 @@ import csv
 import io
 import json
 import re
+import textwrap
 from collections.abc import Sequence
 from typing import Any
 
@@ -25,16 +26,24 @@ def _is_numeric_column(table: Table, column: str) -> bool:
     return table.kind_of(column) != "text"
 
 
-def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence[str] = ()) -> str:
-    """Plain aligned columns for a terminal: text left-aligned, numbers right-aligned."""
+#: text cells longer than this are wrapped onto several lines in terminal tables
+TEXT_CELL_WIDTH = 60
+
+
+def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence[str] = (),
+                text_width: int = TEXT_CELL_WIDTH) -> str:
+    """Plain aligned columns for a terminal: text left-aligned (long text wrapped), numbers right-aligned."""
     out: list[str] = list(preface)
     if preface:
         out.append("")
     for table in tables:
         cells = _cells(table, decimals)
+        wrapped = [[textwrap.wrap(value, text_width) or [""] if not _is_numeric_column(table, column)
+                    and len(value) > text_width else [value]
+                    for column, value in zip(table.columns, row)] for row in cells]
         widths = [len(c) for c in table.columns]
-        for row in cells:
-            widths = [max(w, len(c)) for w, c in zip(widths, row)]
+        for row in wrapped:
+            widths = [max(w, *(len(part) for part in parts)) for w, parts in zip(widths, row)]
         out.append(table.title)
         out.append("=" * max(len(table.title), 1))
 
@@ -47,7 +56,9 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
         if table.columns:
             out.append(line(table.columns))
             out.append("  ".join("-" * w for w in widths))
-            out.extend(line(row) for row in cells)
+            for row in wrapped:
+                for depth in range(max(len(parts) for parts in row)):
+                    out.append(line([parts[depth] if depth < len(parts) else "" for parts in row]))
         for note in table.notes:
             out.append(f"  note: {note}")
         out.append("")
