@@ -228,3 +228,16 @@ def test_diverging_bars_centre_on_the_neutral_point(agg):
     # Heiberger & Robbins (2014): the neutral segment straddles zero, disagreement to the left
     np.testing.assert_allclose(bars[0].get_x(), -(10 + 20 + 15))
     np.testing.assert_allclose(bars[2].get_x() + bars[2].get_width() / 2, 0.0, atol=1e-12)
+
+
+def test_a_group_with_levels_in_the_scale_file_is_ordered():
+    # an ordered categorical (how data.py reads `groups: [{band: [...]}]`) gets cumulative percents
+    # in its own order; sums worked by hand (common practice, no source)
+    from scalewright.stats.tally import tally as make_tally
+
+    values = pd.Series(pd.Categorical(["new"] * 6 + ["mid"] * 10 + ["long"] * 8,
+                                      categories=["new", "mid", "long"], ordered=True))
+    result = make_tally(values, column="band")
+    cumulative = [c.cumulative_percent for c in result.categories]
+    assert [c.category for c in result.categories] == ["new", "mid", "long"]
+    assert cumulative == pytest.approx([25.0, 100 * 16 / 24, 100.0])

@@ -104,7 +104,8 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
         Category -> label text (for rating items: the scale file's answer labels). Implies an order.
     ordered : bool, keyword-only
         Whether the order is meaningful (cumulative percentages). Default: True with ``order`` or
-        ``labels`` or numeric values, False for natural text order.
+        ``labels``, numeric values or an ordered categorical (a group the scale file lists with its levels),
+        False for natural text order.
     min_cell : int, keyword-only
         Suppression threshold (see the module notes).
     column : str, keyword-only
@@ -144,7 +145,8 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
         else:
             categories = natural
     if ordered is None:
-        ordered = order is not None or bool(label_of) or pd.api.types.is_numeric_dtype(series.dtype)
+        ordered = (order is not None or bool(label_of) or pd.api.types.is_numeric_dtype(series.dtype)
+                   or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
     exact = {c: int(counts.get(c, 0)) for c in categories}
     hidden, notes = _suppression(exact, min_cell, column)
     n_total = len(series)
