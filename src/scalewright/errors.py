@@ -18,8 +18,8 @@ class Problem:
         if self.line is not None:
             place += f":{self.line}"
         if self.where:
-            place += f" ({self.where})"
-        return f"{place}: {self.message}"
+            place += f" ({self.where})" if place else self.where
+        return f"{place}: {self.message}" if place else self.message
 
 
 class ScalewrightError(Exception):

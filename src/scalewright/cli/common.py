@@ -62,11 +62,18 @@ class Inputs:
 
 
 def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Path | None = None) -> Inputs:
+    from concurrent.futures import ThreadPoolExecutor
+
     from ..data import read_exclusion_list, read_responses
     from ..spec import load_spec
 
     spec = load_spec(scales)
-    responses = read_responses(data, spec, lenient=lenient)
+    # the provenance digests read the files once more; hashing releases the interpreter lock, so it runs
+    # beside the parse instead of after it
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        digests = pool.submit(InputInfo.from_paths, data, scales)
+        responses = read_responses(data, spec, lenient=lenient)
+        info = digests.result()
     notes: list[str] = list(responses.notes())
     excluded = 0
     if exclude is not None:
@@ -74,8 +81,7 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
         responses, excluded, unknown = responses.without_ids(ids)
         notes.append(f"{excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
                      f"{len(unknown)} not found in the data)")
-    return Inputs(spec=spec, responses=responses, info=InputInfo.from_paths(data, scales),
-                  excluded=excluded, notes=tuple(notes))
+    return Inputs(spec=spec, responses=responses, info=info, excluded=excluded, notes=tuple(notes))
 
 
 def resolve_by(by: Sequence[str], spec: Any) -> tuple[str, ...]:

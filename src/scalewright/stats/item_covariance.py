@@ -30,13 +30,26 @@ class ItemCovariance:
         return int(self.cov.shape[0])
 
 
+def _row_sums_checked(matrix: np.ndarray, name: str) -> np.ndarray:
+    """Row sums (NaN marks an incomplete row); raise ``DataError`` if any value is infinite.
+
+    An infinity shows in its row sum unless a NaN in the same row hides it, so only the incomplete rows
+    need a look of their own: one matrix-vector product instead of a full pass over the matrix.
+    """
+    n_rows, k = matrix.shape
+    row_sums = matrix @ np.ones(k) if k else np.zeros(n_rows)
+    incomplete = np.isnan(row_sums)
+    if np.isinf(row_sums).any() or (incomplete.any() and np.isinf(matrix[incomplete]).any()):
+        raise DataError(f"{name}: infinite values are not answers")
+    return row_sums
+
+
 def as_item_matrix(keyed: np.ndarray, *, name: str = "keyed") -> np.ndarray:
     """Validate an n x k matrix of keyed answers (NaN = missing) and return it as float64."""
     matrix = np.asarray(keyed, dtype=np.float64)
     if matrix.ndim != 2:
         raise DataError(f"{name}: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
-    if np.isinf(matrix).any():
-        raise DataError(f"{name}: infinite values are not answers")
+    _row_sums_checked(matrix, name)
     return matrix
 
 
@@ -51,11 +64,7 @@ def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovaria
     if matrix.ndim != 2:
         raise DataError(f"keyed: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
     n_rows, k = matrix.shape
-    # one matrix-vector product finds the incomplete rows (NaN) and any infinity at once
-    row_sums = matrix @ np.ones(k) if k else np.zeros(n_rows)
-    if np.isinf(row_sums).any() or (np.isnan(row_sums).any() and np.isinf(matrix).any()):
-        raise DataError("keyed: infinite values are not answers")
-    complete = ~np.isnan(row_sums)
+    complete = ~np.isnan(_row_sums_checked(matrix, "keyed"))
     n_complete = int(np.count_nonzero(complete))
     if not pairwise or n_complete == n_rows:
         rows = matrix if n_complete == n_rows else matrix[complete]
