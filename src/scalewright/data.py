@@ -15,6 +15,7 @@ from typing import Any, Iterable, Sequence
 import numpy as np
 import pandas as pd
 
+from .answer_codes import ItemAnswers
 from .errors import DataError, Problem
 from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
 
@@ -74,7 +75,8 @@ def _head(path: Path) -> bytes:
     return head
 
 
-def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
+def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]]:
+    """The delimiter and the column names of a delimited file, after refusing what cannot be read."""
     head = _head(path)
     if head.startswith((b"\xff\xfe", b"\xfe\xff")):
         raise DataError(Problem(file=str(path), message="the file is UTF-16; save it as UTF-8"))
@@ -91,6 +93,11 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
     sep = delimiter or sniff_delimiter(header)
     names = next(csv.reader([header], delimiter=sep))
     _check_header(path, [n.strip() for n in names])
+    return sep, names
+
+
+def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
+    sep, _ = _delimited_header(path, delimiter)
     try:
         # pyarrow reads the file itself (fast, skips a UTF-8 BOM); it keeps bytes it cannot decode as binary
         frame = pd.read_csv(path, sep=sep, engine="pyarrow")
@@ -164,11 +171,12 @@ def first_row_number(path: str | Path) -> int:
 class Responses:
     """Clean answer codes of every item, with ids, the other columns and what was refused.
 
-    ``items`` holds raw codes (not reverse-keyed) as one float64 matrix, NaN where no answer was given.
+    ``answers`` holds the answers as given (not reverse-keyed); :attr:`items` shows them as one float64
+    matrix, NaN where no answer was given, and :meth:`codes` as one-byte codes for the statistics.
     """
 
     path: str
-    items: np.ndarray
+    answers: ItemAnswers
     item_names: tuple[str, ...]
     frame: pd.DataFrame
     ids: pd.Series
@@ -185,7 +193,16 @@ class Responses:
 
     @property
     def n(self) -> int:
-        return int(self.items.shape[0])
+        return self.answers.n
+
+    @property
+    def items(self) -> np.ndarray:
+        """Every item's answers as an n x k float64 matrix (column-major), NaN where missing."""
+        return self.answers.values
+
+    def codes(self, names: Sequence[str]) -> np.ndarray | None:
+        """The named items as one-byte codes (``answer - min``, 255 = missing), or None if one has none."""
+        return self.answers.codes_of([self.item_index(n) for n in names])
 
     def item_index(self, name: str) -> int:
         try:
@@ -214,7 +231,7 @@ class Responses:
         rows = np.asarray(rows)
         positions = np.flatnonzero(rows) if rows.dtype == bool else rows.astype(int)
         return Responses(
-            path=self.path, items=self.items[positions], item_names=self.item_names,
+            path=self.path, answers=self.answers.subset(positions), item_names=self.item_names,
             frame=self.frame.iloc[positions].reset_index(drop=True), ids=self.ids.iloc[positions].reset_index(drop=True),
             line_numbers=self.line_numbers[positions], id_column=self.id_column, refused=self.refused,
             refused_total=self.refused_total, refused_by_column=self.refused_by_column,
@@ -343,56 +360,71 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
 
     Raises ``DataError`` naming row and column for every refused value (the first 20 and the total)
     unless ``lenient``, which turns them into missing values counted per column.
+
+    A delimited file whose item columns hold only whole numbers takes the quick route of
+    :mod:`scalewright.read_codes`; any other file, and any file that route cannot take, the general one.
+    Both give the same result.
     """
     path = Path(path)
-    frame = read_table(path)
-    columns = list(frame.columns)
-    start = first_row_number(path)
-    problems: list[Problem] = []
     needed = list(spec.items)
-    absent = [c for c in needed if c not in columns]
-    for column in ([spec.id_column] if spec.id_column else []) + list(spec.groups):
-        if column not in columns:
-            absent.append(column)
-    if absent:
-        for name in absent:
-            close = difflib.get_close_matches(name, columns, n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
-            problems.append(Problem(file=str(path), line=1, message=f"the scale file names column {name!r}, "
-                                                                    f"which the data file does not have{hint}"))
-        raise DataError(problems)
+    quick = _read_quickly(path, spec)
+    if quick is None:
+        frame = read_table(path)
+        columns = list(frame.columns)
+        _check_columns_present(path, spec, columns)
+        rest = frame.drop(columns=needed)
+        n = len(frame)
+    else:
+        table, columns, item_raw_names = quick
+        from .read_codes import rest_as_frame
 
-    n = len(frame)
+        rest = rest_as_frame(table, item_raw_names)
+        n = table.num_rows
+    start = first_row_number(path)
     line_numbers = np.arange(start, start + n)
-    ids = _check_ids(path, frame, spec.id_column, line_numbers)
-    items = np.empty((n, len(needed)), dtype=np.float64, order="F")  # filled column by column
+    from concurrent.futures import ThreadPoolExecutor
+
+    from .concurrency import worker_count
+
+    with ThreadPoolExecutor(max_workers=worker_count()) as pool:
+        # the id check and the item columns are independent; both release the interpreter lock
+        ids_checked = pool.submit(_check_ids, path, rest, spec.id_column, line_numbers)
+        if quick is None:
+            values = np.empty((n, len(needed)), dtype=np.float64, order="F")  # filled column by column
+            converted = list(pool.map(lambda j: convert_item(frame[needed[j]], spec.response_for(needed[j]),
+                                                             out=values[:, j]), range(len(needed))))
+            raw_of = {name: frame[name] for name in needed}
+        else:
+            from .read_codes import convert_codes
+
+            codes = np.empty((n, len(needed)), dtype=np.uint8, order="F")
+            as_written = {raw.strip(): raw for raw in item_raw_names}
+            converted = list(pool.map(lambda j: convert_codes(table.column(as_written[needed[j]]),
+                                                              spec.response_for(needed[j]), out=codes[:, j]),
+                                      range(len(needed))))
+            raw_of = {name: pd.Series(c.raw) for name, c in zip(needed, converted)}
+        ids = ids_checked.result()
     bad_sample: list[Problem] = []
     bad_total = 0
     refused_by_column: dict[str, int] = {}
     missing_by_column: dict[str, int] = {}
     blank_by_column: dict[str, int] = {}
     texts_by_column: dict[str, int] = {}
-    from .concurrency import map_in_threads
-
-    converted_columns = map_in_threads(
-        lambda position: convert_item(frame[needed[position]], spec.response_for(needed[position]),
-                                      out=items[:, position]), range(len(needed)))
-    for name, converted in zip(needed, converted_columns):
+    for name, column in zip(needed, converted):
         fmt = spec.response_for(name)
-        if converted.missing_codes:
-            missing_by_column[name] = converted.missing_codes
-        if converted.blanks:
-            blank_by_column[name] = converted.blanks
-        if converted.texts:
-            texts_by_column[name] = converted.texts
-        count = int(np.count_nonzero(converted.bad))
+        if column.missing_codes:
+            missing_by_column[name] = column.missing_codes
+        if column.blanks:
+            blank_by_column[name] = column.blanks
+        if getattr(column, "texts", 0):
+            texts_by_column[name] = column.texts
+        count = int(np.count_nonzero(column.bad))
         if count:
             refused_by_column[name] = count
             bad_total += count
             if len(bad_sample) < SHOW_FIRST:
-                rows = np.flatnonzero(converted.bad)[: SHOW_FIRST - len(bad_sample)]
-                raw = frame[name].iloc[rows]
-                for row, value in zip(rows, raw):
+                rows = np.flatnonzero(column.bad)[: SHOW_FIRST - len(bad_sample)]
+                for row, value in zip(rows, raw_of[name].iloc[rows]):
                     bad_sample.append(Problem(file=str(path), where=f"row {line_numbers[row]}, column {name}",
                                               message=_describe_bad(value, fmt)))
     if bad_total and not lenient:
@@ -401,14 +433,50 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
                                                   "'no answer' code; fix them, add them to missing_codes, or use "
                                                   "--lenient to treat them as missing")
         raise DataError([*bad_sample, summary] if bad_total > 1 else bad_sample)
-    rest = frame.drop(columns=[c for c in needed if c in frame.columns])
     for column, order in spec.group_levels.items():
         rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
-    return Responses(path=str(path), items=items, item_names=tuple(needed), frame=rest.reset_index(drop=True),
+    formats = [spec.response_for(name) for name in needed]
+    lows, highs = [f.min for f in formats], [f.max for f in formats]
+    answers = ItemAnswers.from_values(values, lows, highs) if quick is None else \
+        ItemAnswers.from_codes(codes, lows, highs)
+    return Responses(path=str(path), answers=answers, item_names=tuple(needed), frame=rest.reset_index(drop=True),
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
                      refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
                      missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
                      texts_by_column=texts_by_column, file_columns=tuple(columns))
+
+
+def _read_quickly(path: Path, spec: ScaleSpec):
+    """(Arrow table, stripped column names, item names as written) by the quick route, or None."""
+    from .read_codes import fits, read_whole_number_table
+
+    if path.suffix.lower() not in (".csv", ".txt", ".tsv") or not path.is_file():
+        return None
+    if not spec.items or not all(fits(spec.response_for(name)) for name in spec.items):
+        return None
+    sep, raw_names = _delimited_header(path, "\t" if path.suffix.lower() == ".tsv" else None)
+    columns = [name.strip() for name in raw_names]
+    _check_columns_present(path, spec, columns)
+    table = read_whole_number_table(path, sep, raw_names, spec.items)
+    if table is None:
+        return None
+    wanted = set(spec.items)
+    return table, columns, [raw for raw in raw_names if raw.strip() in wanted]
+
+
+def _check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) -> None:
+    absent = [c for c in spec.items if c not in columns]
+    for column in ([spec.id_column] if spec.id_column else []) + list(spec.groups):
+        if column not in columns:
+            absent.append(column)
+    if absent:
+        problems = []
+        for name in absent:
+            close = difflib.get_close_matches(name, list(columns), n=1)
+            hint = f"; did you mean {close[0]!r}?" if close else ""
+            problems.append(Problem(file=str(path), line=1, message=f"the scale file names column {name!r}, "
+                                                                    f"which the data file does not have{hint}"))
+        raise DataError(problems)
 
 
 def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],

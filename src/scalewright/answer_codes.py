@@ -1,0 +1,112 @@
+"""Item answers held two ways: one-byte codes for the statistics, float64 with NaN for everything else.
+
+A rating answer is one of a few whole levels, so it fits in one byte as its offset from the item's lowest
+answer (``answer - min``), with :data:`MISSING` for no answer. Reliability on a million respondents is
+limited by memory traffic, and a byte is an eighth of a float64. Each form is built from the other on
+first use, so a command pays only for the form it reads.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+import threading
+
+import numpy as np
+
+MISSING = 255
+#: widest answer range (max - min) held as codes; 251-254 stay free as marks while reading
+MAX_SPAN = 250
+
+
+class ItemAnswers:
+    """The clean answers of every item, from either form.
+
+    Parameters
+    ----------
+    lows, highs : sequences of int
+        Lowest and highest answer of each item (its answer format's ``min`` and ``max``).
+
+    ``values`` is (n, k) float64, NaN where missing; codes are (n, k) uint8 offsets from ``lows``,
+    :data:`MISSING` where missing, only for items whose span ``high - low`` is at most :data:`MAX_SPAN`.
+
+    Build it with :meth:`from_values` or :meth:`from_codes`; the other form is derived when first asked
+    for. An item whose answers are not all whole levels of its range has no codes (:meth:`codes_of` then
+    gives ``None``).
+    """
+
+    def __init__(self, lows: Sequence[int], highs: Sequence[int]) -> None:
+        self.lows = np.asarray(lows, dtype=np.int64)
+        self.highs = np.asarray(highs, dtype=np.int64)
+        self._values: np.ndarray | None = None
+        self._codes: tuple[np.ndarray, np.ndarray] | None = None
+        self._lock = threading.Lock()  # analyses of several scales may ask for the same form at once
+
+    @classmethod
+    def from_values(cls, values: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
+        answers = cls(lows, highs)
+        answers._values = values
+        return answers
+
+    @classmethod
+    def from_codes(cls, codes: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
+        answers = cls(lows, highs)
+        answers._codes = (codes, np.ones(codes.shape[1], dtype=bool))
+        return answers
+
+    @property
+    def n(self) -> int:
+        return int((self._values if self._values is not None else self._codes[0]).shape[0])
+
+    @property
+    def values(self) -> np.ndarray:
+        """Answers as float64 (n x k, column-major), NaN where missing."""
+        with self._lock:
+            if self._values is None:
+                self._values = _values_from_codes(self._codes[0], self.lows)
+            return self._values
+
+    def _codes_and_usable(self) -> tuple[np.ndarray, np.ndarray]:
+        with self._lock:
+            if self._codes is None:
+                self._codes = _codes_from_values(self._values, self.lows, self.highs)
+            return self._codes
+
+    def codes_of(self, positions: Sequence[int]) -> np.ndarray | None:
+        """Codes of the items at ``positions`` (n x len, a copy), or None if one of them has none."""
+        codes, usable = self._codes_and_usable()
+        positions = list(positions)
+        if not usable[positions].all():
+            return None
+        return codes[:, positions]
+
+    def subset(self, rows: np.ndarray) -> "ItemAnswers":
+        """The answers of the rows at ``rows`` (positions), in that order."""
+        if self._codes is not None and self._codes[1].all():
+            return ItemAnswers.from_codes(np.asfortranarray(self._codes[0][rows]), self.lows, self.highs)
+        return ItemAnswers.from_values(self.values[rows], self.lows, self.highs)
+
+
+def _values_from_codes(codes: np.ndarray, lows: np.ndarray) -> np.ndarray:
+    values = np.empty(codes.shape, dtype=np.float64, order="F")
+    for j in range(codes.shape[1]):
+        np.add(codes[:, j], float(lows[j]), out=values[:, j])
+        values[codes[:, j] == MISSING, j] = np.nan
+    return values
+
+
+def _codes_from_values(values: np.ndarray, lows: np.ndarray, highs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Codes of every item and which items have them (every answer a whole level of a narrow range)."""
+    n, k = values.shape
+    codes = np.full((n, k), MISSING, dtype=np.uint8, order="F")
+    usable = np.zeros(k, dtype=bool)
+    for j in range(k):
+        span = highs[j] - lows[j]
+        if span > MAX_SPAN:
+            continue
+        offsets = values[:, j] - lows[j]
+        answered = ~np.isnan(offsets)
+        given = offsets[answered]
+        if given.size and (np.any(given != np.round(given)) or given.min() < 0 or given.max() > span):
+            continue
+        codes[answered, j] = given.astype(np.uint8)
+        usable[j] = True
+    return codes, usable
