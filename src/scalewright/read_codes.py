@@ -82,7 +82,7 @@ def code_table(fmt: ResponseFormat) -> np.ndarray:
 class ConvertedCodes:
     """One item column as codes, with what reading it found."""
 
-    bad: np.ndarray          # rows holding a number that is neither an answer nor a "no answer" code
+    bad: np.ndarray          # rows holding a number that is neither an answer nor a "no answer" code (a mask)
     raw: np.ndarray          # the numbers as read (for messages about the bad rows)
     missing_codes: int
     blanks: int
@@ -90,19 +90,30 @@ class ConvertedCodes:
 
 def convert_codes(column, fmt: ResponseFormat, *, out: np.ndarray) -> ConvertedCodes:
     """Codes of one int16 Arrow column into ``out`` (uint8); blanks, "no answer" codes and bad numbers missing."""
+    import pyarrow as pa
     import pyarrow.compute as pc
 
     array = column.combine_chunks() if hasattr(column, "combine_chunks") else column
     blanks = int(array.null_count)
-    raw = (pc.fill_null(array, 0) if blanks else array).to_numpy()
+    # a blank is read as the lowest answer first (never a mark), then overwritten from the validity bits
+    raw = (pc.fill_null(array, pa.scalar(fmt.min, pa.int16())) if blanks else array).to_numpy()
     np.take(code_table(fmt), raw.view(np.uint16), out=out)
-    if blanks:
-        out[array.is_null().to_numpy(zero_copy_only=False)] = MISSING
-    bad = out == NOT_AN_ANSWER
-    is_code = out == NO_ANSWER_CODE
-    missing_codes = int(np.count_nonzero(is_code))
-    if missing_codes:
+    bad = np.zeros(0, dtype=bool)
+    missing_codes = 0
+    if out.size and int(out.max()) > fmt.max - fmt.min:  # a mark: a "no answer" code or a bad number
+        is_code = out == NO_ANSWER_CODE
+        missing_codes = int(np.count_nonzero(is_code))
         out[is_code] = MISSING
-    if bad.any():
+        bad = out == NOT_AN_ANSWER
         out[bad] = MISSING
+    if blanks:
+        _mark_blanks(array, out)
     return ConvertedCodes(bad=bad, raw=raw, missing_codes=missing_codes, blanks=blanks)
+
+
+def _mark_blanks(array, out: np.ndarray) -> None:
+    """Set ``out`` to MISSING where the Arrow array has no value, straight from its validity bitmap."""
+    bits = np.unpackbits(np.frombuffer(array.buffers()[0], dtype=np.uint8), bitorder="little")
+    valid = bits[array.offset: array.offset + len(array)]
+    np.subtract(valid, 1, out=valid)  # 1 (a value) -> 0, 0 (blank) -> 255 in unsigned bytes
+    np.bitwise_or(out, valid, out=out)

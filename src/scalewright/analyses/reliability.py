@@ -20,6 +20,7 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
         reliability_by_group,
         scale_reliability,
     )
+    from ..stats.coded import CodedAnswers
     from ..stats.subgroups import split_by
 
     thresholds = thresholds or ReliabilityThresholds()
@@ -27,7 +28,9 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
 
     def analyse(name: str) -> ScaleReliabilityReport:
         scale = spec.scales[name]
-        keyed = keyed_items(responses, scale)
+        codes = responses.codes(scale.items)
+        # one-byte codes are keyed inside the statistics; only answers off the whole levels need floats
+        keyed = CodedAnswers(codes) if codes is not None else keyed_items(responses, scale)
         options = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
                        confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
                        reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed)

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -16,6 +16,7 @@ import numpy as np
 from ..errors import DataError
 from ..results import ResultMixin, to_jsonable
 from .bootstrap import AlphaBootstrap
+from .coded import CodedAnswers
 from .item_covariance import correlation_from_cov, is_invertible
 from .subgroups import SubgroupSplit
 
@@ -405,26 +406,51 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     ``low + high - x`` first. ``off_level`` counts answers that are not one of the integer levels.
     """
     matrix = np.asarray(keyed, dtype=np.float64)
-    n_rows, k = matrix.shape
+    k = matrix.shape[1]
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
     levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
-    mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
     # rating answers take few values: their counts are sufficient for n, mean and sd; one whole-matrix
     # comparison per level (row-major friendly) instead of a pass per item and level
-    keyed_levels = np.where(reversed_mask[None, :], low + high - levels[:, None], levels[:, None])  # (L, k)
+    keyed_levels = _keyed_levels(levels, low, high, reversed_mask)
     tally = np.array([np.count_nonzero(matrix == keyed_levels[l], axis=0) for l in range(levels.size)],
                      dtype=np.int64).reshape(levels.size, k).T  # (k, L)
     n = np.count_nonzero(~np.isnan(matrix), axis=0).astype(np.int64)
+    described = item_descriptives_from_tally(tally, n_rows=matrix.shape[0], low=low, high=high,
+                                             reversed_mask=reversed_mask, n_answered=n)
+    if not described.off_level:
+        return described
+    mean, sd = described.mean.copy(), described.sd.copy()
+    for j in np.flatnonzero(n - tally.sum(axis=1)):
+        answered = matrix[:, j][~np.isnan(matrix[:, j])]
+        mean[j] = answered.mean()
+        sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
+    return replace(described, mean=mean, sd=sd)
+
+
+def _keyed_levels(levels: np.ndarray, low: float, high: float, reversed_mask: np.ndarray) -> np.ndarray:
+    """(L, k) value each answer level takes after keying: reversed items count down."""
+    return np.where(reversed_mask[None, :], low + high - levels[:, None], levels[:, None])
+
+
+def item_descriptives_from_tally(tally: np.ndarray, *, n_rows: int, low: float, high: float,
+                                 reversed_mask: np.ndarray, n_answered: np.ndarray | None = None) -> ItemDescriptives:
+    """:func:`item_descriptives` from the (k, L) counts of each answer level (as given) of every item.
+
+    ``n_answered`` (default: the row sums of ``tally``) may exceed them by answers off the levels, whose
+    mean and sd the counts cannot give (left NaN here; :func:`item_descriptives` fills them in).
+    """
+    tally = np.asarray(tally, dtype=np.int64)
+    k = tally.shape[0]
+    levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
+    keyed_levels = _keyed_levels(levels, low, high, np.asarray(reversed_mask, dtype=bool))
+    n = tally.sum(axis=1) if n_answered is None else np.asarray(n_answered, dtype=np.int64)
+    mean, sd, floor, ceiling = (np.full(k, np.nan) for _ in range(4))
     counts: list[dict[str, int]] = []
     off_level = 0
     for j in range(k):
         outside = int(n[j] - tally[j].sum())
         off_level += outside
-        if outside:
-            answered = matrix[:, j][~np.isnan(matrix[:, j])]
-            mean[j] = answered.mean()
-            sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
-        elif n[j]:
+        if n[j] and not outside:
             mean[j] = float(tally[j] @ keyed_levels[:, j]) / n[j]
             if n[j] >= 2:
                 sd[j] = math.sqrt(float(tally[j] @ (keyed_levels[:, j] - mean[j]) ** 2) / (n[j] - 1))
@@ -596,7 +622,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes))
 
 
-def scale_reliability(keyed: np.ndarray, *, item_names: Sequence[str], low: float, high: float,
+def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[str], low: float, high: float,
                       confidence_level: float = 0.95, pairwise: bool = False,
                       thresholds: ReliabilityThresholds = ReliabilityThresholds(),
                       reversed_items: Sequence[str] = (), n_resamples: int = 0,
@@ -605,8 +631,10 @@ def scale_reliability(keyed: np.ndarray, *, item_names: Sequence[str], low: floa
 
     Parameters
     ----------
-    keyed : (n, k) array
-        Answers after reverse keying, NaN for missing.
+    keyed : (n, k) array or CodedAnswers
+        Answers after reverse keying, NaN for missing; or the answers as given, as one-byte codes
+        (:class:`~scalewright.stats.coded.CodedAnswers`), which this function keys itself. Codes make the
+        listwise statistics several times cheaper on large samples; the results are the same.
     item_names : sequence of str
         The k item names, in column order.
     low, high : float
@@ -633,12 +661,12 @@ def scale_reliability(keyed: np.ndarray, *, item_names: Sequence[str], low: floa
     interval uses the smallest pairwise count. Item descriptives use every answer given to the item.
     """
     from .bootstrap import bootstrap_alpha
+    from .coded import answer_tally, listwise_covariance
     from .item_covariance import as_item_matrix, item_covariance
 
-    matrix = as_item_matrix(keyed)
     names = tuple(item_names)
-    if matrix.shape[1] != len(names):
-        raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
+    if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
+        raise DataError(f"{len(names)} item name(s) given for {keyed.shape[1]} column(s)")
     unknown = set(reversed_items) - set(names)
     if unknown:
         raise DataError(f"reversed items not in the scale: {', '.join(sorted(unknown))}")
@@ -646,9 +674,20 @@ def scale_reliability(keyed: np.ndarray, *, item_names: Sequence[str], low: floa
         raise DataError(f"answer range must have low < high, got {low} and {high}")
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
-    stats = item_covariance(matrix, pairwise=pairwise)
-    descriptives = item_descriptives(matrix, low=low, high=high,
-                                     reversed_mask=np.array([name in set(reversed_items) for name in names]))
+    reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
+    if isinstance(keyed, CodedAnswers) and not pairwise and not n_resamples:
+        stats = listwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        descriptives = item_descriptives_from_tally(answer_tally(keyed, int(high - low) + 1), n_rows=keyed.shape[0],
+                                                    low=low, high=high, reversed_mask=reversed_mask)
+        matrix = None
+    else:
+        if isinstance(keyed, CodedAnswers):  # pairwise and the bootstrap work on the keyed values
+            keyed = keyed.keyed_values(low=int(low), high=int(high), reversed_mask=reversed_mask)
+        matrix = as_item_matrix(keyed)
+        if matrix.shape[1] != len(names):
+            raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
+        stats = item_covariance(matrix, pairwise=pairwise)
+        descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
     notes: list[str] = []
     if pairwise:
         notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
@@ -738,14 +777,18 @@ class GroupReliability(ResultMixin):
                 "comparisons": [c.to_dict() for c in self.comparisons], "notes": list(self.notes)}
 
 
-def reliability_by_group(keyed: np.ndarray, split: SubgroupSplit, **options: Any) -> GroupReliability:
+def _rows(data: np.ndarray | CodedAnswers, positions: np.ndarray) -> np.ndarray | CodedAnswers:
+    return data.rows(positions) if isinstance(data, CodedAnswers) else data[positions]
+
+
+def reliability_by_group(keyed: np.ndarray | CodedAnswers, split: SubgroupSplit, **options: Any) -> GroupReliability:
     """:func:`scale_reliability` for each analysable level of ``split`` and Feldt tests between them.
 
     ``split`` comes from :func:`scalewright.stats.subgroups.split_by`; its levels below the minimum size
     are named in ``too_small`` but not analysed. ``options`` are passed to :func:`scale_reliability`.
     """
-    matrix = np.asarray(keyed, dtype=np.float64)
-    levels = {level: scale_reliability(matrix[positions], **options) for level, positions in split.levels.items()}
+    data = keyed if isinstance(keyed, CodedAnswers) else np.asarray(keyed, dtype=np.float64)
+    levels = {level: scale_reliability(_rows(data, positions), **options) for level, positions in split.levels.items()}
     notes = list(split.notes())
     if len(levels) < 2:
         notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "

@@ -1,0 +1,105 @@
+"""Sufficient statistics of one scale straight from one-byte answer codes.
+
+Hand-written because no library computes covariances from byte codes: numpy's ``cov`` wants float rows
+and a copy of the complete ones. Here the incomplete rows are zeroed while the codes are widened, so
+one matrix product gives the complete-row count, the sums and the cross-products at once, all exact
+integers; the covariance then comes from exact integer arithmetic with one rounding at the end.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+from functools import reduce
+
+import numpy as np
+
+from ..answer_codes import MISSING
+from ..errors import DataError
+from .item_covariance import ItemCovariance
+
+#: with this few levels, one comparison per level beats a histogram (no widening to 8-byte indices)
+_FEW_LEVELS = 8
+_BLOCK_ROWS = 16384
+
+
+@dataclass(frozen=True, eq=False)
+class CodedAnswers:
+    """One scale's answers as given (not reverse-keyed): ``codes[i, j] = answer - low``, 255 = missing."""
+
+    codes: np.ndarray
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.codes, np.ndarray) or self.codes.dtype != np.uint8 or self.codes.ndim != 2:
+            raise DataError("answer codes must be a respondents x items matrix of uint8")
+
+    @property
+    def shape(self) -> tuple[int, int]:
+        return self.codes.shape
+
+    def rows(self, positions: np.ndarray) -> "CodedAnswers":
+        return CodedAnswers(self.codes[positions])
+
+    def keyed_values(self, *, low: int, high: int, reversed_mask: np.ndarray) -> np.ndarray:
+        """The answers as float64, reverse-keyed items turned (``low + high - x``), NaN where missing."""
+        values = self.codes.astype(np.float64)
+        values[self.codes == MISSING] = np.nan
+        return np.where(reversed_mask[None, :], high - values, low + values)
+
+
+def answer_tally(coded: CodedAnswers, n_levels: int) -> np.ndarray:
+    """(k, n_levels) counts of each code per item; raises ``DataError`` for a code beyond the levels."""
+    codes = coded.codes
+    k = codes.shape[1]
+    tally = np.zeros((k, n_levels), dtype=np.int64)
+    for j in range(k):
+        column = codes[:, j]
+        if n_levels <= _FEW_LEVELS:
+            tally[j] = [np.count_nonzero(column == level) for level in range(n_levels)]
+        else:
+            tally[j] = np.bincount(column, minlength=256)[:n_levels]
+        if tally[j].sum() != column.size - np.count_nonzero(column == MISSING):
+            raise DataError(f"answer codes of item {j + 1} go beyond the {n_levels} answer levels")
+    return tally
+
+
+def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+    """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
+
+    With ``x`` the codes of the complete rows (zero elsewhere) and a leading column of ones,
+    ``G = [1 x]' [1 x]`` holds the count n, the sums s and the cross-products C, exact in float64 while
+    n * (high - low)**2 < 2**53. Then, in integers, ``cov = (n C - s s') / (n (n - 1))``. Reverse keying
+    ``x -> (high - low) - x`` only flips the signs of that item's row and column, and its mean.
+    """
+    codes = coded.codes
+    n_rows, k = codes.shape
+    reversed_mask = np.asarray(reversed_mask, dtype=bool)
+    if k == 0:
+        complete = np.ones(n_rows, dtype=bool)
+    else:
+        complete = reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING
+    n = int(np.count_nonzero(complete))
+    counts = np.full((k, k), n, dtype=np.int64)
+    if n == 0 or k == 0:
+        return ItemCovariance(cov=np.full((k, k), np.nan), means=np.full(k, np.nan), n_used=n, n_rows=n_rows,
+                              n_complete=n, pair_counts=counts, pairwise=False)
+    gram = np.zeros((k + 1, k + 1))
+    # a block of rows at a time keeps the widened copy in cache and reuses its memory
+    block = np.empty((min(n_rows, _BLOCK_ROWS), k + 1), dtype=np.float64, order="F")
+    for start in range(0, n_rows, _BLOCK_ROWS):
+        stop = min(n_rows, start + _BLOCK_ROWS)
+        design = block[: stop - start]
+        design[:, 0] = complete[start:stop]
+        if n == n_rows:
+            design[:, 1:] = codes[start:stop]
+        else:
+            np.multiply(codes[start:stop], complete[start:stop, None], out=design[:, 1:], casting="unsafe")
+        gram += design.T @ design
+    gram = np.rint(gram).astype(np.int64).astype(object)  # exact integers, no overflow below
+    sums, cross = gram[0, 1:], gram[1:, 1:]
+    means = np.array([float(s) / n for s in sums])
+    if n >= 2:
+        cov = ((n * cross - np.outer(sums, sums)) / (n * (n - 1))).astype(np.float64)
+    else:
+        cov = np.full((k, k), np.nan)
+    sign = np.where(reversed_mask, -1.0, 1.0)
+    return ItemCovariance(cov=cov * np.outer(sign, sign), means=np.where(reversed_mask, high - means, low + means),
+                          n_used=n, n_rows=n_rows, n_complete=n, pair_counts=counts, pairwise=False)
