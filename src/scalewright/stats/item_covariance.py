@@ -89,11 +89,11 @@ def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovaria
 
 
 def _mean_and_covariance(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Column means and covariance matrix (ddof 1) of complete rows.
+    """Column means and covariance matrix (ddof 1) of complete rows, by the centred two-pass form.
 
-    The raw cross-product form (X'X - n m m') / (n - 1) needs one matrix product and no centred copy;
-    it loses about log10(max m^2 / min variance) digits to cancellation, so when that exceeds six digits
-    (values far from zero relative to their spread) the centred two-pass form is used instead.
+    Centring first keeps every digit that the raw cross-product form ``(X'X - n m m') / (n - 1)`` loses
+    to cancellation, and gives exact zeros for constant items. Large integer-coded samples take the
+    exact route of :mod:`scalewright.stats.coded` instead.
     """
     n, k = rows.shape
     if n == 0:
@@ -101,12 +101,8 @@ def _mean_and_covariance(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     means = (np.ones(n) @ rows) / n
     if n < 2:
         return means, np.full((k, k), np.nan)
-    cross = rows.T @ rows
-    cov = (cross - n * np.outer(means, means)) / (n - 1)
-    variances = np.diag(cov)
-    if not np.all(variances > 0) or float(np.max(means**2)) > 1e6 * float(np.min(variances)):
-        centred = rows - means
-        cov = centred.T @ centred / (n - 1)
+    centred = rows - means
+    cov = centred.T @ centred / (n - 1)
     return means, (cov + cov.T) / 2
 
 

@@ -96,7 +96,9 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
 
     result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
                       bounds=[(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)] * k,
-                      options={"maxiter": 1000, "ftol": 1e-15, "gtol": 1e-10})
+                      # no stop on a small change of the objective: near a Heywood bound it falls by
+                      # tiny steps while the loadings still move; stop on the projected gradient instead
+                      options={"maxiter": 1000, "ftol": 0.0, "gtol": 1e-10})
     loadings, _ = _ml_loadings(result.x, corr)
     # a line search that cannot improve an exact fit (just-identified models reach 0) ends "abnormally":
     # accept it when the gradient, projected on the bounds, vanishes

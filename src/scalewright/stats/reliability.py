@@ -28,6 +28,15 @@ def _as_cov(cov: np.ndarray) -> np.ndarray:
     return matrix
 
 
+#: a variance of a sum of items below this share of the items' own variances is rounding noise around
+#: zero (sums of covariances cancel); numerical tolerance, common practice, no source
+_ZERO_VARIANCE_SHARE = 1e-12
+
+
+def _has_variance(variance: np.ndarray | float, item_variances: np.ndarray | float) -> np.ndarray | bool:
+    return np.asarray(variance) > _ZERO_VARIANCE_SHARE * np.asarray(item_variances)
+
+
 def cronbach_alpha_from_cov(cov: np.ndarray) -> float:
     r"""Cronbach's coefficient alpha from the item covariance matrix.
 
@@ -56,7 +65,7 @@ def cronbach_alpha_from_cov(cov: np.ndarray) -> float:
     if k < 2 or not np.isfinite(cov).all():
         return math.nan
     total = float(cov.sum())
-    if not total > 0:
+    if not (total > 0 and _has_variance(total, float(np.trace(cov)))):
         return math.nan
     return float(k / (k - 1) * (1.0 - float(np.trace(cov)) / total))
 
@@ -113,7 +122,8 @@ def item_rest_correlations_from_cov(cov: np.ndarray) -> np.ndarray:
     rest_variance = total - 2 * row_sums + variances
     with np.errstate(invalid="ignore", divide="ignore"):
         r = cov_with_rest / np.sqrt(variances * rest_variance)
-    r = np.where((variances > 0) & (rest_variance > 0), r, np.nan)
+    r = np.where((variances > 0) & (rest_variance > 0) & _has_variance(rest_variance, variances.sum() - variances),
+                 r, np.nan)
     return np.clip(r, -1.0, 1.0)
 
 
@@ -468,7 +478,14 @@ def _fmt(value: float) -> str:
     if not math.isfinite(value):
         return "undefined"
     text = f"{value:.2f}"
+    if text == "-0.00":  # rounds to zero: no sign
+        text = "0.00"
     return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
+
+
+#: a correlation or loading this close to zero is zero up to rounding, and has no sign to flag
+#: (numerical tolerance, common practice, no source)
+_ROUNDING_NOISE = 1e-9
 
 
 def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: np.ndarray,
@@ -480,8 +497,8 @@ def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: n
     declared = set(reversed_items)
     for j, name in enumerate(item_names):
         r = float(item_rest_r[j])
-        negative_loading = math.isfinite(float(loadings[j])) and float(loadings[j]) < 0
-        if (math.isfinite(r) and r < 0) or negative_loading:
+        negative_loading = math.isfinite(float(loadings[j])) and float(loadings[j]) < -_ROUNDING_NOISE
+        if (math.isfinite(r) and r < -_ROUNDING_NOISE) or negative_loading:
             evidence = f"item-rest r = {_fmt(r)}" + (", negative loading on the scale's factor"
                                                      if negative_loading else "")
             advice = ("it is declared reverse-keyed: check that it should be"

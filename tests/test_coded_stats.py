@@ -1,0 +1,120 @@
+"""Statistics from one-byte codes equal numpy's on the keyed floats, and the float route of scale_reliability."""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from scalewright.answer_codes import MISSING
+from scalewright.errors import DataError
+from scalewright.results import to_jsonable
+from scalewright.stats.coded import CodedAnswers, answer_tally, listwise_covariance
+from scalewright.stats.reliability import reliability_by_group, scale_reliability
+from scalewright.stats.subgroups import split_by
+
+
+def coded_scale(rng: np.random.Generator, n: int, k: int, span: int, missing: float) -> np.ndarray:
+    """Correlated codes 0..span (a shared factor, cut into levels) with a share of MISSING."""
+    factor = rng.standard_normal(n)
+    continuous = 0.7 * factor[:, None] + 0.7 * rng.standard_normal((n, k))
+    cuts = np.linspace(-1.6, 1.6, span)
+    codes = (continuous[:, :, None] > cuts).sum(axis=2).astype(np.uint8)
+    codes[rng.random((n, k)) < missing] = MISSING
+    return np.asfortranarray(codes)
+
+
+def keyed_floats(codes: np.ndarray, low: int, high: int, reversed_mask: np.ndarray) -> np.ndarray:
+    values = codes.astype(np.float64)
+    values[codes == MISSING] = np.nan
+    return np.where(reversed_mask, high - values, low + values)
+
+
+def nearly_equal(a, b, rel: float = 1e-9, key: str = "") -> bool:
+    """Equal up to rounding; the iterative one-factor fit (omega, loadings) stops at 1e-6 agreement.
+
+    Flag messages are left out: they print the compared values to two decimals, where a value on a
+    rounding tie (alpha = -.125) may print either way.
+    """
+    if isinstance(a, dict):
+        return a.keys() == b.keys() and all(nearly_equal(a[name], b[name], rel, name) for name in a
+                                            if name != "message")
+    if isinstance(a, (list, tuple)):
+        return len(a) == len(b) and all(nearly_equal(x, y, rel, key) for x, y in zip(a, b))
+    if isinstance(a, float) and isinstance(b, float):
+        tolerance = 1e-6 if ("omega" in key or "loading" in key) else rel
+        return math.isclose(a, b, rel_tol=tolerance, abs_tol=tolerance)
+    return a == b
+
+
+@pytest.mark.parametrize("span, missing", [(4, 0.0), (4, 0.03), (6, 0.1), (10, 0.02), (100, 0.01)])
+def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missing):
+    rng = np.random.default_rng(span)
+    codes = coded_scale(rng, 3000, 5, span, missing)
+    low = -2
+    reversed_mask = np.array([False, True, False, False, True])
+    result = listwise_covariance(CodedAnswers(codes), low=low, high=low + span, reversed_mask=reversed_mask)
+    values = keyed_floats(codes, low, low + span, reversed_mask)
+    complete = values[~np.isnan(values).any(axis=1)]
+    # reference: numpy.cov (ddof 1) and mean on the rows that answered every item
+    np.testing.assert_allclose(result.cov, np.cov(complete, rowvar=False), rtol=1e-12, atol=1e-13)
+    np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-13, atol=1e-13)
+    assert result.n_used == complete.shape[0] and result.n_rows == 3000
+
+
+def test_answer_tally_equals_numpy_bincount_on_both_counting_paths():
+    rng = np.random.default_rng(3)
+    for span in (4, 20):  # few levels: one comparison per level; many: a histogram
+        codes = coded_scale(rng, 2000, 3, span, 0.05)
+        tally = answer_tally(CodedAnswers(codes), span + 1)
+        for j in range(3):
+            answered = codes[:, j][codes[:, j] != MISSING]
+            np.testing.assert_array_equal(tally[j], np.bincount(answered, minlength=span + 1))
+
+
+def test_codes_beyond_the_answer_levels_are_refused():
+    codes = np.array([[0, 1], [7, 2], [1, MISSING]], dtype=np.uint8)
+    with pytest.raises(DataError, match="beyond the 5 answer levels"):
+        answer_tally(CodedAnswers(codes), 5)
+    with pytest.raises(DataError, match="uint8"):
+        CodedAnswers(codes.astype(np.int64))
+
+
+@settings(max_examples=40, deadline=None)
+@given(seed=st.integers(0, 2**32 - 1), n=st.integers(0, 300), k=st.integers(1, 7), span=st.sampled_from([1, 4, 6, 10]),
+       missing=st.sampled_from([0.0, 0.05, 0.3]))
+def test_scale_reliability_from_codes_equals_the_float_route(seed, n, k, span, missing):
+    rng = np.random.default_rng(seed)
+    codes = coded_scale(rng, n, k, span, missing)
+    names = [f"i{j}" for j in range(k)]
+    reversed_items = [name for name in names if rng.random() < 0.4]
+    mask = np.array([name in reversed_items for name in names])
+    options = dict(item_names=names, low=1, high=1 + span, reversed_items=reversed_items)
+    from_codes = to_jsonable(scale_reliability(CodedAnswers(codes), **options).to_dict())
+    from_floats = to_jsonable(scale_reliability(keyed_floats(codes, 1, 1 + span, mask), **options).to_dict())
+    assert nearly_equal(from_codes, from_floats)
+
+
+@pytest.mark.parametrize("options", [dict(pairwise=True), dict(n_resamples=200, seed=11)])
+def test_pairwise_and_bootstrap_from_codes_equal_the_float_route(options):
+    codes = coded_scale(np.random.default_rng(9), 400, 4, 4, 0.08)
+    mask = np.array([False, False, True, False])
+    common = dict(item_names=list("abcd"), low=1, high=5, reversed_items=["c"], **options)
+    from_codes = scale_reliability(CodedAnswers(codes), **common).to_dict()
+    from_floats = scale_reliability(keyed_floats(codes, 1, 5, mask), **common).to_dict()
+    assert nearly_equal(to_jsonable(from_codes), to_jsonable(from_floats))
+
+
+def test_subgroups_from_codes_equal_the_float_route():
+    import pandas as pd
+
+    rng = np.random.default_rng(12)
+    codes = coded_scale(rng, 900, 5, 4, 0.02)
+    split = split_by(pd.Series(rng.choice(["a", "b", "c"], 900)), min_size=10, column="site")
+    options = dict(item_names=list("vwxyz"), low=1, high=5, reversed_items=["x"])
+    mask = np.array([False, False, True, False, False])
+    from_codes = reliability_by_group(CodedAnswers(codes), split, **options).to_dict()
+    from_floats = reliability_by_group(keyed_floats(codes, 1, 5, mask), split, **options).to_dict()
+    assert nearly_equal(to_jsonable(from_codes), to_jsonable(from_floats))

@@ -1,0 +1,157 @@
+"""The quick reading route gives exactly what the general route gives, and steps aside when it cannot read a file.
+
+The reference is the project's general route (pandas ``read_csv`` with the pyarrow engine, then per-column
+conversion), which ``test_data.py`` checks by hand-keyed cases; here every output of the quick route must
+equal it, on data generated in code.
+"""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scalewright import data as data_module
+from scalewright.answer_codes import MISSING
+from scalewright.data import read_responses
+from scalewright.errors import DataError
+from scalewright.read_codes import code_table, convert_codes, fits
+from scalewright.spec import ResponseFormat, load_spec
+
+SCALES = """\
+version: 1
+title: Ward survey
+id_column: staff_id
+groups: [shift]
+response: {min: 1, max: 5, missing_codes: [9, 99, -1]}
+scales:
+  workload:
+    title: Workload strain
+    items: [wl1, wl2, wl3]
+    reverse: [wl3]
+  stay:
+    title: Intent to stay
+    items: [st1, st2]
+    response: {min: 0, max: 6}
+"""
+
+
+def survey_csv(rng: np.random.Generator, n: int, *, bad: bool = False, sep: str = ",") -> str:
+    """A data file with blanks, 'NA' texts, 'no answer' codes, a text group, a numeric and an empty column."""
+    rows = []
+    for i in range(n):
+        cells = [f"p{i:04d}", rng.choice(["day", "night", "", "rotating"]), str(int(rng.integers(20, 65))) if
+                 rng.random() > 0.1 else "", "", rng.choice(["True", "False"])]
+        for item in range(5):
+            high = 5 if item < 3 else 6
+            value = str(int(rng.integers(1 if item < 3 else 0, high + 1)))
+            roll = rng.random()
+            if roll < 0.05:
+                value = ""
+            elif roll < 0.07:
+                value = rng.choice(["NA", "n/a", "null"])
+            elif roll < 0.10 and item < 3:
+                value = rng.choice(["9", "99", "-1"])
+            elif roll < 0.11 and bad:
+                value = rng.choice(["7", "-3", "12"])
+            elif roll < 0.13:
+                value = f" {value} "  # padded by hand-edited files
+            cells.append(value)
+        rows.append(sep.join(cells))
+    header = sep.join(["staff_id", "shift", "age", "unused", "consent", "wl1", "wl2", "wl3", "st1", "st2"])
+    return "\n".join([header, *rows]) + "\n"
+
+
+def read_both(path, spec, monkeypatch, **options):
+    quick = read_responses(path, spec, **options)
+    with monkeypatch.context() as patch:
+        patch.setattr(data_module, "_read_quickly", lambda *_: None)
+        general = read_responses(path, spec, **options)
+    return quick, general
+
+
+def assert_same_responses(quick, general) -> None:
+    np.testing.assert_array_equal(quick.items, general.items)
+    pd.testing.assert_frame_equal(quick.frame, general.frame)
+    pd.testing.assert_series_equal(quick.ids, general.ids)
+    np.testing.assert_array_equal(quick.line_numbers, general.line_numbers)
+    for field in ("refused_total", "refused_by_column", "missing_code_by_column", "blank_by_column",
+                  "texts_by_column", "file_columns", "item_names"):
+        assert getattr(quick, field) == getattr(general, field), field
+    assert [str(p) for p in quick.refused] == [str(p) for p in general.refused]
+
+
+@pytest.fixture
+def spec(write_file):
+    return load_spec(write_file("scales.yaml", SCALES))
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_quick_route_equals_the_general_route(write_file, spec, monkeypatch, seed):
+    path = write_file("survey.csv", survey_csv(np.random.default_rng(seed), 400))
+    assert data_module._read_quickly(path, spec) is not None  # this file does take the quick route
+    quick, general = read_both(path, spec, monkeypatch)
+    assert_same_responses(quick, general)
+    assert quick.missing_code_by_column and quick.blank_by_column  # the file exercises both
+
+
+def test_quick_route_equals_the_general_route_on_tab_separated_files(write_file, spec, monkeypatch):
+    path = write_file("survey.tsv", survey_csv(np.random.default_rng(7), 200, sep="\t"))
+    assert data_module._read_quickly(path, spec) is not None
+    assert_same_responses(*read_both(path, spec, monkeypatch))
+
+
+def test_lenient_reading_counts_the_same_refused_values(write_file, spec, monkeypatch):
+    path = write_file("survey.csv", survey_csv(np.random.default_rng(4), 500, bad=True))
+    quick, general = read_both(path, spec, monkeypatch, lenient=True)
+    assert quick.refused_total > 0
+    assert_same_responses(quick, general)
+
+
+def test_refused_values_give_the_same_error_by_either_route(write_file, spec, monkeypatch):
+    path = write_file("survey.csv", survey_csv(np.random.default_rng(5), 300, bad=True))
+    with pytest.raises(DataError) as quick:
+        read_responses(path, spec)
+    monkeypatch.setattr(data_module, "_read_quickly", lambda *_: None)
+    with pytest.raises(DataError) as general:
+        read_responses(path, spec)
+    assert [str(p) for p in quick.value.problems] == [str(p) for p in general.value.problems]
+    assert "row " in str(quick.value.problems[0]) and "outside the answer range" in str(quick.value.problems[0])
+
+
+@pytest.mark.parametrize("cell", ["Agree", "2.5", "40000", "3;4"])
+def test_the_quick_route_steps_aside_for_what_it_cannot_read(write_file, spec, cell):
+    text = survey_csv(np.random.default_rng(6), 50).splitlines()
+    first = text[1].split(",")
+    first[5] = cell
+    text[1] = ",".join(first)
+    path = write_file("survey.csv", "\n".join(text) + "\n")
+    assert data_module._read_quickly(path, spec) is None
+
+
+def test_undecodable_bytes_still_get_the_general_routes_message(write_file, spec):
+    body = survey_csv(np.random.default_rng(8), 30).encode("utf-8").replace(b"night", b"n\xe9ight", 1)
+    path = write_file("latin.csv", body)
+    assert data_module._read_quickly(path, spec) is None
+    with pytest.raises(DataError, match="not UTF-8"):
+        read_responses(path, spec)
+
+
+def test_code_table_marks_answers_no_answer_codes_and_other_numbers():
+    fmt = ResponseFormat(min=-2, max=2, missing_codes=(9, -99, 8.5))
+    table = code_table(fmt)
+    as_bits = np.array([-2, -1, 0, 2, 9, -99, 3, 8], dtype=np.int16).view(np.uint16)
+    # codes are offsets from min (hand-worked: -2 -> 0 ... 2 -> 4); 253 = "no answer" code, 254 = refused
+    assert table[as_bits].tolist() == [0, 1, 2, 4, 253, 253, 254, 254]
+    assert fits(fmt) and not fits(ResponseFormat(min=0, max=1000))
+
+
+def test_convert_codes_counts_blanks_codes_and_refusals():
+    import pyarrow as pa
+
+    fmt = ResponseFormat(min=1, max=5, missing_codes=(9,))
+    column = pa.chunked_array([pa.array([1, None, 9, 5], pa.int16()), pa.array([7, 3, None], pa.int16())])
+    out = np.empty(7, dtype=np.uint8)
+    converted = convert_codes(column, fmt, out=out)
+    assert out.tolist() == [0, MISSING, MISSING, 4, MISSING, 2, MISSING]
+    assert (converted.blanks, converted.missing_codes) == (2, 1)
+    assert np.flatnonzero(converted.bad).tolist() == [4] and converted.raw[4] == 7
