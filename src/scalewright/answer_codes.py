@@ -7,8 +7,8 @@ first use, so a command pays only for the form it reads.
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
 import threading
+from collections.abc import Sequence
 
 import numpy as np
 

@@ -14,13 +14,13 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
     """
     from ..concurrency import map_in_threads
     from ..scoring import keyed_items
+    from ..stats.coded import CodedAnswers
     from ..stats.reliability import (
         ReliabilityThresholds,
         ScaleReliabilityReport,
         reliability_by_group,
         scale_reliability,
     )
-    from ..stats.coded import CodedAnswers
     from ..stats.subgroups import split_by
 
     thresholds = thresholds or ReliabilityThresholds()
