@@ -11,7 +11,7 @@ from hypothesis import strategies as st
 from scalewright.answer_codes import MISSING
 from scalewright.errors import DataError
 from scalewright.results import to_jsonable
-from scalewright.stats.coded import CodedAnswers, answer_tally, listwise_covariance
+from scalewright.stats.coded import CodedAnswers, answer_tally, listwise_covariance, pairwise_covariance
 from scalewright.stats.reliability import reliability_by_group, scale_reliability
 from scalewright.stats.subgroups import split_by
 
@@ -62,6 +62,23 @@ def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missi
     np.testing.assert_allclose(result.cov, np.cov(complete, rowvar=False), rtol=1e-12, atol=1e-13)
     np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-13, atol=1e-13)
     assert result.n_used == complete.shape[0] and result.n_rows == 3000
+
+
+@pytest.mark.parametrize("span, missing", [(4, 0.0), (4, 0.15), (10, 0.3)])
+def test_pairwise_covariance_equals_pandas(span, missing):
+    import pandas as pd
+
+    rng = np.random.default_rng(20 + span)
+    codes = coded_scale(rng, 2500, 4, span, missing)
+    reversed_mask = np.array([True, False, False, True])
+    result = pairwise_covariance(CodedAnswers(codes), low=0, high=span, reversed_mask=reversed_mask)
+    values = pd.DataFrame(keyed_floats(codes, 0, span, reversed_mask))
+    # reference: pandas DataFrame.cov, which uses the rows where both items are answered
+    np.testing.assert_allclose(result.cov, values.cov().to_numpy(), rtol=1e-12, atol=1e-13)
+    answered = values.notna().astype(int)
+    np.testing.assert_array_equal(result.pair_counts, answered.T @ answered)
+    assert result.n_used == int((answered.T @ answered).to_numpy().min())
+    assert result.n_complete == int(answered.all(axis=1).sum())
 
 
 def test_answer_tally_equals_numpy_bincount_on_both_counting_paths():

@@ -103,3 +103,42 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
     sign = np.where(reversed_mask, -1.0, 1.0)
     return ItemCovariance(cov=cov * np.outer(sign, sign), means=np.where(reversed_mask, high - means, low + means),
                           n_used=n, n_rows=n_rows, n_complete=n, pair_counts=counts, pairwise=False)
+
+
+def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+    """Covariances of the keyed items, each over the rows that answered both (pairwise deletion).
+
+    With ``a`` the answered indicators and ``z`` the codes (zero where missing), ``G = [a z]' [a z]``
+    holds the pair counts ``a'a``, the sums of each item over the rows answering the other ``z'a`` and the
+    cross-products ``z'z``, all exact integers. Then ``cov_ij = (n_ij C_ij - s_i|j s_j|i) / (n_ij (n_ij - 1))``,
+    the definition of :meth:`pandas.DataFrame.cov`; ``n_used`` is the smallest pair count.
+    """
+    codes = coded.codes
+    n_rows, k = codes.shape
+    reversed_mask = np.asarray(reversed_mask, dtype=bool)
+    gram = np.zeros((2 * k, 2 * k))
+    block = np.empty((min(n_rows, _BLOCK_ROWS), 2 * k), dtype=np.float64, order="F")
+    for start in range(0, n_rows, _BLOCK_ROWS):
+        stop = min(n_rows, start + _BLOCK_ROWS)
+        design = block[: stop - start]
+        part = codes[start:stop]
+        np.not_equal(part, MISSING, out=design[:, :k], casting="unsafe")
+        np.multiply(part, design[:, :k], out=design[:, k:])
+        gram += design.T @ design
+    gram = np.rint(gram).astype(np.int64)
+    counts, sums, cross = gram[:k, :k], gram[k:, :k], gram[k:, k:]
+    complete = int(np.count_nonzero(reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING)) if k else n_rows
+    cov = np.full((k, k), np.nan)
+    for i in range(k):
+        for j in range(k):
+            n = int(counts[i, j])
+            if n >= 2:
+                numerator = n * int(cross[i, j]) - int(sums[i, j]) * int(sums[j, i])
+                cov[i, j] = numerator / (n * (n - 1))
+    diagonal = np.diag(counts)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        means = np.diag(sums) / diagonal
+    sign = np.where(reversed_mask, -1.0, 1.0)
+    return ItemCovariance(cov=cov * np.outer(sign, sign), means=np.where(reversed_mask, high - means, low + means),
+                          n_used=int(counts.min()) if k else 0, n_rows=n_rows, n_complete=complete,
+                          pair_counts=counts.astype(np.int64), pairwise=True)

@@ -374,17 +374,10 @@ def holm(pvalues: Sequence[float | None]) -> list[float | None]:
 
     Holm, S. (1979). A simple sequentially rejective multiple test procedure. Scand. J. Statist., 6, 65-70.
     """
-    import pingouin as pg
+    from .multiplicity import holm_adjusted
 
-    values = [None if p is None or not np.isfinite(p) else float(p) for p in pvalues]
-    present = [i for i, p in enumerate(values) if p is not None]
-    if not present:
-        return values
-    _, adjusted = pg.multicomp(np.array([values[i] for i in present]), method="holm")
-    out: list[float | None] = list(values)
-    for i, p in zip(present, np.atleast_1d(adjusted)):
-        out[i] = float(p)
-    return out
+    adjusted = holm_adjusted([np.nan if p is None else p for p in pvalues])
+    return [None if not np.isfinite(p) else float(p) for p in adjusted]
 
 
 def pvalue_holm(comparisons: Sequence[Comparison]) -> tuple[Comparison, ...]:

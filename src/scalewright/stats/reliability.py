@@ -678,7 +678,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     interval uses the smallest pairwise count. Item descriptives use every answer given to the item.
     """
     from .bootstrap import bootstrap_alpha
-    from .coded import answer_tally, listwise_covariance
+    from .coded import answer_tally, listwise_covariance, pairwise_covariance
     from .item_covariance import as_item_matrix, item_covariance
 
     names = tuple(item_names)
@@ -692,13 +692,14 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
-    if isinstance(keyed, CodedAnswers) and not pairwise and not n_resamples:
-        stats = listwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+    if isinstance(keyed, CodedAnswers) and not n_resamples:
+        covariance = pairwise_covariance if pairwise else listwise_covariance
+        stats = covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
         descriptives = item_descriptives_from_tally(answer_tally(keyed, int(high - low) + 1), n_rows=keyed.shape[0],
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
     else:
-        if isinstance(keyed, CodedAnswers):  # pairwise and the bootstrap work on the keyed values
+        if isinstance(keyed, CodedAnswers):  # the bootstrap resamples the keyed values
             keyed = keyed.keyed_values(low=int(low), high=int(high), reversed_mask=reversed_mask)
         matrix = as_item_matrix(keyed)
         if matrix.shape[1] != len(names):
@@ -764,12 +765,9 @@ def compare_alphas(results: dict[str, ScaleReliability]) -> tuple[AlphaCompariso
             w, p = alpha_difference_test(ra.alpha, ra.n_used, rb.alpha, rb.n_used)
             rows.append((a, b, ra, rb, w, p))
     p_values = np.array([row[5] for row in rows], dtype=np.float64)
-    adjusted = np.full(len(rows), np.nan)
-    finite = np.isfinite(p_values)
-    if finite.any():
-        from statsmodels.stats.multitest import multipletests
+    from .multiplicity import holm_adjusted
 
-        adjusted[finite] = multipletests(p_values[finite], method="holm")[1]
+    adjusted = holm_adjusted(p_values)
     return tuple(AlphaComparison(level_a=a, level_b=b, alpha_a=ra.alpha, alpha_b=rb.alpha, n_a=ra.n_used,
                                  n_b=rb.n_used, w=w, df1=ra.n_used - 1, df2=rb.n_used - 1, p=p,
                                  p_holm=float(adjusted[index]))
