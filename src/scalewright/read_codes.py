@@ -90,24 +90,22 @@ class ConvertedCodes:
 
 def convert_codes(column, fmt: ResponseFormat, *, out: np.ndarray) -> ConvertedCodes:
     """Codes of one int16 Arrow column into ``out`` (uint8); blanks, "no answer" codes and bad numbers missing."""
-    import pyarrow as pa
-    import pyarrow.compute as pc
-
     array = column.combine_chunks() if hasattr(column, "combine_chunks") else column
     blanks = int(array.null_count)
-    # a blank is read as the lowest answer first (never a mark), then overwritten from the validity bits
-    raw = (pc.fill_null(array, pa.scalar(fmt.min, pa.int16())) if blanks else array).to_numpy()
-    np.take(code_table(fmt), raw.view(np.uint16), out=out)
+    # the numbers straight from Arrow's value buffer; a blank's slot holds an arbitrary number, which the
+    # validity bits overwrite below
+    raw = np.frombuffer(array.buffers()[1], dtype=np.int16, count=len(array), offset=array.offset * 2)
+    np.take(code_table(fmt), raw.view(np.uint16), out=out, mode="clip")
+    if blanks:
+        _mark_blanks(array, out)
     bad = np.zeros(0, dtype=bool)
     missing_codes = 0
-    if out.size and int(out.max()) > fmt.max - fmt.min:  # a mark: a "no answer" code or a bad number
+    if np.count_nonzero(out > fmt.max - fmt.min) > blanks:  # beside the blanks, a mark: a code or a bad number
         is_code = out == NO_ANSWER_CODE
         missing_codes = int(np.count_nonzero(is_code))
         out[is_code] = MISSING
         bad = out == NOT_AN_ANSWER
         out[bad] = MISSING
-    if blanks:
-        _mark_blanks(array, out)
     return ConvertedCodes(bad=bad, raw=raw, missing_codes=missing_codes, blanks=blanks)
 
 
