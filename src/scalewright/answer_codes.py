@@ -88,8 +88,9 @@ class ItemAnswers:
 def _values_from_codes(codes: np.ndarray, lows: np.ndarray) -> np.ndarray:
     values = np.empty(codes.shape, dtype=np.float64, order="F")
     for j in range(codes.shape[1]):
-        np.add(codes[:, j], float(lows[j]), out=values[:, j])
-        values[codes[:, j] == MISSING, j] = np.nan
+        column = values[:, j]
+        np.add(codes[:, j], float(lows[j]), out=column)
+        np.copyto(column, np.nan, where=codes[:, j] == MISSING)
     return values
 
 
