@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import csv
 import difflib
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Iterable, Sequence
@@ -16,7 +17,9 @@ import numpy as np
 import pandas as pd
 
 from .answer_codes import ItemAnswers
+from .concurrency import worker_count
 from .errors import DataError, Problem
+from .read_codes import convert_codes, fits, read_whole_number_table, rest_as_frame
 from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
 
 DELIMITERS = (",", ";", "\t")
@@ -376,33 +379,15 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
         n = len(frame)
     else:
         table, columns, item_raw_names = quick
-        from .read_codes import rest_as_frame
-
         rest = rest_as_frame(table, item_raw_names)
         n = table.num_rows
     start = first_row_number(path)
     line_numbers = np.arange(start, start + n)
-    from concurrent.futures import ThreadPoolExecutor
-
-    from .concurrency import worker_count
-
     with ThreadPoolExecutor(max_workers=worker_count()) as pool:
         # the id check and the item columns are independent; both release the interpreter lock
         ids_checked = pool.submit(_check_ids, path, rest, spec.id_column, line_numbers)
-        if quick is None:
-            values = np.empty((n, len(needed)), dtype=np.float64, order="F")  # filled column by column
-            converted = list(pool.map(lambda j: convert_item(frame[needed[j]], spec.response_for(needed[j]),
-                                                             out=values[:, j]), range(len(needed))))
-            raw_of = {name: frame[name] for name in needed}
-        else:
-            from .read_codes import convert_codes
-
-            codes = np.empty((n, len(needed)), dtype=np.uint8, order="F")
-            as_written = {raw.strip(): raw for raw in item_raw_names}
-            converted = list(pool.map(lambda j: convert_codes(table.column(as_written[needed[j]]),
-                                                              spec.response_for(needed[j]), out=codes[:, j]),
-                                      range(len(needed))))
-            raw_of = {name: pd.Series(c.raw) for name, c in zip(needed, converted)}
+        answers, converted, raw_of = (_convert_frame(pool, frame, spec) if quick is None
+                                      else _convert_table(pool, table, item_raw_names, spec))
         ids = ids_checked.result()
     bad_sample: list[Problem] = []
     bad_total = 0
@@ -416,7 +401,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
             missing_by_column[name] = column.missing_codes
         if column.blanks:
             blank_by_column[name] = column.blanks
-        if getattr(column, "texts", 0):
+        if column.texts:
             texts_by_column[name] = column.texts
         count = int(np.count_nonzero(column.bad))
         if count:
@@ -435,10 +420,6 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
         raise DataError([*bad_sample, summary] if bad_total > 1 else bad_sample)
     for column, order in spec.group_levels.items():
         rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
-    formats = [spec.response_for(name) for name in needed]
-    lows, highs = [f.min for f in formats], [f.max for f in formats]
-    answers = ItemAnswers.from_values(values, lows, highs) if quick is None else \
-        ItemAnswers.from_codes(codes, lows, highs)
     return Responses(path=str(path), answers=answers, item_names=tuple(needed), frame=rest.reset_index(drop=True),
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
                      refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
@@ -446,10 +427,34 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
                      texts_by_column=texts_by_column, file_columns=tuple(columns))
 
 
+def _answer_ranges(spec: ScaleSpec) -> tuple[list[int], list[int]]:
+    formats = [spec.response_for(name) for name in spec.items]
+    return [f.min for f in formats], [f.max for f in formats]
+
+
+def _convert_frame(pool, frame: pd.DataFrame, spec: ScaleSpec):
+    """Every item column of a pandas frame as float64 answers (the general route)."""
+    needed = list(spec.items)
+    values = np.empty((len(frame), len(needed)), dtype=np.float64, order="F")  # filled column by column
+    converted = list(pool.map(lambda j: convert_item(frame[needed[j]], spec.response_for(needed[j]),
+                                                     out=values[:, j]), range(len(needed))))
+    return ItemAnswers.from_values(values, *_answer_ranges(spec)), converted, {name: frame[name] for name in needed}
+
+
+def _convert_table(pool, table, item_raw_names: Sequence[str], spec: ScaleSpec):
+    """Every int16 item column of an Arrow table as one-byte codes (the quick route)."""
+    needed = list(spec.items)
+    codes = np.empty((table.num_rows, len(needed)), dtype=np.uint8, order="F")
+    as_written = {raw.strip(): raw for raw in item_raw_names}
+    converted = list(pool.map(lambda j: convert_codes(table.column(as_written[needed[j]]),
+                                                      spec.response_for(needed[j]), out=codes[:, j]),
+                              range(len(needed))))
+    raw_of = {name: pd.Series(column.raw) for name, column in zip(needed, converted)}
+    return ItemAnswers.from_codes(codes, *_answer_ranges(spec)), converted, raw_of
+
+
 def _read_quickly(path: Path, spec: ScaleSpec):
     """(Arrow table, stripped column names, item names as written) by the quick route, or None."""
-    from .read_codes import fits, read_whole_number_table
-
     if path.suffix.lower() not in (".csv", ".txt", ".tsv") or not path.is_file():
         return None
     if not spec.items or not all(fits(spec.response_for(name)) for name in spec.items):

@@ -86,6 +86,7 @@ class ConvertedCodes:
     raw: np.ndarray          # the numbers as read (for messages about the bad rows)
     missing_codes: int
     blanks: int
+    texts: int = 0           # answer texts turned into codes: none on this route, which reads numbers only
 
 
 def convert_codes(column, fmt: ResponseFormat, *, out: np.ndarray) -> ConvertedCodes:
