@@ -97,6 +97,8 @@ def test_codes_beyond_the_answer_levels_are_refused():
         answer_tally(CodedAnswers(codes), 5)
     with pytest.raises(DataError, match="uint8"):
         CodedAnswers(codes.astype(np.int64))
+    with pytest.raises(DataError, match="whole-number answer range"):
+        scale_reliability(CodedAnswers(codes), item_names=["a", "b"], low=0.5, high=4.5)
 
 
 @settings(max_examples=40, deadline=None)

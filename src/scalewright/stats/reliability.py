@@ -651,7 +651,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     keyed : (n, k) array or CodedAnswers
         Answers after reverse keying, NaN for missing; or the answers as given, as one-byte codes
         (:class:`~scalewright.stats.coded.CodedAnswers`), which this function keys itself. Codes make the
-        listwise statistics several times cheaper on large samples; the results are the same.
+        statistics several times cheaper on large samples; the results are the same up to rounding.
     item_names : sequence of str
         The k item names, in column order.
     low, high : float
@@ -684,6 +684,8 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     names = tuple(item_names)
     if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
         raise DataError(f"{len(names)} item name(s) given for {keyed.shape[1]} column(s)")
+    if isinstance(keyed, CodedAnswers) and not (float(low).is_integer() and float(high).is_integer()):
+        raise DataError(f"answer codes need a whole-number answer range, got {low} to {high}")
     unknown = set(reversed_items) - set(names)
     if unknown:
         raise DataError(f"reversed items not in the scale: {', '.join(sorted(unknown))}")
