@@ -120,14 +120,18 @@ def test_bootstrap_pairwise_on_complete_data_equals_listwise_and_is_reproducible
 
 # --------------------------------------------------------------------------------------- scale_reliability
 
-def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas():
+@pytest.mark.parametrize("as_codes", [False, True], ids=["float-values", "one-byte-codes"])
+def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas(as_codes):
     # reference: pingouin.cronbach_alpha on complete data; pandas describe/value_counts for item descriptives
     import pingouin
+
+    from scalewright.stats.coded import CodedAnswers
 
     rng = np.random.default_rng(44)
     x = rating_scale(250, 6, rng)
     names = [f"q{j}" for j in range(1, 7)]
-    result = scale_reliability(x, item_names=names, low=1, high=5)
+    data = CodedAnswers(np.asfortranarray((x - 1).astype(np.uint8))) if as_codes else x
+    result = scale_reliability(data, item_names=names, low=1, high=5)
     alpha, ci = pingouin.cronbach_alpha(pd.DataFrame(x))
     assert result.alpha == pytest.approx(alpha, rel=1e-10)
     np.testing.assert_allclose(result.alpha_ci, ci, atol=5.01e-4)  # pingouin rounds to 3 decimals
