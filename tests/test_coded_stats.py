@@ -64,6 +64,18 @@ def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missi
     assert result.n_used == complete.shape[0] and result.n_rows == 3000
 
 
+@pytest.mark.parametrize("span", [32, 33, 250])  # widest range in float32 blocks, the next one, the widest
+def test_cross_products_stay_exact_over_several_full_blocks(span):
+    rng = np.random.default_rng(span)
+    codes = np.asfortranarray(rng.integers(span - 2, span + 1, (40_000, 3)).astype(np.uint8))  # near the top
+    codes[::97, 1] = MISSING
+    result = listwise_covariance(CodedAnswers(codes), low=0, high=span, reversed_mask=np.zeros(3, dtype=bool))
+    complete = codes[codes[:, 1] != MISSING].astype(np.float64)
+    # reference: numpy.cov and mean on the complete rows, in float64
+    np.testing.assert_allclose(result.cov, np.cov(complete, rowvar=False), rtol=1e-11)
+    np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-14)
+
+
 @pytest.mark.parametrize("span, missing", [(4, 0.0), (4, 0.15), (10, 0.3)])
 def test_pairwise_covariance_equals_pandas(span, missing):
     import pandas as pd

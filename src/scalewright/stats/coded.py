@@ -21,6 +21,20 @@ _FEW_LEVELS = 8
 _BLOCK_ROWS = 16384
 
 
+def _block_dtype(span: int) -> type:
+    """float32 when it holds every partial sum of a block's cross-products exactly, else float64.
+
+    Every product and partial sum is a whole number of at most rows * span**2; float32 represents all
+    whole numbers up to 2**24 exactly, so any summation order gives the exact result.
+    """
+    return np.float32 if _BLOCK_ROWS * max(span, 1) ** 2 <= 2**24 else np.float64
+
+
+def _cross_products(design: np.ndarray) -> np.ndarray:
+    # einsum beats BLAS on these tall, narrow blocks
+    return np.einsum("ij,ik->jk", design, design).astype(np.float64)
+
+
 @dataclass(frozen=True, eq=False)
 class CodedAnswers:
     """One scale's answers as given (not reverse-keyed): ``codes[i, j] = answer - low``, 255 = missing."""
@@ -65,9 +79,11 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
     """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
 
     With ``x`` the codes of the complete rows (zero elsewhere) and a leading column of ones,
-    ``G = [1 x]' [1 x]`` holds the count n, the sums s and the cross-products C, exact in float64 while
-    n * (high - low)**2 < 2**53. Then, in integers, ``cov = (n C - s s') / (n (n - 1))``. Reverse keying
-    ``x -> (high - low) - x`` only flips the signs of that item's row and column, and its mean.
+    ``G = [1 x]' [1 x]`` holds the count n, the sums s and the cross-products C, exact integers
+    (accumulated a block of rows at a time, each block exact in its float type, see :func:`_block_dtype`;
+    the total is exact in float64 while n * (high - low)**2 < 2**53). Then, in integers,
+    ``cov = (n C - s s') / (n (n - 1))``. Reverse keying ``x -> (high - low) - x`` only flips the signs
+    of that item's row and column, and its mean.
     """
     codes = coded.codes
     n_rows, k = codes.shape
@@ -83,7 +99,7 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
                               n_complete=n, pair_counts=counts, pairwise=False)
     gram = np.zeros((k + 1, k + 1))
     # a block of rows at a time keeps the widened copy in cache and reuses its memory
-    block = np.empty((min(n_rows, _BLOCK_ROWS), k + 1), dtype=np.float64, order="F")
+    block = np.empty((min(n_rows, _BLOCK_ROWS), k + 1), dtype=_block_dtype(high - low), order="F")
     for start in range(0, n_rows, _BLOCK_ROWS):
         stop = min(n_rows, start + _BLOCK_ROWS)
         design = block[: stop - start]
@@ -92,7 +108,7 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
             design[:, 1:] = codes[start:stop]
         else:
             np.multiply(codes[start:stop], complete[start:stop, None], out=design[:, 1:], casting="unsafe")
-        gram += design.T @ design
+        gram += _cross_products(design)
     gram = np.rint(gram).astype(np.int64).astype(object)  # exact integers, no overflow below
     sums, cross = gram[0, 1:], gram[1:, 1:]
     means = np.array([float(s) / n for s in sums])
@@ -117,14 +133,14 @@ def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
     n_rows, k = codes.shape
     reversed_mask = np.asarray(reversed_mask, dtype=bool)
     gram = np.zeros((2 * k, 2 * k))
-    block = np.empty((min(n_rows, _BLOCK_ROWS), 2 * k), dtype=np.float64, order="F")
+    block = np.empty((min(n_rows, _BLOCK_ROWS), 2 * k), dtype=_block_dtype(high - low), order="F")
     for start in range(0, n_rows, _BLOCK_ROWS):
         stop = min(n_rows, start + _BLOCK_ROWS)
         design = block[: stop - start]
         part = codes[start:stop]
         np.not_equal(part, MISSING, out=design[:, :k], casting="unsafe")
         np.multiply(part, design[:, :k], out=design[:, k:])
-        gram += design.T @ design
+        gram += _cross_products(design)
     gram = np.rint(gram).astype(np.int64)
     counts, sums, cross = gram[:k, :k], gram[k:, :k], gram[k:, k:]
     complete = int(np.count_nonzero(reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING)) if k else n_rows
