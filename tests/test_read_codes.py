@@ -155,3 +155,16 @@ def test_convert_codes_counts_blanks_codes_and_refusals():
     assert out.tolist() == [0, MISSING, MISSING, 4, MISSING, 2, MISSING]
     assert (converted.blanks, converted.missing_codes) == (2, 1)
     assert np.flatnonzero(converted.bad).tolist() == [4] and converted.raw[4] == 7
+
+
+def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_file, spec, monkeypatch):
+    lines = survey_csv(np.random.default_rng(10), 120).splitlines()
+    rows = [line.split(",") for line in lines]
+    for row in rows[1:]:
+        row[6] = ""                                   # wl2 never answered
+        row[8] = f'"{row[8]}"' if row[8] else row[8]  # st1 quoted, as some exports write numbers
+    path = write_file("survey.csv", "\r\n".join(",".join(row) for row in rows) + "\r\n")
+    assert data_module._read_quickly(path, spec) is not None
+    quick, general = read_both(path, spec, monkeypatch)
+    assert_same_responses(quick, general)
+    assert quick.blank_by_column["wl2"] == 120
