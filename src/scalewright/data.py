@@ -303,23 +303,21 @@ def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | No
         raw = series.to_numpy(dtype=np.float64, na_value=np.nan)
     else:
         lookup = _text_lookup(fmt)
-        decoded: dict[Any, float] = {}
-        for text_value in pd.unique(series.dropna()):
+        # each distinct text is decoded once; the column is a vector of positions into them (-1 = blank)
+        positions, uniques = pd.factorize(series)
+        decoded = np.full(len(uniques) + 1, np.nan)  # the extra last entry serves position -1
+        is_label = np.zeros(len(uniques) + 1, dtype=bool)
+        for index, text_value in enumerate(uniques):
             text = normalise_answer_text(text_value)
-            if text == "":
-                decoded[text_value] = np.nan
-            elif text in lookup:
-                decoded[text_value] = lookup[text]
-                texts += 1
-            else:
+            if text in lookup:
+                decoded[index], is_label[index] = lookup[text], True
+            elif text:
                 try:
-                    decoded[text_value] = float(text)
+                    decoded[index] = float(text)
                 except ValueError:
-                    decoded[text_value] = np.inf  # an unknown text: above any range, so refused below
-        raw = series.map(decoded).to_numpy(dtype=np.float64, na_value=np.nan)
-        if texts:
-            label_texts = [k for k in decoded if normalise_answer_text(k) in lookup]
-            texts = int(np.count_nonzero(series.isin(label_texts).to_numpy()))
+                    decoded[index] = np.inf  # an unknown text: above any range, so refused below
+        raw = decoded[positions]
+        texts = int(np.count_nonzero(is_label[positions])) if is_label.any() else 0
     if out is None:
         out = np.empty(len(raw), dtype=np.float64)
     out[:] = raw  # a copy in every case: the frame's own data is never changed
