@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import math
+import threading
 import warnings
 from dataclasses import dataclass, field
 
@@ -111,12 +112,16 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
     return loadings, converged, messages
 
 
+#: the warnings filters are process-wide, so fits that record warnings take turns (scales run in threads)
+_RECORDING_WARNINGS = threading.Lock()
+
+
 def _fit_minres(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
     from factor_analyzer import FactorAnalyzer
 
     model = FactorAnalyzer(n_factors=1, rotation=None, method="minres", use_smc=True, is_corr_matrix=True,
                            bounds=(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1), impute="drop", svd_method="lapack")
-    with warnings.catch_warnings(record=True) as caught:
+    with _RECORDING_WARNINGS, warnings.catch_warnings(record=True) as caught:
         # factor_analyzer reports non-convergence only as a bare UserWarning; record it instead
         warnings.simplefilter("always")
         model.fit(corr)
