@@ -168,3 +168,58 @@ def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_fil
     quick, general = read_both(path, spec, monkeypatch)
     assert_same_responses(quick, general)
     assert quick.blank_by_column["wl2"] == 120
+
+
+SMALL_SCALES = """\
+version: 1
+title: Small
+response: {min: 1, max: 5}
+scales:
+  mood:
+    title: Mood
+    items: [a, b, c]
+"""
+
+
+@pytest.fixture
+def small_spec(write_file):
+    return load_spec(write_file("small.yaml", SMALL_SCALES))
+
+
+def test_a_header_name_with_a_line_break_is_read_by_both_routes(write_file, small_spec, monkeypatch):
+    path = write_file("multi.csv", '"Comment\nfree text",a,b,c\nx,1,2,3\ny,2,3,4\nz,3,3,5\n')
+    assert data_module._read_quickly(path, small_spec) is not None
+    quick, general = read_both(path, small_spec, monkeypatch)
+    assert_same_responses(quick, general)
+    assert quick.file_columns == ("Comment\nfree text", "a", "b", "c")
+
+
+@pytest.mark.parametrize("body, message", [
+    ("a,x\n", "header but no rows"),
+    ("a,x\n1,2\n3\n", "cannot parse as delimited text"),
+    (b"a,x\n1,caf\xe9\n", "not UTF-8"),
+])
+def test_a_broken_file_without_a_needed_column_gets_the_same_message_by_either_route(write_file, body, message):
+    spec = load_spec(write_file("two.yaml", SMALL_SCALES.replace("[a, b, c]", "[a, b]")))
+    path = write_file("broken.csv", body)
+    with pytest.raises(DataError, match=message):
+        read_responses(path, spec)
+
+
+def test_files_with_lone_carriage_returns_are_read(write_file, small_spec, monkeypatch):
+    path = write_file("cr.csv", "id,a,b,c\rr1,1,2,3\rr2,2,3,4\rr3,5,4,3\r")
+    assert data_module._read_quickly(path, small_spec) is not None
+    quick, general = read_both(path, small_spec, monkeypatch)
+    assert_same_responses(quick, general)
+    np.testing.assert_array_equal(quick.items, [[1, 2, 3], [2, 3, 4], [5, 4, 3]])
+
+
+def test_rows_are_numbered_as_a_spreadsheet_shows_them_after_empty_lines(write_file, small_spec, monkeypatch):
+    # rows by hand: header 1, then 2; an empty line is row 3; row 4 holds a bare-delimiter row (kept);
+    # row 5 holds the refused 7; a quoted line break stays within row 6
+    path = write_file("gaps.csv", 'note,a,b,c\nx,1,2,3\n\n,,,\ny,7,2,3\n"two\nlines",2,2,2\n\n')
+    assert data_module._read_quickly(path, small_spec) is not None
+    quick, general = read_both(path, small_spec, monkeypatch, lenient=True)
+    assert_same_responses(quick, general)
+    assert list(quick.line_numbers) == [2, 4, 5, 6]
+    assert quick.refused[0].where == "row 5, column a"

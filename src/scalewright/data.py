@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import csv
 import difflib
+import io
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -20,20 +21,17 @@ from .answer_codes import ItemAnswers
 from .concurrency import worker_count
 from .errors import DataError, Problem
 from .read_codes import convert_codes, fits, read_whole_number_table, rest_as_frame
+from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
 
 DELIMITERS = (",", ";", "\t")
 READABLE = (".csv", ".tsv", ".txt", ".xlsx", ".parquet")
 SHOW_FIRST = 20  # bad cells listed one by one before the rest are only counted
+ROW_NUMBERS = "scalewright_row_numbers"  # frame.attrs key: spreadsheet row numbers when empty lines shift them
 
 
 # ----------------------------------------------------------------------------------------------------------
 # files
-
-
-def _first_line(body: bytes) -> str:
-    end = body.find(b"\n")
-    return body[: end if end >= 0 else len(body)].decode("utf-8", errors="replace")
 
 
 def sniff_delimiter(header_line: str) -> str:
@@ -66,20 +64,21 @@ def _decode_check(path: Path, body: bytes) -> bytes:
     return body
 
 
+HEAD_BYTES = 1 << 20  # enough for any header record, even one whose quoted names hold line breaks
+
+
 def _head(path: Path) -> bytes:
-    """The start of the file up to and including the first line break (or all of a short file)."""
+    """The first mebibyte of the file (all of a shorter one)."""
     with open(path, "rb") as handle:
-        head = handle.read(1 << 16)
-        while b"\n" not in head:
-            more = handle.read(1 << 16)
-            if not more:
-                break
-            head += more
-    return head
+        return handle.read(HEAD_BYTES)
 
 
 def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]]:
-    """The delimiter and the column names of a delimited file, after refusing what cannot be read."""
+    """The delimiter and the column names of a delimited file, after refusing what cannot be read.
+
+    The header is read as a CSV record, so a quoted name may hold a delimiter or a line break; lines may
+    end in LF, CRLF or a lone CR.
+    """
     head = _head(path)
     if head.startswith((b"\xff\xfe", b"\xfe\xff")):
         raise DataError(Problem(file=str(path), message="the file is UTF-16; save it as UTF-8"))
@@ -87,14 +86,15 @@ def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]
         head = head[3:]
     if not head.strip() and path.stat().st_size <= len(head) + 3:
         raise DataError(Problem(file=str(path), message="the file is empty"))
-    header = _first_line(head)
+    text = head.decode("utf-8", errors="replace")
+    first_line = text.splitlines()[0] if text.strip() else ""
+    sep = delimiter or sniff_delimiter(first_line)
     try:
-        header.encode("utf-8")
-        head.split(b"\n", 1)[0].decode("utf-8")
-    except UnicodeDecodeError:
-        _decode_check(path, path.read_bytes())
-    sep = delimiter or sniff_delimiter(header)
-    names = next(csv.reader([header], delimiter=sep))
+        names = next(csv.reader(io.StringIO(text, newline=""), delimiter=sep))
+    except (csv.Error, StopIteration) as error:
+        raise DataError(Problem(file=str(path), line=1, message=f"cannot read the header: {error}")) from None
+    if "\ufffd" in "".join(names):
+        _decode_check(path, path.read_bytes())  # names the first byte that is not UTF-8
     _check_header(path, [n.strip() for n in names])
     return sep, names
 
@@ -102,8 +102,9 @@ def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]
 def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
     sep, _ = _delimited_header(path, delimiter)
     try:
-        # pyarrow reads the file itself (fast, skips a UTF-8 BOM); it keeps bytes it cannot decode as binary
-        frame = pd.read_csv(path, sep=sep, engine="pyarrow")
+        # pyarrow reads the file itself (fast, skips a UTF-8 BOM); it keeps bytes it cannot decode as binary.
+        # Empty lines are kept for now, to number the rows as a spreadsheet does.
+        frame = pd.read_csv(path, sep=sep, engine="pyarrow", skip_blank_lines=False)
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
         message = str(error).splitlines()[0] if str(error) else type(error).__name__
         raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
@@ -111,6 +112,13 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
            for c in frame.columns):
         _decode_check(path, path.read_bytes())  # pyarrow kept undecodable bytes: name the first bad byte
     frame.columns = [str(c).strip() for c in frame.columns]
+    if len(frame.columns) and all(frame[c].isna().any() for c in frame.columns):  # else no row is all blank
+        empty = empty_lines(path, sep, frame.isna().all(axis=1).to_numpy())
+        if empty is None:  # cannot tell empty lines apart: drop them without renumbering, as the parser would
+            return pd.read_csv(path, sep=sep, engine="pyarrow").rename(columns=lambda c: str(c).strip())
+        if empty.any():
+            frame = frame[~empty].reset_index(drop=True)
+            frame.attrs[ROW_NUMBERS] = numbers_of_kept_rows(empty)
     return frame
 
 
@@ -371,16 +379,17 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
     quick = _read_quickly(path, spec)
     if quick is None:
         frame = read_table(path)
+        row_numbers = frame.attrs.get(ROW_NUMBERS)
         columns = list(frame.columns)
         _check_columns_present(path, spec, columns)
         rest = frame.drop(columns=needed)
         n = len(frame)
     else:
-        table, columns, item_raw_names = quick
+        table, columns, item_raw_names, row_numbers = quick
         rest = rest_as_frame(table, item_raw_names)
         n = table.num_rows
     start = first_row_number(path)
-    line_numbers = np.arange(start, start + n)
+    line_numbers = np.arange(start, start + n) if row_numbers is None else np.asarray(row_numbers)
     with ThreadPoolExecutor(max_workers=worker_count()) as pool:
         # the id check and the item columns are independent; both release the interpreter lock
         ids_checked = pool.submit(_check_ids, path, rest, spec.id_column, line_numbers)
@@ -452,19 +461,22 @@ def _convert_table(pool, table, item_raw_names: Sequence[str], spec: ScaleSpec):
 
 
 def _read_quickly(path: Path, spec: ScaleSpec):
-    """(Arrow table, stripped column names, item names as written) by the quick route, or None."""
+    """(Arrow table, stripped names, item names as written, row numbers or None) by the quick route, or None."""
     if path.suffix.lower() not in (".csv", ".txt", ".tsv") or not path.is_file():
         return None
     if not spec.items or not all(fits(spec.response_for(name)) for name in spec.items):
         return None
     sep, raw_names = _delimited_header(path, "\t" if path.suffix.lower() == ".tsv" else None)
-    columns = [name.strip() for name in raw_names]
-    _check_columns_present(path, spec, columns)
-    table = read_whole_number_table(path, sep, raw_names, spec.items)
-    if table is None:
+    wanted = set(spec.items) | ({spec.id_column} if spec.id_column else set()) | set(spec.groups)
+    if not wanted <= {name.strip() for name in raw_names}:
+        return None  # a column is absent: the general route reports it, after any problem it finds first
+    read = read_whole_number_table(path, sep, raw_names, spec.items)
+    if read is None:
         return None
-    wanted = set(spec.items)
-    return table, columns, [raw for raw in raw_names if raw.strip() in wanted]
+    table, row_numbers = read
+    items = set(spec.items)
+    return (table, [name.strip() for name in table.column_names],
+            [raw for raw in table.column_names if raw.strip() in items], row_numbers)
 
 
 def _check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) -> None:

@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from .answer_codes import MAX_SPAN, MISSING
+from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec import ResponseFormat
 
 #: pandas' documented default "not available" texts, so both routes read the same cells as blank
@@ -31,11 +32,15 @@ def fits(fmt: ResponseFormat) -> bool:
 
 
 def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str]):
-    """The file as an Arrow table with the item columns as int16, or None if this route cannot read it.
+    """The file as an Arrow table with the item columns as int16 and the spreadsheet row number of each
+    row (None when no empty line shifts them), or None if this route cannot read the file.
 
     ``raw_names`` is the header as written; ``items`` the (stripped) names of the item columns.
     """
+    from functools import reduce
+
     import pyarrow as pa
+    import pyarrow.compute as pc
     import pyarrow.csv as pacsv
 
     wanted = set(items)
@@ -43,14 +48,28 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
     if len(types) < len(wanted):
         return None  # a column is absent: the general route names it
     try:
-        table = pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep),
+        table = pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False),
                                convert_options=pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS),
                                                                     strings_can_be_null=True))
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeDecodeError):
         return None
-    if table.num_rows == 0 or any(pa.types.is_binary(t) or pa.types.is_large_binary(t) for t in table.schema.types):
-        return None  # no rows, or bytes that are not UTF-8: the general route says so
-    return table
+    if any(pa.types.is_binary(t) or pa.types.is_large_binary(t) for t in table.schema.types):
+        return None  # bytes that are not UTF-8: the general route names the first
+    typed = {name.strip() for name, column_type in zip(table.column_names, table.schema.types)
+             if column_type == pa.int16()}
+    if not wanted <= typed or len(table.column_names) != len(raw_names):
+        return None  # pyarrow saw the header differently: leave the file to the general route
+    row_numbers = None
+    if table.num_rows and all(column.null_count for column in table.columns):  # else no row is all blank
+        all_blank = reduce(pc.and_, (pc.is_null(column) for column in table.columns))
+        empty = empty_lines(path, sep, all_blank.to_numpy(zero_copy_only=False))
+        if empty is None:
+            return None
+        if empty.any():
+            table, row_numbers = table.filter(pa.array(~empty)), numbers_of_kept_rows(empty)
+    if table.num_rows == 0:
+        return None  # no rows: the general route says so
+    return table, row_numbers
 
 
 def rest_as_frame(table, item_raw_names: Sequence[str]):
