@@ -181,3 +181,19 @@ def test_ordered_group_levels_become_ordered_categories(write_file):
     assert list(shift.cat.categories) == ["night", "day"] and shift.cat.ordered
     with pytest.raises(DataError, match="row 2, column shift.*'dawn' is not one of the levels"):
         read_responses(write_file("e.csv", BASIC_DATA.replace("s01,day", "s01,dawn")), spec)
+
+
+@pytest.mark.parametrize("cell", ["1_2", "inf", "\u0663", "3,5"])
+def test_texts_that_only_python_reads_as_numbers_are_refused(write_file, cell):
+    # common practice, no source: an answer code is typed with ASCII digits, a sign, a point, an exponent
+    spec = load_spec(write_file("s.yaml", "version: 1\nresponse: {min: 0, max: 20}\nscales:\n  m:\n    title: M\n"
+                                          "    items: [a, b]\n"))
+    path = write_file("d.csv", f'a,b\n1,2\n"{cell}",3\n')
+    with pytest.raises(DataError, match="row 3, column a"):
+        read_responses(path, spec)
+
+
+def test_plain_numbers_written_as_text_are_read():
+    from scalewright.data import _is_number
+
+    assert all(_is_number(text) for text in ["3", " 3 ", "+3", "-2", "3.", "3.0", ".5", "1e1"])

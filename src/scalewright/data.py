@@ -9,6 +9,7 @@ from __future__ import annotations
 import csv
 import difflib
 import io
+import re
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -320,10 +321,8 @@ def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | No
             if text in lookup:
                 decoded[index], is_label[index] = lookup[text], True
             elif text:
-                try:
-                    decoded[index] = float(text)
-                except ValueError:
-                    decoded[index] = np.inf  # an unknown text: above any range, so refused below
+                # an unknown text is read as infinity: above any range, so refused below
+                decoded[index] = float(text) if _is_number(text) else np.inf
         raw = decoded[positions]
         texts = int(np.count_nonzero(is_label[positions])) if is_label.any() else 0
     if out is None:
@@ -356,12 +355,13 @@ def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
     return f"{shown} is outside the answer range {fmt.min}..{fmt.max}{codes}"
 
 
+#: a number as a person types one: ASCII digits, one optional sign, point and exponent. Python's float()
+#: also takes "1_2", "nan", "inf" and digits of other scripts, none of which is an answer code.
+_PLAIN_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
+
+
 def _is_number(text: str) -> bool:
-    try:
-        float(text)
-    except ValueError:
-        return False
-    return True
+    return _PLAIN_NUMBER.fullmatch(str(text).strip()) is not None
 
 
 def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) -> Responses:
