@@ -43,13 +43,13 @@ class ItemAnswers:
     @classmethod
     def from_values(cls, values: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
         answers = cls(lows, highs)
-        answers._values = values
+        answers._values = _read_only(values)
         return answers
 
     @classmethod
     def from_codes(cls, codes: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
         answers = cls(lows, highs)
-        answers._codes = (codes, np.ones(codes.shape[1], dtype=bool))
+        answers._codes = (_read_only(codes), np.ones(codes.shape[1], dtype=bool))
         return answers
 
     @property
@@ -61,13 +61,14 @@ class ItemAnswers:
         """Answers as float64 (n x k, column-major), NaN where missing."""
         with self._lock:
             if self._values is None:
-                self._values = _values_from_codes(self._codes[0], self.lows)
+                self._values = _read_only(_values_from_codes(self._codes[0], self.lows))
             return self._values
 
     def _codes_and_usable(self) -> tuple[np.ndarray, np.ndarray]:
         with self._lock:
             if self._codes is None:
-                self._codes = _codes_from_values(self._values, self.lows, self.highs)
+                codes, usable = _codes_from_values(self._values, self.lows, self.highs)
+                self._codes = (_read_only(codes), usable)
             return self._codes
 
     def codes_of(self, positions: Sequence[int]) -> np.ndarray | None:
@@ -83,6 +84,12 @@ class ItemAnswers:
         if self._codes is not None and self._codes[1].all():
             return ItemAnswers.from_codes(np.asfortranarray(self._codes[0][rows]), self.lows, self.highs)
         return ItemAnswers.from_values(self.values[rows], self.lows, self.highs)
+
+
+def _read_only(array: np.ndarray) -> np.ndarray:
+    """The shared answers: every command and subgroup reads the same array, so none may change it."""
+    array.flags.writeable = False
+    return array
 
 
 def _values_from_codes(codes: np.ndarray, lows: np.ndarray) -> np.ndarray:
