@@ -223,3 +223,24 @@ def test_rows_are_numbered_as_a_spreadsheet_shows_them_after_empty_lines(write_f
     assert_same_responses(quick, general)
     assert list(quick.line_numbers) == [2, 4, 5, 6]
     assert quick.refused[0].where == "row 5, column a"
+
+
+@pytest.mark.parametrize("answers", ["codes", "texts"])
+def test_comments_with_line_breaks_in_a_file_of_many_blocks(write_file, monkeypatch, answers):
+    # a file longer than one parse block whose quoted comments hold line breaks; before the quote-aware
+    # parse such a file failed with "Expected 5 columns, got 4" wherever a comment crossed a block boundary
+    labels = {1: "never", 2: "rarely", 3: "sometimes", 4: "often", 5: "always"}
+    spec = load_spec(write_file("s.yaml", SMALL_SCALES.replace("scales:", "id_column: id\nscales:").replace(
+        "response: {min: 1, max: 5}", "response: {min: 1, max: 5, labels: {1: never, 2: rarely, 3: sometimes, "
+                                      "4: often, 5: always}}")))
+    rng = np.random.default_rng(11)
+    lines = ["id,comment,a,b,c"]
+    for i in range(40_000):
+        values = rng.integers(1, 6, 3)
+        cells = [labels[v] for v in values] if answers == "texts" else [str(v) for v in values]
+        lines.append(f'r{i},"first line, {i}\nsecond line",' + ",".join(cells))
+    path = write_file("comments.csv", "\n".join(lines) + "\n")
+    assert path.stat().st_size > 2**20
+    quick, general = read_both(path, spec, monkeypatch)
+    assert_same_responses(quick, general)
+    assert quick.n == 40_000 and quick.frame["comment"].iloc[7] == "first line, 7\nsecond line"

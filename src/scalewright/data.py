@@ -21,7 +21,15 @@ import pandas as pd
 from .answer_codes import ItemAnswers
 from .concurrency import worker_count
 from .errors import DataError, Problem
-from .read_codes import convert_codes, fits, read_whole_number_table, rest_as_frame
+from .read_codes import (
+    PARSE_BLOCK_BYTES,
+    convert_codes,
+    fits,
+    frame_from_table,
+    parse_delimited,
+    read_whole_number_table,
+    rest_as_frame,
+)
 from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
 
@@ -107,8 +115,14 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
         # Empty lines are kept for now, to number the rows as a spreadsheet does.
         frame = pd.read_csv(path, sep=sep, engine="pyarrow", skip_blank_lines=False)
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
-        message = str(error).splitlines()[0] if str(error) else type(error).__name__
-        raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
+        frame = _parsed_quote_aware(path, sep)
+        if frame is None:
+            message = str(error).splitlines()[0] if str(error) else type(error).__name__
+            raise DataError(Problem(file=str(path),
+                                    message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
+    else:
+        if path.stat().st_size > PARSE_BLOCK_BYTES and _holds_line_breaks(frame):
+            frame = _parsed_quote_aware(path, sep)
     if any(frame[c].dtype == object and pd.api.types.infer_dtype(frame[c], skipna=True) not in ("string", "empty")
            for c in frame.columns):
         _decode_check(path, path.read_bytes())  # pyarrow kept undecodable bytes: name the first bad byte
@@ -121,6 +135,19 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
             frame = frame[~empty].reset_index(drop=True)
             frame.attrs[ROW_NUMBERS] = numbers_of_kept_rows(empty)
     return frame
+
+
+def _parsed_quote_aware(path: Path, sep: str) -> pd.DataFrame | None:
+    """The file parsed with values that may hold line breaks (see read_codes.parse_delimited), or None."""
+    try:
+        return frame_from_table(parse_delimited(path, sep))
+    except Exception:  # pyarrow raises its own error types; the caller reports the first parse's error
+        return None
+
+
+def _holds_line_breaks(frame: pd.DataFrame) -> bool:
+    texts = [c for c in frame.columns if pd.api.types.is_string_dtype(frame[c].dtype)]
+    return any(frame[c].astype("string").str.contains("\n", regex=False).any() for c in texts)
 
 
 def _check_header(path: Path, names: Sequence[str]) -> None:

@@ -24,6 +24,7 @@ BLANK_TEXTS = ("", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-n
 NOT_AN_ANSWER = 254   # a number that is neither an answer nor a "no answer" code
 NO_ANSWER_CODE = 253  # one of the format's "no answer" codes
 INT16 = (-(2**15), 2**15 - 1)
+PARSE_BLOCK_BYTES = 1 << 20  # pyarrow's default block size: a smaller file is parsed as one block
 
 
 def fits(fmt: ResponseFormat) -> bool:
@@ -41,16 +42,13 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
 
     import pyarrow as pa
     import pyarrow.compute as pc
-    import pyarrow.csv as pacsv
 
     wanted = set(items)
     types = {raw: pa.int16() for raw in raw_names if raw.strip() in wanted}
     if len(types) < len(wanted):
         return None  # a column is absent: the general route names it
     try:
-        table = pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False),
-                               convert_options=pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS),
-                                                                    strings_can_be_null=True))
+        table = parse_delimited(path, sep, column_types=types)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeDecodeError):
         return None
     if any(pa.types.is_binary(t) or pa.types.is_large_binary(t) for t in table.schema.types):
@@ -72,18 +70,58 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
     return table, row_numbers
 
 
-def rest_as_frame(table, item_raw_names: Sequence[str]):
-    """The table's other columns as a pandas frame, typed as ``pandas.read_csv`` would type them."""
+def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None):
+    """pyarrow's parse of a delimited file: pandas' blank texts, empty lines kept (see row_numbers).
+
+    The fast parse cuts the file into blocks at line breaks without looking at quotes, so a quoted value
+    that holds a line break (a free-text comment) can fall across two blocks and break the parse, or in
+    rare cases read rows wrongly. A file that fails, or that is longer than a block and has such values,
+    is parsed again, quote-aware (about twice as slow).
+    """
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
+
+    def parse(quote_aware: bool):
+        return pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False,
+                                                                     newlines_in_values=quote_aware),
+                              convert_options=pacsv.ConvertOptions(column_types=column_types or {},
+                                                                   null_values=list(BLANK_TEXTS),
+                                                                   strings_can_be_null=True))
+    try:
+        table = parse(False)
+    except pa.ArrowInvalid:
+        return parse(True)
+    return parse(True) if path.stat().st_size > PARSE_BLOCK_BYTES and holds_line_breaks(table) else table
+
+
+def holds_line_breaks(table) -> bool:
+    """Whether a text value of the table holds a line break."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    from .concurrency import map_in_threads
+
+    texts = [column for column, column_type in zip(table.columns, table.schema.types)
+             if pa.types.is_string(column_type) or pa.types.is_large_string(column_type)]
+    return any(map_in_threads(lambda column: pc.any(pc.match_substring(column, "\n")).as_py() is True, texts))
+
+
+def frame_from_table(table):
+    """An Arrow table as a pandas frame, typed as ``pandas.read_csv`` would type it, names stripped."""
     import pyarrow as pa
 
-    rest = table.drop_columns(list(item_raw_names))
-    for position, column_type in enumerate(rest.schema.types):
+    for position, column_type in enumerate(table.schema.types):
         if pa.types.is_null(column_type):  # an all-blank column: pandas reads it as float64 NaN
-            rest = rest.set_column(position, rest.field(position).with_type(pa.float64()),
-                                   rest.column(position).cast(pa.float64()))
-    frame = rest.to_pandas()
+            table = table.set_column(position, table.field(position).with_type(pa.float64()),
+                                     table.column(position).cast(pa.float64()))
+    frame = table.to_pandas()
     frame.columns = [str(c).strip() for c in frame.columns]
     return frame
+
+
+def rest_as_frame(table, item_raw_names: Sequence[str]):
+    """The table's other columns as a pandas frame, typed as ``pandas.read_csv`` would type them."""
+    return frame_from_table(table.drop_columns(list(item_raw_names)))
 
 
 def code_table(fmt: ResponseFormat) -> np.ndarray:
