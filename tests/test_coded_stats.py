@@ -113,6 +113,15 @@ def test_codes_beyond_the_answer_levels_are_refused():
         scale_reliability(CodedAnswers(codes), item_names=["a", "b"], low=0.5, high=4.5)
 
 
+def without_the_factor_fit(result: dict) -> dict:
+    """The result without what rests on the one-factor fit (omega, loadings, and the flags and notes they give)."""
+    out = {key: value for key, value in result.items()
+           if key not in ("omega_total", "heywood_items", "notes", "flags")}
+    out["items"] = {name: {key: value for key, value in item.items() if key not in ("loading", "omega_if_deleted")}
+                    for name, item in result["items"].items()}
+    return out
+
+
 @settings(max_examples=40, deadline=None)
 @given(seed=st.integers(0, 2**32 - 1), n=st.integers(0, 300), k=st.integers(1, 7), span=st.sampled_from([1, 4, 6, 10]),
        missing=st.sampled_from([0.0, 0.05, 0.3]))
@@ -125,7 +134,12 @@ def test_scale_reliability_from_codes_equals_the_float_route(seed, n, k, span, m
     options = dict(item_names=names, low=1, high=1 + span, reversed_items=reversed_items)
     from_codes = to_jsonable(scale_reliability(CodedAnswers(codes), **options).to_dict())
     from_floats = to_jsonable(scale_reliability(keyed_floats(codes, 1, 1 + span, mask), **options).to_dict())
-    assert nearly_equal(from_codes, from_floats)
+    if from_codes["heywood_items"] or from_floats["heywood_items"]:
+        # an improper (Heywood) solution need not be unique: with items alike, any one of them may take the
+        # bound, and rounding decides which; everything that does not rest on the fit must still agree
+        assert nearly_equal(without_the_factor_fit(from_codes), without_the_factor_fit(from_floats))
+    else:
+        assert nearly_equal(from_codes, from_floats)
 
 
 @pytest.mark.parametrize("options", [dict(pairwise=True), dict(n_resamples=200, seed=11)])
