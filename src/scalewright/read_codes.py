@@ -38,10 +38,7 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
 
     ``raw_names`` is the header as written; ``items`` the (stripped) names of the item columns.
     """
-    from functools import reduce
-
     import pyarrow as pa
-    import pyarrow.compute as pc
 
     wanted = set(items)
     types = {raw: pa.int16() for raw in raw_names if raw.strip() in wanted}
@@ -57,20 +54,32 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
              if column_type == pa.int16()}
     if not wanted <= typed or len(table.column_names) != len(raw_names):
         return None  # pyarrow saw the header differently: leave the file to the general route
-    row_numbers = None
-    if table.num_rows and all(column.null_count for column in table.columns):  # else no row is all blank
-        all_blank = reduce(pc.and_, (pc.is_null(column) for column in table.columns))
-        empty = empty_lines(path, sep, all_blank.to_numpy(zero_copy_only=False))
-        if empty is None:
-            return None
-        if empty.any():
-            table, row_numbers = table.filter(pa.array(~empty)), numbers_of_kept_rows(empty)
-    if table.num_rows == 0:
-        return None  # no rows: the general route says so
-    return table, row_numbers
+    kept = without_empty_lines(table, path, sep)
+    if kept is None or kept[0].num_rows == 0:
+        return None  # empty lines not told apart, or no rows: the general route deals with both
+    return kept
 
 
-def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None):
+def without_empty_lines(table, path: Path, sep: str):
+    """(the table without the records that were empty lines, the spreadsheet numbers of the rest or None
+    if none was), or None when empty lines cannot be told from rows of empty cells."""
+    from functools import reduce
+
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if table.num_rows == 0 or not all(column.null_count for column in table.columns):
+        return table, None  # some column has a value in every row: no row is all blank
+    all_blank = reduce(pc.and_, (pc.is_null(column) for column in table.columns))
+    empty = empty_lines(path, sep, all_blank.to_numpy(zero_copy_only=False))
+    if empty is None:
+        return None
+    if not empty.any():
+        return table, None
+    return table.filter(pa.array(~empty)), numbers_of_kept_rows(empty)
+
+
+def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None, keep_empty_lines: bool = True):
     """pyarrow's parse of a delimited file: pandas' blank texts, empty lines kept (see row_numbers).
 
     The fast parse cuts the file into blocks at line breaks without looking at quotes, so a quoted value
@@ -82,7 +91,8 @@ def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None):
     import pyarrow.csv as pacsv
 
     def parse(quote_aware: bool):
-        return pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False,
+        return pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep,
+                                                                     ignore_empty_lines=not keep_empty_lines,
                                                                      newlines_in_values=quote_aware),
                               convert_options=pacsv.ConvertOptions(column_types=column_types or {},
                                                                    null_values=list(BLANK_TEXTS),
@@ -114,8 +124,11 @@ def frame_from_table(table):
         if pa.types.is_null(column_type):  # an all-blank column: pandas reads it as float64 NaN
             table = table.set_column(position, table.field(position).with_type(pa.float64()),
                                      table.column(position).cast(pa.float64()))
+    import pandas as pd
+
     frame = table.to_pandas()
-    frame.columns = [str(c).strip() for c in frame.columns]
+    # typed as a list of names would type it, even an empty one (as when every column is an item)
+    frame.columns = pd.Index([str(c).strip() for c in frame.columns], dtype=object).astype(str)
     return frame
 
 
