@@ -2,9 +2,14 @@
 from __future__ import annotations
 
 import os
+import threading
 from collections.abc import Callable, Iterable
 from concurrent.futures import ThreadPoolExecutor
 from typing import TypeVar
+
+#: the warnings filters are process-wide: code that records warnings takes turns under this lock, since the
+#: analyses of several scales run in threads
+RECORDING_WARNINGS = threading.Lock()
 
 Item = TypeVar("Item")
 Result = TypeVar("Result")

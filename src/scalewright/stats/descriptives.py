@@ -190,10 +190,6 @@ class UniformFit(ResultMixin):
     p: float
     w: float
 
-    def to_dict(self) -> dict:
-        return {"chi2": self.chi2 if math.isfinite(self.chi2) else None, "df": self.df,
-                "p": self.p if math.isfinite(self.p) else None, "w": self.w if math.isfinite(self.w) else None}
-
     def excess_w(self, n: int) -> float:
         """w less its chance level: sqrt(max(chi2 - df, 0)/n), about 0 for a flat distribution at any n."""
         if not math.isfinite(self.chi2) or n <= 0:

@@ -12,6 +12,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..concurrency import RECORDING_WARNINGS
 from ..errors import UsageError
 from ..results import ResultMixin
 
@@ -77,7 +78,7 @@ def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.n
         rotation_kwargs={},
     )
     notes: list[str] = []
-    with warnings.catch_warnings(record=True) as caught:
+    with RECORDING_WARNINGS, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         analyser.fit(correlation)
     for warning in caught:

@@ -44,12 +44,10 @@ def _row_sums_checked(matrix: np.ndarray, name: str) -> np.ndarray:
     return row_sums
 
 
-def as_item_matrix(keyed: np.ndarray, *, name: str = "keyed") -> np.ndarray:
-    """Validate an n x k matrix of keyed answers (NaN = missing) and return it as float64."""
+def _as_2d(keyed: np.ndarray, name: str) -> np.ndarray:
     matrix = np.asarray(keyed, dtype=np.float64)
     if matrix.ndim != 2:
         raise DataError(f"{name}: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
-    _row_sums_checked(matrix, name)
     return matrix
 
 
@@ -60,9 +58,7 @@ def item_covariance(keyed: np.ndarray, *, pairwise: bool = False) -> ItemCovaria
     definition as :meth:`pandas.DataFrame.cov`); they are computed with matrix products so the cost
     does not grow with a Python loop over rows or pairs.
     """
-    matrix = np.asarray(keyed, dtype=np.float64)
-    if matrix.ndim != 2:
-        raise DataError(f"keyed: expected a respondents x items matrix, got {matrix.ndim} dimension(s)")
+    matrix = _as_2d(keyed, "keyed")
     n_rows, k = matrix.shape
     complete = ~np.isnan(_row_sums_checked(matrix, "keyed"))
     n_complete = int(np.count_nonzero(complete))

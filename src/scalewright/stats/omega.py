@@ -2,12 +2,12 @@
 from __future__ import annotations
 
 import math
-import threading
 import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..concurrency import RECORDING_WARNINGS
 from ..results import ResultMixin
 from .item_covariance import correlation_from_cov, is_invertible
 
@@ -79,7 +79,7 @@ def _fixed_point_ml(corr: np.ndarray, start: np.ndarray, *, max_iter: int = 150,
     return _projected_gradient(uniqueness, corr) < 1e-7, uniqueness
 
 
-def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarray, bool, list[str]]:
+def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarray, bool]:
     """One-factor maximum-likelihood fit of a correlation matrix.
 
     Hand-written because factor_analyzer imports scikit-learn, which costs seconds per run (more than all
@@ -92,7 +92,7 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
     start = np.clip(start, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
     settled, start = _fixed_point_ml(corr, start)
     if settled:
-        return _ml_loadings(start, corr)[0], True, []
+        return _ml_loadings(start, corr)[0], True
     from scipy.optimize import minimize
 
     result = minimize(_ml_discrepancy, start, args=(corr,), jac=True, method="L-BFGS-B",
@@ -103,31 +103,21 @@ def _fit_ml(corr: np.ndarray, start: np.ndarray | None = None) -> tuple[np.ndarr
     loadings, _ = _ml_loadings(result.x, corr)
     # a line search that cannot improve an exact fit (just-identified models reach 0) ends "abnormally":
     # accept it when the gradient, projected on the bounds, vanishes
-    gradient = _ml_discrepancy(result.x, corr)[1]
-    at_lower = (result.x <= FACTOR_ANALYZER_UNIQUENESS_FLOOR) & (gradient > 0)
-    at_upper = (result.x >= 1.0) & (gradient < 0)
-    projected = np.where(at_lower | at_upper, 0.0, gradient)
-    converged = bool(result.success) or float(np.abs(projected).max()) < 1e-6
-    messages = [] if converged else [f"Failed to converge: {result.message}"]
-    return loadings, converged, messages
+    converged = bool(result.success) or _projected_gradient(result.x, corr) < 1e-6
+    return loadings, converged
 
 
-#: the warnings filters are process-wide, so fits that record warnings take turns (scales run in threads)
-_RECORDING_WARNINGS = threading.Lock()
-
-
-def _fit_minres(corr: np.ndarray) -> tuple[np.ndarray, bool, list[str]]:
+def _fit_minres(corr: np.ndarray) -> tuple[np.ndarray, bool]:
     from factor_analyzer import FactorAnalyzer
 
     model = FactorAnalyzer(n_factors=1, rotation=None, method="minres", use_smc=True, is_corr_matrix=True,
                            bounds=(FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1), impute="drop", svd_method="lapack")
-    with _RECORDING_WARNINGS, warnings.catch_warnings(record=True) as caught:
+    with RECORDING_WARNINGS, warnings.catch_warnings(record=True) as caught:
         # factor_analyzer reports non-convergence only as a bare UserWarning; record it instead
         warnings.simplefilter("always")
         model.fit(corr)
-    messages = [str(w.message) for w in caught if "Failed to converge" in str(w.message)]
-    loadings = np.asarray(model.loadings_, dtype=np.float64)[:, 0]
-    return loadings, not messages, messages
+    failed = any("Failed to converge" in str(w.message) for w in caught)
+    return np.asarray(model.loadings_, dtype=np.float64)[:, 0], not failed
 
 
 def fit_one_factor(cov: np.ndarray, *, start: np.ndarray | None = None) -> OneFactorFit | None:
@@ -150,14 +140,14 @@ def fit_one_factor(cov: np.ndarray, *, start: np.ndarray | None = None) -> OneFa
     corr = correlation_from_cov(cov)
     notes: list[str] = []
     try:
-        standardized, converged, messages = _fit_ml(corr, start)
+        standardized, converged = _fit_ml(corr, start)
         method = "ml"
-    except (np.linalg.LinAlgError, ValueError) as error:
-        standardized, converged, messages = np.full(k, np.nan), False, [str(error)]
+    except (np.linalg.LinAlgError, ValueError):
+        standardized, converged = np.full(k, np.nan), False
     if not converged or not np.isfinite(standardized).all():
         notes.append("maximum-likelihood one-factor fit did not converge; minres used instead")
         try:
-            standardized, converged, messages = _fit_minres(corr)
+            standardized, converged = _fit_minres(corr)
             method = "minres"
         except (np.linalg.LinAlgError, ValueError):
             return None

@@ -187,16 +187,9 @@ class MahalanobisResult(ResultMixin):
 
 def pairwise_covariance(x: np.ndarray) -> np.ndarray:
     """Covariance of every pair of columns over the rows where both are present (divisor n_jk - 1)."""
-    # Hand-written: numpy has no NaN-aware covariance; this is the pairwise-complete definition, vectorised.
-    present = (~np.isnan(x)).astype(float)
-    filled = np.where(np.isnan(x), 0.0, x)
-    pair_n = present.T @ present
-    cross = filled.T @ filled
-    sum_j_over_k = filled.T @ present  # [j, k]: sum of x_j over rows where k is present
-    with np.errstate(invalid="ignore", divide="ignore"):
-        cov = (cross - sum_j_over_k * sum_j_over_k.T / pair_n) / (pair_n - 1)
-    cov[pair_n < 2] = np.nan
-    return cov
+    from .item_covariance import item_covariance
+
+    return item_covariance(x, pairwise=True).cov
 
 
 def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisResult:

@@ -679,7 +679,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     """
     from .bootstrap import bootstrap_alpha
     from .coded import answer_tally, listwise_covariance, pairwise_covariance
-    from .item_covariance import as_item_matrix, item_covariance
+    from .item_covariance import item_covariance
 
     names = tuple(item_names)
     if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
@@ -703,10 +703,10 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     else:
         if isinstance(keyed, CodedAnswers):  # the bootstrap resamples the keyed values
             keyed = keyed.keyed_values(low=int(low), high=int(high), reversed_mask=reversed_mask)
-        matrix = as_item_matrix(keyed)
+        stats = item_covariance(keyed, pairwise=pairwise)  # validates the matrix
+        matrix = np.asarray(keyed, dtype=np.float64)
         if matrix.shape[1] != len(names):
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
-        stats = item_covariance(matrix, pairwise=pairwise)
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
     notes: list[str] = []
     if pairwise:

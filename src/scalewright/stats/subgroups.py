@@ -60,13 +60,18 @@ def level_name(level) -> str:
     return str(level)
 
 
-def split_by(values: pd.Series, *, min_size: int = 10, column: str | None = None) -> SubgroupSplit:
-    """Row positions of each level of ``values``; levels with fewer than ``min_size`` rows are set apart."""
+def blank_as_missing(values: pd.Series) -> pd.Series:
+    """Text values stripped, blank text as missing (other types as they are), indexed from 0."""
     values = pd.Series(values).reset_index(drop=True)
-    if not isinstance(values.dtype, pd.CategoricalDtype) and (
-            values.dtype == object or pd.api.types.is_string_dtype(values.dtype)):
+    if values.dtype == object or pd.api.types.is_string_dtype(values.dtype):
         stripped = values.astype("string").str.strip()
         values = stripped.mask(stripped == "")
+    return values
+
+
+def split_by(values: pd.Series, *, min_size: int = 10, column: str | None = None) -> SubgroupSplit:
+    """Row positions of each level of ``values``; levels with fewer than ``min_size`` rows are set apart."""
+    values = blank_as_missing(values)
     missing_mask = values.isna().to_numpy()
     levels: dict[str, np.ndarray] = {}
     too_small: dict[str, int] = {}

@@ -18,7 +18,7 @@ import pandas as pd
 from ..errors import DataError, Problem, UsageError
 from ..results import ResultMixin, to_jsonable
 from .groups import suppressed_text
-from .subgroups import level_name, level_order
+from .subgroups import blank_as_missing, level_name, level_order
 
 
 @dataclass(frozen=True)
@@ -79,15 +79,6 @@ class Tally(ResultMixin):
             "categories": [c.to_dict() for c in self.categories], "notes": list(self.notes)})
 
 
-def _as_categories(values: pd.Series) -> pd.Series:
-    """Values as category names (text); blank text is missing; whole floats lose their ``.0``."""
-    values = pd.Series(values).reset_index(drop=True)
-    if values.dtype == object or pd.api.types.is_string_dtype(values.dtype):
-        stripped = values.astype("string").str.strip()
-        values = stripped.mask(stripped == "")
-    return values
-
-
 def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping | None = None,
           ordered: bool | None = None, min_cell: int = 5, column: str | None = None) -> Tally:
     """Count the categories of one column, with percentages, suppressing small cells.
@@ -124,7 +115,7 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
     if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
         raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
     column = column or (str(values.name) if getattr(values, "name", None) is not None else "value")
-    series = _as_categories(values)
+    series = blank_as_missing(values)
     missing_mask = series.isna().to_numpy()
     present = series[~missing_mask]
     names = present.map(level_name)
