@@ -22,7 +22,6 @@ from .answer_codes import ItemAnswers
 from .concurrency import worker_count
 from .errors import DataError, Problem
 from .read_codes import (
-    PARSE_BLOCK_BYTES,
     convert_codes,
     fits,
     frame_from_table,
@@ -31,7 +30,6 @@ from .read_codes import (
     rest_as_frame,
     without_empty_lines,
 )
-from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
 
 DELIMITERS = (",", ";", "\t")
@@ -110,66 +108,23 @@ def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]
 
 
 def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
-    """The file as pandas reads it; ``frame.attrs[ROW_NUMBERS]`` holds the rows' spreadsheet numbers when
-    empty lines shift them."""
+    """The file as a pandas frame (typed as ``pandas.read_csv`` types it); ``frame.attrs[ROW_NUMBERS]`` holds the
+    rows' spreadsheet numbers when empty lines shift them."""
     sep, _ = _delimited_header(path, delimiter)
     try:
-        # pyarrow reads the file itself (fast, skips a UTF-8 BOM); it keeps bytes it cannot decode as binary.
-        # Empty lines are kept for now, to number the rows as a spreadsheet does.
-        frame = pd.read_csv(path, sep=sep, engine="pyarrow", skip_blank_lines=False)
+        # the quick route's parse, with every column's type inferred (it keeps undecodable bytes as binary)
+        kept = without_empty_lines(parse_delimited(path, sep), path, sep)
+        frame, row_numbers = ((frame_from_table(parse_delimited(path, sep, keep_empty_lines=False)), None)
+                              if kept is None else (frame_from_table(kept[0]), kept[1]))
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
-        read = _parsed_quote_aware(path, sep)
-        if read is None:
-            message = str(error).splitlines()[0] if str(error) else type(error).__name__
-            raise DataError(Problem(file=str(path),
-                                    message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
-    else:
-        read = None
-        if path.stat().st_size > PARSE_BLOCK_BYTES and _holds_line_breaks(frame):
-            read = _parsed_quote_aware(path, sep)
-        if read is None:
-            read = _pandas_without_empty_lines(frame, path, sep)
-    frame, row_numbers = read
+        message = str(error).splitlines()[0] if str(error) else type(error).__name__
+        raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
     if any(frame[c].dtype == object and pd.api.types.infer_dtype(frame[c], skipna=True) not in ("string", "empty")
            for c in frame.columns):
         _decode_check(path, path.read_bytes())  # pyarrow kept undecodable bytes: name the first bad byte
-    frame.columns = [str(c).strip() for c in frame.columns]
     if row_numbers is not None:
         frame.attrs[ROW_NUMBERS] = row_numbers
     return frame
-
-
-def _pandas_without_empty_lines(frame: pd.DataFrame, path: Path, sep: str) -> tuple[pd.DataFrame, np.ndarray | None]:
-    """A frame read with its empty lines kept, as pandas reads the file without them, and the row numbers.
-
-    The file is read again when it has empty lines: a row of blanks turns integer columns into floats,
-    and dropping it afterwards would not turn them back.
-    """
-    if not len(frame.columns) or not all(frame[c].isna().any() for c in frame.columns):
-        return frame, None  # some column has a value in every row: no row is all blank
-    empty = empty_lines(path, sep, frame.isna().all(axis=1).to_numpy())
-    if empty is not None and not empty.any():
-        return frame, None
-    again = pd.read_csv(path, sep=sep, engine="pyarrow")
-    if empty is None or len(again) != int(np.count_nonzero(~empty)):
-        return again, None  # empty lines not told apart: dropped as the parser drops them, not renumbered
-    return again, numbers_of_kept_rows(empty)
-
-
-def _parsed_quote_aware(path: Path, sep: str) -> tuple[pd.DataFrame, np.ndarray | None] | None:
-    """The file parsed with values that may hold line breaks (see read_codes.parse_delimited), or None."""
-    try:
-        kept = without_empty_lines(parse_delimited(path, sep), path, sep)
-        if kept is None:
-            return frame_from_table(parse_delimited(path, sep, keep_empty_lines=False)), None
-        return frame_from_table(kept[0]), kept[1]
-    except Exception:  # pyarrow raises its own error types; the caller reports the first parse's error
-        return None
-
-
-def _holds_line_breaks(frame: pd.DataFrame) -> bool:
-    texts = [c for c in frame.columns if pd.api.types.is_string_dtype(frame[c].dtype)]
-    return any(frame[c].astype("string").str.contains("\n", regex=False).any() for c in texts)
 
 
 def _check_header(path: Path, names: Sequence[str]) -> None:

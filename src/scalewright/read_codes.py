@@ -100,6 +100,8 @@ def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None, k
     try:
         table = parse(False)
     except pa.ArrowInvalid:
+        if path.stat().st_size <= PARSE_BLOCK_BYTES:
+            raise  # one block: a quote-aware parse would fail alike
         return parse(True)
     return parse(True) if path.stat().st_size > PARSE_BLOCK_BYTES and holds_line_breaks(table) else table
 

@@ -137,24 +137,22 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
                                min_group=options.min_group)
 
 
-def _shape(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
-    # the shape command's own (click-free) analysis function
+def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> dict[str, Any]:
+    # the shape command's own (click-free) analysis function, on the scores already made
     from .analyses.shape import analyse_shape
 
-    return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed)["scales"]
+    return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed,
+                         scores=scores)["scales"]
 
 
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
-    # the structure command's joint item matrix (each item once, matched to its smallest scale)
-    from .analyses.structure import joint_keyed_items
-    from .stats.structure import analyse_structure
+    # the structure command's own analysis: each item once, matched to its smallest scale
+    from .analyses.structure import analyse_structure_of_file
 
-    joint = joint_keyed_items(responses, spec)
-    return analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
-                             scale_items=joint.scale_items, seed=options.seed, iterations=options.iterations)
+    return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations)
 
 
-def _screen(spec: Any, responses: Any, info: InputInfo, options: ReportOptions) -> Any:
+def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the screen command's own analysis function: items in questionnaire order, durations if named
 
     from .analyses.screen import analyse_screen
@@ -209,7 +207,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     reliability = _reliability(spec, responses, options)
 
     progress(STEPS[2])
-    shapes = _shape(spec, responses, options)
+    shapes = _shape(spec, responses, options, score_table)
 
     progress(STEPS[3])
     by_column = analyse_compare(spec, responses, by=options.by, min_cell=options.min_cell,
@@ -227,7 +225,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
 
     progress(STEPS[6])
-    screen = _screen(spec, responses, info, options) if responses.n else None
+    screen = _screen(spec, responses, options) if responses.n else None
 
     findings = {
         name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name], reliability=reliability[name],

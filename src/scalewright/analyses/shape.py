@@ -7,10 +7,11 @@ from typing import Any
 
 def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
-                  min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
+                  min_group: int = 10, seed: int = 0, scores: Any = None) -> dict[str, dict[str, Any]]:
     """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
 
     Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.
+    ``scores`` may pass an existing ScoreTable, so the scores are not made twice.
     """
     from ..scoring import composite, keyed_items, score_range
     from ..stats.score_grid import attainable_scores, score_resolution
@@ -28,12 +29,13 @@ def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: b
     scales: dict[str, ShapeReport] = {}
     for name, scale in spec.scales.items():
         fmt = scale.response
-        scores, _ = composite(keyed_items(responses, scale), method=scale.score, required=scale.required_answered())
+        values = scores.scales[name].scores if scores is not None else \
+            composite(keyed_items(responses, scale), method=scale.score, required=scale.required_answered())[0]
         low, high = score_range(scale)
         grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
         word = "mean" if scale.score == "mean" else "prorated sum"
         x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
-        scales[name] = report(name, scale.title, "scale", scores, x_label, attainable=grid, low=low, high=high,
+        scales[name] = report(name, scale.title, "scale", values, x_label, attainable=grid, low=low, high=high,
                               resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
                               answer_levels=len(fmt.levels))
     item_reports: dict[str, ShapeReport] = {}

@@ -40,3 +40,20 @@ def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
     return JointItems(matrix=matrix, item_names=tuple(spec.items), item_scale=item_scale,
                       scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
                       notes=tuple(notes))
+
+
+def analyse_structure_of_file(spec: Any, responses: Any, **options: Any) -> Any:
+    """:func:`~scalewright.stats.structure.analyse_structure` of the joint item matrix of every scale.
+
+    The joint matrix's notes (an item keyed one way in one scale and the other way in another) come first
+    among the result's notes, so the command and the report show them alike. ``options`` go to
+    ``analyse_structure``.
+    """
+    from dataclasses import replace
+
+    from ..stats.structure import analyse_structure
+
+    joint = joint_keyed_items(responses, spec)
+    result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
+                               scale_items=joint.scale_items, **options)
+    return replace(result, notes=(*joint.notes, *result.notes)) if joint.notes else result

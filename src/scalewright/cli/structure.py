@@ -5,7 +5,7 @@ from pathlib import Path
 
 import click
 
-from ..analyses.structure import joint_keyed_items
+from ..analyses.structure import analyse_structure_of_file
 from .common import (
     data_argument,
     emit,
@@ -60,18 +60,14 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
     any missing answer are set aside (listwise) and counted.
     """
     from ..present.structure import structure_tables
-    from ..stats.structure import analyse_structure
 
     n_factors = parse_factors(factors)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    joint = joint_keyed_items(inputs.responses, inputs.spec)
-    result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
-                               scale_items=joint.scale_items, n_factors=n_factors, rotation=rotation,
-                               method=method, seed=seed, iterations=iterations, min_loading=min_loading,
-                               max_cross_loading=cross_loading)
+    result = analyse_structure_of_file(inputs.spec, inputs.responses, n_factors=n_factors, rotation=rotation,
+                                       method=method, seed=seed, iterations=iterations, min_loading=min_loading,
+                                       max_cross_loading=cross_loading)
     body = result.to_dict()
-    body["notes"] = [*joint.notes, *body["notes"]]
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
                "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading}
     emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,
-         decimals=decimals, options=options, preface=joint.notes)
+         decimals=decimals, options=options)

@@ -94,17 +94,24 @@ def render_markdown(tables: Sequence[Table], *, decimals: int = 2, heading_level
     for table in tables:
         out.append(f"{'#' * heading_level} {escape_markdown(table.title)}")
         out.append("")
-        if table.columns:
-            out.append("| " + " | ".join(escape_markdown(c) for c in table.columns) + " |")
-            out.append("| " + " | ".join("---:" if _is_numeric_column(table, c) else ":---"
-                                         for c in table.columns) + " |")
-            for row in _cells(table, decimals):
-                out.append("| " + " | ".join(escape_markdown(c) for c in row) + " |")
-            out.append("")
-        for note in table.notes:
-            out.append(f"*Note.* {escape_markdown(note)}")
-            out.append("")
+        out.extend(markdown_table_lines(table, decimals=decimals))
     return "\n".join(out).rstrip() + "\n"
+
+
+def markdown_table_lines(table: Table, *, decimals: int = 2) -> list[str]:
+    """A table's Markdown lines below its title: header, alignment row, cells, then its notes."""
+    out: list[str] = []
+    if table.columns:
+        out.append("| " + " | ".join(escape_markdown(c) for c in table.columns) + " |")
+        out.append("| " + " | ".join("---:" if _is_numeric_column(table, c) else ":---"
+                                     for c in table.columns) + " |")
+        for row in _cells(table, decimals):
+            out.append("| " + " | ".join(escape_markdown(c) for c in row) + " |")
+        out.append("")
+    for note in table.notes:
+        out.append(f"*Note.* {escape_markdown(note)}")
+        out.append("")
+    return out
 
 
 def render_csv(tables: Sequence[Table]) -> str:

@@ -1,8 +1,7 @@
 """The report as Markdown (``report.md``): the same document as the HTML page, figures as files beside it."""
 from __future__ import annotations
 
-from .numbers import format_value
-from .render import escape_markdown
+from .render import escape_markdown, markdown_table_lines
 from .report_layout import (
     Block,
     Bullets,
@@ -17,18 +16,7 @@ from .table import Table
 
 
 def _table(table: Table, *, decimals: int) -> list[str]:
-    out = [f"**{escape_markdown(table.title)}**", ""]
-    if table.columns:
-        out.append("| " + " | ".join(escape_markdown(c) for c in table.columns) + " |")
-        out.append("| " + " | ".join(":---" if table.kind_of(c) == "text" else "---:" for c in table.columns) + " |")
-        for row in table.rows:
-            cells = [escape_markdown(format_value(v, table.kind_of(c), decimals)) for c, v in zip(table.columns, row)]
-            out.append("| " + " | ".join(cells) + " |")
-        out.append("")
-    for note in table.notes:
-        out.append(f"*Note.* {escape_markdown(note)}")
-        out.append("")
-    return out
+    return [f"**{escape_markdown(table.title)}**", "", *markdown_table_lines(table, decimals=decimals)]
 
 
 def _figure(block: FigureBlock, number: int) -> list[str]:
