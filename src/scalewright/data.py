@@ -7,7 +7,6 @@ into a missing value and counted). Nothing is dropped without being counted.
 from __future__ import annotations
 
 import csv
-import difflib
 import io
 import re
 from concurrent.futures import ThreadPoolExecutor
@@ -30,7 +29,7 @@ from .read_codes import (
     rest_as_frame,
     without_empty_lines,
 )
-from .spec import ResponseFormat, ScaleSpec, normalise_answer_text
+from .spec import ResponseFormat, ScaleSpec, did_you_mean, normalise_answer_text
 
 DELIMITERS = (",", ";", "\t")
 READABLE = (".csv", ".tsv", ".txt", ".xlsx", ".parquet")
@@ -238,9 +237,7 @@ class Responses:
             return self.frame[name]
         if name in self.item_names:
             return pd.Series(self.item(name), name=name)
-        choices = list(self.frame.columns) + list(self.item_names)
-        close = difflib.get_close_matches(name, choices, n=1)
-        hint = f"; did you mean {close[0]!r}?" if close else ""
+        hint = did_you_mean(name, list(self.frame.columns) + list(self.item_names))
         raise DataError(Problem(file=self.path, message=f"no column named {name!r}{hint}"))
 
     def subset(self, rows: np.ndarray | Sequence[int] | Sequence[bool]) -> "Responses":
@@ -400,7 +397,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
         answers, converted, raw_of = (_convert_frame(pool, frame, spec) if quick is None
                                       else _convert_table(pool, table, item_raw_names, spec))
         ids = ids_checked.result()
-    bad_sample: list[Problem] = []
+    bad_sample: list[tuple[int, Problem]] = []  # with the row number, to list them in row order
     bad_total = 0
     refused_by_column: dict[str, int] = {}
     missing_by_column: dict[str, int] = {}
@@ -421,19 +418,20 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
             if len(bad_sample) < SHOW_FIRST:
                 rows = np.flatnonzero(column.bad)[: SHOW_FIRST - len(bad_sample)]
                 for row, value in zip(rows, raw_of[name].iloc[rows]):
-                    bad_sample.append(Problem(file=str(path), where=f"row {line_numbers[row]}, column {name}",
-                                              message=_describe_bad(value, fmt)))
+                    bad_sample.append((int(line_numbers[row]),
+                                       Problem(file=str(path), where=f"row {line_numbers[row]}, column {name}",
+                                               message=_describe_bad(value, fmt))))
     if bad_total and not lenient:
-        bad_sample.sort(key=lambda p: int(p.where.split(",")[0].split()[1]))
+        in_row_order = [problem for _, problem in sorted(bad_sample, key=lambda numbered: numbered[0])]
         summary = Problem(file=str(path), message=f"{bad_total} value(s) in all are neither an answer nor a "
                                                   "'no answer' code; fix them, add them to missing_codes, or use "
                                                   "--lenient to treat them as missing")
-        raise DataError([*bad_sample, summary] if bad_total > 1 else bad_sample)
+        raise DataError([*in_row_order, summary] if bad_total > 1 else in_row_order)
     for column, order in spec.group_levels.items():
         rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
     return Responses(path=str(path), answers=answers, item_names=tuple(needed), frame=rest.reset_index(drop=True),
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
-                     refused=tuple(bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
+                     refused=tuple(problem for _, problem in bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
                      missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
                      texts_by_column=texts_by_column, file_columns=tuple(columns))
 
@@ -491,10 +489,9 @@ def _check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) 
     if absent:
         problems = []
         for name in absent:
-            close = difflib.get_close_matches(name, list(columns), n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
             problems.append(Problem(file=str(path), line=1, message=f"the scale file names column {name!r}, "
-                                                                    f"which the data file does not have{hint}"))
+                                                                    "which the data file does not have"
+                                                                    f"{did_you_mean(name, list(columns))}"))
         raise DataError(problems)
 
 
@@ -527,14 +524,12 @@ def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numb
     if ids.is_unique:  # one hash pass; the slower search for the duplicates only when there are some
         return ids.rename(id_column).reset_index(drop=True)
     duplicated = ids.duplicated(keep=False).to_numpy()
-    if duplicated.any():
-        first_value = ids[duplicated].iloc[0]
-        rows = line_numbers[(ids == first_value).to_numpy()]
-        raise DataError(Problem(file=str(path), where=f"column {id_column}",
-                                message=f"id {first_value!r} appears more than once (rows "
-                                        f"{', '.join(str(r) for r in rows[:5])}); "
-                                        f"{int(ids.duplicated().sum())} duplicate id(s) in all"))
-    return ids.rename(id_column).reset_index(drop=True)
+    first_value = ids[duplicated].iloc[0]
+    rows = line_numbers[(ids == first_value).to_numpy()]
+    raise DataError(Problem(file=str(path), where=f"column {id_column}",
+                            message=f"id {first_value!r} appears more than once (rows "
+                                    f"{', '.join(str(r) for r in rows[:5])}); "
+                                    f"{int(ids.duplicated().sum())} duplicate id(s) in all"))
 
 
 def _ids_as_text(raw: pd.Series) -> pd.Series:

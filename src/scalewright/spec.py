@@ -139,7 +139,7 @@ class ScaleSpec:
         if name not in self.scales:
             from .errors import UsageError
 
-            raise UsageError(f"no scale named {name!r} in {self.path}{_suggest(name, list(self.scales))}")
+            raise UsageError(f"no scale named {name!r} in {self.path}{did_you_mean(name, list(self.scales))}")
         return self.scales[name]
 
 
@@ -147,7 +147,8 @@ class ScaleSpec:
 # reading
 
 
-def _suggest(word: str, choices: list[str]) -> str:
+def did_you_mean(word: str, choices: list[str]) -> str:
+    """'; did you mean X?' for the closest of ``choices`` (difflib's default cut-off), else ''."""
     close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
     return f"; did you mean {close[0]!r}?" if close else ""
 
@@ -205,7 +206,7 @@ class _Checker:
                 self.problem(key_node, here, f"{key!r} is given twice")
                 continue
             if allowed is not None and key not in allowed:
-                self.problem(key_node, here, f"unknown key {key!r}{_suggest(key, list(allowed))}")
+                self.problem(key_node, here, f"unknown key {key!r}{did_you_mean(key, list(allowed))}")
                 continue
             found[key] = (key_node, value_node)
         return found
@@ -339,7 +340,7 @@ class _Checker:
             for item, item_node in self.text_list(keys["reverse"][1], f"{where}.reverse") or []:
                 if item not in items:
                     self.problem(item_node, f"{where}.reverse",
-                                 f"{item!r} is not one of this scale's items{_suggest(item, items)}")
+                                 f"{item!r} is not one of this scale's items{did_you_mean(item, items)}")
                 elif item not in reverse:
                     reverse.append(item)
         score = "mean"
@@ -348,7 +349,7 @@ class _Checker:
             if score_value not in SCORE_METHODS:
                 if score_value is not None:
                     self.problem(keys["score"][1], f"{where}.score",
-                                 f"score must be mean or sum, not {score_value!r}{_suggest(score_value, list(SCORE_METHODS))}")
+                                 f"score must be mean or sum, not {score_value!r}{did_you_mean(score_value, list(SCORE_METHODS))}")
             else:
                 score = score_value
         min_answered: int | float = 1.0
@@ -359,7 +360,7 @@ class _Checker:
             for item, (item_node, text_node) in (self.mapping(keys["wording"][1], f"{where}.wording", None) or {}).items():
                 if item not in items:
                     self.problem(item_node, f"{where}.wording.{item}",
-                                 f"{item!r} is not one of this scale's items{_suggest(item, items)}")
+                                 f"{item!r} is not one of this scale's items{did_you_mean(item, items)}")
                     continue
                 text = self.text(text_node, f"{where}.wording.{item}")
                 if text is not None:
