@@ -1,0 +1,33 @@
+"""Notes and flags as codes with values: the statistics say *what* happened, ``present/messages.py`` words it.
+
+A statistic that cannot be computed, a fit that did not converge or a recommendation is recorded as a
+:class:`Note` with a stable ``code`` (kebab-case, part of the JSON contract) and the numbers behind it. The
+statistics layer never writes sentences; the presentation layer turns each note into one sentence.
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from .results import to_jsonable
+
+
+@dataclass(frozen=True)
+class Note:
+    """One thing a reader must know about a result: a code and the values that make it specific.
+
+    ``values`` holds plain numbers, strings or tuples of them (item names, counts, thresholds); the JSON
+    form is ``{"code": ..., **values}``.
+    """
+
+    code: str
+    values: Mapping[str, Any] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        return {"code": self.code, **{str(k): to_jsonable(v) for k, v in self.values.items()}}
+
+
+def note(code: str, **values: Any) -> Note:
+    """Shorthand: ``note("not-identified", items=2)``."""
+    return Note(code=code, values=dict(values))

@@ -1,0 +1,96 @@
+"""Every sentence the tool writes about a note or flag, keyed by its code.
+
+The statistics layer records :class:`scalewright.notes.Note` values (a code and numbers); this module is the one
+place that words them. Templates use ``str.format`` fields named after the note's values; numbers are formatted
+by :mod:`scalewright.present.numbers` before they are put in (``{name:bounded}`` style is not used: each
+template's fields are pre-formatted by :func:`describe`).
+
+Each area keeps its templates in its own block below, so work on one area does not touch another's lines.
+"""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+from ..notes import Note
+
+# -- reading and data ----------------------------------------------------------------------------------------
+READING: dict[str, str] = {
+}
+
+# -- reliability ---------------------------------------------------------------------------------------------
+RELIABILITY: dict[str, str] = {
+}
+
+# -- structure -----------------------------------------------------------------------------------------------
+STRUCTURE: dict[str, str] = {
+}
+
+# -- shape ---------------------------------------------------------------------------------------------------
+SHAPE: dict[str, str] = {
+}
+
+# -- subgroups, compare and tally ----------------------------------------------------------------------------
+GROUPS: dict[str, str] = {
+}
+
+# -- screening -----------------------------------------------------------------------------------------------
+SCREENING: dict[str, str] = {
+}
+
+# -- confirmatory models and invariance ----------------------------------------------------------------------
+CONFIRM: dict[str, str] = {
+}
+
+# -- ordinal items (polychoric) ------------------------------------------------------------------------------
+ORDINAL: dict[str, str] = {
+}
+
+# -- missing answers (EM) ------------------------------------------------------------------------------------
+MISSING: dict[str, str] = {
+}
+
+# -- survey weights ------------------------------------------------------------------------------------------
+WEIGHTS: dict[str, str] = {
+}
+
+# -- engine (streaming, Dask) --------------------------------------------------------------------------------
+ENGINE: dict[str, str] = {
+}
+
+
+def _all_templates() -> dict[str, str]:
+    merged: dict[str, str] = {}
+    for block in (READING, RELIABILITY, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
+                  WEIGHTS, ENGINE):
+        clash = merged.keys() & block.keys()
+        if clash:
+            raise RuntimeError(f"message codes defined twice: {sorted(clash)}")
+        merged.update(block)
+    return merged
+
+
+def _plain(value: Any) -> Any:
+    from .numbers import format_value
+
+    if isinstance(value, float):
+        return format_value(value, "num")
+    if isinstance(value, (list, tuple)):
+        return ", ".join(str(_plain(v)) for v in value)
+    return value
+
+
+def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> str:
+    """The sentence for one note. ``formatted`` overrides how single values are shown (e.g. ``bounded``).
+
+    A plain string (notes written before codes existed) is returned as it is.
+    """
+    if isinstance(note, str):
+        return note
+    template = _all_templates().get(note.code)
+    values = {key: _plain(value) for key, value in note.values.items()}
+    values.update(formatted or {})
+    if template is None:
+        detail = ", ".join(f"{key} {value}" for key, value in values.items())
+        return f"{note.code}: {detail}" if detail else note.code
+    return template.format(**values)
