@@ -245,7 +245,15 @@ def test_sentence_reads_as_apa():
     c = pvalue_holm([compare_groups(scores, groups, scale="Workload")])[0]
     text = comparison_sentence(c)
     assert text.startswith("Workload by shift: day scored higher than night")
-    assert "Welch's t(" in text and "p " in text and "g = " in text and "95% CI [" in text
+    assert "Welch's t = " in text
+    assert "g = " in text
+    assert "95% CI [" in text
+    # plain prose: one bracket of statistics after the finding, never a bracket inside a bracket
+    depth, deepest = 0, 0
+    for char in text:
+        depth += {"(": 1, ")": -1}.get(char, 0)
+        deepest = max(deepest, depth)
+    assert deepest == 1
     assert "r = ." in text  # APA: no leading zero for a correlation
     assert "nan" not in text.lower()
 

@@ -155,7 +155,7 @@ def test_tally_order_option_and_no_scale_file(files, capsys):
     assert code == 0, err
     rows = json.loads(out)["columns"]["site"]["categories"]
     assert [r["category"] for r in rows] == ["South", "North", "East"]
-    assert rows[-1]["cumulative_percent"] == pytest.approx(100.0)
+    assert rows[-1]["running_share_pct"] == pytest.approx(100.0)
     code, out, err = run(capsys, "tally", data, "--columns", "site", "--order", "South,North")
     assert code != 0 and "'East'" in err
 

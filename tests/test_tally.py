@@ -108,7 +108,7 @@ def test_small_cells_never_leak():
     record = json.loads(renderings[0])
     for row in record["categories"]:
         if row["category"] in ("East", "West"):
-            assert row["count"] is None and row["percent"] is None and row["valid_percent"] is None
+            assert row["count"] is None and row["share_of_all_pct"] is None and row["share_of_answered_pct"] is None
     assert ",22," not in renderings[3] and ",3," not in renderings[3]
 
 
@@ -178,7 +178,7 @@ def test_tallies_add_up_and_hide_every_small_count(values, min_cell):
     record = tally_record(t)
     for row in record["categories"]:
         if row["suppressed"]:
-            assert row["count"] is None and row["percent"] is None
+            assert row["count"] is None and row["share_of_all_pct"] is None
 
 
 # ----------------------------------------------------------------------------- figures

@@ -5,6 +5,8 @@ categories are never drawn; a "< min_cell" mark stands where their bar would be.
 """
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
+
 from ..errors import UsageError
 from ..stats.groups import suppressed_text
 from ..stats.tally import AnswerDistribution, Tally
@@ -54,6 +56,23 @@ def tally_pie(t: Tally, *, ax=None):
     ax.set_aspect("equal")
     ax.set_title(f"{t.column} (n = {t.n_valid} answered)")
     return ax
+
+
+#: characters of an item's wording shown beside its bar (the full wording is in the report's wording table)
+WORDING_CHARS = 42
+
+
+def item_bar_labels(items: Sequence[str], wording: Mapping[str, str], reverse: Sequence[str]) -> dict[str, str]:
+    """Each item's bar label: its name, its wording cut to :data:`WORDING_CHARS`, and a mark when it is
+    reverse-worded (its bar shows the answers as given, before reverse keying)."""
+    labels = {}
+    for item in items:
+        text = " ".join(str(wording.get(item, "")).split())
+        if len(text) > WORDING_CHARS:
+            text = text[:WORDING_CHARS - 1].rstrip() + "…"
+        label = f"{item}: {text}" if text else item
+        labels[item] = label + (" [reverse-worded]" if item in reverse else "")
+    return labels
 
 
 def diverging_bars(distribution: AnswerDistribution, *, ax=None, titles: dict[str, str] | None = None,

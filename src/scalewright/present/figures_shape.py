@@ -43,7 +43,7 @@ def histogram(summary: ShapeSummary, *, title: str = "", x_label: str = "score",
         ax.bar(centres, heights, width=0.9 * np.diff(edges), align="center", color=colour, edgecolor="white",
                linewidth=0.6)
         step = max(1, int(np.ceil(len(centres) / MAX_TICK_LABELS)))
-        shown = centres[::step]
+        shown = _with_ends(centres, step)
         labels = [tick_labels.get(float(v), f"{v:g}") if tick_labels else f"{v:g}" for v in shown]
         ax.set_xticks(shown, labels, rotation=30 if tick_labels else 0, ha="right" if tick_labels else "center")
     else:
@@ -84,10 +84,27 @@ def box_plot(summary: ShapeSummary, *, title: str = "", x_label: str = "score", 
     return ax
 
 
+def _with_ends(values: np.ndarray, step: int) -> np.ndarray:
+    """Every ``step``-th value, always with the first and the last (a reader needs the ends of the range)."""
+    shown = list(values[::step])
+    if len(values) and shown[-1] != values[-1]:
+        if len(shown) > 1 and (values[-1] - shown[-1]) < 0.5 * (shown[1] - shown[0]):
+            shown[-1] = values[-1]  # too close to the end to keep both labels legible
+        else:
+            shown.append(values[-1])
+    return np.asarray(shown)
+
+
 def _set_range(ax, summary: ShapeSummary, *, axis: str) -> None:
+    """The axis spans the score's possible range, and its ticks include both ends of that range."""
     if summary.low is not None and summary.high is not None:
-        pad = 0.03 * (summary.high - summary.low)
-        (ax.set_xlim if axis == "x" else ax.set_ylim)(summary.low - pad, summary.high + pad)
+        low, high = float(summary.low), float(summary.high)
+        pad = 0.03 * (high - low)
+        (ax.set_xlim if axis == "x" else ax.set_ylim)(low - pad, high + pad)
+        ticks = [t for t in (ax.get_xticks() if axis == "x" else ax.get_yticks()) if low <= t <= high]
+        spacing = (ticks[1] - ticks[0]) if len(ticks) > 1 else (high - low)
+        inner = [t for t in ticks if t - low >= 0.5 * spacing and high - t >= 0.5 * spacing]
+        (ax.set_xticks if axis == "x" else ax.set_yticks)([low, *inner, high])
 
 
 def _group_samples(report: ShapeReport, column: str | None) -> tuple[str, list[tuple[str, ShapeSummary]]]:

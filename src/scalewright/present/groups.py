@@ -4,24 +4,18 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any
 
+from ..stats.effect_benchmarks import effect_magnitude
 from ..stats.groups import Comparison, TestResult, suppressed_text
 from .numbers import format_value
 from .table import Table
 
-#: Cohen (1988) benchmarks, common practice: |g| .2 / .5 / .8; omega- and epsilon-squared .01 / .06 / .14
-_BENCHMARKS = {"Hedges' g": (0.2, 0.5, 0.8), "rank-biserial r": (0.1, 0.3, 0.5),
-               "omega-squared": (0.01, 0.06, 0.14), "epsilon-squared": (0.01, 0.06, 0.14)}
 _SYMBOL = {"Hedges' g": "g", "rank-biserial r": "r", "omega-squared": "ω²", "epsilon-squared": "ε²"}
 _BOUNDED = {"rank-biserial r", "omega-squared", "epsilon-squared"}
 
 
 def effect_label(name: str, value: float | None) -> str:
     """``negligible``/``small``/``medium``/``large`` by Cohen's benchmarks (common practice, no strict source)."""
-    if value is None or value != value:
-        return "unknown"
-    small, medium, large = _BENCHMARKS[name]
-    size = abs(value)
-    return "negligible" if size < small else "small" if size < medium else "medium" if size < large else "large"
+    return effect_magnitude(name, value)
 
 
 def _num(value: Any, decimals: int, kind: str = "num") -> str:
@@ -39,16 +33,6 @@ def _df(value: float | None) -> str:
     return f"{value:.0f}" if float(value).is_integer() else f"{value:.1f}"
 
 
-def _test_text(test: TestResult, decimals: int) -> str:
-    name = "Levene's W" if test.name.startswith("Levene") else test.name
-    dfs = ", ".join(d for d in (_df(test.df), _df(test.df2)) if d)
-    statistic = _num(test.statistic, 0 if name == "Mann-Whitney U" else decimals)
-    text = f"{name}{f'({dfs})' if dfs else ''} = {statistic}, {_p(test.pvalue)}"
-    if test.pvalue_holm is not None:
-        text += f" (Holm-adjusted {_p(test.pvalue_holm)})"
-    return text
-
-
 def _effect_text(c: Comparison, attribute: str, decimals: int) -> str:
     effect = getattr(c, attribute)
     if effect is None:
@@ -61,41 +45,59 @@ def _effect_text(c: Comparison, attribute: str, decimals: int) -> str:
     return text
 
 
-def comparison_sentence(c: Comparison, *, decimals: int = 2) -> str:
-    """One paragraph a survey researcher can paste: who scored how, the tests, and how big the difference is."""
+def _test_plain(test: TestResult, decimals: int) -> str:
+    """A test in one run of text with no brackets: ``Welch's F = 33.48, df = 2 and 324.2, p < .001``."""
+    name = "Levene's W" if test.name.startswith("Levene") else test.name
+    dfs = " and ".join(d for d in (_df(test.df), _df(test.df2)) if d)
+    statistic = _num(test.statistic, 0 if name == "Mann-Whitney U" else decimals)
+    text = f"{name} = {statistic}" + (f", df = {dfs}" if dfs else "") + f", {_p(test.pvalue)}"
+    if test.pvalue_holm is not None:
+        text += f", Holm-adjusted {_p(test.pvalue_holm)}"
+    return text
+
+
+def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = False) -> str:
+    """What a manager reads first: who scored higher and how big the difference is, the statistics in one
+    bracket after it (never nested), then the means and the follow-up pairs (left out with ``lead_only``)."""
     subject = c.scale or "The score"
     if c.test is None:
         reason = c.notes[-1] if c.notes else "no test was possible"
         return f"{subject} by {c.column}: not compared ({reason})."
-    groups = "; ".join(f"{g.level} (n = {g.n}, M = {_num(g.mean, decimals)}, SD = {_num(g.sd, decimals)})"
-                       for g in c.groups)
     significant = c.test.pvalue < 0.05 if c.test.pvalue_holm is None else c.test.pvalue_holm < 0.05
     size = effect_label(c.effect_size.name, c.effect_size.value) if c.effect_size else "unknown"
+    ordered = sorted(c.groups, key=lambda g: g.mean, reverse=True)
+    high, low = ordered[0], ordered[-1]
     if len(c.groups) == 2:
-        a, b = c.groups
-        direction = (f"{a.level} scored higher than {b.level}" if a.mean > b.mean
-                     else f"{a.level} scored lower than {b.level}" if a.mean < b.mean
-                     else f"{a.level} and {b.level} scored alike")
-        verdict = (f"{direction}; the difference is {size} and statistically significant" if significant
-                   else f"{direction}, but the difference is {size} and could be due to chance")
+        if significant:
+            lead = f"{subject} by {c.column}: {high.level} scored higher than {low.level}, a {size} difference"
+        else:
+            lead = (f"{subject} by {c.column}: {high.level} and {low.level} scored much alike; the {size} "
+                    "difference could be due to chance")
+    elif significant:
+        lead = (f"{subject} by {c.column}: scores differ, highest for {high.level} and lowest for {low.level}, "
+                f"a {size} difference overall")
     else:
-        verdict = (f"scores differed across {c.column} levels; the difference is {size}" if significant
-                   else f"scores did not differ clearly across {c.column} levels (a {size} difference)")
-    sentence = (f"{subject} by {c.column}: {verdict}. {groups}. "
-                f"{_test_text(c.test, decimals)}, {_effect_text(c, 'effect_size', decimals)}")
+        lead = (f"{subject} by {c.column}: scores do not differ clearly between the levels; the {size} "
+                "differences could be due to chance")
+    stats = "; ".join(t for t in (_effect_text(c, "effect_size", decimals), _test_plain(c.test, decimals)) if t)
+    means = "; ".join(f"{g.level}: n = {g.n}, M = {_num(g.mean, decimals)}, SD = {_num(g.sd, decimals)}"
+                      for g in c.groups)
+    sentence = f"{lead} ({stats}). Means by {c.column}: {means}."
+    if lead_only:
+        return f"{lead} ({stats})."
     if c.nonparametric is not None:
-        sentence += (f"; {_test_text(c.nonparametric, decimals)}, "
-                     f"{_effect_text(c, 'nonparametric_effect_size', decimals)}")
-    sentence += "."
+        effect = _effect_text(c, "nonparametric_effect_size", decimals)
+        sentence += (f" The rank-based check: {_test_plain(c.nonparametric, decimals)}"
+                     + (f", {effect}" if effect else "") + ".")
     if c.pairs:
         differing = [p for p in c.pairs if p.pvalue == p.pvalue and p.pvalue < 0.05]
         if differing:
-            listed = ", ".join(f"{p.a} vs {p.b} ({_p(p.pvalue)})" for p in differing)
+            listed = "; ".join(f"{p.a} vs {p.b}, {_p(p.pvalue)}" for p in differing)
             sentence += f" {c.pairs_method} pairs that differ: {listed}."
         else:
             sentence += f" No {c.pairs_method} pair differed at p < .05."
     if c.levene is not None and c.levene.pvalue < 0.05:
-        sentence += (f" The spread differs between levels ({_test_text(c.levene, decimals)}), so the Welch "
+        sentence += (f" The spread differs between levels ({_test_plain(c.levene, decimals)}), so the Welch "
                      "version of the test is the safer reading.")
     if c.suppressed:
         sentence += (f" {len(c.suppressed)} level(s) with fewer than {c.min_cell} respondents are not shown "

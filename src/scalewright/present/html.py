@@ -15,14 +15,17 @@ from .numbers import format_value
 from .report_layout import (
     Block,
     Bullets,
+    Details,
     FigureBlock,
     FigureRow,
+    Findings,
     Paragraph,
     ReportDocument,
     Section,
     TableBlock,
 )
 from .table import Table
+from .table_split import split_wide_table
 
 SVG_NS = "http://www.w3.org/2000/svg"
 XLINK_NS = "http://www.w3.org/1999/xlink"
@@ -53,7 +56,6 @@ dl.facts dt{color:var(--muted)}dl.facts dd{margin:0}
 nav.contents{background:var(--tint);border-radius:6px;padding:.8rem 1.2rem;margin:1.2rem 0 2rem}
 nav.contents h2{font-size:1rem;margin:0 0 .3rem;border:0;padding:0}
 nav.contents ol{margin:0;padding-left:1.3rem;columns:2;column-gap:2rem}
-nav.contents ol ol{columns:1;font-size:.92rem}
 nav.contents li{break-inside:avoid}
 a{color:var(--accent)}
 section{margin-top:2.4rem}
@@ -66,14 +68,24 @@ p.note,ul.note{color:var(--muted);font-size:.9rem}
 .caution{background:var(--caution-bg);border-left:4px solid var(--caution-rule);padding:.7rem 1rem;
 border-radius:0 6px 6px 0;max-width:none}
 .table-wrap{overflow-x:auto;margin:.8rem 0 1.2rem}
-table{border-collapse:collapse;font-size:.88rem;min-width:50%}
+table{border-collapse:collapse;font-size:.88rem;min-width:50%;max-width:100%}
 caption{text-align:left;font-weight:600;padding:.2rem 0 .45rem;caption-side:top}
 th,td{padding:.3rem .6rem;border-bottom:1px solid var(--rule);vertical-align:top;text-align:left}
-thead th{border-bottom:2px solid var(--ink);font-weight:600;white-space:nowrap}
+thead th{border-bottom:2px solid var(--ink);font-weight:600;overflow-wrap:normal;hyphens:auto}
 tbody tr:nth-child(even){background:var(--tint)}
 tbody th{font-weight:500}
 td.num,th.num{text-align:right;white-space:nowrap}
-td.wide{min-width:14rem;max-width:24rem}
+td.wide{min-width:12rem;max-width:24rem;overflow-wrap:anywhere}
+td.flags,th.flags{white-space:normal;min-width:7rem}
+ol.findings{margin:.4rem 0 1rem;padding-left:1.4rem;max-width:52rem}
+ol.findings li{margin:.35rem 0}
+ol.findings a{font-size:.88rem;white-space:nowrap}
+details{margin:.6rem 0 1rem;border:1px solid var(--rule);border-radius:6px;padding:.1rem .9rem}
+details[open]{padding-bottom:.6rem}
+summary{cursor:pointer;font-weight:600;color:var(--accent);padding:.45rem 0}
+.bar{display:inline-block;height:.7em;background:var(--accent);opacity:.55;vertical-align:baseline;
+border-radius:1px;margin-right:.3rem}
+td.bar-cell{min-width:9rem;white-space:nowrap}
 p.table-note{font-size:.82rem;color:var(--muted);margin:.15rem 0}
 .flag{display:inline-block;background:var(--flag-bg);color:var(--flag-ink);border:1px solid #f0c89a;
 border-radius:3px;padding:0 .35rem;margin:0 .2rem .1rem 0;font-size:.78rem;white-space:nowrap}
@@ -89,15 +101,26 @@ footer{margin-top:3rem;border-top:1px solid var(--rule);padding-top:.8rem;font-s
 html,body{background:#fff}
 body{max-width:none;padding:0;font-size:10pt}
 nav.contents{break-after:page}
-section.scale{break-before:page}
+section#findings{break-after:page}
 h2,h3,h4{break-after:avoid;page-break-after:avoid}
 table,figure,.caution{break-inside:avoid;page-break-inside:avoid}
 .table-wrap{overflow:visible}
-table{font-size:7.5pt}th,td{padding:.15rem .3rem}thead th{white-space:normal}
+table{font-size:7.5pt;width:auto}th,td{padding:.15rem .3rem}thead th{white-space:normal}
+td.wide{min-width:0;max-width:none}td.flags,th.flags{min-width:0}td.bar-cell{min-width:0}
+details{border:0;padding:0}details>summary{list-style:none;color:var(--ink)}
+details::details-content{content-visibility:visible;display:block}
+section.scale,section#quality,section#structure,section#methods{break-before:page}
 .figure-row{display:block}
 a{color:inherit;text-decoration:none}
 }
 """.strip()
+
+
+FOOTERS = {
+    True: "Every number in this page is also in results.json at full precision.",
+    False: "This page is the whole report: its figures are inside it. Run the report without --single-file "
+           "for results.json, report.md and scores.csv.",
+}
 
 
 def esc(text: object) -> str:
@@ -193,6 +216,23 @@ def _flags_html(value: object) -> str:
 
 
 def table_html(table: Table, *, decimals: int, flag_column: str | None = None) -> str:
+    """One table, split into several side by side in reading order when it has too many columns to fit the
+    page (each part repeats the row names and the flags)."""
+    parts = split_wide_table(table, keep=(flag_column,) if flag_column else (), decimals=decimals)
+    return "".join(_one_table_html(part, decimals=decimals, flag_column=flag_column) for part in parts)
+
+
+def _bar_html(value: object) -> str:
+    try:
+        share = max(0.0, min(100.0, float(value)))  # type: ignore[arg-type]
+    except (TypeError, ValueError):
+        return ""
+    if share != share:
+        return ""
+    return f'<span class="bar" style="width:{share * 0.08:.2f}rem" aria-hidden="true"></span>'
+
+
+def _one_table_html(table: Table, *, decimals: int, flag_column: str | None = None) -> str:
     """One table: a caption, ``<th scope="col">`` headers, the first cell of a row as its header."""
     numeric = [table.kind_of(c) != "text" for c in table.columns]
     # long texts (wording, messages, sources) get a readable measure instead of one endless line
@@ -200,17 +240,21 @@ def table_html(table: Table, *, decimals: int, flag_column: str | None = None) -
             for i, is_number in enumerate(numeric)]
     parts = ['<div class="table-wrap"><table>', f"<caption>{esc(table.title)}</caption>", "<thead><tr>"]
     for column, is_number in zip(table.columns, numeric):
-        css = ' class="num"' if is_number else ""
+        css = ' class="num"' if is_number else (' class="flags"' if column == flag_column else "")
         parts.append(f'<th scope="col"{css}>{esc(column)}</th>')
     parts.append("</tr></thead><tbody>")
     for row in table.rows:
         parts.append("<tr>")
         for position, (column, value, is_number, is_wide) in enumerate(zip(table.columns, row, numeric, wide)):
+            kind = table.kind_of(column)
             if column == flag_column:
                 content = _flags_html(value)
+            elif kind == "bar":
+                content = _bar_html(value) + esc(format_value(value, "pct", decimals))
             else:
-                content = esc(format_value(value, table.kind_of(column), decimals))
-            css = ' class="num"' if is_number else (' class="wide"' if is_wide else "")
+                content = esc(format_value(value, kind, decimals))
+            css = (' class="bar-cell"' if kind == "bar" else ' class="num"' if is_number
+                   else ' class="flags"' if column == flag_column else (' class="wide"' if is_wide else ""))
             if position == 0:
                 parts.append(f'<th scope="row"{css}>{content}</th>')
             else:
@@ -247,6 +291,12 @@ def _block(block: Block, *, folder: Path, decimals: int, figures: _Counter) -> s
         return _figure(block, folder, figures.next())
     if isinstance(block, FigureRow):
         return '<div class="figure-row">' + "".join(_figure(f, folder, figures.next()) for f in block.figures) + "</div>"
+    if isinstance(block, Findings):
+        items = "".join(f'<li>{esc(text)} <a href="#{esc(anchor)}">detail</a></li>' for text, anchor in block.items)
+        return f'<ol class="findings">{items}</ol>'
+    if isinstance(block, Details):
+        inner = "".join(_block(b, folder=folder, decimals=decimals, figures=figures) for b in block.blocks)
+        return f"<details><summary>{esc(block.summary)}</summary>{inner}</details>"
     raise TypeError(f"unknown report block {type(block).__name__}")
 
 
@@ -261,21 +311,29 @@ def _section(section: Section, level: int, *, folder: Path, decimals: int, figur
     return "\n".join(parts)
 
 
-def _contents(sections: tuple[Section, ...], depth: int = 0) -> str:
+def _contents(sections: tuple[Section, ...]) -> str:
+    """The top sections, each scale's parts on the same line (a short list keeps the findings near the top)."""
     items = []
     for section in sections:
-        inner = _contents(section.subsections, depth + 1) if depth == 0 and section.anchor.startswith("scale-") else ""
-        items.append(f'<li><a href="#{esc(section.anchor)}">{esc(section.title)}</a>{inner}</li>')
+        parts = ""
+        if section.anchor.startswith("scale-") and section.subsections:
+            parts = ": " + " · ".join(f'<a href="#{esc(s.anchor)}">{esc(s.title.lower())}</a>'
+                                      for s in section.subsections)
+        items.append(f'<li><a href="#{esc(section.anchor)}">{esc(section.title)}</a>{parts}</li>')
     return f"<ol>{''.join(items)}</ol>" if items else ""
 
 
-def render_html(document: ReportDocument, *, folder: str | Path) -> str:
-    """The whole page. ``folder`` is the report folder holding the figures named in ``document``."""
+def render_html(document: ReportDocument, *, folder: str | Path, companion_files: bool = True) -> str:
+    """The whole page. ``folder`` is the report folder holding the figures named in ``document``;
+    ``companion_files`` says whether results.json and scores.csv are written beside the page."""
     folder = Path(folder)
     figures = _Counter()
     facts = "".join(f"<dt>{esc(k)}</dt><dd>{esc(v)}</dd>" for k, v in document.facts)
-    body = "\n".join(_section(s, 2, folder=folder, decimals=document.decimals, figures=figures)
-                     for s in document.sections)
+    rendered = [_section(s, 2, folder=folder, decimals=document.decimals, figures=figures)
+                for s in document.sections]
+    # the findings come first, before the table of contents
+    first = rendered[0] if document.sections and document.sections[0].anchor == "findings" else ""
+    body = "\n".join(rendered[1:] if first else rendered)
     lead = "".join(f"<p>{esc(p)}</p>" for p in document.lead)
     return (
         "<!DOCTYPE html>\n"
@@ -289,8 +347,7 @@ def render_html(document: ReportDocument, *, folder: str | Path) -> str:
         '<header class="masthead">\n<p class="kicker">Scale report</p>\n'
         f"<h1>{esc(document.title)}</h1>\n<p class=\"subtitle\">{esc(document.subtitle)}</p>\n"
         f'<dl class="facts">{facts}</dl>\n</header>\n'
-        f'<main>\n{lead}\n<nav class="contents" aria-labelledby="contents-h"><h2 id="contents-h">Contents</h2>'
-        f"{_contents(document.sections)}</nav>\n{body}\n</main>\n"
-        '<footer><p>Made with scalewright. Every number in this page is also in results.json at full '
-        "precision.</p></footer>\n</body>\n</html>\n"
+        f'<main>\n{lead}\n{first}\n<nav class="contents" aria-labelledby="contents-h"><h2 id="contents-h">'
+        f"Contents</h2>{_contents(document.sections)}</nav>\n{body}\n</main>\n"
+        f"<footer><p>Made with scalewright. {FOOTERS[companion_files]}</p></footer>\n</body>\n</html>\n"
     )

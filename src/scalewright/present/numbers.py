@@ -5,7 +5,7 @@ import math
 from typing import Any
 
 #: column kinds a Table may declare
-KINDS = ("num", "bounded", "p", "int", "pct", "text")
+KINDS = ("num", "bounded", "p", "int", "pct", "bar", "text")
 
 
 def _is_missing(value: Any) -> bool:
@@ -17,7 +17,7 @@ def format_value(value: Any, kind: str = "num", decimals: int = 2) -> str:
 
     ``bounded`` is for statistics that cannot exceed 1 in size (alpha, r, omega): no leading zero (.84).
     ``p`` gives ``< .001`` below one thousandth and three decimals otherwise.
-    ``pct`` gives one decimal and no sign. ``int`` counts; ``text`` as is. Missing values show as an en dash.
+    ``pct`` gives one decimal and no sign; ``bar`` a share in percent with a text bar. ``int`` counts; ``text`` as is. Missing values show as an en dash.
     """
     if _is_missing(value):
         return "–"
@@ -36,6 +36,8 @@ def format_value(value: Any, kind: str = "num", decimals: int = 2) -> str:
         return _strip_zero(f"{number:.3f}")
     if kind == "pct":
         return f"{number:.1f}"
+    if kind == "bar":  # a share in percent, drawn as a bar of tenths after the number (HTML draws its own)
+        return f"{number:.1f} " + "█" * int(round(max(0.0, min(100.0, number)) / 10))
     text = f"{number:.{decimals}f}"
     if text.startswith("-") and float(text) == 0:
         text = text[1:]

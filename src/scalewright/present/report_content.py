@@ -13,8 +13,10 @@ from .methods import CAUTIONS, METHODS, thresholds_used
 from .numbers import format_value
 from .report_layout import (
     Bullets,
+    Details,
     FigureBlock,
     FigureRow,
+    Findings,
     Paragraph,
     ReportDocument,
     Section,
@@ -102,7 +104,7 @@ def _item_flags(findings: Any, structure: Any) -> dict[str, list[str]]:
 
 
 def item_table(findings: Any, structure: Any, decimals: int) -> Table | None:
-    """The reliability module's item table for one scale, with the wording and every flag of each item."""
+    """The reliability module's item table for one scale, every flag of each item right after its name."""
     from .reliability import reliability_tables
 
     if findings.reliability is None:
@@ -110,16 +112,22 @@ def item_table(findings: Any, structure: Any, decimals: int) -> Table | None:
     tables = {t.key: t for t in reliability_tables([findings.reliability])}
     items = _without(tables["reliability_items"], "scale")
     flags = _item_flags(findings, structure)
-    wording = findings.scale.wording
     position = items.columns.index("item") + 1
-    rows = []
-    for row in items.rows:
-        item = row[0]
-        rows.append(row[:position] + (wording.get(item, ""),) + row[position:] + (", ".join(flags.get(item, [])),))
-    columns = items.columns[:position] + ("wording",) + items.columns[position:] + ("flags",)
-    kinds = {**items.kinds, "wording": "text", "flags": "text"}
-    return Table(title=f"Items of {scale_label(findings)}", columns=columns, rows=tuple(rows), kinds=kinds,
-                 notes=items.notes, key="items")
+    rows = tuple(row[:position] + (", ".join(flags.get(row[0], [])),) + row[position:] for row in items.rows)
+    columns = items.columns[:position] + ("flags",) + items.columns[position:]
+    return Table(title=f"Items of {scale_label(findings)}", columns=columns, rows=rows,
+                 kinds={**items.kinds, "flags": "text"}, notes=items.notes, key="items")
+
+
+def wording_table(findings: Any) -> Table | None:
+    """Each item's wording and keying, so the statistics table stays narrow enough for the page."""
+    scale = findings.scale
+    if not scale.wording:
+        return None
+    rows = tuple((item, scale.wording.get(item, ""), "yes" if item in scale.reverse else "")
+                 for item in scale.items)
+    return Table(title=f"Wording of the items of {scale_label(findings)}", columns=("item", "wording", "reverse-worded"),
+                 rows=rows, kinds={"item": "text", "wording": "text", "reverse-worded": "text"}, key="wording")
 
 
 def reliability_table(findings: Any) -> Table | None:
@@ -175,9 +183,8 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
                 f"{_n(shape.median, 'num', decimals)}, from {_n(shape.min, 'num', decimals)} to "
                 f"{_n(shape.max, 'num', decimals)}")
         if shape.shape:
+            # the evidence behind the label is statistics jargon: it sits in the folded detail table
             text += f"; the distribution reads as {shape.shape}"
-            if shape.evidence:
-                text += f" ({shape.evidence})"
         sentences.append(text + ".")
         for side, effect, share in (("floor", shape.floor_effect, shape.floor_pct),
                                     ("ceiling", shape.ceiling_effect, shape.ceiling_pct)):
@@ -203,6 +210,7 @@ def _shape_tables(findings: Any) -> list[Table]:
 
 
 def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals: int) -> list[Section]:
+    """One section per grouping column: the comparison in a sentence, its figure and tables folded below."""
     from .groups import compare_tables, comparison_sentence
 
     sections = []
@@ -213,18 +221,20 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
         reliability_tables_by_key = {t.key: t for t in reliability_tables([findings.reliability])}
     for position, column in enumerate(results.options.by):
         blocks: list[Any] = []
+        detail: list[Any] = []
         comparison = next((c for c in findings.comparisons if c.column == column), None)
         if comparison is not None:
-            blocks.append(Paragraph(comparison_sentence(comparison, decimals=decimals)))
+            sentence = comparison_sentence(comparison, decimals=decimals)
+            blocks.append(Paragraph(comparison_sentence(comparison, decimals=decimals, lead_only=True)))
+            detail.append(Paragraph(sentence))
         figure = figures.get(("boxplot", findings.name, column))
         if figure is not None:
-            blocks.append(figure)
+            detail.append(figure)
         if comparison is not None:
-            sentence = comparison_sentence(comparison, decimals=decimals)
             for table in compare_tables([comparison], decimals=decimals):
                 # the sentence already stands above the tables
                 notes = tuple(note for note in table.notes if note != sentence)
-                blocks.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
+                detail.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
                                                kinds=table.kinds, notes=notes, key=table.key)))
         summary = reliability_tables_by_key.get("reliability")
         if summary is not None:
@@ -233,15 +243,17 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
                                    kinds=summary.kinds, key=summary.key), "scale")
             group = next((g for g in findings.reliability.groups if g.column == column), None)
             notes = tuple(group.notes) if group is not None else ()
-            blocks.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
+            detail.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
                                            kinds=table.kinds, notes=notes, key=table.key)))
         tests = reliability_tables_by_key.get("reliability_comparisons")
         if tests is not None:
             rows = tuple(row for row in tests.rows if row[1] == column)
             if rows:
-                blocks.append(TableBlock(_without(_without(
+                detail.append(TableBlock(_without(_without(
                     Table(title=f"Alphas compared between levels of {column} (Feldt 1969, Holm-adjusted)",
                           columns=tests.columns, rows=rows, kinds=tests.kinds, key=tests.key), "scale"), "column")))
+        if detail:
+            blocks.append(Details(f"Scores, tests and reliability by {column}", tuple(detail)))
         sections.append(Section(anchor=f"scale-{findings.name}-by-{position + 1}", title=f"By {column}",
                                 blocks=tuple(blocks)))
     return sections
@@ -253,20 +265,30 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
     if flags:
         blocks.append(Bullets(tuple(flags)))
     items_blocks: list[Any] = []
+    item_detail: list[Any] = []
     reliability = reliability_table(findings)
     if reliability is not None:
-        items_blocks.append(TableBlock(reliability))
+        item_detail.append(TableBlock(reliability))
     table = item_table(findings, results.structure, decimals)
     if table is not None:
-        items_blocks.append(TableBlock(table, flag_column="flags"))
+        item_detail.append(TableBlock(table, flag_column="flags"))
+    wording = wording_table(findings)
+    if wording is not None:
+        item_detail.append(TableBlock(wording))
     answers = figures.get(("answers", findings.name))
     if answers is not None:
-        items_blocks.append(answers)
+        item_detail.append(answers)
+    if item_detail:
+        items_blocks.append(Details(f"Reliability statistics, items, wording and answers of {scale_label(findings)}",
+                                    tuple(item_detail)))
     distribution_blocks: list[Any] = []
     histogram = figures.get(("histogram", findings.name))
     if histogram is not None:
         distribution_blocks.append(histogram)
-    distribution_blocks.extend(TableBlock(t) for t in _shape_tables(findings))
+    shape_tables = [TableBlock(t) for t in _shape_tables(findings)]
+    if shape_tables:
+        distribution_blocks.append(Details("Descriptive statistics, shape evidence and percentiles",
+                                           tuple(shape_tables)))
     anchor = f"scale-{findings.name}"
     subsections = [Section(anchor=f"{anchor}-items", title="Reliability and items", blocks=tuple(items_blocks)),
                    Section(anchor=f"{anchor}-distribution", title="Score distribution",
@@ -320,7 +342,9 @@ def _screen_blocks(screen: Any, decimals: int) -> list[Any]:
         f"({_n(None if share is None else 100 * share, 'pct')}%). Flagged respondents are kept in every "
         "analysis of this report: a flag marks a record to look at, not a verdict. results.json lists every "
         "respondent with every index.")]
-    blocks.extend(TableBlock(t) for t in screen_tables(document, flagged_only=True, max_rows=MAX_RESPONDENT_ROWS))
+    tables = tuple(TableBlock(t) for t in screen_tables(document, flagged_only=True, max_rows=MAX_RESPONDENT_ROWS))
+    if tables:
+        blocks.append(Details("The screen's indices and the flagged respondents", tables))
     return blocks
 
 
@@ -338,16 +362,17 @@ def quality_section(results: Any, decimals: int) -> Section:
     refused = results.reading.get("refused_total", 0)
     if refused:
         lead += f" {refused} value(s) were neither an answer nor a 'no answer' code and were treated as missing."
-    blocks: list[Any] = [Paragraph(lead), TableBlock(_reading_table(results))]
+    blocks: list[Any] = [Paragraph(lead), Details("What reading the data changed, column by column",
+                                                  (TableBlock(_reading_table(results)),))]
     if results.input_notes:
         blocks.append(Bullets(tuple(results.input_notes), tone="note"))
     blocks.append(TableBlock(_scored_table(results)))
     subsections = [Section(anchor="quality-screen", title="Careless responding",
                            blocks=tuple(_screen_blocks(results.screen, decimals)))]
     if results.group_tallies:
-        subsections.append(Section(anchor="quality-groups", title="Who answered",
-                                   blocks=tuple(TableBlock(t) for t in
-                                                tally_tables(list(results.group_tallies), decimals=decimals))))
+        subsections.append(Section(anchor="quality-groups", title="Who answered", blocks=(
+            Details("Respondents by each grouping column", tuple(
+                TableBlock(t) for t in tally_tables(list(results.group_tallies), decimals=decimals))),)))
     return Section(anchor="quality", title="Data quality", blocks=tuple(blocks), subsections=tuple(subsections))
 
 
@@ -372,7 +397,8 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
     row = tuple(f for f in (figures.get(("scree",)), figures.get(("loadings",))) if f is not None)
     if row:
         blocks.append(FigureRow(row))
-    blocks.extend(TableBlock(t) for t in structure_tables(structure))
+    blocks.append(Details("Adequacy, parallel analysis and loadings",
+                          tuple(TableBlock(t) for t in structure_tables(structure))))
     if structure.notes:
         blocks.append(Bullets(tuple(structure.notes), tone="note"))
     return Section(anchor="structure", title="Structure", blocks=tuple(blocks))
@@ -392,7 +418,8 @@ def methods_section(results: Any) -> Section:
                   "one of the thresholds. Statistics that cannot exceed 1 in size are printed without a leading "
                   "zero; p-values below .001 as < .001. A dash marks a statistic that could not be computed; the "
                   "note beside its table says why."),
-        TableBlock(methods), TableBlock(thresholds)))
+        Details("Statistics and their sources", (TableBlock(methods),)),
+        Details("Thresholds used in this report", (TableBlock(thresholds),))))
 
 
 def cautions_section() -> Section:
@@ -430,18 +457,46 @@ def provenance_section(results: Any) -> Section:
                   "precision; scores.csv one row per respondent, in the data file's order.", tone="note")))
 
 
+def findings_section(results: Any, decimals: int) -> Section:
+    """The first section: what was found, one plain sentence per finding, each linked to its detail."""
+    from ..analyses.findings import select_findings
+    from .findings import finding_items
+
+    items = finding_items(select_findings(results), decimals=decimals)
+    blocks: list[Any] = []
+    if items:
+        blocks.append(Findings(items))
+    else:
+        blocks.append(Paragraph("No finding met the rules for this list; the sections below hold every result.",
+                                tone="note"))
+    blocks.append(Paragraph("Findings are chosen by fixed rules (see Methods): scale reliability, subgroup "
+                            "differences that are clear beyond chance and at least small, items that hurt a "
+                            "scale, floor, ceiling and two-peaked scores, and the data-quality screen.", tone="note"))
+    blocks.append(Paragraph(CAUTIONS[0], tone="caution"))
+    return Section(anchor="findings", title="Findings", blocks=tuple(blocks))
+
+
+def respondent_counts(results: Any) -> tuple[tuple[str, str], ...]:
+    """Read, set aside (and why) and analysed: the header's counts, which always add up."""
+    read = results.n_rows + results.n_excluded
+    aside = "none"
+    if results.n_excluded:
+        aside = f"{results.n_excluded} (listed in {results.options.exclude})" if results.options.exclude \
+            else str(results.n_excluded)
+    return (("Respondents read", str(read)), ("Set aside", aside), ("Analysed", str(results.n_rows)))
+
+
 def build_document(results: Any, *, figures: FigureMap, decimals: int = 2) -> ReportDocument:
-    """The whole report, in reading order."""
-    sections = [Section(anchor="summary", title="Summary", blocks=(
-        Paragraph(f"{len(results.scales)} scale(s), {results.n_rows} respondents"
+    """The whole report, in reading order: findings first, then the summary table and the detail."""
+    sections = [findings_section(results, decimals), Section(anchor="summary", title="Summary", blocks=(
+        Paragraph(f"{len(results.scales)} scale(s), {results.n_rows} respondents analysed"
                   + (f", subgroups by {', '.join(results.options.by)}" if results.options.by else "") + "."),
-        TableBlock(summary_table(results, decimals)),
-        Paragraph(CAUTIONS[0], tone="caution")))]
+        TableBlock(summary_table(results, decimals))))]
     sections += [scale_section(f, results, figures, decimals) for f in results.scales.values()]
     sections += [quality_section(results, decimals), structure_section(results, figures, decimals),
                  methods_section(results), cautions_section(), provenance_section(results)]
     info = results.info
-    facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), ("Respondents", str(results.n_rows)),
+    facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), *respondent_counts(results),
              ("Date", results.created), ("Made with", f"scalewright {__version__}"))
     return ReportDocument(title=results.title, subtitle="Reliability, structure and score distributions of "
                           "multi-item rating scales", lead=(), sections=tuple(sections), decimals=decimals,

@@ -20,21 +20,31 @@ FIGURES = "figures"
 REPORT_FILES = ("index.html", "report.md", "results.json", "scores.csv")
 
 
-def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: Iterable = ()) -> Path:
+def prepare_report_folder(folder: str | Path, *, force: bool = False, inputs: Iterable = (),
+                          single_file: bool = False) -> Path:
     """Create ``folder`` if needed; refuse a file, a folder that already holds files unless ``force``, and a
     folder where a report file would replace an input file (checked before anything is written)."""
     from ..files import prepare_output_folder, refuse_input_overwrite
 
     folder = Path(folder)
     inputs = [p for p in inputs if p is not None]
-    for name in REPORT_FILES:
+    for name in REPORT_FILES[:1] if single_file else REPORT_FILES:
         refuse_input_overwrite(folder / name, inputs)
+    if single_file:
+        prepare_output_folder(folder, what="report", force=force)
+        return folder
     if folder.is_dir() and (folder / FIGURES).is_dir():
         for existing in (folder / FIGURES).iterdir():
             refuse_input_overwrite(existing, inputs)
     prepare_output_folder(folder, what="report", force=force)
     (folder / FIGURES).mkdir(exist_ok=True)
     return folder
+
+
+def _v(value: Any) -> str:
+    from .numbers import format_value
+
+    return format_value(value, "num")
 
 
 def _file_part(column: str, position: int) -> str:
@@ -55,7 +65,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
     from .figure_files import use_agg
 
     use_agg()
-    from .figures_groups import diverging_bars
+    from .figures_groups import diverging_bars, item_bar_labels
     from .report_content import scale_label
 
     inputs = list(inputs)
@@ -68,28 +78,36 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
         if shape is not None and shape.overall.histogram is not None:
             stem = _save(histogram(shape.overall, title=f"Scores of {label}", x_label=shape.x_label), folder,
                          f"{name}-histogram", inputs=inputs)
+            overall = shape.overall
             figures[("histogram", name)] = FigureBlock(
                 stem, f"Distribution of the {label} scores",
-                f"Histogram of the {shape.overall.n} scores, one bar per attainable score or score interval; "
-                f"shape: {shape.overall.shape or 'not labelled'}.")
+                f"Histogram of the {overall.n} scores, one bar per attainable score or score interval, on the "
+                f"whole possible range from {_v(overall.low)} to {_v(overall.high)}. The middle half of the "
+                f"scores lies between {_v(overall.q1)} and {_v(overall.q3)}, the median is {_v(overall.median)}; "
+                f"the shape reads as {overall.shape or 'not labelled'}.")
         for position, group in enumerate(shape.groups if shape is not None else ()):
             if not group.levels:
                 continue
             stem = _save(box_plots_by_group(shape, column=group.column), folder,
                          f"{name}-by-{_file_part(group.column, position)}-boxplot", inputs=inputs)
+            medians = sorted(group.levels.items(), key=lambda pair: pair[1].median)
             figures[("boxplot", name, group.column)] = FigureBlock(
                 stem, f"{label} by {group.column}",
-                f"Box plots of the scores for each of {len(group.levels)} level(s) of {group.column}: the box spans "
+                f"Box plots of the scores for each of {len(group.levels)} level(s) of {group.column}; the medians "
+                f"run from {_v(medians[0][1].median)} for {medians[0][0]} to {_v(medians[-1][1].median)} for "
+                f"{medians[-1][0]}. The box spans "
                 "the quartiles, the thick line is the median, whiskers reach the last score within 1.5 IQR of "
                 "the box and circles mark scores beyond.")
         if findings.answers is not None and findings.answers.items:
-            stem = _save(diverging_bars(findings.answers, title=f"Answers to the items of {label}"),
+            titles = item_bar_labels(findings.scale.items, findings.scale.wording, findings.scale.reverse)
+            stem = _save(diverging_bars(findings.answers, title=f"Answers to the items of {label}", titles=titles),
                          folder, f"{name}-answers", inputs=inputs)
             figures[("answers", name)] = FigureBlock(
                 stem, f"Answers to the items of {label}",
-                f"Diverging stacked bars, one per item, of the share of each answer ({findings.answers.labels[0]} "
-                f"to {findings.answers.labels[-1]}); answers below the middle of the scale extend to the left, "
-                "above it to the right. Codes as given, before reverse keying.")
+                f"Diverging stacked bars, one per item named with its shortened wording, of the share of each "
+                f"answer from {findings.answers.labels[0]} to {findings.answers.labels[-1]}; answers below the "
+                "middle of the scale extend to the left, above it to the right. Answers as given, before reverse "
+                "keying: reverse-worded items are marked.")
     structure = results.structure
     if structure is not None:
         from .figures_structure import loadings_figure, scree_figure
@@ -108,6 +126,27 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
                 "vermillion negative, darker for larger loadings. The numbers are in the loadings table.")
     return figures
+
+
+def write_single_page(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
+                      progress: Callable[[str], None] = lambda step: None) -> list[Path]:
+    """Write only ``index.html``, every figure inside it: one file to send. The figures are drawn into a
+    temporary folder that is removed afterwards."""
+    import tempfile
+
+    from .html import render_html
+    from .report_content import build_document
+
+    folder = Path(folder)
+    inputs = [p for p in inputs if p is not None]
+    with tempfile.TemporaryDirectory(prefix="scalewright-figures-") as scratch:
+        (Path(scratch) / FIGURES).mkdir()
+        progress("figures")
+        figures = make_figures(results, Path(scratch), inputs=inputs)
+        document = build_document(results, figures=figures, decimals=decimals)
+        progress("pages")
+        page = render_html(document, folder=scratch, companion_files=False)
+    return [write_atomic(folder / "index.html", page, inputs=inputs)]
 
 
 def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),

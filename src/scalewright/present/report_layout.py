@@ -49,7 +49,23 @@ class FigureRow:
     figures: tuple[FigureBlock, ...]
 
 
-Block = Union[Paragraph, Bullets, TableBlock, FigureBlock, FigureRow]
+@dataclass(frozen=True)
+class Findings:
+    """The report's opening list: one plain sentence per finding, each linked to the section that holds its
+    detail (``anchor``)."""
+
+    items: tuple[tuple[str, str], ...]  # (sentence, anchor)
+
+
+@dataclass(frozen=True)
+class Details:
+    """Detail a reader opens on demand: folded on screen, printed expanded. ``summary`` is the one-line label."""
+
+    summary: str
+    blocks: tuple["Block", ...]
+
+
+Block = Union[Paragraph, Bullets, TableBlock, FigureBlock, FigureRow, Findings, Details]
 
 
 @dataclass(frozen=True)
@@ -75,12 +91,17 @@ class ReportDocument:
         """Every figure of the document, in reading order."""
         found: list[FigureBlock] = []
 
-        def walk(section: Section) -> None:
-            for block in section.blocks:
+        def visit(blocks: tuple[Block, ...]) -> None:
+            for block in blocks:
                 if isinstance(block, FigureBlock):
                     found.append(block)
                 elif isinstance(block, FigureRow):
                     found.extend(block.figures)
+                elif isinstance(block, Details):
+                    visit(block.blocks)
+
+        def walk(section: Section) -> None:
+            visit(section.blocks)
             for child in section.subsections:
                 walk(child)
 

@@ -1,12 +1,16 @@
 """The report as Markdown (``report.md``): the same document as the HTML page, figures as files beside it."""
 from __future__ import annotations
 
+import html
+
 from .render import escape_markdown, markdown_table_lines
 from .report_layout import (
     Block,
     Bullets,
+    Details,
     FigureBlock,
     FigureRow,
+    Findings,
     Paragraph,
     ReportDocument,
     Section,
@@ -47,11 +51,20 @@ def _block(block: Block, *, decimals: int, counter: list[int]) -> list[str]:
             counter[0] += 1
             out.extend(_figure(figure, counter[0]))
         return out
+    if isinstance(block, Findings):
+        return [f"{number}. {escape_markdown(text)} [detail](#{anchor})"
+                for number, (text, anchor) in enumerate(block.items, start=1)] + [""]
+    if isinstance(block, Details):
+        out = [f"**{escape_markdown(block.summary)}**", ""]
+        for inner in block.blocks:
+            out.extend(_block(inner, decimals=decimals, counter=counter))
+        return out
     raise TypeError(f"unknown report block {type(block).__name__}")
 
 
 def _section(section: Section, level: int, *, decimals: int, counter: list[int]) -> list[str]:
-    out = [f"{'#' * level} {escape_markdown(section.title)}", ""]
+    # an explicit anchor, so the findings' links resolve whatever slugs the Markdown viewer makes
+    out = [f'<a id="{html.escape(section.anchor, quote=True)}"></a>', "", f"{'#' * level} {escape_markdown(section.title)}", ""]
     for block in section.blocks:
         out.extend(_block(block, decimals=decimals, counter=counter))
     for child in section.subsections:

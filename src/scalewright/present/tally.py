@@ -36,6 +36,13 @@ def tally_sentence(t: Tally) -> str:
     return text
 
 
+def unanswered_sentence(t: Tally) -> str:
+    """The respondents without an answer, in words under the table: ``12 of 390 gave no answer``."""
+    if t.n_missing == 0:
+        return f"All {t.n_total} respondents answered."
+    return f"{t.n_missing} of {t.n_total} gave no answer."
+
+
 def fit_sentence(fit: FitResult, *, decimals: int = 2) -> str:
     """The verdict on representativeness, with the chi-square test in APA style."""
     if fit.verdict is None:
@@ -70,27 +77,26 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
     fits = list(fits) + [None] * (len(tallies) - len(fits))
     tables: list[Table] = []
     for t, fit in zip(tallies, fits):
+        # one row per category: its count and its share of those who answered (a number and a bar); the
+        # running share only where the categories have an order; the unanswered in a sentence below
         with_labels = any(c.label != c.category for c in t.categories)
-        columns = ["category", *(["label"] if with_labels else []), "count", "percent", "valid percent"]
+        share = "share of answered %"
+        running = "running share %"
+        columns = ["category", *(["label"] if with_labels else []), "count", share]
         if t.ordered:
-            columns.append("cumulative percent")
+            columns.append(running)
         hidden = suppressed_text(t.min_cell)
         rows = []
         for c in t.categories:
             row: list[Any] = [c.category, *([c.label] if with_labels else []),
-                              hidden if c.suppressed else c.count, c.percent, c.valid_percent]
+                              hidden if c.suppressed else c.count, c.valid_percent]
             if t.ordered:
                 row.append(c.cumulative_percent)
             rows.append(tuple(row))
-        tail = [None] if t.ordered else []
-        missing_percent = 100.0 * t.n_missing / t.n_total if t.n_total else None
-        rows.append(("missing", *([""] if with_labels else []), t.n_missing, missing_percent, None, *tail))
-        rows.append(("total", *([""] if with_labels else []), t.n_total, 100.0 if t.n_total else None,
-                     100.0 if t.n_valid else None, *tail))
-        kinds = {"category": "text", "label": "text", "count": "int", "percent": "pct", "valid percent": "pct",
-                 "cumulative percent": "pct"}
+        kinds = {"category": "text", "label": "text", "count": "int", share: "bar", running: "pct"}
         tables.append(Table(title=f"Answers: {t.column}", key=f"tally.{t.column}", columns=tuple(columns),
-                            rows=tuple(rows), kinds=kinds, notes=(tally_sentence(t), *t.notes)))
+                            rows=tuple(rows), kinds=kinds,
+                            notes=(unanswered_sentence(t), tally_sentence(t), *t.notes)))
         if fit is not None:
             tables.append(Table(
                 title=f"Against the reference proportions: {t.column}", key=f"fit.{t.column}",
@@ -104,4 +110,4 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
     return tables
 
 
-__all__ = ["fit_sentence", "tally_record", "tally_sentence", "tally_tables"]
+__all__ = ["fit_sentence", "tally_record", "tally_sentence", "tally_tables", "unanswered_sentence"]

@@ -40,8 +40,9 @@ class CategoryCount(ResultMixin):
 
     def to_dict(self) -> dict[str, Any]:
         return to_jsonable({"category": self.category, "label": self.label, "count": self.count,
-                            "suppressed": self.suppressed, "percent": self.percent,
-                            "valid_percent": self.valid_percent, "cumulative_percent": self.cumulative_percent})
+                            "suppressed": self.suppressed, "share_of_all_pct": self.percent,
+                            "share_of_answered_pct": self.valid_percent,
+                            "running_share_pct": self.cumulative_percent})
 
 
 @dataclass(frozen=True)
@@ -74,7 +75,7 @@ class Tally(ResultMixin):
         return to_jsonable({
             "column": self.column, "ordered": self.ordered, "n_total": self.n_total, "n_valid": self.n_valid,
             "missing": {"count": self.n_missing,
-                        "percent": 100.0 * self.n_missing / self.n_total if self.n_total else None},
+                        "share_of_all_pct": 100.0 * self.n_missing / self.n_total if self.n_total else None},
             "min_cell": self.min_cell, "suppressed_shown_as": suppressed_text(self.min_cell),
             "categories": [c.to_dict() for c in self.categories], "notes": list(self.notes)})
 

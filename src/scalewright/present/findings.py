@@ -1,0 +1,91 @@
+"""The report's findings in plain sentences: what was found first, the statistics in brackets after it.
+
+The findings are chosen in :mod:`scalewright.analyses.findings`; this module only words them. Sentences carry
+no nested brackets: the statistics follow a colon inside one pair.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+from ..analyses.findings import Finding
+from .numbers import format_value
+
+_SYMBOL = {"Hedges' g": "g", "rank-biserial r": "r", "omega-squared": "ω²", "epsilon-squared": "ε²"}
+_BOUNDED = {"rank-biserial r", "omega-squared", "epsilon-squared"}
+
+
+def _b(value: float, decimals: int = 2) -> str:
+    return format_value(value, "bounded", decimals)
+
+
+def _p(value: float, holm: bool) -> str:
+    text = format_value(value, "p")
+    prefix = "Holm-adjusted p" if holm else "p"
+    return f"{prefix} {text}" if text.startswith("<") else f"{prefix} = {text}"
+
+
+def _join(names: Sequence[str]) -> str:
+    names = list(names)
+    return names[0] if len(names) == 1 else ", ".join(names[:-1]) + " and " + names[-1]
+
+
+def _difference(values: dict, decimals: int) -> str:
+    name = values["effect_name"]
+    kind = "bounded" if name in _BOUNDED else "num"
+    stats = (f"{values['magnitude']} difference: {_SYMBOL.get(name, name)} = "
+             f"{format_value(values['effect'], kind, decimals)}, {_p(values['pvalue'], values['holm'])}")
+    column, title = values["column"], values["title"]
+    if values["n_levels"] == 2:
+        return (f"Respondents with {column} {values['highest']} score higher on {title} than those with "
+                f"{column} {values['lowest']} ({stats}).")
+    return (f"{title} differs by {column}: highest for {values['highest']}, lowest for {values['lowest']} "
+            f"({stats}).")
+
+
+def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
+    """One finding as one or two plain sentences."""
+    v = finding.values
+    code = finding.code
+    if code == "set-aside":
+        source = f" as listed in {v['source']}" if v.get("source") else ""
+        return (f"{v['n_excluded']} of {v['n_read']} respondents were set aside{source}; everything below "
+                f"describes the other {v['n_analysed']}.")
+    if code == "scales-reliable":
+        scales = v["scales"]
+        listed = ", ".join(f"{s['title']} {_b(s['alpha'], decimals)}" for s in scales)
+        subject = "The scale" if len(scales) == 1 else f"{len(scales)} scales"
+        verb = "is" if len(scales) == 1 else "are"
+        return (f"{subject} {verb} consistent enough to describe groups (alpha: {listed}; "
+                f"{_b(v['threshold'])} or more by convention).")
+    if code == "scale-unreliable":
+        return (f"{v['title']} is not consistent enough in this sample (alpha = {_b(v['alpha'], decimals)}, below "
+                f"{_b(v['threshold'])}): read its scores with care.")
+    if code == "group-difference":
+        return _difference(v, decimals)
+    if code == "more-differences":
+        return f"{v['n_more']} further subgroup difference(s) of this kind are in the scales' subgroup sections."
+    if code == "no-group-difference":
+        return (f"None of the {v['n_comparisons']} subgroup comparisons shows a difference that is both clear "
+                f"beyond chance and at least small (by {_join(list(v['columns']))}).")
+    if code == "item-miskey-suspect":
+        return (f"Item {v['item']} runs against the rest of {v['title']}: check whether it should be "
+                "reverse-keyed before using the score.")
+    if code == "item-weak-item":
+        return (f"Item {v['item']} agrees little with the rest of {v['title']} "
+                f"(item-rest r = {_b(v['value'], decimals)}): check its wording.")
+    if code in ("floor-effect", "ceiling-effect"):
+        end = "lowest" if code == "floor-effect" else "highest"
+        return (f"Many respondents sit at the {end} possible {v['title']} score "
+                f"({format_value(v['share_pct'], 'pct')}%): the scale cannot tell them apart.")
+    if code == "bimodal-scores":
+        return f"{v['title']} scores form two clusters rather than one peak: one average describes them poorly."
+    if code == "screen-flagged":
+        return (f"The careless-responding screen flagged {v['n_flagged']} of {v['n']} respondents "
+                f"({format_value(v['share_pct'], 'pct')}%); they are kept in every analysis as records to look at "
+                "again.")
+    raise ValueError(f"no wording for finding {code!r}")
+
+
+def finding_items(findings: Sequence[Finding], *, decimals: int = 2) -> tuple[tuple[str, str], ...]:
+    """(sentence, anchor) pairs for the report's Findings block."""
+    return tuple((finding_sentence(f, decimals=decimals), f.anchor) for f in findings)
