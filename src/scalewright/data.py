@@ -46,13 +46,7 @@ MISSING_CELLS = "scalewright_missing_cells"  # frame.attrs key: the cells read_t
 
 def sniff_delimiter(header_line: str) -> str:
     """The delimiter among , ; and tab that occurs most in the header line (outside quotes)."""
-    outside, quoted = [], False
-    for char in header_line:
-        if char == '"':
-            quoted = not quoted
-        elif not quoted:
-            outside.append(char)
-    text = "".join(outside)
+    text = re.sub(r'"[^"]*(?:"|$)', "", header_line)  # quoted parts, each up to its closing quote or the end
     counts = {d: text.count(d) for d in DELIMITERS}
     best = max(counts, key=lambda d: counts[d])
     return best if counts[best] > 0 else ","
@@ -367,6 +361,17 @@ class Responses:
             out.append(f"{texts} cell(s) holding a 'no answer' text were read as missing: {detail}")
         return out
 
+    def missing_texts_note(self, spec: ScaleSpec) -> str:
+        """Which texts were read as "no answer" (the scale file's ``missing_texts`` or the default)."""
+        def shown(texts: Sequence[str]) -> str:
+            return ", ".join(quoted(t) for t in texts) if texts else "none"
+
+        differ = [f"{scale.name}: {shown(scale.response.missing_texts)}" for scale in spec.scales.values()
+                  if scale.response.missing_texts != spec.missing_texts]
+        return (f"texts read as 'no answer' (missing_texts): {shown(spec.missing_texts)}"
+                + (f"; in the items of {'; '.join(differ)}" if differ else "")
+                + "; blank cells and 'no answer' codes are missing too, every other text is data")
+
     def reading_summary(self) -> dict[str, Any]:
         return {
             "rows": self.n,
@@ -498,7 +503,8 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, 
         n = table.num_rows
     start = first_row_number(path)
     line_numbers = np.arange(start, start + n) if row_numbers is None else np.asarray(row_numbers)
-    rest, other_missing = clear_missing_texts(rest, spec.missing_texts, skip=[spec.id_column] if spec.id_column else ())
+    rest, other_missing = clear_missing_texts(rest, spec.missing_texts, skip=[spec.id_column] if spec.id_column else (),
+                                              count_blank=spec.groups)
     with ThreadPoolExecutor(max_workers=worker_count()) as pool:
         # the id check and the item columns are independent; both release the interpreter lock
         ids_checked = pool.submit(_check_ids, path, rest, spec.id_column, line_numbers)

@@ -155,10 +155,11 @@ def frame_from_table(table):
     """An Arrow table as a pandas frame, typed as ``pandas.read_csv`` would type it, names stripped."""
     import pyarrow as pa
 
-    for position, column_type in enumerate(table.schema.types):
-        if pa.types.is_null(column_type):  # an all-blank column: pandas reads it as float64 NaN
-            table = table.set_column(position, table.field(position).with_type(pa.float64()),
-                                     table.column(position).cast(pa.float64()))
+    if any(pa.types.is_null(column_type) for column_type in table.schema.types):
+        # an all-blank column: pandas reads it as float64 NaN (one cast of the whole table: a file may have
+        # thousands of such columns)
+        table = table.cast(pa.schema([field.with_type(pa.float64()) if pa.types.is_null(field.type) else field
+                                      for field in table.schema]))
     import pandas as pd
 
     frame = table.to_pandas()

@@ -237,7 +237,8 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     if structure is None:
         notes.append("the structure needs at least two items; it was not analysed")
     return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,
-                         reading=responses.reading_summary(), input_notes=tuple(input_notes),
+                         reading=responses.reading_summary(),
+                         input_notes=(*input_notes, responses.missing_texts_note(spec)),
                          score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
                          notes=tuple(notes))

@@ -139,6 +139,23 @@ def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | No
 SCORE_FILE_TYPES = (".csv", ".xlsx", ".parquet")
 
 
+def _refuse_what_a_cell_cannot_hold(frame: pd.DataFrame, target: Path) -> None:
+    """An XLSX cell cannot hold control characters (XML forbids them): refuse, naming the first, before writing."""
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+
+    for column in frame.columns:
+        if not (frame[column].dtype == object or pd.api.types.is_string_dtype(frame[column].dtype)):
+            continue
+        holds = frame[column].map(lambda value: isinstance(value, str) and ILLEGAL_CHARACTERS_RE.search(value) is not None)
+        if holds.any():
+            from .errors import DataError, quoted
+
+            first = int(holds.to_numpy().argmax())
+            raise DataError(f"cannot write {target}: {column} {quoted(frame[column].iloc[first])} (row {first + 1} of "
+                            f"the scores) holds a control character, which an XLSX cell cannot hold; "
+                            "write .csv or .parquet instead")
+
+
 def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path] = ()) -> Path:
     """Write the scored file as CSV, XLSX or Parquet (by extension), atomically, never over an input.
 
@@ -154,6 +171,7 @@ def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str 
     if suffix == ".csv":
         return write_atomic(target, frame.to_csv(index=False, lineterminator="\n"), inputs=inputs)
     if suffix == ".xlsx":
+        _refuse_what_a_cell_cannot_hold(frame, target)
         return write_atomic_with(target, lambda tmp: frame.to_excel(tmp, index=False, engine="openpyxl"),
                                  inputs=inputs)
     return write_atomic_with(target, lambda tmp: frame.to_parquet(tmp, index=False), inputs=inputs)

@@ -37,10 +37,11 @@ class MissingCells:
     texts: dict[str, dict[str, int]] = field(default_factory=dict)
 
 
-def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *,
-                        skip: Sequence[str] = ()) -> tuple[pd.DataFrame, MissingCells]:
+def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *, skip: Sequence[str] = (),
+                        count_blank: Sequence[str] | None = None) -> tuple[pd.DataFrame, MissingCells]:
     """``frame`` with blank text cells and cells holding one of ``missing_texts`` missing (a copy where
-    changed); and how many cells of each column were read as missing.
+    changed); and how many cells were read as missing: listed texts in every column, blank cells in the
+    columns of ``count_blank`` (default: every column).
 
     A text column whose remaining cells are all plain numbers becomes numeric, as the parser would have
     typed it without those cells. Columns in ``skip`` (ids) are left exactly as read.
@@ -48,30 +49,27 @@ def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *,
     listed = {normalise(text): text for text in missing_texts}
     found = MissingCells()
     changed: dict[str, pd.Series] = {}
-    for name in frame.columns:
-        if name in skip:
-            continue
+    for name, dtype in zip(frame.columns, frame.dtypes):
+        counted = count_blank is None or name in count_blank
+        if name in skip or not (counted or dtype == object or pd.api.types.is_string_dtype(dtype)):
+            continue  # a numeric column holds no text; its blanks are counted only when asked for
         column = frame[name]
-        if column.dtype == object or pd.api.types.is_string_dtype(column.dtype):
+        if dtype == object or pd.api.types.is_string_dtype(dtype):
             cleared, texts = _clear_column(column, listed)
             if texts:
                 found.texts[name] = texts
             if cleared is not column:
                 changed[name] = cleared
                 column = cleared
-        blank = int(column.isna().sum()) - sum(found.texts.get(name, {}).values())
-        if blank:
-            found.blank[name] = blank
+        if counted:
+            blank = int(column.isna().sum()) - sum(found.texts.get(name, {}).values())
+            if blank:
+                found.blank[name] = blank
     if changed:
-        frame = frame.assign(**changed) if all(isinstance(c, str) for c in changed) else _replaced(frame, changed)
+        frame = frame.copy()
+        for name, column in changed.items():
+            frame[name] = column
     return frame, found
-
-
-def _replaced(frame: pd.DataFrame, changed: dict) -> pd.DataFrame:
-    frame = frame.copy()
-    for name, column in changed.items():
-        frame[name] = column
-    return frame
 
 
 def _clear_column(column: pd.Series, listed: dict[str, str]) -> tuple[pd.Series, dict[str, int]]:

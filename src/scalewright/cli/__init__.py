@@ -8,7 +8,7 @@ import sys
 import click
 
 from .. import __version__
-from ..errors import ScalewrightError
+from ..errors import ScalewrightError, one_line
 
 #: command name -> module of this package that defines a click command of the same name
 COMMANDS = {
@@ -58,13 +58,13 @@ def main(argv: list[str] | None = None) -> int:
     try:
         returned = cli.main(args=argv, prog_name="scalewright", standalone_mode=False)
     except ScalewrightError as error:
-        click.echo(f"error: {error}", err=True)
+        click.echo(f"error: {one_line(str(error))}", err=True)
         return error.exit_code
     except click.exceptions.Abort:
         click.echo("error: interrupted", err=True)
         return 130
     except click.ClickException as error:
-        click.echo(f"error: {error.format_message()}", err=True)
+        click.echo(f"error: {one_line(error.format_message())}", err=True)
         return 2
     except click.exceptions.Exit as done:
         return done.exit_code
@@ -77,13 +77,13 @@ def main(argv: list[str] | None = None) -> int:
         click.echo("error: out of memory; try a smaller file or fewer scales", err=True)
         return 1
     except OSError as error:
-        click.echo(f"error: {error.strerror or error}: {error.filename or ''}".rstrip(": "), err=True)
+        click.echo(one_line(f"error: {error.strerror or error}: {error.filename or ''}".rstrip(": ")), err=True)
         return 1
     except Exception as error:  # the last line of defence: a bug must not show a user a traceback
         if os.environ.get("SCALEWRIGHT_DEBUG"):
             raise
-        click.echo(f"error: internal error ({type(error).__name__}: {error}); please report it with the "
-                   "command you ran (set SCALEWRIGHT_DEBUG=1 to see the details)", err=True)
+        click.echo(one_line(f"error: internal error ({type(error).__name__}: {str(error)[:200]}); please report it "
+                            "with the command you ran (set SCALEWRIGHT_DEBUG=1 to see the details)"), err=True)
         return 70
     # without standalone mode click hands back the code of ctx.exit(); a finished command returns None
     return returned if isinstance(returned, int) else 0

@@ -37,7 +37,23 @@ def output_options(fn: Callable) -> Callable:
     return fn
 
 
+def _remember_sheet(ctx: click.Context, _param: click.Parameter, value: str | None) -> None:
+    ctx.meta["scalewright.sheet"] = value
+
+
+def chosen_sheet() -> str | None:
+    """The ``--sheet`` of the running command (kept in the click context, so no command's signature changes)."""
+    ctx = click.get_current_context(silent=True)
+    return ctx.meta.get("scalewright.sheet") if ctx is not None else None
+
+
+def sheet_option(fn: Callable) -> Callable:
+    return click.option("--sheet", metavar="NAME", expose_value=False, callback=_remember_sheet,
+                        help="The sheet to read from a workbook (.xlsx) with several.")(fn)
+
+
 def input_options(fn: Callable) -> Callable:
+    fn = sheet_option(fn)
     fn = click.option("--exclude", type=click.Path(dir_okay=False, path_type=Path),
                       help="File of respondent ids to set aside (one per line, or a CSV whose first column holds them).")(fn)
     fn = click.option("--lenient", is_flag=True,
@@ -72,7 +88,7 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
     # beside the parse instead of after it
     with ThreadPoolExecutor(max_workers=1) as pool:
         digests = pool.submit(InputInfo.from_paths, data, scales)
-        responses = read_responses(data, spec, lenient=lenient)
+        responses = read_responses(data, spec, lenient=lenient, sheet=chosen_sheet())
         info = digests.result()
     notes: list[str] = list(responses.notes())
     excluded = 0

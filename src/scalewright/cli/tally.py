@@ -32,11 +32,21 @@ def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dic
 
 
 def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
-    from ..data import read_table
+    from ..data import MISSING_CELLS, read_table
     from ..present.document import InputInfo
+    from ..spec import DEFAULT_MISSING_TEXTS
+    from .common import chosen_sheet
 
-    frame = read_table(data)
-    return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=()), frame
+    # without a scale file the default "no answer" texts apply, as they would with one that lists none
+    frame = read_table(data, sheet=chosen_sheet(), missing_texts=DEFAULT_MISSING_TEXTS)
+    found = frame.attrs.get(MISSING_CELLS)
+    notes = ()
+    if found is not None and found.texts:
+        detail = "; ".join(f"{column}: " + ", ".join(f"{text!r} {n}" for text, n in counts.items())
+                           for column, counts in found.texts.items())
+        notes = (f"cells holding a 'no answer' text ({', '.join(DEFAULT_MISSING_TEXTS)}) were read as missing: "
+                 f"{detail}",)
+    return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=notes), frame
 
 
 @click.command("tally")

@@ -307,16 +307,19 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
 
 def _reading_table(results: Any) -> Table:
     reading = results.reading
+    listed = reading.get("missing_texts_by_column", {})
     columns = list(dict.fromkeys([*reading.get("refused_by_column", {}), *reading.get("missing_code_by_column", {}),
-                                  *reading.get("blank_by_column", {}), *reading.get("texts_by_column", {})]))
+                                  *reading.get("blank_by_column", {}), *reading.get("texts_by_column", {}), *listed]))
     rows = tuple((column, reading.get("blank_by_column", {}).get(column, 0),
                   reading.get("missing_code_by_column", {}).get(column, 0),
+                  sum(listed.get(column, {}).values()),
                   reading.get("texts_by_column", {}).get(column, 0),
                   reading.get("refused_by_column", {}).get(column, 0)) for column in columns)
     return Table(title="What reading the data changed, by column",
-                 columns=("column", "blank", "'no answer' code", "answer text read as its code",
+                 columns=("column", "blank", "'no answer' code", "'no answer' text", "answer text read as its code",
                           "refused (set to missing)"),
                  rows=rows, kinds={"column": "text", "blank": "int", "'no answer' code": "int",
+                                   "'no answer' text": "int",
                                    "answer text read as its code": "int", "refused (set to missing)": "int"},
                  notes=() if rows else ("every value was a plain answer code",), key="reading")
 

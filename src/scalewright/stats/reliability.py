@@ -419,11 +419,9 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     k = matrix.shape[1]
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
     levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
-    # rating answers take few values: their counts are sufficient for n, mean and sd; one whole-matrix
-    # comparison per level (row-major friendly) instead of a pass per item and level
-    keyed_levels = _keyed_levels(levels, low, high, reversed_mask)
-    tally = np.array([np.count_nonzero(matrix == keyed_levels[l], axis=0) for l in range(levels.size)],
-                     dtype=np.int64).reshape(levels.size, k).T  # (k, L)
+    # rating answers take few values: their counts are sufficient for n, mean and sd; counted in one pass
+    # per item (bincount), whatever the number of levels
+    tally = answer_level_counts(matrix, levels=levels, low=low, high=high, reversed_mask=reversed_mask)
     n = np.count_nonzero(~np.isnan(matrix), axis=0).astype(np.int64)
     described = item_descriptives_from_tally(tally, n_rows=matrix.shape[0], low=low, high=high,
                                              reversed_mask=reversed_mask, n_answered=n)
@@ -435,6 +433,25 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
         mean[j] = answered.mean()
         sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
     return replace(described, mean=mean, sd=sd)
+
+
+def answer_level_counts(keyed: np.ndarray, *, levels: np.ndarray, low: float, high: float,
+                        reversed_mask: np.ndarray) -> np.ndarray:
+    """(k, L) counts of each answer level (as given, before keying) of every item, in one pass per item.
+
+    Answers off the levels (between them or outside) and missing answers are not counted.
+    """
+    k = keyed.shape[1]
+    tally = np.zeros((k, levels.size), dtype=np.int64)
+    if not levels.size:
+        return tally
+    for j in range(k):
+        column = keyed[:, j]
+        given = (low + high - column) if reversed_mask[j] else column
+        offsets = given - levels[0]
+        on_level = (offsets >= 0) & (offsets < levels.size) & (offsets == np.floor(offsets))  # NaN is False
+        tally[j] = np.bincount(offsets[on_level].astype(np.int64), minlength=levels.size)
+    return tally
 
 
 def _keyed_levels(levels: np.ndarray, low: float, high: float, reversed_mask: np.ndarray) -> np.ndarray:
