@@ -290,3 +290,27 @@ def test_one_factor_ml_fit_matches_factor_analyzer():
     assert fit.method == "ml" and fit.converged
     np.testing.assert_allclose(fit.standardized_loadings, reference, rtol=1e-4)
     np.testing.assert_allclose(fit.uniquenesses / np.diag(cov), model.get_uniquenesses(), rtol=1e-3)
+
+
+def test_answer_level_counts_of_a_wide_range_match_numpy():
+    from scalewright.stats.reliability import answer_level_counts, item_descriptives
+
+    # a 0..1000 range (the widest allowed), one reverse-keyed item, answers off the levels and missing
+    rng = np.random.default_rng(14)
+    given = rng.integers(0, 1001, size=(3000, 3)).astype(float)
+    given[rng.random(given.shape) < 0.1] = np.nan
+    given[5, 1] = 2.5
+    reversed_mask = np.array([False, True, False])
+    keyed = np.where(reversed_mask, 1000 - given, given)
+    levels = np.arange(0, 1001).astype(float)
+    counts = answer_level_counts(keyed, levels=levels, low=0, high=1000, reversed_mask=reversed_mask)
+    for j in range(3):
+        column = given[:, j]
+        whole = column[~np.isnan(column) & (column == np.floor(column))].astype(int)
+        # reference: numpy's unique counts of the answers as given
+        values, reference = np.unique(whole, return_counts=True)
+        np.testing.assert_array_equal(counts[j, values], reference)
+        assert counts[j].sum() == reference.sum()
+    described = item_descriptives(keyed, low=0, high=1000, reversed_mask=reversed_mask)
+    assert described.off_level == 1
+    np.testing.assert_allclose(described.mean, np.nanmean(keyed, axis=0))  # reference: numpy

@@ -196,3 +196,16 @@ def test_unknown_output_type_is_a_usage_error(scored, tmp_path):
     *_, table = scored
     with pytest.raises(UsageError, match=r"\.csv, \.xlsx or \.parquet"):
         write_scores(table, tmp_path / "s.sav")
+
+
+def test_control_characters_in_ids_are_refused_before_an_xlsx_is_written(write_file, tmp_path, capsys):
+    from scalewright.cli import main
+
+    from .conftest import BASIC_SCALES
+
+    data = write_file("d.csv", "staff_id,shift,wl1,wl2,wl3,st1,st2\n\"s\x01\",day,1,2,3,4,5\ns2,day,1,2,3,4,5\n")
+    code = main(["score", str(data), "--scales", str(write_file("s.yaml", BASIC_SCALES)),
+                 "--out", str(tmp_path / "o.xlsx")])
+    err = capsys.readouterr().err
+    assert code == 4 and err.count("\n") == 1 and "control character" in err and "'s\\x01'" in err
+    assert not (tmp_path / "o.xlsx").exists()
