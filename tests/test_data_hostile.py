@@ -236,3 +236,35 @@ def test_ordered_numeric_levels_match_decimals_in_the_file(write_file, monkeypat
         assert list(levels.astype(object).fillna("-")) == ["3", "1", "5", "-"]
     with pytest.raises(DataError, match="'3.5' is not one of the levels"):
         read_responses(write_file("e.csv", "id,grp,a,b,c\np1,3.5,1,2,3\n"), spec)
+
+
+def test_no_library_warning_reaches_stderr_on_success(tmp_path, write_file):
+    # run as a user runs it: a fresh interpreter with Python's default warning filters, not pytest's
+    import os
+    import subprocess
+    import sys
+
+    import openpyxl
+
+    book = openpyxl.Workbook()
+    sheet = book.active
+    for row in [["id", "grp", "a", "b", "c"], ["00017", "None", 1, 2, 3], ["12345678901234567890", "NA", 2, 3, 4]]:
+        sheet.append(row)
+    book.save(tmp_path / "d.xlsx")
+    scales = write_file("s.yaml", SCALES)
+    env = {**os.environ, "PYTHONPATH": os.pathsep.join(sys.path)}
+    for data in (tmp_path / "d.xlsx",):  # a CSV's warnings are errors in-process (see pyproject.toml)
+        done = subprocess.run([sys.executable, "-m", "scalewright", "score", str(data), "-s", str(scales), "--out",
+                               str(tmp_path / f"o_{data.suffix[1:]}.csv")], capture_output=True, text=True, env=env,
+                              timeout=120)
+        assert done.returncode == 0, done.stderr
+        assert "Warning" not in done.stderr and all(line.startswith(("wrote ", "note: ")) or not line
+                                                    for line in done.stderr.splitlines()), done.stderr
+
+
+def test_the_report_notes_which_texts_were_read_as_missing(write_file):
+    spec = load_spec(write_file("s.yaml", FREQUENCY.replace("use: {items: [a, b]}", "use: {items: [a, b]}\n"
+                                                            "  other: {items: [c], response: {missing_texts: [skip]}}")))
+    responses = read_responses(write_file("d.csv", "id,grp,a,b,c\np1,x,None,NA,skip\n"), spec)
+    note = responses.missing_texts_note(spec)
+    assert "'NA', 'N/A', '#N/A'" in note and "in the items of other: 'skip'" in note
