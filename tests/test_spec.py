@@ -68,6 +68,7 @@ def test_misspelled_keys_get_a_suggestion_and_a_line(write_file):
     ("items: [x, y]\nmin_answered: 0.0\n", "fraction must lie in (0, 1]"),
     ("items: [x, y]\nmin_answered: half\n", "whole count of items"),
     ("items: [x, y]\nmin_answered: true\n", "whole count of items"),
+    ("items: [x, y]\nmin_answered: 0x2\n", "whole count of items"),
     ("items: [x, y]\nwording: {q: text}\n", "'q' is not one of this scale's items"),
     ("title: no items\n", "needs a list of `items`"),
 ])

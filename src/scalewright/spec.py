@@ -488,7 +488,8 @@ class _Checker:
 
     def min_answered(self, node: yaml.Node, where: str, k: int) -> int | float | None:
         value = self.scalar(node) if isinstance(node, yaml.ScalarNode) else None
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or \
+                not PLAIN_DECIMAL.fullmatch(str(node.value).strip()):
             self.problem(node, where, "min_answered must be a whole count of items (1..k) or a fraction in (0, 1]")
             return None
         if isinstance(value, int):
