@@ -34,7 +34,7 @@ def spec(tmp_path_factory):
     return load_spec(path)
 
 
-@settings(max_examples=35, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
+@settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture,
                                                                   HealthCheck.too_slow])
 @given(rows=st.lists(st.tuples(CELLS, CELLS, CELLS), min_size=0, max_size=6),
        sep=st.sampled_from([",", ";", "\t"]), line_end=st.sampled_from(["\n", "\r\n"]))

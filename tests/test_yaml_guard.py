@@ -69,7 +69,7 @@ YAML_PIECES = st.sampled_from(["version: 1\n", "title: T\n", "response: ", "{min
                                "\t", "\x00", "\u2028", "~", "null", "5000000", "-", "?"])
 
 
-@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@settings(max_examples=80, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(st.lists(YAML_PIECES, max_size=40))
 def test_fuzzed_scale_files_end_in_a_spec_or_one_line_problems(tmp_path_factory, pieces):
     # property: whatever the text, the reader returns a spec or problems, each one line; it never raises
