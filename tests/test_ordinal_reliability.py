@@ -64,13 +64,14 @@ def test_reverse_keyed_items_give_the_same_reliabilities(sample) -> None:
 
 def test_advice_names_few_options_and_skewed_items() -> None:
     symmetric = np.array([[10, 20, 40, 20, 10], [12, 18, 40, 18, 12]])
-    assert ordinal_advice(symmetric, 5, ["a", "b"]) is None
-    few = ordinal_advice(symmetric[:, 1:4], 4, ["a", "b"])
-    assert few is not None and few.code == "ordinal-advised" and few.values["few_options"]
-    # answers piled at the top: skewness about -1.6 (scipy.stats.skew on the expanded answers)
+    assert ordinal_advice(symmetric, 5, ["a", "b"]) == ()
+    # Rhemtulla et al. (2012): fewer than five options call for ordinal methods
+    (few,) = ordinal_advice(symmetric[:, 1:4], 4, ["a", "b"])
+    assert few.code == "ordinal-few-options" and few.values["options"] == 4
+    # answers piled at the top: skewness about -1.6, computed live by scipy.stats.skew on the answers
     from scipy.stats import skew
 
     piled = np.array([[2, 3, 5, 20, 70], [10, 20, 40, 20, 10]])
-    advice = ordinal_advice(piled, 5, ["a", "b"])
-    assert advice is not None and advice.values["skewed_items"] == ("a",)
-    assert advice.values["max_abs_skewness"] == pytest.approx(abs(skew(np.repeat(np.arange(5), piled[0]))))
+    (skewed,) = ordinal_advice(piled, 5, ["a", "b"])
+    assert skewed.code == "ordinal-skewed-items" and skewed.values["items"] == ("a",)
+    assert skewed.values["max_abs_skewness"] == pytest.approx(abs(skew(np.repeat(np.arange(5), piled[0]))))

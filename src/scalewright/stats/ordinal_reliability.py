@@ -184,12 +184,13 @@ def _skewness(tally: np.ndarray) -> float:
     return float(m3 / m2**1.5) if m2 > 0 else math.nan
 
 
-def ordinal_advice(tallies: np.ndarray, n_options: int, item_names: Sequence[str]) -> Note | None:
-    """A note recommending ordinal methods when the answers call for them, else None.
+def ordinal_advice(tallies: np.ndarray, n_options: int, item_names: Sequence[str]) -> tuple[Note, ...]:
+    """Notes recommending ordinal methods when the answers call for them (empty when they do not).
 
-    Called for when there are fewer than :data:`FEW_OPTIONS` answer options, or when an item is
-    strongly skewed (|skewness| of its answers above :data:`STRONG_SKEW`, common practice, no source);
-    Rhemtulla et al. (2012) found treating such answers as continuous biases loadings and correlations.
+    ``ordinal-few-options``: fewer than :data:`FEW_OPTIONS` answer options; ``ordinal-skewed-items``: items
+    whose answers have |skewness| above :data:`STRONG_SKEW` (common practice, no source). Rhemtulla et
+    al. (2012) found that treating such answers as continuous biases correlations and loadings, and that
+    estimates from polychoric correlations do not share that bias.
 
     References
     ----------
@@ -198,9 +199,11 @@ def ordinal_advice(tallies: np.ndarray, n_options: int, item_names: Sequence[str
     """
     skews = [_skewness(np.asarray(t, dtype=float)) for t in tallies]
     skewed = tuple(name for name, s in zip(item_names, skews) if np.isfinite(s) and abs(s) > STRONG_SKEW)
-    few = n_options < FEW_OPTIONS
-    if not few and not skewed:
-        return None
-    largest = max((abs(s) for s in skews if np.isfinite(s)), default=math.nan)
-    return note("ordinal-advised", options=int(n_options), few_options=few, skewed_items=skewed,
-                max_abs_skewness=largest, min_options=FEW_OPTIONS, skew_limit=STRONG_SKEW)
+    notes = []
+    if n_options < FEW_OPTIONS:
+        notes.append(note("ordinal-few-options", options=int(n_options), min_options=FEW_OPTIONS))
+    if skewed:
+        largest = max(abs(s) for s in skews if np.isfinite(s))
+        notes.append(note("ordinal-skewed-items", items=skewed, n_items=len(skewed), max_abs_skewness=largest,
+                          skew_limit=STRONG_SKEW))
+    return tuple(notes)
