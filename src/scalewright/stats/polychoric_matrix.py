@@ -20,7 +20,7 @@ from .pair_tables import PairTables, pair_tables
 from .polychoric import polychoric_pairs, thresholds_from_counts
 
 __all__ = ["PolychoricMatrix", "nearest_correlation", "polychoric_matrix", "polychoric_of_codes",
-           "SMOOTHING_FLOOR"]
+           "smoothed_if_needed", "SMOOTHING_FLOOR"]
 
 #: smallest eigenvalue a smoothed matrix is given: positive definite, yet as near the estimate as possible
 SMOOTHING_FLOOR = 1e-6
@@ -123,6 +123,20 @@ def nearest_correlation(matrix: np.ndarray, *, floor: float = SMOOTHING_FLOOR, t
     return (y + y.T) / 2.0
 
 
+def smoothed_if_needed(correlation: np.ndarray) -> tuple[np.ndarray, Note | None]:
+    """The matrix itself when positive definite (smallest eigenvalue >= :data:`SMOOTHING_FLOOR`), else
+    :func:`nearest_correlation` and a ``polychoric-smoothed`` note; a matrix with NaN is left as it is."""
+    correlation = np.asarray(correlation, dtype=float)
+    if correlation.shape[0] < 2 or not np.isfinite(correlation).all():
+        return correlation.copy(), None
+    smallest = float(np.linalg.eigvalsh(correlation)[0])
+    if smallest >= SMOOTHING_FLOOR:
+        return correlation.copy(), None
+    nearest = nearest_correlation(correlation)
+    return nearest, note("polychoric-smoothed", min_eigenvalue=smallest,
+                         max_change=float(np.abs(nearest - correlation).max()), floor=SMOOTHING_FLOOR)
+
+
 def _pair_names(items: Sequence[str], pairs: np.ndarray) -> tuple[str, ...]:
     return tuple(f"{items[i]}/{items[j]}" for i, j in pairs)
 
@@ -173,16 +187,10 @@ def polychoric_matrix(tables: PairTables, *, item_names: Sequence[str], pairwise
     estimated[single, single] = np.nan
     pair_n = tables.pair_counts()
     n_used = int(pair_n.min()) if pairwise and k else tables.n_rows if k else 0
-    correlation = estimated.copy()
-    smoothed = False
-    if smooth and k >= 2 and np.isfinite(estimated).all():
-        smallest = float(np.linalg.eigvalsh(estimated)[0])
-        if smallest < SMOOTHING_FLOOR:
-            correlation = nearest_correlation(estimated)
-            smoothed = True
-            notes.append(note("polychoric-smoothed", min_eigenvalue=smallest,
-                              max_change=float(np.abs(correlation - estimated).max()),
-                              floor=SMOOTHING_FLOOR))
+    correlation, smoothing = smoothed_if_needed(estimated) if smooth else (estimated.copy(), None)
+    smoothed = smoothing is not None
+    if smoothing is not None:
+        notes.append(smoothing)
     thresholds = tuple(thresholds_from_counts(row) for row in tallies)
     return PolychoricMatrix(items=items, correlation=correlation, estimated=estimated, se=se, pair_n=pair_n,
                             thresholds=thresholds, n_used=n_used, pairwise=pairwise, smoothed=smoothed,
