@@ -2,11 +2,15 @@
 from __future__ import annotations
 
 from collections.abc import Iterable
+from typing import TYPE_CHECKING
 
 from ..notes import Note, note
 from .messages import describe
 from .numbers import format_value
 from .table import Table
+
+if TYPE_CHECKING:
+    from ..stats.ordinal_reliability import OrdinalReliability
 
 
 def ordinal_sentence(item: Note) -> str:
@@ -28,7 +32,7 @@ def ordinal_sentences(notes: Iterable[Note]) -> tuple[str, ...]:
     return tuple(ordinal_sentence(n) for n in notes)
 
 
-def ordinal_reliability_table(name: str, title: str, result: object) -> Table:
+def ordinal_reliability_table(name: str, title: str, result: "OrdinalReliability") -> Table:
     """One scale's ordinal alpha, ordinal omega and sum-score reliability, with the note saying which to report."""
     columns = ("scale", "missing", "n used", "k", "ordinal alpha", "ordinal omega", "sum-score reliability")
     row = (name, result.missing_handling, result.n_used, result.k, result.alpha, result.omega,

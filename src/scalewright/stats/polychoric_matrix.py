@@ -112,7 +112,7 @@ def nearest_correlation(matrix: np.ndarray, *, floor: float = SMOOTHING_FLOOR, t
         correction = x - r
         previous, y = y, x.copy()
         np.fill_diagonal(y, 1.0)
-        if np.linalg.norm(y - previous) <= tolerance * max(np.linalg.norm(y), 1.0):
+        if float(np.linalg.norm(y - previous)) <= tolerance * max(float(np.linalg.norm(y)), 1.0):
             break
     # the last projection restored the unit diagonal; rescale so eigenvalues stay >= floor / 2 exactly
     values, vectors = np.linalg.eigh(y)
