@@ -120,3 +120,17 @@ def test_answers_off_the_whole_levels_are_refused(write_file, capsys) -> None:
     assert main(["reliability", str(data), "--scales", str(scales), "--ordinal", "-f", "json"]) == 2
     err = capsys.readouterr().err
     assert err.startswith("error: --ordinal needs answers that are whole levels")
+
+
+def test_dwls_inputs_for_the_confirmatory_models(files) -> None:
+    from scalewright.analyses.ordinal import dwls_inputs
+    from scalewright.cli.common import load_inputs
+
+    data, scales = files
+    inputs = load_inputs(data, scales)
+    correlation, weights, n_used, matrix = dwls_inputs(inputs.responses, ["m1", "m2", "m3", "m4"], ["m4"])
+    assert n_used == 2000 and correlation.shape == weights.shape == (4, 4)
+    assert correlation[0, 3] > 0  # m4 keyed back
+    # the weights of diagonally weighted least squares are the inverse squared standard errors
+    np.testing.assert_allclose(weights[0, 1:], 1 / matrix.se[0, 1:] ** 2)
+    assert (np.diag(weights) == 0).all()

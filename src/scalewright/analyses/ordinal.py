@@ -31,6 +31,20 @@ def polychoric_of_items(responses: Any, items: Sequence[str], reversed_items: Se
     return matrix.keyed([item in set(reversed_items) for item in items])
 
 
+def dwls_inputs(responses: Any, items: Sequence[str], reversed_items: Sequence[str] = (), *,
+                pairwise: bool = False) -> tuple[np.ndarray, np.ndarray, int, Any]:
+    """What a DWLS fit of a confirmatory model needs, in one call (for ``confirm --ordinal``).
+
+    Returns the keyed polychoric correlation matrix (k x k, smoothed if it was not positive definite), the
+    diagonal weights ``1 / SE^2`` of each correlation (k x k; 0 on the diagonal and for pairs without a
+    standard error), the number of rows behind them, and the :class:`PolychoricMatrix` itself (notes,
+    thresholds). DWLS on polychoric correlations: Muthén (1984), Psychometrika 49:115-132; compared with
+    other estimators for ordinal data by Flora & Curran (2004), Psychological Methods 9:466-491.
+    """
+    matrix = polychoric_of_items(responses, items, reversed_items, pairwise=pairwise)
+    return matrix.correlation, matrix.dwls_weights(), matrix.n_used, matrix
+
+
 def scale_ordinal(responses: Any, scale: Any, overall: Any, *, pairwise: bool, estimate: bool) -> tuple[Any, Any]:
     """Ordinal reliability of one scale (when ``estimate``) and the advice notes on whether it is called for.
 
