@@ -7,10 +7,11 @@ from typing import Any
 
 def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
                         pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
-                        seed: int | None = None, thresholds: Any = None) -> dict[str, Any]:
+                        seed: int | None = None, thresholds: Any = None, ordinal: bool = False) -> dict[str, Any]:
     """:class:`~scalewright.stats.reliability.ScaleReliabilityReport` of every scale of ``spec``.
 
     Plain library function (no click): the report builds on it. ``by`` names subgroup columns.
+    ``ordinal`` adds ordinal alpha, omega and the sum score's reliability from polychoric correlations.
     """
     from ..concurrency import map_in_threads
     from ..scoring import keyed_items
@@ -22,6 +23,7 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
         scale_reliability,
     )
     from ..stats.subgroups import split_by
+    from .ordinal import scale_ordinal
 
     thresholds = thresholds or ReliabilityThresholds()
     splits = [split_by(responses.column(column), min_size=min_group, column=column) for column in by]
@@ -36,7 +38,9 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
                        reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed)
         overall = scale_reliability(keyed, **options)
         groups = tuple(reliability_by_group(keyed, split, **options) for split in splits)
-        return ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups)
+        ordinal_result, advice = scale_ordinal(responses, scale, overall, pairwise=pairwise, estimate=ordinal)
+        return ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups,
+                                      ordinal=ordinal_result, ordinal_advice=advice)
 
     names = list(spec.scales)
     return dict(zip(names, map_in_threads(analyse, names)))

@@ -42,18 +42,25 @@ def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
                       notes=tuple(notes))
 
 
-def analyse_structure_of_file(spec: Any, responses: Any, **options: Any) -> Any:
+def analyse_structure_of_file(spec: Any, responses: Any, *, ordinal: bool = False, **options: Any) -> Any:
     """:func:`~scalewright.stats.structure.analyse_structure` of the joint item matrix of every scale.
 
     The joint matrix's notes (an item keyed one way in one scale and the other way in another) come first
     among the result's notes, so the command and the report show them alike. ``options`` go to
-    ``analyse_structure``.
+    ``analyse_structure``. ``ordinal`` analyses the polychoric correlations of the items instead of the
+    Pearson ones (over the same complete rows).
     """
     from dataclasses import replace
 
     from ..stats.structure import analyse_structure
 
     joint = joint_keyed_items(responses, spec)
+    if ordinal:
+        from .ordinal import joint_polychoric
+
+        polychoric = joint_polychoric(responses, spec)
+        options = {**options, "correlation": polychoric.correlation, "correlation_type": "polychoric",
+                   "correlation_notes": polychoric.notes}
     result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
                                scale_items=joint.scale_items, **options)
     return replace(result, notes=(*joint.notes, *result.notes)) if joint.notes else result

@@ -30,6 +30,9 @@ from .common import (
               help="Seed of the bootstrap (default: a fresh one, recorded in the output).")
 @click.option("--pairwise", is_flag=True,
               help="Pairwise instead of listwise deletion: each covariance uses the rows answering both items.")
+@click.option("--ordinal", is_flag=True,
+              help="Also treat the answers as ordered categories: ordinal alpha, ordinal omega and the sum "
+                   "score's reliability from polychoric correlations.")
 @click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
               help="Subgroup levels with fewer respondents are named but not analysed.")
 @click.option("--weak-item-r", type=float, default=0.30, show_default=True,
@@ -42,7 +45,7 @@ from .common import (
 @input_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
-                seed: int | None, pairwise: bool, min_group: int, weak_item_r: float, redundant_r: float,
+                seed: int | None, pairwise: bool, ordinal: bool, min_group: int, weak_item_r: float, redundant_r: float,
                 low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, fmt: str | None,
                 out: Path | None, decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
@@ -51,7 +54,8 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     model), Guttman's lambda2 and lambda6, inter-item correlations; per item: descriptives, floor and
     ceiling shares, item-rest correlation, alpha and omega if the item were left out. Flags name suspect
     keying, weak items, redundant pairs and too low or too high reliability. With --by, the same per
-    subgroup, and Feldt's test of the alphas between subgroups.
+    subgroup, and Feldt's test of the alphas between subgroups. With --ordinal, also ordinal alpha and
+    omega and the reliability of the sum score from polychoric correlations (whole sample).
     """
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
@@ -66,11 +70,11 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
     reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
                                   pairwise=pairwise, min_group=min_group, n_resamples=n_resamples, seed=seed,
-                                  thresholds=thresholds)
+                                  thresholds=thresholds, ordinal=ordinal)
     body = {"scales": {name: report.to_dict() for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": "pairwise" if pairwise
-               else "listwise", "bootstrap": n_resamples, "seed": seed, "min_group": min_group,
+               else "listwise", "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
     emit(command="reliability", inputs=inputs, body=body, tables=reliability_tables(reports), fmt=fmt, out=out,
          decimals=decimals, options=options)

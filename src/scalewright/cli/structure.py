@@ -47,17 +47,20 @@ def parse_factors(value: str | None) -> int | str | None:
               help="Flag items loading less than this on their own scale's factor.")
 @click.option("--cross-loading", type=click.FloatRange(0, 1, min_open=True), default=0.30, show_default=True,
               help="Flag items loading more than this on another factor.")
+@click.option("--ordinal", is_flag=True,
+              help="Factor the polychoric correlations of the items (answers as ordered categories).")
 @input_options
 @output_options
 def structure(data: Path, scales: Path, factors: str | None, rotation: str, method: str, iterations: int,
-              seed: int, min_loading: float, cross_loading: float, lenient: bool, exclude: Path | None,
+              seed: int, min_loading: float, cross_loading: float, ordinal: bool, lenient: bool, exclude: Path | None,
               fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check dimensionality: do each scale's items measure one thing, and the scales different things?
 
     Reports sampling adequacy (KMO, Bartlett's test), parallel analysis, an
     exploratory factor analysis with loadings laid against the scale file's
     scales, and flags for items that sit with the wrong factor. Respondents with
-    any missing answer are set aside (listwise) and counted.
+    any missing answer are set aside (listwise) and counted. With --ordinal, every statistic uses the
+    polychoric correlations of the items instead of the Pearson ones.
     """
     from ..present.structure import structure_tables
 
@@ -65,9 +68,9 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     result = analyse_structure_of_file(inputs.spec, inputs.responses, n_factors=n_factors, rotation=rotation,
                                        method=method, seed=seed, iterations=iterations, min_loading=min_loading,
-                                       max_cross_loading=cross_loading)
+                                       max_cross_loading=cross_loading, ordinal=ordinal)
     body = result.to_dict()
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
-               "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading}
+               "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading, "ordinal": ordinal}
     emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,
          decimals=decimals, options=options)

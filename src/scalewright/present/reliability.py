@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from .ordinal import ordinal_reliability_table, ordinal_sentences
 from .table import Table
 
 SUMMARY_COLUMNS = ("scale", "sample", "rows", "n used", "k", "alpha", "CI low", "CI high", "std alpha",
@@ -57,6 +58,7 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
         notes += list(overall.notes)
         for group in report.groups:
             notes += list(group.notes)
+        notes += ordinal_sentences(report.ordinal_advice)
         tables.append(Table(
             title=f"{report.title} ({name}): reliability", columns=columns,
             rows=tuple(_summary_row(name, sample, result, with_bootstrap) for sample, result in _samples(report)),
@@ -71,6 +73,8 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
             notes=("n, mean, sd and missing % use every answer to the item; floor % and ceiling % are the shares "
                    "at the lowest and highest answer code as given; the other columns use the rows in 'n used'",),
             key="reliability_items"))
+        if report.ordinal is not None:
+            tables.append(ordinal_reliability_table(name, report.title, report.ordinal))
         levels = list(dict.fromkeys(level for item in overall.items.values() for level in item.counts))
         if levels:
             tables.append(Table(

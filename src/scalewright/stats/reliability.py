@@ -844,9 +844,16 @@ class ScaleReliabilityReport(ResultMixin):
     title: str
     overall: ScaleReliability
     groups: tuple[GroupReliability, ...] = ()
+    #: ordinal reliability (``--ordinal``) and the note on whether the answers call for it
+    ordinal: Any = None
+    ordinal_advice: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         out = {"title": self.title, **self.overall.to_dict()}
+        if self.ordinal is not None:
+            out["ordinal"] = self.ordinal.to_dict()
+        if self.ordinal_advice:
+            out["ordinal_advice"] = [advice.to_dict() for advice in self.ordinal_advice]
         if self.groups:
             out["by"] = {g.column: {level: r.to_dict() for level, r in g.levels.items()} for g in self.groups}
             out["alpha_comparisons"] = {g.column: [c.to_dict() for c in g.comparisons] for g in self.groups}

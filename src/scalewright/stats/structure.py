@@ -104,6 +104,10 @@ class StructureResult(ResultMixin):
     min_loading: float = MIN_LOADING
     max_cross_loading: float = MAX_CROSS_LOADING
     dropped_items: tuple[str, ...] = field(default=())
+    #: the item correlation matrix analysed (of ``items``), ``pearson`` or ``polychoric``, and its notes
+    correlation: np.ndarray | None = None
+    correlation_type: str = "pearson"
+    correlation_notes: tuple[Any, ...] = ()
 
     @property
     def factor_names(self) -> tuple[str, ...]:
@@ -139,6 +143,11 @@ class StructureResult(ResultMixin):
                            "min_kmo": MIN_KMO, "min_eigen_ratio": MIN_EIGEN_RATIO},
             "flags": [{"item": f.item, "scale": f.scale, "code": f.code, "message": f.message} for f in self.flags],
             "notes": list(self.notes),
+            "correlation_type": self.correlation_type,
+            "correlation": {} if self.correlation is None else
+            {a: {b: to_jsonable(self.correlation[i, j]) for j, b in enumerate(self.items)}
+             for i, a in enumerate(self.items)},
+            "correlation_notes": [n.to_dict() for n in self.correlation_notes],
         }
 
 
@@ -312,7 +321,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                       n_factors: int | str | None = None, rotation: str = "oblimin", method: str = "minres",
                       seed: int | np.random.Generator | None = DEFAULT_SEED, iterations: int = 100,
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
-                      max_cross_loading: float = MAX_CROSS_LOADING) -> StructureResult:
+                      max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
+                      correlation_type: str = "pearson", correlation_notes: Sequence[Any] = ()) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -335,6 +345,10 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         Parallel analysis settings.
     min_loading, max_cross_loading : float
         Thresholds of the ``weak-loading`` and ``cross-loading`` flags (common practice, no source).
+    correlation, correlation_type, correlation_notes
+        An item correlation matrix (of ``item_names``, over the same complete rows) to analyse instead of
+        the Pearson correlations, e.g. polychoric ones, its name and notes (:class:`~scalewright.notes.Note`).
+        Left without the items that are dropped, it is smoothed again if it is not positive definite.
 
     Returns
     -------
@@ -346,8 +360,11 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     among the rest are left out and flagged.
     """
     keyed = np.asarray(keyed_matrix, dtype=float)
+    supplied = None if correlation is None else np.asarray(correlation, dtype=float)
     item_names = [str(name) for name in item_names]
     _validate_names(keyed, item_names, item_scale)
+    if supplied is not None and supplied.shape != (len(item_names), len(item_names)):
+        raise DataError(f"a correlation matrix of shape {supplied.shape} given for {len(item_names)} items")
     if not 0 < min_loading <= 1 or not 0 < max_cross_loading <= 1:
         raise UsageError("loading thresholds must lie between 0 and 1")
     scales = list(dict.fromkeys(item_scale[name] for name in item_names))
@@ -382,14 +399,23 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                                solution=None, n_factors_rule="none", factor_for_scale={s: None for s in scales},
                                unidimensionality={}, flags=tuple(flags), notes=tuple(notes + [reason]),
                                min_loading=min_loading, max_cross_loading=max_cross_loading,
-                               dropped_items=tuple(dropped))
+                               dropped_items=tuple(dropped), correlation_type=correlation_type,
+                               correlation_notes=tuple(correlation_notes))
 
     if n < 3:
         return empty(f"only {n} complete respondent(s): the structure needs at least 3")
     if p < 2:
         return empty("fewer than two items with variance: there is no structure to analyse")
 
-    correlation = correlation_of(data)
+    correlation_notes = list(correlation_notes)
+    if supplied is None:
+        correlation = correlation_of(data)
+    else:
+        from .polychoric_matrix import smoothed_if_needed
+
+        correlation, smoothing = smoothed_if_needed(supplied[np.ix_(kept, kept)])
+        if smoothing is not None:
+            correlation_notes.append(smoothing)
     sampling = kmo(correlation)
     sphericity = bartlett_sphericity(correlation, n)
     notes.extend(sampling.notes)
@@ -474,4 +500,6 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                            n_set_aside=set_aside, kmo=sampling, bartlett=sphericity, parallel=parallel,
                            solution=solution, n_factors_rule=rule, factor_for_scale=mapping,
                            unidimensionality=per_scale, flags=tuple(flags), notes=tuple(notes),
-                           min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped))
+                           min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped),
+                           correlation=correlation, correlation_type=correlation_type,
+                           correlation_notes=tuple(correlation_notes))
