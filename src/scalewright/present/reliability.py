@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from .missing import missing_lines
 from .table import Table
 
 SUMMARY_COLUMNS = ("scale", "sample", "rows", "n used", "k", "alpha", "CI low", "CI high", "std alpha",
@@ -55,6 +56,7 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
         notes = [f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
                  f"{overall.missing_handling}"]
         notes += list(overall.notes)
+        notes += missing_lines(overall.missing)
         for group in report.groups:
             notes += list(group.notes)
         tables.append(Table(
