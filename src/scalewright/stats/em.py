@@ -66,23 +66,25 @@ def _exact_complete(summary: PatternSummary) -> tuple[np.ndarray, np.ndarray]:
     return means, cross / n - np.outer(means, means)
 
 
-def _available_case(summary: PatternSummary) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _available_case(summary: PatternSummary,
+                    total_cross: np.ndarray | None = None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Answers, mean and ML variance of each item over every respondent who answered it."""
     answered = (summary.counts[:, None] * summary.observed).sum(axis=0).astype(np.float64)
     sums = summary.sums.sum(axis=0).astype(np.float64)
-    squares = np.diag(summary.total_cross_products()).astype(np.float64)
+    total_cross = summary.total_cross_products() if total_cross is None else total_cross
+    squares = np.diag(total_cross).astype(np.float64)
     with np.errstate(invalid="ignore", divide="ignore"):
         means = sums / answered
         variances = squares / answered - means**2
     return answered, means, variances
 
 
-def _start(summary: PatternSummary) -> tuple[np.ndarray, np.ndarray]:
+def _start(summary: PatternSummary, total_cross: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Starting values: the complete rows' estimates when they are positive definite, else the
     available-case means and variances with no covariance (Little & Rubin 2002, section 11.2)."""
     k = summary.k
     complete = np.flatnonzero(summary.observed.all(axis=1))
-    _, means, variances = _available_case(summary)
+    _, means, variances = _available_case(summary, total_cross)
     if complete.size and summary.counts[complete[0]] > k:
         n = float(summary.counts[complete[0]])
         mean_c = summary.sums[complete[0]] / n
@@ -220,7 +222,8 @@ def em_means_and_covariance(summary: PatternSummary, *, tol: float = 1e-10, max_
     if summary.observed.shape[0] == 1 and summary.observed.all():
         means, cov = _exact_complete(summary)
         return EMEstimate(means=means, cov=cov, n_used=n_used, iterations=0, converged=True)
-    answered, means, variances = _available_case(summary)
+    total_cross = summary.total_cross_products()
+    answered, means, variances = _available_case(summary, total_cross)
     never = [j for j in range(k) if answered[j] == 0]
     if never:
         return _nan_estimate(k, n_used, note("em-item-never-answered", positions=tuple(never)))
@@ -238,14 +241,14 @@ def em_means_and_covariance(summary: PatternSummary, *, tol: float = 1e-10, max_
             notes, iterations, converged = inner.notes, inner.iterations, inner.converged
         return EMEstimate(means=out_means, cov=out_cov, n_used=n_used, iterations=iterations, converged=converged,
                           notes=(note("em-constant-items", positions=tuple(constant)), *notes))
-    return _iterate(summary, tol=tol, max_iter=max_iter)
+    return _iterate(summary, total_cross, tol=tol, max_iter=max_iter)
 
 
-def _iterate(summary: PatternSummary, *, tol: float, max_iter: int) -> EMEstimate:
+def _iterate(summary: PatternSummary, total_cross: np.ndarray, *, tol: float, max_iter: int) -> EMEstimate:
     k, n = summary.k, summary.n_used
-    mu, sigma = _start(summary)
+    mu, sigma = _start(summary, total_cross)
     fixed_sums = summary.sums.sum(axis=0).astype(np.float64)
-    fixed_cross = summary.total_cross_products().astype(np.float64)
+    fixed_cross = total_cross.astype(np.float64)
     groups = _groups(summary)
     for iteration in range(1, max_iter + 1):
         try:

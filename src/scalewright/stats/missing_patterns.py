@@ -107,18 +107,26 @@ class PatternSummary:
         codes = np.asarray(codes)
         if codes.dtype != np.uint8 or codes.ndim != 2:
             raise DataError("answer codes must be a respondents x items matrix of uint8")
+        k = codes.shape[1]
 
-        def block(rows: slice | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        def complete_block(rows: slice) -> tuple[np.ndarray, np.ndarray]:
+            part = codes[rows]
+            n_missing = np.zeros(part.shape[0], dtype=np.uint16)
+            for j in range(k):  # a column at a time: contiguous in the column-major answers
+                n_missing += part[:, j] == MISSING
+            values = part.astype(np.float32)
+            values *= (n_missing == 0)[:, None]  # only complete rows: their codes are all below MISSING
+            if part.shape[0] * float(values.max(initial=0)) ** 2 > 2**24:  # float32 would round: widen
+                values = values.astype(np.float64)
+            return values, k - n_missing.astype(np.int64)
+
+        def gather(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             part = codes[rows]
             answered = part != MISSING
-            largest = int(part.max(initial=0, where=answered)) if part.size else 0
-            # float32 is exact while every partial sum of a block's cross-products stays below 2**24
-            dtype = np.float32 if part.shape[0] * largest**2 <= 2**24 else np.float64
-            values = part.astype(dtype)
-            values[~answered] = 0
-            return values, answered
+            part[~answered] = 0
+            return part, answered
 
-        return cls._build(codes.shape, block, exact=True)
+        return cls._build(codes.shape, complete_block, gather, exact=True)
 
     @classmethod
     def from_values(cls, values: np.ndarray) -> "PatternSummary":
@@ -132,25 +140,30 @@ class PatternSummary:
             raise DataError("infinite values are not answers")
         whole = bool(np.all(given == np.round(given))) and (given.size == 0 or np.abs(given).max() < 2**20)
 
-        def block(rows: slice | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        def complete_block(rows: slice) -> tuple[np.ndarray, np.ndarray]:
+            answered = answered_all[rows]
+            n_answered = answered.sum(axis=1)
+            return np.where((n_answered == values.shape[1])[:, None], values[rows], 0.0), n_answered
+
+        def gather(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             answered = answered_all[rows]
             return np.where(answered, values[rows], 0.0), answered
 
-        return cls._build(values.shape, block, exact=whole)
+        return cls._build(values.shape, complete_block, gather, exact=whole)
 
     @classmethod
-    def _build(cls, shape: tuple[int, int], block, *, exact: bool) -> "PatternSummary":
-        """One pass over blocks of rows for the complete rows' statistics, then the incomplete rows by pattern."""
+    def _build(cls, shape: tuple[int, int], complete_block, gather, *, exact: bool) -> "PatternSummary":
+        """One pass over blocks of rows for the complete rows' statistics, then the incomplete rows by pattern.
+
+        ``complete_block(slice)`` gives the block's answers with every incomplete row zeroed and the number
+        of answers of each row; ``gather(positions)`` the zero-filled answers of some rows and their mask.
+        """
         n, k = shape
         complete_sums, complete_cross = np.zeros(k), np.zeros((k, k))
         n_answered = np.empty(n, dtype=np.int64)
         for start in range(0, n, _BLOCK_ROWS):
             stop = min(n, start + _BLOCK_ROWS)
-            values, answered = block(slice(start, stop))
-            counted = answered.sum(axis=1)
-            n_answered[start:stop] = counted
-            if not (counted == k).all():
-                values = values * (counted == k)[:, None].astype(values.dtype)
+            values, n_answered[start:stop] = complete_block(slice(start, stop))
             complete_cross += (values.T @ values).astype(np.float64)
             complete_sums += values.sum(axis=0, dtype=np.float64)
         n_complete = int(np.count_nonzero(n_answered == k)) if k else 0
@@ -165,24 +178,30 @@ class PatternSummary:
         if n_complete >= limit:
             matrices[0] = complete_cross
         elif n_complete:
-            complete_rows = np.flatnonzero(n_answered == k)
-            rows.append(block(complete_rows)[0].astype(np.float64))
+            rows.append(gather(np.flatnonzero(n_answered == k))[0].astype(np.float64))
             row_pattern.append(np.zeros(n_complete, dtype=np.int64))
         if partial.size:
-            values, answered = block(partial)
-            values = values.astype(np.float64)
+            values, answered = gather(partial)  # in file order: a cache-friendly pass over the answers
             order, starts, _ = group_patterns(answered)
-            values, answered = values[order], answered[order]
+            values = np.take(values, order, axis=0)  # take copies whole rows; fancy indexing goes byte by byte
+            answered = answered[order[starts]]
             pattern_counts = np.diff(np.append(starts, partial.size))
             base = len(counts[0])
-            observed.append(answered[starts])
-            counts.append(pattern_counts)
-            sums.append(np.add.reduceat(values, starts, axis=0))
-            for p in np.flatnonzero(pattern_counts >= limit):
-                part = values[starts[p]:starts[p] + pattern_counts[p]]
+            pattern_sums = np.zeros((starts.size, k))
+            for p in np.flatnonzero(pattern_counts >= limit):  # few patterns, many rows each
+                part = values[starts[p]:starts[p] + pattern_counts[p]].astype(np.float64)
                 matrices[base + int(p)] = part.T @ part
-            as_rows = np.repeat(pattern_counts < limit, pattern_counts)
-            rows.append(values[as_rows])
+                pattern_sums[p] = part.sum(axis=0)
+            few = pattern_counts < limit
+            as_rows = np.repeat(few, pattern_counts)
+            held = values[as_rows].astype(np.float64)
+            if held.size:
+                held_starts = np.concatenate([[0], np.cumsum(pattern_counts[few])[:-1]])
+                pattern_sums[few] = np.add.reduceat(held, held_starts, axis=0)
+            observed.append(answered)
+            counts.append(pattern_counts)
+            sums.append(pattern_sums)
+            rows.append(held)
             row_pattern.append(base + np.repeat(np.arange(starts.size), pattern_counts)[as_rows])
         summary = cls(k=k, observed=np.concatenate(observed), counts=np.concatenate(counts),
                       sums=np.concatenate(sums), matrices=matrices, rows=np.concatenate(rows),
