@@ -261,3 +261,27 @@ def test_an_item_without_variance_keeps_its_mean_and_no_covariance():
     assert (estimate.cov[2] == 0).all() and (estimate.cov[:, 2] == 0).all()
     assert [n.code for n in estimate.notes] == ["em-constant-items"]
     assert np.isfinite(estimate.cov).all()
+
+
+@settings(max_examples=40, deadline=None)
+@given(coded_blocks())
+def test_listwise_from_the_summary_equals_the_complete_rows(block):
+    # Outside reference: numpy's mean and cov (ddof 1) of the rows with every item answered, keyed by hand
+    # (reversed item: high - code; others: low + code); and, to the last bit, the project's own listwise
+    # route from the codes, since reliability now takes the listwise matrix from the summary.
+    from scalewright.stats.coded import CodedAnswers, listwise_covariance
+    from scalewright.stats.missing import listwise_from_summary
+
+    codes, _ = block
+    k = codes.shape[1]
+    reversed_mask = np.arange(k) % 2 == 1
+    ours = listwise_from_summary(PatternSummary.from_codes(codes), low=1, high=5, reversed_mask=reversed_mask)
+    theirs = listwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
+    np.testing.assert_array_equal(ours.cov, theirs.cov)
+    np.testing.assert_array_equal(ours.means, theirs.means)
+    assert (ours.n_used, ours.n_rows) == (theirs.n_used, theirs.n_rows)
+    complete = codes[(codes != 255).all(axis=1)].astype(float)
+    keyed = np.where(reversed_mask, 5 - complete, 1 + complete)
+    if len(keyed) >= 2:
+        np.testing.assert_allclose(ours.cov, np.cov(keyed, rowvar=False).reshape(k, k), rtol=1e-12, atol=1e-12)
+        np.testing.assert_allclose(ours.means, keyed.mean(axis=0), rtol=1e-12)

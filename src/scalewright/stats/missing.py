@@ -129,5 +129,31 @@ def keyed_estimate(estimate: EMEstimate, *, lows: np.ndarray, highs: np.ndarray,
     return means, estimate.cov * np.outer(sign, sign)
 
 
+def listwise_from_summary(summary: PatternSummary, *, low: int, high: int, reversed_mask: np.ndarray) -> Any:
+    """The listwise :class:`~scalewright.stats.item_covariance.ItemCovariance` of the keyed items, from the
+    complete pattern of a summary of one-byte codes: the same exact integer arithmetic as
+    :func:`scalewright.stats.coded.listwise_covariance`, ``cov = (n C - s s') / (n (n - 1))``, so the
+    numbers are identical and the codes are read once for both.
+    """
+    from .item_covariance import ItemCovariance
+
+    k = summary.k
+    complete = np.flatnonzero(summary.observed.all(axis=1)) if k else np.empty(0, dtype=np.int64)
+    n = int(summary.counts[complete[0]]) if complete.size else 0
+    n_rows = summary.n_rows
+    counts = np.full((k, k), n, dtype=np.int64)
+    if n == 0 or k == 0:
+        return ItemCovariance(cov=np.full((k, k), np.nan), means=np.full(k, np.nan), n_used=n, n_rows=n_rows,
+                              n_complete=n, pair_counts=counts, pairwise=False)
+    sums = np.array([int(v) for v in summary.sums[complete[0]]], dtype=object)
+    cross = np.array([[int(v) for v in row] for row in summary.cross_products(int(complete[0]))], dtype=object)
+    means = np.array([float(v) / n for v in sums])
+    cov = (((n * cross - np.outer(sums, sums)) / (n * (n - 1))).astype(np.float64) if n >= 2
+           else np.full((k, k), np.nan))
+    sign = np.where(reversed_mask, -1.0, 1.0)
+    return ItemCovariance(cov=cov * np.outer(sign, sign), means=np.where(reversed_mask, high - means, low + means),
+                          n_used=n, n_rows=n_rows, n_complete=n, pair_counts=counts, pairwise=False)
+
+
 __all__ = ["LISTWISE_WARNING_PCT", "METHODS", "MissingHandling", "check_method", "keyed_estimate",
-           "missing_handling"]
+           "listwise_from_summary", "missing_handling"]

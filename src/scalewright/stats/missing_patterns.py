@@ -15,6 +15,7 @@ depends only on its count, so it does not depend on the order of merging.
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import reduce
 
 import numpy as np
 
@@ -23,6 +24,13 @@ from ..errors import DataError
 
 #: rows of a block whose float32 cross-products stay exact (every partial sum below 2**24, see stats/coded.py)
 _BLOCK_ROWS = 16384
+
+
+def _cross_products(design: np.ndarray) -> np.ndarray:
+    # einsum beats BLAS on tall blocks of a few columns (see stats/coded.py); BLAS wins on many
+    if design.shape[1] <= 16:
+        return np.einsum("ij,ik->jk", design, design).astype(np.float64)
+    return (design.T @ design).astype(np.float64)
 
 
 def rows_limit(k: int) -> int:
@@ -107,18 +115,19 @@ class PatternSummary:
         codes = np.asarray(codes)
         if codes.dtype != np.uint8 or codes.ndim != 2:
             raise DataError("answer codes must be a respondents x items matrix of uint8")
-        k = codes.shape[1]
+        n, k = codes.shape
+        columns = [codes[:, j] for j in range(k)]  # contiguous in the column-major answers
+        complete = reduce(np.maximum, columns) != MISSING if k else np.zeros(n, dtype=bool)
+        none = reduce(np.minimum, columns) == MISSING if k else np.ones(n, dtype=bool)
+        block = np.empty((min(n, _BLOCK_ROWS), k), dtype=np.float32, order="F")
 
-        def complete_block(rows: slice) -> tuple[np.ndarray, np.ndarray]:
+        def complete_block(rows: slice) -> np.ndarray:
             part = codes[rows]
-            n_missing = np.zeros(part.shape[0], dtype=np.uint16)
-            for j in range(k):  # a column at a time: contiguous in the column-major answers
-                n_missing += part[:, j] == MISSING
-            values = part.astype(np.float32)
-            values *= (n_missing == 0)[:, None]  # only complete rows: their codes are all below MISSING
-            if part.shape[0] * float(values.max(initial=0)) ** 2 > 2**24:  # float32 would round: widen
-                values = values.astype(np.float64)
-            return values, k - n_missing.astype(np.int64)
+            design = block[: part.shape[0]]
+            np.multiply(part, complete[rows, None], out=design, casting="unsafe")  # incomplete rows -> 0
+            if part.shape[0] * float(design.max(initial=0)) ** 2 > 2**24:  # float32 would round: widen
+                return design.astype(np.float64)
+            return design
 
         def gather(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             part = codes[rows]
@@ -126,7 +135,7 @@ class PatternSummary:
             part[~answered] = 0
             return part, answered
 
-        return cls._build(codes.shape, complete_block, gather, exact=True)
+        return cls._build(codes.shape, complete, none, complete_block, gather, exact=True)
 
     @classmethod
     def from_values(cls, values: np.ndarray) -> "PatternSummary":
@@ -140,35 +149,36 @@ class PatternSummary:
             raise DataError("infinite values are not answers")
         whole = bool(np.all(given == np.round(given))) and (given.size == 0 or np.abs(given).max() < 2**20)
 
-        def complete_block(rows: slice) -> tuple[np.ndarray, np.ndarray]:
-            answered = answered_all[rows]
-            n_answered = answered.sum(axis=1)
-            return np.where((n_answered == values.shape[1])[:, None], values[rows], 0.0), n_answered
+        n_answered = answered_all.sum(axis=1)
+        complete, none = n_answered == values.shape[1], n_answered == 0
+
+        def complete_block(rows: slice) -> np.ndarray:
+            return np.where(complete[rows, None], values[rows], 0.0)
 
         def gather(rows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
             answered = answered_all[rows]
             return np.where(answered, values[rows], 0.0), answered
 
-        return cls._build(values.shape, complete_block, gather, exact=whole)
+        return cls._build(values.shape, complete, none, complete_block, gather, exact=whole)
 
     @classmethod
-    def _build(cls, shape: tuple[int, int], complete_block, gather, *, exact: bool) -> "PatternSummary":
+    def _build(cls, shape: tuple[int, int], complete: np.ndarray, none: np.ndarray, complete_block, gather, *,
+               exact: bool) -> "PatternSummary":
         """One pass over blocks of rows for the complete rows' statistics, then the incomplete rows by pattern.
 
-        ``complete_block(slice)`` gives the block's answers with every incomplete row zeroed and the number
-        of answers of each row; ``gather(positions)`` the zero-filled answers of some rows and their mask.
+        ``complete`` and ``none`` mark the rows that answered every item and no item;
+        ``complete_block(slice)`` gives a block's answers with every incomplete row zeroed;
+        ``gather(positions)`` the zero-filled answers of some rows and their answered mask.
         """
         n, k = shape
         complete_sums, complete_cross = np.zeros(k), np.zeros((k, k))
-        n_answered = np.empty(n, dtype=np.int64)
-        for start in range(0, n, _BLOCK_ROWS):
-            stop = min(n, start + _BLOCK_ROWS)
-            values, n_answered[start:stop] = complete_block(slice(start, stop))
-            complete_cross += (values.T @ values).astype(np.float64)
+        n_complete = int(np.count_nonzero(complete))
+        for start in range(0, n if n_complete else 0, _BLOCK_ROWS):
+            values = complete_block(slice(start, min(n, start + _BLOCK_ROWS)))
+            complete_cross += _cross_products(values)
             complete_sums += values.sum(axis=0, dtype=np.float64)
-        n_complete = int(np.count_nonzero(n_answered == k)) if k else 0
-        partial = np.flatnonzero((n_answered > 0) & (n_answered < k))
-        n_none = int(np.count_nonzero(n_answered == 0)) if k else n
+        partial = np.flatnonzero(~complete & ~none)
+        n_none = int(np.count_nonzero(none))
         limit = rows_limit(k)
         observed = [np.ones((1 if n_complete else 0, k), dtype=bool)]
         counts = [np.array([n_complete] if n_complete else [], dtype=np.int64)]
@@ -178,7 +188,7 @@ class PatternSummary:
         if n_complete >= limit:
             matrices[0] = complete_cross
         elif n_complete:
-            rows.append(gather(np.flatnonzero(n_answered == k))[0].astype(np.float64))
+            rows.append(gather(np.flatnonzero(complete))[0].astype(np.float64))
             row_pattern.append(np.zeros(n_complete, dtype=np.int64))
         if partial.size:
             values, answered = gather(partial)  # in file order: a cache-friendly pass over the answers

@@ -698,10 +698,10 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     """
     from ..errors import UsageError
     from .bootstrap import bootstrap_alpha
-    from .coded import answer_tally, listwise_covariance, pairwise_covariance
+    from .coded import answer_tally, pairwise_covariance
     from .em import em_means_and_covariance
     from .item_covariance import item_covariance
-    from .missing import check_method, keyed_estimate, missing_handling
+    from .missing import check_method, keyed_estimate, listwise_from_summary, missing_handling
     from .missing_patterns import PatternSummary
 
     method = check_method(missing or ("pairwise" if pairwise else "listwise"))
@@ -723,9 +723,13 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
+    summary = None
     if isinstance(keyed, CodedAnswers) and not n_resamples:
-        covariance = pairwise_covariance if pairwise else listwise_covariance
-        stats = covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        summary = PatternSummary.from_codes(keyed.codes)
+        if pairwise:
+            stats = pairwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        else:  # the summary's complete pattern holds the listwise statistics (no second pass over the codes)
+            stats = listwise_from_summary(summary, low=int(low), high=int(high), reversed_mask=reversed_mask)
         descriptives = item_descriptives_from_tally(answer_tally(keyed, int(high - low) + 1), n_rows=keyed.shape[0],
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
@@ -738,7 +742,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
     coded = isinstance(keyed, CodedAnswers)
-    summary = PatternSummary.from_codes(keyed.codes) if coded else PatternSummary.from_values(matrix)
+    summary = summary or PatternSummary.from_values(matrix)
     estimate = None
     cov, n_used = stats.cov, stats.n_used
     if method == "em" and summary.anything_missing:
