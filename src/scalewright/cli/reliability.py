@@ -14,8 +14,8 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
-    resolve_missing,
     resolve_by,
+    resolve_missing,
     scales_option,
 )
 
@@ -45,8 +45,8 @@ from .common import (
 @input_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
-                seed: int | None, missing: str | None, pairwise: bool, min_group: int, weak_item_r: float, redundant_r: float,
-                low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, fmt: str | None,
+                seed: int | None, missing: str | None, pairwise: bool, min_group: int, weak_item_r: float,
+                redundant_r: float, low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, fmt: str | None,
                 out: Path | None, decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
@@ -73,7 +73,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
                                   thresholds=thresholds)
     body = {"scales": {name: report.to_dict() for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
-    options = {"by": list(columns), "confidence_level": confidence_level, "missing": method, "bootstrap": n_resamples, "seed": seed, "min_group": min_group,
-               "thresholds": thresholds.to_dict()}
+    options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
+               "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "thresholds": thresholds.to_dict()}
     emit(command="reliability", inputs=inputs, body=body, tables=reliability_tables(reports), fmt=fmt, out=out,
          decimals=decimals, options=options)

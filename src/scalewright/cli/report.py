@@ -10,10 +10,10 @@ from .common import (
     by_option,
     data_argument,
     input_options,
-    missing_option,
-    resolve_missing,
     load_inputs,
+    missing_option,
     resolve_by,
+    resolve_missing,
     scales_option,
 )
 

@@ -276,7 +276,7 @@ def restrict(summary: PatternSummary, positions: list[int]) -> PatternSummary:
     """The summary of some of the items only (patterns that coincide on them are merged)."""
     positions = list(positions)
     observed = summary.observed[:, positions]
-    keep = observed.any(axis=1)
+    keep: np.ndarray = np.asarray(observed.any(axis=1))
     old_to_new = np.cumsum(keep) - 1
     rows_keep = keep[summary.row_pattern] if summary.row_pattern.size else np.empty(0, dtype=bool)
     partial = PatternSummary(

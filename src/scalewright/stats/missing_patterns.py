@@ -258,11 +258,12 @@ class PatternSummary:
                 target = int(inverse[shift + p])
                 matrices[target] = matrices.get(target, 0) + matrix.astype(dtype)
         keep_rows = np.ones(rows.shape[0], dtype=bool)
-        for p in np.flatnonzero(counts >= rows_limit(k)):
-            mine = row_pattern == p
+        for position in np.flatnonzero(counts >= rows_limit(k)):
+            mine = row_pattern == position
             if mine.any():
                 gram = rows[mine].T @ rows[mine]
-                matrices[int(p)] = matrices.get(int(p), 0) + (np.rint(gram).astype(np.int64) if exact else gram)
+                matrices[int(position)] = (matrices.get(int(position), 0)
+                                           + (np.rint(gram).astype(np.int64) if exact else gram))
                 keep_rows &= ~mine
         return PatternSummary(k=k, observed=observed[order[starts]], counts=counts, sums=sums, matrices=matrices,
                               rows=rows[keep_rows], row_pattern=row_pattern[keep_rows],
