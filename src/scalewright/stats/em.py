@@ -147,8 +147,11 @@ def _e_step(group: _Group, theta: np.ndarray, mu: np.ndarray, sums: np.ndarray, 
     with the answers B C + c s'; among the fills B C B' + B s c' + c s' B' + n (c c' + Theta_MM^-1).
     """
     k = mu.size
+    if group.cross is None:
+        _e_step_rows(group, theta, mu, sums, cross)
+        return
     size, m = group.missing.shape
-    step = max(1, _CHUNK_CELLS // (m * k * (k if group.cross is not None else 1)))
+    step = max(1, _CHUNK_CELLS // (m * k * k))
     columns = np.arange(k)
     for start in range(0, size, step):
         missing = group.missing[start:start + step]
@@ -159,23 +162,44 @@ def _e_step(group: _Group, theta: np.ndarray, mu: np.ndarray, sums: np.ndarray, 
         slope = -residual @ (theta[missing] * answered[:, None, :])          # (P, m, k)
         intercept = mu[missing] - slope @ mu                                  # (P, m)
         slope_s = np.einsum("pmk,pk->pm", slope, s)
-        fill_sums = slope_s + count[:, None] * intercept
-        if group.cross is None:  # one row each: C = x x', so B C = (B x) x'
-            with_answers = fill_sums[:, :, None] * s[:, None, :]
-            among = fill_sums[:, :, None] * fill_sums[:, None, :] + residual
-        else:
-            slope_c = np.einsum("pmk,pkl->pml", slope, group.cross[start:start + step])
-            with_answers = slope_c + intercept[:, :, None] * s[:, None, :]
-            among = (np.einsum("pml,pnl->pmn", slope_c, slope) + slope_s[:, :, None] * intercept[:, None, :]
-                     + intercept[:, :, None] * slope_s[:, None, :]
-                     + count[:, None, None] * (intercept[:, :, None] * intercept[:, None, :] + residual))
-        sums += np.bincount(missing.ravel(), weights=fill_sums.ravel(), minlength=k)
+        slope_c = slope @ group.cross[start:start + step]
+        with_answers = slope_c + intercept[:, :, None] * s[:, None, :]
+        among = (slope_c @ slope.transpose(0, 2, 1) + slope_s[:, :, None] * intercept[:, None, :]
+                 + intercept[:, :, None] * slope_s[:, None, :]
+                 + count[:, None, None] * (intercept[:, :, None] * intercept[:, None, :] + residual))
+        sums += np.bincount(missing.ravel(), weights=(slope_s + count[:, None] * intercept).ravel(), minlength=k)
         between = np.bincount((missing[:, :, None] * k + columns).ravel(), weights=with_answers.ravel(),
                               minlength=k * k).reshape(k, k)
         cross += between + between.T
         cross += np.bincount((missing[:, :, None] * k + missing[:, None, :]).ravel(), weights=among.ravel(),
                              minlength=k * k).reshape(k, k)
 
+
+def _e_step_rows(group: _Group, theta: np.ndarray, mu: np.ndarray, sums: np.ndarray, cross: np.ndarray) -> None:
+    """The E step of respondents held one by one: the same sums, with C = x x' for each.
+
+    The fill of row x is mu_M - Theta_MM^-1 (Theta (x - mu))_M (x - mu zero where missing); its products
+    with the answers come from one matrix product of the filled-in part with the rows, so no (rows, m, k)
+    array is built.
+    """
+    k = mu.size
+    size, m = group.missing.shape
+    step = max(1, _CHUNK_CELLS // k)
+    for start in range(0, size, step):
+        missing = group.missing[start:start + step]
+        rows = group.sums[start:start + step]
+        centred = rows - mu * group.answered[start:start + step]
+        weighted = np.take_along_axis(centred @ theta, missing, axis=1)
+        residual = np.linalg.inv(theta[missing[:, :, None], missing[:, None, :]])
+        fill = mu[missing] - np.einsum("rab,rb->ra", residual, weighted)
+        sums += np.bincount(missing.ravel(), weights=fill.ravel(), minlength=k)
+        filled = np.zeros_like(rows)
+        np.put_along_axis(filled, missing, fill, axis=1)
+        between = filled.T @ rows
+        cross += between + between.T
+        among = fill[:, :, None] * fill[:, None, :] + residual
+        cross += np.bincount((missing[:, :, None] * k + missing[:, None, :]).ravel(), weights=among.ravel(),
+                             minlength=k * k).reshape(k, k)
 
 def em_means_and_covariance(summary: PatternSummary, *, tol: float = 1e-10, max_iter: int = 1000) -> EMEstimate:
     r"""Maximum-likelihood means and covariance matrix of multivariate normal items with missing answers.
