@@ -285,3 +285,20 @@ def test_listwise_from_the_summary_equals_the_complete_rows(block):
     if len(keyed) >= 2:
         np.testing.assert_allclose(ours.cov, np.cov(keyed, rowvar=False).reshape(k, k), rtol=1e-12, atol=1e-12)
         np.testing.assert_allclose(ours.means, keyed.mean(axis=0), rtol=1e-12)
+
+
+def test_degenerate_samples_give_nan_with_a_reason():
+    # Outside reference: the ML covariance matrix of n <= k respondents is singular (rank at most n - 1,
+    # a property of any sample covariance matrix), and an item that is an exact copy of another makes it
+    # singular whatever n is; both must end in NaN and a note, never in an exception.
+    few = np.array([[2, 255, 2], [255, 3, 1], [255, 2, 255]], dtype=np.uint8)
+    estimate = em_means_and_covariance(PatternSummary.from_codes(few))
+    assert np.isnan(estimate.cov).all() and [n.code for n in estimate.notes] == ["em-too-few"]
+    rng = np.random.default_rng(12)
+    data = rng.multivariate_normal(np.zeros(2), POPULATION[:2, :2], size=100)
+    data = np.column_stack([data, data[:, 0]])
+    data[rng.random(data.shape) < 0.1] = np.nan
+    summary = PatternSummary.from_values(data)
+    estimate = em_means_and_covariance(summary)
+    assert np.isnan(estimate.cov).all() and [n.code for n in estimate.notes] == ["em-singular"]
+    assert little_mcar_test(summary, estimate) is None

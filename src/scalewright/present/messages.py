@@ -73,9 +73,10 @@ MISSING: dict[str, str] = {
                      "at least one item; Bartlett's test and parallel analysis take n = {n_used}.",
     "em-not-converged": "EM did not settle within {iterations} iterations: the estimates are the last ones "
                         "reached and may be imprecise.",
-    "em-singular": "EM stopped at iteration {iteration}: the covariance matrix became singular (an item is a "
-                   "linear combination of others), so the statistics are undefined.",
-    "em-too-few": "EM needs at least 2 respondents with an answer; {n_used} gave one.",
+    "em-singular": "EM stopped: the covariance matrix became singular (an item is a linear combination of "
+                   "others, or too few respondents for the pattern of gaps), so the statistics are undefined.",
+    "em-too-few": "EM needs more respondents with an answer than items; {n_used} answered at least one of "
+                  "{k} items.",
     "em-item-never-answered": "EM cannot estimate {items}: nobody answered it.",
     "em-constant-items": "{items}: everyone who answered gave the same answer; EM kept its mean and gave it no "
                          "variance.",

@@ -14,6 +14,7 @@ import numpy as np
 
 from ..notes import Note, note
 from ..results import ResultMixin
+from .item_covariance import is_invertible
 from .missing_patterns import PatternSummary
 
 
@@ -241,8 +242,8 @@ def em_means_and_covariance(summary: PatternSummary, *, tol: float = 1e-10, max_
        Wiley, sections 8.2 and 11.2.
     """
     k, n_used = summary.k, summary.n_used
-    if n_used < 2 or k == 0:
-        return _nan_estimate(k, n_used, note("em-too-few", n_used=n_used))
+    if n_used <= k or k == 0:  # fewer respondents than items: the ML covariance matrix is singular
+        return _nan_estimate(k, n_used, note("em-too-few", n_used=n_used, k=k))
     if summary.observed.shape[0] == 1 and summary.observed.all():
         means, cov = _exact_complete(summary)
         return EMEstimate(means=means, cov=cov, n_used=n_used, iterations=0, converged=True)
@@ -275,14 +276,18 @@ def _iterate(summary: PatternSummary, total_cross: np.ndarray, *, tol: float, ma
     fixed_cross = total_cross.astype(np.float64)
     groups = _groups(summary)
     for iteration in range(1, max_iter + 1):
-        try:
-            np.linalg.cholesky(sigma)
-        except np.linalg.LinAlgError:
-            return _nan_estimate(k, n, note("em-singular", iteration=iteration))
+        # a matrix on the edge of singularity (an item a linear combination of others among the answers, or
+        # too few respondents for the pattern of gaps) has no usable inverse: the ML estimate is degenerate
+        if not is_invertible(sigma):
+            return _nan_estimate(k, n, note("em-singular"))
         theta = np.linalg.inv(sigma)
         sums, cross = fixed_sums.copy(), fixed_cross.copy()
-        for group in groups:
-            _e_step(group, theta, mu, sums, cross)
+        try:
+            with np.errstate(over="raise", invalid="raise"):
+                for group in groups:
+                    _e_step(group, theta, mu, sums, cross)
+        except (np.linalg.LinAlgError, FloatingPointError):
+            return _nan_estimate(k, n, note("em-singular"))
         new_mu = sums / n
         new_sigma = cross / n - np.outer(new_mu, new_mu)
         new_sigma = (new_sigma + new_sigma.T) / 2
@@ -328,8 +333,8 @@ def little_mcar_test(summary: PatternSummary, estimate: EMEstimate) -> MCARTest 
     maximum-likelihood estimates (EM). :math:`\hat\Sigma_{OO}^{-1}` comes from the precision matrix:
     :math:`\Theta_{OO} - \Theta_{OM}\Theta_{MM}^{-1}\Theta_{MO}`.
 
-    Returns None when nothing is missing (no degrees of freedom) or the estimate is undefined. Items
-    without variance are left out of the test.
+    Returns None when nothing is missing (no degrees of freedom) or the estimate is undefined or did not
+    converge. Items without variance are left out of the test.
 
     References
     ----------
@@ -339,7 +344,7 @@ def little_mcar_test(summary: PatternSummary, estimate: EMEstimate) -> MCARTest 
     from scipy.special import chdtrc  # chi-square survival function without importing scipy.stats
 
     cov = estimate.cov
-    if not np.isfinite(cov).all() or not np.isfinite(estimate.means).all():
+    if not estimate.converged or not np.isfinite(cov).all() or not np.isfinite(estimate.means).all():
         return None
     varying = [j for j in range(summary.k) if cov[j, j] > 0]
     if not varying:

@@ -741,14 +741,14 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         if matrix.shape[1] != len(names):
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
-    coded = isinstance(keyed, CodedAnswers)
-    summary = summary or PatternSummary.from_values(matrix)
+    if summary is None:  # the answers as given (offsets from low), as the codes route sees them: same numbers
+        summary = PatternSummary.from_values(np.where(reversed_mask, high - matrix, matrix - low))
     estimate = None
     cov, n_used = stats.cov, stats.n_used
     if method == "em" and summary.anything_missing:
         estimate = em_means_and_covariance(summary)
         _, cov = keyed_estimate(estimate, lows=np.full(len(names), low), highs=np.full(len(names), high),
-                                reversed_mask=reversed_mask, from_codes=coded)
+                                reversed_mask=reversed_mask, from_codes=True)
         n_used = summary.n_used
     # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
     # divisor cancels in every statistic here), so em and listwise agree exactly
