@@ -37,8 +37,12 @@ class ReportOptions:
     exclude: str | None = None
     decimals: int = 2
     duration_column: str | None = None
+    missing: str = "listwise"
 
     def __post_init__(self) -> None:
+        from .stats.missing import check_method
+
+        check_method(self.missing)
         if not 0 < self.confidence_level < 1:
             raise UsageError(f"confidence level must lie between 0 and 1, got {self.confidence_level}")
         if self.iterations < 1:
@@ -50,7 +54,7 @@ class ReportOptions:
         return {"by": list(self.by), "seed": self.seed, "parallel_iterations": self.iterations,
                 "confidence_level": self.confidence_level, "min_group": self.min_group, "min_cell": self.min_cell,
                 "lenient": self.lenient, "exclude": self.exclude, "decimals": self.decimals,
-                "duration_column": self.duration_column}
+                "duration_column": self.duration_column, "missing": self.missing}
 
 
 @dataclass(frozen=True, eq=False)
@@ -134,7 +138,7 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
     from .analyses.reliability import analyse_reliability
 
     return analyse_reliability(spec, responses, by=options.by, confidence_level=options.confidence_level,
-                               min_group=options.min_group)
+                               min_group=options.min_group, missing=options.missing)
 
 
 def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> dict[str, Any]:
@@ -149,7 +153,8 @@ def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the structure command's own analysis: each item once, matched to its smallest scale
     from .analyses.structure import analyse_structure_of_file
 
-    return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations)
+    return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations,
+                                     missing=options.missing)
 
 
 def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:

@@ -66,6 +66,24 @@ def by_option(fn: Callable) -> Callable:
                         help="Subgroup column (repeatable). Default: the scale file's `groups`.")(fn)
 
 
+MISSING_METHODS = ("listwise", "pairwise", "em")
+
+
+def missing_option(fn: Callable) -> Callable:
+    """``--missing listwise|pairwise|em`` for every command that rests on the item covariance matrix."""
+    return click.option("--missing", "missing", type=click.Choice(MISSING_METHODS), default=None,
+                        help="Missing answers: listwise (default) sets aside respondents with any gap; pairwise "
+                             "uses, for each pair of items, the respondents who answered both; em estimates the "
+                             "means and covariances by maximum likelihood (EM) from everyone who answered.")(fn)
+
+
+def resolve_missing(missing: str | None, pairwise: bool = False) -> str:
+    """The method of ``--missing``, with ``--pairwise`` kept as a synonym of ``--missing pairwise``."""
+    if pairwise and missing not in (None, "pairwise"):
+        raise UsageError(f"--pairwise and --missing {missing} contradict each other; give one of them")
+    return missing or ("pairwise" if pairwise else "listwise")
+
+
 @dataclass(frozen=True)
 class Inputs:
     """What a command works on: the scale file, the responses, and their provenance."""

@@ -12,8 +12,10 @@ from .common import (
     emit,
     input_options,
     load_inputs,
+    missing_option,
     output_options,
     resolve_by,
+    resolve_missing,
     scales_option,
 )
 
@@ -28,8 +30,9 @@ from .common import (
               help="Also give percentile and BCa bootstrap intervals of alpha from N resamples.")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
               help="Seed of the bootstrap (default: a fresh one, recorded in the output).")
+@missing_option
 @click.option("--pairwise", is_flag=True,
-              help="Pairwise instead of listwise deletion: each covariance uses the rows answering both items.")
+              help="Same as --missing pairwise (kept for existing scripts).")
 @click.option("--ordinal", is_flag=True,
               help="Also treat the answers as ordered categories: ordinal alpha, ordinal omega and the sum "
                    "score's reliability from polychoric correlations.")
@@ -45,8 +48,9 @@ from .common import (
 @input_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
-                seed: int | None, pairwise: bool, ordinal: bool, min_group: int, weak_item_r: float, redundant_r: float,
-                low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, fmt: str | None,
+                seed: int | None, missing: str | None, pairwise: bool, ordinal: bool, min_group: int,
+                weak_item_r: float, redundant_r: float, low_alpha: float, excess_alpha: float, lenient: bool,
+                exclude: Path | None, fmt: str | None,
                 out: Path | None, decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
@@ -60,6 +64,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
 
+    method = resolve_missing(missing, pairwise)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec)
     if n_resamples and seed is None:
@@ -69,12 +74,12 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
     reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
-                                  pairwise=pairwise, min_group=min_group, n_resamples=n_resamples, seed=seed,
+                                  missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
                                   thresholds=thresholds, ordinal=ordinal)
     body = {"scales": {name: report.to_dict() for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
-    options = {"by": list(columns), "confidence_level": confidence_level, "missing": "pairwise" if pairwise
-               else "listwise", "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
+    options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
+               "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
     emit(command="reliability", inputs=inputs, body=body, tables=reliability_tables(reports), fmt=fmt, out=out,
          decimals=decimals, options=options)

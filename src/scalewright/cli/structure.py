@@ -11,7 +11,9 @@ from .common import (
     emit,
     input_options,
     load_inputs,
+    missing_option,
     output_options,
+    resolve_missing,
     scales_option,
 )
 
@@ -49,28 +51,33 @@ def parse_factors(value: str | None) -> int | str | None:
               help="Flag items loading more than this on another factor.")
 @click.option("--ordinal", is_flag=True,
               help="Factor the polychoric correlations of the items (answers as ordered categories).")
+@missing_option
 @input_options
 @output_options
 def structure(data: Path, scales: Path, factors: str | None, rotation: str, method: str, iterations: int,
-              seed: int, min_loading: float, cross_loading: float, ordinal: bool, lenient: bool, exclude: Path | None,
-              fmt: str | None, out: Path | None, decimals: int) -> None:
+              seed: int, min_loading: float, cross_loading: float, ordinal: bool, missing: str | None,
+              lenient: bool, exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check dimensionality: do each scale's items measure one thing, and the scales different things?
 
     Reports sampling adequacy (KMO, Bartlett's test), parallel analysis, an
     exploratory factor analysis with loadings laid against the scale file's
     scales, and flags for items that sit with the wrong factor. Respondents with
-    any missing answer are set aside (listwise) and counted. With --ordinal, every statistic uses the
-    polychoric correlations of the items instead of the Pearson ones.
+    any missing answer are set aside (listwise) and counted, unless --missing
+    says otherwise (em: every item of the file together, by maximum likelihood).
+    With --ordinal, every statistic uses the polychoric correlations of the items
+    instead of the Pearson ones.
     """
     from ..present.structure import structure_tables
 
     n_factors = parse_factors(factors)
+    missing_method = resolve_missing(missing)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     result = analyse_structure_of_file(inputs.spec, inputs.responses, n_factors=n_factors, rotation=rotation,
                                        method=method, seed=seed, iterations=iterations, min_loading=min_loading,
-                                       max_cross_loading=cross_loading, ordinal=ordinal)
+                                       max_cross_loading=cross_loading, ordinal=ordinal, missing=missing_method)
     body = result.to_dict()
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
-               "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading, "ordinal": ordinal}
+               "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading,
+               "ordinal": ordinal, "missing": missing_method}
     emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,
          decimals=decimals, options=options)

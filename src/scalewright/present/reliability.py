@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from .missing import missing_lines
 from .ordinal import ordinal_reliability_table, ordinal_sentences
 from .table import Table
 
@@ -56,6 +57,7 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
         notes = [f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
                  f"{overall.missing_handling}"]
         notes += list(overall.notes)
+        notes += missing_lines(overall.missing)
         for group in report.groups:
             notes += list(group.notes)
         notes += ordinal_sentences(report.ordinal_advice)

@@ -138,8 +138,10 @@ def reliability_table(findings: Any) -> Table | None:
         return None
     summary = next(t for t in reliability_tables([findings.reliability]) if t.key == "reliability")
     overall = findings.reliability.overall
+    from .missing import missing_lines
+
     notes = (f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
-             f"{overall.missing_handling}", *overall.notes)
+             f"{overall.missing_handling}", *overall.notes, *missing_lines(overall.missing))
     table = _without(Table(title=f"Reliability of {scale_label(findings)}", columns=summary.columns,
                            rows=tuple(row for row in summary.rows if row[1] == "all"), kinds=summary.kinds,
                            notes=tuple(notes), key=summary.key), "scale")
@@ -173,7 +175,11 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
         else:
             text = (f"Internal consistency: alpha = {_n(overall.alpha, 'bounded', decimals)}, {level} CI "
                     f"[{_n(overall.alpha_ci[0], 'bounded', decimals)}, {_n(overall.alpha_ci[1], 'bounded', decimals)}]"
-                    f", from the {overall.n_used} respondents who answered every item")
+                    + {"em": f", from the {overall.n_used} respondents who answered at least one item (EM)",
+                       "pairwise": f", from at least {overall.n_used} respondents for each pair of items "
+                                   "(pairwise)"}.get(overall.missing_handling,
+                                                     f", from the {overall.n_used} respondents who answered "
+                                                     "every item"))
             if _n(overall.omega_total) != "–":
                 text += f"; omega total = {_n(overall.omega_total, 'bounded', decimals)}"
             sentences.append(text + ".")
@@ -390,7 +396,9 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
                        blocks=(Paragraph("The structure was not analysed: it needs at least two items.", tone="note"),))
     blocks: list[Any] = []
     suggested = structure.parallel.suggested_factors if structure.parallel is not None else None
-    text = (f"The structure uses the {structure.n_used} respondents who answered every item"
+    em = structure.missing is not None and structure.missing.method == "em"
+    text = (f"The structure uses the {structure.n_used} respondents who answered "
+            + ("at least one item (EM over every item of the file)" if em else "every item")
             + (f" ({structure.n_set_aside} set aside)" if structure.n_set_aside else "") + ".")
     if suggested is not None:
         text += (f" Parallel analysis suggests {suggested} factor(s) for {len(results.scales)} scale(s); "
@@ -402,8 +410,11 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
         blocks.append(FigureRow(row))
     blocks.append(Details("Adequacy, parallel analysis and loadings",
                           tuple(TableBlock(t) for t in structure_tables(structure))))
-    if structure.notes:
-        blocks.append(Bullets(tuple(structure.notes), tone="note"))
+    from .missing import missing_lines
+
+    notes = (*structure.notes, *missing_lines(structure.missing))
+    if notes:
+        blocks.append(Bullets(tuple(notes), tone="note"))
     return Section(anchor="structure", title="Structure", blocks=tuple(blocks))
 
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from .missing import missing_lines
 from .numbers import format_value
 from .table import Table
 
@@ -30,7 +31,7 @@ def _adequacy_table(result: Any) -> Table:
                bartlett.df, bartlett.p),),
         kinds={"respondents used": "int", "set aside": "int", "items": "int", "KMO": "bounded", "df": "int",
                "p": "p"},
-        notes=(*result.notes, *_correlation_sentences(result),
+        notes=(*result.notes, *_correlation_sentences(result), *missing_lines(getattr(result, "missing", None)),
                "KMO below .50 is unacceptable for factor analysis (Kaiser, 1974); Bartlett's test asks whether "
                "the items are correlated at all (Bartlett, 1950)."),
         key="adequacy")

@@ -18,6 +18,7 @@ from ..results import ResultMixin, to_jsonable
 from .bootstrap import AlphaBootstrap
 from .coded import CodedAnswers
 from .item_covariance import correlation_from_cov, is_invertible
+from .missing import MissingHandling
 from .subgroups import SubgroupSplit
 
 
@@ -384,10 +385,15 @@ class ScaleReliability(ResultMixin):
     thresholds: ReliabilityThresholds
     bootstrap: AlphaBootstrap | None
     notes: tuple[str, ...]
+    missing: MissingHandling | None = None
 
     def to_dict(self) -> dict[str, Any]:
         out = super().to_dict()
         out["items"] = {name: item.to_dict() for name, item in self.items.items()}
+        out.pop("missing")
+        if self.missing is not None:
+            out.update(self.missing.to_dict())
+            out["notes"] = [*out["notes"], *self.missing.note_dicts]
         return out
 
     def flag_codes(self) -> set[tuple[str | None, str]]:
@@ -660,7 +666,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                       confidence_level: float = 0.95, pairwise: bool = False,
                       thresholds: ReliabilityThresholds = ReliabilityThresholds(),
                       reversed_items: Sequence[str] = (), n_resamples: int = 0,
-                      seed: int | None = None) -> ScaleReliability:
+                      seed: int | None = None, missing: str | None = None) -> ScaleReliability:
     """Reliability and item analysis of one scale from its keyed item matrix.
 
     Parameters
@@ -683,6 +689,11 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         Items that were reverse-keyed (their answer counts are reported on the codes as given).
     n_resamples, seed : int
         Bootstrap resamples (0 = no bootstrap) and the seed of the generator.
+    missing : {"listwise", "pairwise", "em"}, optional
+        How missing answers are handled; overrides ``pairwise``. ``em``: the maximum-likelihood means and
+        covariance matrix under missing at random (EM, :mod:`scalewright.stats.em`), computed from the
+        per-pattern sufficient statistics; every reliability statistic comes from that matrix (Enders,
+        2003) and ``n_used`` counts the respondents who gave at least one answer.
 
     Returns
     -------
@@ -693,10 +704,28 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     Listwise (default): every statistic uses the rows that answered all k items; the others are counted in
     ``n_set_aside``. Pairwise: each covariance uses the rows answering both items and the confidence
     interval uses the smallest pairwise count. Item descriptives use every answer given to the item.
+    EM: Feldt's interval with ``n_used``, the respondents who answered at least one item (a note says so:
+    with much missing it is too narrow, since the information is less than that many complete rows).
+    Whatever the method, the result carries the missingness patterns and Little's MCAR test.
+
+    References
+    ----------
+    .. [1] Enders, C. K. (2003). Using the expectation maximization algorithm to estimate coefficient
+       alpha for scales with item-level missing data. Psychological Methods, 8, 322-337.
     """
+    from ..errors import UsageError
     from .bootstrap import bootstrap_alpha
-    from .coded import answer_tally, listwise_covariance, pairwise_covariance
+    from .coded import answer_tally, pairwise_covariance
+    from .em import em_means_and_covariance
     from .item_covariance import item_covariance
+    from .missing import check_method, keyed_estimate, listwise_from_summary, missing_handling
+    from .missing_patterns import PatternSummary
+
+    method = check_method(missing or ("pairwise" if pairwise else "listwise"))
+    pairwise = method == "pairwise"
+    if method == "em" and n_resamples:
+        raise UsageError("the bootstrap of alpha is not available with --missing em: it would rerun EM on every "
+                         "resample; the interval under em is Feldt's (see the note)")
 
     names = tuple(item_names)
     if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
@@ -711,9 +740,13 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
+    summary = None
     if isinstance(keyed, CodedAnswers) and not n_resamples:
-        covariance = pairwise_covariance if pairwise else listwise_covariance
-        stats = covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        summary = PatternSummary.from_codes(keyed.codes)
+        if pairwise:
+            stats = pairwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        else:  # the summary's complete pattern holds the listwise statistics (no second pass over the codes)
+            stats = listwise_from_summary(summary, low=int(low), high=int(high), reversed_mask=reversed_mask)
         descriptives = item_descriptives_from_tally(answer_tally(keyed, int(high - low) + 1), n_rows=keyed.shape[0],
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
@@ -725,12 +758,24 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         if matrix.shape[1] != len(names):
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
+    if summary is None:  # the answers as given (offsets from low), as the codes route sees them: same numbers
+        summary = PatternSummary.from_values(np.where(reversed_mask, high - matrix, matrix - low))
+    estimate = None
+    cov, n_used = stats.cov, stats.n_used
+    if method == "em" and summary.anything_missing:
+        estimate = em_means_and_covariance(summary)
+        _, cov = keyed_estimate(estimate, lows=np.full(len(names), low), highs=np.full(len(names), high),
+                                reversed_mask=reversed_mask, from_codes=True)
+        n_used = summary.n_used
+    # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
+    # divisor cancels in every statistic here), so em and listwise agree exactly
+    handling = missing_handling(summary, method, n_used=n_used, estimate=estimate, item_names=names)
     notes: list[str] = []
     if pairwise:
         notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
                      f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
                      f"confidence interval uses the smallest count, {stats.n_used}")
-    elif stats.n_rows > stats.n_used:
+    elif method == "listwise" and stats.n_rows > stats.n_used:
         notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
                      f"every item and were set aside")
     if descriptives.off_level:
@@ -740,10 +785,10 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if n_resamples:
         boot = bootstrap_alpha(matrix, n_resamples=n_resamples, confidence_level=confidence_level, seed=seed,
                                pairwise=pairwise)
-    return reliability_from_cov(stats.cov, stats.n_used, item_names=names, confidence_level=confidence_level,
-                                thresholds=thresholds, reversed_items=reversed_items, descriptives=descriptives,
-                                n_rows=stats.n_rows, missing_handling="pairwise" if pairwise else "listwise",
-                                bootstrap=boot, notes=notes)
+    result = reliability_from_cov(cov, n_used, item_names=names, confidence_level=confidence_level,
+                                  thresholds=thresholds, reversed_items=reversed_items, descriptives=descriptives,
+                                  n_rows=stats.n_rows, missing_handling=method, bootstrap=boot, notes=notes)
+    return replace(result, missing=handling)
 
 
 # --------------------------------------------------------------------------------------------------------

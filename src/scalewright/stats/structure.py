@@ -108,6 +108,7 @@ class StructureResult(ResultMixin):
     correlation: np.ndarray | None = None
     correlation_type: str = "pearson"
     correlation_notes: tuple[Any, ...] = ()
+    missing: Any = None  # stats.missing.MissingHandling
 
     @property
     def factor_names(self) -> tuple[str, ...]:
@@ -142,12 +143,13 @@ class StructureResult(ResultMixin):
             "thresholds": {"min_loading": self.min_loading, "max_cross_loading": self.max_cross_loading,
                            "min_kmo": MIN_KMO, "min_eigen_ratio": MIN_EIGEN_RATIO},
             "flags": [{"item": f.item, "scale": f.scale, "code": f.code, "message": f.message} for f in self.flags],
-            "notes": list(self.notes),
+            "notes": [*self.notes, *([] if self.missing is None else self.missing.note_dicts)],
             "correlation_type": self.correlation_type,
             "correlation": {} if self.correlation is None else
             {a: {b: to_jsonable(self.correlation[i, j]) for j, b in enumerate(self.items)}
              for i, a in enumerate(self.items)},
             "correlation_notes": [n.to_dict() for n in self.correlation_notes],
+            **({} if self.missing is None else self.missing.to_dict()),
         }
 
 
@@ -322,7 +324,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                       seed: int | np.random.Generator | None = DEFAULT_SEED, iterations: int = 100,
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
                       max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
-                      correlation_type: str = "pearson", correlation_notes: Sequence[Any] = ()) -> StructureResult:
+                      correlation_type: str = "pearson", correlation_notes: Sequence[Any] = (),
+                      missing: str = "listwise") -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -349,6 +352,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         An item correlation matrix (of ``item_names``, over the same complete rows) to analyse instead of
         the Pearson correlations, e.g. polychoric ones, its name and notes (:class:`~scalewright.notes.Note`).
         Left without the items that are dropped, it is smoothed again if it is not positive definite.
+    missing : {"listwise", "pairwise", "em"}
+        How missing answers are handled (see Notes).
 
     Returns
     -------
@@ -356,8 +361,11 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     Notes
     -----
-    Respondents with any missing answer are set aside (listwise) and counted; items with no variance
-    among the rest are left out and flagged.
+    Listwise (default): respondents with any missing answer are set aside and counted. Pairwise: each
+    correlation from the respondents who answered both items; n is the smallest pair count. EM: the
+    correlations of the maximum-likelihood covariance matrix of every item together
+    (:func:`scalewright.stats.em.em_means_and_covariance`); n is the number of respondents who answered at
+    least one item. Items with no variance among the rows used are left out and flagged.
     """
     keyed = np.asarray(keyed_matrix, dtype=float)
     supplied = None if correlation is None else np.asarray(correlation, dtype=float)
@@ -375,21 +383,18 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     notes: list[str] = []
     flags: list[StructureFlag] = []
-    complete, set_aside = complete_cases(keyed)
-    if set_aside:
+    n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
+    if set_aside and missing == "listwise":
         notes.append(f"{set_aside} of {keyed.shape[0]} respondent(s) with at least one missing answer set aside "
                      "(listwise); every statistic uses the remaining complete cases")
-    n = complete.shape[0]
-    constant = np.ptp(complete, axis=0) == 0 if n else np.ones(len(item_names), dtype=bool)
     dropped = [name for name, c in zip(item_names, constant) if c]
     for name in dropped:
-        flags.append(StructureFlag(name, "no-variance", "every complete respondent gave the same answer; "
+        flags.append(StructureFlag(name, "no-variance", "every respondent used gave the same answer; "
                                    "left out of the analysis", item_scale[name]))
     if dropped:
         notes.append(f"{len(dropped)} item(s) without variance left out: {', '.join(dropped)}")
     kept = [i for i, c in enumerate(constant) if not c]
     items = tuple(item_names[i] for i in kept)
-    data = complete[:, kept]
     p = len(items)
 
     def empty(reason: str) -> StructureResult:
@@ -400,7 +405,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                                unidimensionality={}, flags=tuple(flags), notes=tuple(notes + [reason]),
                                min_loading=min_loading, max_cross_loading=max_cross_loading,
                                dropped_items=tuple(dropped), correlation_type=correlation_type,
-                               correlation_notes=tuple(correlation_notes))
+                               correlation_notes=tuple(correlation_notes), missing=handling)
 
     if n < 3:
         return empty(f"only {n} complete respondent(s): the structure needs at least 3")
@@ -409,7 +414,9 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     correlation_notes = list(correlation_notes)
     if supplied is None:
-        correlation = correlation_of(data)
+        correlation = correlation_all[np.ix_(kept, kept)]
+        if not np.isfinite(correlation).all():
+            return empty("some item pairs have no respondents in common: the correlation matrix is incomplete")
     else:
         from .polychoric_matrix import smoothed_if_needed
 
@@ -502,4 +509,40 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                            unidimensionality=per_scale, flags=tuple(flags), notes=tuple(notes),
                            min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped),
                            correlation=correlation, correlation_type=correlation_type,
-                           correlation_notes=tuple(correlation_notes))
+                           correlation_notes=tuple(correlation_notes), missing=handling)
+
+
+def _correlation_by_method(keyed: np.ndarray, missing: str,
+                           item_names: Sequence[str]) -> tuple[int, int, np.ndarray, np.ndarray, Any]:
+    """(n used, respondents set aside, correlation matrix, items without variance, MissingHandling)."""
+    from .em import em_means_and_covariance
+    from .item_covariance import correlation_from_cov, item_covariance
+    from .missing import check_method, missing_handling
+    from .missing_patterns import PatternSummary
+
+    check_method(missing)
+    summary = PatternSummary.from_values(keyed)
+    p = keyed.shape[1]
+    estimate = None
+    if missing == "listwise":
+        complete, set_aside = complete_cases(keyed)
+        n = complete.shape[0]
+        constant = np.ptp(complete, axis=0) == 0 if n else np.ones(p, dtype=bool)
+        correlation = np.full((p, p), np.nan)
+        if n:
+            kept = ~constant
+            correlation[np.ix_(kept, kept)] = correlation_of(complete[:, kept]) if kept.sum() > 1 else 1.0
+    else:
+        if missing == "em":
+            estimate = em_means_and_covariance(summary)
+            cov, n = estimate.cov, summary.n_used
+        else:
+            stats = item_covariance(keyed, pairwise=True)
+            cov, n = stats.cov, stats.n_used
+        set_aside = keyed.shape[0] - n if missing == "em" else 0
+        variances = np.diag(cov)
+        constant = ~(variances > 0)
+        correlation = correlation_from_cov(cov)
+    handling = missing_handling(summary, missing, n_used=n, estimate=estimate, scope="file",
+                                item_names=tuple(item_names))
+    return int(n), int(set_aside), correlation, constant, handling
