@@ -1,7 +1,10 @@
 """`scalewright demo` and the example script: what they write, and what they refuse."""
 from __future__ import annotations
 
+import contextlib
 import importlib.util
+import io
+from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
@@ -18,12 +21,32 @@ def _snapshot(folder: Path) -> dict[str, bytes]:
     return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}
 
 
-def test_demo_writes_data_scale_file_and_scores(tmp_path, capsys):
-    out = tmp_path / "demo"
-    assert main(["demo", "--out", str(out), "--seed", "5", "--n", "120", "--iterations", "5", "--quiet"]) == 0
+@dataclass(frozen=True)
+class DemoRun:
+    folder: Path
+    printed: str
+
+
+@pytest.fixture(scope="module")
+def demo_run(tmp_path_factory) -> DemoRun:
+    """One demo (a full report, the costly part) for every test below: with --force into a folder that
+    already holds a file of the user's."""
+    out = tmp_path_factory.mktemp("demo")
+    (out / "notes.txt").write_text("my own file\n")
+    stdout = io.StringIO()
+    with contextlib.redirect_stdout(stdout):
+        status = main(["demo", "--out", str(out), "--seed", "5", "--n", "120", "--iterations", "5", "--force",
+                       "--quiet"])
+    assert status == 0
+    return DemoRun(folder=out, printed=stdout.getvalue())
+
+
+def test_demo_writes_data_scale_file_and_scores(demo_run):
+    out = demo_run.folder
     report_files = ["index.html", "report.md", "results.json", "figures"]
-    assert sorted(p.name for p in out.iterdir()) == sorted([DATA_NAME, SCALES_NAME, SCORES_NAME, *report_files])
-    printed = capsys.readouterr().out
+    assert sorted(p.name for p in out.iterdir()) == sorted([DATA_NAME, SCALES_NAME, SCORES_NAME, "notes.txt",
+                                                           *report_files])
+    printed = demo_run.printed
     for name in (DATA_NAME, SCALES_NAME, SCORES_NAME):
         assert str(out / name) in printed
     assert "fictional" in printed and "not a diagnosis" in printed
@@ -40,17 +63,21 @@ def test_demo_writes_data_scale_file_and_scores(tmp_path, capsys):
     assert (out / DATA_NAME).read_text(encoding="utf-8") == frame.to_csv(index=False, lineterminator="\n")
 
 
-def test_scored_file_matches_scoring_the_written_inputs(tmp_path):
+def test_scored_file_matches_scoring_the_written_inputs(demo_run):
     from scalewright.data import read_responses
     from scalewright.scoring import score_scales
     from scalewright.spec import load_spec
 
-    out = tmp_path / "demo"
-    assert main(["demo", "--out", str(out), "--n", "80", "--iterations", "5", "--quiet"]) == 0
+    out = demo_run.folder
     spec = load_spec(out / SCALES_NAME)
     direct = score_scales(read_responses(out / DATA_NAME, spec), spec).to_frame()
     written = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
     pd.testing.assert_frame_equal(written, direct, check_dtype=False, rtol=1e-12)
+
+
+def test_demo_force_writes_into_a_non_empty_folder(demo_run):
+    assert (demo_run.folder / "notes.txt").read_text() == "my own file\n"
+    assert len(pd.read_csv(demo_run.folder / SCORES_NAME)) == 120
 
 
 def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
@@ -60,13 +87,6 @@ def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
     err = capsys.readouterr().err
     assert err.startswith("error: ") and "not empty" in err and "--force" in err and len(err.splitlines()) == 1
     assert _snapshot(tmp_path) == before
-
-
-def test_demo_force_writes_into_a_non_empty_folder(tmp_path):
-    (tmp_path / "notes.txt").write_text("my own file\n")
-    assert main(["demo", "--out", str(tmp_path), "--n", "60", "--force", "--iterations", "5", "--quiet"]) == 0
-    assert (tmp_path / "notes.txt").read_text() == "my own file\n"
-    assert len(pd.read_csv(tmp_path / SCORES_NAME)) == 60
 
 
 def test_demo_refuses_a_file_as_folder_and_bad_sizes(tmp_path, capsys):

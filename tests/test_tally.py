@@ -241,3 +241,17 @@ def test_a_group_with_levels_in_the_scale_file_is_ordered():
     cumulative = [c.cumulative_percent for c in result.categories]
     assert [c.category for c in result.categories] == ["new", "mid", "long"]
     assert cumulative == pytest.approx([25.0, 100 * 16 / 24, 100.0])
+
+
+def test_tally_from_counts_equals_tally_of_the_values():
+    # reference: tally() of the values (pandas value_counts inside), the path every other column takes
+    from scalewright.stats.tally import tally_from_counts
+
+    values = pd.Series([1.0] * 3 + [2.0] * 40 + [4.0] * 12 + [np.nan] * 5, name="wl1")
+    labels = {1: "Low", 2: "Mid-low", 3: "Mid", 4: "High"}
+    by_values = tally(values, order=[1, 2, 3, 4], labels=labels, min_cell=5)
+    counts = values.value_counts()
+    by_counts = tally_from_counts({str(v): int(counts.get(float(v), 0)) for v in (1, 2, 3, 4)}, n_total=len(values),
+                                  n_missing=int(values.isna().sum()), column="wl1", ordered=True,
+                                  labels={str(k): v for k, v in labels.items()}, min_cell=5)
+    assert by_counts == by_values

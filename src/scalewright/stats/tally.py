@@ -140,9 +140,23 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
         ordered = (order is not None or bool(label_of) or pd.api.types.is_numeric_dtype(series.dtype)
                    or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
     exact = {c: int(counts.get(c, 0)) for c in categories}
+    return tally_from_counts(exact, n_total=len(series), n_missing=int(missing_mask.sum()), column=column,
+                             ordered=bool(ordered), labels=label_of, min_cell=min_cell)
+
+
+def tally_from_counts(exact: Mapping[str, int], *, n_total: int, n_missing: int, column: str, ordered: bool,
+                      labels: Mapping[str, str] | None = None, min_cell: int = 5) -> Tally:
+    """The :class:`Tally` of counts already made: ``exact`` maps each category name, in order, to its count.
+
+    What :func:`tally` returns once it has counted; callers that count otherwise (every answer code of
+    every item in one pass, :func:`scalewright.stats.coded.code_counts`) get the same result from here.
+    """
+    if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
+        raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
+    exact = {str(c): int(v) for c, v in exact.items()}
+    categories = list(exact)
+    label_of = dict(labels or {})
     hidden, notes = _suppression(exact, min_cell, column)
-    n_total = len(series)
-    n_missing = int(missing_mask.sum())
     n_valid = n_total - n_missing
     rows = []
     running = 0
@@ -409,4 +423,4 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
 
 
 __all__ = ["AnswerDistribution", "CategoryCount", "CategoryFit", "FitResult", "PROPORTION_TOLERANCE", "Tally",
-           "answer_distribution", "check_expected", "goodness_of_fit", "tally"]
+           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_counts"]
