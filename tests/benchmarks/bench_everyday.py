@@ -2,8 +2,9 @@
 
 Each case runs its command in a child process several times; beside each run, in the same loop, a child
 runs ``python -c "import pandas, scipy.stats, matplotlib"`` (the start-up every command pays at least).
-The table gives the median seconds of both, the median of the paired ratios and the goal, plus the load
-average when the case started (``/proc/loadavg``: figures taken on a busy machine are not comparable).
+The table gives the median seconds of both, the median of the paired ratios and the goal, the same ratio in
+CPU seconds, and the load average when the case started (``/proc/loadavg``: figures taken on a busy machine
+are not comparable).
 
     python tests/benchmarks/bench_everyday.py [--repeat 3] [--folder DIR] [--cases a,b,...] [--json FILE]
 
@@ -129,13 +130,18 @@ def prepare(folder: Path, names: set[str]) -> dict[str, list[str]]:
     return commands
 
 
-def timed(arguments: list[str], env: dict[str, str]) -> float:
+def timed(arguments: list[str], env: dict[str, str]) -> tuple[float, float]:
+    """Wall seconds and CPU seconds (user + system, the child and the processes it waited for)."""
     start = time.perf_counter()
-    done = subprocess.run(arguments, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=env)
+    process = subprocess.Popen(arguments, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=env)
+    error = process.stderr.read()
+    _, status, usage = os.wait4(process.pid, 0)
     elapsed = time.perf_counter() - start
-    if done.returncode:
-        raise SystemExit(f"command failed ({done.returncode}): {' '.join(arguments)}\n{done.stderr.decode()}")
-    return elapsed
+    code = os.waitstatus_to_exitcode(status)
+    process.returncode = code
+    if code:
+        raise SystemExit(f"command failed ({code}): {' '.join(arguments)}\n{error.decode()}")
+    return elapsed, usage.ru_utime + usage.ru_stime
 
 
 def load() -> str:
@@ -151,10 +157,14 @@ def run_case(case: Case, arguments: list[str], repeat: int) -> dict:
     busy = subprocess.Popen(BUSY) if case.busy else None
     try:
         load_at_start = load()
-        startups, commands = [], []
+        startups, commands, startup_cpu, command_cpu = [], [], [], []
         for _ in range(repeat):
-            startups.append(timed(STARTUP, env))
-            commands.append(timed(command, env))
+            wall, cpu = timed(STARTUP, env)
+            startups.append(wall)
+            startup_cpu.append(cpu)
+            wall, cpu = timed(command, env)
+            commands.append(wall)
+            command_cpu.append(cpu)
     finally:
         if busy is not None:
             busy.kill()
@@ -163,7 +173,9 @@ def run_case(case: Case, arguments: list[str], repeat: int) -> dict:
     return {"case": case.name, "what": case.what, "goal": case.goal, "busy": case.busy, "load": load_at_start,
             "load_after": load(), "startup_s": startups, "command_s": commands, "ratios": ratios,
             "median_startup_s": statistics.median(startups), "median_command_s": statistics.median(commands),
-            "median_ratio": statistics.median(ratios), "met": statistics.median(ratios) <= case.goal}
+            "median_ratio": statistics.median(ratios), "met": statistics.median(ratios) <= case.goal,
+            "startup_cpu_s": startup_cpu, "command_cpu_s": command_cpu,
+            "median_cpu_ratio": statistics.median(c / s for c, s in zip(command_cpu, startup_cpu))}
 
 
 def main() -> int:
@@ -180,17 +192,20 @@ def main() -> int:
     print(f"inputs in {options.folder} (ready in {time.perf_counter() - started:.1f} s); "
           f"{options.repeat} run(s) per case, cores: {os.cpu_count()}")
     results = []
-    header = (f"{'case':<11} {'goal':>5} {'start-up s':>10} {'command s':>10} {'ratio':>6} {'met':>4}  "
-              f"{'load (1/5/15 min)':<17}  what")
+    header = (f"{'case':<11} {'goal':>5} {'start-up s':>10} {'command s':>10} {'ratio':>6} {'met':>4} "
+              f"{'cpu ratio':>9}  {'load (1/5/15 min)':<17}  what")
     print(header)
     print("-" * len(header))
     for case in chosen:
         row = run_case(case, commands[case.name], options.repeat)
         results.append(row)
         print(f"{case.name:<11} {case.goal:>5.1f} {row['median_startup_s']:>10.2f} {row['median_command_s']:>10.2f} "
-              f"{row['median_ratio']:>6.2f} {'yes' if row['met'] else 'NO':>4}  {row['load']:<17}  {case.what}",
+              f"{row['median_ratio']:>6.2f} {'yes' if row['met'] else 'NO':>4} {row['median_cpu_ratio']:>9.2f}  "
+              f"{row['load']:<17}  {case.what}",
               flush=True)
-    print("medians of the runs; ratio = median of the paired ratios (command / start-up of the same run)")
+    print("medians of the runs; ratio = median of the paired ratios (command / start-up of the same run), wall "
+          "clock; cpu ratio = the same with CPU seconds (user + system, worker processes included): on a busy "
+          "machine a rough guide to the quiet ratio, above it when the command spreads its work over cores")
     if options.json:
         options.json.write_text(json.dumps({"repeat": options.repeat, "cpu_count": os.cpu_count(),
                                             "cases": results}, indent=2), encoding="utf-8")
