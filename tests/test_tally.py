@@ -255,3 +255,19 @@ def test_tally_from_counts_equals_tally_of_the_values():
                                   n_missing=int(values.isna().sum()), column="wl1", ordered=True,
                                   labels={str(k): v for k, v in labels.items()}, min_cell=5)
     assert by_counts == by_values
+
+
+def test_answer_distribution_counted_per_level_equals_tally_of_each_column():
+    # reference: tally() of each column (pandas value_counts inside), the route for answers off the levels
+    rng = np.random.default_rng(8)
+    matrix = rng.integers(1, 6, (300, 4)).astype(float)
+    matrix[rng.random(matrix.shape) < 0.1] = np.nan
+    matrix[:, 3] = np.where(matrix[:, 3] == 5, 4, matrix[:, 3])  # a level nobody chose
+    labels = {1: "SD", 2: "D", 3: "N", 4: "A", 5: "SA"}
+    result = answer_distribution(matrix, [1, 2, 3, 4, 5], labels, item_names=list("abcd"), min_cell=5)
+    for j, name in enumerate("abcd"):
+        expected = tally(pd.Series(matrix[:, j], name=name), order=[1, 2, 3, 4, 5], labels=labels, ordered=True,
+                         min_cell=5)
+        assert result.items[j] == expected
+    with pytest.raises(UsageError):
+        answer_distribution(np.array([[1.0], [7.0]]), [1, 2, 3, 4, 5])

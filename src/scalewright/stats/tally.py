@@ -415,6 +415,19 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
         raise UsageError(f"{len(names)} item names for {matrix.shape[1]} item columns")
     levels = [int(v) for v in levels]
     label_map = {int(k): str(v) for k, v in (labels or {}).items()}
+    answered = ~np.isnan(matrix)
+    counts = np.stack([np.count_nonzero(matrix == v, axis=0) for v in levels]) if levels else None
+    if counts is not None and (counts.sum(axis=0) == answered.sum(axis=0)).all():
+        # every answer is one of the levels: one comparison per level over the whole matrix, not a Python
+        # call per answer; the same tallies as the per-column route below
+        n_answered = answered.sum(axis=0)
+        level_labels = {str(v): label_map.get(v, str(v)) for v in levels}
+        tallies = tuple(tally_from_counts({str(v): int(counts[i, j]) for i, v in enumerate(levels)},
+                                          n_total=matrix.shape[0], n_missing=int(matrix.shape[0] - n_answered[j]),
+                                          column=name, ordered=True, labels=level_labels, min_cell=min_cell)
+                        for j, name in enumerate(names))
+        return AnswerDistribution(items=tallies, levels=tuple(str(v) for v in levels),
+                                  labels=tuple(label_map.get(v, str(v)) for v in levels))
     tallies = tuple(tally(pd.Series(matrix[:, j], name=name), order=levels,
                           labels={v: label_map.get(v, str(v)) for v in levels}, ordered=True, min_cell=min_cell)
                     for j, name in enumerate(names))
