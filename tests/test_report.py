@@ -326,9 +326,9 @@ def test_sanitise_svg_drops_anything_that_could_run_or_fetch():
 
 
 def test_png_versions_only_on_request(built, tmp_path):
+    from scalewright.present.report_content import build_document
     from scalewright.present.report_files import FIGURE_FORMATS_WITH_PNG, make_figures
     from scalewright.present.report_md import render_report_markdown
-    from scalewright.present.report_content import build_document
 
     (tmp_path / "figures").mkdir()
     figures = make_figures(built.results, tmp_path, formats=FIGURE_FORMATS_WITH_PNG)

@@ -5,8 +5,8 @@ import os
 import threading
 import warnings
 from collections.abc import Callable, Iterable, Iterator
-from contextlib import contextmanager
 from concurrent.futures import ThreadPoolExecutor
+from contextlib import contextmanager
 from typing import TypeVar
 
 #: the warnings filters are process-wide: code that records warnings takes turns under this lock, since the

@@ -8,8 +8,8 @@ from __future__ import annotations
 
 import datetime as _dt
 from collections.abc import Callable, Mapping, Sequence
-from functools import partial
 from dataclasses import dataclass, field
+from functools import partial
 from typing import Any
 
 from . import __version__

@@ -6,8 +6,8 @@ allows otherwise.
 from __future__ import annotations
 
 import re
-from dataclasses import replace
 from collections.abc import Callable, Iterable
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
