@@ -1,10 +1,7 @@
 """`scalewright demo` and the example script: what they write, and what they refuse."""
 from __future__ import annotations
 
-import contextlib
 import importlib.util
-import io
-from dataclasses import dataclass
 from pathlib import Path
 
 import pandas as pd
@@ -21,26 +18,6 @@ def _snapshot(folder: Path) -> dict[str, bytes]:
     return {p.name: p.read_bytes() for p in sorted(folder.iterdir())}
 
 
-@dataclass(frozen=True)
-class DemoRun:
-    folder: Path
-    printed: str
-
-
-@pytest.fixture(scope="module")
-def demo_run(tmp_path_factory) -> DemoRun:
-    """One demo (a full report, the costly part) for every test below: with --force into a folder that
-    already holds a file of the user's."""
-    out = tmp_path_factory.mktemp("demo")
-    (out / "notes.txt").write_text("my own file\n")
-    stdout = io.StringIO()
-    with contextlib.redirect_stdout(stdout):
-        status = main(["demo", "--out", str(out), "--seed", "5", "--n", "120", "--iterations", "5", "--force",
-                       "--quiet"])
-    assert status == 0
-    return DemoRun(folder=out, printed=stdout.getvalue())
-
-
 def test_demo_writes_data_scale_file_and_scores(demo_run):
     out = demo_run.folder
     report_files = ["index.html", "report.md", "results.json", "figures"]
@@ -54,12 +31,12 @@ def test_demo_writes_data_scale_file_and_scores(demo_run):
     data = pd.read_csv(out / DATA_NAME, dtype=str, keep_default_na=False)
     scores = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
     # one row per respondent, in input order
-    assert list(scores["staff_id"]) == list(data["staff_id"]) and len(scores) == 120
+    assert list(scores["staff_id"]) == list(data["staff_id"]) and len(scores) == demo_data.DEFAULT_N
     expected = ["staff_id"] + [c for name in demo_data.SCALE_NAMES for c in (name, f"{name}__answered")]
     assert list(scores.columns) == expected
     assert (out / SCALES_NAME).read_bytes() == (REPO / "scales" / demo_data.SCALE_FILE_NAME).read_bytes()
     # the written data are exactly the generator's, for that seed
-    frame, _ = demo_data.generate_staff_climate(seed=5, n=120)
+    frame, _ = demo_data.generate_staff_climate(seed=demo_data.DEFAULT_SEED, n=demo_data.DEFAULT_N)
     assert (out / DATA_NAME).read_text(encoding="utf-8") == frame.to_csv(index=False, lineterminator="\n")
 
 
@@ -77,7 +54,7 @@ def test_scored_file_matches_scoring_the_written_inputs(demo_run):
 
 def test_demo_force_writes_into_a_non_empty_folder(demo_run):
     assert (demo_run.folder / "notes.txt").read_text() == "my own file\n"
-    assert len(pd.read_csv(demo_run.folder / SCORES_NAME)) == 120
+    assert len(pd.read_csv(demo_run.folder / SCORES_NAME)) == demo_data.DEFAULT_N
 
 
 def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
