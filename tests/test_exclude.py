@@ -15,7 +15,7 @@ from .test_quality_cli import write_survey
 ANALYSIS_COMMANDS = [name for name in COMMANDS if name not in ("demo", "draft")]
 
 #: extra arguments some commands need to run on the small survey
-EXTRA = {"compare": ["--by", "band"], "tally": ["--columns", "band"]}
+EXTRA = {"compare": ["--by", "band"], "tally": ["--columns", "band"], "report": ["--iterations", "5"]}
 
 
 def _option_names(command) -> set[str]:

@@ -323,3 +323,23 @@ def test_label_rule_accuracy_at_every_size_from_200():
     accuracy = result["accuracy"]
     assert np.mean(list(accuracy.values())) >= 0.93, accuracy
     assert min(accuracy.values()) >= 0.8, accuracy  # 40 data sets per cell: a 0.9 cell can dip this low by chance
+
+
+def test_moments_and_uniform_fit_equal_scipy_on_rating_scores():
+    # references: scipy.stats.skew / kurtosis (bias=False) and scipy.stats.chisquare, computed live, on the
+    # small, heavily tied samples a report describes per subgroup
+    rng = np.random.default_rng(31)
+    for n in (3, 4, 5, 12, 60, 600):
+        x = rng.integers(1, 6, n).astype(float) + rng.integers(0, 2, n) / 2
+        if np.ptp(x) == 0:
+            continue
+        result = moments(x)
+        assert result.skewness == pytest.approx(stats.skew(x, bias=False), rel=1e-11, abs=1e-13)
+        if n >= 4:
+            assert result.kurtosis == pytest.approx(stats.kurtosis(x, bias=False), rel=1e-11, abs=1e-13)
+        counts = np.bincount(rng.integers(0, 5, n), minlength=5)
+        weights = np.array([1, 2, 2, 2, 1])
+        fit = uniform_fit(counts, weights)
+        reference = stats.chisquare(counts, counts.sum() * weights / weights.sum())
+        assert fit.chi2 == pytest.approx(reference.statistic, rel=1e-12)
+        assert fit.p == pytest.approx(reference.pvalue, rel=1e-10)

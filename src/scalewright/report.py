@@ -9,6 +9,7 @@ from __future__ import annotations
 import datetime as _dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import partial
 from typing import Any
 
 from . import __version__
@@ -201,12 +202,17 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     ReportResults
     """
     from .analyses.compare import analyse_compare
+    from .concurrency import start_in_process
     from .scoring import score_scales
     from .stats.tally import answer_distribution, tally
 
     check_columns(responses, options)
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
+
+    # the comparisons (pingouin: pure-Python work and a heavy import) run in a second process meanwhile
+    compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
+                                        confidence_level=options.confidence_level, scores=score_table))
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)
@@ -215,8 +221,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     shapes = _shape(spec, responses, options, score_table)
 
     progress(STEPS[3])
-    by_column = analyse_compare(spec, responses, by=options.by, min_cell=options.min_cell,
-                                confidence_level=options.confidence_level, scores=score_table)
+    by_column = compared()
     comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
                                          for i, name in enumerate(spec.scales)}
 

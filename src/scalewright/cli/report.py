@@ -22,7 +22,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         exclude: Path | None = None, decimals: int = 2, force: bool = False,
                         seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                         min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        quiet: bool = False, single_file: bool = False, missing: str = "listwise") -> Any:
+                        quiet: bool = False, single_file: bool = False, missing: str = "listwise",
+                        png: bool = False) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import (
@@ -45,8 +46,12 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude], single_file=single_file)
     results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
                            input_notes=inputs.notes, n_excluded=inputs.excluded, progress=progress.step)
-    write = write_single_page if single_file else write_report_folder
-    write(results, folder, decimals=decimals, inputs=[data, scales, exclude], progress=progress.step)
+    if single_file:
+        write_single_page(results, folder, decimals=decimals, inputs=[data, scales, exclude],
+                          progress=progress.step)
+    else:
+        write_report_folder(results, folder, decimals=decimals, inputs=[data, scales, exclude],
+                            progress=progress.step, png=png)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
 
@@ -72,6 +77,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
               help="Groups and answer counts below this are shown as '< N'.")
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column of completion times; enables the screen's check for respondents who went too fast.")
+@click.option("--png", is_flag=True,
+              help="Also write every figure as a PNG image (for slides and word processors); the pages use SVG.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while working.")
 @click.option("--single-file", is_flag=True,
               help="Write only DIR/index.html, every figure inside it: one file to send (no other files).")
@@ -79,15 +86,16 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
 @input_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
-           quiet: bool, single_file: bool, missing: str | None, lenient: bool, exclude: Path | None) -> None:
+           png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
+           exclude: Path | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
     Writes DIR/index.html (one self-contained page: no scripts, nothing from the
     network), DIR/report.md, DIR/results.json (every result at full precision),
-    DIR/figures/ (SVG and PNG) and DIR/scores.csv. With --single-file, only
-    DIR/index.html, with every figure inside it.
+    DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
+    only DIR/index.html, with every figure inside it.
     """
     build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                         min_cell=min_cell, duration_column=duration_column, quiet=quiet, single_file=single_file,
-                        missing=resolve_missing(missing))
+                        missing=resolve_missing(missing), png=png)

@@ -108,6 +108,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                 _per_column(orders, names, "--order").items()}
     expected_of = _per_column(expected, names, "--expected")
     tallies, fits = [], []
+    counted = _count_item_codes(spec, responses, [n for n in names if n not in order_of], min_cell=min_cell)
     for name in names:
         is_item = spec is not None and name in spec.items
         labels = order = None
@@ -117,7 +118,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             labels = {level: response.label(level) for level in response.levels}
         if name in order_of:
             order = order_of[name]
-        result = count(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
+        result = counted[name] if name in counted else count(column_of(name), order=order, labels=labels,
+                                                             min_cell=min_cell, column=name)
         tallies.append(result)
         fit = None
         if name in expected_of:
@@ -126,7 +128,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
         fits.append(fit)
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
     distributions = {}
-    if items and spec is not None:
+    if items and spec is not None and figures is not None:  # drawn only; the tables are the tallies above
         for scale_name, scale in spec.scales.items():
             response = scale.response
             distributions[scale_name] = answer_distribution(
@@ -137,6 +139,32 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                        inputs=[p for p in (data, scales) if p is not None])
     emit(command="tally", inputs=inputs, body=body, tables=tally_tables(tallies, fits, decimals=decimals), fmt=fmt,
          out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})
+
+
+def _count_item_codes(spec, responses, names: list[str], *, min_cell: int) -> dict:
+    """The tallies of the items among ``names``, every answer code of every item counted in one pass.
+
+    Empty when there are no such items or their answers are not all held as codes (then each column is
+    tallied on its own, as any other column). Same result as :func:`~scalewright.stats.tally.tally` of each
+    item's clean values with the scale file's levels and labels.
+    """
+    from ..answer_codes import MISSING
+    from ..stats.coded import code_counts
+    from ..stats.tally import tally_from_counts
+
+    items = [name for name in names if spec is not None and name in spec.items]
+    codes = responses.codes(items) if items else None
+    if codes is None:
+        return {}
+    counts = code_counts(codes)
+    out = {}
+    for j, name in enumerate(items):
+        response = spec.response_for(name)
+        exact = {str(level): int(counts[j, level - response.min]) for level in response.levels}
+        out[name] = tally_from_counts(exact, n_total=responses.n, n_missing=int(counts[j, MISSING]), column=name,
+                                      ordered=True, labels={str(level): str(response.label(level))
+                                                            for level in response.levels}, min_cell=min_cell)
+    return out
 
 
 def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:

@@ -75,6 +75,25 @@ def answer_tally(coded: CodedAnswers, n_levels: int) -> np.ndarray:
     return tally
 
 
+def code_counts(codes: np.ndarray) -> np.ndarray:
+    """(k, 256) counts of every one-byte code of every column (255 = missing), in one pass over the rows.
+
+    Each block of rows is widened once and offset by ``256 * column``, so a single ``bincount`` counts all
+    codes of all columns of the block; memory stays at one block whatever the number of rows.
+    """
+    codes = np.asarray(codes)
+    if codes.dtype != np.uint8 or codes.ndim != 2:
+        raise DataError("answer codes must be a respondents x items matrix of uint8")
+    n_rows, k = codes.shape
+    offsets = (256 * np.arange(k, dtype=np.intp))[None, :]
+    counts = np.zeros(256 * k, dtype=np.int64)
+    for start in range(0, n_rows, _BLOCK_ROWS):
+        block = codes[start:start + _BLOCK_ROWS].astype(np.intp)
+        block += offsets
+        counts += np.bincount(block.ravel(), minlength=256 * k)
+    return counts.reshape(k, 256)
+
+
 def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
     """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
 

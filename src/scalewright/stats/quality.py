@@ -264,16 +264,27 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     column_means = np.where(answered[basis], x[basis], 0.0).sum(axis=0) / answered[basis].sum(axis=0)
     deviations = np.where(answered, x - column_means, 0.0)
     d2 = np.full(n, np.nan)
-    patterns, which = np.unique(answered, axis=0, return_inverse=True)
-    which = np.asarray(which).reshape(-1)
-    for g, pattern in enumerate(patterns):  # over missing-data patterns (few), every respondent in one at once
-        if not pattern.any():
-            continue
-        rows = which == g
-        observed = np.flatnonzero(pattern)
-        factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
-        z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
-        d2[rows] = (z ** 2).sum(axis=0)
+    # the missing-data patterns, each row's pattern packed into bytes (one key per row: far quicker to sort
+    # than the rows of a boolean matrix), and the rows of each pattern as one slice of a stable sort
+    packed = np.ascontiguousarray(np.packbits(answered, axis=1))
+    keys = packed.view(np.dtype((np.void, packed.shape[1]))).reshape(-1)
+    _, first, which = np.unique(keys, return_index=True, return_inverse=True)
+    patterns = answered[first]
+    by_pattern = np.argsort(np.asarray(which).reshape(-1), kind="stable")
+    bounds = np.searchsorted(np.asarray(which).reshape(-1)[by_pattern], np.arange(len(patterns) + 1))
+    from ..concurrency import one_blas_thread
+
+    # over missing-data patterns, every respondent of one at once; with many items and scattered blanks there
+    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine)
+    with one_blas_thread():
+        for g, pattern in enumerate(patterns):
+            if not pattern.any():
+                continue
+            rows = by_pattern[bounds[g]:bounds[g + 1]]
+            observed = np.flatnonzero(pattern)
+            factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
+            z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
+            d2[rows] = (z ** 2).sum(axis=0)
     df = answered.sum(axis=1)
     p = np.full(n, np.nan)
     has = df > 0

@@ -624,7 +624,10 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
     mean_r, min_r, max_r = inter_item_correlations(cov_used) if usable else (math.nan,) * 3
     item_rest_r = item_rest_correlations_from_cov(cov_used) if usable else np.full(k, np.nan)
     if_deleted = alpha_if_deleted_from_cov(cov_used) if usable else np.full(k, np.nan)
-    omega_deleted = (omega_if_deleted_from_cov(cov_used, start=1.0 - fit.standardized_loadings**2)
+    # each reduced fit starts afresh from its own squared multiple correlations: a start from the full
+    # fit's uniquenesses saved a fifth of the steps but, on small samples with a Heywood case, ended in a
+    # worse local optimum in 11 of 105 fits (docs/performance.md)
+    omega_deleted = (omega_if_deleted_from_cov(cov_used)
                      if fit is not None and k >= 4
                      else np.full(k, np.nan))
     loadings = fit.standardized_loadings if fit is not None else np.full(k, np.nan)

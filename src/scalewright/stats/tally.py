@@ -140,9 +140,23 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
         ordered = (order is not None or bool(label_of) or pd.api.types.is_numeric_dtype(series.dtype)
                    or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
     exact = {c: int(counts.get(c, 0)) for c in categories}
+    return tally_from_counts(exact, n_total=len(series), n_missing=int(missing_mask.sum()), column=column,
+                             ordered=bool(ordered), labels=label_of, min_cell=min_cell)
+
+
+def tally_from_counts(exact: Mapping[str, int], *, n_total: int, n_missing: int, column: str, ordered: bool,
+                      labels: Mapping[str, str] | None = None, min_cell: int = 5) -> Tally:
+    """The :class:`Tally` of counts already made: ``exact`` maps each category name, in order, to its count.
+
+    What :func:`tally` returns once it has counted; callers that count otherwise (every answer code of
+    every item in one pass, :func:`scalewright.stats.coded.code_counts`) get the same result from here.
+    """
+    if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
+        raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
+    exact = {str(c): int(v) for c, v in exact.items()}
+    categories = list(exact)
+    label_of = dict(labels or {})
     hidden, notes = _suppression(exact, min_cell, column)
-    n_total = len(series)
-    n_missing = int(missing_mask.sum())
     n_valid = n_total - n_missing
     rows = []
     running = 0
@@ -401,6 +415,19 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
         raise UsageError(f"{len(names)} item names for {matrix.shape[1]} item columns")
     levels = [int(v) for v in levels]
     label_map = {int(k): str(v) for k, v in (labels or {}).items()}
+    answered = ~np.isnan(matrix)
+    counts = np.stack([np.count_nonzero(matrix == v, axis=0) for v in levels]) if levels else None
+    if counts is not None and (counts.sum(axis=0) == answered.sum(axis=0)).all():
+        # every answer is one of the levels: one comparison per level over the whole matrix, not a Python
+        # call per answer; the same tallies as the per-column route below
+        n_answered = answered.sum(axis=0)
+        level_labels = {str(v): label_map.get(v, str(v)) for v in levels}
+        tallies = tuple(tally_from_counts({str(v): int(counts[i, j]) for i, v in enumerate(levels)},
+                                          n_total=matrix.shape[0], n_missing=int(matrix.shape[0] - n_answered[j]),
+                                          column=name, ordered=True, labels=level_labels, min_cell=min_cell)
+                        for j, name in enumerate(names))
+        return AnswerDistribution(items=tallies, levels=tuple(str(v) for v in levels),
+                                  labels=tuple(label_map.get(v, str(v)) for v in levels))
     tallies = tuple(tally(pd.Series(matrix[:, j], name=name), order=levels,
                           labels={v: label_map.get(v, str(v)) for v in levels}, ordered=True, min_cell=min_cell)
                     for j, name in enumerate(names))
@@ -409,4 +436,4 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
 
 
 __all__ = ["AnswerDistribution", "CategoryCount", "CategoryFit", "FitResult", "PROPORTION_TOLERANCE", "Tally",
-           "answer_distribution", "check_expected", "goodness_of_fit", "tally"]
+           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_counts"]
