@@ -383,17 +383,6 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
                   sample_cov=tuple(covs), sample_means=tuple(mean_list), notes=tuple(notes))
 
 
-def element_derivatives(fit_result: CfaFit, group: int = 0) -> tuple[np.ndarray, np.ndarray]:
-    """dSigma/d(theta) as a dense (q, p, p) array for one group (used by the delta method of omega)."""
-    model = fit_result.model
-    loadings, phi, *_ = fit_result.matrices(group)
-    el = _elements(model, group)
-    deltas = _sigma_derivatives(el, _basis(loadings, phi))
-    out = np.zeros((model.n_parameters, *deltas.shape[1:]))
-    np.add.at(out, el.param, deltas)
-    return out, np.linalg.inv(fit_result.implied(group)[0])
-
-
 def information_derivatives(model: CfaModel, theta: np.ndarray, fit_result: CfaFit) -> tuple[np.ndarray, np.ndarray]:
     """Gradient and expected Hessian of the ML fit function of ``model`` at ``theta`` on ``fit_result``'s data."""
     problem = _Problem(model, fit_result.sample_cov, fit_result.n, fit_result.sample_means, "ml", None)

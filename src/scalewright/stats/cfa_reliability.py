@@ -1,7 +1,7 @@
 """Reliability that follows from a fitted confirmatory model: omega total with a CI, omega hierarchical, ECV.
 
 Every omega here is of the raw composite the tool scores (the unweighted sum of the keyed items), in the
-covariance metric: the model's common variance of the composite over the sample variance of the composite.
+covariance metric: the model's common variance of the composite over its model-implied variance.
 """
 from __future__ import annotations
 
@@ -13,7 +13,7 @@ import numpy as np
 from scipy import stats
 
 from ..results import ResultMixin
-from .cfa_fit import CfaFit, element_derivatives, information_derivatives
+from .cfa_fit import CfaFit
 
 
 @dataclass(frozen=True)
@@ -49,37 +49,37 @@ def model_omega(fit_result: CfaFit, members: Sequence[int], *, factors: Sequence
                 confidence_level: float = 0.95) -> ModelOmega:
     """Omega total of the raw composite of ``members`` (item positions), with a delta-method CI.
 
-    .. math:: \\omega = \\frac{\\mathbf 1' \\Lambda \\Phi \\Lambda' \\mathbf 1}{\\mathbf 1' S \\mathbf 1}
+    .. math::
 
-    over the member items; for one factor this is :math:`(\\sum \\lambda)^2 / \\mathbf 1'S\\mathbf 1`
-    (McDonald 1999, Test Theory; the covariance-metric form of REFERENCES). ``factors`` restricts the
-    numerator to some factors (omega hierarchical: the general factor only).
+        \\omega = \\frac{\\mathbf 1' \\Lambda \\Phi \\Lambda' \\mathbf 1}{\\mathbf 1' \\hat\\Sigma \\mathbf 1}
+        = \\frac{(\\sum \\lambda)^2}{(\\sum \\lambda)^2 + \\sum \\theta} \\text{ (one factor)}
 
-    The CI is the delta method under normal theory, counting both the estimated loadings and the sample
-    variance of the composite: with :math:`d\\hat\\theta = H^{-1} [\\operatorname{tr}(P \\Delta_k P\\, dS)]_k`
-    (implicit function of the ML estimates), :math:`d\\omega = \\operatorname{tr}(G\\, dS)` and
-    :math:`\\operatorname{Var}(\\hat\\omega) = 2 \\operatorname{tr}(G S G S) / N` (Raykov 1997,
-    Appl. Psychol. Meas. 21:173-184, for the idea of a model-based interval of composite reliability).
+    over the member items, with unstandardized loadings (McDonald 1999, Test Theory). The denominator is
+    the model-implied variance of the composite, as in ``reliability``'s omega; it equals the sample
+    variance :math:`\\mathbf 1'S\\mathbf 1` when the model reproduces the covariances (e.g. three items,
+    saturated). ``factors`` restricts the numerator to some factors (omega hierarchical: the general one).
+
+    The CI is the delta method on the ML estimates, :math:`\\operatorname{Var}(\\hat\\omega) \\approx
+    \\nabla\\omega' V \\nabla\\omega` with V their covariance matrix from the expected information (normal
+    theory; Raykov 2002, Br. J. Math. Stat. Psychol. 55:21-40, for such intervals of composite reliability).
     """
     nan = (math.nan, math.nan)
     if not fit_result.fitted or fit_result.model.n_groups != 1:
         return ModelOmega(omega_total=math.nan, omega_ci=nan, omega_se=math.nan)
     members = np.asarray(members, dtype=int)
-    s = fit_result.sample_cov[0]
-    indicator = np.zeros(len(s))
-    indicator[members] = 1.0
-    denominator = float(indicator @ s @ indicator)
-    common, gradient = _composite_common_variance(fit_result, fit_result.theta, members, factors)
+    common, common_gradient = _composite_common_variance(fit_result, fit_result.theta, members, factors)
+    total, total_gradient = _composite_common_variance(fit_result, fit_result.theta, members, None)
+    residuals = fit_result.matrices(0)[2]
+    denominator = total + float(residuals[members].sum())
+    member_set = set(int(i) for i in members)
+    for index, parameter in enumerate(fit_result.model.parameters):
+        if parameter.kind == "residual" and parameter.row in member_set:
+            total_gradient[index] += 1.0
     omega = common / denominator
-    if fit_result.estimator != "ml" or not np.isfinite(fit_result.vcov).all():
+    gradient = common_gradient / denominator - omega * total_gradient / denominator
+    if not np.isfinite(fit_result.vcov).all():
         return ModelOmega(omega_total=omega, omega_ci=nan, omega_se=math.nan)
-    _, hessian = information_derivatives(fit_result.model, fit_result.theta, fit_result)
-    u = np.linalg.solve(hessian, gradient / denominator)
-    deltas, inverse = element_derivatives(fit_result)
-    g_matrix = inverse @ np.einsum("k,kij->ij", u, deltas) @ inverse - omega / denominator * np.outer(indicator,
-                                                                                                     indicator)
-    product = g_matrix @ s
-    se = math.sqrt(max(2.0 * float(np.sum(product * product.T)) / fit_result.n_total, 0.0))
+    se = math.sqrt(max(float(gradient @ fit_result.vcov @ gradient), 0.0))
     z = float(stats.norm.ppf(0.5 + confidence_level / 2))
     return ModelOmega(omega_total=omega, omega_ci=(omega - z * se, omega + z * se), omega_se=se)
 
@@ -100,8 +100,8 @@ def bifactor_indices(fit_result: CfaFit, general: int, subscales: dict[str, int]
 
     .. math::
 
-        \\omega_H = \\frac{(\\sum_i \\lambda_{gi})^2}{\\mathbf 1' S \\mathbf 1}, \\quad
-        \\omega_{HS,s} = \\frac{(\\sum_{i \\in s} \\lambda_{si})^2}{\\mathbf 1_s' S \\mathbf 1_s}, \\quad
+        \\omega_H = \\frac{(\\sum_i \\lambda_{gi})^2}{\\mathbf 1' \\hat\\Sigma \\mathbf 1}, \\quad
+        \\omega_{HS,s} = \\frac{(\\sum_{i \\in s} \\lambda_{si})^2}{\\mathbf 1_s' \\hat\\Sigma \\mathbf 1_s}, \\quad
         ECV = \\frac{\\sum_i \\lambda^{*2}_{gi}}{\\sum_i \\lambda^{*2}_{gi} + \\sum_s \\sum_{i \\in s} \\lambda^{*2}_{si}}
 
     with raw loadings for omegas (the raw composites) and standardized loadings :math:`\\lambda^*` for ECV.
@@ -109,14 +109,14 @@ def bifactor_indices(fit_result: CfaFit, general: int, subscales: dict[str, int]
     if not fit_result.fitted:
         return BifactorIndices(omega_hierarchical=math.nan,
                                omega_hierarchical_subscale={name: math.nan for name in subscales}, ecv=math.nan)
-    s = fit_result.sample_cov[0]
+    implied = fit_result.implied(0)[0]
     loadings, *_ = fit_result.matrices(0)
-    sd = np.sqrt(np.diag(fit_result.implied(0)[0]))
+    sd = np.sqrt(np.diag(implied))
     standardized = loadings / sd[:, None]
     total = np.asarray(total_items, dtype=int)
 
     def share(items: np.ndarray, factor: int) -> float:
-        return float(loadings[items, factor].sum() ** 2 / s[np.ix_(items, items)].sum())
+        return float(loadings[items, factor].sum() ** 2 / implied[np.ix_(items, items)].sum())
 
     hierarchical = share(total, general)
     subscale_values = {name: share(np.asarray(subscale_items[name], dtype=int), factor)
