@@ -66,6 +66,19 @@ CONFIRM: dict[str, str] = {
     "fit-saturated": "{model}: saturated (df = 0): it reproduces the covariances exactly, so its fit cannot be "
                      "tested; the loadings and omega still hold",
     "fit-unknown": "{model}: fit indices could not be computed",
+    "too-few-levels": "{model} by {column}: fewer than two levels large enough to fit; invariance not tested",
+    "invariance-none": "{model} by {column}: the structure itself does not fit well in the groups (configural "
+                       "model below the conventional cut-offs): neither relations nor means can be compared",
+    "invariance-configural": "{model} by {column}: the same items go together in every group, but the loadings "
+                             "differ: compare neither relations nor means across {column} without caution",
+    "invariance-metric": "{model} by {column}: loadings hold but intercepts differ: compare relations (correlations, "
+                         "regressions), not means, across {column}",
+    "invariance-partial-scalar": "{model} by {column}: loadings hold, and intercepts hold once those of {items} "
+                                 "are freed (partial scalar invariance): latent means can be compared across "
+                                 "{column}; observed score means carry the bias of those items",
+    "invariance-scalar": "{model} by {column}: loadings and intercepts hold: means can be compared across {column}",
+    "invariance-strict": "{model} by {column}: loadings, intercepts and residual variances hold: means and observed "
+                         "score variances can be compared across {column}",
 }
 
 # -- ordinal items (polychoric) ------------------------------------------------------------------------------

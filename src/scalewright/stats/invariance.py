@@ -72,7 +72,7 @@ class InvarianceResult:
     freed: list[dict[str, str]]
     partial_scalar: bool | None
     latent_mean_differences: dict[str, dict[str, dict[str, Any]]]
-    observed_differences: dict[str, float]
+    observed_differences: dict[str, dict[str, float]]
     notes: tuple[Note, ...] = field(default=())
 
     def to_dict(self) -> dict[str, Any]:
@@ -99,7 +99,9 @@ def step_change(before: FitIndices, after: FitIndices) -> StepChange:
     """LR test of the added constraints and the changes in CFI and RMSEA, judged by Chen's (2007) cut-offs."""
     delta_chi2, delta_df = after.chi2 - before.chi2, after.df - before.df
     pvalue = float(stats.chi2.sf(max(delta_chi2, 0.0), delta_df)) if delta_df > 0 else math.nan
-    delta_cfi, delta_rmsea = after.cfi - before.cfi, after.rmsea - before.rmsea
+    # a saturated model (df 0) reproduces the data exactly: its RMSEA is 0 for the comparison
+    before_rmsea = 0.0 if before.df == 0 and math.isfinite(before.chi2) else before.rmsea
+    delta_cfi, delta_rmsea = after.cfi - before.cfi, after.rmsea - before_rmsea
     known = math.isfinite(delta_cfi) and math.isfinite(delta_rmsea)
     holds = (delta_cfi >= DELTA_CFI_MIN and delta_rmsea <= DELTA_RMSEA_MAX) if known else None
     return StepChange(delta_chi2=delta_chi2, delta_df=delta_df, pvalue=pvalue, delta_cfi=delta_cfi,
@@ -107,6 +109,8 @@ def step_change(before: FitIndices, after: FitIndices) -> StepChange:
 
 
 def _configural_holds(indices: FitIndices) -> bool:
+    if indices.df == 0 and math.isfinite(indices.chi2):
+        return True
     met = [indices.cfi >= CUTOFFS["cfi"], indices.rmsea <= CUTOFFS["rmsea"], indices.srmr <= CUTOFFS["srmr"]]
     return sum(met) >= 2
 
@@ -135,12 +139,16 @@ def _latent_means(result: CfaFit, level_names: Sequence[str], confidence_level: 
     return out
 
 
-def observed_differences(covs: Sequence[np.ndarray], means: Sequence[np.ndarray], level_names: Sequence[str]) \
-        -> dict[str, float]:
-    """Raw composite mean of each level minus the first level's, in the first level's composite SD."""
-    ones = np.ones(len(means[0]))
-    reference_mean, reference_sd = ones @ means[0], math.sqrt(ones @ covs[0] @ ones)
-    return {level_names[g]: float((ones @ means[g] - reference_mean) / reference_sd) for g in range(1, len(means))}
+def observed_differences(base: CfaModel, covs: Sequence[np.ndarray], means: Sequence[np.ndarray],
+                         level_names: Sequence[str]) -> dict[str, dict[str, float]]:
+    """Per factor: raw sum score mean of each level minus the first level's, in the first level's score SD."""
+    out: dict[str, dict[str, float]] = {level_names[g]: {} for g in range(1, len(means))}
+    for factor, members in base.membership().items():
+        ones = np.isin(np.array(base.items), members).astype(float)
+        reference_mean, reference_sd = ones @ means[0], math.sqrt(ones @ covs[0] @ ones)
+        for g in range(1, len(means)):
+            out[level_names[g]][factor] = float((ones @ means[g] - reference_mean) / reference_sd)
+    return out
 
 
 def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Sequence[int],
@@ -196,6 +204,12 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
     return InvarianceResult(
         name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns))), left_out=left_out,
         steps=steps, changes=changes, level=level, freed=freed, partial_scalar=partial,
-        latent_mean_differences=latent, observed_differences=observed_differences(covs, means, level_names),
-        notes=tuple([note("invariance-verdict", model=name, column=column, level=level,
-                          partial=bool(partial)), *notes]))
+        latent_mean_differences=latent, observed_differences=observed_differences(base, covs, means, level_names),
+        notes=tuple([verdict_note(name, column, level, partial, freed), *notes]))
+
+
+def verdict_note(name: str, column: str, level: str | None, partial: bool | None, freed: list[dict[str, str]]) \
+        -> Note:
+    """``invariance-<level>`` (``invariance-partial-scalar`` when freeing intercepts made scalar hold)."""
+    code = "invariance-partial-scalar" if partial else f"invariance-{level}"
+    return note(code, model=name, column=column, items=tuple(f["item"] for f in freed))
