@@ -12,7 +12,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import optimize, stats
+from scipy import special
 
 from ..results import ResultMixin
 from .cfa_fit import CfaFit
@@ -66,15 +66,9 @@ def rmsea_from_chi2(chi2: float, df: int, n: int, n_groups: int = 1) -> float:
 
 def _noncentrality_bound(chi2: float, df: int, probability: float) -> float:
     """lambda with P(chi2'(df, lambda) <= chi2) = probability (0 when even lambda = 0 is below it)."""
-    def gap(lam: float) -> float:
-        return float(stats.ncx2.cdf(chi2, df, lam)) - probability if lam > 0 else float(stats.chi2.cdf(chi2, df)) - probability
-
-    if gap(0.0) <= 0:
+    if float(special.chdtr(df, chi2)) <= probability:
         return 0.0
-    upper = max(chi2, 1.0)
-    while gap(upper) > 0:
-        upper *= 2
-    return float(optimize.brentq(gap, 0.0, upper, xtol=1e-10, rtol=1e-12))
+    return float(special.chndtrinc(chi2, df, probability))
 
 
 def rmsea_interval(chi2: float, df: int, n: int, n_groups: int = 1, *,
@@ -97,7 +91,7 @@ def rmsea_pclose(chi2: float, df: int, n: int, n_groups: int = 1, *, close: floa
     if df <= 0 or not math.isfinite(chi2):
         return math.nan
     lam = close**2 * df * n / n_groups
-    return float(stats.ncx2.sf(chi2, df, lam))
+    return float(1.0 - special.chndtr(chi2, df, lam))
 
 
 def srmr(fit_result: CfaFit) -> float:
@@ -161,7 +155,7 @@ def fit_indices(fit_result: CfaFit) -> FitIndices:
                           bic=nan, loglik=nan, baseline_chi2=nan, baseline_df=0)
     chi2 = n * fit_result.discrepancy
     base, base_df = baseline_chi2(fit_result)
-    pvalue = float(stats.chi2.sf(chi2, df)) if df > 0 else nan
+    pvalue = float(special.chdtrc(df, chi2)) if df > 0 else nan
     excess, base_excess = max(chi2 - df, 0.0), max(base - base_df, 0.0)
     denominator = max(base_excess, excess)
     cfi = 1.0 - excess / denominator if denominator > 0 else 1.0

@@ -10,7 +10,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from ..results import ResultMixin
 from .cfa_fit import CfaFit
@@ -80,7 +80,7 @@ def model_omega(fit_result: CfaFit, members: Sequence[int], *, factors: Sequence
     if not np.isfinite(fit_result.vcov).all():
         return ModelOmega(omega_total=omega, omega_ci=nan, omega_se=math.nan)
     se = math.sqrt(max(float(gradient @ fit_result.vcov @ gradient), 0.0))
-    z = float(stats.norm.ppf(0.5 + confidence_level / 2))
+    z = float(special.ndtri(0.5 + confidence_level / 2))
     return ModelOmega(omega_total=omega, omega_ci=(omega - z * se, omega + z * se), omega_se=se)
 
 

@@ -10,7 +10,7 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from ..results import ResultMixin
 from .cfa_fit import CfaFit, information_derivatives
@@ -59,7 +59,7 @@ def standardized_solution(fit_result: CfaFit, group: int = 0, *, confidence_leve
     loadings, correlations = centre[: p * m].reshape(p, m), centre[p * m:].reshape(m, m)
     loading_se = np.where(fit_result.model.groups[group].loading_index >= 0, se[: p * m].reshape(p, m), np.nan)
     correlation_se = se[p * m:].reshape(m, m)
-    z = stats.norm.ppf(0.5 + confidence_level / 2)
+    z = special.ndtri(0.5 + confidence_level / 2)
     with np.errstate(invalid="ignore", divide="ignore"):
         fisher = np.arctanh(np.clip(correlations, -1 + 1e-15, 1 - 1e-15))
         half = z * correlation_se / (1 - correlations**2)

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
-from scipy import stats
+from scipy import special
 
 from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
@@ -98,7 +98,7 @@ def _step(indices: FitIndices, result: CfaFit) -> InvarianceStep:
 def step_change(before: FitIndices, after: FitIndices) -> StepChange:
     """LR test of the added constraints and the changes in CFI and RMSEA, judged by Chen's (2007) cut-offs."""
     delta_chi2, delta_df = after.chi2 - before.chi2, after.df - before.df
-    pvalue = float(stats.chi2.sf(max(delta_chi2, 0.0), delta_df)) if delta_df > 0 else math.nan
+    pvalue = float(special.chdtrc(delta_df, max(delta_chi2, 0.0))) if delta_df > 0 else math.nan
     # a saturated model (df 0) reproduces the data exactly: its RMSEA is 0 for the comparison
     before_rmsea = 0.0 if before.df == 0 and math.isfinite(before.chi2) else before.rmsea
     delta_cfi, delta_rmsea = after.cfi - before.cfi, after.rmsea - before_rmsea
@@ -125,7 +125,7 @@ def _fit_level(base: CfaModel, data: tuple, level: str, free_intercepts: Sequenc
 
 def _latent_means(result: CfaFit, level_names: Sequence[str], confidence_level: float) -> dict:
     """Factor means of groups 2..G against the first (its mean 0, variance 1: standard-deviation units)."""
-    z = float(stats.norm.ppf(0.5 + confidence_level / 2))
+    z = float(special.ndtri(0.5 + confidence_level / 2))
     out: dict[str, dict[str, dict[str, Any]]] = {}
     se = result.standard_errors
     for g in range(1, result.model.n_groups):
