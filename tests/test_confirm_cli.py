@@ -123,3 +123,15 @@ def test_confirm_unknown_by_column_is_a_one_line_error(tmp_path, capsys):
     code = main(["confirm", str(data), "--scales", str(scales), "--by", "shfit"])
     err = capsys.readouterr().err
     assert code == 4 and err.startswith("error:") and "shfit" in err and "Traceback" not in err
+
+
+def test_reliability_shows_the_confirmatory_omega_and_fit(tmp_path, capsys):
+    # reference: stats.omega via the reliability command's own omega_total (same one-factor ML model)
+    data, scales = write_survey(tmp_path, n=400)
+    assert main(["reliability", str(data), "--scales", str(scales), "--format", "json"]) == 0
+    document = json.loads(capsys.readouterr().out)
+    workload = document["scales"]["workload"]
+    confirmatory = workload["confirmatory"]
+    assert confirmatory["omega"]["omega_total"] == pytest.approx(workload["omega_total"], abs=1e-6)
+    assert confirmatory["df"] == 2 and confirmatory["cfi"] is not None
+    assert document["scales"]["pair"]["confirmatory"]["notes"][0]["code"] == "not-identified"

@@ -84,6 +84,7 @@ class ReportResults:
     screen: Any | None
     group_tallies: tuple[Any, ...]
     created: str
+    confirm: Any | None = None      # analyses.confirm.ConfirmAnalysis (with invariance when --by is given)
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
 
@@ -117,6 +118,7 @@ class ReportResults:
             "structure": None if self.structure is None else self.structure.to_dict(),
             "screen": None if self.screen is None else self.screen.to_dict(),
             "tally": {t.column: t.to_dict() for t in self.group_tallies},
+            "confirm": None if self.confirm is None else self.confirm.to_dict(),
             "notes": list(self.notes),
         }
         return to_jsonable(envelope("report", self.info, body, options=self.options.to_dict(),
@@ -143,6 +145,17 @@ def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> di
 
     return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed,
                          scores=scores)["scales"]
+
+
+def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
+    # the confirm command's own analysis: models per scale and of the whole file, invariance by --by columns
+    from .analyses.confirm import analyse_confirm
+    from .analyses.invariance import analyse_invariance
+
+    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level)
+    if options.by:
+        analysis = analyse_invariance(spec, responses, analysis, by=options.by, min_group=max(options.min_group, 30))
+    return analysis
 
 
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
@@ -223,6 +236,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     progress(STEPS[5])
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    confirm = _confirm(spec, responses, options)
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
@@ -241,4 +255,4 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
                          input_notes=(*input_notes, responses.missing_texts_note(spec)),
                          score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
-                         notes=tuple(notes))
+                         notes=tuple(notes), confirm=confirm)

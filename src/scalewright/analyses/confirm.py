@@ -10,6 +10,18 @@ import numpy as np
 WHOLE_FILE = "all"
 
 
+def one_blas_thread() -> Any:
+    """A context in which BLAS uses one thread: the fits multiply many small matrices, where waking BLAS
+    threads costs more than it gives (15x slower on a busy 2-core machine). A no-op without threadpoolctl."""
+    try:
+        from threadpoolctl import threadpool_limits
+    except ImportError:  # pragma: no cover - threadpoolctl comes with scikit-learn
+        from contextlib import nullcontext
+
+        return nullcontext()
+    return threadpool_limits(limits=1, user_api="blas")
+
+
 def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwise: bool = False,
                      rows: np.ndarray | None = None) -> Any:
     """Means and covariances of the keyed ``items`` (each keyed as the first scale listing it), as
@@ -84,15 +96,26 @@ def observed_score_correlations(cov: np.ndarray, items: Sequence[str], scales: d
     return out
 
 
+def one_factor_models(spec: Any, responses: Any, *, pairwise: bool = False) -> dict[str, Any]:
+    """The confirmatory one-factor model of each scale (what ``reliability`` shows beside its own numbers)."""
+    return analyse_confirm(spec, responses, pairwise=pairwise, whole_file=False).models
+
+
 def analyse_confirm(spec: Any, responses: Any, *, pairwise: bool = False, confidence_level: float = 0.95,
                     scales: Sequence[str] | None = None, whole_file: bool = True) -> ConfirmAnalysis:
     """Fit the one-factor model of each scale and the whole-file model (correlated factors or bifactor)."""
+    with one_blas_thread():
+        return _analyse_confirm(spec, responses, pairwise=pairwise, confidence_level=confidence_level,
+                                names=list(scales or spec.scales), whole_file=whole_file)
+
+
+def _analyse_confirm(spec: Any, responses: Any, *, pairwise: bool, confidence_level: float, names: list[str],
+                     whole_file: bool) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
     from ..stats.cfa_fit import fit
     from ..stats.cfa_model import factor_model, scale_file_structure
     from ..stats.cfa_result import summarize_fit
 
-    names = list(scales or spec.scales)
     memberships = {name: tuple(spec.scales[name].items) for name in names}
 
     def one_scale(name: str) -> Any:

@@ -5,7 +5,7 @@ from collections.abc import Sequence
 from dataclasses import replace
 from typing import Any
 
-from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
+from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance, one_blas_thread
 
 
 def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],
@@ -45,9 +45,12 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
                 ns.append(cov.n_used)
                 means.append(cov.means)
                 names.append(level)
+            # the search for partial invariance refits the model once per item and round: per scale only
             return measurement_invariance(base, covs, ns, means, names, name=name, column=column, strict=strict,
-                                          left_out=left_out, confidence_level=confidence_level)
+                                          left_out=left_out, confidence_level=confidence_level,
+                                          partial_search=name != WHOLE_FILE)
 
         names = list(targets)
-        results[column] = dict(zip(names, map_in_threads(one, names)))
+        with one_blas_thread():
+            results[column] = dict(zip(names, map_in_threads(one, names)))
     return replace(analysis, invariance=results)

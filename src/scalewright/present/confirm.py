@@ -123,6 +123,30 @@ def hints_table(models: dict[str, Any]) -> Table | None:
                         "a hint, not a reason by itself to change a scale",), key="confirm_hints")
 
 
+def reliability_beside_table(models: dict[str, Any]) -> Table:
+    """One row per scale: its one-factor model's omega with CI and fit, for ``reliability``."""
+    rows, notes = [], list(CONVENTIONS)
+    for name, model in models.items():
+        omega = model.omega.get(name)
+        f = model.indices
+        rows.append((name, omega.omega_total if omega else None, omega.omega_ci[0] if omega else None,
+                     omega.omega_ci[1] if omega else None, f.chi2, f.df, f.cfi, f.rmsea, f.srmr))
+        notes += model_notes(model)
+    return Table(title="One-factor model of each scale (confirmatory, ML)",
+                 columns=("scale", "omega (model)", "CI low", "CI high", "chi2", "df", "CFI", "RMSEA", "SRMR"),
+                 rows=tuple(rows), kinds={"scale": "text", "omega (model)": "bounded", "CI low": "bounded",
+                                          "CI high": "bounded", "df": "int", "CFI": "bounded", "RMSEA": "bounded",
+                                          "SRMR": "bounded"},
+                 notes=tuple(notes), key="reliability_confirmatory")
+
+
+def confirmatory_summary(model: Any) -> dict[str, Any]:
+    """The ``scales.<name>.confirmatory`` block of ``reliability``'s JSON."""
+    document = model.to_dict()
+    keys = ("chi2", "df", "pvalue", "cfi", "tli", "rmsea", "rmsea_ci", "srmr", "verdict", "notes")
+    return {"omega": document["omega"].get(model.name), **{key: document[key] for key in keys}}
+
+
 def confirm_tables(analysis: Any) -> list[Table]:
     """Tables of a :class:`~scalewright.analyses.confirm.ConfirmAnalysis`."""
     tables = [fit_table(analysis.models), loadings_table(analysis.models), omega_table(analysis.models)]

@@ -66,6 +66,8 @@ CONFIRM: dict[str, str] = {
     "fit-saturated": "{model}: saturated (df = 0): it reproduces the covariances exactly, so its fit cannot be "
                      "tested; the loadings and omega still hold",
     "fit-unknown": "{model}: fit indices could not be computed",
+    "partial-search-skipped": "{model} by {column}: intercepts differ; the search for the items behind it runs per "
+                              "scale (see each scale's own result)",
     "too-few-levels": "{model} by {column}: fewer than two levels large enough to fit; invariance not tested",
     "invariance-none": "{model} by {column}: the structure itself does not fit well in the groups (configural "
                        "model below the conventional cut-offs): neither relations nor means can be compared",

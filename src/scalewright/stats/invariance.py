@@ -154,13 +154,14 @@ def observed_differences(base: CfaModel, covs: Sequence[np.ndarray], means: Sequ
 def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Sequence[int],
                            means: Sequence[np.ndarray], level_names: Sequence[str], *, name: str, column: str,
                            strict: bool = False, left_out: dict[str, int] | None = None,
-                           confidence_level: float = 0.95) -> InvarianceResult:
+                           confidence_level: float = 0.95, partial_search: bool = True) -> InvarianceResult:
     """Configural, metric, scalar (and strict) models of ``base`` across groups, with the verdict.
 
     ``covs`` are covariance matrices with divisor n - 1, one per level, with their ``ns`` and ``means``.
     When scalar invariance fails after metric holds, intercepts are freed one at a time (each time the
     one whose freeing lowers chi-square most: the likelihood-ratio counterpart of the score test), up to
-    half of the items, until partial scalar invariance holds.
+    half of the items, until partial scalar invariance holds (``partial_search=False`` skips that search,
+    with a note: each round refits the model once per item).
     """
     notes: list[Note] = []
     left_out = dict(left_out or {})
@@ -185,7 +186,9 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
     freed: list[dict[str, str]] = []
     partial: bool | None = None
     mean_model = fits["scalar"][0] if level in ("scalar", "strict") else None
-    if level == "metric":
+    if level == "metric" and not partial_search:
+        notes.append(note("partial-search-skipped", model=name, column=column))
+    elif level == "metric":
         partial = False
         free_items: list[str] = []
         metric_indices = fits["metric"][1]
