@@ -135,3 +135,12 @@ def test_reliability_shows_the_confirmatory_omega_and_fit(tmp_path, capsys):
     assert confirmatory["omega"]["omega_total"] == pytest.approx(workload["omega_total"], abs=1e-6)
     assert confirmatory["df"] == 2 and confirmatory["cfi"] is not None
     assert document["scales"]["pair"]["confirmatory"]["notes"][0]["code"] == "not-identified"
+
+
+def test_compare_mentions_the_invariance_verdict(tmp_path, capsys):
+    # reference: issue text: compare gives each scale's invariance verdict beside its mean comparison
+    data, scales = write_survey(tmp_path, n=600)
+    assert main(["compare", str(data), "--scales", str(scales), "--by", "shift", "--format", "json"]) == 0
+    document = json.loads(capsys.readouterr().out)
+    record = document["scales"]["climate"]["by"]["shift"]["invariance"]
+    assert record["level"] in ("scalar", "strict") and "means can be compared" in record["sentence"]

@@ -10,7 +10,7 @@ from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance, one_blas_thr
 
 def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],
                        min_group: int = 30, pairwise: bool = False, strict: bool = False,
-                       confidence_level: float = 0.95) -> ConfirmAnalysis:
+                       confidence_level: float = 0.95, whole_file: bool = True) -> ConfirmAnalysis:
     """``analysis`` with ``invariance.<column>.<scale>`` filled in.
 
     A level is left out (and named) when it has fewer than ``min_group`` respondents, or fewer
@@ -23,7 +23,7 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
 
     memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
     targets: dict[str, Any] = {name: factor_model({name: items}) for name, items in memberships.items()}
-    if len(memberships) >= 2:
+    if whole_file and len(memberships) >= 2:
         membership, orthogonal, _ = scale_file_structure(memberships)
         targets[WHOLE_FILE] = factor_model(membership, orthogonal=orthogonal)
     results: dict[str, dict[str, Any]] = {}
@@ -54,3 +54,9 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
         with one_blas_thread():
             results[column] = dict(zip(names, map_in_threads(one, names)))
     return replace(analysis, invariance=results)
+
+
+def invariance_by_scale(spec: Any, responses: Any, *, by: Sequence[str], min_group: int = 30) -> dict[str, Any]:
+    """``column -> scale -> InvarianceResult`` of each scale's one-factor model (what ``compare`` shows)."""
+    empty = ConfirmAnalysis(models={}, observed_correlations={}, missing_handling="listwise", n_rows=responses.n)
+    return analyse_invariance(spec, responses, empty, by=by, min_group=min_group, whole_file=False).invariance

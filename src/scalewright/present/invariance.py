@@ -62,3 +62,14 @@ def invariance_tables(invariance: dict[str, dict[str, Any]]) -> list[Table]:
                    "standard deviation, 95% Wald CI; observed d: the same difference of the raw sum scores in "
                    "the first level's score standard deviation",), key="invariance_means"))
     return tables
+
+
+def invariance_record(result: Any) -> dict[str, Any] | None:
+    """The invariance verdict of one scale across one column, for ``compare``'s JSON (None if not tested)."""
+    from .confirm import sentence
+
+    if result is None:
+        return None
+    return {"level": result.level, "partial_scalar": result.partial_scalar, "freed": list(result.freed),
+            "verdict": result.notes[0].to_dict() if result.notes else None,
+            "sentence": sentence(result.notes[0]) if result.notes else None}
