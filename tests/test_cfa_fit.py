@@ -287,3 +287,19 @@ def test_factor_signs_are_reflected_to_positive_loadings():
     cov = population_cov(np.array([[-.7], [-.6], [-.5], [-.8]]), np.eye(1), np.array([.5, .6, .7, .4]))
     result = fit(cov, 1000, factor_model({"f": list("abcd")}), ddof=0)
     assert (result.matrices()[0] > 0).all()
+
+
+def test_equal_loadings_within_a_group_match_the_tau_equivalent_closed_form():
+    # reference: closed form of the tau-equivalent model with free residuals at a population matrix that it
+    # reproduces exactly: lambda^2 = the common covariance (Joreskog 1971, congeneric models)
+    cov = np.full((4, 4), 0.49) + np.diag([0.51, 0.3, 0.8, 0.6])
+    p = 4
+    parameters = (Parameter("loading", 0, 0, (0,)), *(Parameter("residual", i, -1, (0,)) for i in range(p)))
+    model = CfaModel(items=tuple("abcd"), factors=("f",), parameters=parameters, groups=(GroupPattern(
+        loading_index=np.zeros((p, 1), dtype=int), loading_value=np.zeros((p, 1)),
+        factor_cov_index=np.full((1, 1), FIXED), factor_cov_value=np.eye(1),
+        residual_index=np.arange(1, p + 1), residual_value=np.zeros(p)),))
+    result = fit(cov, 1000, model, ddof=0)
+    assert result.converged
+    assert result.theta[0] == pytest.approx(0.7, abs=1e-8)
+    np.testing.assert_allclose(result.theta[1:], [0.51, 0.3, 0.8, 0.6], atol=1e-8)

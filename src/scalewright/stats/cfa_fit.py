@@ -150,8 +150,7 @@ class _Problem:
         total = float(sum(ns))
         self.group_weights = [n / total for n in ns]
         self.elements = [_elements(model, g) for g in range(model.n_groups)]
-        q = model.n_parameters
-        self.incidence = [np.eye(q)[el.param] if len(el.param) else np.zeros((0, q)) for el in self.elements]
+        self.distinct = [len(np.unique(el.param)) == len(el.param) for el in self.elements]
         self.p = len(model.items)
         if estimator == "ml":
             self.logdet_s = [np.linalg.slogdet(s)[1] for s in covs]
@@ -208,9 +207,12 @@ class _Problem:
                 weighted = deltas * self.full_weights[g]
                 g_e = -np.einsum("kij,ij->k", weighted, self.covs[g] - sigma)
                 h_e = np.einsum("kij,lij->kl", weighted, deltas)
-            incidence = self.incidence[g]
-            gradient += weight * (incidence.T @ g_e)
-            hessian += weight * (incidence.T @ h_e @ incidence)
+            if self.distinct[g]:  # the usual case: a fancy-indexed add is exact and fast
+                gradient[el.param] += weight * g_e
+                hessian[np.ix_(el.param, el.param)] += weight * h_e
+            else:  # a parameter shared by several entries of one group (equal loadings within a group)
+                np.add.at(gradient, el.param, weight * g_e)
+                np.add.at(hessian, (el.param[:, None], el.param[None, :]), weight * h_e)
         return gradient, hessian
 
 
