@@ -55,7 +55,7 @@ def standardized_solution(fit_result: CfaFit, group: int = 0, *, confidence_leve
         down[k] -= h
         jacobian[:, k] = (_standardize(fit_result, up, group) - _standardize(fit_result, down, group)) / (2 * h)
     with np.errstate(invalid="ignore"):
-        se = np.sqrt(np.einsum("ij,jk,ik->i", jacobian, fit_result.vcov, jacobian))
+        se = np.sqrt(np.sum((jacobian @ fit_result.vcov) * jacobian, axis=1))
     loadings, correlations = centre[: p * m].reshape(p, m), centre[p * m:].reshape(m, m)
     loading_se = np.where(fit_result.model.groups[group].loading_index >= 0, se[: p * m].reshape(p, m), np.nan)
     correlation_se = se[p * m:].reshape(m, m)
