@@ -92,7 +92,8 @@ def observed_score_correlations(cov: np.ndarray, items: Sequence[str], scales: d
         out[a] = {}
         for b, v in indicators.items():
             if a != b:
-                out[a][b] = float(u @ cov @ v / np.sqrt((u @ cov @ u) * (v @ cov @ v)))
+                variances = float((u @ cov @ u) * (v @ cov @ v))
+                out[a][b] = float(u @ cov @ v) / np.sqrt(variances) if variances > 0 else float("nan")
     return out
 
 

@@ -325,7 +325,8 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
     if estimator == "dwls" and weights is None:
         raise UsageError("estimator 'dwls' needs weights (a p x p array of weights of the s_ij)")
     weight_list = _as_list(weights, groups, "weights") if estimator == "dwls" else None
-    if estimator == "ml":
+    usable = all(n_g > 1 for n_g in ns) and all(np.isfinite(c).all() for c in covs)
+    if estimator == "ml" and usable:
         covs = [c * (n_g - ddof) / n_g for c, n_g in zip(covs, ns)]
     q = model.n_parameters
     nan_fit = dict(model=model, estimator=estimator, theta=np.full(q, np.nan), vcov=np.full((q, q), np.nan),
@@ -334,7 +335,7 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
     if model.df < 0:
         return CfaFit(converged=False, identified=False, **nan_fit,
                       notes=(note("not-identified", parameters=q, moments=model.n_moments),))
-    if any(n_g <= 1 for n_g in ns) or not all(np.isfinite(c).all() for c in covs):
+    if not usable or any(v is not None and not np.isfinite(v).all() for v in mean_list):
         return CfaFit(converged=False, identified=True, **nan_fit, notes=(note("no-usable-covariance"),))
     if estimator == "ml" and any(np.linalg.eigvalsh(c)[0] <= 0 for c in covs):
         return CfaFit(converged=False, identified=True, **nan_fit, notes=(note("covariance-not-positive-definite"),))

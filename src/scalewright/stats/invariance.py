@@ -145,9 +145,11 @@ def observed_differences(base: CfaModel, covs: Sequence[np.ndarray], means: Sequ
     out: dict[str, dict[str, float]] = {level_names[g]: {} for g in range(1, len(means))}
     for factor, members in base.membership().items():
         ones = np.isin(np.array(base.items), members).astype(float)
-        reference_mean, reference_sd = ones @ means[0], math.sqrt(ones @ covs[0] @ ones)
+        reference_mean, reference_variance = ones @ means[0], float(ones @ covs[0] @ ones)
         for g in range(1, len(means)):
-            out[level_names[g]][factor] = float((ones @ means[g] - reference_mean) / reference_sd)
+            difference = float(ones @ means[g] - reference_mean)
+            usable = reference_variance > 0 and math.isfinite(difference)
+            out[level_names[g]][factor] = difference / math.sqrt(reference_variance) if usable else math.nan
     return out
 
 
