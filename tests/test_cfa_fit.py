@@ -303,3 +303,18 @@ def test_equal_loadings_within_a_group_match_the_tau_equivalent_closed_form():
     assert result.converged
     assert result.theta[0] == pytest.approx(0.7, abs=1e-8)
     np.testing.assert_allclose(result.theta[1:], [0.51, 0.3, 0.8, 0.6], atol=1e-8)
+
+
+def test_ml_fit_is_invariant_to_the_units_of_the_items():
+    # reference: scale invariance of ML factor analysis (Browne 1982; a property of the ML discrepancy):
+    # rescaling items leaves chi2 and the standardized loadings unchanged
+    rng = np.random.default_rng(12)
+    loadings, phi, residuals = standardized_structure([4, 4], .65, np.array([[1, .3], [.3, 1]]))
+    cov = np.cov(simulate(population_cov(loadings, phi, residuals), 500, rng), rowvar=False)
+    units = np.diag([1, 2, .5, 3, 1, 10, .2, 4])
+    items = [f"i{k}" for k in range(8)]
+    model = factor_model({"f": items[:4], "g": items[4:]})
+    plain, rescaled = fit(cov, 500, model), fit(units @ cov @ units, 500, model)
+    assert fit_indices(rescaled).chi2 == pytest.approx(fit_indices(plain).chi2, rel=1e-8)
+    np.testing.assert_allclose(standardized_solution(rescaled).loadings, standardized_solution(plain).loadings,
+                               atol=1e-8)

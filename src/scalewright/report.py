@@ -154,7 +154,10 @@ def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
     analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level)
     if options.by:
-        analysis = analyse_invariance(spec, responses, analysis, by=options.by, min_group=max(options.min_group, 30))
+        # per scale only: the verdicts stand beside each scale's mean comparison (the whole-file multi-group
+        # models are for `confirm --by`)
+        analysis = analyse_invariance(spec, responses, analysis, by=options.by, min_group=max(options.min_group, 30),
+                                      whole_file=False)
     return analysis
 
 

@@ -101,6 +101,28 @@ def correlation_table(analysis: Any) -> Table | None:
                  key="confirm_correlations")
 
 
+def correlation_matrix(analysis: Any) -> Table | None:
+    """Scales x scales: latent correlations below the diagonal, observed score correlations above it."""
+    whole = analysis.models.get("all")
+    if whole is None or not whole.factor_correlations:
+        return None
+    names = list(whole.factor_correlations)
+    rows = []
+    for x, a in enumerate(names):
+        cells = []
+        for y, b in enumerate(names):
+            if x == y:
+                cells.append(None)
+            elif y < x:
+                cells.append(whole.factor_correlations[a][b])
+            else:
+                cells.append(analysis.observed_correlations.get(a, {}).get(b))
+        rows.append((a, *cells))
+    return Table(title="Correlations between scales: latent below the diagonal, observed above",
+                 columns=("scale", *names), rows=tuple(rows), kinds={"scale": "text", **{n: "bounded" for n in names}},
+                 key="confirm_correlation_matrix")
+
+
 def residual_table(models: dict[str, Any]) -> Table:
     rows = tuple((name, r["a"], r["b"], r["value"]) for name, model in models.items()
                  for r in model.residual_correlations)
@@ -150,7 +172,8 @@ def confirmatory_summary(model: Any) -> dict[str, Any]:
 def confirm_tables(analysis: Any) -> list[Table]:
     """Tables of a :class:`~scalewright.analyses.confirm.ConfirmAnalysis`."""
     tables = [fit_table(analysis.models), loadings_table(analysis.models), omega_table(analysis.models)]
-    for extra in (correlation_table(analysis), residual_table(analysis.models), hints_table(analysis.models)):
+    for extra in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),
+                  hints_table(analysis.models)):
         if extra is not None:
             tables.append(extra)
     if analysis.invariance:
