@@ -95,14 +95,24 @@ class ReportResults:
     # --- the blocks of results.json, each built from the same to_dict() calls as its own command ---------
 
     def reliability_block(self) -> dict[str, Any]:
-        return {"scales": {name: f.reliability.to_dict() for name, f in self.scales.items()
-                           if f.reliability is not None}}
+        from .present.confirm import confirmatory_summary
+
+        # as the reliability command: each scale's confirmatory one-factor model beside its numbers
+        models = self.confirm.models if self.confirm is not None else {}
+        return {"scales": {name: {**f.reliability.to_dict(),
+                                  **({"confirmatory": confirmatory_summary(models[name])} if name in models else {})}
+                           for name, f in self.scales.items() if f.reliability is not None}}
 
     def shape_block(self) -> dict[str, Any]:
         return {"scales": {name: f.shape.to_dict() for name, f in self.scales.items() if f.shape is not None}}
 
     def compare_block(self) -> dict[str, Any]:
-        return {"scales": {name: {"by": {c.column: c.to_dict() for c in f.comparisons}}
+        from .present.invariance import invariance_record
+
+        # as the compare command: each scale's invariance verdict beside its mean comparison
+        invariance = self.confirm.invariance if self.confirm is not None else {}
+        return {"scales": {name: {"by": {c.column: {**c.to_dict(), **({"invariance": invariance_record(
+            invariance[c.column].get(name))} if c.column in invariance else {})} for c in f.comparisons}}
                            for name, f in self.scales.items() if f.comparisons}}
 
     def to_dict(self) -> dict[str, Any]:
