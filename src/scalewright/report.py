@@ -89,6 +89,7 @@ class ReportResults:
     screen: Any | None
     group_tallies: tuple[Any, ...]
     created: str
+    confirm: Any | None = None      # analyses.confirm.ConfirmAnalysis (with invariance when --by is given)
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
 
@@ -99,14 +100,24 @@ class ReportResults:
     # --- the blocks of results.json, each built from the same to_dict() calls as its own command ---------
 
     def reliability_block(self) -> dict[str, Any]:
-        return {"scales": {name: f.reliability.to_dict() for name, f in self.scales.items()
-                           if f.reliability is not None}}
+        from .present.confirm import confirmatory_summary
+
+        # as the reliability command: each scale's confirmatory one-factor model beside its numbers
+        models = self.confirm.models if self.confirm is not None else {}
+        return {"scales": {name: {**f.reliability.to_dict(),
+                                  **({"confirmatory": confirmatory_summary(models[name])} if name in models else {})}
+                           for name, f in self.scales.items() if f.reliability is not None}}
 
     def shape_block(self) -> dict[str, Any]:
         return {"scales": {name: f.shape.to_dict() for name, f in self.scales.items() if f.shape is not None}}
 
     def compare_block(self) -> dict[str, Any]:
-        return {"scales": {name: {"by": {c.column: c.to_dict() for c in f.comparisons}}
+        from .present.invariance import invariance_record
+
+        # as the compare command: each scale's invariance verdict beside its mean comparison
+        invariance = self.confirm.invariance if self.confirm is not None else {}
+        return {"scales": {name: {"by": {c.column: {**c.to_dict(), **({"invariance": invariance_record(
+            invariance[c.column].get(name))} if c.column in invariance else {})} for c in f.comparisons}}
                            for name, f in self.scales.items() if f.comparisons}}
 
     def to_dict(self) -> dict[str, Any]:
@@ -122,6 +133,7 @@ class ReportResults:
             "structure": None if self.structure is None else self.structure.to_dict(),
             "screen": None if self.screen is None else self.screen.to_dict(),
             "tally": {t.column: t.to_dict() for t in self.group_tallies},
+            "confirm": None if self.confirm is None else self.confirm.to_dict(),
             "notes": list(self.notes),
         }
         return to_jsonable(envelope("report", self.info, body, options=self.options.to_dict(),
@@ -148,6 +160,20 @@ def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> di
 
     return analyse_shape(spec, responses, by=options.by, min_group=options.min_group, seed=options.seed,
                          scores=scores)["scales"]
+
+
+def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
+    # the confirm command's own analysis: models per scale and of the whole file, invariance by --by columns
+    from .analyses.confirm import analyse_confirm
+    from .analyses.invariance import analyse_invariance
+
+    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level)
+    if options.by:
+        # per scale only: the verdicts stand beside each scale's mean comparison (the whole-file multi-group
+        # models are for `confirm --by`)
+        analysis = analyse_invariance(spec, responses, analysis, by=options.by, min_group=max(options.min_group, 30),
+                                      whole_file=False)
+    return analysis
 
 
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
@@ -233,6 +259,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     progress(STEPS[5])
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    confirm = _confirm(spec, responses, options)
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
@@ -251,4 +278,4 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
                          input_notes=(*input_notes, responses.missing_texts_note(spec)),
                          score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
-                         notes=tuple(notes))
+                         notes=tuple(notes), confirm=confirm)

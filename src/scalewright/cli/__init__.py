@@ -22,6 +22,7 @@ COMMANDS = {
     "compare": "compare",
     "tally": "tally",
     "screen": "screen",
+    "confirm": "confirm",
     "report": "report",
 }
 

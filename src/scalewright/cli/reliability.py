@@ -76,10 +76,17 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
                                   missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
                                   thresholds=thresholds, ordinal=ordinal)
-    body = {"scales": {name: report.to_dict() for name, report in reports.items()},
+    from ..analyses.confirm import one_factor_models
+    from ..present.confirm import confirmatory_summary, reliability_beside_table
+
+    # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`)
+    models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
+    body = {"scales": {name: {**report.to_dict(), "confirmatory": confirmatory_summary(models[name])}
+                       for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
                "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
-    emit(command="reliability", inputs=inputs, body=body, tables=reliability_tables(reports), fmt=fmt, out=out,
+    emit(command="reliability", inputs=inputs, body=body,
+         tables=[*reliability_tables(reports), reliability_beside_table(models)], fmt=fmt, out=out,
          decimals=decimals, options=options)

@@ -90,6 +90,24 @@ METHODS: tuple[Method, ...] = (
     Method("Structure", "Exploratory factor analysis",
            "minimum-residual extraction with an oblique rotation; each factor matched to the scale whose items "
            "load on it most", "factor model fitted with the factor_analyzer package"),
+    Method("Confirmatory models", "Maximum-likelihood factor model",
+           "each scale one factor, and the whole file one model (a factor per scale, correlations free; a total "
+           "with subscales a bifactor model), fitted to the item covariances; chi2 = N x F_ML",
+           "Joreskog (1969), Psychometrika 34, 183-202"),
+    Method("Confirmatory models", "Fit indices",
+           "CFI and TLI against the independence model; RMSEA with its 90% interval from the noncentral "
+           "chi-square; SRMR of the residual correlations",
+           "Bentler (1990), Psychological Bulletin 107, 238-246; Tucker & Lewis (1973), Psychometrika 38, 1-10; "
+           "Steiger & Lind (1980); Browne & Cudeck (1993)"),
+    Method("Confirmatory models", "Model-based omega, omega hierarchical, ECV",
+           "common variance of the raw sum over its model-implied variance, 95% CI by the delta method; for a "
+           "bifactor model the general factor's share",
+           "McDonald (1999); Reise (2012), Multivariate Behavioral Research 47, 667-696; Rodriguez, Reise & "
+           "Haviland (2016), Psychological Methods 21, 137-150"),
+    Method("Confirmatory models", "Measurement invariance",
+           "configural, metric and scalar multi-group models; a step holds when CFI drops by at most .010 and "
+           "RMSEA rises by at most .015",
+           "Chen (2007), Structural Equation Modeling 14, 464-504"),
     Method("Data quality", "Careless responding",
            "longest run of identical answers, even-odd consistency, Mahalanobis distance, person-total "
            "correlation, intra-individual response variability, missing share, duplicates",
@@ -151,6 +169,12 @@ def thresholds_used(results: Any) -> list[Threshold]:
             Threshold("Reliability", "redundant-pair: inter-item correlation above", _v(t.redundant_r, "bounded"),
                       "common practice, no source"),
         ]
+    from ..stats.cfa_result import CUTOFFS
+
+    out += [Threshold("Confirmatory models", "fit verdict: CFI at least, RMSEA at most, SRMR at most",
+                      f"{_v(CUTOFFS['cfi'], 'bounded')}, {_v(CUTOFFS['rmsea'], 'bounded')}, "
+                      f"{_v(CUTOFFS['srmr'], 'bounded')}",
+                      "Hu & Bentler (1999), Structural Equation Modeling 6, 1-55 (conventions, not tests)")]
     out += [
         Threshold("Distribution", "skewed when |G1| reaches (and exceeds twice its SE)",
                   _v(shape_module.SKEW_THRESHOLD),

@@ -233,6 +233,9 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
             sentence = comparison_sentence(comparison, decimals=decimals)
             blocks.append(Paragraph(comparison_sentence(comparison, decimals=decimals, lead_only=True)))
             detail.append(Paragraph(sentence))
+        invariance = invariance_sentence(results, findings.name, column)
+        if invariance is not None:
+            blocks.append(Paragraph(invariance, tone="note"))
         figure = figures.get(("boxplot", findings.name, column))
         if figure is not None:
             detail.append(figure)
@@ -418,6 +421,39 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
     return Section(anchor="structure", title="Structure", blocks=tuple(blocks))
 
 
+def confirm_section(results: Any, figures: FigureMap) -> Section | None:
+    """The confirmatory models: fit with verdicts, the loadings figure, omegas, latent correlations, hints."""
+    from .confirm import confirm_tables, model_notes
+
+    confirm = getattr(results, "confirm", None)
+    if confirm is None:
+        return None
+    blocks: list[Any] = [Paragraph(
+        "Does the structure of the scale file hold? Each scale is fitted as one factor, and the whole file as "
+        "one model with a factor per scale, by maximum likelihood on the item covariances of the respondents "
+        "who answered every item of the model.")]
+    whole = confirm.models.get("all")
+    if whole is not None:
+        blocks.append(Bullets(tuple(model_notes(whole)), tone="note"))
+    figure = figures.get(("confirm-loadings",))
+    if figure is not None:
+        blocks.append(FigureRow((figure,)))
+    blocks.append(Details("Fit, loadings, omegas, correlations, residuals and hints",
+                          tuple(TableBlock(t) for t in confirm_tables(confirm))))
+    return Section(anchor="confirm", title="Confirmatory models", blocks=tuple(blocks))
+
+
+def invariance_sentence(results: Any, scale: str, column: str) -> str | None:
+    """The invariance verdict of one scale across one column, worded, for beside its mean comparison."""
+    from .confirm import sentence
+
+    confirm = getattr(results, "confirm", None)
+    result = None if confirm is None else confirm.invariance.get(column, {}).get(scale)
+    if result is None or not result.notes:
+        return None
+    return "Measurement invariance: " + sentence(result.notes[0]) + "."
+
+
 # -------------------------------------------------------------------------------------- methods and rest
 
 def methods_section(results: Any) -> Section:
@@ -507,8 +543,11 @@ def build_document(results: Any, *, figures: FigureMap, decimals: int = 2) -> Re
                   + (f", subgroups by {', '.join(results.options.by)}" if results.options.by else "") + "."),
         TableBlock(summary_table(results, decimals))))]
     sections += [scale_section(f, results, figures, decimals) for f in results.scales.values()]
-    sections += [quality_section(results, decimals), structure_section(results, figures, decimals),
-                 methods_section(results), cautions_section(), provenance_section(results)]
+    sections += [quality_section(results, decimals), structure_section(results, figures, decimals)]
+    confirm = confirm_section(results, figures)
+    if confirm is not None:
+        sections.append(confirm)
+    sections += [methods_section(results), cautions_section(), provenance_section(results)]
     info = results.info
     facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), *respondent_counts(results),
              ("Date", results.created), ("Made with", f"scalewright {__version__}"))

@@ -136,6 +136,18 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
                 "vermillion negative, darker for larger loadings. The numbers are in the loadings table.")
+    confirm = getattr(results, "confirm", None)
+    if confirm is not None:
+        from .figures_confirm import confirm_loadings_figure
+
+        model = confirm.models.get("all") or next(iter(confirm.models.values()), None)
+        if model is not None and model.loadings:
+            stem = _save(lambda model=model: confirm_loadings_figure(model), folder, "confirm-loadings",
+                         inputs=inputs)
+            figures[("confirm-loadings",)] = FigureBlock(
+                stem, "Loadings of the confirmatory model", f"Standardized loadings of the {len(model.items)} "
+                f"items of the {model.structure.replace('-', ' ')} model, one bar per item and factor, with "
+                "whiskers of 1.96 standard errors. The numbers are in the loadings table.")
     render_figures(jobs, formats=formats, inputs=inputs)
     if "png" in formats:
         figures = {key: replace(block, png=True) for key, block in figures.items()}
