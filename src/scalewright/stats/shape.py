@@ -56,6 +56,10 @@ DEEP_VALLEY_RATIO = 0.5
 DEEP_VALLEY_ALPHA = 0.01
 #: respondents expected at least per window of the shape rule (windows widen beyond one answer step to reach it)
 BAND_EXPECTED = 15
+#: a peak is a window holding at least this share of respondents, and windows span at least this share of the
+#: score range: a heap of a few percent on one round value (or one noisy cell of a fine-grained score) is not a
+#: second camp of respondents (common practice, no source; docs/shape.md)
+MIN_PEAK_SHARE = 0.05
 #: share at the lowest / highest attainable score above which a floor / ceiling effect is flagged (Terwee et al. 2007)
 FLOOR_CEILING_SHARE = 0.15
 #: the smallest sample that gets a shape label
@@ -119,7 +123,8 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     counts = np.asarray(cells.counts, dtype=float)
     sizes = np.asarray(cells.grid_values, dtype=float) if cells.resolution > 0 else np.ones(counts.size)
     n_cells = counts.size
-    width = int(min(n_cells, max(period, math.ceil(BAND_EXPECTED * n_cells / max(n, 1)))))
+    width = int(min(n_cells, max(period, math.ceil(BAND_EXPECTED * n_cells / max(n, 1)),
+                                  math.ceil(MIN_PEAK_SHARE * n_cells))))
     starts = _symmetric_band_starts(n_cells, width)
     band_counts = np.add.reduceat(counts, starts)
     band_sizes = np.add.reduceat(sizes, starts)
@@ -129,12 +134,15 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     window_sizes = np.convolve(sizes, np.ones(width), mode="valid")
     window_density = window_sums / window_sizes
     centres = np.asarray(cells.centers)
+    total = float(counts.sum())
     best = (math.inf, math.nan, math.nan, ())
     for j in range(width, window_sums.size - width):
         left = int(np.argmax(window_density[: j - width + 1]))
         right = j + width + int(np.argmax(window_density[j + width:]))
         smaller = left if window_density[left] <= window_density[right] else right
         if window_density[smaller] <= 0 or window_density[j] >= window_density[smaller]:
+            continue
+        if min(window_sums[left], window_sums[right]) < MIN_PEAK_SHARE * total:
             continue
         ratio = window_density[j] / window_density[smaller]
         # equal density would give the valley window its share of the two windows' grid values
