@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..files import prepare_output_folder
+from ..seeds import DEFAULT_SEED
 
 DATA_NAME = "staff-climate.csv"
 SCALES_NAME = "staff-climate.yaml"
@@ -50,8 +51,9 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
 @click.command("demo")
 @click.option("--out", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
               help="Folder to write the demo into (created if missing; must be empty unless --force).")
-@click.option("--seed", type=click.IntRange(min=0), default=2026, show_default=True,
-              help="Seed of the generator: the same seed gives the same data.")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the generator and of the report's random steps: the same seed gives the same data "
+                   "and the same report.")
 @click.option("--n", "n", type=click.IntRange(40, 1_000_000), default=600, show_default=True,
               help="Number of respondents.")
 @click.option("--force", is_flag=True, help="Write into a folder that already holds files.")

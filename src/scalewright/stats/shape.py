@@ -25,6 +25,7 @@ import pandas as pd
 
 from ..errors import UsageError
 from ..results import ResultMixin, to_jsonable
+from ..seeds import DEFAULT_SEED
 from .descriptives import (
     BoxPlotPoints,
     UniformFit,
@@ -73,7 +74,7 @@ class DipResult(ResultMixin):
     jitter_width: float
 
 
-def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = 0) -> DipResult:
+def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = DEFAULT_SEED) -> DipResult:
     r"""Hartigan's dip test on scores spread uniformly within their resolution.
 
     Tied scores make the empirical CDF a staircase that no unimodal CDF follows closely, so the plain dip
@@ -317,7 +318,7 @@ def _pkey(p: float) -> str:
 def describe_scores(values, *, attainable: np.ndarray | None = None, low: float | None = None,
                     high: float | None = None, resolution: float | None = None,
                     answer_levels: int | None = None, percentiles=DEFAULT_PERCENTILES,
-                    quantile_method: str = "linear", seed: int = 0) -> ShapeSummary:
+                    quantile_method: str = "linear", seed: int = DEFAULT_SEED) -> ShapeSummary:
     """Describe one score: centre, spread, shape statistics, floor/ceiling shares and a shape label.
 
     Parameters
