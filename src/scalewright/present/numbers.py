@@ -50,3 +50,40 @@ def _strip_zero(text: str) -> str:
     if text.startswith("-0."):
         return "-" + text[2:]
     return text
+
+
+#: the most decimals a number is given to read true beside its cut-off
+MAX_DECIMALS_NEAR_CUTOFF = 6
+
+
+def format_against(value: Any, cutoff: float, kind: str = "num", decimals: int = 2) -> tuple[str, str]:
+    """``value`` and ``cutoff`` formatted so that the comparison between them reads true.
+
+    Near a cut-off, rounding can make a value look equal to it ("r = .30, below .30") or on the wrong side
+    ("3.0 is below 3"). Decimals are added (to both, up to :data:`MAX_DECIMALS_NEAR_CUTOFF`) until the
+    shown value sits on the same side of the shown cut-off as the true value does. A value that equals
+    the cut-off exactly is shown equal.
+    """
+    if _is_missing(value) or not math.isfinite(float(value)):
+        return format_value(value, kind, decimals), format_value(cutoff, kind, decimals)
+    number = float(value)
+    places = decimals
+    while places < MAX_DECIMALS_NEAR_CUTOFF:
+        shown, limit = float(f"{number:.{places}f}"), float(f"{cutoff:.{places}f}")
+        if (shown > limit) == (number > cutoff) and (shown < limit) == (number < cutoff):
+            break
+        places += 1
+    # the cut-off keeps its usual decimals unless they would hide a digit the comparison used (.305, not .31)
+    cutoff_places = next(d for d in range(decimals, places + 1) if round(cutoff, d) == round(cutoff, places))
+    cutoff_text = format_value(cutoff, kind, cutoff_places)
+    return format_value(number, kind, places), cutoff_text
+
+
+def whole_or_decimal(value: Any, decimals: int = 2) -> str:
+    """A count-like statistic (degrees of freedom, Mann-Whitney U): a whole number when it is whole."""
+    if _is_missing(value):
+        return format_value(value)
+    number = float(value)
+    if math.isfinite(number) and number.is_integer():
+        return f"{int(number):d}"
+    return format_value(number, "num", decimals)

@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from .messages import flag_message
 from .missing import missing_lines
 from .ordinal import ordinal_reliability_table, ordinal_sentences
 from .table import Table
@@ -86,7 +87,7 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
                            for item_name, item in overall.items.items()),
                 kinds={"scale": "text", "item": "text", **{level: "int" for level in levels}},
                 key="reliability_answer_counts"))
-        flag_rows = tuple((name, sample, flag.item or "(scale)", flag.code, flag.message)
+        flag_rows = tuple((name, sample, flag.item or "(scale)", flag.code, flag_message(flag))
                           for sample, result in _samples(report) for flag in result.flags)
         if flag_rows:
             tables.append(Table(
