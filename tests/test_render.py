@@ -37,7 +37,13 @@ def test_decimals_are_a_choice():
 
 
 @pytest.mark.parametrize("text, shown", [
-    ("<script>alert(1)</script>", "&lt;script&gt;alert(1)&lt;/script&gt;"),
+    # CommonMark 0.31 (spec section 2.4): a backslash before any ASCII punctuation shows it literally, so
+    # "\<" opens no tag and "\&" starts no entity; text Markdown would not act on stays as it is
+    ("<script>alert(1)</script>", "\\<script>alert(1)\\</script>"),
+    ("&amp; &#60;", "\\&amp; \\&#60;"),
+    ("R&D < .001 > 4", "R&D < .001 > 4"),
+    ("4.65 is the mean", "4.65 is the mean"),
+    ("-0.62 below .70", "-0.62 below .70"),
     ("a*b* [x](y)", "a\\*b\\* \\[x\\](y)"),
     ("# not a heading", "\\# not a heading"),
     ("1. not a list", "1\\. not a list"),
@@ -59,7 +65,7 @@ def test_text_and_markdown_round_only_when_rendered():
     text = render_text([TABLE])
     assert ".84" in text and "< .001" in text and "note: a note" in text
     markdown = render_markdown([TABLE])
-    assert "## Items &lt;b&gt;" in markdown and "| .84 |" in markdown
+    assert "## Items \\<b>" in markdown and "| .84 |" in markdown
 
 
 def test_csv_keeps_full_precision_and_neutralises_formulas():
