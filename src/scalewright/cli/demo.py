@@ -48,7 +48,9 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
     return write_scores(table, Path(folder) / SCORES_NAME, inputs=[data_path, scales_path])
 
 
-@click.command("demo")
+@click.command("demo", epilog=("Examples:\n\n\b\n"
+                  "  scalewright demo --out demo-report\n"
+                  "  scalewright demo --out demo-report --n 1200 --seed 7\n"))
 @click.option("--out", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
               help="Folder to write the demo into (created if missing; must be empty unless --force).")
 @click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
@@ -61,7 +63,8 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
               help="Random data sets drawn for the report's parallel analysis.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while the report is built.")
 def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool) -> None:
-    """Write a fictional staff climate survey and its scale file, and build the full report from them."""
+    """Write a fictional staff climate survey and its scale file, and build the full report from them.
+    """
     from .report import build_report_folder
 
     folder = prepare_folder(out, force=force)
@@ -74,5 +77,10 @@ def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool
     click.echo(f"wrote {folder / SCORES_NAME}  (scored file: one row per respondent, in data order)")
     click.echo(f"wrote {folder / REPORT_NAME}  (the report: open it in a browser; also report.md, results.json, "
                "figures/)")
-    click.echo(f"next: scalewright reliability {data_path} --scales {scales_path}")
+    import shlex
+
+    from . import program_name
+
+    click.echo(f"next: {program_name()} reliability {shlex.quote(str(data_path))} --scales "
+               f"{shlex.quote(str(scales_path))}")
     click.echo(CAUTION)

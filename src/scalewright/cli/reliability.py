@@ -21,7 +21,9 @@ from .common import (
 )
 
 
-@click.command("reliability")
+@click.command("reliability", epilog=("Examples:\n\n\b\n"
+                  "  scalewright reliability survey.csv --scales survey.yaml\n"
+                  "  scalewright reliability survey.csv -s survey.yaml --by shift --bootstrap 2000\n"))
 @data_argument
 @scales_option
 @by_option

@@ -56,7 +56,9 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     return results
 
 
-@click.command("report")
+@click.command("report", epilog=("Examples:\n\n\b\n"
+                  "  scalewright report survey.csv --scales survey.yaml --out report/\n"
+                  "  scalewright report survey.csv -s survey.yaml --by shift --exclude flagged.csv --out report/\n"))
 @data_argument
 @scales_option
 @by_option

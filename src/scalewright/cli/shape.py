@@ -41,7 +41,9 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
     return tuple(dict.fromkeys(values))
 
 
-@click.command("shape")
+@click.command("shape", epilog=("Examples:\n\n\b\n"
+                  "  scalewright shape survey.csv --scales survey.yaml --items\n"
+                  "  scalewright shape survey.csv -s survey.yaml --by shift --figures figures/\n"))
 @data_argument
 @scales_option
 @by_option

@@ -34,7 +34,9 @@ def parse_factors(value: str | None) -> int | str | None:
                              param_hint="--factors")
 
 
-@click.command("structure")
+@click.command("structure", epilog=("Examples:\n\n\b\n"
+                  "  scalewright structure survey.csv --scales survey.yaml\n"
+                  "  scalewright structure survey.csv -s survey.yaml --factors scales --rotation promax\n"))
 @data_argument
 @scales_option
 @click.option("--factors", "factors", metavar="N|scales", default=None,

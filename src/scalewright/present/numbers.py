@@ -5,7 +5,7 @@ import math
 from typing import Any
 
 #: column kinds a Table may declare
-KINDS = ("num", "bounded", "p", "int", "pct", "bar", "text")
+KINDS = ("num", "bounded", "p", "int", "pct", "bar", "text", "whole")
 
 
 def _is_missing(value: Any) -> bool:
@@ -17,7 +17,9 @@ def format_value(value: Any, kind: str = "num", decimals: int = 2) -> str:
 
     ``bounded`` is for statistics that cannot exceed 1 in size (alpha, r, omega): no leading zero (.84).
     ``p`` gives ``< .001`` below one thousandth and three decimals otherwise.
-    ``pct`` gives one decimal and no sign; ``bar`` a share in percent with a text bar. ``int`` counts; ``text`` as is. Missing values show as an en dash.
+    ``pct`` gives one decimal and no sign; ``bar`` a share in percent with a text bar. ``int`` counts; ``whole``
+    a whole number when the value is whole (degrees of freedom, U statistics) and ``num`` otherwise; ``text`` as
+    is. Missing values show as an en dash.
     """
     if _is_missing(value):
         return "–"
@@ -28,6 +30,8 @@ def format_value(value: Any, kind: str = "num", decimals: int = 2) -> str:
     if kind == "int":
         return f"{int(round(float(value))):d}"
     number = float(value)
+    if kind == "whole" and number.is_integer():  # degrees of freedom, U: whole when they are whole
+        return f"{int(number):d}"
     if math.isinf(number):
         return "∞" if number > 0 else "-∞"
     if kind == "p":
