@@ -27,11 +27,12 @@ class GeneratedSurvey:
 
 def make_survey(*, seed: int, n: int = 600, n_scales: int = 4, k: int = 6, low: int = 1, high: int = 5,
                 careless_share: float = 0.06, missing_share: float = 0.02, interleave: bool = False,
-                factor_r: float = 0.3) -> GeneratedSurvey:
+                factor_r: float = 0.3, item_shift: float = 0.7) -> GeneratedSurvey:
     """A fictional staff climate survey: correlated latent traits, items with a third reverse-worded.
 
     Careless respondents are ``careless_share`` of n, half straight-liners (one answer, chosen at random,
-    for every item) and half random clickers (every answer uniform over the answer range).
+    for every item) and half random clickers (every answer uniform over the answer range). Item means differ
+    by a latent shift drawn from U(-``item_shift``, ``item_shift``) per item (0.05: means that barely differ).
     """
     rng = np.random.default_rng(seed)
     p = n_scales * k
@@ -43,7 +44,7 @@ def make_survey(*, seed: int, n: int = 600, n_scales: int = 4, k: int = 6, low: 
         picks = rng.choice(k, size=max(1, k // 3), replace=False)
         reverse[s * k + picks] = True
     scale_of = np.repeat(np.arange(n_scales), k)
-    shift = rng.uniform(-0.7, 0.7, size=p)
+    shift = rng.uniform(-item_shift, item_shift, size=p)
     # answers in the trait's direction; reverse-worded items are then answered the other way round
     latent = traits[:, scale_of] * loadings + rng.normal(size=(n, p)) * np.sqrt(1 - loadings ** 2) + shift
     levels = high - low + 1

@@ -118,7 +118,34 @@ GROUPS: dict[str, str] = {
 
 # -- screening -----------------------------------------------------------------------------------------------
 SCREENING: dict[str, str] = {
+    "weak-index-used": ("{index} is used: an attentive respondent's {what} is expected near {typical}, and about "
+                        "{below}% of attentive respondents below the cut-off {cutoff}"),
+    "weak-index-set-aside": ("{index} is not used as a flag in this sample (its values are still listed): an "
+                             "attentive respondent's {what} is expected near {typical}, so about {below}% of "
+                             "attentive respondents would fall below the cut-off {cutoff} (the index is used "
+                             "when at most 10% would){reason}"),
+    "weak-index-undefined": "{index} is not used as a flag in this sample: {reason}",
 }
+
+
+def weak_index_sentence(use: Mapping[str, Any]) -> str:
+    """Whether a weak screening index (against-sample, uneven-halves) raises its flag here, and why."""
+    from .numbers import format_value
+
+    index = use["index"]
+    what = "person-total r" if index == "against-sample" else "even-odd half correlation"
+    typical, below = use.get("typical"), use.get("expected_below")
+    if typical is None or below is None:
+        reason = ("fewer than 4 scales with at least two items give each respondent's even-odd correlation too "
+                  "few points" if index == "uneven-halves" else "too few items or respondents to judge it")
+        return SCREENING["weak-index-undefined"].format(index=index, reason=reason)
+    reason = "; the item means differ too little" if index == "against-sample" else \
+        f"; it rests on {use['points']} scales per respondent"
+    values = dict(index=index, what=what, typical=format_value(typical, "bounded"),
+                  below=format_value(100 * below, "pct"), cutoff=format_value(use["cutoff"], "bounded"))
+    if use["used"]:
+        return SCREENING["weak-index-used"].format(**values)
+    return SCREENING["weak-index-set-aside"].format(**values, reason=reason)
 
 # -- confirmatory models and invariance ----------------------------------------------------------------------
 CONFIRM: dict[str, str] = {

@@ -516,12 +516,14 @@ MISKEY_MIN_LOADING = 0.10
 
 
 def first_factor_signs(loadings: np.ndarray, corr: np.ndarray) -> np.ndarray:
-    """Loadings on the scale's first factor, signed so that most of the scale's weight loads positively.
+    """Loadings on the scale's first factor, signed so that most of the scale's items load positively.
 
     The one-factor fit's standardized loadings when they are defined; otherwise (the fit failed or was not
     possible) the first principal axis of the correlation matrix, scaled by the square root of its
-    eigenvalue. A factor's sign is arbitrary; it is chosen so that the loadings sum to a positive number,
-    so the items keyed against the majority of the scale's variance load negatively. NaN where undefined.
+    eigenvalue. A factor's sign is arbitrary; it is chosen so that most items load positively (on a tie,
+    so that the loadings sum to a positive number), so the items keyed against the majority of the scale
+    load negatively. When half the items point each way the data cannot say which half is mis-keyed.
+    NaN where undefined.
     """
     loadings = np.asarray(loadings, dtype=np.float64)
     k = loadings.size
@@ -532,8 +534,10 @@ def first_factor_signs(loadings: np.ndarray, corr: np.ndarray) -> np.ndarray:
         values = vectors[:, -1] * math.sqrt(max(float(eigenvalues[-1]), 0.0))
     else:
         return np.full(k, np.nan)
-    if np.isfinite(values).all() and values.sum() < 0:
-        values = -values
+    if np.isfinite(values).all():
+        positive, negative = int((values > 0).sum()), int((values < 0).sum())
+        if negative > positive or (negative == positive and values.sum() < 0):
+            values = -values
     return values
 
 
