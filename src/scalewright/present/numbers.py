@@ -71,14 +71,17 @@ def format_against(value: Any, cutoff: float, kind: str = "num", decimals: int =
     if _is_missing(value) or not math.isfinite(float(value)):
         return format_value(value, kind, decimals), format_value(cutoff, kind, decimals)
     number = float(value)
-    places = decimals
+    # a cut-off is shown as it is (.305 stays .305), and the value with at least as many decimals
+    exact = next((d for d in range(decimals, MAX_DECIMALS_NEAR_CUTOFF + 1) if abs(round(cutoff, d) - cutoff) < 1e-12),
+                 MAX_DECIMALS_NEAR_CUTOFF)
+    places = exact
     while places < MAX_DECIMALS_NEAR_CUTOFF:
         shown, limit = float(f"{number:.{places}f}"), float(f"{cutoff:.{places}f}")
         if (shown > limit) == (number > cutoff) and (shown < limit) == (number < cutoff):
             break
         places += 1
     # the cut-off keeps its usual decimals unless they would hide a digit the comparison used (.305, not .31)
-    cutoff_places = next(d for d in range(decimals, places + 1) if round(cutoff, d) == round(cutoff, places))
+    cutoff_places = min(exact, places)
     cutoff_text = format_value(cutoff, kind, cutoff_places)
     return format_value(number, kind, places), cutoff_text
 
