@@ -376,3 +376,15 @@ def test_two_real_camps_on_a_fine_grained_score_stay_bimodal():
     modes = _kde_modes(x, 200, 800)
     assert len(modes) == 2 and abs(modes[0] - 350) < 30 and abs(modes[1] - 650) < 30
     assert describe_scores(x, low=200, high=800, resolution=1.0).shape == "bimodal"
+
+
+def test_shape_evidence_near_the_skew_cutoff_reads_true():
+    # a skewness of -0.3996 is within +-0.4; two decimals would show "-0.40, within +-0.4"
+    from scalewright.stats.shape import ShapeEvidence, shape_label
+
+    features = ShapeEvidence(band_edges=(), band_counts=(1.0, 1.0, 1.0), band_density=(), flat_w=0.5,
+                             valley_ratio=float("nan"), valley_p=float("nan"), valley_at=float("nan"), peaks_at=(),
+                             window_cells=1)
+    label, evidence, _ = shape_label(mean=3.0, median=3.1, skewness=-0.3996, skewness_se=0.05, bimodality=0.4,
+                                     dip_p=0.9, features=features)
+    assert label == "symmetric" and "skewness -0.3996 (SE 0.05), within ±0.4" in evidence

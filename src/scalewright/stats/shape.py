@@ -191,6 +191,16 @@ def _fmt(value: float, decimals: int = 2) -> str:
     return "0." + "0" * decimals if text in ("-0." + "0" * decimals,) else text
 
 
+def _fmt_against(value: float, cutoff: float) -> str:
+    """A number beside its cut-off (in size), with the decimals the comparison needs to read true."""
+    from ..present.numbers import format_against
+
+    if value is None or not math.isfinite(value):
+        return "n/a"
+    size, _ = format_against(abs(value), cutoff, "num", 2)
+    return f"-{size}" if value < 0 and float(size) != 0 else size
+
+
 def _fmt_p(p: float) -> str:
     if not math.isfinite(p):
         return "n/a"
@@ -201,7 +211,7 @@ def shape_label(*, mean: float, median: float, skewness: float, skewness_se: flo
                 bimodality: float, dip_p: float, features: ShapeEvidence) -> tuple[str | None, str, list[str]]:
     """Apply the shape rule; returns (label, evidence sentence, notes)."""
     notes: list[str] = []
-    skew_text = f"skewness {_fmt(skewness)} (SE {_fmt(skewness_se)})"
+    skew_text = f"skewness {_fmt_against(skewness, SKEW_THRESHOLD)} (SE {_fmt(skewness_se)})"
     bands = f"windows of {features.window_cells} score value(s)"
     flat = math.isfinite(features.flat_w) and features.flat_w < FLAT_W
     valley = math.isfinite(features.valley_ratio) and (
@@ -216,7 +226,7 @@ def shape_label(*, mean: float, median: float, skewness: float, skewness_se: flo
         return "bimodal", evidence, notes
     small_skew = not (abs(skewness) >= SKEW_THRESHOLD)
     if small_skew and flat:
-        evidence = (f"close to flat: excess w {_fmt(features.flat_w)} over {len(features.band_counts)} bands (below {FLAT_W}); "
+        evidence = (f"close to flat: excess w {_fmt_against(features.flat_w, FLAT_W)} over {len(features.band_counts)} bands (below {FLAT_W}); "
                     f"{skew_text}; bimodality coefficient {_fmt(bimodality)} (a flat distribution gives 5/9)")
         return "uniform", evidence, notes
     if _fmt(mean) == _fmt(median):
