@@ -10,9 +10,9 @@ from collections.abc import Iterable, Mapping
 from ..stats.shape import ShapeReport, ShapeSummary
 from .table import Table
 
-SUMMARY_COLUMNS = ("score", "values", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
+SUMMARY_COLUMNS = ("score", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
                    "skewness", "SE skew", "kurtosis", "SE kurt", "BC", "dip p", "uniform w", "uniform p",
-                   "floor %", "ceiling %", "effect", "shape")
+                   "floor %", "ceiling %", "effect", "shape", "values")
 SUMMARY_KINDS = {"score": "text", "values": "text", "sample": "text", "n": "int", "missing": "int", "BC": "bounded", "dip p": "p",
                  "uniform p": "p", "uniform w": "num", "floor %": "pct", "ceiling %": "pct", "effect": "text",
                  "shape": "text"}
@@ -31,9 +31,10 @@ VALUES_KEYED, VALUES_AS_GIVEN = "keyed", "as given"
 
 
 def _summary_row(name: str, sample: str, s: ShapeSummary, kind: str = "scale") -> tuple:
-    return (name, VALUES_AS_GIVEN if kind == "item" else VALUES_KEYED, sample, s.n, s.n_missing, s.mean, s.sd, s.median, s.q1, s.q3, s.iqr, s.min, s.max, s.skewness,
+    return (name, sample, s.n, s.n_missing, s.mean, s.sd, s.median, s.q1, s.q3, s.iqr, s.min, s.max, s.skewness,
             s.skewness_se, s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.uniform_gof.w,
-            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, _effect(s), s.shape or "–")
+            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, _effect(s), s.shape or "–",
+            VALUES_AS_GIVEN if kind == "item" else VALUES_KEYED)
 
 
 def _effect(s: ShapeSummary) -> str:
