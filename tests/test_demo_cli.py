@@ -2,6 +2,8 @@
 from __future__ import annotations
 
 import importlib.util
+import json
+import os
 from pathlib import Path
 
 import pandas as pd
@@ -27,6 +29,19 @@ def test_demo_writes_data_scale_file_and_scores(demo_run):
     for name in (DATA_NAME, SCALES_NAME, SCORES_NAME):
         assert str(out / name) in printed
     assert "fictional" in printed and "not a diagnosis" in printed
+    # the closing "next:" line runs as printed (a shell would split it as shlex does)
+    import shlex
+    import subprocess
+    import sys
+
+    next_line = next(line for line in printed.splitlines() if line.startswith("next: "))
+    words = shlex.split(next_line.removeprefix("next: "))
+    assert words[0] in (sys.executable, Path(sys.executable).name) and words[1:3] == ["-m", "scalewright"]
+    words[0] = sys.executable
+    done = subprocess.run([*words, "--format", "json"], capture_output=True, text=True, timeout=120,
+                          env={**os.environ, "PYTHONPATH": str(REPO / "src")})
+    assert done.returncode == 0, done.stderr
+    assert json.loads(done.stdout)["command"] == "reliability"
 
     data = pd.read_csv(out / DATA_NAME, dtype=str, keep_default_na=False)
     scores = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})

@@ -12,7 +12,7 @@ import re
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Iterable, Sequence
+from typing import Any, Iterable, Mapping, Sequence
 
 import numpy as np
 import pandas as pd
@@ -549,7 +549,8 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, 
             blank_by_column[column] = other_missing.blank[column]
     missing_texts_by_column.update(other_missing.texts)
     for column, order in spec.group_levels.items():
-        rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
+        rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient,
+                                       codes=getattr(spec, "group_codes", {}).get(column))
     return Responses(path=str(path), answers=answers, item_names=tuple(needed), frame=rest.reset_index(drop=True),
                      ids=ids, line_numbers=line_numbers, id_column=spec.id_column, missing_texts=spec.missing_texts,
                      refused=tuple(problem for _, problem in bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
@@ -618,13 +619,22 @@ def _check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) 
 
 
 def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],
-                    line_numbers: np.ndarray, *, lenient: bool) -> pd.Series:
+                    line_numbers: np.ndarray, *, lenient: bool, codes: Mapping[str, str] | None = None) -> pd.Series:
     """A group column as an ordered categorical in the scale file's order; unknown levels are refused.
 
-    Numbers match numerically, as item answers do: ``3.0`` in the file is the level ``3``.
+    Numbers match numerically, as item answers do: ``3.0`` in the file is the level ``3``. With ``codes``
+    (``{"1": "woman", ...}`` from the scale file) the data's codes become their names, so tables, figures and
+    sentences say "woman", not "gender = 1"; a value already written as a name is kept.
     """
     text = values.astype("string").str.strip()
     text = text.mask(text == "")
+    if codes:
+        whole = text.str.replace(r"^(-?\d+)\.0+$", r"\1", regex=True)  # 1.0 as read from a float column is 1
+        text = whole.map(lambda value: codes.get(value, value) if isinstance(value, str) else value,
+                         na_action="ignore").astype("string")
+        order_text = f"{', '.join(f'{code} = {name}' for code, name in codes.items())}"
+    else:
+        order_text = ", ".join(order)
     numeric_levels = {float(level): level for level in order if is_plain_number(level)}
     if numeric_levels:
         distinct = text.dropna().unique()
@@ -636,8 +646,9 @@ def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str
     if unknown.any() and not lenient:
         first = int(np.flatnonzero(unknown.to_numpy())[0])
         raise DataError(Problem(file=str(path), where=f"row {line_numbers[first]}, column {column}",
-                                message=f"{quoted(text.iloc[first])} is not one of the levels the scale file lists for "
-                                        f"{column} ({', '.join(order)}); {int(unknown.sum())} such value(s)"))
+                                message=f"{quoted(values.astype('string').iloc[first])} is not one of the levels "
+                                        f"the scale file lists for {column} ({order_text}); {int(unknown.sum())} "
+                                        "such value(s)"))
     return pd.Series(pd.Categorical(text.where(~unknown), categories=list(order), ordered=True), name=column)
 
 

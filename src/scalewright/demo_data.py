@@ -58,12 +58,12 @@ import pandas as pd
 
 from .errors import UsageError
 from .results import to_jsonable
+from .seeds import DEFAULT_SEED  # the one default seed of the tool
 
 #: file name of the scale file shipped in ``scalewright/resources`` (and copied to ``scales/``)
 SCALE_FILE_NAME = "staff-climate.yaml"
 #: file name of the data file ``scalewright demo`` writes
 DATA_FILE_NAME = "staff-climate.csv"
-DEFAULT_SEED = 2026
 DEFAULT_N = 600
 POPULATION_SIZE = 200_000
 POPULATION_SEED = 20_260_611

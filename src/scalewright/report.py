@@ -16,9 +16,8 @@ from . import __version__
 from .errors import UsageError
 from .present.document import InputInfo, envelope
 from .results import to_jsonable
+from .seeds import DEFAULT_SEED  # one default for every command and the report
 
-#: default seed of every random step (parallel analysis, the jittered dip test, bootstrap)
-DEFAULT_SEED = 2026
 #: steps :func:`build_report` announces to its progress callback
 STEPS = ("scoring", "reliability", "score shapes", "subgroup comparisons", "answer distributions",
          "structure", "data quality")

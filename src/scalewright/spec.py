@@ -128,6 +128,9 @@ class ScaleSpec:
     group_levels: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
     #: texts that mean "no answer" in the columns that are not items (groups, tallies)
     missing_texts: tuple[str, ...] = DEFAULT_MISSING_TEXTS
+    #: group column -> {code as written in the data: level name}, for ``{column: {1: woman, 2: man}}``;
+    #: the names (in the order listed) are also in ``group_levels``
+    group_codes: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
 
     @property
     def items(self) -> tuple[str, ...]:
@@ -550,7 +553,8 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
             checker.problem(keys["version"][1], "version", f"version {value} is not supported; this tool reads version 1")
     title = checker.text(keys["title"][1], "title") if "title" in keys else None
     id_column = checker.text(keys["id_column"][1], "id_column") if "id_column" in keys else None
-    groups, group_levels = _groups(checker, keys["groups"][1]) if "groups" in keys else ([], {})
+    group_codes: dict[str, dict[str, str]] = {}
+    groups, group_levels = _groups(checker, keys["groups"][1], group_codes) if "groups" in keys else ([], {})
     checker.top_response_given = "response" in keys
     if "missing_texts" in keys:
         checker.top_missing_texts = checker.text_values(keys["missing_texts"][1], "missing_texts") or ()
@@ -574,13 +578,20 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
                      group_levels=MappingProxyType(group_levels),
                      missing_texts=DEFAULT_MISSING_TEXTS if checker.top_missing_texts is None
                      else checker.top_missing_texts,
+                     group_codes=MappingProxyType({c: MappingProxyType(m) for c, m in group_codes.items()}),
                      response=base or next(iter(scales.values())).response,
                      scales=MappingProxyType(scales), path=path_text, version=version)
     return spec, []
 
 
-def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tuple[str, ...]]]:
-    """``groups``: column names, each either plain or ``{column: [levels in order]}``."""
+def _groups(checker: _Checker, node: yaml.Node,
+            codes: dict[str, dict[str, str]] | None = None) -> tuple[list[str], dict[str, tuple[str, ...]]]:
+    """``groups``: column names, each plain, ``{column: [levels in order]}`` or ``{column: {code: name}}``.
+
+    A mapping names the codes of a coded column (``{gender: {1: woman, 2: man}}``): its names, in the order
+    listed, are the column's ordered levels, and their codes are recorded in ``codes``.
+    """
+    codes = {} if codes is None else codes
     groups: list[str] = []
     levels: dict[str, tuple[str, ...]] = {}
     if isinstance(node, yaml.ScalarNode) and checker.scalar(node) is None:
@@ -594,10 +605,20 @@ def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tu
             entry = checker.mapping(child, where, None) or {}
             if len(entry) != 1:
                 checker.problem(child, where, "an ordered group is one column with its levels, e.g. "
-                                              "{tenure: [under 1 year, 1-4 years, 5+ years]}")
+                                              "{tenure: [under 1 year, 1-4 years, 5+ years]}, or with names for "
+                                              "its codes, e.g. {gender: {1: woman, 2: man}}")
                 continue
             (column, (_, levels_node)), = entry.items()
-            ordered = [text for text, _ in checker.text_list(levels_node, f"{where}.{column}") or []]
+            if isinstance(levels_node, yaml.MappingNode):
+                named = _level_names(checker, levels_node, f"{where}.{column}")
+                if named is None:
+                    continue
+                codes[column] = named
+                named_levels = list(named.values())
+            else:
+                named_levels = None
+            ordered = named_levels if named_levels is not None else \
+                [text for text, _ in checker.text_list(levels_node, f"{where}.{column}") or []]
             if len(set(ordered)) != len(ordered):
                 checker.problem(levels_node, f"{where}.{column}", "a level is listed twice")
                 continue
@@ -614,6 +635,35 @@ def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tu
         else:
             groups.append(column)
     return groups, levels
+
+
+def _level_names(checker: _Checker, node: yaml.MappingNode, where: str) -> dict[str, str] | None:
+    """``{1: woman, 2: man}``: code (as text, a whole number written plainly) -> level name; None if broken."""
+    entries = checker.mapping(node, where, None)
+    if entries is None:
+        return None
+    named: dict[str, str] = {}
+    for code, (_, name_node) in entries.items():
+        name = checker.text(name_node, f"{where}.{code}")
+        if name is None:
+            return None
+        key = str(code).strip()
+        try:  # 1, 1.0 and "1" are the same code
+            number = float(key)
+            key = str(int(number)) if number.is_integer() else key
+        except ValueError:
+            pass
+        if key in named:
+            checker.problem(name_node, f"{where}.{code}", f"the code {code!r} is named twice")
+            return None
+        named[key] = name
+    if len(set(named.values())) != len(named):
+        checker.problem(node, where, "two codes have the same name")
+        return None
+    if not named:
+        checker.problem(node, where, "the mapping of codes to names is empty")
+        return None
+    return named
 
 
 def _check_across_scales(checker: _Checker, scales: dict[str, Scale], id_column: str | None,

@@ -40,6 +40,16 @@ class LazyGroup(click.Group):
         module = importlib.import_module(f"{__name__}.{module_name}")
         return getattr(module, cmd_name.replace("-", "_"))
 
+    def resolve_command(self, ctx: click.Context, args: list[str]) -> tuple[str | None, click.Command | None, list[str]]:
+        name = args[0] if args else ""
+        if name and not name.startswith("-") and name not in COMMANDS:
+            import difflib
+
+            close = difflib.get_close_matches(name, list(COMMANDS), n=1, cutoff=0.6)
+            hint = f"; did you mean {close[0]!r}?" if close else f"; the commands are {', '.join(COMMANDS)}"
+            raise click.UsageError(f"no command {name!r}{hint}", ctx)
+        return super().resolve_command(ctx, args)
+
 
 @click.group(cls=LazyGroup, context_settings={"help_option_names": ["-h", "--help"], "max_content_width": 100})
 @click.version_option(__version__, prog_name="scalewright")
@@ -52,6 +62,26 @@ def cli() -> None:
     Scores describe groups of respondents; they are not a diagnosis or a basis
     for decisions about one person.
     """
+
+
+def program_name() -> str:
+    """The program as the user invoked it, for lines the user may copy and run as printed.
+
+    ``scalewright`` (or the path typed, e.g. ``.venv/bin/scalewright``) for the console script;
+    ``python -m scalewright`` when started that way, with the interpreter's full path unless the same one is
+    first on PATH.
+    """
+    import shlex
+    import shutil
+
+    launched = sys.argv[0] if sys.argv and sys.argv[0] else ""
+    if os.path.splitext(os.path.basename(launched))[0] != "scalewright":  # python -m, or called from Python
+        python = sys.executable or "python"
+        short = os.path.basename(python)
+        if shutil.which(short) and os.path.realpath(shutil.which(short) or "") == os.path.realpath(python):
+            python = short
+        return f"{shlex.quote(python)} -m scalewright"
+    return shlex.quote(launched) if os.sep in launched else os.path.basename(launched)
 
 
 def main(argv: list[str] | None = None) -> int:

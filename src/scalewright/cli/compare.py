@@ -18,7 +18,9 @@ from .common import (
 )
 
 
-@click.command("compare")
+@click.command("compare", epilog=("Examples:\n\n\b\n"
+                  "  scalewright compare survey.csv --scales survey.yaml --by site\n"
+                  "  scalewright compare survey.csv -s survey.yaml --by shift --format md --out compare.md\n"))
 @data_argument
 @scales_option
 @by_option

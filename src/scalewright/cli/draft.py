@@ -9,7 +9,8 @@ from ..errors import UsageError
 from ..files import refuse_input_overwrite, write_atomic
 
 
-@click.command("draft")
+@click.command("draft", epilog=("Examples:\n\n\b\n"
+                  "  scalewright draft survey.csv --out survey.yaml\n"))
 @click.argument("data", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--out", "-o", "out", type=click.Path(dir_okay=False, path_type=Path),
               help="Write the drafted scale file here (default: print it).")

@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..analyses.reliability import analyse_reliability
+from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
     data_argument,
@@ -20,7 +21,9 @@ from .common import (
 )
 
 
-@click.command("reliability")
+@click.command("reliability", epilog=("Examples:\n\n\b\n"
+                  "  scalewright reliability survey.csv --scales survey.yaml\n"
+                  "  scalewright reliability survey.csv -s survey.yaml --by shift --bootstrap 2000\n"))
 @data_argument
 @scales_option
 @by_option
@@ -28,8 +31,8 @@ from .common import (
               show_default=True, help="Coverage of the confidence intervals of alpha.")
 @click.option("--bootstrap", "n_resamples", type=click.IntRange(min=0), default=0, metavar="N",
               help="Also give percentile and BCa bootstrap intervals of alpha from N resamples.")
-@click.option("--seed", type=click.IntRange(min=0), default=None,
-              help="Seed of the bootstrap (default: a fresh one, recorded in the output).")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the bootstrap (the same default in every command and the report).")
 @missing_option
 @click.option("--pairwise", is_flag=True,
               help="Same as --missing pairwise (kept for existing scripts).")
@@ -48,7 +51,7 @@ from .common import (
 @input_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
-                seed: int | None, missing: str | None, pairwise: bool, ordinal: bool, min_group: int,
+                seed: int, missing: str | None, pairwise: bool, ordinal: bool, min_group: int,
                 weak_item_r: float, redundant_r: float, low_alpha: float, excess_alpha: float, lenient: bool,
                 exclude: Path | None, fmt: str | None,
                 out: Path | None, decimals: int) -> None:
@@ -67,10 +70,6 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     method = resolve_missing(missing, pairwise)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec)
-    if n_resamples and seed is None:
-        import numpy as np
-
-        seed = int(np.random.SeedSequence().entropy % 2**32)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
     reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,

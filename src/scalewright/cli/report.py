@@ -56,7 +56,9 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     return results
 
 
-@click.command("report")
+@click.command("report", epilog=("Examples:\n\n\b\n"
+                  "  scalewright report survey.csv --scales survey.yaml --out report/\n"
+                  "  scalewright report survey.csv -s survey.yaml --by shift --exclude flagged.csv --out report/\n"))
 @data_argument
 @scales_option
 @by_option
@@ -66,7 +68,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
 @click.option("--decimals", type=click.IntRange(0, 6), default=2, show_default=True,
               help="Decimals shown in the pages (results.json keeps full precision).")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
-              help="Seed of every random step (parallel analysis, dip test); default 2026, recorded in the report.")
+              help="Seed of every random step (parallel analysis, dip test); default 2026, the same in every command, "
+                   "recorded in the report.")
 @click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
               help="Random data sets drawn for parallel analysis (fewer is faster, less exact).")
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,

@@ -18,7 +18,9 @@ from .common import (
 )
 
 
-@click.command("score")
+@click.command("score", epilog=("Examples:\n\n\b\n"
+                  "  scalewright score survey.csv --scales survey.yaml --out scores.csv\n"
+                  "  scalewright score survey.csv -s survey.yaml --standardize pomp --out scores.xlsx\n"))
 @data_argument
 @scales_option
 @click.option("--standardize", type=click.Choice(STANDARDIZE), default=None,

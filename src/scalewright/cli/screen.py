@@ -17,7 +17,9 @@ from .common import (
 )
 
 
-@click.command("screen")
+@click.command("screen", epilog=("Examples:\n\n\b\n"
+                  "  scalewright screen survey.csv --scales survey.yaml\n"
+                  "  scalewright screen survey.csv -s survey.yaml --out flagged.csv --flagged-only\n"))
 @data_argument
 @scales_option
 @click.option("--duration-column", metavar="COLUMN", default=None,

@@ -9,6 +9,7 @@ import click
 
 from ..analyses.shape import analyse_shape
 from ..errors import UsageError
+from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
     data_argument,
@@ -40,7 +41,9 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
     return tuple(dict.fromkeys(values))
 
 
-@click.command("shape")
+@click.command("shape", epilog=("Examples:\n\n\b\n"
+                  "  scalewright shape survey.csv --scales survey.yaml --items\n"
+                  "  scalewright shape survey.csv -s survey.yaml --by shift --figures figures/\n"))
 @data_argument
 @scales_option
 @by_option
@@ -54,8 +57,9 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
               help="Sample quantile definition (Hyndman & Fan types 1-9 by numpy's names; linear is type 7).")
 @click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
               help="Subgroup levels with fewer scored respondents are named but not described.")
-@click.option("--seed", type=click.IntRange(min=0), default=0, show_default=True,
-              help="Seed of the jitter used by the dip test on tied scores.")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the jitter used by the dip test on tied scores (the same default in every command "
+                   "and the report).")
 @click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
               help="Write histograms and box plots (SVG and PNG) to this folder.")
 @input_options

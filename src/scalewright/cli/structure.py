@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..analyses.structure import analyse_structure_of_file
+from ..seeds import DEFAULT_SEED
 from .common import (
     data_argument,
     emit,
@@ -33,7 +34,9 @@ def parse_factors(value: str | None) -> int | str | None:
                              param_hint="--factors")
 
 
-@click.command("structure")
+@click.command("structure", epilog=("Examples:\n\n\b\n"
+                  "  scalewright structure survey.csv --scales survey.yaml\n"
+                  "  scalewright structure survey.csv -s survey.yaml --factors scales --rotation promax\n"))
 @data_argument
 @scales_option
 @click.option("--factors", "factors", metavar="N|scales", default=None,
@@ -44,7 +47,8 @@ def parse_factors(value: str | None) -> int | str | None:
               help="Factor extraction: minimum residuals or maximum likelihood.")
 @click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
               help="Random data sets drawn for parallel analysis.")
-@click.option("--seed", type=int, default=20261201, show_default=True, help="Seed of the parallel analysis.")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the parallel analysis (the same default in every command and the report).")
 @click.option("--min-loading", type=click.FloatRange(0, 1, min_open=True), default=0.40, show_default=True,
               help="Flag items loading less than this on their own scale's factor.")
 @click.option("--cross-loading", type=click.FloatRange(0, 1, min_open=True), default=0.30, show_default=True,

@@ -49,7 +49,9 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
     return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=notes), frame
 
 
-@click.command("tally")
+@click.command("tally", epilog=("Examples:\n\n\b\n"
+                  "  scalewright tally survey.csv --scales survey.yaml --columns age_group\n"
+                  "  scalewright tally survey.csv -s survey.yaml --columns site --expected census.csv\n"))
 @data_argument
 @click.option("--scales", "-s", "scales", type=click.Path(dir_okay=False, path_type=Path),
               help="Scale file (YAML); needed for --items and to use the answer labels of items.")

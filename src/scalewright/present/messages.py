@@ -20,7 +20,89 @@ READING: dict[str, str] = {
 
 # -- reliability ---------------------------------------------------------------------------------------------
 RELIABILITY: dict[str, str] = {
+    "miskey-suspect": ("{item} runs against the rest of the scale: it loads {loading} on the scale's first "
+                       "factor, on which most of the scale loads positively (item-rest r = {item_rest_r}); "
+                       "{advice}.{alpha_text}"),
+    "miskey-suspect-pair": ("{item} correlates negatively with the other item (r = {item_rest_r}); one of the "
+                            "two may be keyed the wrong way; {advice}."),
+    "miskey-advice-declared": "it is declared reverse-keyed: check that it should be",
+    "miskey-advice-undeclared": "if its wording is reversed, list it under `reverse`",
+    "miskey-alpha-one": " With it reversed, alpha would be {new} instead of {old}.",
+    "miskey-alpha-together": " With {items} reversed together, alpha would be {new} instead of {old}.",
+    "weak-item": ("{item} agrees little with the rest of the scale (item-rest r = {item_rest_r}, below {cutoff}); "
+                  "check its wording."),
+    "redundant-pair": "{item} and {other} correlate r = {r} (above {cutoff}): they may ask the same thing twice.",
+    "low-reliability": "alpha = {alpha} is below {cutoff}: the score is noisy in this sample.",
+    "excess-reliability": ("alpha = {alpha} is above {cutoff}: items may be near-duplicates; a shorter scale "
+                           "may do."),
 }
+
+
+def reliability_flag_message(code: str, values: Mapping[str, Any]) -> str:
+    """The sentence of one reliability flag (``miskey-suspect``, ``weak-item``, ...) from its values.
+
+    Values beside a cut-off are shown with as many decimals as the comparison needs to read true; the
+    alpha a reversal would give is said only when it differs from today's alpha as shown.
+    """
+    from .numbers import format_against, format_value
+
+    def bounded(value: Any) -> str:
+        return format_value(value, "bounded")
+
+    if code == "miskey-suspect":
+        advice = RELIABILITY["miskey-advice-declared" if values.get("declared_reversed")
+                             else "miskey-advice-undeclared"]
+        new, old = bounded(values.get("alpha_reversed")), bounded(values.get("alpha"))
+        together = tuple(values.get("reversed_together", ()))
+        alpha_text = ""
+        if new != old and new != "–" and old != "–":
+            alpha_text = (RELIABILITY["miskey-alpha-together"].format(items=", ".join(together), new=new, old=old)
+                          if len(together) > 1 else RELIABILITY["miskey-alpha-one"].format(new=new, old=old))
+        loading = values.get("loading")
+        if loading is None or loading != loading:  # two items: no factor, the pair's correlation says it
+            return RELIABILITY["miskey-suspect-pair"].format(item=values["item"], advice=advice,
+                                                             item_rest_r=bounded(values.get("item_rest_r")))
+        return RELIABILITY[code].format(item=values["item"], loading=bounded(loading), advice=advice,
+                                        item_rest_r=bounded(values.get("item_rest_r")), alpha_text=alpha_text)
+    if code == "weak-item":
+        shown, cutoff = format_against(values["item_rest_r"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(item=values["item"], item_rest_r=shown, cutoff=cutoff)
+    if code == "redundant-pair":
+        shown, cutoff = format_against(values["r"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(item=values["item"], other=values["other"], r=shown, cutoff=cutoff)
+    if code in ("low-reliability", "excess-reliability"):
+        shown, cutoff = format_against(values["alpha"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(alpha=shown, cutoff=cutoff)
+    return describe(Note(code=code, values=values))
+
+
+def flag_message(flag: Any) -> str:
+    """The sentence of a flag result (anything with ``code``, ``message`` and ``values``)."""
+    values = getattr(flag, "values", None)
+    if getattr(flag, "message", "") or not values:
+        return str(getattr(flag, "message", ""))
+    if flag.code in RELIABILITY:
+        return reliability_flag_message(flag.code, values)
+    return describe(Note(code=flag.code, values=values))
+
+
+def word_document(document: Any) -> Any:
+    """Fill in every empty ``message`` of a flag in a JSON document from its ``code`` and ``values``.
+
+    Results record flags as codes with values; this is where a document gets their sentences, so a command's
+    JSON and the report's results.json carry the same words as their tables.
+    """
+    if isinstance(document, dict):
+        if document.get("message") == "" and isinstance(document.get("values"), dict) and "code" in document:
+            code = document["code"]
+            document["message"] = (reliability_flag_message(code, document["values"]) if code in RELIABILITY
+                                   else describe(Note(code=code, values=document["values"])))
+        for value in document.values():
+            word_document(value)
+    elif isinstance(document, list):
+        for value in document:
+            word_document(value)
+    return document
 
 # -- structure -----------------------------------------------------------------------------------------------
 STRUCTURE: dict[str, str] = {
@@ -36,7 +118,34 @@ GROUPS: dict[str, str] = {
 
 # -- screening -----------------------------------------------------------------------------------------------
 SCREENING: dict[str, str] = {
+    "weak-index-used": ("{index} is used: an attentive respondent's {what} is expected near {typical}, and about "
+                        "{below}% of attentive respondents below the cut-off {cutoff}"),
+    "weak-index-set-aside": ("{index} is not used as a flag in this sample (its values are still listed): an "
+                             "attentive respondent's {what} is expected near {typical}, so about {below}% of "
+                             "attentive respondents would fall below the cut-off {cutoff} (the index is used "
+                             "when at most 10% would){reason}"),
+    "weak-index-undefined": "{index} is not used as a flag in this sample: {reason}",
 }
+
+
+def weak_index_sentence(use: Mapping[str, Any]) -> str:
+    """Whether a weak screening index (against-sample, uneven-halves) raises its flag here, and why."""
+    from .numbers import format_value
+
+    index = use["index"]
+    what = "person-total r" if index == "against-sample" else "even-odd half correlation"
+    typical, below = use.get("typical"), use.get("expected_below")
+    if typical is None or below is None:
+        reason = ("fewer than 4 scales with at least two items give each respondent's even-odd correlation too "
+                  "few points" if index == "uneven-halves" else "too few items or respondents to judge it")
+        return SCREENING["weak-index-undefined"].format(index=index, reason=reason)
+    reason = "; the item means differ too little" if index == "against-sample" else \
+        f"; it rests on {use['points']} scales per respondent"
+    values = dict(index=index, what=what, typical=format_value(typical, "bounded"),
+                  below=format_value(100 * below, "pct"), cutoff=format_value(use["cutoff"], "bounded"))
+    if use["used"]:
+        return SCREENING["weak-index-used"].format(**values)
+    return SCREENING["weak-index-set-aside"].format(**values, reason=reason)
 
 # -- confirmatory models and invariance ----------------------------------------------------------------------
 CONFIRM: dict[str, str] = {

@@ -145,6 +145,8 @@ def _v(value: Any, kind: str = "num", decimals: int = 2) -> str:
 def thresholds_used(results: Any) -> list[Threshold]:
     """Every cut-off behind a flag, label or suppression in ``results`` (a ``ReportResults``)."""
     from ..stats import shape as shape_module
+    from ..stats.quality import WEAK_INDEX_MAX_EXPECTED_BELOW
+    from ..stats.reliability import MISKEY_MIN_LOADING
     from ..stats.structure import MIN_EIGEN_RATIO, MIN_KMO
 
     options = results.options
@@ -160,6 +162,9 @@ def thresholds_used(results: Any) -> list[Threshold]:
     if first is not None:
         t = first.thresholds
         out += [
+            Threshold("Reliability", "miskey-suspect: loading on the scale's first factor (signed so most items "
+                      "load positively) below", _v(-MISKEY_MIN_LOADING, "bounded"),
+                      "this project's rule (docs/reliability.md); item-rest r given as support"),
             Threshold("Reliability", "weak-item: item-rest correlation below", _v(t.weak_item_rest_r, "bounded"),
                       "common practice, usually traced to Nunnally & Bernstein (1994)"),
             Threshold("Reliability", "low-reliability: alpha below", _v(t.low_alpha, "bounded"),
@@ -186,6 +191,8 @@ def thresholds_used(results: Any) -> list[Threshold]:
                   _v(shape_module.VALLEY_RATIO), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "bimodal: valley lower than the peak, one-sided binomial p below",
                   _v(shape_module.VALLEY_ALPHA, "p"), "this project's rule (docs/shape.md)"),
+        Threshold("Distribution", "bimodal: each peak window holds at least this share of respondents",
+                  f"{100 * shape_module.MIN_PEAK_SHARE:g}%", "this project's rule (docs/shape.md): heaping"),
         Threshold("Distribution", "respondents expected per score band of the shape rule",
                   _v(shape_module.BAND_EXPECTED, "int"), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "floor / ceiling effect: share at the lowest / highest score above",
@@ -220,6 +227,9 @@ def thresholds_used(results: Any) -> list[Threshold]:
                       _v(t.person_total_min, "bounded"), "Curran (2016)"),
             Threshold("Data quality", "uneven-halves (weak): even-odd consistency below",
                       _v(t.even_odd_min, "bounded"), "Meade & Craig (2012)"),
+            Threshold("Data quality", "a weak index is used only when attentive respondents expected below its "
+                      "cut-off are at most", f"{100 * WEAK_INDEX_MAX_EXPECTED_BELOW:g}%",
+                      "this project's rule (docs/screening.md)"),
             Threshold("Data quality", "duplicate-answers: identical rows flagged from this many answered items",
                       _v(t.duplicate_min_items, "int"), "this project's rule (docs/screening.md)"),
             Threshold("Data quality", "many-missing (listed only): share of items unanswered above",

@@ -169,7 +169,10 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
         dup_rows += tuple(("repeated id", i) for i in duplicates["ids"])
         tables.append(Table(title="Duplicate records", columns=("kind", "respondents"), rows=dup_rows,
                             kinds={"kind": "text", "respondents": "text"}, key="duplicates"))
-    if document.get("notes"):
-        tables[0] = Table(title=tables[0].title, columns=tables[0].columns, rows=tables[0].rows,
-                          kinds=tables[0].kinds, notes=tables[0].notes + tuple(document["notes"]), key=tables[0].key)
+    from .messages import weak_index_sentence
+
+    weak = tuple(weak_index_sentence(use) for use in document.get("weak_indices", {}).values())
+    if document.get("notes") or weak:
+        tables[0] = Table(title=tables[0].title, columns=tables[0].columns, rows=tables[0].rows, kinds=tables[0].kinds,
+                          notes=tables[0].notes + weak + tuple(document.get("notes", ())), key=tables[0].key)
     return tables

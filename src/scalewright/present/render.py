@@ -68,20 +68,25 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
 def escape_markdown(text: str) -> str:
     """Escape text so Markdown (and the HTML it may become) shows it literally.
 
-    HTML's own characters become entities; Markdown's inline markers (emphasis, code, links, tables) are
-    backslash-escaped; a marker that only counts at the start of a line (heading, list, quote) is escaped
-    there. Parentheses and other punctuation stay as they are: without a ``]`` before them they make no link.
+    The text stays readable as plain text (report.md is read as a file too): no HTML entities and no
+    escaped decimals. Only what Markdown would act on is backslash-escaped: ``<`` before a letter, ``/``,
+    ``!`` or ``?`` (which could open a tag), ``&`` before what could be an entity (``&amp;``, ``&#60;``),
+    the inline markers (emphasis, code, links, tables), and a marker that only counts at the start of a line
+    (heading, list, quote; a number followed by ``.`` or ``)`` and a space). "< .001", "4.65" and "R&D"
+    stay as they are.
     """
-    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("\n", " ")
+    text = text.replace("\n", " ")
     for char in "\\`*_{}[]|~":
         text = text.replace(char, "\\" + char)
+    text = re.sub(r"<(?=[A-Za-z/!?])", r"\\<", text)
+    text = re.sub(r"&(?=#?\w+;)", r"\\&", text)
     stripped = text.lstrip()
     lead = len(text) - len(stripped)
-    numbered = re.match(r"\d+(?=[.)])", stripped)
+    numbered = re.match(r"\d+(?=[.)](\s|$))", stripped)
     if numbered:  # "1. first" would start an ordered list: escape the dot
         end = lead + numbered.end()
         text = text[:end] + "\\" + text[end:]
-    elif stripped[:1] in ("#", "-", "+", "="):
+    elif re.match(r"[-+*]\s|#{1,6}(\s|$)|>|[=-]+\s*$", stripped):
         text = text[:lead] + "\\" + stripped
     return text
 

@@ -154,7 +154,9 @@ def _flag_sentences(findings: Any) -> list[str]:
     flags = findings.reliability.overall.flags
     if not flags:
         return ["No item or scale statistic was flagged in the whole sample."]
-    return [f"{flag.item + ': ' if flag.item else ''}{flag.message} ({flag.code})" for flag in flags]
+    from .messages import flag_message
+
+    return [f"{flag.item + ': ' if flag.item else ''}{flag_message(flag)} ({flag.code})" for flag in flags]
 
 
 def narrative(findings: Any, results: Any, decimals: int) -> list[str]:

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -368,6 +368,82 @@ def even_odd_consistency(keyed_by_scale: Sequence[Any] | Mapping[str, Any]) -> E
     return EvenOddResult(r, corrected, len(usable), tuple(notes))
 
 
+#: a weak index is used only when at most this share of attentive respondents is expected below its cut-off
+#: (our own rule, chosen on generated data: docs/screening.md)
+WEAK_INDEX_MAX_EXPECTED_BELOW = 0.10
+
+
+@dataclass(frozen=True)
+class WeakIndexUse(ResultMixin):
+    """Whether a weak index can tell careless from attentive answering in this sample, and why.
+
+    ``typical`` is the value an attentive respondent is expected to have, in the index's own units (even-odd
+    consistency after the Spearman-Brown step, as its cut-off); ``points`` the number of values
+    each respondent's correlation rests on; ``expected_below`` the share of attentive respondents expected
+    below ``cutoff`` by Fisher's z (SE 1/sqrt(points - 3)). The index raises its flag only when ``used``.
+    """
+
+    index: str
+    used: bool
+    typical: float
+    points: int
+    cutoff: float
+    expected_below: float
+
+
+def expected_share_below(typical: float, cutoff: float, points: int) -> float:
+    r"""Share of correlations below ``cutoff`` when the true value is ``typical`` and each rests on ``points``.
+
+    .. math:: P = \Phi\left((\operatorname{artanh} c - \operatorname{artanh} \rho) \sqrt{m - 3}\right)
+
+    NaN when ``points`` < 4 or ``typical`` is not a correlation.
+
+    References
+    ----------
+    .. [1] Fisher, R. A. (1921). On the "probable error" of a coefficient of correlation deduced from a small
+       sample. Metron, 1, 3-32.
+    """
+    from scipy.special import ndtr
+
+    if points < 4 or not (math.isfinite(typical) and -1 < typical < 1) or not -1 < cutoff < 1:
+        return 1.0 if points >= 4 and math.isfinite(typical) and typical <= -1 else math.nan
+    return float(ndtr((math.atanh(cutoff) - math.atanh(typical)) * math.sqrt(points - 3)))
+
+
+def attentive_person_total_r(keyed: Any) -> float:
+    r"""Person-total r an attentive respondent is expected to have, from the spread of the item means.
+
+    A respondent who answers by the model :math:`x_{ij} = a_i + \mu_j + e_{ij}` has, over the items, a
+    correlation with the item means of
+
+    .. math:: \rho = \frac{s_\mu}{\sqrt{s_\mu^2 + \sigma_e^2}}, \qquad
+              \sigma_e^2 = \overline{s_{jj}} - \overline{s_{jl}}\ (j \ne l)
+
+    with :math:`s_\mu^2` the variance of the item means and :math:`\sigma_e^2` the part of an answer's variance
+    that items do not share (mean item variance less mean inter-item covariance). When the item means barely
+    differ, :math:`\rho` is near zero and the index cannot separate attentive from careless answering.
+    Computed from the item means and the covariance matrix (sufficient statistics). Our own derivation.
+    """
+    x = _as_matrix(keyed, "keyed")
+    k = x.shape[1]
+    if k < 3 or x.shape[0] < 3:
+        return math.nan
+    answered = (~np.isnan(x)).sum(axis=0)
+    x = x[:, answered >= 2]
+    k = x.shape[1]
+    if k < 3:
+        return math.nan
+    means = np.nansum(x, axis=0) / (~np.isnan(x)).sum(axis=0)
+    cov = pairwise_covariance(x)
+    if not np.isfinite(cov).all():
+        return math.nan
+    unique = float(np.trace(cov)) / k - float(cov[~np.eye(k, dtype=bool)].mean())
+    spread = float(np.var(means))
+    if spread + max(unique, 0.0) <= 0:
+        return math.nan
+    return math.sqrt(spread / (spread + max(unique, 0.0)))
+
+
 def person_total_correlation(keyed: Any) -> np.ndarray:
     r"""Person-total correlation: how a respondent's answer profile follows the rest of the sample's.
 
@@ -534,6 +610,7 @@ class ScreenResult:
     median_duration: float | None
     alpha_change: dict[str, dict[str, Any]] = field(default_factory=dict)
     notes: tuple[str, ...] = ()
+    weak_indices: tuple[WeakIndexUse, ...] = ()
 
     @property
     def n(self) -> int:
@@ -592,6 +669,7 @@ class ScreenResult:
                            "ids": list(self.duplicates.duplicate_ids)},
             "thresholds": self.thresholds.to_dict(),
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
+            "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
             "notes": list(self.notes),
         })
 
@@ -686,9 +764,26 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         np.full(n, np.nan), np.full(n, np.nan), 0, ("even-odd consistency not computed: no scales",))
     notes.extend(halves.notes)
     person_total = person_total_correlation(keyed)
+    # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
+    # item means barely differ, attentive people's person-total r scatters around zero; with few scales the
+    # even-odd correlation rests on a handful of points (docs/screening.md)
+    typical_total = attentive_person_total_r(keyed)
+    answered_median = int(np.median(np.sum(~np.isnan(keyed), axis=1))) if n and keyed.shape[1] else 0
+    total_use = WeakIndexUse(index=FLAG_AGAINST_SAMPLE, used=False, typical=typical_total, points=answered_median,
+                             cutoff=thresholds.person_total_min,
+                             expected_below=expected_share_below(typical_total, thresholds.person_total_min,
+                                                                 answered_median))
     with np.errstate(invalid="ignore"):
-        uneven = halves.consistency < thresholds.even_odd_min
-        against = person_total < thresholds.person_total_min
+        typical_halves = float(np.nanmedian(halves.r_halves)) if np.isfinite(halves.r_halves).any() else math.nan
+    half_cut = thresholds.even_odd_min / (2 - thresholds.even_odd_min)  # undo Spearman-Brown: raw half r
+    halves_use = WeakIndexUse(index=FLAG_UNEVEN_HALVES, used=False, typical=2 * typical_halves / (1 + typical_halves),
+                              points=halves.scales_used, cutoff=thresholds.even_odd_min,
+                              expected_below=expected_share_below(typical_halves, half_cut, halves.scales_used))
+    total_use = replace(total_use, used=bool(total_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    halves_use = replace(halves_use, used=bool(halves_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    with np.errstate(invalid="ignore"):
+        uneven = (halves.consistency < thresholds.even_odd_min) & halves_use.used
+        against = (person_total < thresholds.person_total_min) & total_use.used
 
     fast = np.zeros(n, dtype=bool)
     duration = None
@@ -734,4 +829,5 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,
         person_total_r=person_total, missing=missing, duration=duration, flags=flags, flagged=flagged,
         duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=run_limit,
-        median_duration=median_duration, alpha_change=alpha_change, notes=tuple(dict.fromkeys(notes)))
+        median_duration=median_duration, alpha_change=alpha_change, notes=tuple(dict.fromkeys(notes)),
+        weak_indices=(halves_use, total_use))

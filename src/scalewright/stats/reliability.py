@@ -7,13 +7,14 @@ engine. :func:`scale_reliability` is the one entry point that starts from the ke
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note
 from ..results import ResultMixin, to_jsonable
 from .bootstrap import AlphaBootstrap
 from .coded import CodedAnswers
@@ -318,13 +319,22 @@ class ReliabilityFlag(ResultMixin):
     message: str
     value: float = math.nan
     items: tuple[str, ...] = ()
+    values: Mapping[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
+        # ``message`` is left empty here and worded by scalewright.present.messages (see ``as_note``) when
+        # a document is rendered; ``values`` are the numbers behind it
         out: dict[str, Any] = {"item": self.item, "code": self.code, "message": self.message,
                                "value": to_jsonable(self.value)}
         if self.items:
             out["items"] = list(self.items)
+        if self.values:
+            out["values"] = to_jsonable(dict(self.values))
         return out
+
+    def as_note(self) -> Note:
+        """The flag as a code with values, for :func:`scalewright.present.messages.describe`."""
+        return Note(code=self.code, values=dict(self.values))
 
 
 @dataclass(frozen=True)
@@ -496,64 +506,100 @@ def item_descriptives_from_tally(tally: np.ndarray, *, n_rows: int, low: float, 
                             ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
 
 
-def _fmt(value: float) -> str:
-    # message text only; the numbers themselves stay unrounded in the result
-    if not math.isfinite(value):
-        return "undefined"
-    text = f"{value:.2f}"
-    if text == "-0.00":  # rounds to zero: no sign
-        text = "0.00"
-    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
-
-
 #: a correlation or loading this close to zero is zero up to rounding, and has no sign to flag
 #: (numerical tolerance, common practice, no source)
 _ROUNDING_NOISE = 1e-9
+#: a first-factor loading must be at least this far below zero for the item to be called mis-keyed; a loading
+#: nearer zero says the item measures little of the factor, not that it points the other way (it gets the
+#: weak-item flag instead). Common practice, no source: loadings below .10 in size are read as negligible.
+MISKEY_MIN_LOADING = 0.10
+
+
+def first_factor_signs(loadings: np.ndarray, corr: np.ndarray) -> np.ndarray:
+    """Loadings on the scale's first factor, signed so that most of the scale's items load positively.
+
+    The one-factor fit's standardized loadings when they are defined; otherwise (the fit failed or was not
+    possible) the first principal axis of the correlation matrix, scaled by the square root of its
+    eigenvalue. A factor's sign is arbitrary; it is chosen so that most items load positively (on a tie,
+    so that the loadings sum to a positive number), so the items keyed against the majority of the scale
+    load negatively. When half the items point each way the data cannot say which half is mis-keyed.
+    NaN where undefined.
+    """
+    loadings = np.asarray(loadings, dtype=np.float64)
+    k = loadings.size
+    if np.isfinite(loadings).all() or k < 3:
+        values = loadings.copy()
+    elif np.isfinite(corr).all():
+        eigenvalues, vectors = np.linalg.eigh(corr)
+        values = vectors[:, -1] * math.sqrt(max(float(eigenvalues[-1]), 0.0))
+    else:
+        return np.full(k, np.nan)
+    if np.isfinite(values).all():
+        positive, negative = int((values > 0).sum()), int((values < 0).sum())
+        if negative > positive or (negative == positive and values.sum() < 0):
+            values = -values
+    return values
 
 
 def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: np.ndarray,
                       loadings: np.ndarray, alpha_reversed: np.ndarray, corr: np.ndarray,
                       reversed_items: Sequence[str] = (),
-                      thresholds: ReliabilityThresholds = ReliabilityThresholds()) -> tuple[ReliabilityFlag, ...]:
-    """The plain-language flags of one scale (codes of the JSON contract)."""
+                      thresholds: ReliabilityThresholds = ReliabilityThresholds(),
+                      cov: np.ndarray | None = None) -> tuple[ReliabilityFlag, ...]:
+    """The flags of one scale: codes of the JSON contract with the numbers behind them.
+
+    ``miskey-suspect`` rests on the sign of the item's loading on the scale's first factor
+    (:func:`first_factor_signs`): below ``-MISKEY_MIN_LOADING`` the item runs against the scale. Item-rest r
+    is given as support but does not decide: when two of five items point the other way, the rest of a
+    correctly keyed item holds both of them and its item-rest r can be near zero or negative. With two items
+    (no factor to speak of) a negative correlation flags both. ``alpha_reversed`` in a miskey flag's values is
+    alpha with *every* flagged item reversed at once (from ``cov``), the scale the advice leads to.
+    The sentences are written by :mod:`scalewright.present.messages`.
+    """
     flags: list[ReliabilityFlag] = []
     declared = set(reversed_items)
+    k = len(item_names)
+    signed = first_factor_signs(loadings, corr)
+    suspect = np.zeros(k, dtype=bool)
+    for j in range(k):
+        r, loading = float(item_rest_r[j]), float(signed[j])
+        if k >= 3 and math.isfinite(loading):
+            suspect[j] = loading < -MISKEY_MIN_LOADING
+        elif k == 2:
+            suspect[j] = math.isfinite(r) and r < -_ROUNDING_NOISE
+    joint_alpha = float(alpha_reversed[int(np.flatnonzero(suspect)[0])]) if suspect.sum() == 1 else math.nan
+    if suspect.sum() > 1 and cov is not None and k >= 3:
+        sign = np.where(suspect, -1.0, 1.0)
+        joint_alpha = cronbach_alpha_from_cov(np.asarray(cov, dtype=np.float64) * np.outer(sign, sign))
+    if k == 2:
+        joint_alpha = math.nan  # reversing both items of a pair changes nothing
+    flagged = tuple(name for name, is_suspect in zip(item_names, suspect) if is_suspect)
     for j, name in enumerate(item_names):
         r = float(item_rest_r[j])
-        negative_loading = math.isfinite(float(loadings[j])) and float(loadings[j]) < -_ROUNDING_NOISE
-        if (math.isfinite(r) and r < -_ROUNDING_NOISE) or negative_loading:
-            evidence = f"item-rest r = {_fmt(r)}" + (", negative loading on the scale's factor"
-                                                     if negative_loading else "")
-            advice = ("it is declared reverse-keyed: check that it should be"
-                      if name in declared else "if its wording is reversed, list it under `reverse`")
+        if suspect[j]:
             flags.append(ReliabilityFlag(
-                item=name, code="miskey-suspect", value=r,
-                message=(f"{name} runs against the rest of the scale ({evidence}); {advice}. With it reversed, "
-                         f"alpha would be {_fmt(float(alpha_reversed[j]))} instead of {_fmt(alpha)}.")))
+                item=name, code="miskey-suspect", value=r, message="",
+                values={"item": name, "loading": float(signed[j]), "item_rest_r": r,
+                        "declared_reversed": name in declared, "alpha": alpha, "alpha_reversed": joint_alpha,
+                        "reversed_together": flagged, "min_loading": MISKEY_MIN_LOADING}))
         elif math.isfinite(r) and r < thresholds.weak_item_rest_r:
             flags.append(ReliabilityFlag(
-                item=name, code="weak-item", value=r,
-                message=(f"{name} agrees little with the rest of the scale (item-rest r = {_fmt(r)}, "
-                         f"below {_fmt(thresholds.weak_item_rest_r)}); check its wording.")))
-    k = len(item_names)
+                item=name, code="weak-item", value=r, message="",
+                values={"item": name, "item_rest_r": r, "cutoff": thresholds.weak_item_rest_r}))
     for i in range(k):
         for j in range(i + 1, k):
             r = float(corr[i, j])
             if math.isfinite(r) and r > thresholds.redundant_r:
                 a, b = item_names[i], item_names[j]
                 flags.append(ReliabilityFlag(
-                    item=a, code="redundant-pair", value=r, items=(a, b),
-                    message=(f"{a} and {b} correlate r = {_fmt(r)} (above {_fmt(thresholds.redundant_r)}): "
-                             "they may ask the same thing twice.")))
+                    item=a, code="redundant-pair", value=r, items=(a, b), message="",
+                    values={"item": a, "other": b, "r": r, "cutoff": thresholds.redundant_r}))
     if math.isfinite(alpha) and alpha < thresholds.low_alpha:
-        flags.append(ReliabilityFlag(
-            item=None, code="low-reliability", value=alpha,
-            message=f"alpha = {_fmt(alpha)} is below {_fmt(thresholds.low_alpha)}: the score is noisy in this sample."))
+        flags.append(ReliabilityFlag(item=None, code="low-reliability", value=alpha, message="",
+                                     values={"alpha": alpha, "cutoff": thresholds.low_alpha}))
     if math.isfinite(alpha) and alpha > thresholds.excess_alpha:
-        flags.append(ReliabilityFlag(
-            item=None, code="excess-reliability", value=alpha,
-            message=(f"alpha = {_fmt(alpha)} is above {_fmt(thresholds.excess_alpha)}: items may be "
-                     "near-duplicates; a shorter scale may do.")))
+        flags.append(ReliabilityFlag(item=None, code="excess-reliability", value=alpha, message="",
+                                     values={"alpha": alpha, "cutoff": thresholds.excess_alpha}))
     return tuple(flags)
 
 
@@ -649,7 +695,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
             counts=dict(d.counts[j]) if d is not None else {})
     flags = reliability_flags(item_names=names, alpha=alpha, item_rest_r=item_rest_r, loadings=loadings,
                               alpha_reversed=alpha_reversed, corr=corr, reversed_items=reversed_items,
-                              thresholds=thresholds) if usable else ()
+                              thresholds=thresholds, cov=cov_used) if usable else ()
     n_rows = n_used if n_rows is None else n_rows
     return ScaleReliability(
         n_rows=n_rows, n_used=n_used, n_set_aside=max(0, n_rows - n_used) if missing_handling == "listwise" else 0,

@@ -249,6 +249,16 @@ def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
     return mapping
 
 
+def _say_against(value: float, cutoff: float, kind: str = "bounded", decimals: int = 2) -> tuple[str, str]:
+    # a value beside its cut-off, with the decimals the comparison needs to read true ("3.0 is below 3" never);
+    # the one rule for that lives with the number formatting
+    from ..present.numbers import format_against
+
+    if not np.isfinite(value):
+        return "undefined", _say(cutoff)
+    return format_against(value, cutoff, kind, decimals)
+
+
 def _say(value: float) -> str:
     # message text only (APA style, no leading zero); the numbers themselves stay unrounded in the result
     if not np.isfinite(value):
@@ -280,17 +290,22 @@ def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequen
                                        f"its scale {scale} ({_say(row[own])}); check that the item belongs to {scale}",
                                        scale))
         if abs(row[own]) < min_loading:
+            size, cut = _say_against(abs(row[own]), min_loading)
+            shown = f"-{size}" if row[own] < 0 else size
             flags.append(StructureFlag(item, "weak-loading",
-                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale}, below {_say(min_loading)}",
-                                       scale))
+                                       f"loads {shown} on F{own + 1} of its scale {scale}, below {cut}"
+                                       + (" in size" if row[own] < 0 else ""), scale))
         if row[own] < 0 and abs(row[own]) >= min_loading:
             flags.append(StructureFlag(item, "negative-loading",
                                        f"loads {_say(row[own])} on F{own + 1} of its scale {scale} after keying; "
                                        "check whether it should be reverse-keyed", scale))
         for j, value in enumerate(row):
             if j != own and abs(value) > max_cross_loading:
+                size, cut = _say_against(abs(value), max_cross_loading)
+                shown = f"-{size}" if value < 0 else size
                 flags.append(StructureFlag(item, "cross-loading",
-                                           f"also loads {_say(value)} on F{j + 1}, above {_say(max_cross_loading)}", scale))
+                                           f"also loads {shown} on F{j + 1}, above {cut}"
+                                           + (" in size" if value < 0 else ""), scale))
     return flags
 
 
@@ -428,11 +443,13 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     notes.extend(sampling.notes)
     notes.extend(sphericity.notes)
     if sampling.overall is not None and sampling.overall < MIN_KMO:
-        notes.append(f"overall KMO {_say(sampling.overall)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
+        kmo_text, kmo_cut = _say_against(sampling.overall, MIN_KMO)
+        notes.append(f"overall KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
                      "the correlations may be too weak for factor analysis")
     for name, value in zip(items, sampling.per_item):
         if np.isfinite(value) and value < MIN_KMO:
-            flags.append(StructureFlag(name, "low-kmo", f"item KMO {_say(value)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
+            kmo_text, kmo_cut = _say_against(value, MIN_KMO)
+            flags.append(StructureFlag(name, "low-kmo", f"item KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
                                        "it shares little with the other items", item_scale[name]))
     if sphericity.p is not None and sphericity.p >= 0.05:
         notes.append("Bartlett's test does not reject uncorrelated items (p >= .05): factors may be spurious")
@@ -501,8 +518,9 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         per_scale[scale] = summary
         if summary.eigen_ratio is not None and summary.eigen_ratio < MIN_EIGEN_RATIO:
             flags.append(StructureFlag(None, "several-dimensions",
-                                       f"first-to-second eigenvalue ratio {summary.eigen_ratio:.1f} is below "
-                                       f"{MIN_EIGEN_RATIO:g}: the items may measure more than one thing", scale))
+                                       "first-to-second eigenvalue ratio {} is below {}: the items may measure more "
+                                       "than one thing".format(*_say_against(summary.eigen_ratio, MIN_EIGEN_RATIO,
+                                                                             "num", 1)), scale))
     return StructureResult(items=items, item_scale={name: item_scale[name] for name in items}, n_used=n,
                            n_set_aside=set_aside, kmo=sampling, bartlett=sphericity, parallel=parallel,
                            solution=solution, n_factors_rule=rule, factor_for_scale=mapping,
