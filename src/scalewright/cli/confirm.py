@@ -8,7 +8,9 @@ import click
 from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, scales_option
 
 
-@click.command("confirm")
+@click.command("confirm", epilog=("Examples:\n\n\b\n"
+                  "  scalewright confirm survey.csv --scales survey.yaml\n"
+                  "  scalewright confirm survey.csv -s survey.yaml --by shift --strict\n"))
 @data_argument
 @scales_option
 @by_option
