@@ -37,6 +37,7 @@ class ReportOptions:
     exclude: str | None = None
     decimals: int = 2
     duration_column: str | None = None
+    duration_unit: str = "s"
 
     def __post_init__(self) -> None:
         if not 0 < self.confidence_level < 1:
@@ -50,7 +51,7 @@ class ReportOptions:
         return {"by": list(self.by), "seed": self.seed, "parallel_iterations": self.iterations,
                 "confidence_level": self.confidence_level, "min_group": self.min_group, "min_cell": self.min_cell,
                 "lenient": self.lenient, "exclude": self.exclude, "decimals": self.decimals,
-                "duration_column": self.duration_column}
+                "duration_column": self.duration_column, "duration_unit": self.duration_unit}
 
 
 @dataclass(frozen=True, eq=False)
@@ -157,7 +158,8 @@ def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
     from .analyses.screen import analyse_screen
 
-    return analyse_screen(spec, responses, duration_column=options.duration_column)
+    return analyse_screen(spec, responses, duration_column=options.duration_column,
+                          duration_unit=options.duration_unit)
 
 
 def check_columns(responses: Any, options: ReportOptions) -> None:

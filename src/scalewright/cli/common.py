@@ -75,12 +75,14 @@ class Inputs:
     info: InputInfo
     excluded: int
     notes: tuple[str, ...]
+    #: what ``--exclude`` set aside (``exclusion.Exclusion``), or None
+    exclusion: Any = None
 
 
 def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Path | None = None) -> Inputs:
     from concurrent.futures import ThreadPoolExecutor
 
-    from ..data import read_exclusion_list, read_responses
+    from ..data import read_responses
     from ..spec import load_spec
 
     spec = load_spec(scales)
@@ -91,13 +93,16 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
         responses = read_responses(data, spec, lenient=lenient, sheet=chosen_sheet())
         info = digests.result()
     notes: list[str] = list(responses.notes())
-    excluded = 0
+    exclusion = None
     if exclude is not None:
-        ids = read_exclusion_list(exclude)
-        responses, excluded, unknown = responses.without_ids(ids)
-        notes.append(f"{excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
-                     f"{len(unknown)} not found in the data)")
-    return Inputs(spec=spec, responses=responses, info=info, excluded=excluded, notes=tuple(notes))
+        from ..exclusion import exclude_respondents, read_exclusion_list
+        from ..present.messages import describe
+
+        listing = read_exclusion_list(exclude, id_column=spec.id_column)
+        responses, exclusion = exclude_respondents(responses, listing)
+        notes.extend(describe(n) for n in exclusion.notes())
+    return Inputs(spec=spec, responses=responses, info=info, excluded=0 if exclusion is None else exclusion.set_aside,
+                  notes=tuple(notes), exclusion=exclusion)
 
 
 def resolve_by(by: Sequence[str], spec: Any) -> tuple[str, ...]:
@@ -119,6 +124,8 @@ def emit(*, command: str, inputs: Inputs, body: dict[str, Any], tables: Sequence
     """Render the result in the chosen format and write it to ``out`` (atomically) or stdout."""
     chosen = choose_format(fmt, out)
     document = envelope(command, inputs.info, body, options=options, notes=list(inputs.notes))
+    if inputs.exclusion is not None:
+        document["exclusion"] = inputs.exclusion.to_dict()
     if chosen == "json":
         text = render_json(document)
     elif chosen == "csv":

@@ -5,8 +5,11 @@ from pathlib import Path
 
 import click
 
-from ..data import read_exclusion_list, read_responses
+from ..data import read_responses
 from ..errors import DataError, Problem
+from ..exclusion import exclude_respondents, read_exclusion_list
+from ..present.messages import describe
+from ..present.render import visible_controls
 from ..spec import check_spec
 
 
@@ -32,11 +35,13 @@ def lint(data: Path | None, scales: Path, exclude: Path | None, sheet: str | Non
             for line in responses.notes():
                 click.echo(f"note: {line}")
             if exclude is not None:
-                ids = read_exclusion_list(exclude)
-                _, excluded, unknown = responses.without_ids(ids)
-                shown = f" ({', '.join(unknown[:5])}{', ...' if len(unknown) > 5 else ''})" if unknown else ""
-                click.echo(f"note: {excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
-                           f"{len(unknown)} not found in the data{shown})")
+                try:
+                    _, exclusion = exclude_respondents(responses, read_exclusion_list(exclude, id_column=spec.id_column))
+                except DataError as error:
+                    data_problems = list(error.problems)
+                else:
+                    for note in exclusion.notes():
+                        click.echo(f"note: {visible_controls(describe(note))}")
     for problem in [*problems, *data_problems]:
         click.echo(str(problem))
     total = len(problems) + len(data_problems)

@@ -20,7 +20,7 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         exclude: Path | None = None, decimals: int = 2, force: bool = False,
                         seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                         min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        quiet: bool = False, single_file: bool = False) -> Any:
+                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import (
@@ -37,7 +37,7 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     options = ReportOptions(by=resolve_by(by, inputs.spec), seed=DEFAULT_SEED if seed is None else seed,
                             iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                             min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
-                            decimals=decimals, duration_column=duration_column)
+                            decimals=decimals, duration_column=duration_column, duration_unit=duration_unit)
     # every check of the inputs and options runs before the folder is touched
     check_columns(inputs.responses, options)
     folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude], single_file=single_file)
@@ -70,13 +70,15 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
               help="Groups and answer counts below this are shown as '< N'.")
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column of completion times; enables the screen's check for respondents who went too fast.")
+@click.option("--duration-unit", type=click.Choice(["s", "min"]), default="s", show_default=True,
+              help="Unit of the completion times, shown beside them.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while working.")
 @click.option("--single-file", is_flag=True,
               help="Write only DIR/index.html, every figure inside it: one file to send (no other files).")
 @input_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
-           quiet: bool, single_file: bool, lenient: bool, exclude: Path | None) -> None:
+           duration_unit: str, quiet: bool, single_file: bool, lenient: bool, exclude: Path | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
     Writes DIR/index.html (one self-contained page: no scripts, nothing from the
@@ -86,4 +88,5 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     """
     build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
-                        min_cell=min_cell, duration_column=duration_column, quiet=quiet, single_file=single_file)
+                        min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
+                        single_file=single_file)

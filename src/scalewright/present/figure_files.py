@@ -1,10 +1,47 @@
 """Saving matplotlib figures as SVG and PNG files, atomically."""
 from __future__ import annotations
 
+import re
 from collections.abc import Iterable
 from pathlib import Path
 
 from ..files import write_atomic_with
+
+#: longest stretch of a name kept in a file name (a long name is cut and told apart by its hash)
+NAME_PART_LENGTH = 60
+
+
+def safe_part(name: object) -> str:
+    """A file-safe form of a scale, item or column name: letters, digits, '_' and '-'.
+
+    A name that had to change (dots, spaces, slashes, other characters, or cut for length) gets eight hex
+    characters of its hash, so ``a b``, ``a/b`` and ``a_b`` stay three different files.
+    """
+    import hashlib
+
+    text = str(name)
+    part = re.sub(r"[^A-Za-z0-9_-]+", "_", text)[:NAME_PART_LENGTH] or "_"
+    if part != text:
+        part += "-" + hashlib.blake2b(text.encode("utf-8", "surrogatepass"), digest_size=4).hexdigest()
+    return part
+
+
+class FigureNames:
+    """Hands out the file stems of one folder's figures, never the same one twice.
+
+    Names are compared without case, as some file systems do; a repeat gets ``-2``, ``-3`` ...
+    """
+
+    def __init__(self) -> None:
+        self._taken: set[str] = set()
+
+    def unique(self, stem: str) -> str:
+        candidate, number = stem, 1
+        while candidate.casefold() in self._taken:
+            number += 1
+            candidate = f"{stem}-{number}"
+        self._taken.add(candidate.casefold())
+        return candidate
 
 
 def use_agg() -> None:
@@ -46,7 +83,8 @@ def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "p
     stem = Path(stem)
     try:
         for fmt in formats:
-            target = stem.with_suffix(f".{fmt}")
+            # never Path.with_suffix: a dot in the stem (a scale named 'wb.2') is not a suffix to replace
+            target = stem.parent / f"{stem.name}.{fmt}"
             # svg.hashsalt keeps SVG ids stable, so the same input gives the same file
             written.append(write_atomic_with(
                 target,
