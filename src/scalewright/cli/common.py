@@ -61,7 +61,22 @@ def input_options(fn: Callable) -> Callable:
     return fn
 
 
+#: where ``--max-levels`` is kept for :func:`resolve_by` (the option is not passed to the command function, so
+#: a command that takes ``--by`` gets the limit without a parameter of its own)
+MAX_LEVELS_KEY = "scalewright.max_levels"
+
+
+def _keep_max_levels(ctx: click.Context, _param: click.Parameter, value: int) -> int:
+    ctx.meta[MAX_LEVELS_KEY] = value
+    return value
+
+
 def by_option(fn: Callable) -> Callable:
+    from ..analyses.subgroup_columns import DEFAULT_MAX_LEVELS
+
+    fn = click.option("--max-levels", type=click.IntRange(min=2), default=DEFAULT_MAX_LEVELS, show_default=True,
+                      expose_value=False, callback=_keep_max_levels,
+                      help="Refuse a subgroup column with more levels than this (bin it first).")(fn)
     return click.option("--by", "by", multiple=True, metavar="COLUMN",
                         help="Subgroup column (repeatable). Default: the scale file's `groups`.")(fn)
 
@@ -105,8 +120,26 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
                   notes=tuple(notes), exclusion=exclusion)
 
 
-def resolve_by(by: Sequence[str], spec: Any) -> tuple[str, ...]:
-    return tuple(by) if by else tuple(getattr(spec, "groups", ()) or ())
+def resolve_by(by: Sequence[str], spec: Any, responses: Any = None, *, max_levels: int | None = None) -> tuple[str, ...]:
+    """The subgroup columns: ``--by`` or the scale file's ``groups``.
+
+    With ``responses``, each must be in the data and have at most ``max_levels`` levels (default: the
+    command's ``--max-levels``).
+    """
+    columns = tuple(by) if by else tuple(getattr(spec, "groups", ()) or ())
+    if responses is not None and columns:
+        from ..analyses.subgroup_columns import check_level_counts
+
+        check_level_counts(responses, columns, max_levels=max_levels or chosen_max_levels())
+    return columns
+
+
+def chosen_max_levels() -> int:
+    """The running command's ``--max-levels`` (the default outside a command)."""
+    from ..analyses.subgroup_columns import DEFAULT_MAX_LEVELS
+
+    context = click.get_current_context(silent=True)
+    return context.meta.get(MAX_LEVELS_KEY, DEFAULT_MAX_LEVELS) if context else DEFAULT_MAX_LEVELS
 
 
 def choose_format(fmt: str | None, out: Path | None) -> str:

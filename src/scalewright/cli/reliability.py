@@ -61,7 +61,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     from ..stats.reliability import ReliabilityThresholds
 
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     if n_resamples and seed is None:
         import numpy as np
 

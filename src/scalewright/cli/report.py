@@ -8,6 +8,7 @@ import click
 
 from .common import (
     by_option,
+    chosen_max_levels,
     data_argument,
     input_options,
     load_inputs,
@@ -20,7 +21,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         exclude: Path | None = None, decimals: int = 2, force: bool = False,
                         seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                         min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False) -> Any:
+                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
+                        max_levels: int | None = None) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import (
@@ -34,7 +36,7 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
     progress.step("reading the inputs")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    options = ReportOptions(by=resolve_by(by, inputs.spec), seed=DEFAULT_SEED if seed is None else seed,
+    options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(), seed=DEFAULT_SEED if seed is None else seed,
                             iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                             min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
                             decimals=decimals, duration_column=duration_column, duration_unit=duration_unit)

@@ -74,7 +74,7 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
 
     chosen = parse_percentiles(percentiles)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     results = analyse_shape(inputs.spec, inputs.responses, by=columns, items=items, percentiles=chosen,
                             quantile_method=quantile_method, min_group=min_group, seed=seed)
     body = {"scales": {name: r.to_dict() for name, r in results["scales"].items()},

@@ -74,6 +74,32 @@ def axes_or_new(ax, size: tuple[float, float]):
     return ax
 
 
+#: control characters other than the line break: fonts have no glyph for them, so they are shown escaped
+_CONTROLS_BUT_NEWLINE = re.compile("[\x00-\x09\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def _literal_texts(figure) -> None:
+    """Show every text of ``figure`` as written: names and labels come from the user's files, so a ``$`` is not
+    the start of a formula and a control character is shown as its escape (``\\r``), not sent to the font."""
+    from matplotlib.text import Text
+    from matplotlib.ticker import FixedFormatter, FuncFormatter
+
+    def shown(value: str) -> str:
+        return _CONTROLS_BUT_NEWLINE.sub(
+            lambda m: f"\\x{ord(m.group()):02x}" if ord(m.group()) < 0x100 else f"\\u{ord(m.group()):04x}", value)
+
+    for text in figure.findobj(Text):
+        text.set_parse_math(False)
+        text.set_text(shown(text.get_text()))
+    for ax in figure.axes:  # tick labels given as texts are drawn again from their formatter
+        for axis in (ax.xaxis, ax.yaxis):
+            major, minor = axis.get_major_formatter(), axis.get_minor_formatter()
+            if isinstance(major, (FixedFormatter, FuncFormatter)):
+                axis.set_major_formatter(FuncFormatter(lambda x, pos, f=major: shown(str(f(x, pos)))))
+            if isinstance(minor, (FixedFormatter, FuncFormatter)):
+                axis.set_minor_formatter(FuncFormatter(lambda x, pos, f=minor: shown(str(f(x, pos)))))
+
+
 def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "png"), dpi: int = 150,
                 inputs: Iterable = ()) -> list[Path]:
     """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure."""
@@ -82,6 +108,7 @@ def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "p
     written = []
     stem = Path(stem)
     try:
+        _literal_texts(figure)
         for fmt in formats:
             # never Path.with_suffix: a dot in the stem (a scale named 'wb.2') is not a suffix to replace
             target = stem.parent / f"{stem.name}.{fmt}"
