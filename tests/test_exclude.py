@@ -131,7 +131,8 @@ def test_the_scale_files_id_column_is_preferred_over_the_first(tmp_path, capsys)
     listing = tmp_path / "aside.csv"
     listing.write_text("reason,staff_id\ncopied,W004\ncopied,W005\n", encoding="utf-8")
     doc = _screen_json(data, scales, capsys, "--exclude", str(listing))
-    assert doc["summary"]["n"] == 118 and "column 'staff_id'" in " ".join(n for n in doc["notes"] if isinstance(n, str))
+    notes = " ".join(n for n in doc["notes"] if isinstance(n, str))
+    assert doc["summary"]["n"] == 118 and "column 'staff_id'" in notes
 
 
 @pytest.mark.parametrize("content, message", [
