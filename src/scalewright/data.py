@@ -12,7 +12,7 @@ import re
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Iterable, Mapping, Sequence
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 import pandas as pd
@@ -332,14 +332,6 @@ class Responses:
         """The item names in the order their columns stand in the data file."""
         rank = {name: position for position, name in enumerate(self.file_columns)}
         return tuple(sorted(self.item_names, key=lambda item: rank.get(item, len(rank))))
-
-    def without_ids(self, ids: Iterable[str]) -> tuple["Responses", int, list[str]]:
-        """Drop the respondents whose id is listed; return the rest, how many were dropped, unknown ids."""
-        wanted = {str(i).strip() for i in ids if str(i).strip()}
-        present = self.ids.astype(str)
-        drop = present.isin(wanted).to_numpy()
-        unknown = sorted(wanted - set(present[drop]))
-        return self.subset(~drop), int(drop.sum()), unknown
 
     def notes(self) -> list[str]:
         """Plain-language notes about what reading the data changed."""
@@ -691,17 +683,3 @@ def _ids_as_text(raw: pd.Series, path_text: str = "", line_numbers: np.ndarray |
             return pd.Series(values.astype(np.int64).astype(str), index=raw.index)
         return raw.astype(str)
     return raw.astype(str).str.strip()
-
-
-def read_exclusion_list(path: str | Path) -> list[str]:
-    """Ids to set aside: a CSV (first column, below a header) or plain text with one id per line."""
-    path = Path(path)
-    if not path.exists():
-        raise DataError(Problem(file=str(path), message="exclusion list not found"))
-    body = _decode_check(path, path.read_bytes()).decode("utf-8")
-    lines = [line for line in body.splitlines() if line.strip() and not line.lstrip().startswith("#")]
-    if path.suffix.lower() in (".csv", ".tsv"):
-        sep = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(lines[0] if lines else "")
-        rows = list(csv.reader(lines, delimiter=sep))
-        return [row[0].strip() for row in rows[1:] if row and row[0].strip()]
-    return [line.strip() for line in lines]

@@ -13,6 +13,7 @@ from functools import partial
 from typing import Any
 
 from . import __version__
+from .analyses.subgroup_columns import DEFAULT_MAX_LEVELS
 from .errors import UsageError
 from .present.document import InputInfo, envelope
 from .results import to_jsonable
@@ -38,6 +39,8 @@ class ReportOptions:
     decimals: int = 2
     duration_column: str | None = None
     missing: str = "listwise"
+    duration_unit: str = "s"
+    max_levels: int = DEFAULT_MAX_LEVELS
 
     def __post_init__(self) -> None:
         from .stats.missing import check_method
@@ -54,7 +57,8 @@ class ReportOptions:
         return {"by": list(self.by), "seed": self.seed, "parallel_iterations": self.iterations,
                 "confidence_level": self.confidence_level, "min_group": self.min_group, "min_cell": self.min_cell,
                 "lenient": self.lenient, "exclude": self.exclude, "decimals": self.decimals,
-                "duration_column": self.duration_column, "missing": self.missing}
+                "duration_column": self.duration_column, "duration_unit": self.duration_unit,
+                "max_levels": self.max_levels, "missing": self.missing}
 
 
 @dataclass(frozen=True, eq=False)
@@ -188,13 +192,18 @@ def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
     from .analyses.screen import analyse_screen
 
-    return analyse_screen(spec, responses, duration_column=options.duration_column)
+    return analyse_screen(spec, responses, duration_column=options.duration_column,
+                          duration_unit=options.duration_unit)
 
 
 def check_columns(responses: Any, options: ReportOptions) -> None:
-    """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data."""
+    """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data, and
+    ``UsageError`` when a subgroup column has more than ``options.max_levels`` levels."""
+    from .analyses.subgroup_columns import check_level_counts
+
     for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
         responses.column(column)
+    check_level_counts(responses, options.by, max_levels=options.max_levels)
 
 
 def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),

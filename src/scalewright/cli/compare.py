@@ -43,7 +43,7 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     from ..scoring import score_scales
 
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     if not columns:
         raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
     scored = score_scales(inputs.responses, inputs.spec)

@@ -5,8 +5,11 @@ from pathlib import Path
 
 import click
 
-from ..data import read_exclusion_list, read_responses
+from ..data import read_responses
 from ..errors import DataError, Problem
+from ..exclusion import exclude_respondents, read_exclusion_list
+from ..present.messages import describe
+from ..present.render import visible_controls
 from ..spec import check_spec
 
 
@@ -65,11 +68,13 @@ def check_files(data: Path | None, scales: Path, exclude: Path | None, *,
             findings.append(f"{data}: {responses.n} respondent(s), {len(responses.item_names)} item(s) read")
             findings.extend(f"note: {line}" for line in responses.notes())
             if exclude is not None:
-                ids = read_exclusion_list(exclude)
-                _, excluded, unknown = responses.without_ids(ids)
-                shown = f" ({', '.join(unknown[:5])}{', ...' if len(unknown) > 5 else ''})" if unknown else ""
-                findings.append(f"note: {excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
-                                f"{len(unknown)} not found in the data{shown})")
+                try:
+                    _, exclusion = exclude_respondents(responses,
+                                                       read_exclusion_list(exclude, id_column=spec.id_column))
+                except DataError as error:
+                    data_problems = list(error.problems)
+                else:
+                    findings.extend(f"note: {visible_controls(describe(note))}" for note in exclusion.notes())
     code = 3 if problems else 4 if data_problems else 0
     if spec is not None and not code:
         findings.extend(missing_text_lines(spec))

@@ -69,7 +69,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
 
     method = resolve_missing(missing, pairwise)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
     reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,

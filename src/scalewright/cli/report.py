@@ -8,6 +8,7 @@ import click
 
 from .common import (
     by_option,
+    chosen_max_levels,
     data_argument,
     input_options,
     load_inputs,
@@ -22,8 +23,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         exclude: Path | None = None, decimals: int = 2, force: bool = False,
                         seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                         min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        quiet: bool = False, single_file: bool = False, missing: str = "listwise",
-                        png: bool = False) -> Any:
+                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
+                        missing: str = "listwise", png: bool = False, max_levels: int | None = None) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import (
@@ -37,10 +38,11 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
     progress.step("reading the inputs")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    options = ReportOptions(by=resolve_by(by, inputs.spec), seed=DEFAULT_SEED if seed is None else seed,
+    options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(), seed=DEFAULT_SEED if seed is None else seed,
                             iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                             min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
-                            decimals=decimals, duration_column=duration_column, missing=missing)
+                            decimals=decimals, duration_column=duration_column, duration_unit=duration_unit,
+                            missing=missing)
     # every check of the inputs and options runs before the folder is touched
     check_columns(inputs.responses, options)
     folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude], single_file=single_file)
@@ -80,6 +82,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
               help="Groups and answer counts below this are shown as '< N'.")
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column of completion times; enables the screen's check for respondents who went too fast.")
+@click.option("--duration-unit", type=click.Choice(["s", "min"]), default="s", show_default=True,
+              help="Unit of the completion times, shown beside them.")
 @click.option("--png", is_flag=True,
               help="Also write every figure as a PNG image (for slides and word processors); the pages use SVG.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while working.")
@@ -89,7 +93,7 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
 @input_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
-           png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
+           duration_unit: str, png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
            exclude: Path | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
@@ -100,5 +104,5 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     """
     build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
-                        min_cell=min_cell, duration_column=duration_column, quiet=quiet, single_file=single_file,
-                        missing=resolve_missing(missing), png=png)
+                        min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
+                        single_file=single_file, missing=resolve_missing(missing), png=png)

@@ -78,7 +78,7 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
 
     chosen = parse_percentiles(percentiles)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     results = analyse_shape(inputs.spec, inputs.responses, by=columns, items=items, percentiles=chosen,
                             quantile_method=quantile_method, min_group=min_group, seed=seed)
     body = {"scales": {name: r.to_dict() for name, r in results["scales"].items()},
@@ -96,7 +96,7 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
 
 def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = None, inputs: Sequence[Path] = ()) -> list[Path]:
     """Histogram and box plot of every report, and per-subgroup box plots and small multiples."""
-    from ..present.figure_files import figure_folder, save_figure, use_agg
+    from ..present.figure_files import FigureNames, figure_folder, safe_part, save_figure, use_agg
 
     folder = figure_folder(folder)
     use_agg()
@@ -108,28 +108,27 @@ def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = Non
     )
 
     written: list[Path] = []
+    names = FigureNames()
     for report in reports:
-        stem = f"shape_{_safe(report.name)}"
+        # an item may share its name with a scale: the item's figures say so in their name
+        stem = f"shape_{'item_' if report.kind == 'item' else ''}{safe_part(report.name)}"
         if report.overall.histogram is None:
             continue
         labels = None
         if report.kind == "item" and spec is not None:
             labels = {float(code): text for code, text in spec.response_for(report.name).labels.items()}
         ax = histogram(report.overall, title=report.title, x_label=report.x_label, tick_labels=labels)
-        written += save_figure(ax.figure, folder / f"{stem}_histogram", inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(f"{stem}_histogram"), inputs=inputs)
         ax = box_plot(report.overall, title=report.title, x_label=report.x_label)
-        written += save_figure(ax.figure, folder / f"{stem}_boxplot", inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(f"{stem}_boxplot"), inputs=inputs)
         for group in report.groups:
             if not group.levels or any(s.histogram is None for s in group.levels.values()):
                 continue
             ax = box_plots_by_group(report, column=group.column)
-            written += save_figure(ax.figure, folder / f"{stem}_by_{_safe(group.column)}_boxplots", inputs=inputs)
+            written += save_figure(ax.figure, folder / names.unique(f"{stem}_by_{safe_part(group.column)}_boxplots"),
+                                   inputs=inputs)
             axes = histograms_by_group(report, column=group.column)
-            written += save_figure(axes[0].figure, folder / f"{stem}_by_{_safe(group.column)}_histograms",
+            written += save_figure(axes[0].figure, folder / names.unique(f"{stem}_by_{safe_part(group.column)}_histograms"),
                                    inputs=inputs)
     click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
     return written
-
-
-def _safe(name: str) -> str:
-    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))

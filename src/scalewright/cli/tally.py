@@ -170,7 +170,7 @@ def _count_item_codes(spec, responses, names: list[str], *, min_cell: int) -> di
 
 
 def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:
-    from ..present.figure_files import figure_folder, save_figure, use_agg
+    from ..present.figure_files import FigureNames, figure_folder, safe_part, save_figure, use_agg
 
     folder = figure_folder(folder)
     use_agg()
@@ -181,19 +181,16 @@ def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: 
     drawn = []  # every figure is drawn before any is written, so a refused pie leaves no partial output
     try:
         for t in tallies:
-            drawn.append((tally_pie(t) if pie else tally_bars(t, percent=percent), f"tally_{_safe(t.column)}"))
+            drawn.append((tally_pie(t) if pie else tally_bars(t, percent=percent), f"tally_{safe_part(t.column)}"))
         for scale_name, distribution in distributions.items():
-            drawn.append((diverging_bars(distribution), f"items_{_safe(scale_name)}"))
+            drawn.append((diverging_bars(distribution), f"items_{safe_part(scale_name)}"))
     except Exception:
         for ax, _ in drawn:
             plt.close(ax.figure)
         plt.close(plt.gcf())
         raise
     written = []
+    names = FigureNames()
     for ax, stem in drawn:
-        written += save_figure(ax.figure, folder / stem, inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(stem), inputs=inputs)
     click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
-
-
-def _safe(name: str) -> str:
-    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))

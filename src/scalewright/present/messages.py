@@ -16,6 +16,13 @@ from ..notes import Note
 
 # -- reading and data ----------------------------------------------------------------------------------------
 READING: dict[str, str] = {
+    # setting respondents aside (--exclude FILE)
+    "respondents-set-aside": "{n} respondent(s) set aside from {file} ({listed} id(s) listed, {not_found} not "
+                             "found in the data)",
+    "exclusion-column": "the ids to set aside were read from column '{column}' of {file}",
+    "exclusion-flagged-only": "the list has a '{column}' column: only its {flagged} row(s) flagged yes were "
+                              "set aside; {not_flagged} row(s) not flagged were kept",
+    "exclusion-ids-not-found": "{n} listed id(s) are not in the data (first: {first})",
 }
 
 # -- reliability ---------------------------------------------------------------------------------------------
@@ -125,6 +132,24 @@ SCREENING: dict[str, str] = {
                              "attentive respondents would fall below the cut-off {cutoff} (the index is used "
                              "when at most 10% would){reason}"),
     "weak-index-undefined": "{index} is not used as a flag in this sample: {reason}",
+    # a check that could not run: its count is "not checked", never 0
+    "fast-not-checked": "fast: not checked, as no column of completion times was named (--duration-column)",
+    "fast-no-durations": "fast: not checked, as no respondent who answered most items has a completion time",
+    "duplicates-not-checked": "duplicate-answers: not checked, as the questionnaire has {items} item(s) and "
+                              "identical rows are flagged only from {min_items} answered items (shorter rows "
+                              "can be alike by chance)",
+    "distance-not-checked": "{flags}: not checked, as the Mahalanobis distance could not be computed",
+    "halves-not-checked": "uneven-halves: not checked, as even-odd consistency needs at least three scales of "
+                          "two or more items",
+    "profile-not-checked": "against-sample: not checked, as no respondent answered three items that vary",
+    # one account of identical answer rows, matching the flag count and the Duplicate records table
+    "duplicates-account": "{groups} group(s) of identical answer rows ({respondents} respondents) are listed "
+                          "under Duplicate records; {flagged} of these respondents carry duplicate-answers",
+    "duplicates-long-run": "{groups} group(s) ({respondents} respondents) are alike through a long run of one "
+                           "answer: they are counted under long-run, not duplicate-answers, as straight lines "
+                           "are often identical",
+    "duplicates-few-answers": "{groups} group(s) ({respondents} respondents) answered fewer than {min_items} "
+                              "items: rows that short can be alike by chance, so they are listed, not flagged",
 }
 
 

@@ -79,15 +79,18 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
 
     inputs = list(inputs)
     figures: dict[tuple[str, ...], FigureBlock] = {}
+    from .figure_files import FigureNames, safe_part
     from .figures_shape import box_plots_by_group, histogram
 
+    names = FigureNames()
     for name, findings in results.scales.items():
         label = scale_label(findings)
         shape = findings.shape
+        part = safe_part(name)
         if shape is not None and shape.overall.histogram is not None:
             stem = _save(lambda shape=shape, label=label: histogram(shape.overall, title=f"Scores of {label}",
                                                               x_label=shape.x_label), folder,
-                         f"{name}-histogram", inputs=inputs)
+                         names.unique(f"{part}-histogram"), inputs=inputs)
             overall = shape.overall
             figures[("histogram", name)] = FigureBlock(
                 stem, f"Distribution of the {label} scores",
@@ -99,7 +102,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
             if not group.levels:
                 continue
             stem = _save(lambda shape=shape, group=group: box_plots_by_group(shape, column=group.column), folder,
-                         f"{name}-by-{_file_part(group.column, position)}-boxplot", inputs=inputs)
+                         names.unique(f"{part}-by-{_file_part(group.column, position)}-boxplot"), inputs=inputs)
             medians = sorted(group.levels.items(), key=lambda pair: pair[1].median)
             figures[("boxplot", name, group.column)] = FigureBlock(
                 stem, f"{label} by {group.column}",
@@ -112,7 +115,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
             titles = item_bar_labels(findings.scale.items, findings.scale.wording, findings.scale.reverse)
             stem = _save(lambda findings=findings, label=label, titles=titles: diverging_bars(
                 findings.answers, title=f"Answers to the items of {label}", titles=titles),
-                         folder, f"{name}-answers", inputs=inputs)
+                         folder, names.unique(f"{part}-answers"), inputs=inputs)
             figures[("answers", name)] = FigureBlock(
                 stem, f"Answers to the items of {label}",
                 f"Diverging stacked bars, one per item named with its shortened wording, of the share of each "
@@ -124,14 +127,14 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
         from .figures_structure import loadings_figure, scree_figure
 
         if structure.parallel is not None:
-            stem = _save(lambda: scree_figure(structure), folder, "structure-scree", inputs=inputs)
+            stem = _save(lambda: scree_figure(structure), folder, names.unique("structure-scree"), inputs=inputs)
             figures[("scree",)] = FigureBlock(
                 stem, "Parallel analysis", f"Observed eigenvalues of the item correlations against those of "
                 f"random normal data of the same size ({structure.parallel.iterations} random data sets); "
                 f"{structure.parallel.suggested_factors} observed eigenvalue(s) lie above the random "
                 f"{structure.parallel.percentile:g}th percentile.")
         if structure.solution is not None:
-            stem = _save(lambda: loadings_figure(structure), folder, "structure-loadings", inputs=inputs)
+            stem = _save(lambda: loadings_figure(structure), folder, names.unique("structure-loadings"), inputs=inputs)
             figures[("loadings",)] = FigureBlock(
                 stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
@@ -142,7 +145,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
 
         model = confirm.models.get("all") or next(iter(confirm.models.values()), None)
         if model is not None and model.loadings:
-            stem = _save(lambda model=model: confirm_loadings_figure(model), folder, "confirm-loadings",
+            stem = _save(lambda model=model: confirm_loadings_figure(model), folder, names.unique("confirm-loadings"),
                          inputs=inputs)
             figures[("confirm-loadings",)] = FigureBlock(
                 stem, "Loadings of the confirmatory model", f"Standardized loadings of the {len(model.items)} "

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -609,7 +610,14 @@ class ScreenResult:
     long_run_items: int
     median_duration: float | None
     alpha_change: dict[str, dict[str, Any]] = field(default_factory=dict)
-    notes: tuple[str, ...] = ()
+    notes: tuple[str | Note, ...] = ()
+    #: flag codes whose check could not run (their count is None, never 0; a note says why)
+    not_checked: tuple[str, ...] = ()
+    #: per group of identical answer rows: ``flagged`` (duplicate-answers), ``long-run`` (counted there
+    #: instead) or ``few-answers`` (too few answered items to tell a copy from chance)
+    duplicate_status: tuple[str, ...] = ()
+    #: unit of the completion times (shown beside them; the checks do not depend on it)
+    duration_unit: str = "s"
     weak_indices: tuple[WeakIndexUse, ...] = ()
 
     @property
@@ -619,11 +627,14 @@ class ScreenResult:
     def flagged_ids(self) -> list[str]:
         return [i for i, f in zip(self.ids, self.flagged) if f]
 
-    def flag_counts(self) -> dict[str, int]:
-        counts = {code: 0 for code in FLAG_ORDER}
+    def flag_counts(self) -> dict[str, int | None]:
+        """Respondents per flag; None for a check that did not run."""
+        counts: dict[str, int | None] = {code: 0 for code in FLAG_ORDER}
         for codes in self.flags:
             for code in codes:
-                counts[code] += 1
+                counts[code] += 1  # type: ignore[operator]
+        for code in self.not_checked:
+            counts[code] = None
         return counts
 
     def flag_overlap(self) -> dict[str, dict[str, int]]:
@@ -646,6 +657,8 @@ class ScreenResult:
             "n_items": self.n_items,
             "long_run_items": self.long_run_items,
             "median_duration": self.median_duration,
+            "duration_unit": self.duration_unit if self.duration is not None else None,
+            "not_checked": list(self.not_checked),
         }
 
     def respondent_records(self) -> list[dict[str, Any]]:
@@ -666,6 +679,7 @@ class ScreenResult:
             "respondents": self.respondent_records(),
             "summary": self.summary(),
             "duplicates": {"rows": [[self.ids[i] for i in group] for group in self.duplicates.row_groups],
+                           "row_status": list(self.duplicate_status),
                            "ids": list(self.duplicates.duplicate_ids)},
             "thresholds": self.thresholds.to_dict(),
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
@@ -690,8 +704,28 @@ def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray)
     return out
 
 
+def _unique_notes(notes: Sequence[str | Note]) -> tuple[str | Note, ...]:
+    """Each note once, in order (a note's values may be unhashable, so it is compared by its JSON form)."""
+    seen: dict[str, str | Note] = {}
+    for item in notes:
+        seen.setdefault(repr(item.to_dict()) if isinstance(item, Note) else item, item)
+    return tuple(seen.values())
+
+
+def _duplicate_status(groups: Sequence[Sequence[int]], long_run: np.ndarray, answered_items: np.ndarray,
+                      min_items: int) -> tuple[str, ...]:
+    """Why each group of identical rows is or is not counted as ``duplicate-answers`` (rows of a group agree)."""
+    status = []
+    for group in groups:
+        first = group[0]
+        status.append("long-run" if long_run[first] else "few-answers" if answered_items[first] < min_items
+                      else "flagged")
+    return tuple(status)
+
+
 def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], *, ids: Sequence[str],
-                       thresholds: ScreenThresholds = ScreenThresholds(), durations: Any = None) -> ScreenResult:
+                       thresholds: ScreenThresholds = ScreenThresholds(), durations: Any = None,
+                       duration_unit: str = "s") -> ScreenResult:
     """Screen every respondent for careless answering and suspicious records.
 
     Parameters
@@ -705,7 +739,10 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     thresholds : ScreenThresholds
         When each index raises a flag.
     durations : array_like, shape (n,), optional
-        Completion times (any unit); enables the ``fast`` flag.
+        Completion times (any unit); enables the ``fast`` flag. Without them ``fast`` is not checked: its
+        count is None (``null``), not 0.
+    duration_unit : str
+        Unit of ``durations``, kept for display.
 
     Returns
     -------
@@ -736,7 +773,8 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         if block.shape[0] != n:
             raise DataError(f"keyed items of scale {name}: {block.shape[0]} rows, expected {n}")
     keyed = np.hstack(list(scales.values())) if scales else np.empty((n, 0))
-    notes: list[str] = []
+    notes: list[str | Note] = []
+    not_checked: list[str] = []
 
     runs = longstring(raw)
     run_limit = thresholds.long_run_items(p)
@@ -788,7 +826,10 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     fast = np.zeros(n, dtype=bool)
     duration = None
     median_duration = None
-    if durations is not None:
+    if durations is None:
+        not_checked.append(FLAG_FAST)
+        notes.append(note("fast-not-checked", flag=FLAG_FAST))
+    else:
         duration = np.asarray(durations, dtype=float).reshape(-1)
         if duration.shape != (n,):
             raise DataError(f"durations: expected {n} values, got {duration.size}")
@@ -796,15 +837,31 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         timed = np.where(many_missing, np.nan, duration)
         fast, median = speeders(timed, speed_share=thresholds.speed_share)
         median_duration = None if math.isnan(median) else median
-        if (~np.isfinite(duration)).any():
+        if median_duration is None:
+            not_checked.append(FLAG_FAST)
+            notes.append(note("fast-no-durations", flag=FLAG_FAST))
+        elif (~np.isfinite(duration)).any():
             notes.append(f"{int((~np.isfinite(duration)).sum())} respondent(s) without a duration were not "
                          "checked for speed")
 
     duplicates = duplicate_records(raw, ids)
     answered_items = p - np.isnan(raw).sum(axis=1)
     duplicate_answers = duplicates.in_row_group & ~long_run & (answered_items >= thresholds.duplicate_min_items)
-    if duplicates.row_groups and p < thresholds.duplicate_min_items:
-        notes.append(f"identical answer rows are listed but not flagged: with {p} items they can happen by chance")
+    duplicate_status = _duplicate_status(duplicates.row_groups, long_run, answered_items,
+                                         thresholds.duplicate_min_items)
+    if p < thresholds.duplicate_min_items:
+        not_checked.append(FLAG_DUPLICATE_ANSWERS)
+        notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
+                          min_items=thresholds.duplicate_min_items))
+    if not np.isfinite(distance.p).any():
+        not_checked.extend((FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR))
+        notes.append(note("distance-not-checked", flags=(FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR)))
+    if not np.isfinite(halves.consistency).any():
+        not_checked.append(FLAG_UNEVEN_HALVES)
+        notes.append(note("halves-not-checked", flag=FLAG_UNEVEN_HALVES))
+    if not np.isfinite(person_total).any():
+        not_checked.append(FLAG_AGAINST_SAMPLE)
+        notes.append(note("profile-not-checked", flag=FLAG_AGAINST_SAMPLE))
 
     fired = {
         FLAG_LONG_RUN: long_run, FLAG_FAR_FROM_SAMPLE: far, FLAG_FAST: fast, FLAG_MANY_MISSING: many_missing,
@@ -829,5 +886,6 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,
         person_total_r=person_total, missing=missing, duration=duration, flags=flags, flagged=flagged,
         duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=run_limit,
-        median_duration=median_duration, alpha_change=alpha_change, notes=tuple(dict.fromkeys(notes)),
+        median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
+        not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
         weak_indices=(halves_use, total_use))
