@@ -178,3 +178,45 @@ def test_dwls_unit_diagonal_matches_a_direct_least_squares_fit(tmp_path):
     reference = least_squares(lambda lam: np.sqrt(weights[upper]) * (corr[upper] - np.outer(lam, lam)[upper]),
                               np.full(len(items), 0.5), xtol=1e-14, ftol=1e-14, gtol=1e-14).x
     np.testing.assert_allclose(ours, np.abs(reference), atol=1e-6)
+
+
+def report_like(analysis):
+    from types import SimpleNamespace
+
+    return SimpleNamespace(confirm=analysis, scales={}, n_excluded=0, screen=None,
+                           options=SimpleNamespace(by=()))
+
+
+@pytest.mark.parametrize("cross_loading", [0.0, 0.7])
+def test_finding_for_a_whole_file_model_that_misses_the_cutoffs(tmp_path, cross_loading):
+    # reference: Hu & Bentler (1999) conventions CFI >= .95, RMSEA <= .06, SRMR <= .08 (recalled from memory;
+    # the same cut-offs as the fit verdicts). Population: two correlated factors; with a strong cross-loading
+    # of q1 on the second factor the whole-file model (q1 on the first only) is misspecified and misses them
+    from scalewright.analyses.confirm import analyse_confirm
+    from scalewright.analyses.findings import select_findings
+    from scalewright.cli.common import load_inputs
+    from scalewright.present.findings import finding_sentence
+
+    rng = np.random.default_rng(12)
+    n = 3_000
+    factors = rng.multivariate_normal([0, 0], [[1, 0.3], [0.3, 1]], size=n)
+    latent = np.column_stack([factors[:, [0]] * np.full(3, 0.7), factors[:, [1]] * np.full(3, 0.7)]) \
+        + rng.standard_normal((n, 6)) * np.sqrt(1 - 0.49)
+    latent[:, 0] += cross_loading * factors[:, 1]
+    answers = fine_answers(latent)
+    data, scales = tmp_path / "survey.csv", tmp_path / "scales.yaml"
+    data.write_text("staff_id," + ",".join(f"q{j + 1}" for j in range(6)) + "\n"
+                    + "\n".join(f"s{r}," + ",".join(str(int(v)) for v in row) for r, row in enumerate(answers)) + "\n")
+    scales.write_text("version: 1\ntitle: Staff climate survey\nid_column: staff_id\nresponse: {min: 0, max: 100}\n"
+                      "scales:\n  climate:\n    items: [q1, q2, q3]\n  support:\n    items: [q4, q5, q6]\n")
+    inputs = load_inputs(data, scales)
+    analysis = analyse_confirm(inputs.spec, inputs.responses)
+    found = [f for f in select_findings(report_like(analysis)) if f.code == "model-fit-misses"]
+    if cross_loading == 0:
+        assert found == []
+        return
+    assert len(found) == 1 and found[0].anchor == "confirm" and found[0].values["model"] == "all"
+    whole = analysis.models["all"].indices
+    assert whole.cfi < 0.95 or whole.rmsea > 0.06 or whole.srmr > 0.08
+    assert "RMSEA" in found[0].values["missed"]
+    assert "Hu & Bentler 1999" in finding_sentence(found[0])
