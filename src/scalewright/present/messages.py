@@ -187,6 +187,18 @@ CONFIRM: dict[str, str] = {
     "heywood-case": "{model}: improper solution (Heywood case) at {items}: a negative residual variance or a "
                     "standardized loading beyond 1; the model may be misspecified or the sample too small",
     "model-not-fitted": "{model}: the model could not be fitted",
+    "dwls-polychoric": "--ordinal: every model is fitted by diagonally weighted least squares (DWLS) to the "
+                       "polychoric correlation matrix, each correlation weighted by 1/SE^2 (Muthén 1984, "
+                       "Psychometrika 49:115-132; compared with other estimators for ordinal items by Flora & "
+                       "Curran 2004, Psychological Methods 9:466-491). Loadings, SRMR and the model omega are "
+                       "given; the chi-square, the indices built on it and the standard errors are not, because "
+                       "they need the full weight matrix of the correlations",
+    "em-basis-confirm-scale": "Covariances come from the EM algorithm (maximum likelihood under missing at random) "
+                              "over this scale's own items; the fit takes n = {n_used}, the respondents who "
+                              "answered at least one of them",
+    "em-basis-confirm-file": "Covariances come from the EM algorithm (maximum likelihood under missing at random) "
+                             "over every item of the file together; the fit takes n = {n_used}, the respondents "
+                             "who answered at least one item",
     "fit-meets-cutoffs": "{model}: CFI {cfi}, RMSEA {rmsea}, SRMR {srmr}: within all three conventional cut-offs "
                          "(CFI >= {cfi_min}, RMSEA <= {rmsea_max}, SRMR <= {srmr_max}; Hu & Bentler 1999). "
                          "Cut-offs are conventions, not tests",
