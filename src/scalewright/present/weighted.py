@@ -1,0 +1,56 @@
+"""Tables of weighted estimates (survey weights), set beside the unweighted ones."""
+from __future__ import annotations
+
+from typing import Any
+
+from ..stats.groups import suppressed_text
+from .messages import describe
+from .numbers import format_value
+from .table import Table
+
+
+def weights_line(block: Any) -> str:
+    """``weighted by w: n = 120, effective n = 96.4, sum of weights 1,204.5, design effect 1.24``."""
+    return (f"weighted by {block.weight_column}: n = {block.n}, effective n (Kish) = "
+            f"{format_value(block.n_effective, 'num', 1)}, sum of weights = {format_value(block.sum_of_weights, 'num', 1)}, "
+            f"design effect of the weights = {format_value(block.design_effect, 'num', 2)}"
+            + (f", {block.n_zero_weight} with weight 0 left out" if block.n_zero_weight else ""))
+
+
+def weighted_tally_table(shares: Any, unweighted: Any) -> Table:
+    """Weighted share of every category beside its unweighted count and share."""
+    hidden = suppressed_text(unweighted.min_cell)
+    rows = []
+    for plain, weighted in zip(unweighted.categories, shares.categories):
+        rows.append((plain.category, hidden if plain.suppressed else plain.count, plain.valid_percent,
+                     weighted.sum_of_weights, weighted.share_of_answered_pct))
+    return Table(title=f"Weighted answers: {shares.column}", key=f"tally_weighted.{shares.column}",
+                 columns=("category", "count", "share of answered %", "sum of weights", "weighted share %"),
+                 rows=tuple(rows), kinds={"category": "text", "count": "int", "share of answered %": "pct",
+                                          "weighted share %": "pct"},
+                 notes=(weights_line(shares),))
+
+
+def weighted_fit_table(fit: Any, plain_fit: Any, decimals: int = 2) -> Table:
+    """Weighted shares against the reference, with the unweighted comparison beside."""
+    plain = {c.category: c for c in getattr(plain_fit, "categories", ())}
+    rows = []
+    for category, values in fit.categories.items():
+        before = plain.get(category)
+        rows.append((category, values["expected_pct"], values["weighted_share_pct"],
+                     values["standardized_residual"],
+                     None if before is None else 100.0 * before.observed / plain_fit.n if plain_fit.n else None,
+                     None if before is None else before.standardized_residual))
+    test = (f"weighted: χ²({fit.df}, n_eff = {format_value(fit.n_effective, 'num', 1)}) = "
+            f"{format_value(fit.chi2, 'num', decimals)}, p = {format_value(fit.pvalue, 'p')}, "
+            f"w = {format_value(fit.w, 'bounded', decimals)}")
+    if plain_fit is not None and plain_fit.chi2 is not None:
+        test += (f"; unweighted: χ²({plain_fit.df}, N = {plain_fit.n}) = {format_value(plain_fit.chi2, 'num', decimals)}, "
+                 f"p = {format_value(plain_fit.pvalue, 'p')}, w = {format_value(plain_fit.w, 'bounded', decimals)}")
+    return Table(title=f"Weighted shares against the reference proportions: {fit.column}",
+                 key=f"fit_weighted.{fit.column}",
+                 columns=("category", "reference %", "weighted share %", "weighted residual", "unweighted share %",
+                          "unweighted residual"),
+                 rows=tuple(rows), kinds={"category": "text", "reference %": "pct", "weighted share %": "pct",
+                                          "unweighted share %": "pct"},
+                 notes=(test, *(describe(n) for n in fit.notes)))

@@ -1,0 +1,183 @@
+"""Reading survey weights: the scale file's `weight:` key, `--weight`, and every kind of bad weight."""
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+from scalewright.cli import main
+from scalewright.errors import DataError
+from scalewright.spec import load_spec
+from scalewright.weights import read_weights
+
+from .conftest import folder_fingerprint
+
+SCALES = """version: 1
+title: Staff climate test
+id_column: staff_id
+{weight}
+response: {{min: 1, max: 5}}
+scales:
+  workload:
+    items: [wl1, wl2, wl3]
+"""
+
+
+def make_files(tmp_path, *, weight_line="weight: w", weights=None, n=40, seed=4):
+    rng = np.random.default_rng(seed)
+    frame = pd.DataFrame({"staff_id": [f"s{i:02d}" for i in range(n)],
+                          "site": rng.choice(["North", "South"], n),
+                          "w": rng.uniform(0.5, 2.0, n).round(3) if weights is None else weights,
+                          "v": rng.uniform(0.5, 2.0, n).round(3)})
+    for j in range(1, 4):
+        frame[f"wl{j}"] = rng.integers(1, 6, n)
+    data = tmp_path / "climate.csv"
+    frame.to_csv(data, index=False)
+    scales = tmp_path / "climate.yaml"
+    scales.write_text(SCALES.format(weight=weight_line))
+    return data, scales, frame
+
+
+def run(capsys, *args):
+    code = main([str(a) for a in args])
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+def test_scale_file_key_is_read(tmp_path):
+    _, scales, _ = make_files(tmp_path)
+    assert load_spec(scales).weight == "w"
+    _, scales, _ = make_files(tmp_path, weight_line="")
+    assert load_spec(scales).weight is None
+
+
+def test_weight_column_may_not_be_an_item(tmp_path, capsys):
+    data, scales, _ = make_files(tmp_path, weight_line="weight: wl1")
+    code, _, err = run(capsys, "shape", data, "--scales", scales)
+    assert code == 3 and "wl1" in err and "weight" in err
+
+
+def test_zero_weights_are_counted_not_refused():
+    frame = pd.DataFrame({"w": [1.0, 0.0, 2.5, 0.0]})
+    weights = read_weights(frame, "w", np.arange(2, 6), path="d.csv")
+    assert weights.n_zero_weight == 2 and weights.refused == {}
+    np.testing.assert_array_equal(weights.values, [1.0, 0.0, 2.5, 0.0])
+    half = weights.subset(np.array([0, 1]))
+    assert half.n_zero_weight == 1
+
+
+@pytest.mark.parametrize("cell, kind, shown", [
+    (None, "missing", "no weight given"),
+    (-1.5, "negative", "'-1.5' is a negative weight"),
+    ("heavy", "not_numeric", "'heavy' is a weight that is not a number"),
+    ("inf", "not_finite", "'inf' is an infinite weight"),
+])
+def test_each_bad_weight_refused_with_row_and_column_or_counted(cell, kind, shown):
+    raw = pd.Series([1.0, 2.0, cell, 0.5], dtype=object)
+    frame = pd.DataFrame({"w": raw})
+    with pytest.raises(DataError) as caught:
+        read_weights(frame, "w", np.arange(2, 6), path="d.csv")
+    text = str(caught.value)
+    assert "row 4, column w" in text and shown in text and "--lenient" in text
+    weights = read_weights(frame, "w", np.arange(2, 6), path="d.csv", lenient=True)
+    assert weights.refused == {kind: 1} and weights.n_zero_weight == 0
+    assert weights.values[2] == 0.0  # left out of every estimate
+
+
+def test_absent_weight_column_is_named(tmp_path):
+    frame = pd.DataFrame({"weight": [1.0]})
+    with pytest.raises(DataError, match="'weigth' is not in the data file.*'weight'"):
+        read_weights(frame, "weigth", np.array([2]), path="d.csv")
+
+
+def test_command_without_weights_says_its_results_are_unweighted(tmp_path, capsys):
+    data, scales, _ = make_files(tmp_path)
+    code, out, _ = run(capsys, "structure", data, "--scales", scales, "--format", "json")
+    assert code == 0 and "does not use weights yet" in out
+
+
+def test_bad_weight_through_a_command_changes_no_file(tmp_path, capsys):
+    weights = np.full(30, 1.0, dtype=object)
+    weights[7] = "n/a?"
+    data, scales, _ = make_files(tmp_path, weights=weights, n=30)
+    before = folder_fingerprint(tmp_path)
+    code, _, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--out", tmp_path / "t.json")
+    assert code == 4 and "row 9, column w" in err and "not a number" in err
+    assert folder_fingerprint(tmp_path) == before
+
+
+# ----------------------------------------------------------------------------- tally
+
+
+def test_tally_weighted_shares_beside_the_unweighted(tmp_path, capsys):
+    import json
+
+    data, scales, frame = make_files(tmp_path, n=80)
+    frame.loc[3, "w"] = 0.0
+    frame.to_csv(data, index=False)
+    code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--format", "json")
+    assert code == 0
+    record = json.loads(out)["columns"]["site"]
+    block = record["weighted"]
+    assert block["weighted"] is True and block["weight_column"] == "w" and block["n"] == 80
+    assert block["n_zero_weight"] == 1
+    w = frame["w"].to_numpy()
+    # numpy: sum of weights per category over the total, and Kish (1965) n_eff = (sum w)^2 / sum w^2
+    assert block["sum_of_weights"] == pytest.approx(w.sum())
+    assert block["n_effective"] == pytest.approx(w.sum() ** 2 / np.sum(w**2))
+    north = next(c for c in block["categories"] if c["category"] == "North")
+    assert north["share_of_answered_pct"] == pytest.approx(100 * w[frame["site"] == "North"].sum() / w.sum())
+    # the unweighted tally is still there, row 3 included
+    assert record["n_total"] == 80
+    # --weight wins over the scale file's weight
+    code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--weight", "v",
+                       "--format", "json")
+    assert json.loads(out)["columns"]["site"]["weighted"]["weight_column"] == "v"
+
+
+def test_tally_expected_weighted_and_unweighted(tmp_path, capsys):
+    import json
+
+    from scipy import stats
+
+    data, scales, frame = make_files(tmp_path, n=120)
+    census = tmp_path / "census.csv"
+    census.write_text("category,proportion\nNorth,0.4\nSouth,0.6\n")
+    code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", census,
+                       "--format", "json")
+    assert code == 0
+    record = json.loads(out)["columns"]["site"]
+    fit = record["weighted_fit"]
+    w = frame["w"].to_numpy()
+    n_eff = w.sum() ** 2 / np.sum(w**2)  # Kish (1965)
+    shares = np.array([w[frame["site"] == s].sum() for s in ("North", "South")]) / w.sum()
+    # scipy.stats.chisquare on the weighted shares scaled to n_eff (the stated Kish approximation)
+    reference = stats.chisquare(n_eff * shares, n_eff * np.array([0.4, 0.6]))
+    assert fit["chi2"] == pytest.approx(reference.statistic) and fit["pvalue"] == pytest.approx(reference.pvalue)
+    assert fit["weighted"] is True and fit["n_effective"] == pytest.approx(n_eff) and fit["n"] == 120
+    assert "fit" in record  # the unweighted comparison beside
+    code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", census,
+                       "--format", "table")
+    assert "Weighted shares against the reference" in out and "unweighted: χ²" in out
+
+
+def test_tally_unit_weights_equal_the_unweighted_test(tmp_path, capsys):
+    import json
+
+    data, scales, frame = make_files(tmp_path, weights=np.ones(90), n=90)
+    census = tmp_path / "census.csv"
+    census.write_text("category,proportion\nNorth,0.3\nSouth,0.7\n")
+    code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", census,
+                       "--format", "json")
+    record = json.loads(out)["columns"]["site"]
+    # with all weights 1 the weighted test is scipy's chisquare on the plain counts (as the unweighted fit)
+    assert record["weighted_fit"]["chi2"] == pytest.approx(record["fit"]["chi2"], rel=1e-12)
+    assert record["weighted_fit"]["pvalue"] == pytest.approx(record["fit"]["pvalue"], rel=1e-10)
+    for plain, weighted in zip(record["categories"], record["weighted"]["categories"]):
+        assert weighted["share_of_answered_pct"] == pytest.approx(plain["share_of_answered_pct"], rel=1e-12)
+
+
+def test_weight_without_scale_file_is_a_usage_error(tmp_path, capsys):
+    data, _, _ = make_files(tmp_path)
+    code, _, err = run(capsys, "tally", data, "--columns", "site", "--weight", "w")
+    assert code == 2 and "--weight needs the scale file" in err
