@@ -181,3 +181,79 @@ def test_weight_without_scale_file_is_a_usage_error(tmp_path, capsys):
     data, _, _ = make_files(tmp_path)
     code, _, err = run(capsys, "tally", data, "--columns", "site", "--weight", "w")
     assert code == 2 and "--weight needs the scale file" in err
+
+
+# ----------------------------------------------------------------------------- shape
+
+
+def _shape_json(capsys, data, scales, *extra):
+    import json
+
+    code, out, err = run(capsys, "shape", data, "--scales", scales, "--format", "json", *extra)
+    assert code == 0, err
+    return json.loads(out)["scales"]["workload"]
+
+
+def test_shape_weighted_against_statsmodels(tmp_path, capsys):
+    from statsmodels.stats.weightstats import DescrStatsW
+
+    data, scales, frame = make_files(tmp_path, n=90)
+    block = _shape_json(capsys, data, scales)["all"]["weighted"]
+    score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
+    w = frame["w"].to_numpy()
+    reference = DescrStatsW(score, weights=w)  # statsmodels, computed live
+    assert block["weighted"] is True and block["n"] == 90 and block["weight_column"] == "w"
+    assert block["mean"] == pytest.approx(reference.mean, rel=1e-12)
+    assert block["sd"] == pytest.approx(reference.std_ddof(np.sum(w**2) / w.sum()), rel=1e-12)
+    assert block["median"] == pytest.approx(reference.quantile([0.5], return_pandas=False)[0])
+    assert block["percentiles"]["90"] == pytest.approx(reference.quantile([0.9], return_pandas=False)[0])
+    # numpy's weighted histogram over the unweighted cells
+    edges = block["histogram"]["edges"]
+    mass, _ = np.histogram(score, bins=edges, weights=w)
+    np.testing.assert_allclose(block["histogram"]["weighted_pct"], 100 * mass / w.sum())
+
+
+def test_shape_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_path, capsys):
+    data, scales, frame = make_files(tmp_path, weights=np.ones(70), n=70)
+    frame["w10"] = 10.0
+    frame.to_csv(data, index=False)
+    result = _shape_json(capsys, data, scales, "--by", "site")
+    for sample in [result["all"], *result["by"]["site"].values()]:
+        weighted = sample["weighted"]
+        for key in ("mean", "sd", "skewness", "kurtosis"):
+            assert weighted[key] == pytest.approx(sample[key], rel=1e-10), key
+        counts = np.array(sample["histogram"]["counts"], dtype=float)
+        np.testing.assert_allclose(weighted["histogram"]["weighted_pct"], 100 * counts / counts.sum())
+    scaled = _shape_json(capsys, data, scales, "--by", "site", "--weight", "w10")
+    for key in ("mean", "sd", "skewness", "kurtosis", "median", "n_effective", "design_effect"):
+        assert scaled["all"]["weighted"][key] == pytest.approx(result["all"]["weighted"][key], rel=1e-10)
+
+
+def test_shape_integer_weights_equal_replicated_rows(tmp_path, capsys):
+    rng = np.random.default_rng(8)
+    weights = rng.integers(1, 4, 50)
+    data, scales, frame = make_files(tmp_path, weights=weights, n=50)
+    block = _shape_json(capsys, data, scales)["all"]["weighted"]
+    repeated = frame.loc[frame.index.repeat(weights)]
+    copies = tmp_path / "copies"
+    copies.mkdir()
+    repeated.assign(w=1, staff_id=[f"r{i}" for i in range(len(repeated))]).to_csv(copies / "d.csv", index=False)
+    plain = _shape_json(capsys, copies / "d.csv", scales)["all"]
+    from statsmodels.stats.weightstats import DescrStatsW
+
+    # the replicated file's unweighted mean, and statsmodels DescrStatsW quantiles of its scores (unit weights)
+    assert block["mean"] == pytest.approx(plain["mean"], rel=1e-12)
+    replicated = DescrStatsW(repeated[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy())
+    probs = [0.05, 0.1, 0.25, 0.5, 0.75, 0.9, 0.95]
+    np.testing.assert_allclose(list(block["percentiles"].values()), replicated.quantile(probs, return_pandas=False))
+    np.testing.assert_allclose(block["histogram"]["weighted_pct"], plain["weighted"]["histogram"]["weighted_pct"])
+
+
+def test_zero_weight_rows_kept_in_scores_left_out_of_estimates(tmp_path, capsys):
+    weights = np.ones(40)
+    weights[:5] = 0
+    data, scales, frame = make_files(tmp_path, weights=weights, n=40)
+    block = _shape_json(capsys, data, scales)["all"]
+    assert block["n"] == 40 and block["weighted"]["n"] == 40 and block["weighted"]["n_zero_weight"] == 5
+    score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
+    assert block["weighted"]["mean"] == pytest.approx(score[5:].mean())  # numpy mean of the weighted rows

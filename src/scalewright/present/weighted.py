@@ -54,3 +54,27 @@ def weighted_fit_table(fit: Any, plain_fit: Any, decimals: int = 2) -> Table:
                  rows=tuple(rows), kinds={"category": "text", "reference %": "pct", "weighted share %": "pct",
                                           "unweighted share %": "pct"},
                  notes=(test, *(describe(n) for n in fit.notes)))
+
+
+def weighted_shape_table(name: str, blocks: dict) -> Table:
+    """Weighted mean, sd, quartiles, skewness and kurtosis of one score, overall and per subgroup level."""
+    samples = [("all", blocks["all"])]
+    for column, levels in blocks["by"].items():
+        samples += [(f"{column} = {level}", block) for level, block in levels.items()]
+    rows = tuple((label, b.summary.n, b.summary.n_effective, b.summary.mean, b.summary.sd, b.q1, b.median, b.q3,
+                  b.summary.skewness, b.summary.kurtosis) for label, b in samples)
+    first = blocks["all"].summary
+    return Table(title=f"Weighted description: {name}", key=f"shape_weighted.{name}",
+                 columns=("sample", "n", "effective n", "mean", "sd", "q1", "median", "q3", "skewness", "kurtosis"),
+                 rows=rows, kinds={"sample": "text", "n": "int"},
+                 notes=(weights_line(first), describe(_QUANTILE_NOTE),
+                        *(describe(n) for _, b in samples for n in b.summary.notes)))
+
+
+def _quantile_note():
+    from ..notes import note
+
+    return note("weighted-quantiles")
+
+
+_QUANTILE_NOTE = _quantile_note()

@@ -175,3 +175,46 @@ def weighted_summary(values: np.ndarray, weights: np.ndarray, *, weight_column: 
                            n_zero_weight=n_zero, n_effective=n_eff, sum_of_weights=float(w.sum()),
                            design_effect=design_effect(w), mean=mean, sd=sd, skewness=skew, kurtosis=kurt,
                            notes=tuple(notes))
+
+
+@dataclass(frozen=True)
+class WeightedShape(ResultMixin):
+    """Weighted description of one score: :class:`WeightedSummary`, quantiles and histogram heights."""
+
+    summary: WeightedSummary
+    median: float
+    q1: float
+    q3: float
+    percentiles: dict[str, float]
+    histogram_edges: tuple[float, ...]
+    histogram_weighted_pct: tuple[float, ...]
+
+    def to_dict(self) -> dict:
+        from ..results import to_jsonable
+
+        out = self.summary.to_dict()
+        out.update(to_jsonable({"median": self.median, "q1": self.q1, "q3": self.q3, "percentiles": self.percentiles,
+                                "quantile_definition": "weighted-inverted-cdf-averaged",
+                                "histogram": {"edges": self.histogram_edges,
+                                              "weighted_pct": self.histogram_weighted_pct}}))
+        out["notes"] = [n.to_dict() for n in self.summary.notes]
+        return out
+
+
+def weighted_shape(values: np.ndarray, weights: np.ndarray, *, percentiles=(5, 10, 25, 50, 75, 90, 95),
+                   edges=None, weight_column: str = "") -> WeightedShape:
+    """Weighted summary, quantiles (:func:`weighted_quantiles`) and the share of the weight in each histogram
+    cell ``[edges[i], edges[i+1])`` (numpy's ``histogram`` with weights; its last cell includes its upper end)."""
+    summary = weighted_summary(values, weights, weight_column=weight_column)
+    x, w = _checked(values, weights)
+    probs = np.array([25.0, 50.0, 75.0, *map(float, percentiles)]) / 100
+    q = weighted_quantiles(x, w, probs)
+    heights: tuple[float, ...] = ()
+    if edges is not None and len(edges) > 1:
+        mass, _ = np.histogram(x, bins=np.asarray(edges, dtype=float), weights=w)
+        total = w.sum()
+        heights = tuple(float(v) for v in (100.0 * mass / total if total > 0 else np.full(mass.shape, math.nan)))
+    return WeightedShape(summary=summary, q1=float(q[0]), median=float(q[1]), q3=float(q[2]),
+                         percentiles={f"{p:g}": float(v) for p, v in zip(percentiles, q[3:])},
+                         histogram_edges=tuple(map(float, edges)) if edges is not None else (),
+                         histogram_weighted_pct=heights)
