@@ -257,3 +257,96 @@ def test_zero_weight_rows_kept_in_scores_left_out_of_estimates(tmp_path, capsys)
     assert block["n"] == 40 and block["weighted"]["n"] == 40 and block["weighted"]["n_zero_weight"] == 5
     score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
     assert block["weighted"]["mean"] == pytest.approx(score[5:].mean())  # numpy mean of the weighted rows
+
+
+# ----------------------------------------------------------------------------- reliability
+
+RELIABILITY_SCALES = """version: 1
+id_column: staff_id
+weight: w
+response: {min: 1, max: 5}
+scales:
+  support:
+    items: [sp1, sp2, sp3, sp4]
+    reverse: [sp4]
+"""
+
+
+def _related_files(tmp_path, weights, n, seed=21, name="d.csv"):
+    rng = np.random.default_rng(seed)
+    trait = rng.normal(size=n)
+    frame = pd.DataFrame({"staff_id": [f"s{i:03d}" for i in range(n)], "site": rng.choice(["North", "South"], n),
+                          "w": weights})
+    for j in range(1, 5):
+        sign = -1 if j == 4 else 1
+        frame[f"sp{j}"] = np.clip(np.round(3 + sign * trait + rng.normal(scale=0.9, size=n)), 1, 5).astype(int)
+    data = tmp_path / name
+    frame.to_csv(data, index=False)
+    scales = tmp_path / "r.yaml"
+    scales.write_text(RELIABILITY_SCALES)
+    return data, scales, frame
+
+
+def _reliability_json(capsys, data, scales, *extra):
+    import json
+
+    code, out, err = run(capsys, "reliability", data, "--scales", scales, "--format", "json", *extra)
+    assert code == 0, err
+    return json.loads(out)["scales"]["support"]
+
+
+def test_reliability_integer_weights_equal_replicated_rows(tmp_path, capsys):
+    import pingouin
+
+    weights = np.random.default_rng(5).integers(1, 4, 80)
+    data, scales, frame = _related_files(tmp_path, weights, 80)
+    block = _reliability_json(capsys, data, scales)["weighted"]
+    repeated = frame.loc[frame.index.repeat(weights)].copy()
+    repeated["sp4"] = 6 - repeated["sp4"]
+    # pingouin.cronbach_alpha on the rows repeated w times, computed live
+    alpha, _ = pingouin.cronbach_alpha(repeated[["sp1", "sp2", "sp3", "sp4"]])
+    assert block["alpha"] == pytest.approx(alpha, rel=1e-10)
+    assert block["weighted"] is True and block["n"] == 80 and block["weight_column"] == "w"
+    # numpy: item-rest correlation of sp1 on the replicated rows
+    rest = repeated[["sp2", "sp3", "sp4"]].sum(axis=1)
+    assert block["items"]["sp1"]["item_rest_r"] == pytest.approx(np.corrcoef(repeated["sp1"], rest)[0, 1], rel=1e-10)
+    assert block["items"]["sp1"]["mean"] == pytest.approx(repeated["sp1"].mean(), rel=1e-12)
+    # omega: the unweighted omega of the replicated file (a function of the covariance matrix only)
+    copies = tmp_path / "copies"
+    copies.mkdir()
+    _related_files(copies, 1, 1)  # writes the scale file there
+    repeated_data = frame.loc[frame.index.repeat(weights)].assign(w=1)
+    repeated_data["staff_id"] = [f"r{i}" for i in range(len(repeated_data))]
+    repeated_data.to_csv(copies / "d.csv", index=False)
+    plain = _reliability_json(capsys, copies / "d.csv", copies / "r.yaml")
+    assert block["omega_total"] == pytest.approx(plain["omega_total"], rel=1e-6)
+
+
+def test_reliability_unit_weights_equal_unweighted(tmp_path, capsys):
+    data, scales, _ = _related_files(tmp_path, np.ones(90), 90)
+    result = _reliability_json(capsys, data, scales, "--by", "site")
+    for plain in [result, *result["by"]["site"].values()]:
+        weighted = plain["weighted"]
+        for key in ("alpha", "alpha_standardized", "omega_total", "lambda2", "lambda6", "mean_inter_item_r"):
+            assert weighted[key] == pytest.approx(plain[key], rel=1e-9), key
+        np.testing.assert_allclose(weighted["alpha_ci"], plain["alpha_ci"], rtol=1e-9)
+        for item in ("sp1", "sp4"):
+            for key in ("mean", "sd", "item_rest_r", "alpha_if_deleted", "floor_pct", "ceiling_pct"):
+                assert weighted["items"][item][key] == pytest.approx(plain["items"][item][key], rel=1e-9), key
+
+
+def test_reliability_ci_uses_kish_effective_n(tmp_path, capsys):
+    from scipy import stats
+
+    weights = np.random.default_rng(9).uniform(0.3, 3.0, 100).round(3)
+    data, scales, _ = _related_files(tmp_path, weights, 100)
+    block = _reliability_json(capsys, data, scales)["weighted"]
+    n_eff = weights.sum() ** 2 / np.sum(weights**2)  # Kish (1965)
+    assert block["n_effective"] == pytest.approx(n_eff)
+    # Feldt, Woodruff & Salih (1987) interval with scipy's F quantiles and n_eff in place of n
+    df1, df2 = n_eff - 1, (n_eff - 1) * 3
+    lower = 1 - (1 - block["alpha"]) * stats.f.ppf(0.975, df1, df2)
+    upper = 1 - (1 - block["alpha"]) * stats.f.ppf(0.025, df1, df2)
+    np.testing.assert_allclose(block["alpha_ci"], [lower, upper], rtol=1e-9)
+    scaled = _reliability_json(capsys, data, scales, "--weight", "w")  # same column: sanity of --weight
+    assert scaled["weighted"]["alpha"] == block["alpha"]

@@ -78,3 +78,28 @@ def _quantile_note():
 
 
 _QUANTILE_NOTE = _quantile_note()
+
+
+def weighted_reliability_table(name: str, blocks: dict) -> Table:
+    """Weighted alpha (Feldt interval on Kish's n_eff), omega and lambdas, overall and per subgroup level."""
+    from types import SimpleNamespace
+
+    samples = [("all", blocks["all"])]
+    for column, levels in blocks["by"].items():
+        samples += [(f"{column} = {level}", block) for level, block in levels.items()]
+    rows = tuple((label, b["n_used"], b["n_effective"], b["alpha"], b["alpha_ci"][0], b["alpha_ci"][1],
+                  b["omega_total"], b["lambda2"], b["mean_inter_item_r"]) for label, b in samples)
+    first = blocks["all"]
+    line = weights_line(SimpleNamespace(weight_column=first["weight_column"], n=first["n_used"],
+                                        n_effective=first["n_effective"], sum_of_weights=first["sum_of_weights"],
+                                        design_effect=first["design_effect"], n_zero_weight=first["n_zero_weight"]))
+    from ..notes import note
+
+    return Table(title=f"Weighted reliability: {name}", key=f"reliability_weighted.{name}",
+                 columns=("sample", "n", "effective n", "alpha", "CI low", "CI high", "omega", "lambda2",
+                          "mean inter-item r"),
+                 rows=rows, kinds={"sample": "text", "n": "int", "alpha": "bounded", "CI low": "bounded",
+                                   "CI high": "bounded", "omega": "bounded", "lambda2": "bounded",
+                                   "mean inter-item r": "bounded"},
+                 notes=(line, describe(note("weighted-ci-kish", n_effective=first["n_effective"],
+                                            n=first["n_used"], design_effect=first["design_effect"]))))
