@@ -350,3 +350,55 @@ def test_reliability_ci_uses_kish_effective_n(tmp_path, capsys):
     np.testing.assert_allclose(block["alpha_ci"], [lower, upper], rtol=1e-9)
     scaled = _reliability_json(capsys, data, scales, "--weight", "w")  # same column: sanity of --weight
     assert scaled["weighted"]["alpha"] == block["alpha"]
+
+
+# ----------------------------------------------------------------------------- compare
+
+
+def _compare_json(capsys, data, scales, *extra):
+    import json
+
+    code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "site", "--format", "json", *extra)
+    assert code == 0, err
+    return json.loads(out)["scales"]["workload"]["by"]["site"]
+
+
+def test_compare_unit_weights_equal_scipy_and_pingouin(tmp_path, capsys):
+    import pingouin
+    from scipy import stats
+
+    data, scales, frame = make_files(tmp_path, weights=np.ones(80), n=80)
+    block = _compare_json(capsys, data, scales)["weighted"]
+    score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
+    north, south = score[frame["site"] == "North"], score[frame["site"] == "South"]
+    # scipy's Welch t test and pingouin's Hedges' g with its interval, computed live
+    welch = stats.ttest_ind(north, south, equal_var=False)
+    assert block["t"] == pytest.approx(welch.statistic, rel=1e-10)
+    assert block["pvalue"] == pytest.approx(welch.pvalue, rel=1e-8)
+    g = pingouin.compute_effsize(north, south, eftype="hedges")
+    assert block["hedges_g"] == pytest.approx(g, rel=1e-10)
+    ci = pingouin.compute_esci(stat=g, nx=north.size, ny=south.size, eftype="hedges", decimals=15)
+    np.testing.assert_allclose(block["hedges_g_ci"], ci, rtol=1e-9)
+    # eta-squared: between over total sum of squares (numpy)
+    grand = score.mean()
+    between = north.size * (north.mean() - grand) ** 2 + south.size * (south.mean() - grand) ** 2
+    assert block["eta_squared"] == pytest.approx(between / np.sum((score - grand) ** 2), rel=1e-10)
+    assert block["weighted"] is True and block["n"] == 80 and block["sum_of_weights"] == pytest.approx(80)
+
+
+def test_compare_integer_weights_equal_replicated_means(tmp_path, capsys):
+    weights = np.random.default_rng(13).integers(1, 5, 60)
+    data, scales, frame = make_files(tmp_path, weights=weights, n=60)
+    block = _compare_json(capsys, data, scales)["weighted"]
+    repeated = frame.loc[frame.index.repeat(weights)]
+    score = repeated[["wl1", "wl2", "wl3"]].mean(axis=1)
+    # pandas group means of the rows repeated w times; eta-squared is a ratio of sums of squares (numpy)
+    for level in ("North", "South"):
+        assert block["levels"][level]["mean"] == pytest.approx(score[repeated["site"] == level].mean(), rel=1e-12)
+    grand = score.mean()
+    between = sum((repeated["site"] == lv).sum() * (score[repeated["site"] == lv].mean() - grand) ** 2
+                  for lv in ("North", "South"))
+    assert block["eta_squared"] == pytest.approx(between / np.sum((score - grand) ** 2), rel=1e-10)
+    n_eff = {lv: weights[frame["site"] == lv].sum() ** 2 / np.sum(weights[frame["site"] == lv] ** 2)
+             for lv in ("North", "South")}  # Kish (1965)
+    assert block["levels"]["North"]["n_effective"] == pytest.approx(n_eff["North"])

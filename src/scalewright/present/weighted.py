@@ -103,3 +103,22 @@ def weighted_reliability_table(name: str, blocks: dict) -> Table:
                                    "mean inter-item r": "bounded"},
                  notes=(line, describe(note("weighted-ci-kish", n_effective=first["n_effective"],
                                             n=first["n_used"], design_effect=first["design_effect"]))))
+
+
+def weighted_compare_table(result: Any) -> Table:
+    """Weighted mean and sd of each level, with Welch's t and Hedges' g on effective sample sizes."""
+    rows = tuple((lv.level, lv.n, lv.n_effective, lv.mean, lv.sd) for lv in result.levels)
+    notes = []
+    if result.levels and len(result.levels) == 2:
+        notes.append(f"weighted: t({format_value(result.df, 'num', 1)}) = {format_value(result.t, 'num', 2)}, "
+                     f"p = {format_value(result.pvalue, 'p')}, Hedges' g = {format_value(result.hedges_g, 'num', 2)} "
+                     f"[{format_value(result.hedges_g_ci[0], 'num', 2)}, {format_value(result.hedges_g_ci[1], 'num', 2)}]")
+    if len(result.levels) >= 2:
+        notes.append(f"weighted eta-squared = {format_value(result.eta_squared, 'bounded', 3)}")
+    if result.not_described:
+        notes.append("not described (too few weighted rows): " + ", ".join(result.not_described))
+    return Table(title=f"Weighted comparison: {result.scale} by {result.column}",
+                 key=f"compare_weighted.{result.scale}.{result.column}",
+                 columns=("level", "n", "effective n", "weighted mean", "weighted sd"), rows=rows,
+                 kinds={"level": "text", "n": "int"},
+                 notes=(*notes, *(describe(n) for n in result.notes)))
