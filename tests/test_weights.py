@@ -402,3 +402,12 @@ def test_compare_integer_weights_equal_replicated_means(tmp_path, capsys):
     n_eff = {lv: weights[frame["site"] == lv].sum() ** 2 / np.sum(weights[frame["site"] == lv] ** 2)
              for lv in ("North", "South")}  # Kish (1965)
     assert block["levels"]["North"]["n_effective"] == pytest.approx(n_eff["North"])
+
+
+def test_lint_lists_bad_weights(tmp_path, capsys):
+    weights = np.full(30, 1.0, dtype=object)
+    weights[[2, 9]] = -1
+    weights[4] = 0
+    data, scales, _ = make_files(tmp_path, weights=weights, n=30)
+    code, out, _ = run(capsys, "lint", data, "--scales", scales)
+    assert code == 4 and "row 4, column w" in out and "row 11, column w" in out and "2 weight(s)" in out
