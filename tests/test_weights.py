@@ -411,3 +411,23 @@ def test_lint_lists_bad_weights(tmp_path, capsys):
     data, scales, _ = make_files(tmp_path, weights=weights, n=30)
     code, out, _ = run(capsys, "lint", data, "--scales", scales)
     assert code == 4 and "row 4, column w" in out and "row 11, column w" in out and "2 weight(s)" in out
+
+
+def test_score_weighted_summary_and_zero_weight_rows_kept(tmp_path, capsys):
+    import json
+
+    from statsmodels.stats.weightstats import DescrStatsW
+
+    weights = np.random.default_rng(17).uniform(0.5, 2.0, 50).round(3)
+    weights[:4] = 0
+    data, scales, frame = make_files(tmp_path, weights=weights, n=50)
+    code, out, _ = run(capsys, "score", data, "--scales", scales, "--format", "json")
+    assert code == 0
+    block = json.loads(out)["weighted"]["workload"]
+    score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
+    reference = DescrStatsW(score[4:], weights=weights[4:])  # statsmodels, computed live
+    assert block["mean"] == pytest.approx(reference.mean, rel=1e-12)
+    assert block["n"] == 50 and block["n_zero_weight"] == 4 and block["weighted"] is True
+    code, _, _ = run(capsys, "score", data, "--scales", scales, "--out", tmp_path / "scores.csv")
+    written = pd.read_csv(tmp_path / "scores.csv")
+    assert len(written) == 50 and written["workload"].notna().all()  # weight-0 rows stay in the scored file

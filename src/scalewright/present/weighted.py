@@ -122,3 +122,13 @@ def weighted_compare_table(result: Any) -> Table:
                  columns=("level", "n", "effective n", "weighted mean", "weighted sd"), rows=rows,
                  kinds={"level": "text", "n": "int"},
                  notes=(*notes, *(describe(n) for n in result.notes)))
+
+
+def weighted_scores_table(found: dict) -> Table:
+    """Weighted mean and sd of every scale score, with n and the effective n."""
+    rows = tuple((name, s.n, s.n_effective, s.mean, s.sd) for name, s in found.items())
+    first = next(iter(found.values()), None)
+    return Table(title="Weighted scores", key="scores_weighted",
+                 columns=("scale", "scored", "effective n", "weighted mean", "weighted sd"), rows=rows,
+                 kinds={"scale": "text", "scored": "int"},
+                 notes=(weights_line(first),) if first is not None else ())
