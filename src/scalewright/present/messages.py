@@ -296,6 +296,25 @@ MISSING: dict[str, str] = {
 
 # -- survey weights ------------------------------------------------------------------------------------------
 WEIGHTS: dict[str, str] = {
+    "weights-not-used": "The scale file names the weight column {weight_column}, but `{command}` does not use "
+                        "weights yet: its results are unweighted.",
+    "weights-approximate-inference": "Estimates are weighted by {weight_column}. Confidence intervals and tests use "
+                                     "Kish's effective sample size, which is approximate unless the weights are "
+                                     "the whole design; for strata or clusters use design-based survey software.",
+    "weights-zero": "{n_zero_weight} row(s) have weight 0 in {weight_column}: they stay in row-level outputs and "
+                    "are left out of every estimate.",
+    "weights-refused": "{count} row(s) have {kind} weight(s) in {weight_column}; read leniently, they are left out "
+                       "of every estimate.",
+    "weighted-quantiles": "Weighted quantiles take the smallest value whose cumulative share of the weight reaches "
+                          "the probability (as statsmodels DescrStatsW.quantile does); they can differ from the "
+                          "interpolated unweighted quantiles.",
+    "weighted-fit-kish": "The weighted test uses Kish's effective sample size n_eff = {n_effective} (design effect "
+                         "of the weights {design_effect}); it is approximate unless the weights are the whole design.",
+    "weighted-fit-impossible": "Fewer than two categories with weight to compare: no weighted test.",
+    "weighted-moments-undefined": "Weighted skewness and kurtosis need at least 3 rows with weight "
+                                  "whose values are not all the same (found {n} row(s)).",
+    "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
+                        "= {n} (design effect of the weights {design_effect}).",
 }
 
 # -- engine (streaming, Dask) --------------------------------------------------------------------------------
