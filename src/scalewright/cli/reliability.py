@@ -8,7 +8,6 @@ import click
 from ..analyses.reliability import analyse_reliability
 from .common import (
     by_option,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -16,10 +15,11 @@ from .common import (
     resolve_by,
     scales_option,
 )
+from .engine_route import dataset_argument, engine_options, load_summaries
 
 
 @click.command("reliability")
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
@@ -40,11 +40,13 @@ from .common import (
 @click.option("--excess-alpha", type=float, default=0.95, show_default=True,
               help="Flag scales with alpha above this (items may be near-duplicates).")
 @input_options
+@engine_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
                 seed: int | None, pairwise: bool, min_group: int, weak_item_r: float, redundant_r: float,
-                low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, fmt: str | None,
-                out: Path | None, decimals: int) -> None:
+                low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, engine: str,
+                scheduler: str | None, block_size: int | None, fmt: str | None, out: Path | None,
+                decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
     Per scale: alpha with its Feldt confidence interval, standardized alpha, omega total (one-factor
@@ -56,7 +58,14 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
 
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    from ..engine.plan import plan_for
+
+    needs_rows = "--bootstrap" if n_resamples else ("--exclude" if exclude is not None else None)
+    summarised = load_summaries(
+        data, scales, lambda spec: plan_for(spec, cross_products="pairwise" if pairwise else "listwise",
+                                            by=resolve_by(by, spec)),
+        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, needs_rows=needs_rows)
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec)
     if n_resamples and seed is None:
         import numpy as np
@@ -64,11 +73,20 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
         seed = int(np.random.SeedSequence().entropy % 2**32)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
-    reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
-                                  pairwise=pairwise, min_group=min_group, n_resamples=n_resamples, seed=seed,
-                                  thresholds=thresholds)
+    if summarised:
+        from ..analyses.summarised import reliability_from_summaries
+
+        reports = reliability_from_summaries(inputs.spec, summarised.summary, by=columns,
+                                             confidence_level=confidence_level, pairwise=pairwise,
+                                             min_group=min_group, thresholds=thresholds)
+    else:
+        reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
+                                      pairwise=pairwise, min_group=min_group, n_resamples=n_resamples, seed=seed,
+                                      thresholds=thresholds)
     body = {"scales": {name: report.to_dict() for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": "pairwise" if pairwise
                else "listwise", "bootstrap": n_resamples, "seed": seed, "min_group": min_group,
                "thresholds": thresholds.to_dict()}

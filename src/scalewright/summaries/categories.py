@@ -7,6 +7,20 @@ from dataclasses import dataclass, field
 import numpy as np
 
 
+def level_texts(values):
+    """Each value as the text that names its level (None when missing): numbers as
+    :func:`~scalewright.stats.subgroups.level_name` writes them (2.0 -> "2"), other values stripped."""
+    import pandas as pd
+
+    from ..stats.subgroups import level_name
+
+    if pd.api.types.is_numeric_dtype(values.dtype) and not pd.api.types.is_bool_dtype(values.dtype):
+        return values.map(lambda v: None if pd.isna(v) else level_name(v.item() if hasattr(v, "item") else v))
+    text = values.astype("string").str.strip()
+    present = (text.notna() & (text != "")).fillna(False).astype(bool)
+    return text.astype(object).where(present, None)
+
+
 @dataclass(frozen=True, eq=False)
 class CategoryCounts:
     """``counts[value]``: rows holding ``value`` (as read, stripped text); ``missing``: rows with none."""
@@ -20,8 +34,7 @@ class CategoryCounts:
         import pandas as pd
 
         series = values.to_pandas() if hasattr(values, "to_pandas") else pd.Series(values)
-        text = series.astype("string").str.strip()
-        text = text.mask(text == "")
+        text = level_texts(series)
         present = text.dropna()
         counted = present.value_counts(sort=False)
         return cls(counts={str(k): int(v) for k, v in counted.items()}, missing=int(len(text) - len(present)))

@@ -1,0 +1,107 @@
+"""The analyses of the summary commands from merged summaries (a file read in blocks, Dask partitions).
+
+Each function gives the same result objects as its whole-file counterpart in this package, from a
+:class:`~scalewright.summaries.Summary` made by :mod:`scalewright.engine.plan`: the counts are the same
+integers, so everything computed from them is identical.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+
+from ..summaries import Keyed, merge_all
+
+
+def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+    """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
+    the levels as read that make up each level's name (``01`` and ``1`` both name level ``1``).
+
+    Levels are ordered as :func:`~scalewright.stats.subgroups.level_order` orders them: the scale file's
+    order, numbers numerically, else natural text order.
+    """
+    from ..data import _is_number
+    from ..stats.subgroups import SubgroupSplit, level_name, natural_key
+
+    counts = summary["categories"][column]
+    keys = list(counts.counts)
+    if column in spec.group_levels:
+        order = [level for level in spec.group_levels[column] if counts.counts.get(level)]
+        members = {level: [level] for level in order}
+    elif keys and all(_is_number(key) for key in keys):
+        members = {}
+        for key in sorted(keys, key=float):
+            members.setdefault(level_name(float(key)), []).append(key)
+    else:
+        members = {key: [key] for key in sorted(keys, key=natural_key)}
+    sizes = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
+    # a level's rows are named by its size only (the rows themselves are not held): a view of zeros
+    levels = {name: np.broadcast_to(np.int64(0), (size,)) for name, size in sizes.items() if size >= min_group}
+    too_small = {name: size for name, size in sizes.items() if size < min_group}
+    split = SubgroupSplit(column=column, levels=levels, too_small=too_small, missing=counts.missing,
+                          min_size=min_group)
+    return split, members
+
+
+def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
+    """Per level name, the per-scale summaries of its rows (merged over the levels as read)."""
+    by_level = summary["by"][column]
+    return {name: merge_all([by_level[key] for key in raw]) for name, raw in members.items()}
+
+
+def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: float = 0.95, pairwise: bool = False,
+                                   thresholds: Any = None) -> Any:
+    """:func:`~scalewright.stats.reliability.scale_reliability` of one scale from its answer counts and
+    cross-products (the same statistics, notes and flags)."""
+    from ..stats.reliability import ReliabilityThresholds, item_descriptives_from_tally, reliability_from_cov
+
+    thresholds = thresholds or ReliabilityThresholds()
+    low, high = int(scale.response.min), int(scale.response.max)
+    reversed_mask = np.array([scale.is_reversed(item) for item in scale.items], dtype=bool)
+    stats = part["cross_products"].covariance(low=low, high=high, reversed_mask=reversed_mask)
+    answers = part["answers"]
+    descriptives = item_descriptives_from_tally(answers.tally, n_rows=answers.n_rows, low=low, high=high,
+                                                reversed_mask=reversed_mask)
+    notes: list[str] = []
+    if pairwise:
+        notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
+                     f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
+                     f"confidence interval uses the smallest count, {stats.n_used}")
+    elif stats.n_rows > stats.n_used:
+        notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
+                     f"every item and were set aside")
+    return reliability_from_cov(stats.cov, stats.n_used, item_names=tuple(scale.items),
+                                confidence_level=confidence_level, thresholds=thresholds,
+                                reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
+                                missing_handling="pairwise" if pairwise else "listwise", bootstrap=None, notes=notes)
+
+
+def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
+                               pairwise: bool = False, min_group: int = 10, thresholds: Any = None) -> dict[str, Any]:
+    """:func:`~scalewright.analyses.reliability.analyse_reliability` from merged summaries (no bootstrap:
+    it resamples rows)."""
+    from ..stats.reliability import GroupReliability, ScaleReliabilityReport, compare_alphas
+
+    options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds)
+    splits = []
+    for column in by:
+        split, members = subgroup_split(spec, summary, column, min_group=min_group)
+        splits.append((split, level_summaries(summary, column, {n: members[n] for n in split.levels})))
+    reports = {}
+    for name, scale in spec.scales.items():
+        overall = scale_reliability_from_summary(summary["scales"][name], scale, **options)
+        groups = []
+        for split, parts in splits:
+            levels = {level: scale_reliability_from_summary(parts[level][name], scale, **options)
+                      for level in split.levels}
+            notes = list(split.notes())
+            if len(levels) < 2:
+                notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "
+                             "no comparison of alphas")
+            groups.append(GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),
+                                           missing=split.missing, min_group=split.min_size,
+                                           comparisons=compare_alphas(levels) if len(levels) >= 2 else (),
+                                           notes=tuple(notes)))
+        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups))
+    return reports

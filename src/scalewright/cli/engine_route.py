@@ -1,0 +1,86 @@
+"""The engine options of the summary commands, and loading their inputs as merged summaries."""
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import click
+
+from .common import Inputs
+
+
+def engine_options(fn: Callable) -> Callable:
+    fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
+                      help="Bytes of CSV text per block when streaming (default 16 MiB).")(fn)
+    fn = click.option("--scheduler", default=None, metavar="ADDRESS",
+                      help="With --engine dask: the Dask scheduler (default: a local cluster).")(fn)
+    fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream", "dask"]), default="auto",
+                      show_default=True,
+                      help="memory: read the file whole; stream: read it in blocks with memory that does not grow "
+                           "with the rows; dask: summarise a Parquet dataset or CSV files on a Dask cluster; "
+                           "auto: stream files of 64 MiB or more.")(fn)
+    return fn
+
+
+def dataset_argument(fn: Callable) -> Callable:
+    """The data argument of commands that also take a dataset (a folder, a glob or a URL) under Dask."""
+    return click.argument("data", type=click.Path(path_type=Path))(fn)
+
+
+@dataclass(frozen=True)
+class Summarised:
+    """Inputs read as merged summaries: the ``Inputs`` a command emits with, the summary, the route taken."""
+
+    inputs: Inputs
+    summary: Any
+    engine: dict[str, Any]
+
+
+def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *, engine: str,
+                   scheduler: str | None, block_size: int | None, lenient: bool,
+                   needs_rows: str | None = None) -> Summarised | None:
+    """The inputs as merged summaries, or None when the command should read the file whole.
+
+    ``make_plan(spec)`` gives the :class:`~scalewright.engine.plan.SummaryPlan`. A file the streaming
+    route cannot read (see :class:`~scalewright.engine.blocks.CannotStream`) is left to the whole-file
+    route, which names any problem in it.
+    """
+    from ..engine.blocks import BLOCK_BYTES, CannotStream
+    from ..engine.choose import choose_route
+    from ..present.document import InputInfo
+    from ..spec import load_spec
+
+    route = choose_route(engine, data, needs_rows=needs_rows)
+    if route == "memory":
+        return None
+    spec = load_spec(scales)
+    plan = make_plan(spec)
+    if route == "dask":
+        from ..engine.dask_engine import dask_summary
+
+        summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient)
+        inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=str(data), data_sha256=info["data_sha256"],
+                                                                     scales=str(scales),
+                                                                     scales_sha256=InputInfo.from_paths(None, scales).scales_sha256),
+                        excluded=0, notes=tuple(outcome.notes()))
+        return Summarised(inputs=inputs, summary=summary,
+                          engine={"name": "dask", "scheduler": info["scheduler"], "partitions": info["partitions"]})
+    from concurrent.futures import ThreadPoolExecutor
+
+    from ..engine.stream import stream_summary
+
+    # the provenance digests read the file once more; hashing releases the interpreter lock, so it runs
+    # beside the blocks instead of after them
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        digests = pool.submit(InputInfo.from_paths, data, scales)
+        try:
+            summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size or BLOCK_BYTES)
+        except CannotStream as reason:
+            if engine == "stream":
+                click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
+            return None
+        info = digests.result()
+    inputs = Inputs(spec=spec, responses=outcome, info=info, excluded=0, notes=tuple(outcome.notes()))
+    return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"})
