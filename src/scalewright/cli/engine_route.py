@@ -47,7 +47,7 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
     route cannot read (see :class:`~scalewright.engine.blocks.CannotStream`) is left to the whole-file
     route, which names any problem in it.
     """
-    from ..engine.blocks import BLOCK_BYTES, CannotStream
+    from ..engine.blocks import CannotStream
     from ..engine.choose import choose_route
     from ..present.document import InputInfo
     from ..spec import load_spec
@@ -76,7 +76,7 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
     with ThreadPoolExecutor(max_workers=1) as pool:
         digests = pool.submit(InputInfo.from_paths, data, scales)
         try:
-            summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size or BLOCK_BYTES)
+            summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size)
         except CannotStream as reason:
             if engine == "stream":
                 click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)

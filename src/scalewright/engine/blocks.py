@@ -56,8 +56,8 @@ def streamable(path: Path) -> bool:
     return path.suffix.lower() in (".csv", ".txt", ".tsv", ".parquet")
 
 
-def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes: int = BLOCK_BYTES,
-                  batch_rows: int = BATCH_ROWS, source: Any = None) -> list[Callable[[], Iterator[Any]]]:
+def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes: int | None = None,
+                  batch_rows: int | None = None, source: Any = None) -> list[Callable[[], Iterator[Any]]]:
     """Ways to read the file as Arrow record batches, quickest first. ``columns`` are the non-item columns
     wanted (id, groups, tallied).
 
@@ -67,6 +67,8 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
     any fsspec URL); ``path`` still names it in messages. Raises :class:`CannotStream` for what only the
     whole-file reader can read.
     """
+    block_bytes = block_bytes or BLOCK_BYTES
+    batch_rows = batch_rows or BATCH_ROWS
     if not streamable(path):
         raise CannotStream(f"{path.suffix or 'no extension'} files are read whole")
     if any(spec.response_for(name).max - spec.response_for(name).min > 250 for name in spec.items):

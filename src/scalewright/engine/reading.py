@@ -58,8 +58,8 @@ class ReadingCounts:
             hashes = np.sort(np.concatenate(parts)) if len(parts) > 1 else parts[0]
         empty = ()
         if self.id_empty or other.id_empty:
-            rows = [e[0] for e in (*self.id_empty, *other.id_empty)]
-            empty = ((min(r[0] for r in rows), sum(r[1] for r in rows)),)
+            found = [*self.id_empty, *other.id_empty]  # (row, count) pairs
+            empty = ((min(row for row, _ in found), sum(count for _, count in found)),)
         unknown = dict(self.unknown_levels)
         for column, (row, value, count) in other.unknown_levels.items():
             if column in unknown:

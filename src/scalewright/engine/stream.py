@@ -11,13 +11,13 @@ from typing import Any
 from ..concurrency import worker_count
 from ..data import first_row_number
 from ..summaries import Summary
-from .blocks import BATCH_ROWS, BLOCK_BYTES, CannotStream, batch_sources, convert_batch, retry_errors
+from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
 from .plan import SummaryPlan, summarise_block
 from .reading import ReadingOutcome, check_reading
 
 
-def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_bytes: int = BLOCK_BYTES,
-                   batch_rows: int = BATCH_ROWS, source: Any = None, first_row: int | None = None) -> Summary:
+def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_bytes: int | None = None,
+                   batch_rows: int | None = None, source: Any = None, first_row: int | None = None) -> Summary:
     """The merged summary of every block of the file (reading not yet checked: see :func:`stream_summary`).
 
     ``first_row`` is the row number of the file's first data row (default: 2 below a header, 1 in Parquet).
@@ -61,7 +61,7 @@ def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int) -
 
 
 def stream_summary(path: str | Path, spec: Any, plan: SummaryPlan, *, lenient: bool = False,
-                   block_bytes: int = BLOCK_BYTES, batch_rows: int = BATCH_ROWS) -> tuple[Summary, ReadingOutcome]:
+                   block_bytes: int | None = None, batch_rows: int | None = None) -> tuple[Summary, ReadingOutcome]:
     """The summary of the file and its checked reading (errors raised as the whole-file reader raises them)."""
     summary = summarise_file(path, spec, plan, block_bytes=block_bytes, batch_rows=batch_rows)
     return summary, checked(str(path), summary, spec, lenient=lenient)
