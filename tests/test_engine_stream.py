@@ -57,12 +57,12 @@ def test_many_blocks_are_read(survey, monkeypatch):
     seen = []
     original = stream._summarise_batches
 
-    def counting(batches, *args):
+    def counting(batches, *args, **options):
         def counted():
             for batch in batches:
                 seen.append(batch.num_rows)
                 yield batch
-        return original(counted(), *args)
+        return original(counted(), *args, **options)
 
     monkeypatch.setattr(stream, "_summarise_batches", counting)
     both_routes("reliability", *survey)

@@ -8,10 +8,13 @@ from typing import Any
 
 import click
 
+from ..errors import UsageError
 from .common import Inputs
 
 
 def engine_options(fn: Callable) -> Callable:
+    fn = click.option("--workers", type=click.IntRange(min=1), default=None, metavar="N",
+                      help="With --engine dask and no --scheduler: workers of the local cluster (default: the cores).")(fn)
     fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
                       help="Bytes of CSV text per block when streaming (default 16 MiB).")(fn)
     fn = click.option("--scheduler", default=None, metavar="ADDRESS",
@@ -39,7 +42,7 @@ class Summarised:
 
 
 def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *, engine: str,
-                   scheduler: str | None, block_size: int | None, lenient: bool,
+                   scheduler: str | None, block_size: int | None, lenient: bool, workers: int | None = None,
                    needs_rows: str | None = None) -> Summarised | None:
     """The inputs as merged summaries, or None when the command should read the file whole.
 
@@ -52,6 +55,8 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
     from ..present.document import InputInfo
     from ..spec import load_spec
 
+    if engine != "dask" and (scheduler is not None or workers is not None):
+        raise UsageError("--scheduler and --workers go with --engine dask")
     route = choose_route(engine, data, needs_rows=needs_rows)
     if route == "memory":
         return None
@@ -60,7 +65,8 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
     if route == "dask":
         from ..engine.dask_engine import dask_summary
 
-        summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient)
+        summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient,
+                                              workers=workers)
         inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=str(data), data_sha256=info["data_sha256"],
                                                                      scales=str(scales),
                                                                      scales_sha256=InputInfo.from_paths(None, scales).scales_sha256),

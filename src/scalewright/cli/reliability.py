@@ -45,7 +45,7 @@ from .engine_route import dataset_argument, engine_options, load_summaries
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
                 seed: int | None, pairwise: bool, min_group: int, weak_item_r: float, redundant_r: float,
                 low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, engine: str,
-                scheduler: str | None, block_size: int | None, fmt: str | None, out: Path | None,
+                scheduler: str | None, workers: int | None, block_size: int | None, fmt: str | None, out: Path | None,
                 decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
@@ -64,7 +64,8 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     summarised = load_summaries(
         data, scales, lambda spec: plan_for(spec, cross_products="pairwise" if pairwise else "listwise",
                                             by=resolve_by(by, spec)),
-        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, needs_rows=needs_rows)
+        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
+        needs_rows=needs_rows)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec)
     if n_resamples and seed is None:

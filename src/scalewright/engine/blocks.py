@@ -153,8 +153,14 @@ def _parquet_batches(path: Path, spec: Any, columns: Sequence[str], *, batch_row
 # ---------------------------------------------------------------------------------------------------- conversion
 
 
-def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: int) -> Block:
-    """One Arrow record batch as a :class:`Block` (item codes, wanted columns, reading counts)."""
+def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: int, file: str = "",
+                  part: int = 0) -> Block:
+    """One Arrow record batch as a :class:`Block` (item codes, wanted columns, reading counts).
+
+    ``first_row`` is the row number of the batch's first row in ``file``, the ``part``-th file of a dataset
+    (0 for a single file): what reading finds is placed by (part, row, file), see
+    :class:`~scalewright.engine.reading.ReadingCounts`.
+    """
     import pyarrow as pa
 
     by_name = {name.strip(): position for position, name in enumerate(batch.schema.names)}
@@ -186,7 +192,8 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             refused[name] = int(bad.size)
             shown = bad[:SHOW_FIRST]
             as_read = raw.iloc[shown] if isinstance(raw, pd.Series) else raw[shown]
-            refused_first[name] = tuple((first_row + int(row), _plain(value)) for row, value in zip(shown, as_read))
+            refused_first[name] = tuple(((part, first_row + int(row), file), _plain(value))
+                                        for row, value in zip(shown, as_read))
     if as_floats:
         float_answers = ItemAnswers.from_values(values[:, as_floats], [spec.response_for(items[j]).min for j in as_floats],
                                                 [spec.response_for(items[j]).max for j in as_floats])
@@ -199,9 +206,9 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     for name in dict.fromkeys(columns):
         series = batch.column(by_name[name]).to_pandas()
         if name == spec.id_column:
-            id_hashes, id_empty = _id_check(series, first_row)
+            id_hashes, id_empty = _id_check(series, (part, first_row, file))
         if name in spec.group_levels:
-            series, found = _known_levels(series, spec.group_levels[name], first_row)
+            series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file))
             if found:
                 unknown[name] = found
         wanted[name] = series
@@ -216,19 +223,24 @@ def _plain(value: Any) -> Any:
     return value.item() if isinstance(value, np.generic) else value
 
 
-def _id_check(raw: pd.Series, first_row: int) -> tuple[np.ndarray, tuple]:
+def _at(start: tuple, offset: int) -> tuple:
+    """The place ``offset`` rows below ``start`` (part, row, file)."""
+    return (start[0], start[1] + offset, start[2])
+
+
+def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
     empty = raw.isna().to_numpy().copy()
     if raw.dtype == object or pd.api.types.is_string_dtype(raw.dtype):
         empty |= (raw.astype("string").str.strip() == "").fillna(True).to_numpy()
     found = ()
     if empty.any():
-        found = ((first_row + int(np.flatnonzero(empty)[0]), int(empty.sum())),)
+        found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),)
     ids = _ids_as_text(raw[~empty]) if not empty.all() else pd.Series([], dtype=object)
     hashes = pd.util.hash_pandas_object(ids.astype(str), index=False).to_numpy()
     return np.sort(hashes), found
 
 
-def _known_levels(values: pd.Series, order: Sequence[str], first_row: int) -> tuple[pd.Series, tuple]:
+def _known_levels(values: pd.Series, order: Sequence[str], start: tuple) -> tuple[pd.Series, tuple]:
     """The group column with levels the scale file does not list made missing, and the first such one."""
     text = values.astype("string").str.strip()
     text = text.mask(text == "")
@@ -236,7 +248,7 @@ def _known_levels(values: pd.Series, order: Sequence[str], first_row: int) -> tu
     found = ()
     if unknown.any():
         first = int(np.flatnonzero(unknown)[0])
-        found = (first_row + first, str(text.iloc[first]), int(unknown.sum()))
+        found = (_at(start, first), str(text.iloc[first]), int(unknown.sum()))
     return text.where(~unknown), found
 
 

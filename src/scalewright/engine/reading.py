@@ -24,7 +24,7 @@ def _add(a: dict[str, int], b: dict[str, int]) -> dict[str, int]:
 
 
 def _first(a: tuple, b: tuple, count: int) -> tuple:
-    """The ``count`` entries of both with the smallest row numbers (entries are (row, ...) tuples)."""
+    """The ``count`` entries of both that come first (entries are (place, ...) tuples)."""
     return tuple(heapq.nsmallest(count, (*a, *b), key=lambda entry: entry[0]))
 
 
@@ -32,8 +32,10 @@ def _first(a: tuple, b: tuple, count: int) -> tuple:
 class ReadingCounts:
     """Rows read and, per item column, "no answer" codes, blanks, answer texts and refused values.
 
+    Every finding is placed by ``(part, row, file)``: the file's position in a dataset (0 for one file), the
+    row number in it, and its name; places order by part, then row.
     ``refused_first[column]`` holds the first :data:`~scalewright.data.SHOW_FIRST` refused cells of that
-    column by row: (row number, value as read). ``id_hashes`` are the sorted 64-bit hashes of the ids
+    column: (place, value as read). ``id_hashes`` are the sorted 64-bit hashes of the ids
     (8 bytes a row: the one part that grows with the rows, for the duplicate check); ``id_empty`` the
     first row without an id and how many; ``unknown_levels[column]`` the first row whose group value the
     scale file does not list, with the value, and how many.
@@ -46,8 +48,8 @@ class ReadingCounts:
     refused: dict[str, int] = field(default_factory=dict)
     refused_first: dict[str, tuple] = field(default_factory=dict)
     id_hashes: np.ndarray | None = None
-    id_empty: tuple = ()          # ((row, count),) or ()
-    unknown_levels: dict[str, tuple] = field(default_factory=dict)   # column -> (row, value, count)
+    id_empty: tuple = ()          # ((place, count),) or ()
+    unknown_levels: dict[str, tuple] = field(default_factory=dict)   # column -> (place, value, count)
 
     def merge(self, other: "ReadingCounts") -> "ReadingCounts":
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
@@ -58,16 +60,16 @@ class ReadingCounts:
             hashes = np.sort(np.concatenate(parts)) if len(parts) > 1 else parts[0]
         empty = ()
         if self.id_empty or other.id_empty:
-            found = [*self.id_empty, *other.id_empty]  # (row, count) pairs
-            empty = ((min(row for row, _ in found), sum(count for _, count in found)),)
+            found = [*self.id_empty, *other.id_empty]  # (place, count) pairs
+            empty = ((min(place for place, _ in found), sum(count for _, count in found)),)
         unknown = dict(self.unknown_levels)
-        for column, (row, value, count) in other.unknown_levels.items():
+        for column, (place, value, count) in other.unknown_levels.items():
             if column in unknown:
                 mine = unknown[column]
-                first = mine if mine[0] <= row else (row, value, 0)
+                first = mine if mine[0] <= place else (place, value, 0)
                 unknown[column] = (first[0], first[1], mine[2] + count)
             else:
-                unknown[column] = (row, value, count)
+                unknown[column] = (place, value, count)
         return ReadingCounts(rows=self.rows + other.rows, missing_codes=_add(self.missing_codes, other.missing_codes),
                              blanks=_add(self.blanks, other.blanks), texts=_add(self.texts, other.texts),
                              refused=_add(self.refused, other.refused),
@@ -135,16 +137,16 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
     from ..data import _describe_bad
 
     if counts.id_empty:
-        row, count = counts.id_empty[0]
-        raise DataError(Problem(file=path, where=f"row {row}, column {spec.id_column}",
+        (_, row, file), count = counts.id_empty[0]
+        raise DataError(Problem(file=file or path, where=f"row {row}, column {spec.id_column}",
                                 message=f"the id is empty ({count} row(s) without an id)"))
-    sample: list[tuple[int, Problem]] = []
+    sample: list[tuple[tuple, Problem]] = []
     for name in spec.items:  # the whole-file reader takes the first cells column by column, then sorts by row
         if len(sample) >= SHOW_FIRST:
             break
-        for row, value in counts.refused_first.get(name, ())[: SHOW_FIRST - len(sample)]:
+        for place, value in counts.refused_first.get(name, ())[: SHOW_FIRST - len(sample)]:
             shown = describe_value(value, blanks_in_column=bool(counts.blanks.get(name)))
-            sample.append((row, Problem(file=path, where=f"row {row}, column {name}",
+            sample.append((place, Problem(file=place[2] or path, where=f"row {place[1]}, column {name}",
                                         message=_describe_bad(shown, spec.response_for(name)))))
     total = sum(counts.refused.values())
     if total and not lenient:
@@ -156,9 +158,9 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
     if not lenient:
         for column in spec.group_levels:
             if column in counts.unknown_levels:
-                row, value, count = counts.unknown_levels[column]
+                (_, row, file), value, count = counts.unknown_levels[column]
                 order = spec.group_levels[column]
-                raise DataError(Problem(file=path, where=f"row {row}, column {column}",
+                raise DataError(Problem(file=file or path, where=f"row {row}, column {column}",
                                         message=f"{value!r} is not one of the levels the scale file lists for "
                                                 f"{column} ({', '.join(order)}); {count} such value(s)"))
     return ReadingOutcome(path=path, counts=counts, item_names=tuple(spec.items),

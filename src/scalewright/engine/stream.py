@@ -17,10 +17,12 @@ from .reading import ReadingOutcome, check_reading
 
 
 def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_bytes: int | None = None,
-                   batch_rows: int | None = None, source: Any = None, first_row: int | None = None) -> Summary:
+                   batch_rows: int | None = None, source: Any = None, first_row: int | None = None,
+                   file: str = "", part: int = 0) -> Summary:
     """The merged summary of every block of the file (reading not yet checked: see :func:`stream_summary`).
 
-    ``first_row`` is the row number of the file's first data row (default: 2 below a header, 1 in Parquet).
+    ``first_row`` is the row number of the file's first data row (default: 2 below a header, 1 in Parquet);
+    ``file`` and ``part`` name the file and its position when it is one partition of a dataset.
     Raises :class:`~scalewright.engine.blocks.CannotStream` for a file only the whole-file reader reads.
     """
     path = Path(path)
@@ -28,20 +30,21 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
     start = first_row_number(path) if first_row is None else first_row
     for number, batches in enumerate(ways, start=1):
         try:
-            return _summarise_batches(batches(), spec, plan, start)
+            return _summarise_batches(batches(), spec, plan, start, file=file, part=part)
         except retry_errors() as error:
             if number == len(ways):
                 raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
     raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
 
-def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int) -> Summary:
+def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *, file: str = "",
+                       part: int = 0) -> Summary:
     workers = worker_count()
     total: Summary | None = None
     row = start
 
     def summarise(batch: Any, first: int) -> Summary:
-        return summarise_block(convert_batch(batch, spec, plan.columns, first_row=first), plan)
+        return summarise_block(convert_batch(batch, spec, plan.columns, first_row=first, file=file, part=part), plan)
 
     with ThreadPoolExecutor(max_workers=workers) as pool:
         pending: deque = deque()
