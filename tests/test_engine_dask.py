@@ -9,7 +9,7 @@ from pathlib import Path
 
 import pytest
 
-from engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 from scalewright.cli import main
 
 pytest.importorskip("distributed")

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 from scalewright.cli import main
 from scalewright.engine import blocks
 from scalewright.engine.choose import choose_route
