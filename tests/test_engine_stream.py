@@ -159,3 +159,26 @@ def test_route_choice(tmp_path, monkeypatch):
     assert choose_route("memory", data) == "memory"
     with pytest.raises(UsageError, match="--bootstrap"):
         choose_route("stream", data, needs_rows="--bootstrap")
+
+
+@pytest.mark.parametrize("options", [("--columns", "shift,site", "--items"), ("--columns", "site,wl2", "--min-cell", "1"),
+                                     ("--items", "--order", "shift=night,day,late,weekend", "--columns", "shift")])
+def test_tally_streamed_equals_whole_file(survey, options):
+    whole, streamed = both_routes("tally", *survey, *options)
+    assert streamed == whole
+
+
+def test_tally_without_a_scale_file_and_numeric_columns(tmp_path):
+    rows = [[f"{i}", ["1", "2", "10", "2.5", ""][i % 5], ["b", "a", " a ", ""][i % 4]] for i in range(900)]
+    data = write_csv(tmp_path / "plain.csv", rows, header=["code", "grade", "letter"])
+    results = []
+    for engine in ("memory", "stream"):
+        code, out, err = run("tally", str(data), "--columns", "grade,letter", "--format", "json", "--engine", engine,
+                             "--block-size", SMALL_BLOCK)
+        assert code == 0, err
+        document = json.loads(out)
+        document.pop("engine", None)
+        results.append(document)
+    assert results[0] == results[1]
+    grades = [row["category"] for row in results[1]["columns"]["grade"]["categories"]]
+    assert grades == ["1", "2", "2.5", "10"]  # numbers in numeric order

@@ -14,27 +14,35 @@ import numpy as np
 from ..summaries import Keyed, merge_all
 
 
-def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
-    """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
-    the levels as read that make up each level's name (``01`` and ``1`` both name level ``1``).
+def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
+    """The levels of a counted column in their natural order, each with the values as read that name it
+    (``01`` and ``1`` both name level ``1``), and whether the column is numeric.
 
-    Levels are ordered as :func:`~scalewright.stats.subgroups.level_order` orders them: the scale file's
-    order, numbers numerically, else natural text order.
+    The order is :func:`~scalewright.stats.subgroups.level_order`'s: the scale file's order for a group it
+    lists with its levels, numbers numerically (a column of numbers only, as the parser would type it),
+    else natural text order.
     """
     from ..data import _is_number
-    from ..stats.subgroups import SubgroupSplit, level_name, natural_key
+    from ..stats.subgroups import level_name, natural_key
 
-    counts = summary["categories"][column]
     keys = list(counts.counts)
-    if column in spec.group_levels:
-        order = [level for level in spec.group_levels[column] if counts.counts.get(level)]
-        members = {level: [level] for level in order}
-    elif keys and all(_is_number(key) for key in keys):
-        members = {}
+    if spec is not None and column in getattr(spec, "group_levels", {}):
+        return {level: [level] for level in spec.group_levels[column] if counts.counts.get(level)}, False
+    if all(_is_number(key) for key in keys):
+        members: dict[str, list[str]] = {}
         for key in sorted(keys, key=float):
             members.setdefault(level_name(float(key)), []).append(key)
-    else:
-        members = {key: [key] for key in sorted(keys, key=natural_key)}
+        return members, True
+    return {key: [key] for key in sorted(keys, key=natural_key)}, False
+
+
+def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+    """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
+    the levels as read that make up each level (see :func:`category_levels`)."""
+    from ..stats.subgroups import SubgroupSplit
+
+    counts = summary["categories"][column]
+    members, _ = category_levels(spec, counts, column)
     sizes = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
     # a level's rows are named by its size only (the rows themselves are not held): a view of zeros
     levels = {name: np.broadcast_to(np.int64(0), (size,)) for name, size in sizes.items() if size >= min_group}
@@ -42,6 +50,36 @@ def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> t
     split = SubgroupSplit(column=column, levels=levels, too_small=too_small, missing=counts.missing,
                           min_size=min_group)
     return split, members
+
+
+def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | None = None,
+                    min_cell: int = 5) -> Any:
+    """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
+    from ..stats.tally import tally_from_counts
+
+    counts = summary["categories"][column]
+    members, numeric = category_levels(spec, counts, column)
+    listed = spec is not None and column in getattr(spec, "group_levels", {})
+    merged = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
+    return tally_from_counts(merged, n_total=counts.n, n_missing=counts.missing, natural=list(members), order=order,
+                             ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
+
+
+def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
+                  min_cell: int = 5) -> Any:
+    """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
+    from ..stats.subgroups import level_name
+    from ..stats.tally import tally_from_counts
+
+    scale_name, position = next((name, scale.items.index(item)) for name, scale in spec.scales.items()
+                                if item in scale.items)
+    answers = summary["scales"][scale_name]["answers"]
+    low = spec.response_for(item).min
+    counts = {level_name(low + code): int(n) for code, n in enumerate(answers.tally[position]) if n}
+    answered = int(answers.tally[position].sum())
+    return tally_from_counts(counts, n_total=answers.n_rows, n_missing=answers.n_rows - answered,
+                             natural=list(counts), order=order, labels=labels, ordered=True, min_cell=min_cell,
+                             column=item)
 
 
 def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:

@@ -41,7 +41,14 @@ class Summarised:
     engine: dict[str, Any]
 
 
-def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *, engine: str,
+def _without_scales() -> Any:
+    """What the block reader needs of a spec when no scale file is given: no items, no id, no groups."""
+    from types import SimpleNamespace
+
+    return SimpleNamespace(items=(), id_column=None, groups=(), group_levels={}, scales={}, path=None)
+
+
+def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], Any], *, engine: str,
                    scheduler: str | None, block_size: int | None, lenient: bool, workers: int | None = None,
                    needs_rows: str | None = None) -> Summarised | None:
     """The inputs as merged summaries, or None when the command should read the file whole.
@@ -60,9 +67,11 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
     route = choose_route(engine, data, needs_rows=needs_rows)
     if route == "memory":
         return None
-    spec = load_spec(scales)
+    spec = load_spec(scales) if scales is not None else _without_scales()
     plan = make_plan(spec)
     if route == "dask":
+        if scales is None:
+            raise UsageError("--engine dask needs the scale file: give --scales FILE")
         from ..engine.dask_engine import dask_summary
 
         summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient,
@@ -88,5 +97,6 @@ def load_summaries(data: Path, scales: Path, make_plan: Callable[[Any], Any], *,
                 click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
             return None
         info = digests.result()
-    inputs = Inputs(spec=spec, responses=outcome, info=info, excluded=0, notes=tuple(outcome.notes()))
+    inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
+                    notes=tuple(outcome.notes()))
     return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"})

@@ -8,12 +8,12 @@ import click
 from ..errors import UsageError
 from .common import (
     Inputs,
-    data_argument,
     emit,
     input_options,
     load_inputs,
     output_options,
 )
+from .engine_route import dataset_argument, engine_options, load_summaries
 
 
 def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dict[str, str]:
@@ -40,7 +40,7 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
 
 
 @click.command("tally")
-@data_argument
+@dataset_argument
 @click.option("--scales", "-s", "scales", type=click.Path(dir_okay=False, path_type=Path),
               help="Scale file (YAML); needed for --items and to use the answer labels of items.")
 @click.option("--columns", "-c", "columns", default="", metavar="A,B",
@@ -57,23 +57,42 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
 @click.option("--percent", is_flag=True, help="Bar charts of valid percentages instead of counts.")
 @click.option("--pie", is_flag=True, help="Pie charts instead of bar charts (refused above 5 slices).")
 @input_options
+@engine_options
 @output_options
 def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tuple[str, ...],
           expected: tuple[str, ...], min_cell: int, figures: Path | None, percent: bool, pie: bool, lenient: bool,
-          exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+          exclude: Path | None, engine: str, scheduler: str | None, workers: int | None, block_size: int | None,
+          fmt: str | None, out: Path | None, decimals: int) -> None:
     """Count and percentage tables of categorical columns, with missing answers as their own row.
 
     Ordered categories keep their order (the scale file's answer labels for items, or --order);
     cumulative percentages are shown for them. --expected checks the sample against reference
     proportions (e.g. a workforce census) with a chi-square test, residuals and the effect size w.
     """
+    from ..analyses.summarised import tally_of_column, tally_of_item
+    from ..engine.plan import plan_for
     from ..expected_file import read_expected
     from ..present.tally import tally_record, tally_tables
-    from ..stats.tally import answer_distribution, goodness_of_fit
+    from ..stats.tally import AnswerDistribution, answer_distribution, goodness_of_fit
     from ..stats.tally import tally as count
 
     names = [c.strip() for c in columns.split(",") if c.strip()]
-    if scales is not None:
+    if items and scales is None:
+        raise UsageError("--items needs the scale file: give --scales FILE")
+    if exclude is not None and scales is None:
+        raise UsageError("--exclude needs the scale file (it names the id column): give --scales FILE")
+    if not names and not items:
+        raise UsageError("nothing to tally: give --columns A,B or --items")
+    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None,
+                                                                    categories=tuple(names)),
+                                engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+    summary = summarised.summary if summarised else None
+    if summarised:
+        inputs = summarised.inputs
+        spec, responses = inputs.spec, None
+        column_of = None
+    elif scales is not None:
         inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
         spec, responses = inputs.spec, inputs.responses
         column_of = responses.column
@@ -107,7 +126,12 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             labels = {level: response.label(level) for level in response.levels}
         if name in order_of:
             order = order_of[name]
-        result = count(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
+        if summary is None:
+            result = count(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
+        elif is_item:
+            result = tally_of_item(spec, summary, name, order=order, labels=labels, min_cell=min_cell)
+        else:
+            result = tally_of_column(spec, summary, name, order=order, min_cell=min_cell)
         tallies.append(result)
         fit = None
         if name in expected_of:
@@ -115,13 +139,22 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             fit = goodness_of_fit(result, reference.proportions, source=reference.path, rows=reference.lines)
         fits.append(fit)
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
+    if summarised:
+        body["engine"] = summarised.engine
     distributions = {}
     if items and spec is not None:
         for scale_name, scale in spec.scales.items():
             response = scale.response
-            distributions[scale_name] = answer_distribution(
-                responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
-                item_names=scale.items, min_cell=min_cell)
+            if summary is None:
+                distributions[scale_name] = answer_distribution(
+                    responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
+                    item_names=scale.items, min_cell=min_cell)
+                continue
+            labels = {v: response.label(v) for v in response.levels}
+            distributions[scale_name] = AnswerDistribution(
+                items=tuple(tally_of_item(spec, summary, item, order=list(response.levels), labels=labels,
+                                          min_cell=min_cell) for item in scale.items),
+                levels=tuple(str(v) for v in response.levels), labels=tuple(labels[v] for v in response.levels))
     if figures is not None:
         _write_figures(figures, [t for t in tallies if t.column in asked], distributions, percent=percent, pie=pie,
                        inputs=[p for p in (data, scales) if p is not None])

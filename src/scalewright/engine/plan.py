@@ -56,6 +56,7 @@ def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: boo
              by: tuple[str, ...] = (), categories: tuple[str, ...] = ()) -> SummaryPlan:
     """The plan of every scale of ``spec``."""
     index = {name: position for position, name in enumerate(spec.items)}
+    categories = tuple(name for name in categories if name not in index)  # items are counted per scale
     scales = tuple(ScalePlan(name=name, positions=tuple(index[item] for item in scale.items),
                              low=int(scale.response.min), high=int(scale.response.max),
                              reversed_mask=tuple(scale.is_reversed(item) for item in scale.items),
