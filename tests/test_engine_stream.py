@@ -182,3 +182,25 @@ def test_tally_without_a_scale_file_and_numeric_columns(tmp_path):
     assert results[0] == results[1]
     grades = [row["category"] for row in results[1]["columns"]["grade"]["categories"]]
     assert grades == ["1", "2", "2.5", "10"]  # numbers in numeric order
+
+
+def assert_same_numbers(streamed, whole, path="$"):
+    """Equal structure and texts, counts exactly; other numbers to 1e-12 (sums taken in another order)."""
+    if isinstance(whole, dict):
+        assert isinstance(streamed, dict) and list(streamed) == list(whole), path
+        for key in whole:
+            assert_same_numbers(streamed[key], whole[key], f"{path}.{key}")
+    elif isinstance(whole, list):
+        assert isinstance(streamed, list) and len(streamed) == len(whole), path
+        for index, (a, b) in enumerate(zip(streamed, whole)):
+            assert_same_numbers(a, b, f"{path}[{index}]")
+    elif isinstance(whole, float) and not isinstance(whole, bool):
+        assert streamed == pytest.approx(whole, rel=1e-12, abs=1e-12), path
+    else:
+        assert streamed == whole, path
+
+
+@pytest.mark.parametrize("options", [(), ("--by", "shift", "--items"), ("--by", "site", "--quantile-method", "hazen")])
+def test_shape_streamed_equals_whole_file(survey, options):
+    whole, streamed = both_routes("shape", *survey, *options)
+    assert_same_numbers(streamed, whole)

@@ -143,3 +143,95 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
                                            notes=tuple(notes)))
         reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups))
     return reports
+
+
+def _counted_values(values: np.ndarray, counts: np.ndarray, n_missing: int) -> np.ndarray:
+    """The scores in ascending order, then a NaN per row without one (what the shape statistics take).
+
+    The one place the shape route holds one number per row: the dip test needs the jittered sample.
+    """
+    out = np.empty(int(counts.sum()) + n_missing)
+    out[: out.size - n_missing] = np.repeat(values, counts)
+    out[out.size - n_missing:] = np.nan
+    return out
+
+
+def _score_sample(part: Any, *, scored_only: bool = False) -> Any:
+    counts = part["scores"]
+    if scored_only:
+        return counts.n_rows - counts.n_missing
+    values, tallies = counts.values_and_counts()
+    return _counted_values(values, tallies, counts.n_missing), counts.n_rows - counts.n_missing
+
+
+def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
+    answers = part["answers"]
+    tallies = answers.tally[position]
+    answered = int(tallies.sum())
+    if scored_only:
+        return answered
+    return _counted_values(low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered), answered
+
+
+def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), items: bool = False,
+                         percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
+                         min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
+    """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
+    from ..scoring import score_range
+    from ..stats.score_grid import attainable_scores, score_resolution
+    from ..stats.shape import ShapeReport, SubgroupShapes, describe_scores
+    from ..stats.subgroups import SubgroupSplit
+
+    level_parts = {}
+    for column in by:
+        members, _ = category_levels(spec, summary["categories"][column], column)
+        level_parts[column] = level_summaries(summary, column, members)
+
+    def report(name: str, title: str, kind: str, sample, x_label: str, **grid) -> ShapeReport:
+        """``sample(parts)`` gives (the scores with a NaN per unscored row, the scored count) of a Keyed."""
+        options = dict(percentiles=percentiles, quantile_method=quantile_method, seed=seed, **grid)
+        overall_values, overall_scored = sample(summary["scales"])
+        overall = describe_scores(overall_values, **options)
+        unscored = overall_values.size - overall_scored
+        del overall_values  # one sample held at a time
+        groups = []
+        for column, parts in level_parts.items():
+            sizes = {level: sample(part, scored_only=True) for level, part in parts.items()}
+            sizes = {level: size for level, size in sizes.items() if size}
+            # a level is described on its scored rows only (the scores come first, the NaNs after them)
+            levels = {level: describe_scores(sample(parts[level])[0][:size], **options)
+                      for level, size in sizes.items() if size >= min_group}
+            split = SubgroupSplit(column=column, levels={}, too_small={k: v for k, v in sizes.items() if v < min_group},
+                                  missing=overall_scored - sum(sizes.values()), min_size=min_group)
+            notes = list(split.notes())
+            if unscored:
+                notes.append(f"{unscored} respondent(s) without a score left out of the {column} subgroups")
+            groups.append(SubgroupShapes(column=column, levels=levels, too_small=dict(split.too_small),
+                                         missing=split.missing, min_group=min_group, notes=tuple(notes)))
+        return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=tuple(groups), x_label=x_label)
+
+    scales: dict[str, Any] = {}
+    for name, scale in spec.scales.items():
+        fmt = scale.response
+        low, high = score_range(scale)
+        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
+        word = "mean" if scale.score == "mean" else "prorated sum"
+        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
+        scales[name] = report(name, scale.title, "scale", lambda parts, name=name, **only: _score_sample(parts[name], **only),
+                              x_label, attainable=grid, low=low, high=high,
+                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
+                              answer_levels=len(fmt.levels))
+    item_reports: dict[str, Any] = {}
+    if items:
+        for item in spec.items:
+            fmt = spec.response_for(item)
+            wording = spec.wording_for(item)
+            title = f"{item}: {wording}" if wording else item
+            owner, position = next((n, s.items.index(item)) for n, s in spec.scales.items() if item in s.items)
+            item_reports[item] = report(item, title, "item",
+                                        lambda parts, owner=owner, position=position, low=fmt.min, **only:
+                                        _item_sample(parts[owner], position, low, **only),
+                                        f"answer to {item} (as given, {fmt.min} to {fmt.max})",
+                                        attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
+                                        answer_levels=len(fmt.levels))
+    return {"scales": scales, "items": item_reports}

@@ -88,7 +88,9 @@ def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = 0) -
     if x.size < 4 or np.ptp(x) == 0:
         return DipResult(dip=math.nan, p=math.nan, jitter_width=resolution)
     if resolution > 0:
-        x = x + np.random.default_rng(seed).uniform(-resolution / 2, resolution / 2, size=x.size)
+        # jittered in sorted order, so the result depends on the scores and not on the order of the rows:
+        # the same from a file read whole, from its blocks' score counts or from Dask partitions
+        x = np.sort(x) + np.random.default_rng(seed).uniform(-resolution / 2, resolution / 2, size=x.size)
     dip, p = diptest.diptest(x)
     return DipResult(dip=float(dip), p=float(p), jitter_width=resolution)
 
