@@ -204,3 +204,11 @@ def assert_same_numbers(streamed, whole, path="$"):
 def test_shape_streamed_equals_whole_file(survey, options):
     whole, streamed = both_routes("shape", *survey, *options)
     assert_same_numbers(streamed, whole)
+
+
+@pytest.mark.parametrize("options", [(), ("--factors", "scales", "--method", "ml")])
+def test_structure_streamed_equals_whole_file(survey, options):
+    whole, streamed = both_routes("structure", *survey, *options)
+    # the correlations come from exact cross-products instead of numpy.corrcoef of floats: equal to
+    # rounding, and the factor fits started from them converge to the same solution
+    assert_same_numbers(streamed, whole)

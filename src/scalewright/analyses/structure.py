@@ -53,6 +53,15 @@ def analyse_structure_of_file(spec: Any, responses: Any, **options: Any) -> Any:
 
     from ..stats.structure import analyse_structure
 
+    codes = responses.codes(spec.items)
+    if codes is not None:
+        # whole answer levels: the correlations from exact integer cross-products of the codes, as the
+        # streaming and Dask routes compute them, so every route gives the same structure
+        from ..summaries import ListwiseCrossProducts
+        from .summarised import structure_from_cross_products
+
+        span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
+        return structure_from_cross_products(spec, ListwiseCrossProducts.from_codes(codes, span=span), **options)
     joint = joint_keyed_items(responses, spec)
     result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
                                scale_items=joint.scale_items, **options)

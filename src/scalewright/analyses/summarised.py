@@ -235,3 +235,33 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
                                         attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
                                         answer_levels=len(fmt.levels))
     return {"scales": scales, "items": item_reports}
+
+
+def structure_from_summaries(spec: Any, summary: Any, **options: Any) -> Any:
+    """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
+    cross-products of every item (``joint`` in the plan)."""
+    return structure_from_cross_products(spec, summary["joint"], **options)
+
+
+def structure_from_cross_products(spec: Any, joint: Any, **options: Any) -> Any:
+    """The factor structure from the listwise cross-products of the codes of every item of the scale file
+    (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
+    :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
+    from dataclasses import replace
+
+    from ..stats.structure import analyse_structure
+
+    item_scale, notes, reversed_mask = {}, [], []
+    for item in spec.items:  # as analyses.structure.joint_keyed_items chooses each item's home scale
+        homes = [s for s in spec.scales.values() if item in s.items]
+        home = min(homes, key=lambda s: s.k)
+        item_scale[item] = home.name
+        reversed_mask.append(home.is_reversed(item))
+        if len({s.is_reversed(item) for s in homes}) > 1:
+            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
+    covariance = joint.covariance(low=0, high=span, reversed_mask=np.array(reversed_mask, dtype=bool))
+    result = analyse_structure(None, covariance=covariance, item_names=tuple(spec.items), item_scale=item_scale,
+                               scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
+                               **options)
+    return replace(result, notes=(*notes, *result.notes)) if notes else result

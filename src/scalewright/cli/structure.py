@@ -7,13 +7,13 @@ import click
 
 from ..analyses.structure import analyse_structure_of_file
 from .common import (
-    data_argument,
     emit,
     input_options,
     load_inputs,
     output_options,
     scales_option,
 )
+from .engine_route import dataset_argument, engine_options, load_summaries
 
 ROTATION_CHOICES = ("oblimin", "promax", "varimax", "none")
 METHOD_CHOICES = ("minres", "ml")
@@ -32,7 +32,7 @@ def parse_factors(value: str | None) -> int | str | None:
 
 
 @click.command("structure")
-@data_argument
+@dataset_argument
 @scales_option
 @click.option("--factors", "factors", metavar="N|scales", default=None,
               help="Number of factors: a whole number, or 'scales' for one per scale. Default: parallel analysis.")
@@ -48,9 +48,11 @@ def parse_factors(value: str | None) -> int | str | None:
 @click.option("--cross-loading", type=click.FloatRange(0, 1, min_open=True), default=0.30, show_default=True,
               help="Flag items loading more than this on another factor.")
 @input_options
+@engine_options
 @output_options
 def structure(data: Path, scales: Path, factors: str | None, rotation: str, method: str, iterations: int,
               seed: int, min_loading: float, cross_loading: float, lenient: bool, exclude: Path | None,
+              engine: str, scheduler: str | None, workers: int | None, block_size: int | None,
               fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check dimensionality: do each scale's items measure one thing, and the scales different things?
 
@@ -62,11 +64,24 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
     from ..present.structure import structure_tables
 
     n_factors = parse_factors(factors)
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    result = analyse_structure_of_file(inputs.spec, inputs.responses, n_factors=n_factors, rotation=rotation,
-                                       method=method, seed=seed, iterations=iterations, min_loading=min_loading,
-                                       max_cross_loading=cross_loading)
+    from ..engine.plan import plan_for
+
+    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None, answers=False,
+                                                                    joint=True),
+                                engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    options = dict(n_factors=n_factors, rotation=rotation, method=method, seed=seed, iterations=iterations,
+                   min_loading=min_loading, max_cross_loading=cross_loading)
+    if summarised:
+        from ..analyses.summarised import structure_from_summaries
+
+        result = structure_from_summaries(inputs.spec, summarised.summary, **options)
+    else:
+        result = analyse_structure_of_file(inputs.spec, inputs.responses, **options)
     body = result.to_dict()
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
                "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading}
     emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,

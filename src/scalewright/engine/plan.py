@@ -44,6 +44,8 @@ class SummaryPlan:
     categories: tuple[str, ...] = ()
     id_column: str | None = None
     extra: tuple[str, ...] = field(default=())
+    #: listwise cross-products of every item of the scale file together (for the factor structure)
+    joint: bool = False
 
     @property
     def columns(self) -> tuple[str, ...]:
@@ -53,7 +55,7 @@ class SummaryPlan:
 
 
 def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: bool = True, scores: bool = False,
-             by: tuple[str, ...] = (), categories: tuple[str, ...] = ()) -> SummaryPlan:
+             by: tuple[str, ...] = (), categories: tuple[str, ...] = (), joint: bool = False) -> SummaryPlan:
     """The plan of every scale of ``spec``."""
     index = {name: position for position, name in enumerate(spec.items)}
     categories = tuple(name for name in categories if name not in index)  # items are counted per scale
@@ -63,7 +65,7 @@ def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: boo
                              method=scale.score, required=int(scale.required_answered()))
                    for name, scale in spec.scales.items())
     return SummaryPlan(scales=scales, cross_products=cross_products, answers=answers, scores=scores, by=tuple(by),
-                       categories=tuple(categories), id_column=spec.id_column, extra=tuple(spec.groups))
+                       categories=tuple(categories), id_column=spec.id_column, extra=tuple(spec.groups), joint=joint)
 
 
 def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
@@ -106,5 +108,9 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
                             for index, level in enumerate(levels)})
     categories = {column: CategoryCounts.from_values(block.columns[column])
                   for column in dict.fromkeys([*plan.by, *plan.categories])}
-    return Summary({"reading": block.reading, "scales": summarise_codes(block.codes, plan), "by": Keyed(by),
-                    "categories": Keyed(categories)})
+    members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan), "by": Keyed(by),
+               "categories": Keyed(categories)}
+    if plan.joint:
+        span = max((scale.high - scale.low for scale in plan.scales), default=1)
+        members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)
+    return Summary(members)

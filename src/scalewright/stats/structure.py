@@ -312,7 +312,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                       n_factors: int | str | None = None, rotation: str = "oblimin", method: str = "minres",
                       seed: int | np.random.Generator | None = DEFAULT_SEED, iterations: int = 100,
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
-                      max_cross_loading: float = MAX_CROSS_LOADING) -> StructureResult:
+                      max_cross_loading: float = MAX_CROSS_LOADING, covariance: Any = None) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -335,6 +335,9 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         Parallel analysis settings.
     min_loading, max_cross_loading : float
         Thresholds of the ``weak-loading`` and ``cross-loading`` flags (common practice, no source).
+    covariance : ItemCovariance, optional
+        The listwise covariance of the keyed items (from merged summaries, see ``scalewright.summaries``)
+        in place of ``keyed_matrix`` (then None): every statistic here is a function of it and n.
 
     Returns
     -------
@@ -345,6 +348,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     Respondents with any missing answer are set aside (listwise) and counted; items with no variance
     among the rest are left out and flagged.
     """
+    if covariance is not None:  # listwise sufficient statistics (merged summaries) instead of the rows
+        keyed_matrix = np.empty((0, covariance.k))
     keyed = np.asarray(keyed_matrix, dtype=float)
     item_names = [str(name) for name in item_names]
     _validate_names(keyed, item_names, item_scale)
@@ -358,12 +363,17 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     notes: list[str] = []
     flags: list[StructureFlag] = []
-    complete, set_aside = complete_cases(keyed)
+    if covariance is None:
+        complete, set_aside = complete_cases(keyed)
+        n, n_rows = complete.shape[0], keyed.shape[0]
+        constant = np.ptp(complete, axis=0) == 0 if n else np.ones(len(item_names), dtype=bool)
+    else:
+        n, n_rows = covariance.n_used, covariance.n_rows
+        set_aside = n_rows - n
+        constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
     if set_aside:
-        notes.append(f"{set_aside} of {keyed.shape[0]} respondent(s) with at least one missing answer set aside "
+        notes.append(f"{set_aside} of {n_rows} respondent(s) with at least one missing answer set aside "
                      "(listwise); every statistic uses the remaining complete cases")
-    n = complete.shape[0]
-    constant = np.ptp(complete, axis=0) == 0 if n else np.ones(len(item_names), dtype=bool)
     dropped = [name for name, c in zip(item_names, constant) if c]
     for name in dropped:
         flags.append(StructureFlag(name, "no-variance", "every complete respondent gave the same answer; "
@@ -372,7 +382,6 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         notes.append(f"{len(dropped)} item(s) without variance left out: {', '.join(dropped)}")
     kept = [i for i, c in enumerate(constant) if not c]
     items = tuple(item_names[i] for i in kept)
-    data = complete[:, kept]
     p = len(items)
 
     def empty(reason: str) -> StructureResult:
@@ -389,7 +398,14 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     if p < 2:
         return empty("fewer than two items with variance: there is no structure to analyse")
 
-    correlation = correlation_of(data)
+    if covariance is None:
+        correlation = correlation_of(complete[:, kept])
+    else:
+        kept_cov = covariance.cov[np.ix_(kept, kept)]
+        scale = 1.0 / np.sqrt(np.diag(kept_cov))
+        correlation = kept_cov * np.outer(scale, scale)
+        np.clip(correlation, -1, 1, out=correlation)  # as numpy.corrcoef does
+        np.fill_diagonal(correlation, 1.0)
     sampling = kmo(correlation)
     sphericity = bartlett_sphericity(correlation, n)
     notes.extend(sampling.notes)
