@@ -126,15 +126,19 @@ def measure(label: str, arguments: list[str], results: list[dict], **fields) -> 
     return record
 
 
-def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict]) -> None:
+COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"]}
+
+
+def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], names: list[str],
+           whole: bool = True) -> None:
     for rows in sizes:
         data = write_csv(folder, rows)
-        for name, extra in (("reliability", []), ("shape", []), ("tally", ["--items"])):
+        for name, extra in ((name, COMMANDS[name]) for name in names):
             measure(f"{name} stream", command(name, str(data), "--scales", str(scales), "--format", "json",
                                               "--out", str(folder / f"{name}_{rows}.json"), "--engine", "stream",
                                               *extra), results, rows=rows, file_mb=round(data.stat().st_size / 1e6))
     data = write_csv(folder, min(sizes))
-    for name, extra in (("reliability", []), ("shape", []), ("tally", ["--items"])):
+    for name, extra in ((name, COMMANDS[name]) for name in names if whole):
         measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
                                           "--out", str(folder / f"{name}_{min(sizes)}_memory.json"),
                                           "--engine", "memory", *extra), results, rows=min(sizes))
@@ -167,6 +171,8 @@ def main() -> int:
     parser.add_argument("--rows", type=int, nargs="+", default=None)
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--parts", type=int, default=8)
+    parser.add_argument("--commands", nargs="+", default=list(COMMANDS), choices=list(COMMANDS))
+    parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)
     scales = write_scales(options.folder)
@@ -177,7 +183,8 @@ def main() -> int:
             data = write_csv(options.folder, rows)
             print(f"{data}: {data.stat().st_size / 1e6:.0f} MB in {time.perf_counter() - start:.0f} s", flush=True)
     elif options.what == "memory":
-        memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results)
+        memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results, options.commands,
+               whole=not options.no_whole)
     elif options.what == "speed":
         speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
     else:

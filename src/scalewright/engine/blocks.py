@@ -23,8 +23,10 @@ from ..data import SHOW_FIRST, _delimited_header, _ids_as_text, convert_item
 from ..read_codes import BLANK_TEXTS, convert_codes, fits
 from .reading import ReadingCounts
 
-#: bytes of CSV text per parsed block: large enough for pyarrow's threads, small enough to keep memory flat
-BLOCK_BYTES = 16 << 20
+#: bytes of CSV text per parsed block (pyarrow's default). pyarrow's streaming reader parses blocks ahead
+#: of the consumer, a bounded queue of them: its memory is this times the queue's length, so a small block
+#: keeps the peak low (on 4,000,000 x 60: 180 MB with 1 MiB blocks, 320 MB with 4 MiB, 750 MB with 16 MiB)
+BLOCK_BYTES = 1 << 20
 #: rows per Parquet batch
 BATCH_ROWS = 131072
 
@@ -202,11 +204,12 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             raise CannotStream("an answer is not a whole answer level (it needs the float route)")
         codes[:, as_floats] = float_codes
     wanted = {}
-    id_hashes, id_empty, unknown = None, (), {}
+    id_hashes, id_empty, unknown = (), (), {}
     for name in dict.fromkeys(columns):
         series = batch.column(by_name[name]).to_pandas()
         if name == spec.id_column:
-            id_hashes, id_empty = _id_check(series, (part, first_row, file))
+            hashes, id_empty = _id_check(series, (part, first_row, file))
+            id_hashes = (hashes,)
         if name in spec.group_levels:
             series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file))
             if found:
@@ -237,7 +240,7 @@ def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
         found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),)
     ids = _ids_as_text(raw[~empty]) if not empty.all() else pd.Series([], dtype=object)
     hashes = pd.util.hash_pandas_object(ids.astype(str), index=False).to_numpy()
-    return np.sort(hashes), found
+    return hashes, found
 
 
 def _known_levels(values: pd.Series, order: Sequence[str], start: tuple) -> tuple[pd.Series, tuple]:

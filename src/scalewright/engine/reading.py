@@ -35,7 +35,7 @@ class ReadingCounts:
     Every finding is placed by ``(part, row, file)``: the file's position in a dataset (0 for one file), the
     row number in it, and its name; places order by part, then row.
     ``refused_first[column]`` holds the first :data:`~scalewright.data.SHOW_FIRST` refused cells of that
-    column: (place, value as read). ``id_hashes`` are the sorted 64-bit hashes of the ids
+    column: (place, value as read). ``id_hashes`` are the 64-bit hashes of the ids, one array per block
     (8 bytes a row: the one part that grows with the rows, for the duplicate check); ``id_empty`` the
     first row without an id and how many; ``unknown_levels[column]`` the first row whose group value the
     scale file does not list, with the value, and how many.
@@ -47,17 +47,16 @@ class ReadingCounts:
     texts: dict[str, int] = field(default_factory=dict)
     refused: dict[str, int] = field(default_factory=dict)
     refused_first: dict[str, tuple] = field(default_factory=dict)
-    id_hashes: np.ndarray | None = None
+    id_hashes: tuple[np.ndarray, ...] = ()
     id_empty: tuple = ()          # ((place, count),) or ()
     unknown_levels: dict[str, tuple] = field(default_factory=dict)   # column -> (place, value, count)
 
     def merge(self, other: "ReadingCounts") -> "ReadingCounts":
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
                                         SHOW_FIRST) for column in {*self.refused_first, *other.refused_first}}
-        hashes = None
-        if self.id_hashes is not None or other.id_hashes is not None:
-            parts = [h for h in (self.id_hashes, other.id_hashes) if h is not None]
-            hashes = np.sort(np.concatenate(parts)) if len(parts) > 1 else parts[0]
+        # the blocks' sorted hashes are kept apart (no copy of all of them at every merge); they are
+        # joined once, when the duplicates are looked for
+        hashes = (*self.id_hashes, *other.id_hashes)
         empty = ()
         if self.id_empty or other.id_empty:
             found = [*self.id_empty, *other.id_empty]  # (place, count) pairs
@@ -77,7 +76,11 @@ class ReadingCounts:
                              id_hashes=hashes, id_empty=empty, unknown_levels=unknown)
 
     def has_duplicate_ids(self) -> bool:
-        return self.id_hashes is not None and bool(np.any(self.id_hashes[1:] == self.id_hashes[:-1]))
+        if not self.id_hashes:
+            return False
+        joined = np.concatenate(self.id_hashes)
+        joined.sort()
+        return bool(np.any(joined[1:] == joined[:-1]))
 
 
 def describe_value(value: Any, *, blanks_in_column: bool) -> Any:
