@@ -9,8 +9,9 @@ from pathlib import Path
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 from scalewright.cli import main
+
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 
 pytest.importorskip("distributed")
 

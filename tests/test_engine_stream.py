@@ -8,11 +8,12 @@ from pathlib import Path
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 from scalewright.cli import main
 from scalewright.engine import blocks
 from scalewright.engine.choose import choose_route
 from scalewright.errors import UsageError
+
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
 
 SMALL_BLOCK = "4096"  # bytes: the test files are cut into dozens of blocks
 

@@ -55,10 +55,9 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     keying, weak items, redundant pairs and too low or too high reliability. With --by, the same per
     subgroup, and Feldt's test of the alphas between subgroups.
     """
+    from ..engine.plan import plan_for
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
-
-    from ..engine.plan import plan_for
 
     needs_rows = "--bootstrap" if n_resamples else ("--exclude" if exclude is not None else None)
     summarised = load_summaries(

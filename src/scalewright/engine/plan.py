@@ -14,8 +14,15 @@ from typing import Any
 
 import numpy as np
 
-from ..summaries import AnswerCounts, CategoryCounts, Keyed, ListwiseCrossProducts, PairwiseCrossProducts, ScoreCounts
-from ..summaries import Summary
+from ..summaries import (
+    AnswerCounts,
+    CategoryCounts,
+    Keyed,
+    ListwiseCrossProducts,
+    PairwiseCrossProducts,
+    ScoreCounts,
+    Summary,
+)
 
 
 @dataclass(frozen=True)
