@@ -74,3 +74,27 @@ def folder_fingerprint(folder: Path) -> dict[str, str]:
     """SHA-256 of every file below ``folder``: to show a failed command changed nothing."""
     return {str(p.relative_to(folder)): hashlib.sha256(p.read_bytes()).hexdigest()
             for p in sorted(folder.rglob("*")) if p.is_file()}
+
+
+@pytest.fixture(scope="session")
+def demo_run(tmp_path_factory):
+    """The default demo (600 respondents, a full report), built once per test session for every test that
+    reads it; written with --force into a folder that already holds a file of the user's."""
+    import contextlib
+    import io
+    from dataclasses import dataclass
+
+    from scalewright.cli import main
+
+    @dataclass(frozen=True)
+    class DemoRun:
+        folder: Path
+        printed: str
+
+    folder = tmp_path_factory.mktemp("demo")
+    (folder / "notes.txt").write_text("my own file\n")
+    stdout = io.StringIO()
+    with contextlib.redirect_stdout(stdout):
+        status = main(["demo", "--out", str(folder), "--force", "--quiet"])
+    assert status == 0
+    return DemoRun(folder=folder, printed=stdout.getvalue())

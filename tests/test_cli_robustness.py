@@ -17,6 +17,7 @@ COMMANDS = {
     "compare": ["--by", "shift"],
     "tally": ["--columns", "shift,site"],
     "screen": [],
+    "confirm": ["--by", "shift", "--pairwise"],
 }
 
 

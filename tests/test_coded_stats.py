@@ -163,3 +163,18 @@ def test_subgroups_from_codes_equal_the_float_route():
     from_codes = reliability_by_group(CodedAnswers(codes), split, **options).to_dict()
     from_floats = reliability_by_group(keyed_floats(codes, 1, 5, mask), split, **options).to_dict()
     assert nearly_equal(to_jsonable(from_codes), to_jsonable(from_floats))
+
+
+def test_code_counts_of_every_column_in_one_pass_equal_numpy_bincount():
+    # reference: numpy.bincount of each column on its own, computed live
+    from scalewright.stats.coded import _BLOCK_ROWS, code_counts
+
+    rng = np.random.default_rng(4)
+    codes = rng.integers(0, 7, size=(2 * _BLOCK_ROWS + 17, 5)).astype(np.uint8)
+    codes[rng.random(codes.shape) < 0.05] = MISSING
+    counts = code_counts(np.asfortranarray(codes))
+    for j in range(codes.shape[1]):
+        np.testing.assert_array_equal(counts[j], np.bincount(codes[:, j], minlength=256))
+    assert code_counts(np.zeros((0, 3), dtype=np.uint8)).sum() == 0
+    with pytest.raises(DataError):
+        code_counts(codes.astype(np.int16))

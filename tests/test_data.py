@@ -7,7 +7,6 @@ import pytest
 
 from scalewright.cli import main
 from scalewright.data import (
-    read_exclusion_list,
     read_responses,
     read_table,
     sniff_delimiter,
@@ -152,15 +151,6 @@ def test_unknown_extension_and_missing_file(tmp_path, write_file):
         read_table(write_file("d.sav", "x"))
     with pytest.raises(DataError, match="data file not found"):
         read_table(tmp_path / "absent.csv")
-
-
-def test_exclusion_lists(write_file, spec):
-    responses = read_responses(write_file("d.csv", BASIC_DATA), spec)
-    listed = read_exclusion_list(write_file("out.csv", "staff_id,flags\ns02,longstring\ns09,x\n"))
-    assert listed == ["s02", "s09"]
-    kept, dropped, unknown = responses.without_ids(listed)
-    assert kept.n == 3 and dropped == 1 and unknown == ["s09"]
-    assert read_exclusion_list(write_file("ids.txt", "# careless\ns01\n\ns03\n")) == ["s01", "s03"]
 
 
 def test_data_errors_end_in_one_line_exit_4_and_no_traceback(write_file, tmp_path, capsys):

@@ -219,3 +219,31 @@ def test_reverse_worded_items_run_against_the_others_before_keying(scored):
             assert r.loc[reverse, other] < -0.15, (reverse, other)
     assert r.loc["wl3", "wl6"] > 0.15
     assert r.loc["wl1", "wl2"] > 0.15
+
+
+def test_every_sample_size_the_demo_allows_gets_distinct_ids():
+    from scalewright.cli.demo import demo
+    from scalewright.demo_data import _staff_ids
+
+    assert next(p for p in demo.params if p.name == "n").type.max == 1_000_000  # the slow test below: 7 digits
+    # five digits hold 90,000 ids; 100,000 used to stop with "larger sample than population"
+    for n, digits in ((90_000, 5), (90_001, 6), (100_000, 6)):
+        ids = pd.Series(_staff_ids(np.random.default_rng(n), n))
+        assert len(ids) == n and ids.is_unique and ids.str.fullmatch(rf"KB\d{{{digits}}}").all()
+
+
+@pytest.mark.slow
+def test_the_largest_demo_the_help_allows_gets_distinct_ids():
+    from scalewright.demo_data import _staff_ids
+
+    ids = pd.Series(_staff_ids(np.random.default_rng(1), 1_000_000))
+    assert ids.is_unique and ids.str.fullmatch(r"KB\d{7}").all()
+
+
+@pytest.mark.slow
+def test_a_demo_of_100000_respondents_is_written(tmp_path):
+    from scalewright.cli import main
+
+    assert main(["demo", "--out", str(tmp_path / "big"), "--n", "100000", "--iterations", "2", "--quiet"]) == 0
+    frame = pd.read_csv(tmp_path / "big" / "staff-climate.csv", usecols=["staff_id"])
+    assert len(frame) == 100_000 and frame["staff_id"].is_unique

@@ -76,9 +76,17 @@ def drafted(survey_csv):
     return draft_scales(read_table(survey_csv))
 
 
+#: the drafted scales: wl7 (sharing the stem, measuring nothing) is kept in its likeliest scale, as worded,
+#: with a check: comment, rather than dropped
+DRAFTED = {**{stem: (items, [reverse]) for stem, (items, reverse) in TRUTH.items()},
+           "wl": ([f"wl{i}" for i in range(1, 8)], ["wl3"])}
+
+
 def test_draft_names_the_three_scales_with_their_items_and_reverse_items(drafted):
     found = {s.name: (list(s.items), list(s.reverse_items)) for s in drafted.scales}
-    assert found == {stem: (items, [reverse]) for stem, (items, reverse) in TRUTH.items()}
+    assert found == DRAFTED
+    wl = next(s for s in drafted.scales if s.name == "wl")
+    assert any(note.startswith("wl7 correlates weakly") for note in wl.notes)
 
 
 def test_reverse_evidence_matches_item_rest_r_computed_with_numpy(survey_csv, drafted):
@@ -113,19 +121,20 @@ def test_missing_codes_and_labels_are_recovered(drafted):
     assert by_name["wl"].response.labels == ()
 
 
-def test_unrelated_item_and_lone_columns_are_reported_not_guessed(drafted):
+def test_lone_columns_are_reported_and_coded_categories_proposed_as_groups(drafted):
     set_aside = {a.column: a.reason for a in drafted.set_aside}
-    assert set(set_aside) == {"wl7", "overall", "unit_code"}
-    assert "does not correlate" in set_aside["wl7"]
-    assert "no name stem" in set_aside["unit_code"]
+    assert set(set_aside) == {"overall"}  # a lone 1-10 rating: an item of its own
     assert not any(c in s.items for s in drafted.scales for c in set_aside)
+    # a lone 1-4 code is a coded category: proposed as a group, with a note to name its codes
+    assert "unit_code" in drafted.groups
+    assert any(note.startswith("unit_code: 4 whole-number codes") for note in drafted.notes)
 
 
 def test_non_rating_columns_are_recognised(drafted):
     roles = {p.name: p.role for p in drafted.columns}
     assert roles["staff_id"] == ID and drafted.id_column == "staff_id"
     assert roles["site"] == CATEGORY and roles["shift"] == CATEGORY
-    assert drafted.groups == ("site", "shift")
+    assert drafted.groups == ("site", "shift", "unit_code")
     assert roles["comment"] == FREE_TEXT
     assert roles["start_date"] == DATE
     assert roles["duration_min"] == NUMBER and roles["age"] == NUMBER
@@ -135,16 +144,15 @@ def test_cli_draft_passes_load_spec_and_lint(survey_csv, tmp_path, capsys):
     out = tmp_path / "draft.yaml"
     assert main(["draft", str(survey_csv), "--out", str(out)]) == 0
     summary = capsys.readouterr().err
-    assert "wl: 6 items; reversed wl3" in summary and "then run: scalewright lint" in summary
+    assert "wl: 7 items; reversed wl3" in summary and "then run: scalewright lint" in summary
     spec = load_spec(out)
-    assert {name: (list(s.items), list(s.reverse)) for name, s in spec.scales.items()} == \
-        {stem: (items, [reverse]) for stem, (items, reverse) in TRUTH.items()}
-    assert spec.id_column == "staff_id" and spec.groups == ("site", "shift")
+    assert {name: (list(s.items), list(s.reverse)) for name, s in spec.scales.items()} == DRAFTED
+    assert spec.id_column == "staff_id" and spec.groups == ("site", "shift", "unit_code")
     assert main(["lint", str(survey_csv), "--scales", str(out)]) == 0
     text = out.read_text()
     assert "# wl3: item-rest r = -." in text and "reversed" in text
-    assert "wl7" in text and "overall" in text and "unit_code" in text  # reported as comments
-    assert "wl7" not in str(yaml.safe_load(text)["scales"])
+    assert "overall" in text and "unit_code" in text  # reported as comments
+    assert "# check: wl7 correlates weakly" in text
 
 
 def test_draft_structure_follows_the_scale_file_layout(drafted):

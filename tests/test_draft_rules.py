@@ -169,3 +169,53 @@ def test_seven_point_likelihood_with_extreme_ends_continues_codes_one_to_seven()
              "Somewhat likely", "Very likely", "Extremely likely"]
     fmt, _ = fmt_of(list(range(1, 8)) * 3 + [w.upper() for w in words[::-1]])
     assert fmt.labels_dict() == dict(enumerate(words, start=1)) and fmt.wording == "likelihood"
+
+
+def _inventory(seed: int = 3, n: int = 2800) -> tuple[pd.DataFrame, dict[str, list[str]]]:
+    """A personality-inventory-like export: a row-number column, five 5-item six-point scales with seven
+    reverse-worded items in all (two in some scales), a coded gender (1/2) and education (1-5)."""
+    rng = np.random.default_rng(seed)
+    reversed_by_scale = {"agr": [1, 4], "con": [2], "ext": [0, 3], "neu": [], "ope": [1, 2]}
+    frame = pd.DataFrame({"": np.arange(1, n + 1)})
+    truth: dict[str, list[str]] = {}
+    for stem, reversed_positions in reversed_by_scale.items():
+        trait = rng.normal(size=n)
+        for j in range(5):
+            loading = rng.uniform(0.45, 0.75)
+            latent = loading * trait + np.sqrt(1 - loading**2) * rng.normal(size=n)
+            answer = np.digitize(latent, [-1.4, -0.6, 0.0, 0.6, 1.4]) + 1
+            frame[f"{stem}{j + 1}"] = 7 - answer if j in reversed_positions else answer
+        truth[stem] = [f"{stem}{j + 1}" for j in reversed_positions]
+    frame["gender"] = rng.integers(1, 3, n)
+    frame["education"] = rng.integers(1, 6, n)
+    return frame, truth
+
+
+def test_draft_on_a_real_looking_export():
+    # ground truth is the generator: which items are worded in reverse, which columns are codes
+    frame, truth = _inventory()
+    drafted = draft_scales(frame)
+    assert drafted.id_column is None and "" not in drafted.id_candidates
+    assert drafted.column("").role == "row number"
+    assert {"gender", "education"} <= set(drafted.groups)
+    found = {s.stem: sorted(s.reverse_items) for s in drafted.scales}
+    assert found == truth
+    from scalewright.present.draft_yaml import draft_yaml_text
+
+    text = draft_yaml_text(drafted, data_name="inventory.csv")
+    assert "no column has a distinct value in every row" not in text
+    assert "holds row numbers" in text
+
+
+def test_reverse_keys_follow_first_factor_signs_where_item_rest_r_misleads():
+    # two of five items reversed with the larger loadings: the rest of each correctly worded item holds both
+    # reversed items, so greedy item-rest keying can reverse the wrong half; the first factor does not
+    from scalewright.drafting import propose_reverse_keys
+
+    rng = np.random.default_rng(11)
+    n = 3000
+    loadings = np.array([0.45, 0.45, 0.5, 0.8, 0.8])
+    x = rng.normal(size=(n, 1)) * loadings + rng.normal(size=(n, 5)) * np.sqrt(1 - loadings**2)
+    x[:, [3, 4]] *= -1
+    signs = propose_reverse_keys(np.cov(x, rowvar=False))
+    assert signs.tolist() == [1.0, 1.0, 1.0, -1.0, -1.0]

@@ -105,9 +105,11 @@ def test_answer_texts_and_decimals_take_the_text_route_or_the_whole_file(survey)
     _with_cells(data, {(300, 5): "Agree", (2100, 6): " strongly DISAGREE "})
     whole, streamed = both_routes("reliability", data, scales)
     assert streamed == whole and whole["reading"]["texts_by_column"] == {"wl3": 1, "wl4": 1}
-    _with_cells(data, {(1500, 7): "2.5"})  # not a whole answer level: only the whole-file route reads it
-    code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json")
-    assert code == 0 and "read whole" in err
+    _with_cells(data, {(1500, 7): "2.5"})  # between two whole answer codes: refused on both routes alike
+    refusals = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--format", "json")
+                for engine in ("memory", "stream")]
+    assert [code for code, _, _ in refusals] == [4, 4]
+    assert refusals[0][2] == refusals[1][2] and "row 1500, column cl1" in refusals[0][2]
 
 
 def test_empty_lines_and_line_breaks_in_values(survey):
@@ -213,3 +215,53 @@ def test_structure_streamed_equals_whole_file(survey, options):
     # the correlations come from exact cross-products instead of numpy.corrcoef of floats: equal to
     # rounding, and the factor fits started from them converge to the same solution
     assert_same_numbers(streamed, whole)
+
+
+def test_no_answer_texts_are_read_as_missing_on_both_routes(survey):
+    # reference: the whole-file reader (data.read_responses), which reads the default "no answer" texts
+    data, scales = survey
+    _with_cells(data, {(40, 3): "NA", (900, 4): " n/a ", (1700, 1): "#N/A", (2300, 2): "N/A"})
+    for command, options in (("reliability", ("--by", "shift")), ("tally", ("--columns", "shift,site", "--items")),
+                             ("structure", ())):
+        whole, streamed = both_routes(command, data, scales, *options)
+        assert_same_numbers(streamed, whole)  # exact but for sums taken in another order
+    whole, _ = both_routes("reliability", data, scales)
+    assert whole["reading"]["missing_texts_by_column"]["wl1"] == {"NA": 1}
+    assert sum(sum(c.values()) for c in whole["reading"]["missing_texts_by_column"].values()) == 4
+
+
+@pytest.mark.parametrize("options", [("--ordinal",), ("--missing", "em"), ("--bootstrap", "50")])
+def test_options_the_summaries_do_not_serve_keep_the_whole_file_route(survey, options):
+    data, scales = survey
+    code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
+                       *options)
+    assert code == 2 and options[0] in err
+    code, out, err = run("reliability", str(data), "-s", str(scales), "--format", "json", *options)  # auto
+    assert code == 0, err
+    assert "engine" not in json.loads(out)
+
+
+def test_structure_with_pairwise_missing_keeps_the_whole_file_route(survey):
+    data, scales = survey
+    code, _, err = run("structure", str(data), "-s", str(scales), "--engine", "stream", "--missing", "pairwise")
+    assert code == 2 and "--missing" in err
+
+
+def test_reliability_confirmatory_block_streamed_equals_whole_file(survey):
+    # reference: the whole-file route's one-factor fits (analyses.confirm.one_factor_models on the rows)
+    whole, streamed = both_routes("reliability", *survey)
+    for name in ("workload", "climate"):
+        assert streamed["scales"][name]["confirmatory"] == whole["scales"][name]["confirmatory"]
+        assert whole["scales"][name]["confirmatory"]  # the block is there to compare
+
+
+def test_group_codes_named_by_the_scale_file_take_the_whole_file_route(survey):
+    data, scales = survey
+    scales.write_text(SCALES.replace("groups: [shift]", "groups: [{shift: {1: day, 2: night, 3: late, 4: weekend}}]"),
+                      encoding="utf-8")
+    code, out, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
+                         "--block-size", SMALL_BLOCK)
+    assert code == 0, err
+    assert "read whole" in err and "shift" in err and "engine" not in json.loads(out)
+    code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "dask", "--format", "json")
+    assert code == 2 and "shift" in err

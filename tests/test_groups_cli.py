@@ -196,3 +196,61 @@ def test_tally_figures(files, capsys, tmp_path):
     assert code == 0, err  # five answer levels and three sites: pies allowed
     code, out, err = run(capsys, "tally", data, "--columns", "staff_id", "--pie", "--figures", pies, "--min-cell", "1")
     assert code != 0 and "pie" in err
+
+
+def test_tally_items_counted_from_codes_equal_the_column_route(files, capsys, monkeypatch):
+    # reference: the per-column route (tally() of each item's values), forced by hiding the one-pass counts
+    import scalewright.cli.tally as tally_cli
+
+    data, scales, _, _ = files
+    counted = []
+    one_pass = tally_cli._count_item_codes
+    monkeypatch.setattr(tally_cli, "_count_item_codes", lambda *a, **k: counted.append(one_pass(*a, **k)) or counted[-1])
+    code, fast, _ = run(capsys, "tally", data, "--scales", scales, "--items", "--format", "json")
+    assert code == 0 and len(counted[0]) == 6  # every item came from the one-pass counts
+
+    monkeypatch.setattr(tally_cli, "_count_item_codes", lambda *args, **kwargs: {})
+    code, slow, _ = run(capsys, "tally", data, "--scales", scales, "--items", "--format", "json")
+    assert code == 0
+    assert json.loads(fast)["columns"] == json.loads(slow)["columns"]
+
+
+# ---- a subgroup column with many levels is refused, in every command and the report ------------------------
+
+
+@pytest.fixture
+def with_age(files):
+    data, scales, *_ = files
+    frame = pd.read_csv(data)
+    frame["age"] = np.random.default_rng(3).integers(18, 67, len(frame))  # 49 levels, like an age in years
+    frame["team"] = [f"team {i % 25}" for i in range(len(frame))]          # 25 named levels
+    frame.to_csv(data, index=False)
+    return data, scales
+
+
+@pytest.mark.parametrize("command", ["compare", "reliability", "shape", "report"])
+def test_a_column_with_many_levels_is_refused_with_a_suggestion(with_age, tmp_path, capsys, command):
+    data, scales = with_age
+    extra = ["--out", str(tmp_path / "report"), "--quiet"] if command == "report" else ["-f", "json"]
+    assert main([command, str(data), "--scales", str(scales), "--by", "age", *extra]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: subgroup column 'age' has ") and err.count("\n") == 1
+    assert "more than --max-levels 20" in err and "look continuous" in err and "bin them" in err
+    assert not (tmp_path / "report").exists()
+    assert main([command, str(data), "--scales", str(scales), "--by", "team", *extra]) == 2
+    err = capsys.readouterr().err
+    assert "'team' has 25 levels" in err and "merge its levels" in err and "continuous" not in err
+
+
+def test_the_scale_files_groups_are_held_to_the_limit_too(with_age, capsys):
+    data, scales = with_age
+    scales.write_text(scales.read_text().replace("groups: [shift]", "groups: [shift, team]"))
+    assert main(["compare", str(data), "--scales", str(scales), "-f", "json"]) == 2
+    assert "'team' has 25 levels" in capsys.readouterr().err
+
+
+def test_max_levels_lets_a_column_through(with_age, capsys):
+    data, scales = with_age
+    assert main(["compare", str(data), "--scales", str(scales), "--by", "team", "--max-levels", "25",
+                 "-f", "json"]) == 0
+    assert set(json.loads(capsys.readouterr().out)["scales"]["workload"]["by"]) == {"team"}

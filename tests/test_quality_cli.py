@@ -3,10 +3,12 @@ from __future__ import annotations
 
 import csv
 import json
+import re
 from pathlib import Path
 
 import numpy as np
 import pandas as pd
+import pytest
 
 from scalewright.cli import main
 
@@ -101,3 +103,59 @@ def test_present_tables_have_raw_values(tmp_path):
     row = next(r for r in respondents.rows if r[0] == "3")
     assert row[2] == 9 and isinstance(row[3], float)
     assert "9 items in a row" in row[-1]
+
+
+def test_a_check_that_did_not_run_is_not_checked_never_zero(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["counts"]["fast"] is None and doc["summary"]["not_checked"] == ["fast"]
+    assert {"code": "fast-not-checked", "flag": "fast"} in doc["notes"]
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "table"]) == 0
+    out = capsys.readouterr().out
+    fast = next(line for line in out.splitlines() if line.startswith("fast "))
+    assert "not checked" in fast and not re.search(r"\b0\b", fast)
+    assert "fast: not checked, as no column of completion times was named" in out
+    # with the durations the check runs, and its count is a number
+    assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "minutes", "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["counts"]["fast"] >= 1 and doc["summary"]["not_checked"] == []
+
+
+def test_few_items_leave_duplicate_answers_not_checked(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)  # 8 items: identical rows that short can be chance
+    assert doc["summary"]["counts"]["duplicate-answers"] is None
+    assert {"code": "duplicates-not-checked", "flag": "duplicate-answers", "items": 8, "min_items": 10} in doc["notes"]
+
+
+@pytest.mark.parametrize("unit", ["s", "min"])
+def test_durations_are_shown_with_their_unit(tmp_path, capsys, unit):
+    data, scales = write_survey(tmp_path)
+    args = ["screen", str(data), "--scales", str(scales), "--duration-column", "minutes", "-f", "table"]
+    assert main(args + ([] if unit == "s" else ["--duration-unit", unit])) == 0
+    out = capsys.readouterr().out
+    assert re.search(rf"Took 2 {unit} against a median of 2\d {unit}", out), out
+
+
+def test_duplicates_are_counted_listed_and_explained_alike(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    frame = pd.read_csv(data)
+    items = [c for c in frame.columns if c[:2] in ("pa", "tm", "vo")]
+    frame.loc[[6, 7], items] = frame.loc[5, items].to_numpy()  # an ordinary row three times: flagged
+    frame.loc[8, items] = 2                                      # a second copy of W000's straight line
+    frame.to_csv(data, index=False)
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    duplicates = doc["duplicates"]
+    by_status = dict(zip(map(tuple, duplicates["rows"]), duplicates["row_status"]))
+    assert by_status == {("W000", "W008"): "long-run", ("W005", "W006", "W007"): "flagged"}
+    assert doc["summary"]["counts"]["duplicate-answers"] == 3
+    assert main(["screen", str(data), "--scales", str(scales), "-f", "table"]) == 0
+    out = capsys.readouterr().out
+    assert "2 group(s) of identical answer rows (5 respondents) are listed under Duplicate records; 3 of these " \
+           "respondents carry duplicate-answers" in out
+    assert re.search(r"identical answers +W000, W008 +no: counted under long-run", out)
+    assert re.search(r"identical answers +W005, W006, W007 +yes", out)

@@ -32,7 +32,11 @@ def _rates(seeds, **design):
 def test_recall_and_false_positives_on_unseen_seeds():
     # 5 scales x 8 items on a 1-7 format: the design where both targets are reached in the benchmark
     rates = _rates(range(7000, 7003), n=1000, n_scales=5, k=8, high=7)
-    assert rates["recall"] >= 0.90
+    # against-sample now confirms a somewhat-far pattern only where the item means spread enough for it to
+    # separate attentive from careless answering (docs/screening.md); on one of these seeds they do not, and
+    # half its random clickers are then found by far-from-sample alone: recall 0.88 pooled, not the 0.90 of
+    # the earlier rule, which marked most attentive respondents of such samples against-sample
+    assert rates["recall"] >= 0.85
     assert rates["false_positive"] <= 0.05
     assert rates["recall_straight"] >= 0.98
 
@@ -43,7 +47,11 @@ def test_false_positives_stay_low_on_shorter_questionnaires():
     rates = _rates(range(7100, 7103), n=600, n_scales=4, k=6)
     assert rates["false_positive"] <= 0.05
     assert rates["recall_straight"] >= 0.98
-    assert rates["recall"] >= 0.75
+    # random clickers on 24 five-point items were found mostly as somewhat-far confirmed by against-sample;
+    # here the item means spread too little for person-total r to separate them from attentive respondents
+    # (most attentive ones fell below its cut-off too), so it is set aside and recall rests on the strong
+    # flags: straight-liners all found, random clickers seldom (docs/screening.md)
+    assert rates["recall"] >= 0.5
 
 
 def test_demo_survey_targets_are_met():

@@ -35,8 +35,9 @@ scales:
 """
 
 
-def survey_csv(rng: np.random.Generator, n: int, *, bad: bool = False, sep: str = ",") -> str:
-    """A data file with blanks, 'NA' texts, 'no answer' codes, a text group, a numeric and an empty column."""
+def survey_csv(rng: np.random.Generator, n: int, *, bad: bool = False, sep: str = ",", texts: bool = False) -> str:
+    """A data file with blanks, 'no answer' codes, a text group, a numeric and an empty column; with ``texts``
+    also 'no answer' texts in the items (which send the file down the general route)."""
     rows = []
     for i in range(n):
         cells = [f"p{i:04d}", rng.choice(["day", "night", "", "rotating"]), str(int(rng.integers(20, 65))) if
@@ -48,7 +49,7 @@ def survey_csv(rng: np.random.Generator, n: int, *, bad: bool = False, sep: str 
             if roll < 0.05:
                 value = ""
             elif roll < 0.07:
-                value = rng.choice(["NA", "n/a", "null"])
+                value = rng.choice(["NA", "n/a", "#N/A"]) if texts else ""
             elif roll < 0.10 and item < 3:
                 value = rng.choice(["9", "99", "-1"])
             elif roll < 0.11 and bad:
@@ -75,7 +76,7 @@ def assert_same_responses(quick, general) -> None:
     pd.testing.assert_series_equal(quick.ids, general.ids)
     np.testing.assert_array_equal(quick.line_numbers, general.line_numbers)
     for field in ("refused_total", "refused_by_column", "missing_code_by_column", "blank_by_column",
-                  "texts_by_column", "file_columns", "item_names"):
+                  "texts_by_column", "missing_texts_by_column", "file_columns", "item_names"):
         assert getattr(quick, field) == getattr(general, field), field
     assert [str(p) for p in quick.refused] == [str(p) for p in general.refused]
 
@@ -261,3 +262,13 @@ def test_a_file_of_items_only_reads_alike(write_file, small_spec, monkeypatch):
     path = write_file("items.csv", "a,b,c\n1,2,3\n4,5,1\n")
     assert data_module._read_quickly(path, small_spec) is not None
     assert_same_responses(*read_both(path, small_spec, monkeypatch))
+
+
+def test_no_answer_texts_in_items_are_counted_alike_by_either_route(write_file, spec, monkeypatch):
+    path = write_file("survey.csv", survey_csv(np.random.default_rng(12), 300, texts=True))
+    assert data_module._read_quickly(path, spec) is None  # texts in the items: the general route reads them
+    quick, general = read_both(path, spec, monkeypatch)
+    assert_same_responses(quick, general)
+    # 'n/a' is the listed 'N/A' (matched ignoring case, as labels are): counted under the listed text
+    assert set(general.missing_texts_by_column["wl1"]) <= {"NA", "N/A", "#N/A"}
+    assert sum(sum(c.values()) for c in general.missing_texts_by_column.values()) > 0

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 
 import numpy as np
 import pandas as pd
@@ -178,7 +179,9 @@ def test_miskeyed_item_is_flagged_and_clean_scale_is_not():
     suspects = [f for f in result.flags if f.code == "miskey-suspect"]
     assert [f.item for f in suspects] == ["wl3"]
     # the message gives alpha with the item reversed, which is the clean scale's alpha
-    assert f"{clean_result.alpha:.2f}".lstrip("0") in suspects[0].message
+    from scalewright.present.messages import flag_message
+
+    assert f"{clean_result.alpha:.2f}".lstrip("0") in flag_message(suspects[0])
 
 
 def test_miskey_flag_on_pingouin_cronbach_alpha_data():
@@ -191,8 +194,12 @@ def test_miskey_flag_on_pingouin_cronbach_alpha_data():
     result = scale_reliability(wide.to_numpy(dtype=np.float64), item_names=list(wide.columns), low=1, high=7)
     reference = pingouin.cronbach_alpha(data=long, items="Items", scores="Scores", subject="Subj")[0]
     assert result.alpha == pytest.approx(reference, rel=1e-10)
-    suspects = {f.item for f in result.flags if f.code == "miskey-suspect"}
-    assert {"Q5", "Q6"} <= suspects
+    assert result.items["Q5"].item_rest_r < 0 and result.items["Q6"].item_rest_r < 0
+    # their loadings on the first factor are near zero (|loading| < .10): they measure little of the scale
+    # rather than pointing against it, so the flag is weak-item, not miskey-suspect (the mis-key flag rests
+    # on the loading's sign; item-rest r only supports it)
+    assert {("Q5", "weak-item"), ("Q6", "weak-item")} <= result.flag_codes()
+    assert not {f.item for f in result.flags if f.code == "miskey-suspect"} & {"Q5", "Q6"}
     assert (None, "low-reliability") in result.flag_codes()
 
 
@@ -290,3 +297,76 @@ def test_one_factor_ml_fit_matches_factor_analyzer():
     assert fit.method == "ml" and fit.converged
     np.testing.assert_allclose(fit.standardized_loadings, reference, rtol=1e-4)
     np.testing.assert_allclose(fit.uniquenesses / np.diag(cov), model.get_uniquenesses(), rtol=1e-3)
+
+
+def test_answer_level_counts_of_a_wide_range_match_numpy():
+    from scalewright.stats.reliability import answer_level_counts, item_descriptives
+
+    # a 0..1000 range (the widest allowed), one reverse-keyed item, answers off the levels and missing
+    rng = np.random.default_rng(14)
+    given = rng.integers(0, 1001, size=(3000, 3)).astype(float)
+    given[rng.random(given.shape) < 0.1] = np.nan
+    given[5, 1] = 2.5
+    reversed_mask = np.array([False, True, False])
+    keyed = np.where(reversed_mask, 1000 - given, given)
+    levels = np.arange(0, 1001).astype(float)
+    counts = answer_level_counts(keyed, levels=levels, low=0, high=1000, reversed_mask=reversed_mask)
+    for j in range(3):
+        column = given[:, j]
+        whole = column[~np.isnan(column) & (column == np.floor(column))].astype(int)
+        # reference: numpy's unique counts of the answers as given
+        values, reference = np.unique(whole, return_counts=True)
+        np.testing.assert_array_equal(counts[j, values], reference)
+        assert counts[j].sum() == reference.sum()
+    described = item_descriptives(keyed, low=0, high=1000, reversed_mask=reversed_mask)
+    assert described.off_level == 1
+    np.testing.assert_allclose(described.mean, np.nanmean(keyed, axis=0))  # reference: numpy
+
+
+def _five_item_answers(n: int, miskeyed: tuple[int, ...], seed: int) -> np.ndarray:
+    """Five 5-point items of one factor (loadings .55-.80); the items in ``miskeyed`` are answered in reverse
+    but not declared so (the forgotten reverse key)."""
+    rng = np.random.default_rng(seed)
+    loadings = np.array([0.8, 0.7, 0.65, 0.6, 0.55])
+    trait = rng.normal(size=(n, 1))
+    latent = trait * loadings + rng.normal(size=(n, 5)) * np.sqrt(1 - loadings**2)
+    answers = np.clip(np.round(3 + 1.2 * latent), 1, 5)
+    answers[:, list(miskeyed)] = 6 - answers[:, list(miskeyed)]
+    return answers
+
+
+@pytest.mark.parametrize("miskeyed", [(2,), (4,), (0, 3), (1, 4), (3, 4)])
+@pytest.mark.parametrize("seed", [1, 2])
+def test_miskey_flags_point_at_exactly_the_miskeyed_items(miskeyed, seed):
+    # ground truth is the generator: the items answered in reverse and not declared so
+    from scalewright.present.messages import flag_message
+
+    names = [f"i{j}" for j in range(1, 6)]
+    result = scale_reliability(_five_item_answers(400, miskeyed, seed), item_names=names, low=1, high=5)
+    flagged = {f.item for f in result.flags if f.code == "miskey-suspect"}
+    assert flagged == {names[j] for j in miskeyed}
+    for flag in result.flags:
+        sentence = flag_message(flag)
+        numbers = re.findall(r"alpha would be (\S+) instead of (\S+?)\.", sentence)
+        assert all(new != old for new, old in numbers), sentence
+    if len(miskeyed) == 2:  # the advice reverses both at once: alpha of the correctly keyed data
+        keyed = _five_item_answers(400, (), seed)
+        clean_alpha = scale_reliability(keyed, item_names=names, low=1, high=5).alpha
+        assert any(f"alpha would be {clean_alpha:.2f}".replace("0.", ".", 1) in flag_message(f)
+                   for f in result.flags if f.code == "miskey-suspect")
+
+
+def test_no_alpha_sentence_when_reversing_changes_nothing_shown():
+    from scalewright.present.messages import reliability_flag_message
+
+    sentence = reliability_flag_message("miskey-suspect", {
+        "item": "x1", "loading": -0.4, "item_rest_r": -0.2, "declared_reversed": False, "alpha": -0.6212,
+        "alpha_reversed": -0.6199, "reversed_together": ("x1",)})
+    assert "alpha would be" not in sentence and "x1 runs against" in sentence
+
+
+def test_weak_item_message_near_the_cutoff_reads_true():
+    from scalewright.present.messages import reliability_flag_message
+
+    sentence = reliability_flag_message("weak-item", {"item": "x1", "item_rest_r": 0.2996, "cutoff": 0.30})
+    assert "item-rest r = .2996, below .30" in sentence

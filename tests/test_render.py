@@ -37,7 +37,13 @@ def test_decimals_are_a_choice():
 
 
 @pytest.mark.parametrize("text, shown", [
-    ("<script>alert(1)</script>", "&lt;script&gt;alert(1)&lt;/script&gt;"),
+    # CommonMark 0.31 (spec section 2.4): a backslash before any ASCII punctuation shows it literally, so
+    # "\<" opens no tag and "\&" starts no entity; text Markdown would not act on stays as it is
+    ("<script>alert(1)</script>", "\\<script>alert(1)\\</script>"),
+    ("&amp; &#60;", "\\&amp; \\&#60;"),
+    ("R&D < .001 > 4", "R&D < .001 > 4"),
+    ("4.65 is the mean", "4.65 is the mean"),
+    ("-0.62 below .70", "-0.62 below .70"),
     ("a*b* [x](y)", "a\\*b\\* \\[x\\](y)"),
     ("# not a heading", "\\# not a heading"),
     ("1. not a list", "1\\. not a list"),
@@ -59,7 +65,7 @@ def test_text_and_markdown_round_only_when_rendered():
     text = render_text([TABLE])
     assert ".84" in text and "< .001" in text and "note: a note" in text
     markdown = render_markdown([TABLE])
-    assert "## Items &lt;b&gt;" in markdown and "| .84 |" in markdown
+    assert "## Items \\<b>" in markdown and "| .84 |" in markdown
 
 
 def test_csv_keeps_full_precision_and_neutralises_formulas():
@@ -72,3 +78,28 @@ def test_csv_keeps_full_precision_and_neutralises_formulas():
 def test_json_never_carries_nan():
     text = render_json({"alpha": float("nan"), "values": [1.0, math.inf]})
     assert json.loads(text) == {"alpha": None, "values": [1.0, None]}
+
+
+@pytest.mark.parametrize("value, cutoff, kind, decimals, shown", [
+    (0.2996, 0.30, "bounded", 2, (".2996", ".30")),   # not "r = .30, below .30"
+    (2.96, 3.0, "num", 1, ("2.96", "3.0")),           # not "ratio 3.0 is below 3"
+    (0.84, 0.30, "bounded", 2, (".84", ".30")),       # far from the cut-off: usual decimals
+    (0.30, 0.30, "bounded", 2, (".30", ".30")),       # exactly equal stays equal
+    (0.3051, 0.305, "bounded", 2, (".3051", ".305")),  # the cut-off keeps the digit the comparison needs
+])
+def test_values_beside_a_cutoff_read_true(value, cutoff, kind, decimals, shown):
+    from scalewright.present.numbers import format_against
+
+    text, limit = format_against(value, cutoff, kind, decimals)
+    assert (text, limit) == shown
+    # the comparison of the shown numbers agrees with the true one (the property the rule exists for)
+    assert (float(text) < float(limit)) == (value < cutoff) and (float(text) > float(limit)) == (value > cutoff)
+
+
+def test_structure_eigenvalue_ratio_near_its_cutoff_reads_true():
+    import numpy as np
+
+    from scalewright.stats import structure
+
+    text, limit = structure._say_against(2.96, structure.MIN_EIGEN_RATIO, "num", 1)
+    assert float(text) < float(limit) and not np.isclose(float(text), float(limit))

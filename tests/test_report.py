@@ -134,8 +134,9 @@ def test_report_folder_holds_every_file(hostile_report):
     for name in ("index.html", "report.md", "results.json", "scores.csv"):
         assert (hostile_report / name).is_file(), name
     svgs = sorted(p.stem for p in (hostile_report / "figures").glob("*.svg"))
-    pngs = sorted(p.stem for p in (hostile_report / "figures").glob("*.png"))
-    assert svgs == pngs
+    assert not list((hostile_report / "figures").glob("*.png"))  # PNG only with --png: each figure drawn once
+    markdown = (hostile_report / "report.md").read_text(encoding="utf-8")
+    assert all(f"](figures/{stem}.svg)" in markdown for stem in svgs)
     assert {"morale-answers", "voice-answers", "morale-histogram", "voice-histogram", "morale-by-1-team-boxplot",
             "voice-by-1-team-boxplot", "structure-scree", "structure-loadings"} <= set(svgs)
     scores = (hostile_report / "scores.csv").read_text(encoding="utf-8").splitlines()
@@ -176,8 +177,13 @@ def test_hostile_text_is_escaped_everywhere(hostile_report):
         if name in ("href", "src", "xlink:href"):
             assert value.startswith(("#", "data:image/png")), (tag, name, value)
     markdown = (hostile_report / "report.md").read_text(encoding="utf-8")
-    assert "<script" not in markdown and "<img" not in markdown
-    assert "&lt;script&gt;" in markdown
+    # CommonMark (spec 2.4, 6.6): a tag opens only at a "<" not preceded by a backslash; report.md carries no
+    # HTML entities, so the text reads the same as a file and as rendered Markdown
+    # (the section anchors, <a id="..."></a> on lines of their own, are the report's own markup, not user text)
+    user_text = re.sub(r'^<a id="[^"<>]*"></a>$', "", markdown, flags=re.M)
+    assert re.search(r"(?<!\\)<[A-Za-z/!?]", user_text) is None
+    assert "\\<script>" in markdown and "\\<img" in markdown
+    assert "&lt;" not in markdown and "&amp;" not in markdown and not re.search(r"\d\\\.\d", markdown)
     assert r"My work \| matters \*to me\*" in markdown
 
 
@@ -322,3 +328,18 @@ def test_sanitise_svg_drops_anything_that_could_run_or_fetch():
     assert 'id="fig9-c1"' in clean and 'url(#fig9-c1)' in clean and 'href="#fig9-c1"' in clean
     assert "<title id=\"fig9-title\">A &lt;b&gt; title</title>" in clean
     assert 'role="img"' in clean and 'width="10pt"' not in clean
+
+
+def test_png_versions_only_on_request(built, tmp_path):
+    from scalewright.present.report_content import build_document
+    from scalewright.present.report_files import FIGURE_FORMATS_WITH_PNG, make_figures
+    from scalewright.present.report_md import render_report_markdown
+
+    (tmp_path / "figures").mkdir()
+    figures = make_figures(built.results, tmp_path, formats=FIGURE_FORMATS_WITH_PNG)
+    svgs = sorted(p.stem for p in (tmp_path / "figures").glob("*.svg"))
+    pngs = sorted(p.stem for p in (tmp_path / "figures").glob("*.png"))
+    assert svgs == pngs and len(svgs) == len(figures)
+    assert all((tmp_path / "figures" / f"{stem}.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for stem in pngs)
+    markdown = render_report_markdown(build_document(built.results, figures=figures, decimals=2))
+    assert all(f"(PNG version: `figures/{stem}.png`)" in markdown for stem in pngs)

@@ -31,12 +31,11 @@ OVERFLOWING_TABLES = """() => Array.from(document.querySelectorAll('table'))
 
 
 @pytest.fixture(scope="module")
-def demo_folders(tmp_path_factory) -> tuple[Path, Path]:
+def demo_folders(tmp_path_factory, demo_run) -> tuple[Path, Path]:
     from scalewright.cli import main
 
     root = tmp_path_factory.mktemp("handover")
-    folder = root / "demo"
-    assert main(["demo", "--out", str(folder), "--quiet"]) == 0
+    folder = demo_run.folder  # the session's demo (conftest.py): one full demo report for the whole suite
     single = root / "single"
     assert main(["report", str(folder / "staff-climate.csv"), "--scales", str(folder / "staff-climate.yaml"),
                  "--out", str(single), "--single-file", "--iterations", "5", "--quiet"]) == 0

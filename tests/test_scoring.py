@@ -1,6 +1,8 @@
 """Scoring: reverse keying, composites under the missing-item rule, rescaling and the scored file."""
 from __future__ import annotations
 
+from fractions import Fraction
+
 import numpy as np
 import pandas as pd
 import pytest
@@ -15,6 +17,7 @@ from scalewright.scoring import (
     composite,
     keyed_items,
     pomp,
+    pomp_of_composite,
     reverse_key,
     score_scales,
     write_scores,
@@ -185,7 +188,7 @@ def test_score_command_writes_the_file_and_refuses_to_overwrite_an_input(write_f
     assert main(["score", str(data), "--scales", str(scales), "--out", str(tmp_path / "s.csv"),
                  "--standardize", "pomp"]) == 0
     frame = pd.read_csv(tmp_path / "s.csv")
-    np.testing.assert_allclose(frame["workload"], pomp(np.array([4 / 3, 2.5, 5.0, NAN]), 1, 5))
+    np.testing.assert_allclose(frame["workload__pomp"], pomp(np.array([4 / 3, 2.5, 5.0, NAN]), 1, 5))
     before = folder_fingerprint(tmp_path)
     assert main(["score", str(data), "--scales", str(scales), "--out", str(data)]) == 2
     assert "refusing to write" in capsys.readouterr().err
@@ -196,3 +199,111 @@ def test_unknown_output_type_is_a_usage_error(scored, tmp_path):
     *_, table = scored
     with pytest.raises(UsageError, match=r"\.csv, \.xlsx or \.parquet"):
         write_scores(table, tmp_path / "s.sav")
+
+
+def test_control_characters_in_ids_are_refused_before_an_xlsx_is_written(write_file, tmp_path, capsys):
+    from scalewright.cli import main
+
+    from .conftest import BASIC_SCALES
+
+    data = write_file("d.csv", "staff_id,shift,wl1,wl2,wl3,st1,st2\n\"s\x01\",day,1,2,3,4,5\ns2,day,1,2,3,4,5\n")
+    code = main(["score", str(data), "--scales", str(write_file("s.yaml", BASIC_SCALES)),
+                 "--out", str(tmp_path / "o.xlsx")])
+    err = capsys.readouterr().err
+    assert code == 4 and err.count("\n") == 1 and "control character" in err and "'s\\x01'" in err
+    assert not (tmp_path / "o.xlsx").exists()
+
+
+# ---- rescaled scores are added, never put in place of the raw score ---------------------------------------
+
+
+@pytest.mark.parametrize("how", ["pomp", "z"])
+def test_standardize_adds_a_column_beside_the_raw_score(write_file, tmp_path, how):
+    data, scales = write_file("data.csv", BASIC_DATA), write_file("scales.yaml", BASIC_SCALES)
+    assert main(["score", str(data), "--scales", str(scales), "--out", str(tmp_path / "s.csv"),
+                 "--standardize", how]) == 0
+    frame = pd.read_csv(tmp_path / "s.csv")
+    assert list(frame.columns) == ["staff_id", "workload", f"workload__{how}", "workload__answered",
+                                   "stay", f"stay__{how}", "stay__answered"]
+    raw = np.array([4 / 3, 2.5, 5.0, NAN])  # worked by hand above: the raw score stays as it was
+    np.testing.assert_allclose(frame["workload"], raw)
+    if how == "pomp":  # Cohen, Cohen, Aiken & West (1999): 100 (x - min) / (max - min)
+        np.testing.assert_allclose(frame["workload__pomp"], 100 * (raw - 1) / 4)
+        np.testing.assert_allclose(frame["stay__pomp"], 100 * (np.array([13.0, 3.0, NAN, 8.0]) - 2) / 12)
+    else:  # scipy's z-scores with the n - 1 standard deviation, missing scores left out
+        from scipy import stats
+
+        np.testing.assert_allclose(frame["workload__z"], stats.zscore(raw, ddof=1, nan_policy="omit"))
+
+
+def _exact_text(value: Fraction) -> str:
+    """The shortest text that reads back as the double nearest ``value`` (Python's float repr, exact rounding)."""
+    return repr(float(value))
+
+
+def test_scores_are_written_without_float_noise(write_file, tmp_path):
+    # 16 / 5 = 3.2 and its POMP on 1..5 is exactly 55; rescaling the rounded 3.2 gave 55.00000000000001
+    spec_path = write_file("s.yaml", """\
+id_column: id
+response: {min: 1, max: 5}
+scales:
+  often: {items: [a, b, c, d, e], score: mean, min_answered: 3}
+  total: {items: [a, b, c, d, e], score: sum, min_answered: 3}
+""")
+    data = write_file("d.csv", "id,a,b,c,d,e\nr1,3,3,3,4,3\nr2,1,2,2,,5\nr3,5,4,,,1\n")
+    assert main(["score", str(data), "-s", str(spec_path), "--out", str(tmp_path / "o.csv"),
+                 "--standardize", "pomp"]) == 0
+    lines = (tmp_path / "o.csv").read_text().splitlines()
+    cells = {row.split(",")[0]: row.split(",") for row in lines[1:]}
+    assert lines[0] == "id,often,often__pomp,often__answered,total,total__pomp,total__answered"
+    assert cells["r1"][1:3] == ["3.2", "55.0"]
+    # exact rational arithmetic (Python's fractions) as the reference for every written number
+    assert cells["r2"][1] == _exact_text(Fraction(10, 4))
+    assert cells["r2"][4] == _exact_text(Fraction(10 * 5, 4))     # prorated sum: mean of answered x k
+    assert cells["r2"][5] == _exact_text(Fraction(100 * (10 - 4), 4 * 4))
+    assert cells["r3"][4] == _exact_text(Fraction(10 * 5, 3))
+
+
+@settings(max_examples=60)
+@given(hnp.arrays(np.float64, st.tuples(st.integers(1, 12), st.integers(1, 7)),
+                  elements=st.one_of(st.integers(0, 10).map(float), st.just(np.nan))),
+       st.sampled_from(["mean", "sum"]))
+def test_scores_and_pomp_are_the_nearest_double_to_the_exact_value(answers, method):
+    k = answers.shape[1]
+    scores, answered = composite(answers, method=method, required=1)
+    rescaled = pomp_of_composite(answers, 0.0, 10.0, required=1)
+    for row, score, value, count in zip(answers, scores, rescaled, answered):
+        if count == 0:
+            assert np.isnan(score) and np.isnan(value)
+            continue
+        total = Fraction(int(np.nansum(row)))  # the reference: exact rational arithmetic
+        mean = total / int(count)
+        assert score == float(mean * k if method == "sum" else mean)
+        assert value == float(100 * mean / 10)
+
+
+def test_score_out_over_an_existing_file_needs_force(write_file, tmp_path, capsys):
+    data, scales = write_file("data.csv", BASIC_DATA), write_file("scales.yaml", BASIC_SCALES)
+    target = write_file("kept.csv", "someone else's work\n")
+    before = folder_fingerprint(tmp_path)
+    assert main(["score", str(data), "--scales", str(scales), "--out", str(target)]) == 2
+    assert "exists; add --force" in capsys.readouterr().err
+    assert folder_fingerprint(tmp_path) == before
+    assert main(["score", str(data), "--scales", str(scales), "--out", str(target), "--force"]) == 0
+    assert pd.read_csv(target)["staff_id"].tolist() == ["s01", "s02", "s03", "s04"]
+
+
+def test_the_id_column_name_is_neutralised_too(write_file, tmp_path):
+    hostile = "=HYPERLINK(1)"
+    data = write_file("d.csv", BASIC_DATA.replace("staff_id", hostile))
+    scales = write_file("s.yaml", BASIC_SCALES.replace("id_column: staff_id", f"id_column: '{hostile}'"))
+    spec = load_spec(scales)
+    table = score_scales(read_responses(data, spec), spec)
+    write_scores(table, tmp_path / "o.csv")
+    assert (tmp_path / "o.csv").read_text().splitlines()[0].startswith(f"'{hostile},")
+    write_scores(table, tmp_path / "o.xlsx")
+    from openpyxl import load_workbook
+
+    sheet = load_workbook(tmp_path / "o.xlsx").active
+    assert sheet.cell(row=1, column=1).value == f"'{hostile}"
+    assert sheet.cell(row=1, column=1).data_type == "s"  # a text cell, not a formula

@@ -323,3 +323,68 @@ def test_label_rule_accuracy_at_every_size_from_200():
     accuracy = result["accuracy"]
     assert np.mean(list(accuracy.values())) >= 0.93, accuracy
     assert min(accuracy.values()) >= 0.8, accuracy  # 40 data sets per cell: a 0.9 cell can dip this low by chance
+
+
+def test_moments_and_uniform_fit_equal_scipy_on_rating_scores():
+    # references: scipy.stats.skew / kurtosis (bias=False) and scipy.stats.chisquare, computed live, on the
+    # small, heavily tied samples a report describes per subgroup
+    rng = np.random.default_rng(31)
+    for n in (3, 4, 5, 12, 60, 600):
+        x = rng.integers(1, 6, n).astype(float) + rng.integers(0, 2, n) / 2
+        if np.ptp(x) == 0:
+            continue
+        result = moments(x)
+        assert result.skewness == pytest.approx(stats.skew(x, bias=False), rel=1e-11, abs=1e-13)
+        if n >= 4:
+            assert result.kurtosis == pytest.approx(stats.kurtosis(x, bias=False), rel=1e-11, abs=1e-13)
+        counts = np.bincount(rng.integers(0, 5, n), minlength=5)
+        weights = np.array([1, 2, 2, 2, 1])
+        fit = uniform_fit(counts, weights)
+        reference = stats.chisquare(counts, counts.sum() * weights / weights.sum())
+        assert fit.chi2 == pytest.approx(reference.statistic, rel=1e-12)
+        assert fit.p == pytest.approx(reference.pvalue, rel=1e-10)
+
+
+def _kde_modes(values: np.ndarray, low: float, high: float) -> np.ndarray:
+    """Where a Gaussian kernel density (scipy.stats.gaussian_kde, Scott's bandwidth) has local maxima."""
+    grid = np.linspace(low, high, 601)
+    density = stats.gaussian_kde(values)(grid)
+    inner = (density[1:-1] > density[:-2]) & (density[1:-1] >= density[2:])
+    return grid[1:-1][inner]
+
+
+@pytest.mark.parametrize("seed", [0, 1, 2])
+def test_a_heap_on_a_round_value_is_not_a_second_peak(seed):
+    # a left-skewed whole-number score on 200..800 whose tail respondents round to 300 (about 1% of them,
+    # nobody left at 301-329); a Gaussian kernel density (scipy, Scott's bandwidth) has no mode near the heap
+    rng = np.random.default_rng(seed)
+    x = np.round(800 - 600 * rng.beta(2.0, 3.8, 2800))
+    heaped = (x >= 290) & (x <= 329)
+    x[heaped] = 300
+    assert 0.005 < heaped.mean() < 0.03
+    assert not ((x > 300) & (x < 330)).any()
+    assert (_kde_modes(x, 200, 800) > 450).all()
+    summary = describe_scores(x, low=200, high=800, resolution=1.0)
+    assert summary.shape == "left-skewed", summary.evidence
+
+
+def test_two_real_camps_on_a_fine_grained_score_stay_bimodal():
+    # two camps of 40% and 60% on the same 200..800 score; the kernel density (scipy) shows two modes
+    rng = np.random.default_rng(7)
+    camp = rng.random(2800) < 0.4
+    x = np.clip(np.round(np.where(camp, rng.normal(350, 40, 2800), rng.normal(650, 40, 2800))), 200, 800)
+    modes = _kde_modes(x, 200, 800)
+    assert len(modes) == 2 and abs(modes[0] - 350) < 30 and abs(modes[1] - 650) < 30
+    assert describe_scores(x, low=200, high=800, resolution=1.0).shape == "bimodal"
+
+
+def test_shape_evidence_near_the_skew_cutoff_reads_true():
+    # a skewness of -0.3996 is within +-0.4; two decimals would show "-0.40, within +-0.4"
+    from scalewright.stats.shape import ShapeEvidence, shape_label
+
+    features = ShapeEvidence(band_edges=(), band_counts=(1.0, 1.0, 1.0), band_density=(), flat_w=0.5,
+                             valley_ratio=float("nan"), valley_p=float("nan"), valley_at=float("nan"), peaks_at=(),
+                             window_cells=1)
+    label, evidence, _ = shape_label(mean=3.0, median=3.1, skewness=-0.3996, skewness_se=0.05, bimodality=0.4,
+                                     dip_p=0.9, features=features)
+    assert label == "symmetric" and "skewness -0.3996 (SE 0.05), within ±0.4" in evidence

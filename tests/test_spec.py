@@ -68,6 +68,7 @@ def test_misspelled_keys_get_a_suggestion_and_a_line(write_file):
     ("items: [x, y]\nmin_answered: 0.0\n", "fraction must lie in (0, 1]"),
     ("items: [x, y]\nmin_answered: half\n", "whole count of items"),
     ("items: [x, y]\nmin_answered: true\n", "whole count of items"),
+    ("items: [x, y]\nmin_answered: 0x2\n", "whole count of items"),
     ("items: [x, y]\nwording: {q: text}\n", "'q' is not one of this scale's items"),
     ("title: no items\n", "needs a list of `items`"),
 ])
@@ -204,3 +205,102 @@ def test_ordered_group_levels(write_file):
                                     "response: {min: 1, max: 5}\nscales: {a: {items: [x, y]}}\n")
     assert any("a level is listed twice" in p for p in found)
     assert any("'shift' is listed twice" in p for p in found)
+
+
+# -- hostile and ambiguous scale files --------------------------------------------------------------------
+
+def test_a_label_that_is_another_codes_number_is_refused(write_file):
+    # '5' labelling code 1 would read as 1 in a column holding any word and as 5 in one of digits only
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response='response: {min: 1, max: 5, labels: '
+                                                                          '{1: "5", 2: "4", 5: "1"}}'))
+    assert sum("is the number of another code" in p for p in found) == 3, found
+    assert any("(response.labels.1)" in p and "'5'" in p for p in found)
+    # a label that is its own code's number, or a number no code has, is not ambiguous
+    load_spec(write_file("ok.yaml", one_scale("items: [x, y]\n", response='response: {min: 1, max: 5, labels: '
+                                                                          '{1: "1", 2: "20"}}')))
+
+
+@pytest.mark.parametrize("written", ["0x5", "0o5", "0b101", "5_0", "1:30", "+.inf"])
+def test_only_plain_decimal_numbers_are_numbers(write_file, written):
+    # YAML 1.1 reads these as numbers (0x5 is 5, 1:30 is 90); nobody means them in an answer format
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response=f"response: {{min: 1, max: {written}}}"))
+    assert any("(response.max)" in p and "expected a" in p and "number" in p for p in found), found
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response="response: {min: 1, max: 5, "
+                                                                          "missing_codes: [0x9], labels: {0x1: a}}"))
+    assert any("missing_codes[0]" in p and "'0x9'" in p for p in found), found
+    assert any("labels" in p and "'0x1'" in p for p in found), found
+
+
+@pytest.mark.parametrize("response, expected", [
+    ("response: {min: 1, max: 100000000000000000000000000}", "goes beyond +-1,000,000"),
+    ("response: {min: 1, max: 5000000}", "goes beyond +-1,000,000"),
+    ("response: {min: 0, max: 1001}", "has 1,002 levels; rating answers have at most 1,001"),
+    ("response: {min: 1, max: 5, missing_codes: [100000000000000000000000000]}", "larger than 1e+15"),
+])
+def test_answer_ranges_that_cannot_be_rating_answers_are_refused(write_file, response, expected):
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response=response))
+    assert any(expected in p and "docs/limits.md" in p for p in found), found
+
+
+def test_the_widest_allowed_range_is_read(write_file):
+    spec = load_spec(write_file("wide.yaml", one_scale("items: [x, y]\n", response="response: {min: 0, max: 1000}")))
+    assert spec.response.max - spec.response.min == 1000
+
+
+def test_a_huge_range_ends_in_one_error_line_not_an_overflow(basic_files, write_file, tmp_path, capsys):
+    data, _ = basic_files
+    bad = write_file("bad.yaml", BASIC_SCALES.replace("max: 5", "max: 100000000000000000000000000"))
+    code = main(["reliability", str(data), "--scales", str(bad), "--format", "json"])
+    err = capsys.readouterr().err
+    assert code == 3 and err.count("\n") == 1 and "Overflow" not in err and "docs/limits.md" in err
+
+
+def test_a_merge_key_gets_a_plain_message(write_file):
+    found = problems_of(write_file, """\
+        base: &base {min: 1, max: 5}
+        response:
+          <<: *base
+        scales: {a: {items: [x, y]}}
+        """)
+    assert any("merge keys (<<) are not allowed" in p for p in found), found
+    assert not any("object at 0x" in p for p in found), found
+
+
+# -- texts read as "no answer" ----------------------------------------------------------------------------
+
+def test_missing_texts_default_top_level_and_per_scale(write_file):
+    spec = load_spec(write_file("s.yaml", one_scale("items: [x, y]\n")))
+    assert spec.missing_texts == ("NA", "N/A", "#N/A") and spec.response.missing_texts == ("NA", "N/A", "#N/A")
+    spec = load_spec(write_file("t.yaml", """\
+        version: 1
+        missing_texts: [no answer, refused]
+        response: {min: 1, max: 5}
+        scales:
+          a: {items: [x, y]}
+          b: {items: [z], response: {missing_texts: [skipped]}}
+        """.replace("        ", "")))
+    assert spec.missing_texts == ("no answer", "refused")
+    assert spec.scales["a"].response.missing_texts == ("no answer", "refused")
+    assert spec.scales["b"].response.missing_texts == ("skipped",)
+
+
+def test_a_text_both_label_and_missing_text_is_an_error(write_file):
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response="response: {min: 1, max: 3, labels: "
+                                                                          "{1: None, 2: Some, 3: Many}, "
+                                                                          "missing_texts: [none, NA]}"))
+    assert any("'none' is both an answer label and a missing text" in p for p in found), found
+    found = problems_of(write_file, "version: 1\nmissing_texts: [Some]\nresponse: {min: 1, max: 3, labels: "
+                                    "{1: None, 2: Some, 3: Many}}\nscales: {a: {items: [x]}}\n")
+    assert any("'Some' is both" in p for p in found), found
+
+
+def test_a_default_missing_text_that_is_a_label_stays_an_answer(write_file):
+    spec = load_spec(write_file("s.yaml", one_scale("items: [x, y]\n", response="response: {min: 1, max: 3, "
+                                                                                "labels: {1: n/a, 2: b, 3: c}}")))
+    assert spec.response.missing_texts == ("NA", "#N/A")
+
+
+def test_a_number_is_not_a_missing_text(write_file):
+    found = problems_of(write_file, one_scale("items: [x, y]\n", response="response: {min: 1, max: 5, "
+                                                                          "missing_texts: [NA, 99]}"))
+    assert any("'99' is a number: list it in missing_codes" in p for p in found), found

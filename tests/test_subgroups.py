@@ -21,3 +21,21 @@ def test_levels_keep_a_natural_order():
     assert level_order(pd.Series([3, 1, 2, 1])) == [1, 2, 3]
     ordered = pd.Series(pd.Categorical(["mid", "new", "long"], categories=["new", "mid", "long"], ordered=True))
     assert level_order(ordered) == ["new", "mid", "long"]
+
+
+# ---- counting a subgroup column's levels -------------------------------------------------------------------
+
+
+def test_count_levels_tells_continuous_numbers_from_codes_and_texts():
+    from scalewright.analyses.subgroup_columns import count_levels
+
+    ages = count_levels(pd.Series(np.arange(18, 67).astype(str)), column="age")
+    assert (ages.levels, ages.numeric, ages.low, ages.high, ages.looks_continuous) == (49, True, 18, 66, True)
+    minutes = count_levels(pd.Series([1.5, 2.25, 3.0, None]), column="t")
+    assert minutes.levels == 3 and minutes.looks_continuous  # not whole numbers
+    codes = count_levels(pd.Series([100, 200, 300, 400, 500]), column="unit")
+    assert codes.numeric and not codes.looks_continuous  # five codes spread over 401 values
+    same = count_levels(pd.Series(["3", "3.0", " 3 ", "", None, "4"]), column="x")
+    assert same.levels == 2  # '3' and '3.0' are one number; blanks are no level
+    words = count_levels(pd.Series(["a", "b", "a", " "]), column="w")
+    assert (words.levels, words.numeric, words.looks_continuous) == (2, False, False)

@@ -241,3 +241,33 @@ def test_a_group_with_levels_in_the_scale_file_is_ordered():
     cumulative = [c.cumulative_percent for c in result.categories]
     assert [c.category for c in result.categories] == ["new", "mid", "long"]
     assert cumulative == pytest.approx([25.0, 100 * 16 / 24, 100.0])
+
+
+def test_tally_from_counts_equals_tally_of_the_values():
+    # reference: tally() of the values (pandas value_counts inside), the path every other column takes
+    from scalewright.stats.tally import tally_from_counts
+
+    values = pd.Series([1.0] * 3 + [2.0] * 40 + [4.0] * 12 + [np.nan] * 5, name="wl1")
+    labels = {1: "Low", 2: "Mid-low", 3: "Mid", 4: "High"}
+    by_values = tally(values, order=[1, 2, 3, 4], labels=labels, min_cell=5)
+    counts = values.value_counts()
+    by_counts = tally_from_counts({str(v): int(counts.get(float(v), 0)) for v in (1, 2, 3, 4)}, n_total=len(values),
+                                  n_missing=int(values.isna().sum()), column="wl1", ordered=True,
+                                  labels={str(k): v for k, v in labels.items()}, min_cell=5)
+    assert by_counts == by_values
+
+
+def test_answer_distribution_counted_per_level_equals_tally_of_each_column():
+    # reference: tally() of each column (pandas value_counts inside), the route for answers off the levels
+    rng = np.random.default_rng(8)
+    matrix = rng.integers(1, 6, (300, 4)).astype(float)
+    matrix[rng.random(matrix.shape) < 0.1] = np.nan
+    matrix[:, 3] = np.where(matrix[:, 3] == 5, 4, matrix[:, 3])  # a level nobody chose
+    labels = {1: "SD", 2: "D", 3: "N", 4: "A", 5: "SA"}
+    result = answer_distribution(matrix, [1, 2, 3, 4, 5], labels, item_names=list("abcd"), min_cell=5)
+    for j, name in enumerate("abcd"):
+        expected = tally(pd.Series(matrix[:, j], name=name), order=[1, 2, 3, 4, 5], labels=labels, ordered=True,
+                         min_cell=5)
+        assert result.items[j] == expected
+    with pytest.raises(UsageError):
+        answer_distribution(np.array([[1.0], [7.0]]), [1, 2, 3, 4, 5])

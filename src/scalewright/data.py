@@ -12,15 +12,16 @@ import re
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Iterable, Sequence
+from typing import Any, Mapping, Sequence
 
 import numpy as np
 import pandas as pd
 
 from .answer_codes import ItemAnswers
 from .concurrency import worker_count
-from .errors import DataError, Problem
+from .errors import DataError, Problem, UsageError, quoted
 from .read_codes import (
+    RecordTooLong,
     convert_codes,
     fits,
     frame_from_table,
@@ -30,11 +31,13 @@ from .read_codes import (
     without_empty_lines,
 )
 from .spec import ResponseFormat, ScaleSpec, did_you_mean, normalise_answer_text
+from .text_cells import clear_missing_texts, is_plain_number
 
 DELIMITERS = (",", ";", "\t")
 READABLE = (".csv", ".tsv", ".txt", ".xlsx", ".parquet")
 SHOW_FIRST = 20  # bad cells listed one by one before the rest are only counted
 ROW_NUMBERS = "scalewright_row_numbers"  # frame.attrs key: spreadsheet row numbers when empty lines shift them
+MISSING_CELLS = "scalewright_missing_cells"  # frame.attrs key: the cells read_table read as missing
 
 
 # ----------------------------------------------------------------------------------------------------------
@@ -43,13 +46,7 @@ ROW_NUMBERS = "scalewright_row_numbers"  # frame.attrs key: spreadsheet row numb
 
 def sniff_delimiter(header_line: str) -> str:
     """The delimiter among , ; and tab that occurs most in the header line (outside quotes)."""
-    outside, quoted = [], False
-    for char in header_line:
-        if char == '"':
-            quoted = not quoted
-        elif not quoted:
-            outside.append(char)
-    text = "".join(outside)
+    text = re.sub(r'"[^"]*(?:"|$)', "", header_line)  # quoted parts, each up to its closing quote or the end
     counts = {d: text.count(d) for d in DELIMITERS}
     best = max(counts, key=lambda d: counts[d])
     return best if counts[best] > 0 else ","
@@ -71,13 +68,38 @@ def _decode_check(path: Path, body: bytes) -> bytes:
     return body
 
 
-HEAD_BYTES = 1 << 20  # enough for any header record, even one whose quoted names hold line breaks
+HEAD_BYTES = 1 << 20  # read at a time while looking for the end of the header record
 
 
 def _head(path: Path) -> bytes:
-    """The first mebibyte of the file (all of a shorter one)."""
+    """The start of the file up to and including its whole header record (all of a shorter file).
+
+    The header ends at the first line break outside quotes (a quoted name may hold one); a header longer
+    than :data:`scalewright.limits.MAX_RECORD_BYTES` is refused.
+    """
+    from . import limits
+
+    head = b""
     with open(path, "rb") as handle:
-        return handle.read(HEAD_BYTES)
+        while True:
+            block = handle.read(HEAD_BYTES)
+            head += block
+            if not block or _header_end(head) is not None:
+                return head
+            if len(head) > limits.MAX_RECORD_BYTES:
+                raise DataError(Problem(file=str(path), line=1, message=f"the header is longer than "
+                                        f"{limits.MAX_RECORD_BYTES // 2**20} MiB (see docs/limits.md)"))
+
+
+def _header_end(head: bytes) -> int | None:
+    """Position of the first line break outside quotes, or None."""
+    quoted = False
+    for found in re.finditer(rb'["\r\n]', head):
+        if found.group() == b'"':
+            quoted = not quoted
+        elif not quoted:
+            return found.start()
+    return None
 
 
 def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]]:
@@ -106,18 +128,28 @@ def _delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]
     return sep, names
 
 
-def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
-    """The file as a pandas frame (typed as ``pandas.read_csv`` types it); ``frame.attrs[ROW_NUMBERS]`` holds the
-    rows' spreadsheet numbers when empty lines shift them."""
-    sep, _ = _delimited_header(path, delimiter)
+def _read_delimited(path: Path, delimiter: str | None, text_columns: Sequence[str] = ()) -> pd.DataFrame:
+    """The file as a pandas frame (typed as ``pandas.read_csv`` types it, ``text_columns`` as text);
+    ``frame.attrs[ROW_NUMBERS]`` holds the rows' spreadsheet numbers when empty lines shift them."""
+    from . import limits
+
+    sep, raw_names = _delimited_header(path, delimiter)
+    import pyarrow as pa
+
+    types = {raw: pa.string() for raw in raw_names if raw.strip() in set(text_columns)}
     try:
         # the quick route's parse, with every column's type inferred (it keeps undecodable bytes as binary)
-        kept = without_empty_lines(parse_delimited(path, sep), path, sep)
-        frame, row_numbers = ((frame_from_table(parse_delimited(path, sep, keep_empty_lines=False)), None)
+        kept = without_empty_lines(parse_delimited(path, sep, column_types=types), path, sep)
+        frame, row_numbers = ((frame_from_table(parse_delimited(path, sep, column_types=types,
+                                                                keep_empty_lines=False)), None)
                               if kept is None else (frame_from_table(kept[0]), kept[1]))
+    except RecordTooLong:
+        raise DataError(Problem(file=str(path), message=f"a row is longer than {limits.MAX_RECORD_BYTES // 2**20} MiB "
+                                                        "(see docs/limits.md)")) from None
     except Exception as error:  # pyarrow raises its own error types for ragged or broken rows
-        message = str(error).splitlines()[0] if str(error) else type(error).__name__
-        raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): {message}")) from None
+        message = str(error).strip().splitlines()[0] if str(error).strip() else type(error).__name__
+        raise DataError(Problem(file=str(path), message=f"cannot parse as delimited text ({sep!r}): "
+                                                        f"{_cut(message)}")) from None
     if any(frame[c].dtype == object and pd.api.types.infer_dtype(frame[c], skipna=True) not in ("string", "empty")
            for c in frame.columns):
         _decode_check(path, path.read_bytes())  # pyarrow kept undecodable bytes: name the first bad byte
@@ -126,20 +158,37 @@ def _read_delimited(path: Path, delimiter: str | None) -> pd.DataFrame:
     return frame
 
 
-def _check_header(path: Path, names: Sequence[str]) -> None:
+def _check_header(path: Path, names: Sequence[str], *, line: int | None = 1) -> None:
+    from .limits import MAX_COLUMNS
+
+    if len(names) > MAX_COLUMNS:
+        raise DataError(Problem(file=str(path), line=line, message=f"the file has {len(names):,} columns, more than "
+                                                                   f"{MAX_COLUMNS:,} (see docs/limits.md)"))
     seen: set[str] = set()
     for position, name in enumerate(names, start=1):
         if not name:
-            raise DataError(Problem(file=str(path), line=1, where=f"column {position}",
+            raise DataError(Problem(file=str(path), line=line, where=f"column {position}",
                                     message="the header has an empty column name"))
         if name in seen:
-            raise DataError(Problem(file=str(path), line=1, where=f"column {position}",
-                                    message=f"the column name {name!r} appears twice in the header"))
+            raise DataError(Problem(file=str(path), line=line, where=f"column {position}",
+                                    message=f"the column name {quoted(name)} appears twice in the header"))
         seen.add(name)
 
 
-def read_table(path: str | Path, *, delimiter: str | None = None) -> pd.DataFrame:
-    """Read a CSV/TSV, XLSX or Parquet file as it is (no scale file needed), by its extension."""
+def _cut(message: str, limit: int = 200) -> str:
+    """A library's message, first line only and cut: it is quoted inside one of ours."""
+    first = message.strip().splitlines()[0] if message.strip() else ""
+    return first if len(first) <= limit else first[: limit - 3] + "..."
+
+
+def read_table(path: str | Path, *, delimiter: str | None = None, text_columns: Sequence[str] = (),
+               sheet: str | None = None, missing_texts: Sequence[str] | None = None) -> pd.DataFrame:
+    """Read a CSV/TSV, XLSX or Parquet file as it is (no scale file needed), by its extension.
+
+    ``text_columns`` are read as text whatever they hold (ids); ``sheet`` names the sheet of a workbook
+    with several. With ``missing_texts``, text cells that are blank or one of those texts become missing
+    (counted in ``frame.attrs[MISSING_CELLS]``, see :func:`scalewright.text_cells.clear_missing_texts`).
+    """
     path = Path(path)
     suffix = path.suffix.lower()
     if not path.exists():
@@ -149,27 +198,50 @@ def read_table(path: str | Path, *, delimiter: str | None = None) -> pd.DataFram
     if suffix not in READABLE:
         raise DataError(Problem(file=str(path), message=f"cannot read {suffix or 'files without an extension'}; "
                                                         "use .csv, .tsv, .xlsx or .parquet"))
+    if sheet is not None and suffix != ".xlsx":
+        raise UsageError(f"--sheet is for workbooks (.xlsx); {quoted(path.name)} is not one")
     if suffix in (".csv", ".txt"):
-        frame = _read_delimited(path, delimiter)
+        frame = _read_delimited(path, delimiter, text_columns)
     elif suffix == ".tsv":
-        frame = _read_delimited(path, delimiter or "\t")
+        frame = _read_delimited(path, delimiter or "\t", text_columns)
     elif suffix == ".xlsx":
-        try:
-            frame = pd.read_excel(path, engine="openpyxl")
-        except Exception as error:  # openpyxl raises several types for broken workbooks
-            raise DataError(Problem(file=str(path), message=f"cannot read the workbook: {error}")) from None
-        frame.columns = [str(c).strip() for c in frame.columns]
-        _check_header(path, [c for c in frame.columns])
+        from .workbook import read_workbook
+
+        frame = read_workbook(path, sheet=sheet)
+        _check_header(path, list(frame.columns))
     else:
-        try:
-            frame = pd.read_parquet(path)
-        except Exception as error:  # pyarrow raises its own types for broken files
-            raise DataError(Problem(file=str(path), message=f"cannot read the Parquet file: {error}")) from None
-        frame.columns = [str(c).strip() for c in frame.columns]
+        frame = _read_parquet(path)
+    if missing_texts is not None:
+        frame, found = clear_missing_texts(frame, missing_texts, skip=text_columns)
+        frame.attrs[MISSING_CELLS] = found
     if len(frame.columns) == 0:
         raise DataError(Problem(file=str(path), message="the file has no columns"))
     if len(frame) == 0:
         raise DataError(Problem(file=str(path), message="the file has a header but no rows of data"))
+    return frame
+
+
+def _read_parquet(path: Path) -> pd.DataFrame:
+    """A Parquet file, after refusing duplicate column names and cells that hold lists or records."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    try:
+        schema = pq.read_schema(path)
+    except Exception as error:  # pyarrow raises its own types for broken files
+        raise DataError(Problem(file=str(path), message=f"cannot read the Parquet file: {_cut(str(error))}")) from None
+    _check_header(path, [str(name).strip() for name in schema.names], line=None)
+    for position, column in enumerate(schema, start=1):
+        if pa.types.is_nested(column.type) or pa.types.is_dictionary(column.type) and \
+                pa.types.is_nested(column.type.value_type):
+            raise DataError(Problem(file=str(path), where=f"column {quoted(column.name)}",
+                                    message=f"the column holds {_cut(str(column.type), 40)} values, not one value per "
+                                            "cell; store one answer per cell"))
+    try:
+        frame = pd.read_parquet(path)
+    except Exception as error:  # pyarrow raises its own types for broken files
+        raise DataError(Problem(file=str(path), message=f"cannot read the Parquet file: {_cut(str(error))}")) from None
+    frame.columns = [str(c).strip() for c in frame.columns]
     return frame
 
 
@@ -203,6 +275,10 @@ class Responses:
     missing_code_by_column: dict[str, int] = field(default_factory=dict)
     blank_by_column: dict[str, int] = field(default_factory=dict)
     texts_by_column: dict[str, int] = field(default_factory=dict)
+    #: column -> "no answer" text as the scale file lists it -> cells read as missing (items and other columns)
+    missing_texts_by_column: dict[str, dict[str, int]] = field(default_factory=dict)
+    #: the "no answer" texts of the columns that are not items
+    missing_texts: tuple[str, ...] = ()
     #: every column name in the order the data file has them (items in questionnaire order, for longstring)
     file_columns: tuple[str, ...] = ()
 
@@ -249,20 +325,13 @@ class Responses:
             line_numbers=self.line_numbers[positions], id_column=self.id_column, refused=self.refused,
             refused_total=self.refused_total, refused_by_column=self.refused_by_column,
             missing_code_by_column=self.missing_code_by_column, blank_by_column=self.blank_by_column,
-            texts_by_column=self.texts_by_column, file_columns=self.file_columns)
+            texts_by_column=self.texts_by_column, missing_texts_by_column=self.missing_texts_by_column,
+            missing_texts=self.missing_texts, file_columns=self.file_columns)
 
     def items_in_file_order(self) -> tuple[str, ...]:
         """The item names in the order their columns stand in the data file."""
         rank = {name: position for position, name in enumerate(self.file_columns)}
         return tuple(sorted(self.item_names, key=lambda item: rank.get(item, len(rank))))
-
-    def without_ids(self, ids: Iterable[str]) -> tuple["Responses", int, list[str]]:
-        """Drop the respondents whose id is listed; return the rest, how many were dropped, unknown ids."""
-        wanted = {str(i).strip() for i in ids if str(i).strip()}
-        present = self.ids.astype(str)
-        drop = present.isin(wanted).to_numpy()
-        unknown = sorted(wanted - set(present[drop]))
-        return self.subset(~drop), int(drop.sum()), unknown
 
     def notes(self) -> list[str]:
         """Plain-language notes about what reading the data changed."""
@@ -274,7 +343,26 @@ class Responses:
         codes = sum(self.missing_code_by_column.values())
         if codes:
             out.append(f"{codes} 'no answer' code(s) were read as missing")
+        texts = sum(sum(counts.values()) for counts in self.missing_texts_by_column.values())
+        if texts:
+            by_text: dict[str, int] = {}
+            for counts in self.missing_texts_by_column.values():
+                for text, count in counts.items():
+                    by_text[text] = by_text.get(text, 0) + count
+            detail = ", ".join(f"{quoted(t)} {n}" for t, n in by_text.items())
+            out.append(f"{texts} cell(s) holding a 'no answer' text were read as missing: {detail}")
         return out
+
+    def missing_texts_note(self, spec: ScaleSpec) -> str:
+        """Which texts were read as "no answer" (the scale file's ``missing_texts`` or the default)."""
+        def shown(texts: Sequence[str]) -> str:
+            return ", ".join(quoted(t) for t in texts) if texts else "none"
+
+        differ = [f"{scale.name}: {shown(scale.response.missing_texts)}" for scale in spec.scales.values()
+                  if scale.response.missing_texts != spec.missing_texts]
+        return (f"texts read as 'no answer' (missing_texts): {shown(spec.missing_texts)}"
+                + (f"; in the items of {'; '.join(differ)}" if differ else "")
+                + "; blank cells and 'no answer' codes are missing too, every other text is data")
 
     def reading_summary(self) -> dict[str, Any]:
         return {
@@ -285,6 +373,8 @@ class Responses:
             "missing_code_by_column": dict(self.missing_code_by_column),
             "blank_by_column": dict(self.blank_by_column),
             "texts_by_column": dict(self.texts_by_column),
+            "missing_texts": list(self.missing_texts),
+            "missing_texts_by_column": {column: dict(counts) for column, counts in self.missing_texts_by_column.items()},
         }
 
 
@@ -295,6 +385,7 @@ class _Converted:
     missing_codes: int
     blanks: int
     texts: int
+    missing_texts: dict[str, int] = field(default_factory=dict)
 
 
 def _text_lookup(fmt: ResponseFormat) -> dict[str, float]:
@@ -302,36 +393,49 @@ def _text_lookup(fmt: ResponseFormat) -> dict[str, float]:
 
 
 def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | None = None) -> _Converted:
-    """Codes of one item column: texts via labels, missing codes and blanks to NaN, the rest checked.
+    """Codes of one item column: texts via labels, missing codes, missing texts and blanks to NaN, the
+    rest checked: a number that is not one of the whole answer codes (``2.5`` on 1..5, ``7``) is refused.
 
     ``out`` (a float64 vector of the column's length) receives the codes in place, sparing a copy.
     """
     texts = 0
+    missing_texts: dict[str, int] = {}
+    listed_blank = 0  # cells of a listed "no answer" text: NaN below, but not blank
     if pd.api.types.is_bool_dtype(series.dtype):
         series = series.astype(object)
     if pd.api.types.is_numeric_dtype(series.dtype):
         raw = series.to_numpy(dtype=np.float64, na_value=np.nan)
     else:
         lookup = _text_lookup(fmt)
+        listed = fmt.missing_text_for()
         # each distinct text is decoded once; the column is a vector of positions into them (-1 = blank)
         positions, uniques = pd.factorize(series)
         decoded = np.full(len(uniques) + 1, np.nan)  # the extra last entry serves position -1
         is_label = np.zeros(len(uniques) + 1, dtype=bool)
+        listed_at: dict[int, str] = {}
         for index, text_value in enumerate(uniques):
             text = normalise_answer_text(text_value)
             if text in lookup:
                 decoded[index], is_label[index] = lookup[text], True
+            elif text in listed:
+                listed_at[index] = listed[text]
             elif text:
                 # an unknown text is read as infinity: above any range, so refused below
                 decoded[index] = float(text) if _is_number(text) else np.inf
         raw = decoded[positions]
         texts = int(np.count_nonzero(is_label[positions])) if is_label.any() else 0
+        if listed_at:
+            counts = np.bincount(positions[positions >= 0], minlength=len(uniques))
+            for index, text in listed_at.items():
+                missing_texts[text] = missing_texts.get(text, 0) + int(counts[index])
+            listed_blank = sum(missing_texts.values())
     if out is None:
         out = np.empty(len(raw), dtype=np.float64)
     out[:] = raw  # a copy in every case: the frame's own data is never changed
     values = out
-    blanks = int(np.count_nonzero(np.isnan(values)))
-    outside = (values < fmt.min) | (values > fmt.max)  # NaN compares False: blanks are not refused
+    blanks = int(np.count_nonzero(np.isnan(values))) - listed_blank
+    # NaN compares False: blanks are not refused; a number between two codes is not an answer either
+    outside = (values < fmt.min) | (values > fmt.max) | (np.isfinite(values) & (values != np.trunc(values)))
     missing_codes = 0
     if fmt.missing_codes:
         is_code = values == fmt.missing_codes[0]
@@ -343,29 +447,29 @@ def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | No
             values[is_code] = np.nan
     if outside.any():
         values[outside] = np.nan
-    return _Converted(values=values, bad=outside, missing_codes=missing_codes, blanks=blanks, texts=texts)
+    return _Converted(values=values, bad=outside, missing_codes=missing_codes, blanks=blanks, texts=texts,
+                      missing_texts=missing_texts)
 
 
 def _describe_bad(value: Any, fmt: ResponseFormat) -> str:
-    shown = repr(value) if isinstance(value, str) else (f"{value:g}" if isinstance(value, float) else f"{value}")
+    if isinstance(value, str) and not _is_number(value):
+        shown = quoted(value)
+        known = f"; known answer texts: {', '.join(quoted(t) for t in fmt.labels.values())}" if fmt.labels else ""
+        return f"{shown} is not an answer text of this item{known}"
+    number = float(value)
+    shown = quoted(value) if isinstance(value, str) else (f"{value:g}" if isinstance(value, float) else f"{value}")
+    if fmt.min <= number <= fmt.max:
+        return f"{shown} lies between the answer codes {fmt.min}..{fmt.max}, which are whole numbers"
     codes = f" and is not a 'no answer' code ({', '.join(f'{c:g}' for c in fmt.missing_codes)})" \
         if fmt.missing_codes else ""
-    if isinstance(value, str) and not _is_number(value):
-        known = f"; known answer texts: {', '.join(repr(t) for t in fmt.labels.values())}" if fmt.labels else ""
-        return f"{shown} is not an answer text of this item{known}"
     return f"{shown} is outside the answer range {fmt.min}..{fmt.max}{codes}"
 
 
-#: a number as a person types one: ASCII digits, one optional sign, point and exponent. Python's float()
-#: also takes "1_2", "nan", "inf" and digits of other scripts, none of which is an answer code.
-_PLAIN_NUMBER = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
-
-
 def _is_number(text: str) -> bool:
-    return _PLAIN_NUMBER.fullmatch(str(text).strip()) is not None
+    return is_plain_number(text)
 
 
-def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) -> Responses:
+def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, sheet: str | None = None) -> Responses:
     """Read the data file and check it against the scale file.
 
     Raises ``DataError`` naming row and column for every refused value (the first 20 and the total)
@@ -373,13 +477,13 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
 
     A delimited file whose item columns hold only whole numbers takes the quick route of
     :mod:`scalewright.read_codes`; any other file, and any file that route cannot take, the general one.
-    Both give the same result.
+    Both give the same result. ``sheet`` names the sheet of a workbook with several.
     """
     path = Path(path)
     needed = list(spec.items)
-    quick = _read_quickly(path, spec)
+    quick = _read_quickly(path, spec) if sheet is None else None
     if quick is None:
-        frame = read_table(path)
+        frame = read_table(path, text_columns=[spec.id_column] if spec.id_column else (), sheet=sheet)
         row_numbers = frame.attrs.get(ROW_NUMBERS)
         columns = list(frame.columns)
         _check_columns_present(path, spec, columns)
@@ -391,6 +495,8 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
         n = table.num_rows
     start = first_row_number(path)
     line_numbers = np.arange(start, start + n) if row_numbers is None else np.asarray(row_numbers)
+    rest, other_missing = clear_missing_texts(rest, spec.missing_texts, skip=[spec.id_column] if spec.id_column else (),
+                                              count_blank=spec.groups)
     with ThreadPoolExecutor(max_workers=worker_count()) as pool:
         # the id check and the item columns are independent; both release the interpreter lock
         ids_checked = pool.submit(_check_ids, path, rest, spec.id_column, line_numbers)
@@ -403,8 +509,11 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
     missing_by_column: dict[str, int] = {}
     blank_by_column: dict[str, int] = {}
     texts_by_column: dict[str, int] = {}
+    missing_texts_by_column: dict[str, dict[str, int]] = {}
     for name, column in zip(needed, converted):
         fmt = spec.response_for(name)
+        if column.missing_texts:
+            missing_texts_by_column[name] = dict(column.missing_texts)
         if column.missing_codes:
             missing_by_column[name] = column.missing_codes
         if column.blanks:
@@ -427,13 +536,19 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False) 
                                                   "'no answer' code; fix them, add them to missing_codes, or use "
                                                   "--lenient to treat them as missing")
         raise DataError([*in_row_order, summary] if bad_total > 1 else in_row_order)
+    for column in spec.groups:
+        if column in other_missing.blank:
+            blank_by_column[column] = other_missing.blank[column]
+    missing_texts_by_column.update(other_missing.texts)
     for column, order in spec.group_levels.items():
-        rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient)
+        rest[column] = _ordered_levels(path, rest[column], column, order, line_numbers, lenient=lenient,
+                                       codes=getattr(spec, "group_codes", {}).get(column))
     return Responses(path=str(path), answers=answers, item_names=tuple(needed), frame=rest.reset_index(drop=True),
-                     ids=ids, line_numbers=line_numbers, id_column=spec.id_column,
+                     ids=ids, line_numbers=line_numbers, id_column=spec.id_column, missing_texts=spec.missing_texts,
                      refused=tuple(problem for _, problem in bad_sample), refused_total=bad_total, refused_by_column=refused_by_column,
                      missing_code_by_column=missing_by_column, blank_by_column=blank_by_column,
-                     texts_by_column=texts_by_column, file_columns=tuple(columns))
+                     texts_by_column=texts_by_column, missing_texts_by_column=missing_texts_by_column,
+                     file_columns=tuple(columns))
 
 
 def _answer_ranges(spec: ScaleSpec) -> tuple[list[int], list[int]]:
@@ -472,7 +587,7 @@ def _read_quickly(path: Path, spec: ScaleSpec):
     wanted = set(spec.items) | ({spec.id_column} if spec.id_column else set()) | set(spec.groups)
     if not wanted <= {name.strip() for name in raw_names}:
         return None  # a column is absent: the general route reports it, after any problem it finds first
-    read = read_whole_number_table(path, sep, raw_names, spec.items)
+    read = read_whole_number_table(path, sep, raw_names, spec.items, [spec.id_column] if spec.id_column else ())
     if read is None:
         return None
     table, row_numbers = read
@@ -496,16 +611,36 @@ def _check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) 
 
 
 def _ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],
-                    line_numbers: np.ndarray, *, lenient: bool) -> pd.Series:
-    """A group column as an ordered categorical in the scale file's order; unknown levels are refused."""
+                    line_numbers: np.ndarray, *, lenient: bool, codes: Mapping[str, str] | None = None) -> pd.Series:
+    """A group column as an ordered categorical in the scale file's order; unknown levels are refused.
+
+    Numbers match numerically, as item answers do: ``3.0`` in the file is the level ``3``. With ``codes``
+    (``{"1": "woman", ...}`` from the scale file) the data's codes become their names, so tables, figures and
+    sentences say "woman", not "gender = 1"; a value already written as a name is kept.
+    """
     text = values.astype("string").str.strip()
     text = text.mask(text == "")
+    if codes:
+        whole = text.str.replace(r"^(-?\d+)\.0+$", r"\1", regex=True)  # 1.0 as read from a float column is 1
+        text = whole.map(lambda value: codes.get(value, value) if isinstance(value, str) else value,
+                         na_action="ignore").astype("string")
+        order_text = f"{', '.join(f'{code} = {name}' for code, name in codes.items())}"
+    else:
+        order_text = ", ".join(order)
+    numeric_levels = {float(level): level for level in order if is_plain_number(level)}
+    if numeric_levels:
+        distinct = text.dropna().unique()
+        renamed = {value: numeric_levels[float(value)] for value in distinct
+                   if value not in order and is_plain_number(value) and float(value) in numeric_levels}
+        if renamed:
+            text = text.replace(renamed)
     unknown = text.notna() & ~text.isin(order)
     if unknown.any() and not lenient:
         first = int(np.flatnonzero(unknown.to_numpy())[0])
         raise DataError(Problem(file=str(path), where=f"row {line_numbers[first]}, column {column}",
-                                message=f"{text.iloc[first]!r} is not one of the levels the scale file lists for "
-                                        f"{column} ({', '.join(order)}); {int(unknown.sum())} such value(s)"))
+                                message=f"{quoted(values.astype('string').iloc[first])} is not one of the levels "
+                                        f"the scale file lists for {column} ({order_text}); {int(unknown.sum())} "
+                                        "such value(s)"))
     return pd.Series(pd.Categorical(text.where(~unknown), categories=list(order), ordered=True), name=column)
 
 
@@ -520,39 +655,31 @@ def _check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numb
         rows = line_numbers[empty]
         raise DataError(Problem(file=str(path), where=f"row {rows[0]}, column {id_column}",
                                 message=f"the id is empty ({int(empty.sum())} row(s) without an id)"))
-    ids = _ids_as_text(raw)
+    ids = _ids_as_text(raw, str(path), line_numbers)
     if ids.is_unique:  # one hash pass; the slower search for the duplicates only when there are some
         return ids.rename(id_column).reset_index(drop=True)
     duplicated = ids.duplicated(keep=False).to_numpy()
     first_value = ids[duplicated].iloc[0]
     rows = line_numbers[(ids == first_value).to_numpy()]
     raise DataError(Problem(file=str(path), where=f"column {id_column}",
-                            message=f"id {first_value!r} appears more than once (rows "
+                            message=f"id {quoted(first_value)} appears more than once (rows "
                                     f"{', '.join(str(r) for r in rows[:5])}); "
                                     f"{int(ids.duplicated().sum())} duplicate id(s) in all"))
 
 
-def _ids_as_text(raw: pd.Series) -> pd.Series:
+def _ids_as_text(raw: pd.Series, path_text: str = "", line_numbers: np.ndarray | None = None) -> pd.Series:
     """Ids as text, whole-number floats without '.0' (a spreadsheet's 17 is the id '17')."""
     if pd.api.types.is_integer_dtype(raw.dtype):
         return raw.astype(str)
     if pd.api.types.is_float_dtype(raw.dtype):
         values = raw.to_numpy(dtype=np.float64)
+        too_long = np.abs(values) >= 2.0**53  # beyond this a float no longer holds every whole number
+        if too_long.any():
+            raise DataError(Problem(file=path_text, where=f"row {line_numbers[np.flatnonzero(too_long)[0]]}, column "
+                                                          f"{raw.name}",
+                                    message=f"the id {values[too_long][0]:.17g} is a number too long to be held "
+                                            "exactly (the file stores it as a number); store the ids as text"))
         if np.all(np.mod(values, 1) == 0):
             return pd.Series(values.astype(np.int64).astype(str), index=raw.index)
         return raw.astype(str)
     return raw.astype(str).str.strip()
-
-
-def read_exclusion_list(path: str | Path) -> list[str]:
-    """Ids to set aside: a CSV (first column, below a header) or plain text with one id per line."""
-    path = Path(path)
-    if not path.exists():
-        raise DataError(Problem(file=str(path), message="exclusion list not found"))
-    body = _decode_check(path, path.read_bytes()).decode("utf-8")
-    lines = [line for line in body.splitlines() if line.strip() and not line.lstrip().startswith("#")]
-    if path.suffix.lower() in (".csv", ".tsv"):
-        sep = "\t" if path.suffix.lower() == ".tsv" else sniff_delimiter(lines[0] if lines else "")
-        rows = list(csv.reader(lines, delimiter=sep))
-        return [row[0].strip() for row in rows[1:] if row and row[0].strip()]
-    return [line.strip() for line in lines]

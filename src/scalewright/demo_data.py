@@ -58,12 +58,12 @@ import pandas as pd
 
 from .errors import UsageError
 from .results import to_jsonable
+from .seeds import DEFAULT_SEED  # the one default seed of the tool
 
 #: file name of the scale file shipped in ``scalewright/resources`` (and copied to ``scales/``)
 SCALE_FILE_NAME = "staff-climate.yaml"
 #: file name of the data file ``scalewright demo`` writes
 DATA_FILE_NAME = "staff-climate.csv"
-DEFAULT_SEED = 2026
 DEFAULT_N = 600
 POPULATION_SIZE = 200_000
 POPULATION_SEED = 20_260_611
@@ -405,7 +405,7 @@ def generate_staff_climate(seed: int = DEFAULT_SEED, n: int = DEFAULT_N) -> tupl
     seconds[random_rows] = rng.lognormal(np.log(135), 0.30, size=len(random_rows))
     seconds[partial_rows] *= (stop + 1) / p
 
-    ids = np.char.add("KB", (rng.choice(90_000, size=n, replace=False) + 10_000).astype(str)).astype(object)
+    ids = _staff_ids(rng, n)
     frame = pd.DataFrame({
         "staff_id": ids,
         "site": np.asarray(SITES, dtype=object)[groups["site"]],
@@ -437,6 +437,16 @@ def generate_staff_climate(seed: int = DEFAULT_SEED, n: int = DEFAULT_N) -> tupl
         careless=kind != "", careless_kind=kind, partial=partial,
     )
     return frame, truth
+
+
+def _staff_ids(rng: np.random.Generator, n: int) -> np.ndarray:
+    """``n`` distinct ids ``KB`` + digits: five digits while they suffice (so a seed keeps its ids), more above."""
+    digits = 5
+    while 9 * 10 ** (digits - 1) < n:
+        digits += 1
+    low = 10 ** (digits - 1)
+    numbers = rng.choice(9 * low, size=n, replace=False) + low
+    return np.char.add("KB", numbers.astype(str)).astype(object)
 
 
 def scale_file_text() -> str:

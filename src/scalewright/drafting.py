@@ -30,10 +30,14 @@ NUMBER = "number"
 EMPTY = "empty"
 CONSTANT = "constant"
 UNCLEAR = "unclear"
+ROW_NUMBER = "row number"
 
 MAX_RATING_POINTS = 11  # 0-10 is the widest common rating format (common practice, no source)
 MAX_CATEGORY_LEVELS = 12  # more text levels than this reads as free text (common practice, no source)
 MIN_ROWS_FOR_CORRELATIONS = 10
+#: a stand-alone column of whole-number codes with this many levels reads as a coded category (gender 1/2,
+#: education 1-5), proposed as a group; common practice, no source
+CODED_GROUP_LEVELS = (2, 7)
 # Items of one scale usually correlate at least about .15-.20 (Clark & Watson 1995, Psychol. Assess. 7:309-319,
 # recalled from memory, suggest a mean inter-item r of .15-.50); below this an item is not grouped with the rest.
 MIN_ABS_R = 0.20
@@ -292,6 +296,11 @@ def _peel_codes(numbers: pd.Series, *, texts_are_answers: bool = False) \
 _ID_WORDS = {"id", "uuid", "guid", "respondent", "participant", "case", "record", "key"}
 
 
+def _is_row_numbering(values: np.ndarray) -> bool:
+    """0, 1, 2, ... or 1, 2, 3, ... in file order: the row numbers a spreadsheet or data frame export adds."""
+    return bool(values[0] in (0, 1) and np.array_equal(values, values[0] + np.arange(values.size)))
+
+
 def _looks_like_id_name(name: str) -> bool:
     words = re.sub(r"([a-z])([A-Z])", r"\1 \2", name)
     tokens = {t.casefold() for t in re.split(r"[^A-Za-z0-9]+|(?<=[a-z])(?=\d)", words) if t}
@@ -377,6 +386,9 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, _Parsed
     if numbers.nunique() == 1:
         return ColumnProfile(role=CONSTANT, reason=f"one value only ({numbers.iloc[0]:g})", **base), parsed
     all_integers = bool(np.all(np.equal(np.mod(numbers.to_numpy(), 1), 0)))
+    if all_integers and not n_blank and n_values >= 3 and _is_row_numbering(numbers.to_numpy()):
+        return ColumnProfile(role=ROW_NUMBER, reason=f"row numbers {numbers.iloc[0]:g} to {numbers.iloc[-1]:g} in "
+                             "file order, not a respondent id", **base), parsed
     # serial numbers are dense; distinct whole numbers spread far wider than n are more likely counts or durations
     dense = numbers.max() - numbers.min() < 2 * n_values
     if all_integers and n_distinct == n_values and (_looks_like_id_name(name) or (dense and not rating_numbers)):
@@ -570,16 +582,23 @@ def correlation_clusters(abs_corr: np.ndarray, *, threshold: float) -> list[list
 
 
 def propose_reverse_keys(cov: np.ndarray) -> np.ndarray:
-    """Signs (+1 as worded, -1 reversed) that leave no item with a negative item-rest correlation.
+    """Signs (+1 as worded, -1 reversed) from the signs of the items' loadings on the first factor.
 
-    Reverse keying an item flips the sign of its covariances with the others, so this works on the
-    covariance matrix alone. The item with the most negative item-rest r is reversed, then all are
-    rechecked; each step raises the variance of the total strictly, so it ends. When more than half the
-    items end up reversed, the complement is reversed instead (the same scale pointing the other way).
+    The first principal axis of the correlation matrix, signed so that most items load positively
+    (:func:`scalewright.stats.reliability.first_factor_signs`, the rule of the ``miskey-suspect`` flag): an
+    item loading below -.10 is proposed for reversing. Item-rest r is not used to decide: when several items
+    point the other way, the rest of a correctly worded item holds them and its item-rest r misleads. With
+    two items (no factor to speak of) the second is reversed when they correlate negatively.
     """
-    from .stats.reliability import item_rest_correlations_from_cov
+    from .stats.item_covariance import correlation_from_cov
+    from .stats.reliability import MISKEY_MIN_LOADING, first_factor_signs, item_rest_correlations_from_cov
 
     k = cov.shape[0]
+    corr = correlation_from_cov(cov)
+    if k >= 3 and np.isfinite(corr).all():
+        loadings = first_factor_signs(np.full(k, np.nan), corr)
+        if np.isfinite(loadings).all():
+            return np.where(loadings < -MISKEY_MIN_LOADING, -1.0, 1.0)
     signs = np.ones(k)
     for _ in range(2 * k):
         r = item_rest_correlations_from_cov(cov * np.outer(signs, signs))
@@ -602,7 +621,7 @@ def _fmt_r(value: float) -> str:
 
 
 def _scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarray, fmt: AnswerFormat,
-                        notes: list[str]) -> ScaleDraft:
+                        notes: list[str], weak: frozenset[str] = frozenset()) -> ScaleDraft:
     from .stats.item_covariance import item_covariance
     from .stats.reliability import (
         cronbach_alpha_from_cov,
@@ -618,6 +637,8 @@ def _scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarr
         signs = np.ones(k)
     else:
         signs = propose_reverse_keys(cov)
+    # an item kept only as its likeliest scale is too weakly related to tell its direction: left as worded
+    signs = np.where([item in weak for item in items], 1.0, signs)
     worded_r = item_rest_correlations_from_cov(cov)
     keyed_cov = cov * np.outer(signs, signs)
     keyed_r = item_rest_correlations_from_cov(keyed_cov)
@@ -718,8 +739,17 @@ def draft_scales(frame: pd.DataFrame) -> Draft:
     taken: set[str] = set()
     groups = _stem_groups(profiles)
     grouped = {p.name for members in groups.values() if len(members) >= 2 for p in members}
+    coded_groups: list[str] = []
     for profile in profiles:
         if profile.role == RATING and profile.name not in grouped:
+            levels = parsed[profile.name].numbers.dropna().nunique()
+            whole = not profile.texts and CODED_GROUP_LEVELS[0] <= levels <= CODED_GROUP_LEVELS[1]
+            if whole:
+                coded_groups.append(profile.name)
+                notes.append(f"{profile.name}: {levels} whole-number codes and no name stem shared with answer "
+                             "columns: proposed as a group; name its codes in the scale file, e.g. "
+                             f"{{{profile.name}: {{1: ..., 2: ...}}}}, or drop it if it is a single item")
+                continue
             why = "shares no name stem with another answer column" if profile.stem is None or \
                 len(groups.get(profile.stem, [])) < 2 else "stands alone"
             set_aside.append(SetAside(column=profile.name, stem=profile.stem,
@@ -740,28 +770,47 @@ def draft_scales(frame: pd.DataFrame) -> Draft:
             corr = correlation_from_cov(stats.cov)
             threshold = correlation_threshold(stats.n_used)
             clusters = correlation_clusters(np.abs(corr), threshold=threshold)
+        kept = [c for c in clusters if len(c) >= 2]
+        weak_notes: dict[int, list[str]] = {}
+        weak_items: dict[int, list[str]] = {}
+        if stats.n_used >= MIN_ROWS_FOR_CORRELATIONS:
             for cluster in clusters:
-                if len(cluster) == 1:
-                    j = cluster[0]
+                if len(cluster) != 1:
+                    continue
+                j = cluster[0]
+                if not kept:
                     others = [i for i in range(len(members)) if i != j]
                     mean_r = float(np.nanmean(np.abs(corr[j, others]))) if others else math.nan
                     set_aside.append(SetAside(
                         column=names[j], stem=stem,
                         reason=f"does not correlate with the other {stem} items (mean |r| = "
                                f"{_fmt_r(mean_r).lstrip('+')}, below {threshold:.2f}): left out of every scale"))
-        kept = [c for c in clusters if len(c) >= 2]
+                    continue
+                # kept in its likeliest scale (highest mean |r|) with a note to check it, rather than dropped
+                mean_rs = [float(np.nanmean(np.abs(corr[j, c]))) for c in kept]
+                home = int(np.argmax(mean_rs))
+                kept[home] = sorted([*kept[home], j])
+                weak_items.setdefault(home, []).append(names[j])
+                weak_notes.setdefault(home, []).append(
+                    f"{names[j]} correlates weakly with the other {stem} items (mean |r| = "
+                    f"{_fmt_r(mean_rs[home]).lstrip('+')} with this group, below {threshold:.2f}); kept here as its "
+                    "likeliest scale, as worded: check its wording and direction, or remove it")
         for number, cluster in enumerate(kept):
             name = _scale_name(stem, taken)
-            cluster_notes = list(fmt_notes)
+            cluster_notes = list(fmt_notes) + weak_notes.get(number, [])
             if len(kept) > 1:
                 cluster_notes.append(f"the {stem} items fall into {len(kept)} groups by their correlations; "
                                      f"this is group {number + 1}")
             scales.append(_scale_from_cluster(name, stem, [names[i] for i in cluster], matrix[:, cluster],
-                                              fmt, cluster_notes))
+                                              fmt, cluster_notes, weak=frozenset(weak_items.get(number, ()))))
     scales = _share_missing_codes(scales)
     id_column, id_candidates, id_notes = _choose_id(profiles)
     notes.extend(id_notes)
-    categories = tuple(p.name for p in profiles if p.role == CATEGORY)
+    categories = tuple(p.name for p in profiles if p.role == CATEGORY or p.name in coded_groups)
+    row_numbers = [p.name for p in profiles if p.role == ROW_NUMBER]
+    if row_numbers and id_column is None:
+        notes.append(f"{', '.join(row_numbers)} holds row numbers in file order (distinct in every row, but not a "
+                     "respondent id): set id_column to a real id if the file has one")
     response = None
     if scales:
         counts = Counter(s.response for s in scales)

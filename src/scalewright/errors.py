@@ -1,7 +1,30 @@
 """Project exceptions. Each names the place of the problem; the CLI turns them into one ``error:`` line."""
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+from typing import Any
+
+from .limits import MAX_QUOTED_CHARS
+
+#: control characters (C0, DEL, C1) and the Unicode line and paragraph separators: none may reach a
+#: message as itself, or it would split the one line or drive the terminal
+_CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+MAX_MESSAGE_CHARS = 1000
+
+
+def one_line(text: str) -> str:
+    """``text`` with every control character shown escaped (``\\n``, ``\\x1b``), cut to a readable length."""
+    escaped = _CONTROL.sub(lambda found: repr(found.group())[1:-1], str(text))
+    return escaped if len(escaped) <= MAX_MESSAGE_CHARS else escaped[: MAX_MESSAGE_CHARS - 3] + "..."
+
+
+def quoted(value: Any) -> str:
+    """A value as a message quotes it: ``repr`` of text, cut to :data:`MAX_QUOTED_CHARS` characters."""
+    text = str(value)
+    if len(text) > MAX_QUOTED_CHARS:
+        return repr(text[:MAX_QUOTED_CHARS]) + f"... ({len(text):,} characters)"
+    return repr(text)
 
 
 @dataclass(frozen=True)
@@ -19,7 +42,7 @@ class Problem:
             place += f":{self.line}"
         if self.where:
             place += f" ({self.where})" if place else self.where
-        return f"{place}: {self.message}" if place else self.message
+        return one_line(f"{place}: {self.message}" if place else self.message)
 
 
 class ScalewrightError(Exception):

@@ -3,6 +3,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import stat
 import tempfile
 from collections.abc import Iterable
 from pathlib import Path
@@ -66,12 +67,36 @@ def write_atomic_with(target: str | os.PathLike[str], writer, *, inputs: Iterabl
     os.close(handle)
     try:
         writer(Path(temp_name))
+        # mkstemp makes the file private (600); the finished file gets the mode any program would give it
+        os.chmod(temp_name, _mode_for(target_path))
         os.replace(temp_name, target_path)
     except BaseException:
         if os.path.exists(temp_name):
             os.unlink(temp_name)
         raise
     return target_path
+
+
+def current_umask() -> int:
+    """The process's umask, read without changing it where the system allows (Linux), else set and restored."""
+    try:
+        with open("/proc/self/status", encoding="ascii") as status:
+            for line in status:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    except (OSError, ValueError):
+        pass
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def _mode_for(target: Path) -> int:
+    """Permission bits of a file written to ``target``: those of the file it replaces, else 666 less the umask."""
+    try:
+        return stat.S_IMODE(target.stat().st_mode)
+    except OSError:
+        return 0o666 & ~current_umask()
 
 
 def neutralise_formula(value: Any) -> Any:

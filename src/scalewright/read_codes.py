@@ -18,13 +18,15 @@ from .answer_codes import MAX_SPAN, MISSING
 from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec import ResponseFormat
 
-#: pandas' documented default "not available" texts, so both routes read the same cells as blank
-BLANK_TEXTS = ("", "#N/A", "#N/A N/A", "#NA", "-1.#IND", "-1.#QNAN", "-NaN", "-nan", "1.#IND", "1.#QNAN", "<NA>",
-               "N/A", "NA", "NULL", "NaN", "None", "n/a", "nan", "null")
+#: the only text the parser reads as blank: any other text ("None", "NA", "-") is data, read as "no answer"
+#: only when the scale file lists it (``missing_texts``), so an answer labelled "None" is never lost
+BLANK_TEXTS = ("",)
 NOT_AN_ANSWER = 254   # a number that is neither an answer nor a "no answer" code
 NO_ANSWER_CODE = 253  # one of the format's "no answer" codes
 INT16 = (-(2**15), 2**15 - 1)
 PARSE_BLOCK_BYTES = 1 << 20  # pyarrow's default block size: a smaller file is parsed as one block
+#: block sizes grow by this factor when a record (a long free-text answer, a wide header) spans blocks
+BLOCK_GROWTH = 8
 
 
 def fits(fmt: ResponseFormat) -> bool:
@@ -32,11 +34,13 @@ def fits(fmt: ResponseFormat) -> bool:
     return fmt.max - fmt.min <= MAX_SPAN and INT16[0] <= fmt.min and fmt.max <= INT16[1]
 
 
-def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str]):
+def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str],
+                            text_columns: Sequence[str] = ()):
     """The file as an Arrow table with the item columns as int16 and the spreadsheet row number of each
     row (None when no empty line shifts them), or None if this route cannot read the file.
 
-    ``raw_names`` is the header as written; ``items`` the (stripped) names of the item columns.
+    ``raw_names`` is the header as written; ``items`` the (stripped) names of the item columns;
+    ``text_columns`` (stripped names) are read as text, whatever they hold (ids: ``00017`` stays ``00017``).
     """
     import pyarrow as pa
 
@@ -44,9 +48,10 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
     types = {raw: pa.int16() for raw in raw_names if raw.strip() in wanted}
     if len(types) < len(wanted):
         return None  # a column is absent: the general route names it
+    types.update({raw: pa.string() for raw in raw_names if raw.strip() in set(text_columns)})
     try:
         table = parse_delimited(path, sep, column_types=types)
-    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeDecodeError):
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeDecodeError, RecordTooLong):
         return None
     if any(pa.types.is_binary(t) or pa.types.is_large_binary(t) for t in table.schema.types):
         return None  # bytes that are not UTF-8: the general route names the first
@@ -79,31 +84,59 @@ def without_empty_lines(table, path: Path, sep: str):
     return table.filter(pa.array(~empty)), numbers_of_kept_rows(empty)
 
 
+class RecordTooLong(Exception):
+    """A record of the file is longer than :data:`scalewright.limits.MAX_RECORD_BYTES`."""
+
+
 def parse_delimited(path: Path, sep: str, *, column_types: dict | None = None, keep_empty_lines: bool = True):
-    """pyarrow's parse of a delimited file: pandas' blank texts, empty lines kept (see row_numbers).
+    """pyarrow's parse of a delimited file: only empty cells blank, empty lines kept (see row_numbers).
 
     The fast parse cuts the file into blocks at line breaks without looking at quotes, so a quoted value
     that holds a line break (a free-text comment) can fall across two blocks and break the parse, or in
     rare cases read rows wrongly. A file that fails, or that is longer than a block and has such values,
-    is parsed again, quote-aware (about twice as slow).
+    is parsed again, quote-aware (about twice as slow). A record longer than a block (a very long answer,
+    a header of many thousand names) is parsed again with blocks :data:`BLOCK_GROWTH` times larger, up to
+    :data:`scalewright.limits.MAX_RECORD_BYTES`; a longer one raises :class:`RecordTooLong`.
     """
     import pyarrow as pa
     import pyarrow.csv as pacsv
 
-    def parse(quote_aware: bool):
-        return pacsv.read_csv(path, parse_options=pacsv.ParseOptions(delimiter=sep,
-                                                                     ignore_empty_lines=not keep_empty_lines,
-                                                                     newlines_in_values=quote_aware),
+    from . import limits
+
+    def parse(quote_aware: bool, block: int):
+        return pacsv.read_csv(path, read_options=pacsv.ReadOptions(block_size=block),
+                              parse_options=pacsv.ParseOptions(delimiter=sep,
+                                                               ignore_empty_lines=not keep_empty_lines,
+                                                               newlines_in_values=quote_aware),
                               convert_options=pacsv.ConvertOptions(column_types=column_types or {},
                                                                    null_values=list(BLANK_TEXTS),
                                                                    strings_can_be_null=True))
+
+    def parse_growing(quote_aware: bool, block: int):
+        while True:
+            try:
+                return parse(quote_aware, block), block
+            except pa.ArrowInvalid as error:
+                if not _spans_blocks(error) or block >= path.stat().st_size + 1:
+                    raise
+                if block >= limits.MAX_RECORD_BYTES:
+                    raise RecordTooLong() from None
+                block = min(block * BLOCK_GROWTH, limits.MAX_RECORD_BYTES)
+
+    size = path.stat().st_size
     try:
-        table = parse(False)
+        table, block = parse_growing(False, PARSE_BLOCK_BYTES)
     except pa.ArrowInvalid:
-        if path.stat().st_size <= PARSE_BLOCK_BYTES:
+        if size <= PARSE_BLOCK_BYTES:
             raise  # one block: a quote-aware parse would fail alike
-        return parse(True)
-    return parse(True) if path.stat().st_size > PARSE_BLOCK_BYTES and holds_line_breaks(table) else table
+        return parse_growing(True, PARSE_BLOCK_BYTES)[0]
+    return parse_growing(True, block)[0] if size > block and holds_line_breaks(table) else table
+
+
+def _spans_blocks(error: Exception) -> bool:
+    """Whether pyarrow failed because one record is longer than its block (its two wordings of that)."""
+    text = str(error)
+    return "straddl" in text or "Empty CSV file or block" in text
 
 
 def holds_line_breaks(table) -> bool:
@@ -122,10 +155,11 @@ def frame_from_table(table):
     """An Arrow table as a pandas frame, typed as ``pandas.read_csv`` would type it, names stripped."""
     import pyarrow as pa
 
-    for position, column_type in enumerate(table.schema.types):
-        if pa.types.is_null(column_type):  # an all-blank column: pandas reads it as float64 NaN
-            table = table.set_column(position, table.field(position).with_type(pa.float64()),
-                                     table.column(position).cast(pa.float64()))
+    if any(pa.types.is_null(column_type) for column_type in table.schema.types):
+        # an all-blank column: pandas reads it as float64 NaN (one cast of the whole table: a file may have
+        # thousands of such columns)
+        table = table.cast(pa.schema([field.with_type(pa.float64()) if pa.types.is_null(field.type) else field
+                                      for field in table.schema]))
     import pandas as pd
 
     frame = table.to_pandas()
@@ -159,6 +193,7 @@ class ConvertedCodes:
     missing_codes: int
     blanks: int
     texts: int = 0           # answer texts turned into codes: none on this route, which reads numbers only
+    missing_texts: dict | None = None  # "no answer" texts read as missing: none on this route either
 
 
 def convert_codes(column, fmt: ResponseFormat, *, out: np.ndarray) -> ConvertedCodes:

@@ -9,15 +9,16 @@ from __future__ import annotations
 import datetime as _dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
+from functools import partial
 from typing import Any
 
 from . import __version__
+from .analyses.subgroup_columns import DEFAULT_MAX_LEVELS
 from .errors import UsageError
 from .present.document import InputInfo, envelope
 from .results import to_jsonable
+from .seeds import DEFAULT_SEED  # one default for every command and the report
 
-#: default seed of every random step (parallel analysis, the jittered dip test, bootstrap)
-DEFAULT_SEED = 2026
 #: steps :func:`build_report` announces to its progress callback
 STEPS = ("scoring", "reliability", "score shapes", "subgroup comparisons", "answer distributions",
          "structure", "data quality")
@@ -37,8 +38,14 @@ class ReportOptions:
     exclude: str | None = None
     decimals: int = 2
     duration_column: str | None = None
+    missing: str = "listwise"
+    duration_unit: str = "s"
+    max_levels: int = DEFAULT_MAX_LEVELS
 
     def __post_init__(self) -> None:
+        from .stats.missing import check_method
+
+        check_method(self.missing)
         if not 0 < self.confidence_level < 1:
             raise UsageError(f"confidence level must lie between 0 and 1, got {self.confidence_level}")
         if self.iterations < 1:
@@ -50,7 +57,8 @@ class ReportOptions:
         return {"by": list(self.by), "seed": self.seed, "parallel_iterations": self.iterations,
                 "confidence_level": self.confidence_level, "min_group": self.min_group, "min_cell": self.min_cell,
                 "lenient": self.lenient, "exclude": self.exclude, "decimals": self.decimals,
-                "duration_column": self.duration_column}
+                "duration_column": self.duration_column, "duration_unit": self.duration_unit,
+                "max_levels": self.max_levels, "missing": self.missing}
 
 
 @dataclass(frozen=True, eq=False)
@@ -84,6 +92,7 @@ class ReportResults:
     screen: Any | None
     group_tallies: tuple[Any, ...]
     created: str
+    confirm: Any | None = None      # analyses.confirm.ConfirmAnalysis (with invariance when --by is given)
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
 
@@ -94,14 +103,24 @@ class ReportResults:
     # --- the blocks of results.json, each built from the same to_dict() calls as its own command ---------
 
     def reliability_block(self) -> dict[str, Any]:
-        return {"scales": {name: f.reliability.to_dict() for name, f in self.scales.items()
-                           if f.reliability is not None}}
+        from .present.confirm import confirmatory_summary
+
+        # as the reliability command: each scale's confirmatory one-factor model beside its numbers
+        models = self.confirm.models if self.confirm is not None else {}
+        return {"scales": {name: {**f.reliability.to_dict(),
+                                  **({"confirmatory": confirmatory_summary(models[name])} if name in models else {})}
+                           for name, f in self.scales.items() if f.reliability is not None}}
 
     def shape_block(self) -> dict[str, Any]:
         return {"scales": {name: f.shape.to_dict() for name, f in self.scales.items() if f.shape is not None}}
 
     def compare_block(self) -> dict[str, Any]:
-        return {"scales": {name: {"by": {c.column: c.to_dict() for c in f.comparisons}}
+        from .present.invariance import invariance_record
+
+        # as the compare command: each scale's invariance verdict beside its mean comparison
+        invariance = self.confirm.invariance if self.confirm is not None else {}
+        return {"scales": {name: {"by": {c.column: {**c.to_dict(), **({"invariance": invariance_record(
+            invariance[c.column].get(name))} if c.column in invariance else {})} for c in f.comparisons}}
                            for name, f in self.scales.items() if f.comparisons}}
 
     def to_dict(self) -> dict[str, Any]:
@@ -117,6 +136,7 @@ class ReportResults:
             "structure": None if self.structure is None else self.structure.to_dict(),
             "screen": None if self.screen is None else self.screen.to_dict(),
             "tally": {t.column: t.to_dict() for t in self.group_tallies},
+            "confirm": None if self.confirm is None else self.confirm.to_dict(),
             "notes": list(self.notes),
         }
         return to_jsonable(envelope("report", self.info, body, options=self.options.to_dict(),
@@ -134,7 +154,7 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
     from .analyses.reliability import analyse_reliability
 
     return analyse_reliability(spec, responses, by=options.by, confidence_level=options.confidence_level,
-                               min_group=options.min_group)
+                               min_group=options.min_group, missing=options.missing)
 
 
 def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> dict[str, Any]:
@@ -145,11 +165,26 @@ def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> di
                          scores=scores)["scales"]
 
 
+def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
+    # the confirm command's own analysis: models per scale and of the whole file, invariance by --by columns
+    from .analyses.confirm import analyse_confirm
+    from .analyses.invariance import analyse_invariance
+
+    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level)
+    if options.by:
+        # per scale only: the verdicts stand beside each scale's mean comparison (the whole-file multi-group
+        # models are for `confirm --by`)
+        analysis = analyse_invariance(spec, responses, analysis, by=options.by, min_group=max(options.min_group, 30),
+                                      whole_file=False)
+    return analysis
+
+
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the structure command's own analysis: each item once, matched to its smallest scale
     from .analyses.structure import analyse_structure_of_file
 
-    return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations)
+    return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations,
+                                     missing=options.missing)
 
 
 def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
@@ -157,13 +192,18 @@ def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
     from .analyses.screen import analyse_screen
 
-    return analyse_screen(spec, responses, duration_column=options.duration_column)
+    return analyse_screen(spec, responses, duration_column=options.duration_column,
+                          duration_unit=options.duration_unit)
 
 
 def check_columns(responses: Any, options: ReportOptions) -> None:
-    """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data."""
+    """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data, and
+    ``UsageError`` when a subgroup column has more than ``options.max_levels`` levels."""
+    from .analyses.subgroup_columns import check_level_counts
+
     for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
         responses.column(column)
+    check_level_counts(responses, options.by, max_levels=options.max_levels)
 
 
 def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),
@@ -196,12 +236,17 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     ReportResults
     """
     from .analyses.compare import analyse_compare
+    from .concurrency import start_in_process
     from .scoring import score_scales
     from .stats.tally import answer_distribution, tally
 
     check_columns(responses, options)
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
+
+    # the comparisons (pingouin: pure-Python work and a heavy import) run in a second process meanwhile
+    compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
+                                        confidence_level=options.confidence_level, scores=score_table))
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)
@@ -210,8 +255,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     shapes = _shape(spec, responses, options, score_table)
 
     progress(STEPS[3])
-    by_column = analyse_compare(spec, responses, by=options.by, min_cell=options.min_cell,
-                                confidence_level=options.confidence_level, scores=score_table)
+    by_column = compared()
     comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
                                          for i, name in enumerate(spec.scales)}
 
@@ -223,6 +267,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     progress(STEPS[5])
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    confirm = _confirm(spec, responses, options)
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
@@ -237,7 +282,8 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     if structure is None:
         notes.append("the structure needs at least two items; it was not analysed")
     return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,
-                         reading=responses.reading_summary(), input_notes=tuple(input_notes),
+                         reading=responses.reading_summary(),
+                         input_notes=(*input_notes, responses.missing_texts_note(spec)),
                          score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
-                         notes=tuple(notes))
+                         notes=tuple(notes), confirm=confirm)

@@ -14,6 +14,17 @@ def to_jsonable(value: Any) -> Any:
 
     NaN and infinities become ``None``: the contract never carries NaN; the reason belongs in ``notes``.
     """
+    # plain values first, by exact type: a report holds a million of them (a row per respondent), and the
+    # general checks below (dataclass, Mapping) cost several times more each; the result is the same
+    kind = type(value)
+    if kind is str or value is None or kind is bool or kind is int:
+        return value
+    if kind is float:
+        return value if math.isfinite(value) else None
+    if kind is dict:
+        return {str(k): to_jsonable(v) for k, v in value.items()}
+    if kind is list or kind is tuple:
+        return [to_jsonable(v) for v in value]
     if dataclasses.is_dataclass(value) and not isinstance(value, type):
         if hasattr(value, "to_dict"):
             return value.to_dict()

@@ -49,9 +49,10 @@ def composite(keyed: np.ndarray, *, method: str = "mean", required: int | None =
         raise UsageError(f"score method must be mean or sum, not {method!r}")
     answered = np.sum(~np.isnan(keyed), axis=1)
     totals = np.nansum(keyed, axis=1)
+    # one division of exact whole numbers (answer codes sum exactly), so a score is the double nearest its
+    # true value and is written without float noise (3.2, not 3.2000000000000002)
     with np.errstate(invalid="ignore", divide="ignore"):
-        means = totals / answered
-    scores = means * k if method == "sum" else means
+        scores = (totals * k if method == "sum" else totals) / answered
     scores = np.where(answered >= required, scores, np.nan)
     return scores, answered
 
@@ -65,6 +66,22 @@ def score_range(scale: Scale) -> tuple[float, float]:
 def pomp(scores: np.ndarray, low: float, high: float) -> np.ndarray:
     """Percent of maximum possible: 100 (x - low) / (high - low). Cohen, Cohen, Aiken & West (1999)."""
     return 100.0 * (np.asarray(scores, dtype=np.float64) - low) / (high - low)
+
+
+def pomp_of_composite(keyed: np.ndarray, low: float, high: float, *, required: int | None = None) -> np.ndarray:
+    """POMP of each row's composite, as one division of exact whole numbers (no float noise: 55.0, not
+    55.00000000000001).
+
+    The mean and the prorated sum give the same POMP: 100 (T - a low) / (a (high - low)) for the total T of
+    the ``a`` answered items. Rows with fewer than ``required`` answered items get NaN.
+    """
+    keyed = np.asarray(keyed, dtype=np.float64)
+    k = keyed.shape[1]
+    answered = np.sum(~np.isnan(keyed), axis=1)
+    totals = np.nansum(keyed, axis=1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        values = 100.0 * (totals - low * answered) / (answered * (high - low))
+    return np.where(answered >= (k if required is None else required), values, np.nan)
 
 
 def z_scores(scores: np.ndarray) -> np.ndarray:
@@ -88,6 +105,8 @@ class ScaleScores(ResultMixin):
     method: str
     n_scored: int
     n_unscored: int
+    #: the rescaled score (``pomp`` or ``z``) written beside the raw one, or None
+    standardized: np.ndarray | None = None
 
     def to_dict(self) -> dict[str, Any]:
         return {"scale": self.scale, "k": self.k, "method": self.method, "required_answered": self.required,
@@ -107,6 +126,8 @@ class ScoreTable(ResultMixin):
         columns: dict[str, Any] = {self.id_name: self.ids.to_numpy()}
         for name, result in self.scales.items():
             columns[name] = result.scores
+            if self.standardize is not None and result.standardized is not None:
+                columns[f"{name}__{self.standardize}"] = result.standardized
             columns[f"{name}__answered"] = result.answered
         return pd.DataFrame(columns)
 
@@ -124,19 +145,40 @@ def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | No
     for name in names:
         scale = spec.scale(name)
         required = scale.required_answered()
-        scores, answered = composite(keyed_items(responses, scale), method=scale.score, required=required)
+        keyed = keyed_items(responses, scale)
+        scores, answered = composite(keyed, method=scale.score, required=required)
+        standardized = None
         if standardize == "pomp":
-            scores = pomp(scores, *score_range(scale))
+            standardized = pomp_of_composite(keyed, float(scale.response.min), float(scale.response.max),
+                                             required=required)
         elif standardize == "z":
-            scores = z_scores(scores)
+            standardized = z_scores(scores)
         n_scored = int(np.sum(~np.isnan(scores)))
         results[name] = ScaleScores(scale=name, scores=scores, answered=answered, required=required, k=scale.k,
-                                    method=scale.score, n_scored=n_scored, n_unscored=responses.n - n_scored)
+                                    method=scale.score, n_scored=n_scored, n_unscored=responses.n - n_scored,
+                                    standardized=standardized)
     id_name = spec.id_column or "row"
     return ScoreTable(ids=responses.ids, id_name=id_name, scales=results, standardize=standardize)
 
 
 SCORE_FILE_TYPES = (".csv", ".xlsx", ".parquet")
+
+
+def _refuse_what_a_cell_cannot_hold(frame: pd.DataFrame, target: Path) -> None:
+    """An XLSX cell cannot hold control characters (XML forbids them): refuse, naming the first, before writing."""
+    from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
+
+    for column in frame.columns:
+        if not (frame[column].dtype == object or pd.api.types.is_string_dtype(frame[column].dtype)):
+            continue
+        holds = frame[column].map(lambda value: isinstance(value, str) and ILLEGAL_CHARACTERS_RE.search(value) is not None)
+        if holds.any():
+            from .errors import DataError, quoted
+
+            first = int(holds.to_numpy().argmax())
+            raise DataError(f"cannot write {target}: {column} {quoted(frame[column].iloc[first])} (row {first + 1} of "
+                            f"the scores) holds a control character, which an XLSX cell cannot hold; "
+                            "write .csv or .parquet instead")
 
 
 def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path] = ()) -> Path:
@@ -150,10 +192,13 @@ def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str 
         raise UsageError(f"cannot write {target}: the scored file must end in .csv, .xlsx or .parquet")
     frame = table.to_frame()
     if suffix in (".csv", ".xlsx"):
+        # the id column's name comes from the scale file: it is neutralised like the ids below it
         frame[table.id_name] = frame[table.id_name].map(neutralise_formula)
+        frame = frame.rename(columns={table.id_name: neutralise_formula(table.id_name)})
     if suffix == ".csv":
         return write_atomic(target, frame.to_csv(index=False, lineterminator="\n"), inputs=inputs)
     if suffix == ".xlsx":
+        _refuse_what_a_cell_cannot_hold(frame, target)
         return write_atomic_with(target, lambda tmp: frame.to_excel(tmp, index=False, engine="openpyxl"),
                                  inputs=inputs)
     return write_atomic_with(target, lambda tmp: frame.to_parquet(tmp, index=False), inputs=inputs)

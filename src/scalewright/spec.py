@@ -15,16 +15,23 @@ from typing import Any, Mapping
 
 import yaml
 
-from .errors import Problem, SpecError
+from .errors import Problem, SpecError, quoted
+from .limits import MAX_ANSWER_SPAN, MAX_ANSWER_VALUE, MAX_MISSING_CODE, MAX_YAML_BYTES
+from .yaml_guard import ShapeProblem, check_yaml_shape
 
 SCORE_METHODS = ("mean", "sum")
-TOP_KEYS = ("version", "title", "id_column", "groups", "response", "scales")
-RESPONSE_KEYS = ("min", "max", "labels", "missing_codes")
+TOP_KEYS = ("version", "title", "id_column", "groups", "missing_texts", "response", "scales")
+RESPONSE_KEYS = ("min", "max", "labels", "missing_codes", "missing_texts")
+#: texts read as "no answer" unless the scale file lists its own (``missing_texts``); matched as labels are
+DEFAULT_MISSING_TEXTS = ("NA", "N/A", "#N/A")
 SCALE_KEYS = ("title", "items", "reverse", "score", "min_answered", "wording", "response")
 SCALE_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_.-]*$")
 _PLAIN_TAGS = {f"tag:yaml.org,2002:{t}" for t in ("str", "int", "float", "bool", "null", "map", "seq")}
 _TEXT_TAGS = {"tag:yaml.org,2002:timestamp"}  # a date in a title is text to us
 _REFUSED = object()  # stands in for a value whose YAML tag was refused
+#: a number as the scale file may write one: plain decimal (YAML 1.1 would also read 0x1F, 0o17, 1_000
+#: and 1:30 as numbers, which nobody means in an answer format)
+PLAIN_DECIMAL = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?", re.ASCII)
 
 
 def normalise_answer_text(text: str) -> str:
@@ -40,6 +47,8 @@ class ResponseFormat:
     max: int
     labels: Mapping[int, str] = field(default_factory=dict)
     missing_codes: tuple[float, ...] = ()
+    #: texts that mean "no answer" (matched ignoring case and spacing, as labels are)
+    missing_texts: tuple[str, ...] = DEFAULT_MISSING_TEXTS
 
     @property
     def levels(self) -> tuple[int, ...]:
@@ -53,12 +62,16 @@ class ResponseFormat:
         """Normalised answer text -> code."""
         return {normalise_answer_text(text): code for code, text in self.labels.items()}
 
+    def missing_text_for(self) -> dict[str, str]:
+        """Normalised "no answer" text -> the text as the scale file lists it."""
+        return {normalise_answer_text(text): text for text in self.missing_texts}
+
     def label(self, code: int) -> str:
         return self.labels.get(code, str(code))
 
     def to_dict(self) -> dict[str, Any]:
         return {"min": self.min, "max": self.max, "labels": {str(k): v for k, v in self.labels.items()},
-                "missing_codes": list(self.missing_codes)}
+                "missing_codes": list(self.missing_codes), "missing_texts": list(self.missing_texts)}
 
 
 @dataclass(frozen=True)
@@ -113,6 +126,11 @@ class ScaleSpec:
     version: int = 1
     #: group column -> its levels in order, for columns given as ``{column: [level, ...]}`` in ``groups``
     group_levels: Mapping[str, tuple[str, ...]] = field(default_factory=dict)
+    #: texts that mean "no answer" in the columns that are not items (groups, tallies)
+    missing_texts: tuple[str, ...] = DEFAULT_MISSING_TEXTS
+    #: group column -> {code as written in the data: level name}, for ``{column: {1: woman, 2: man}}``;
+    #: the names (in the order listed) are also in ``group_levels``
+    group_codes: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
 
     @property
     def items(self) -> tuple[str, ...]:
@@ -162,6 +180,12 @@ class _Checker:
         self._scalars = yaml.constructor.SafeConstructor()
         self._refused_nodes: set[int] = set()
         self.top_response_given = False  # an invalid top-level format is reported once, not per scale
+        self.top_missing_texts: tuple[str, ...] | None = None  # the top-level ``missing_texts``, if given
+        self.top_missing_texts_node: yaml.Node | None = None
+        # each format's "no answer" texts before its labels removed any default one, and whether the scale
+        # file listed them: a scale's own format inherits these
+        self._texts_origin: dict[int, tuple[tuple[str, ...], bool]] = {}
+        self._last_texts_origin: tuple[tuple[str, ...], bool] = (DEFAULT_MISSING_TEXTS, False)
 
     def problem(self, node: yaml.Node | None, where: str, message: str) -> None:
         line = node.start_mark.line + 1 if node is not None else None
@@ -169,17 +193,34 @@ class _Checker:
 
     # -- tags and plain values --------------------------------------------------------------------------
     def check_tags(self, node: yaml.Node, where: str = "") -> None:
-        if node.tag not in _PLAIN_TAGS and node.tag not in _TEXT_TAGS:
-            self.problem(node, where or "(top)", f"YAML tag {node.tag!r} is not allowed; use plain values")
+        """Refuse every tag that is not a plain value; each node is visited once, however many aliases
+        repeat it (iteratively, so no nesting depth can exhaust the stack)."""
+        seen: set[int] = set()
+        pending = [(node, where)]
+        while pending:
+            node, where = pending.pop()
+            if id(node) in seen:
+                continue
+            seen.add(id(node))
+            pending.extend(reversed(self._tag_children(node, where)))
+
+    def _tag_children(self, node: yaml.Node, where: str) -> list[tuple[yaml.Node, str]]:
+        if node.tag == "tag:yaml.org,2002:merge":
+            self.problem(node, where or "(top)", "YAML merge keys (<<) are not allowed; write the keys out")
             self._refused_nodes.add(id(node))
-            return
+            return []
+        if node.tag not in _PLAIN_TAGS and node.tag not in _TEXT_TAGS:
+            self.problem(node, where or "(top)", f"YAML tag {quoted(node.tag)} is not allowed; use plain values")
+            self._refused_nodes.add(id(node))
+            return []
+        children: list[tuple[yaml.Node, str]] = []
         if isinstance(node, yaml.MappingNode):
             for key, value in node.value:
-                self.check_tags(key, where)
-                self.check_tags(value, f"{where}.{key.value}" if where else str(key.value))
+                name = key.value if isinstance(key, yaml.ScalarNode) else "?"
+                children += [(key, where), (value, f"{where}.{name}" if where else str(name))]
         elif isinstance(node, yaml.SequenceNode):
-            for index, value in enumerate(node.value):
-                self.check_tags(value, f"{where}[{index}]")
+            children += [(value, f"{where}[{index}]") for index, value in enumerate(node.value)]
+        return children
 
     def scalar(self, node: yaml.Node) -> Any:
         if id(node) in self._refused_nodes:
@@ -197,6 +238,8 @@ class _Checker:
             return None
         found: dict[str, tuple[yaml.Node, yaml.Node]] = {}
         for key_node, value_node in node.value:
+            if id(key_node) in self._refused_nodes:
+                continue  # its tag was refused, and said so, already
             if not isinstance(key_node, yaml.ScalarNode):
                 self.problem(key_node, where, "keys must be plain names")
                 continue
@@ -229,7 +272,11 @@ class _Checker:
         value = self.scalar(node) if isinstance(node, yaml.ScalarNode) else None
         if isinstance(value, bool) or not isinstance(value, (int, float)) or \
                 (isinstance(value, float) and not math.isfinite(value)):
-            self.problem(node, where, f"expected a number, got {node.value if isinstance(node, yaml.ScalarNode) else 'a list or mapping'!r}")
+            shown = quoted(node.value) if isinstance(node, yaml.ScalarNode) else "a list or mapping"
+            self.problem(node, where, f"expected a number, got {shown}")
+            return None
+        if not PLAIN_DECIMAL.fullmatch(str(node.value).strip()):
+            self.problem(node, where, f"expected a plain decimal number, got {quoted(node.value)}")
             return None
         if integer and not float(value).is_integer():
             self.problem(node, where, f"expected a whole number, got {value!r}")
@@ -269,6 +316,16 @@ class _Checker:
             self.problem(keys.get("min", keys.get("max", (node, node)))[1], where,
                          f"min ({low}) must be less than max ({high})")
             return None
+        at = keys.get("max", keys.get("min", (node, node)))[1]
+        if max(abs(low), abs(high)) > MAX_ANSWER_VALUE:
+            self.problem(at, where, f"the answer range {low}..{high} goes beyond +-{MAX_ANSWER_VALUE:,}, which no "
+                                    "rating format does (see docs/limits.md)")
+            return None
+        if high - low > MAX_ANSWER_SPAN:
+            self.problem(at, where, f"the answer range {low}..{high} has {high - low + 1:,} levels; rating answers "
+                                    f"have at most {MAX_ANSWER_SPAN + 1:,} (max - min <= {MAX_ANSWER_SPAN:,}; "
+                                    "see docs/limits.md)")
+            return None
         range_changed = base is not None and ("min" in keys or "max" in keys) and (low, high) != (base.min, base.max)
         labels: dict[int, str] = {}
         if "labels" in keys:
@@ -297,7 +354,10 @@ class _Checker:
             if isinstance(codes_node, yaml.SequenceNode):
                 for index, child in enumerate(codes_node.value):
                     code = self.number(child, f"{where}.missing_codes[{index}]")
-                    if code is not None:
+                    if code is not None and abs(code) > MAX_MISSING_CODE:
+                        self.problem(child, f"{where}.missing_codes[{index}]",
+                                     f"missing code {code:g} is larger than {MAX_MISSING_CODE:.0e} (see docs/limits.md)")
+                    elif code is not None:
                         missing.append(code)
             elif not (isinstance(codes_node, yaml.ScalarNode) and self.scalar(codes_node) is None):
                 self.problem(codes_node, f"{where}.missing_codes", "expected a list of codes, e.g. [9, 99]")
@@ -309,8 +369,58 @@ class _Checker:
                 self.problem(at, f"{where}.missing_codes",
                              f"missing code {code:g} lies inside the answer range {low}..{high}; "
                              "it would be confused with an answer")
-        return ResponseFormat(min=int(low), max=int(high), labels=MappingProxyType(dict(sorted(labels.items()))),
-                              missing_codes=tuple(missing))
+        for code, text in labels.items():
+            # a label that reads as another code's number would be that code in one column and this one in
+            # another, depending on whether the column holds any word
+            number = float(text) if PLAIN_DECIMAL.fullmatch(text) else None
+            if number is not None and number != code and (low <= number <= high or number in missing):
+                self.problem(keys["labels"][1] if "labels" in keys else node, f"{where}.labels.{code}",
+                             f"the label {quoted(text)} of code {code} is the number of another code; "
+                             "a cell holding it would be ambiguous")
+        texts = self.missing_texts(node, keys, where, base, labels)
+        fmt = ResponseFormat(min=int(low), max=int(high), labels=MappingProxyType(dict(sorted(labels.items()))),
+                             missing_codes=tuple(missing), missing_texts=texts)
+        self._texts_origin[id(fmt)] = self._last_texts_origin
+        return fmt
+
+    def text_values(self, node: yaml.Node, where: str) -> tuple[str, ...] | None:
+        """``missing_texts``: a list of texts, none of them a number (numbers are ``missing_codes``)."""
+        listed = self.text_list(node, where)
+        if listed is None:
+            return None
+        texts: list[str] = []
+        for index, (text, child) in enumerate(listed):
+            if PLAIN_DECIMAL.fullmatch(text):
+                self.problem(child, f"{where}[{index}]", f"{quoted(text)} is a number: list it in missing_codes")
+            elif normalise_answer_text(text) not in map(normalise_answer_text, texts):
+                texts.append(text)
+        return tuple(texts)
+
+    def missing_texts(self, node: yaml.Node, keys: dict, where: str, base: ResponseFormat | None,
+                      labels: Mapping[int, str]) -> tuple[str, ...]:
+        """This format's "no answer" texts: its own list, else its base format's, else the top-level list,
+        else the default. A text the scale file lists that is also an answer label is an error; a default
+        text that is a label is simply not missing (the label wins)."""
+        if "missing_texts" in keys:
+            texts, explicit = self.text_values(keys["missing_texts"][1], f"{where}.missing_texts") or (), True
+            at = keys["missing_texts"][1]
+        elif base is not None:
+            texts, explicit = self._texts_origin.get(id(base), (base.missing_texts, False))
+            at = node
+        elif self.top_missing_texts is not None:
+            texts, explicit, at = self.top_missing_texts, True, self.top_missing_texts_node
+        else:
+            texts, explicit, at = DEFAULT_MISSING_TEXTS, False, node
+        self._last_texts_origin = (texts, explicit)
+        label_texts = {normalise_answer_text(text) for text in labels.values()}
+        kept = []
+        for text in texts:
+            if normalise_answer_text(text) not in label_texts:
+                kept.append(text)
+            elif explicit:
+                self.problem(at, f"{where}.missing_texts", f"{quoted(text)} is both an answer label and a missing "
+                                                           "text; a text cannot be both")
+        return tuple(kept)
 
     def scale(self, name: str, name_node: yaml.Node, node: yaml.Node, base: ResponseFormat | None) -> Scale | None:
         where = f"scales.{name}"
@@ -381,7 +491,8 @@ class _Checker:
 
     def min_answered(self, node: yaml.Node, where: str, k: int) -> int | float | None:
         value = self.scalar(node) if isinstance(node, yaml.ScalarNode) else None
-        if isinstance(value, bool) or not isinstance(value, (int, float)):
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or \
+                not PLAIN_DECIMAL.fullmatch(str(node.value).strip()):
             self.problem(node, where, "min_answered must be a whole count of items (1..k) or a fraction in (0, 1]")
             return None
         if isinstance(value, int):
@@ -407,19 +518,27 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
         return None, [Problem(file=path_text, message="is a folder, not a scale file")]
     except OSError as error:
         return None, [Problem(file=path_text, message=f"cannot read: {error.strerror}")]
+    if len(raw) > MAX_YAML_BYTES:
+        return None, [Problem(file=path_text, message=f"the scale file is larger than {MAX_YAML_BYTES // 2**20} MiB "
+                                                      "(see docs/limits.md)")]
     try:
         text = raw.decode("utf-8-sig")
     except UnicodeDecodeError as error:
         return None, [Problem(file=path_text, message=f"not UTF-8 text (byte 0x{raw[error.start]:02x} at offset "
                                                       f"{error.start}); save it as UTF-8")]
     try:
+        check_yaml_shape(text)
         root = yaml.compose(text, Loader=yaml.SafeLoader)
+    except ShapeProblem as problem:
+        return None, [Problem(file=path_text, line=problem.line, message=problem.message)]
+    except RecursionError:  # not reached within the depth limit; kept so no input can show a traceback
+        return None, [Problem(file=path_text, message="the scale file is nested too deeply")]
     except yaml.MarkedYAMLError as error:
         mark = error.problem_mark or error.context_mark
         return None, [Problem(file=path_text, line=mark.line + 1 if mark else None,
                               message=f"not valid YAML: {error.problem or error.context}")]
     except yaml.YAMLError as error:
-        return None, [Problem(file=path_text, message=f"not valid YAML: {error}")]
+        return None, [Problem(file=path_text, message=f"not valid YAML: {str(error).strip().splitlines()[0] if str(error).strip() else type(error).__name__}")]
     checker = _Checker(path_text)
     if root is None:
         return None, [Problem(file=path_text, message="the scale file is empty")]
@@ -434,8 +553,12 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
             checker.problem(keys["version"][1], "version", f"version {value} is not supported; this tool reads version 1")
     title = checker.text(keys["title"][1], "title") if "title" in keys else None
     id_column = checker.text(keys["id_column"][1], "id_column") if "id_column" in keys else None
-    groups, group_levels = _groups(checker, keys["groups"][1]) if "groups" in keys else ([], {})
+    group_codes: dict[str, dict[str, str]] = {}
+    groups, group_levels = _groups(checker, keys["groups"][1], group_codes) if "groups" in keys else ([], {})
     checker.top_response_given = "response" in keys
+    if "missing_texts" in keys:
+        checker.top_missing_texts = checker.text_values(keys["missing_texts"][1], "missing_texts") or ()
+        checker.top_missing_texts_node = keys["missing_texts"][1]
     base = checker.response(keys["response"][1], "response", None) if "response" in keys else None
     scales: dict[str, Scale] = {}
     if "scales" not in keys:
@@ -453,13 +576,22 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
         return None, checker.problems
     spec = ScaleSpec(title=title or Path(path).stem, id_column=id_column, groups=tuple(groups),
                      group_levels=MappingProxyType(group_levels),
+                     missing_texts=DEFAULT_MISSING_TEXTS if checker.top_missing_texts is None
+                     else checker.top_missing_texts,
+                     group_codes=MappingProxyType({c: MappingProxyType(m) for c, m in group_codes.items()}),
                      response=base or next(iter(scales.values())).response,
                      scales=MappingProxyType(scales), path=path_text, version=version)
     return spec, []
 
 
-def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tuple[str, ...]]]:
-    """``groups``: column names, each either plain or ``{column: [levels in order]}``."""
+def _groups(checker: _Checker, node: yaml.Node,
+            codes: dict[str, dict[str, str]] | None = None) -> tuple[list[str], dict[str, tuple[str, ...]]]:
+    """``groups``: column names, each plain, ``{column: [levels in order]}`` or ``{column: {code: name}}``.
+
+    A mapping names the codes of a coded column (``{gender: {1: woman, 2: man}}``): its names, in the order
+    listed, are the column's ordered levels, and their codes are recorded in ``codes``.
+    """
+    codes = {} if codes is None else codes
     groups: list[str] = []
     levels: dict[str, tuple[str, ...]] = {}
     if isinstance(node, yaml.ScalarNode) and checker.scalar(node) is None:
@@ -473,10 +605,20 @@ def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tu
             entry = checker.mapping(child, where, None) or {}
             if len(entry) != 1:
                 checker.problem(child, where, "an ordered group is one column with its levels, e.g. "
-                                              "{tenure: [under 1 year, 1-4 years, 5+ years]}")
+                                              "{tenure: [under 1 year, 1-4 years, 5+ years]}, or with names for "
+                                              "its codes, e.g. {gender: {1: woman, 2: man}}")
                 continue
             (column, (_, levels_node)), = entry.items()
-            ordered = [text for text, _ in checker.text_list(levels_node, f"{where}.{column}") or []]
+            if isinstance(levels_node, yaml.MappingNode):
+                named = _level_names(checker, levels_node, f"{where}.{column}")
+                if named is None:
+                    continue
+                codes[column] = named
+                named_levels = list(named.values())
+            else:
+                named_levels = None
+            ordered = named_levels if named_levels is not None else \
+                [text for text, _ in checker.text_list(levels_node, f"{where}.{column}") or []]
             if len(set(ordered)) != len(ordered):
                 checker.problem(levels_node, f"{where}.{column}", "a level is listed twice")
                 continue
@@ -493,6 +635,35 @@ def _groups(checker: _Checker, node: yaml.Node) -> tuple[list[str], dict[str, tu
         else:
             groups.append(column)
     return groups, levels
+
+
+def _level_names(checker: _Checker, node: yaml.MappingNode, where: str) -> dict[str, str] | None:
+    """``{1: woman, 2: man}``: code (as text, a whole number written plainly) -> level name; None if broken."""
+    entries = checker.mapping(node, where, None)
+    if entries is None:
+        return None
+    named: dict[str, str] = {}
+    for code, (_, name_node) in entries.items():
+        name = checker.text(name_node, f"{where}.{code}")
+        if name is None:
+            return None
+        key = str(code).strip()
+        try:  # 1, 1.0 and "1" are the same code
+            number = float(key)
+            key = str(int(number)) if number.is_integer() else key
+        except ValueError:
+            pass
+        if key in named:
+            checker.problem(name_node, f"{where}.{code}", f"the code {code!r} is named twice")
+            return None
+        named[key] = name
+    if len(set(named.values())) != len(named):
+        checker.problem(node, where, "two codes have the same name")
+        return None
+    if not named:
+        checker.problem(node, where, "the mapping of codes to names is empty")
+        return None
+    return named
 
 
 def _check_across_scales(checker: _Checker, scales: dict[str, Scale], id_column: str | None,

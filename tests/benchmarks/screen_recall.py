@@ -27,11 +27,12 @@ class GeneratedSurvey:
 
 def make_survey(*, seed: int, n: int = 600, n_scales: int = 4, k: int = 6, low: int = 1, high: int = 5,
                 careless_share: float = 0.06, missing_share: float = 0.02, interleave: bool = False,
-                factor_r: float = 0.3) -> GeneratedSurvey:
+                factor_r: float = 0.3, item_shift: float = 0.7) -> GeneratedSurvey:
     """A fictional staff climate survey: correlated latent traits, items with a third reverse-worded.
 
     Careless respondents are ``careless_share`` of n, half straight-liners (one answer, chosen at random,
-    for every item) and half random clickers (every answer uniform over the answer range).
+    for every item) and half random clickers (every answer uniform over the answer range). Item means differ
+    by a latent shift drawn from U(-``item_shift``, ``item_shift``) per item (0.05: means that barely differ).
     """
     rng = np.random.default_rng(seed)
     p = n_scales * k
@@ -43,7 +44,7 @@ def make_survey(*, seed: int, n: int = 600, n_scales: int = 4, k: int = 6, low: 
         picks = rng.choice(k, size=max(1, k // 3), replace=False)
         reverse[s * k + picks] = True
     scale_of = np.repeat(np.arange(n_scales), k)
-    shift = rng.uniform(-0.7, 0.7, size=p)
+    shift = rng.uniform(-item_shift, item_shift, size=p)
     # answers in the trait's direction; reverse-worded items are then answered the other way round
     latent = traits[:, scale_of] * loadings + rng.normal(size=(n, p)) * np.sqrt(1 - loadings ** 2) + shift
     levels = high - low + 1
@@ -137,6 +138,27 @@ def demo_study(seeds: range, *, n: int = 800, with_durations: bool = True) -> di
             "worst_false_positive": float(max(f["false_positive"] for f in found))}
 
 
+def attentive_study(seeds: range, shifts=(0.05, 0.2, 0.7, 1.5)) -> list[dict]:
+    """Share of attentive respondents (no careless ones generated) carrying any flag, strong or weak, and
+    against-sample in particular, by how much the item means differ (latent shift U(-s, s) per item)."""
+    from scalewright.stats.quality import FLAG_AGAINST_SAMPLE, screen_respondents
+
+    rows = []
+    for name, kwargs in DESIGNS:
+        for shift in shifts:
+            carrying, against, used = [], [], 0
+            for seed in seeds:
+                survey = make_survey(seed=seed, careless_share=0.0, item_shift=shift, **kwargs)
+                result = screen_respondents(survey.raw, survey.keyed_by_scale, ids=survey.ids)
+                carrying.append(np.mean([len(codes) > 0 for codes in result.flags]))
+                against.append(np.mean([FLAG_AGAINST_SAMPLE in codes for codes in result.flags]))
+                used += next(u.used for u in result.weak_indices if u.index == FLAG_AGAINST_SAMPLE)
+            rows.append({"design": name, "shift": shift, "any_mean": float(np.mean(carrying)),
+                         "any_worst": float(np.max(carrying)), "against_mean": float(np.mean(against)),
+                         "used": used, "seeds": len(seeds)})
+    return rows
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quick", action="store_true", help="5 seeds per design instead of 30")
@@ -151,6 +173,13 @@ def main(argv: list[str] | None = None) -> int:
         print(f"| {r['design']} | {r['seeds']} | {r['recall']:.1%} | {r['recall_straight']:.1%} | "
               f"{r['recall_random']:.1%} | {r['false_positive']:.1%} | {r['worst_recall']:.1%} | "
               f"{r['worst_false_positive']:.1%} |")
+    print()
+    print("| design | item-mean shift | against-sample used (of seeds) | attentive with any flag | worst seed | "
+          "attentive with against-sample |")
+    print("| --- | ---: | ---: | ---: | ---: | ---: |")
+    for r in attentive_study(seeds):
+        print(f"| {r['design']} | {r['shift']:g} | {r['used']} of {r['seeds']} | {r['any_mean']:.1%} | "
+              f"{r['any_worst']:.1%} | {r['against_mean']:.1%} |")
     return 0
 
 

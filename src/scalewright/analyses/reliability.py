@@ -7,11 +7,16 @@ from typing import Any
 
 def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
                         pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
-                        seed: int | None = None, thresholds: Any = None) -> dict[str, Any]:
+                        seed: int | None = None, thresholds: Any = None, ordinal: bool = False,
+                        missing: str | None = None) -> dict[str, Any]:
     """:class:`~scalewright.stats.reliability.ScaleReliabilityReport` of every scale of ``spec``.
 
-    Plain library function (no click): the report builds on it. ``by`` names subgroup columns.
+    Plain library function (no click): the report builds on it. ``by`` names subgroup columns; ``missing``
+    (listwise, pairwise or em) overrides ``pairwise``. ``ordinal`` adds ordinal alpha, omega and the sum
+    score's reliability from polychoric correlations.
     """
+    # polychoric pair tables know listwise and pairwise rows; under em they use the pairwise ones
+    pairwise_rows = missing in ("pairwise", "em") if missing is not None else pairwise
     from ..concurrency import map_in_threads
     from ..scoring import keyed_items
     from ..stats.coded import CodedAnswers
@@ -22,6 +27,7 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
         scale_reliability,
     )
     from ..stats.subgroups import split_by
+    from .ordinal import scale_ordinal
 
     thresholds = thresholds or ReliabilityThresholds()
     splits = [split_by(responses.column(column), min_size=min_group, column=column) for column in by]
@@ -33,10 +39,13 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
         keyed = CodedAnswers(codes) if codes is not None else keyed_items(responses, scale)
         options = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
                        confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
-                       reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed)
+                       reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed,
+                       missing=missing)
         overall = scale_reliability(keyed, **options)
         groups = tuple(reliability_by_group(keyed, split, **options) for split in splits)
-        return ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups)
+        ordinal_result, advice = scale_ordinal(responses, scale, overall, pairwise=pairwise_rows, estimate=ordinal)
+        return ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=groups,
+                                      ordinal=ordinal_result, ordinal_advice=advice)
 
     names = list(spec.scales)
     return dict(zip(names, map_in_threads(analyse, names)))

@@ -9,7 +9,8 @@ def questionnaire_order(responses: Any) -> list[int]:
     return [responses.item_names.index(name) for name in responses.items_in_file_order()]
 
 
-def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None) -> Any:
+def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
+                   duration_unit: str = "s") -> Any:
     """:class:`~scalewright.stats.quality.ScreenResult` of the responses (plain function; the report uses it)."""
     import numpy as np
 
@@ -33,4 +34,5 @@ def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = N
                             f"{column.iloc[first]!r} is not a number of seconds or minutes")
         durations = values.to_numpy(dtype=float, na_value=np.nan)
     return screen_respondents(raw, keyed, ids=[str(i) for i in responses.ids],
-                              thresholds=thresholds or ScreenThresholds(), durations=durations)
+                              thresholds=thresholds or ScreenThresholds(), durations=durations,
+                              duration_unit=duration_unit)

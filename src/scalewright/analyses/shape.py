@@ -4,10 +4,12 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any
 
+from ..seeds import DEFAULT_SEED
+
 
 def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
-                  min_group: int = 10, seed: int = 0, scores: Any = None) -> dict[str, dict[str, Any]]:
+                  min_group: int = 10, seed: int = DEFAULT_SEED, scores: Any = None) -> dict[str, dict[str, Any]]:
     """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
 
     Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.

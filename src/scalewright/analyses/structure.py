@@ -42,27 +42,37 @@ def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
                       notes=tuple(notes))
 
 
-def analyse_structure_of_file(spec: Any, responses: Any, **options: Any) -> Any:
+def analyse_structure_of_file(spec: Any, responses: Any, *, ordinal: bool = False, **options: Any) -> Any:
     """:func:`~scalewright.stats.structure.analyse_structure` of the joint item matrix of every scale.
 
     The joint matrix's notes (an item keyed one way in one scale and the other way in another) come first
     among the result's notes, so the command and the report show them alike. ``options`` go to
-    ``analyse_structure``.
+    ``analyse_structure``. ``ordinal`` analyses the polychoric correlations of the items instead of the
+    Pearson ones (over the same complete rows).
     """
     from dataclasses import replace
 
     from ..stats.structure import analyse_structure
 
     codes = responses.codes(spec.items)
-    if codes is not None:
-        # whole answer levels: the correlations from exact integer cross-products of the codes, as the
-        # streaming and Dask routes compute them, so every route gives the same structure
+    if codes is not None and not ordinal and options.get("missing", "listwise") == "listwise":
+        # whole answer levels, listwise Pearson correlations: from exact integer cross-products of the codes,
+        # as the streaming and Dask routes compute them, so every route gives the same structure (the
+        # iterative factoring would carry a last-bit difference in the correlations into the loadings)
+        from ..stats.missing_patterns import PatternSummary
         from ..summaries import ListwiseCrossProducts
         from .summarised import structure_from_cross_products
 
         span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
-        return structure_from_cross_products(spec, ListwiseCrossProducts.from_codes(codes, span=span), **options)
+        return structure_from_cross_products(spec, ListwiseCrossProducts.from_codes(codes, span=span),
+                                             patterns=PatternSummary.from_codes(codes), **options)
     joint = joint_keyed_items(responses, spec)
+    if ordinal:
+        from .ordinal import joint_polychoric
+
+        polychoric = joint_polychoric(responses, spec)
+        options = {**options, "correlation": polychoric.correlation, "correlation_type": "polychoric",
+                   "correlation_notes": polychoric.notes}
     result = analyse_structure(joint.matrix, item_names=joint.item_names, item_scale=joint.item_scale,
                                scale_items=joint.scale_items, **options)
     return replace(result, notes=(*joint.notes, *result.notes)) if joint.notes else result

@@ -55,13 +55,13 @@ def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> t
 def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | None = None,
                     min_cell: int = 5) -> Any:
     """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
-    from ..stats.tally import tally_from_counts
+    from ..stats.tally import tally_from_category_counts
 
     counts = summary["categories"][column]
     members, numeric = category_levels(spec, counts, column)
     listed = spec is not None and column in getattr(spec, "group_levels", {})
     merged = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
-    return tally_from_counts(merged, n_total=counts.n, n_missing=counts.missing, natural=list(members), order=order,
+    return tally_from_category_counts(merged, n_total=counts.n, n_missing=counts.missing, natural=list(members), order=order,
                              ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
 
 
@@ -69,7 +69,7 @@ def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None 
                   min_cell: int = 5) -> Any:
     """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
     from ..stats.subgroups import level_name
-    from ..stats.tally import tally_from_counts
+    from ..stats.tally import tally_from_category_counts
 
     scale_name, position = next((name, scale.items.index(item)) for name, scale in spec.scales.items()
                                 if item in scale.items)
@@ -77,7 +77,7 @@ def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None 
     low = spec.response_for(item).min
     counts = {level_name(low + code): int(n) for code, n in enumerate(answers.tally[position]) if n}
     answered = int(answers.tally[position].sum())
-    return tally_from_counts(counts, n_total=answers.n_rows, n_missing=answers.n_rows - answered,
+    return tally_from_category_counts(counts, n_total=answers.n_rows, n_missing=answers.n_rows - answered,
                              natural=list(counts), order=order, labels=labels, ordered=True, min_cell=min_cell,
                              column=item)
 
@@ -109,16 +109,27 @@ def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: f
     elif stats.n_rows > stats.n_used:
         notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
                      f"every item and were set aside")
-    return reliability_from_cov(stats.cov, stats.n_used, item_names=tuple(scale.items),
-                                confidence_level=confidence_level, thresholds=thresholds,
-                                reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
-                                missing_handling="pairwise" if pairwise else "listwise", bootstrap=None, notes=notes)
+    method = "pairwise" if pairwise else "listwise"
+    result = reliability_from_cov(stats.cov, stats.n_used, item_names=tuple(scale.items),
+                                  confidence_level=confidence_level, thresholds=thresholds,
+                                  reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
+                                  missing_handling=method, bootstrap=None, notes=notes)
+    if "patterns" not in part:
+        return result
+    from dataclasses import replace
+
+    from ..stats.missing import missing_handling
+
+    # the missing-data block of the whole-file route (patterns, Little's test) from the merged patterns
+    return replace(result, missing=missing_handling(part["patterns"], method, n_used=stats.n_used,
+                                                    item_names=tuple(scale.items)))
 
 
 def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
                                pairwise: bool = False, min_group: int = 10, thresholds: Any = None) -> dict[str, Any]:
     """:func:`~scalewright.analyses.reliability.analyse_reliability` from merged summaries (no bootstrap:
     it resamples rows)."""
+    from ..stats.ordinal_reliability import ordinal_advice
     from ..stats.reliability import GroupReliability, ScaleReliabilityReport, compare_alphas
 
     options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds)
@@ -141,7 +152,12 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
                                            missing=split.missing, min_group=split.min_size,
                                            comparisons=compare_alphas(levels) if len(levels) >= 2 else (),
                                            notes=tuple(notes)))
-        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups))
+        # the note on whether the answers call for --ordinal, from the answer counts (as analyses.ordinal does)
+        levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
+        tallies = np.array([[item.counts.get(level, 0) for level in levels] for item in overall.items.values()])
+        advice = ordinal_advice(tallies, len(levels), list(overall.items)) if len(tallies) else ()
+        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups),
+                                               ordinal=None, ordinal_advice=advice)
     return reports
 
 
@@ -240,10 +256,10 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
 def structure_from_summaries(spec: Any, summary: Any, **options: Any) -> Any:
     """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
     cross-products of every item (``joint`` in the plan)."""
-    return structure_from_cross_products(spec, summary["joint"], **options)
+    return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
 
 
-def structure_from_cross_products(spec: Any, joint: Any, **options: Any) -> Any:
+def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
     """The factor structure from the listwise cross-products of the codes of every item of the scale file
     (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
     :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
@@ -264,4 +280,36 @@ def structure_from_cross_products(spec: Any, joint: Any, **options: Any) -> Any:
     result = analyse_structure(None, covariance=covariance, item_names=tuple(spec.items), item_scale=item_scale,
                                scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
                                **options)
+    if patterns is not None:  # the missing-data block of the whole-file route, from the merged patterns
+        from ..stats.missing import missing_handling
+
+        result = replace(result, missing=missing_handling(patterns, "listwise", n_used=covariance.n_used,
+                                                          scope="file", item_names=tuple(spec.items)))
     return replace(result, notes=(*notes, *result.notes)) if notes else result
+
+
+def one_factor_models_from_summaries(spec: Any, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
+    """:func:`~scalewright.analyses.confirm.one_factor_models` from each scale's merged cross-products.
+
+    The fit is a function of the covariance matrix and n only (:func:`~scalewright.stats.cfa_fit.fit`);
+    each item is keyed as the first scale listing it, as ``analyses.confirm.keyed_covariance`` keys it.
+    """
+    from ..concurrency import one_blas_thread
+    from ..stats.cfa_fit import fit
+    from ..stats.cfa_model import factor_model
+    from ..stats.cfa_result import summarize_fit
+
+    owner: dict[str, Any] = {}
+    for scale in spec.scales.values():
+        for item in scale.items:
+            owner.setdefault(item, scale)
+    models = {}
+    with one_blas_thread():
+        for name, scale in spec.scales.items():
+            items = tuple(scale.items)
+            reversed_mask = np.array([owner[item].is_reversed(item) for item in items], dtype=bool)
+            cov = summary["scales"][name]["cross_products"].covariance(
+                low=int(scale.response.min), high=int(scale.response.max), reversed_mask=reversed_mask)
+            fitted = fit(cov.cov, cov.n_used, factor_model({name: items}))
+            models[name] = summarize_fit(fitted, name=name, scales={name: items})
+    return models

@@ -37,7 +37,23 @@ def output_options(fn: Callable) -> Callable:
     return fn
 
 
+def _remember_sheet(ctx: click.Context, _param: click.Parameter, value: str | None) -> None:
+    ctx.meta["scalewright.sheet"] = value
+
+
+def chosen_sheet() -> str | None:
+    """The ``--sheet`` of the running command (kept in the click context, so no command's signature changes)."""
+    ctx = click.get_current_context(silent=True)
+    return ctx.meta.get("scalewright.sheet") if ctx is not None else None
+
+
+def sheet_option(fn: Callable) -> Callable:
+    return click.option("--sheet", metavar="NAME", expose_value=False, callback=_remember_sheet,
+                        help="The sheet to read from a workbook (.xlsx) with several.")(fn)
+
+
 def input_options(fn: Callable) -> Callable:
+    fn = sheet_option(fn)
     fn = click.option("--exclude", type=click.Path(dir_okay=False, path_type=Path),
                       help="File of respondent ids to set aside (one per line, or a CSV whose first column holds them).")(fn)
     fn = click.option("--lenient", is_flag=True,
@@ -45,9 +61,42 @@ def input_options(fn: Callable) -> Callable:
     return fn
 
 
+#: where ``--max-levels`` is kept for :func:`resolve_by` (the option is not passed to the command function, so
+#: a command that takes ``--by`` gets the limit without a parameter of its own)
+MAX_LEVELS_KEY = "scalewright.max_levels"
+
+
+def _keep_max_levels(ctx: click.Context, _param: click.Parameter, value: int) -> int:
+    ctx.meta[MAX_LEVELS_KEY] = value
+    return value
+
+
 def by_option(fn: Callable) -> Callable:
+    from ..analyses.subgroup_columns import DEFAULT_MAX_LEVELS
+
+    fn = click.option("--max-levels", type=click.IntRange(min=2), default=DEFAULT_MAX_LEVELS, show_default=True,
+                      expose_value=False, callback=_keep_max_levels,
+                      help="Refuse a subgroup column with more levels than this (bin it first).")(fn)
     return click.option("--by", "by", multiple=True, metavar="COLUMN",
                         help="Subgroup column (repeatable). Default: the scale file's `groups`.")(fn)
+
+
+MISSING_METHODS = ("listwise", "pairwise", "em")
+
+
+def missing_option(fn: Callable) -> Callable:
+    """``--missing listwise|pairwise|em`` for every command that rests on the item covariance matrix."""
+    return click.option("--missing", "missing", type=click.Choice(MISSING_METHODS), default=None,
+                        help="Missing answers: listwise (default) sets aside respondents with any gap; pairwise "
+                             "uses, for each pair of items, the respondents who answered both; em estimates the "
+                             "means and covariances by maximum likelihood (EM) from everyone who answered.")(fn)
+
+
+def resolve_missing(missing: str | None, pairwise: bool = False) -> str:
+    """The method of ``--missing``, with ``--pairwise`` kept as a synonym of ``--missing pairwise``."""
+    if pairwise and missing not in (None, "pairwise"):
+        raise UsageError(f"--pairwise and --missing {missing} contradict each other; give one of them")
+    return missing or ("pairwise" if pairwise else "listwise")
 
 
 @dataclass(frozen=True)
@@ -59,12 +108,14 @@ class Inputs:
     info: InputInfo
     excluded: int
     notes: tuple[str, ...]
+    #: what ``--exclude`` set aside (``exclusion.Exclusion``), or None
+    exclusion: Any = None
 
 
 def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Path | None = None) -> Inputs:
     from concurrent.futures import ThreadPoolExecutor
 
-    from ..data import read_exclusion_list, read_responses
+    from ..data import read_responses
     from ..spec import load_spec
 
     spec = load_spec(scales)
@@ -72,20 +123,41 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
     # beside the parse instead of after it
     with ThreadPoolExecutor(max_workers=1) as pool:
         digests = pool.submit(InputInfo.from_paths, data, scales)
-        responses = read_responses(data, spec, lenient=lenient)
+        responses = read_responses(data, spec, lenient=lenient, sheet=chosen_sheet())
         info = digests.result()
     notes: list[str] = list(responses.notes())
-    excluded = 0
+    exclusion = None
     if exclude is not None:
-        ids = read_exclusion_list(exclude)
-        responses, excluded, unknown = responses.without_ids(ids)
-        notes.append(f"{excluded} respondent(s) set aside from {exclude} ({len(ids)} id(s) listed, "
-                     f"{len(unknown)} not found in the data)")
-    return Inputs(spec=spec, responses=responses, info=info, excluded=excluded, notes=tuple(notes))
+        from ..exclusion import exclude_respondents, read_exclusion_list
+        from ..present.messages import describe
+
+        listing = read_exclusion_list(exclude, id_column=spec.id_column)
+        responses, exclusion = exclude_respondents(responses, listing)
+        notes.extend(describe(n) for n in exclusion.notes())
+    return Inputs(spec=spec, responses=responses, info=info, excluded=0 if exclusion is None else exclusion.set_aside,
+                  notes=tuple(notes), exclusion=exclusion)
 
 
-def resolve_by(by: Sequence[str], spec: Any) -> tuple[str, ...]:
-    return tuple(by) if by else tuple(getattr(spec, "groups", ()) or ())
+def resolve_by(by: Sequence[str], spec: Any, responses: Any = None, *, max_levels: int | None = None) -> tuple[str, ...]:
+    """The subgroup columns: ``--by`` or the scale file's ``groups``.
+
+    With ``responses``, each must be in the data and have at most ``max_levels`` levels (default: the
+    command's ``--max-levels``).
+    """
+    columns = tuple(by) if by else tuple(getattr(spec, "groups", ()) or ())
+    if responses is not None and columns:
+        from ..analyses.subgroup_columns import check_level_counts
+
+        check_level_counts(responses, columns, max_levels=max_levels or chosen_max_levels())
+    return columns
+
+
+def chosen_max_levels() -> int:
+    """The running command's ``--max-levels`` (the default outside a command)."""
+    from ..analyses.subgroup_columns import DEFAULT_MAX_LEVELS
+
+    context = click.get_current_context(silent=True)
+    return context.meta.get(MAX_LEVELS_KEY, DEFAULT_MAX_LEVELS) if context else DEFAULT_MAX_LEVELS
 
 
 def choose_format(fmt: str | None, out: Path | None) -> str:
@@ -103,6 +175,8 @@ def emit(*, command: str, inputs: Inputs, body: dict[str, Any], tables: Sequence
     """Render the result in the chosen format and write it to ``out`` (atomically) or stdout."""
     chosen = choose_format(fmt, out)
     document = envelope(command, inputs.info, body, options=options, notes=list(inputs.notes))
+    if inputs.exclusion is not None:
+        document["exclusion"] = inputs.exclusion.to_dict()
     if chosen == "json":
         text = render_json(document)
     elif chosen == "csv":

@@ -18,7 +18,9 @@ from .common import (
 )
 
 
-@click.command("compare")
+@click.command("compare", epilog=("Examples:\n\n\b\n"
+                  "  scalewright compare survey.csv --scales survey.yaml --by site\n"
+                  "  scalewright compare survey.csv -s survey.yaml --by shift --format md --out compare.md\n"))
 @data_argument
 @scales_option
 @by_option
@@ -41,15 +43,22 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     from ..scoring import score_scales
 
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, inputs.responses)
     if not columns:
         raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
     scored = score_scales(inputs.responses, inputs.spec)
     per_column = analyse_compare(inputs.spec, inputs.responses, by=columns, min_cell=min_cell, student=student,
                                  scores=scored)
-    body = {"scales": {name: {"by": {column: comparison_record(per_column[column][i], decimals=decimals)
+    # is each scale measuring the same thing in every group? (measurement invariance, see `confirm --by`)
+    from ..analyses.invariance import invariance_by_scale
+    from ..present.invariance import invariance_record, invariance_tables
+
+    invariance = invariance_by_scale(inputs.spec, inputs.responses, by=columns)
+    body = {"scales": {name: {"by": {column: {**comparison_record(per_column[column][i], decimals=decimals),
+                                              "invariance": invariance_record(invariance[column].get(name))}
                                      for column in columns}}
                        for i, name in enumerate(scored.scales)}}
     ordered = [c for i in range(len(scored.scales)) for column in columns for c in (per_column[column][i],)]
-    emit(command="compare", inputs=inputs, body=body, tables=compare_tables(ordered, decimals=decimals), fmt=fmt,
+    tables = [*compare_tables(ordered, decimals=decimals), invariance_tables(invariance)[1]]
+    emit(command="compare", inputs=inputs, body=body, tables=tables, fmt=fmt,
          out=out, decimals=decimals, options={"by": list(columns), "student": student, "min_cell": min_cell})

@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..files import prepare_output_folder
+from ..seeds import DEFAULT_SEED
 
 DATA_NAME = "staff-climate.csv"
 SCALES_NAME = "staff-climate.yaml"
@@ -47,11 +48,14 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
     return write_scores(table, Path(folder) / SCORES_NAME, inputs=[data_path, scales_path])
 
 
-@click.command("demo")
+@click.command("demo", epilog=("Examples:\n\n\b\n"
+                  "  scalewright demo --out demo-report\n"
+                  "  scalewright demo --out demo-report --n 1200 --seed 7\n"))
 @click.option("--out", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
               help="Folder to write the demo into (created if missing; must be empty unless --force).")
-@click.option("--seed", type=click.IntRange(min=0), default=2026, show_default=True,
-              help="Seed of the generator: the same seed gives the same data.")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the generator and of the report's random steps: the same seed gives the same data "
+                   "and the same report.")
 @click.option("--n", "n", type=click.IntRange(40, 1_000_000), default=600, show_default=True,
               help="Number of respondents.")
 @click.option("--force", is_flag=True, help="Write into a folder that already holds files.")
@@ -59,7 +63,8 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
               help="Random data sets drawn for the report's parallel analysis.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while the report is built.")
 def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool) -> None:
-    """Write a fictional staff climate survey and its scale file, and build the full report from them."""
+    """Write a fictional staff climate survey and its scale file, and build the full report from them.
+    """
     from .report import build_report_folder
 
     folder = prepare_folder(out, force=force)
@@ -72,5 +77,10 @@ def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool
     click.echo(f"wrote {folder / SCORES_NAME}  (scored file: one row per respondent, in data order)")
     click.echo(f"wrote {folder / REPORT_NAME}  (the report: open it in a browser; also report.md, results.json, "
                "figures/)")
-    click.echo(f"next: scalewright reliability {data_path} --scales {scales_path}")
+    import shlex
+
+    from . import program_name
+
+    click.echo(f"next: {program_name()} reliability {shlex.quote(str(data_path))} --scales "
+               f"{shlex.quote(str(scales_path))}")
     click.echo(CAUTION)

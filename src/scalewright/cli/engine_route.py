@@ -45,7 +45,11 @@ def _without_scales() -> Any:
     """What the block reader needs of a spec when no scale file is given: no items, no id, no groups."""
     from types import SimpleNamespace
 
-    return SimpleNamespace(items=(), id_column=None, groups=(), group_levels={}, scales={}, path=None)
+    from ..spec import DEFAULT_MISSING_TEXTS
+
+    # without a scale file the default "no answer" texts apply, as on the whole-file route
+    return SimpleNamespace(items=(), id_column=None, groups=(), group_levels={}, scales={}, path=None,
+                           missing_texts=tuple(DEFAULT_MISSING_TEXTS))
 
 
 def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], Any], *, engine: str,
@@ -69,6 +73,14 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
         return None
     spec = load_spec(scales) if scales is not None else _without_scales()
     plan = make_plan(spec)
+    coded = [column for column in getattr(spec, "group_codes", {}) if column in plan.columns]
+    if coded:  # the block reader does not turn a group's codes into the level names the scale file gives
+        reason = f"group column {coded[0]!r} holds codes the scale file names; only the whole-file route names them"
+        if route == "dask":
+            raise UsageError(f"--engine dask: {reason} (use --engine memory)")
+        if engine == "stream":
+            click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
+        return None
     if route == "dask":
         if scales is None:
             raise UsageError("--engine dask needs the scale file: give --scales FILE")
@@ -100,3 +112,31 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
                     notes=tuple(outcome.notes()))
     return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"})
+
+
+def first_needing_rows(**given: Any) -> str | None:
+    """The first option (named as on the command line, ``--`` added) that the summaries cannot serve, or None.
+
+    ``given`` maps an option's name (underscores for dashes) to True when it was given in a form the
+    streaming route does not support; such a command takes the whole-file route exactly as without an engine.
+    """
+    for name, used in given.items():
+        if used:
+            return "--" + name.replace("_", "-")
+    return None
+
+
+class StreamedLevels:
+    """The distinct values of the counted columns of merged summaries, where ``resolve_by`` wants responses.
+
+    The check of ``--max-levels`` looks only at a column's distinct values (their number and, for numbers,
+    their range and spacing), which the merged category counts hold exactly.
+    """
+
+    def __init__(self, summary: Any) -> None:
+        self._categories = summary["categories"]
+
+    def column(self, name: str) -> Any:
+        import pandas as pd
+
+        return pd.Series(list(self._categories[name].counts), dtype=object)

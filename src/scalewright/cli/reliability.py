@@ -6,19 +6,24 @@ from pathlib import Path
 import click
 
 from ..analyses.reliability import analyse_reliability
+from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
     emit,
     input_options,
     load_inputs,
+    missing_option,
     output_options,
     resolve_by,
+    resolve_missing,
     scales_option,
 )
-from .engine_route import dataset_argument, engine_options, load_summaries
+from .engine_route import StreamedLevels, dataset_argument, engine_options, first_needing_rows, load_summaries
 
 
-@click.command("reliability")
+@click.command("reliability", epilog=("Examples:\n\n\b\n"
+                  "  scalewright reliability survey.csv --scales survey.yaml\n"
+                  "  scalewright reliability survey.csv -s survey.yaml --by shift --bootstrap 2000\n"))
 @dataset_argument
 @scales_option
 @by_option
@@ -26,10 +31,14 @@ from .engine_route import dataset_argument, engine_options, load_summaries
               show_default=True, help="Coverage of the confidence intervals of alpha.")
 @click.option("--bootstrap", "n_resamples", type=click.IntRange(min=0), default=0, metavar="N",
               help="Also give percentile and BCa bootstrap intervals of alpha from N resamples.")
-@click.option("--seed", type=click.IntRange(min=0), default=None,
-              help="Seed of the bootstrap (default: a fresh one, recorded in the output).")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the bootstrap (the same default in every command and the report).")
+@missing_option
 @click.option("--pairwise", is_flag=True,
-              help="Pairwise instead of listwise deletion: each covariance uses the rows answering both items.")
+              help="Same as --missing pairwise (kept for existing scripts).")
+@click.option("--ordinal", is_flag=True,
+              help="Also treat the answers as ordered categories: ordinal alpha, ordinal omega and the sum "
+                   "score's reliability from polychoric correlations.")
 @click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
               help="Subgroup levels with fewer respondents are named but not analysed.")
 @click.option("--weak-item-r", type=float, default=0.30, show_default=True,
@@ -43,52 +52,61 @@ from .engine_route import dataset_argument, engine_options, load_summaries
 @engine_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
-                seed: int | None, pairwise: bool, min_group: int, weak_item_r: float, redundant_r: float,
-                low_alpha: float, excess_alpha: float, lenient: bool, exclude: Path | None, engine: str,
-                scheduler: str | None, workers: int | None, block_size: int | None, fmt: str | None, out: Path | None,
-                decimals: int) -> None:
+                seed: int, missing: str | None, pairwise: bool, ordinal: bool, min_group: int,
+                weak_item_r: float, redundant_r: float, low_alpha: float, excess_alpha: float, lenient: bool,
+                exclude: Path | None, engine: str, scheduler: str | None, workers: int | None,
+                block_size: int | None, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
     Per scale: alpha with its Feldt confidence interval, standardized alpha, omega total (one-factor
     model), Guttman's lambda2 and lambda6, inter-item correlations; per item: descriptives, floor and
     ceiling shares, item-rest correlation, alpha and omega if the item were left out. Flags name suspect
     keying, weak items, redundant pairs and too low or too high reliability. With --by, the same per
-    subgroup, and Feldt's test of the alphas between subgroups.
+    subgroup, and Feldt's test of the alphas between subgroups. With --ordinal, also ordinal alpha and
+    omega and the reliability of the sum score from polychoric correlations (whole sample).
     """
     from ..engine.plan import plan_for
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
 
-    needs_rows = "--bootstrap" if n_resamples else ("--exclude" if exclude is not None else None)
+    method = resolve_missing(missing, pairwise)
+    # the summaries serve listwise and pairwise covariances; any other option takes the whole-file route
+    needs_rows = first_needing_rows(bootstrap=bool(n_resamples), exclude=exclude is not None, ordinal=ordinal,
+                                    missing=method not in ("listwise", "pairwise"))
     summarised = load_summaries(
-        data, scales, lambda spec: plan_for(spec, cross_products="pairwise" if pairwise else "listwise",
-                                            by=resolve_by(by, spec)),
+        data, scales, lambda spec: plan_for(spec, cross_products=method, by=resolve_by(by, spec), patterns=True),
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
         needs_rows=needs_rows)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
-    if n_resamples and seed is None:
-        import numpy as np
-
-        seed = int(np.random.SeedSequence().entropy % 2**32)
+    columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
+    from ..present.confirm import confirmatory_summary, reliability_beside_table
+
     if summarised:
-        from ..analyses.summarised import reliability_from_summaries
+        from ..analyses.summarised import one_factor_models_from_summaries, reliability_from_summaries
 
         reports = reliability_from_summaries(inputs.spec, summarised.summary, by=columns,
-                                             confidence_level=confidence_level, pairwise=pairwise,
+                                             confidence_level=confidence_level, pairwise=method == "pairwise",
                                              min_group=min_group, thresholds=thresholds)
+        # the confirmatory one-factor model of each scale from the merged covariance (see `confirm`)
+        models = one_factor_models_from_summaries(inputs.spec, summarised.summary, pairwise=method == "pairwise")
     else:
         reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
-                                      pairwise=pairwise, min_group=min_group, n_resamples=n_resamples, seed=seed,
-                                      thresholds=thresholds)
-    body = {"scales": {name: report.to_dict() for name, report in reports.items()},
+                                      missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
+                                      thresholds=thresholds, ordinal=ordinal)
+        from ..analyses.confirm import one_factor_models
+
+        # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`)
+        models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
+    body = {"scales": {name: {**report.to_dict(), "confirmatory": confirmatory_summary(models[name])}
+                       for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
     if summarised:
         body["engine"] = summarised.engine
-    options = {"by": list(columns), "confidence_level": confidence_level, "missing": "pairwise" if pairwise
-               else "listwise", "bootstrap": n_resamples, "seed": seed, "min_group": min_group,
+    options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
+               "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
-    emit(command="reliability", inputs=inputs, body=body, tables=reliability_tables(reports), fmt=fmt, out=out,
+    emit(command="reliability", inputs=inputs, body=body,
+         tables=[*reliability_tables(reports), reliability_beside_table(models)], fmt=fmt, out=out,
          decimals=decimals, options=options)

@@ -8,10 +8,13 @@ import click
 
 from .common import (
     by_option,
+    chosen_max_levels,
     data_argument,
     input_options,
     load_inputs,
+    missing_option,
     resolve_by,
+    resolve_missing,
     scales_option,
 )
 
@@ -20,7 +23,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
                         exclude: Path | None = None, decimals: int = 2, force: bool = False,
                         seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                         min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        quiet: bool = False, single_file: bool = False) -> Any:
+                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
+                        missing: str = "listwise", png: bool = False, max_levels: int | None = None) -> Any:
     """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
     from ..present.progress import Progress
     from ..present.report_files import (
@@ -34,22 +38,29 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
     progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
     progress.step("reading the inputs")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    options = ReportOptions(by=resolve_by(by, inputs.spec), seed=DEFAULT_SEED if seed is None else seed,
+    options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(), seed=DEFAULT_SEED if seed is None else seed,
                             iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                             min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
-                            decimals=decimals, duration_column=duration_column)
+                            decimals=decimals, duration_column=duration_column, duration_unit=duration_unit,
+                            missing=missing)
     # every check of the inputs and options runs before the folder is touched
     check_columns(inputs.responses, options)
     folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude], single_file=single_file)
     results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
                            input_notes=inputs.notes, n_excluded=inputs.excluded, progress=progress.step)
-    write = write_single_page if single_file else write_report_folder
-    write(results, folder, decimals=decimals, inputs=[data, scales, exclude], progress=progress.step)
+    if single_file:
+        write_single_page(results, folder, decimals=decimals, inputs=[data, scales, exclude],
+                          progress=progress.step)
+    else:
+        write_report_folder(results, folder, decimals=decimals, inputs=[data, scales, exclude],
+                            progress=progress.step, png=png)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
 
 
-@click.command("report")
+@click.command("report", epilog=("Examples:\n\n\b\n"
+                  "  scalewright report survey.csv --scales survey.yaml --out report/\n"
+                  "  scalewright report survey.csv -s survey.yaml --by shift --exclude flagged.csv --out report/\n"))
 @data_argument
 @scales_option
 @by_option
@@ -59,7 +70,8 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
 @click.option("--decimals", type=click.IntRange(0, 6), default=2, show_default=True,
               help="Decimals shown in the pages (results.json keeps full precision).")
 @click.option("--seed", type=click.IntRange(min=0), default=None,
-              help="Seed of every random step (parallel analysis, dip test); default 2026, recorded in the report.")
+              help="Seed of every random step (parallel analysis, dip test); default 2026, the same in every command, "
+                   "recorded in the report.")
 @click.option("--iterations", type=click.IntRange(1, 100_000), default=100, show_default=True,
               help="Random data sets drawn for parallel analysis (fewer is faster, less exact).")
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
@@ -70,20 +82,27 @@ def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, .
               help="Groups and answer counts below this are shown as '< N'.")
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column of completion times; enables the screen's check for respondents who went too fast.")
+@click.option("--duration-unit", type=click.Choice(["s", "min"]), default="s", show_default=True,
+              help="Unit of the completion times, shown beside them.")
+@click.option("--png", is_flag=True,
+              help="Also write every figure as a PNG image (for slides and word processors); the pages use SVG.")
 @click.option("--quiet", "-q", is_flag=True, help="Say nothing on stderr while working.")
 @click.option("--single-file", is_flag=True,
               help="Write only DIR/index.html, every figure inside it: one file to send (no other files).")
+@missing_option
 @input_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
-           quiet: bool, single_file: bool, lenient: bool, exclude: Path | None) -> None:
+           duration_unit: str, png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
+           exclude: Path | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
     Writes DIR/index.html (one self-contained page: no scripts, nothing from the
     network), DIR/report.md, DIR/results.json (every result at full precision),
-    DIR/figures/ (SVG and PNG) and DIR/scores.csv. With --single-file, only
-    DIR/index.html, with every figure inside it.
+    DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
+    only DIR/index.html, with every figure inside it.
     """
     build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
-                        min_cell=min_cell, duration_column=duration_column, quiet=quiet, single_file=single_file)
+                        min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
+                        single_file=single_file, missing=resolve_missing(missing), png=png)

@@ -5,6 +5,9 @@ from pathlib import Path
 
 import click
 
+from ..errors import UsageError
+from ..files import refuse_input_overwrite
+from ..present.render import visible_controls
 from ..present.table import Table
 from ..scoring import SCORE_FILE_TYPES, STANDARDIZE, score_scales, write_scores
 from .common import (
@@ -18,20 +21,29 @@ from .common import (
 )
 
 
-@click.command("score")
+@click.command("score", epilog=("Examples:\n\n\b\n"
+                  "  scalewright score survey.csv --scales survey.yaml --out scores.csv\n"
+                  "  scalewright score survey.csv -s survey.yaml --standardize pomp --out scores.xlsx\n"))
 @data_argument
 @scales_option
 @click.option("--standardize", type=click.Choice(STANDARDIZE), default=None,
-              help="Also rescale: pomp = percent of maximum possible (0-100), z = standard scores in this sample.")
+              help="Also write a rescaled score beside the raw one, as <scale>__pomp (percent of maximum "
+                   "possible, 0-100) or <scale>__z (standard scores in this sample).")
+@click.option("--force", is_flag=True, help="Replace --out if it exists (never an input file).")
 @input_options
 @output_options
-def score(data: Path, scales: Path, standardize: str | None, lenient: bool, exclude: Path | None,
+def score(data: Path, scales: Path, standardize: str | None, force: bool, lenient: bool, exclude: Path | None,
           fmt: str | None, out: Path | None, decimals: int) -> None:
     """Write the scored file: id, one column per scale and <scale>__answered.
 
     With --out FILE ending in .csv, .xlsx or .parquet the scores are written there
     (rows in input order); without it a summary of what was scored is shown.
+    Numbers are written in full: the shortest text that reads back as the same number.
     """
+    if out is not None:
+        refuse_input_overwrite(out, [data, scales, exclude])
+        if out.exists() and not force:
+            raise UsageError(f"{out} exists; add --force to replace it")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     table = score_scales(inputs.responses, inputs.spec, standardize=standardize)
     summary = Table(
@@ -42,10 +54,10 @@ def score(data: Path, scales: Path, standardize: str | None, lenient: bool, excl
                "not scored": "int"},
         key="scores")
     if out is not None and out.suffix.lower() in SCORE_FILE_TYPES and fmt is None:
-        write_scores(table, out, inputs=[data, scales])
+        write_scores(table, out, inputs=[data, scales, exclude])
         click.echo(f"wrote {out} ({inputs.responses.n} rows, {len(table.scales)} scale(s))", err=True)
         for note in inputs.notes:
-            click.echo(f"note: {note}", err=True)
+            click.echo(f"note: {visible_controls(note)}", err=True)
         return
     body = {"scores": table.to_dict(), "reading": inputs.responses.reading_summary()}
     emit(command="score", inputs=inputs, body=body, tables=[summary], fmt=choose_format(fmt, out), out=out,

@@ -17,11 +17,15 @@ from .common import (
 )
 
 
-@click.command("screen")
+@click.command("screen", epilog=("Examples:\n\n\b\n"
+                  "  scalewright screen survey.csv --scales survey.yaml\n"
+                  "  scalewright screen survey.csv -s survey.yaml --out flagged.csv --flagged-only\n"))
 @data_argument
 @scales_option
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column holding each respondent's completion time; enables the 'fast' flag.")
+@click.option("--duration-unit", type=click.Choice(["s", "min"]), default="s", show_default=True,
+              help="Unit of the completion times, shown beside them.")
 @click.option("--speed-share", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=1 / 3,
               show_default="1/3", help="Flag 'fast' below this share of the median completion time.")
 @click.option("--flagged-only", is_flag=True,
@@ -42,7 +46,7 @@ from .common import (
               help="Flag identical answer rows only when at least this many items are answered.")
 @input_options
 @output_options
-def screen(data: Path, scales: Path, duration_column: str | None, speed_share: float, flagged_only: bool,
+def screen(data: Path, scales: Path, duration_column: str | None, duration_unit: str, speed_share: float, flagged_only: bool,
            long_run_share: float, mahalanobis_p: float, mahalanobis_p_weak: float, even_odd_min: float,
            person_total_min: float, missing_share_max: float, duplicate_min_items: int, lenient: bool,
            exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
@@ -53,7 +57,8 @@ def screen(data: Path, scales: Path, duration_column: str | None, speed_share: f
     to list only the flagged). A flag marks a record to look at, not a verdict on a person.
     """
     from ..files import write_atomic
-    from ..present.quality import respondents_csv, screen_tables
+    from ..present.quality import duplicate_notes, respondents_csv, screen_notes, screen_tables
+    from ..present.render import visible_controls
     from ..stats.quality import ScreenThresholds
 
     thresholds = ScreenThresholds(
@@ -61,15 +66,16 @@ def screen(data: Path, scales: Path, duration_column: str | None, speed_share: f
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds)
+    result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds,
+                            duration_unit=duration_unit)
     document = result.to_dict()
     if out is not None and fmt is None and out.suffix.lower() == ".csv":
         write_atomic(out, respondents_csv(document, flagged_only=flagged_only), inputs=[data, scales])
         written = result.n if not flagged_only else int(result.flagged.sum())
         click.echo(f"wrote {out} ({written} respondent(s); {int(result.flagged.sum())} of {result.n} flagged)",
                    err=True)
-        for note in (*inputs.notes, *document["notes"]):
-            click.echo(f"note: {note}", err=True)
+        for note in (*inputs.notes, *screen_notes(document), *duplicate_notes(document)):
+            click.echo(f"note: {visible_controls(note)}", err=True)
         return
     if flagged_only:
         document["respondents"] = [r for r in document["respondents"] if r["flagged"]]

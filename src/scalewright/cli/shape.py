@@ -9,6 +9,7 @@ import click
 
 from ..analyses.shape import analyse_shape
 from ..errors import UsageError
+from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
     emit,
@@ -18,7 +19,7 @@ from .common import (
     resolve_by,
     scales_option,
 )
-from .engine_route import dataset_argument, engine_options, load_summaries
+from .engine_route import StreamedLevels, dataset_argument, engine_options, load_summaries
 
 
 def parse_percentiles(text: str) -> tuple[float, ...]:
@@ -40,7 +41,9 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
     return tuple(dict.fromkeys(values))
 
 
-@click.command("shape")
+@click.command("shape", epilog=("Examples:\n\n\b\n"
+                  "  scalewright shape survey.csv --scales survey.yaml --items\n"
+                  "  scalewright shape survey.csv -s survey.yaml --by shift --figures figures/\n"))
 @dataset_argument
 @scales_option
 @by_option
@@ -54,8 +57,9 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
               help="Sample quantile definition (Hyndman & Fan types 1-9 by numpy's names; linear is type 7).")
 @click.option("--min-group", type=click.IntRange(min=3), default=10, show_default=True,
               help="Subgroup levels with fewer scored respondents are named but not described.")
-@click.option("--seed", type=click.IntRange(min=0), default=0, show_default=True,
-              help="Seed of the jitter used by the dip test on tied scores.")
+@click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
+              help="Seed of the jitter used by the dip test on tied scores (the same default in every command "
+                   "and the report).")
 @click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
               help="Write histograms and box plots (SVG and PNG) to this folder.")
 @input_options
@@ -82,7 +86,7 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
                                 engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
                                 workers=workers, needs_rows="--exclude" if exclude is not None else None)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec)
+    columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     if summarised:
         from ..analyses.summarised import shape_from_summaries
 
@@ -109,7 +113,7 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
 
 def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = None, inputs: Sequence[Path] = ()) -> list[Path]:
     """Histogram and box plot of every report, and per-subgroup box plots and small multiples."""
-    from ..present.figure_files import figure_folder, save_figure, use_agg
+    from ..present.figure_files import FigureNames, figure_folder, safe_part, save_figure, use_agg
 
     folder = figure_folder(folder)
     use_agg()
@@ -121,28 +125,27 @@ def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = Non
     )
 
     written: list[Path] = []
+    names = FigureNames()
     for report in reports:
-        stem = f"shape_{_safe(report.name)}"
+        # an item may share its name with a scale: the item's figures say so in their name
+        stem = f"shape_{'item_' if report.kind == 'item' else ''}{safe_part(report.name)}"
         if report.overall.histogram is None:
             continue
         labels = None
         if report.kind == "item" and spec is not None:
             labels = {float(code): text for code, text in spec.response_for(report.name).labels.items()}
         ax = histogram(report.overall, title=report.title, x_label=report.x_label, tick_labels=labels)
-        written += save_figure(ax.figure, folder / f"{stem}_histogram", inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(f"{stem}_histogram"), inputs=inputs)
         ax = box_plot(report.overall, title=report.title, x_label=report.x_label)
-        written += save_figure(ax.figure, folder / f"{stem}_boxplot", inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(f"{stem}_boxplot"), inputs=inputs)
         for group in report.groups:
             if not group.levels or any(s.histogram is None for s in group.levels.values()):
                 continue
             ax = box_plots_by_group(report, column=group.column)
-            written += save_figure(ax.figure, folder / f"{stem}_by_{_safe(group.column)}_boxplots", inputs=inputs)
+            written += save_figure(ax.figure, folder / names.unique(f"{stem}_by_{safe_part(group.column)}_boxplots"),
+                                   inputs=inputs)
             axes = histograms_by_group(report, column=group.column)
-            written += save_figure(axes[0].figure, folder / f"{stem}_by_{_safe(group.column)}_histograms",
+            written += save_figure(axes[0].figure, folder / names.unique(f"{stem}_by_{safe_part(group.column)}_histograms"),
                                    inputs=inputs)
     click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
     return written
-
-
-def _safe(name: str) -> str:
-    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))

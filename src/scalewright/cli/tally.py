@@ -1,6 +1,7 @@
 """`scalewright tally`: frequency tables of categorical columns and rating items, and reference proportions."""
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import click
@@ -31,15 +32,33 @@ def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dic
     return out
 
 
+def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
+    from ..spec import DEFAULT_MISSING_TEXTS
+
+    if not texts:
+        return ()
+    detail = "; ".join(f"{column}: " + ", ".join(f"{text!r} {n}" for text, n in counts.items())
+                       for column, counts in texts.items())
+    return (f"cells holding a 'no answer' text ({', '.join(DEFAULT_MISSING_TEXTS)}) were read as missing: "
+            f"{detail}",)
+
+
 def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
-    from ..data import read_table
+    from ..data import MISSING_CELLS, read_table
     from ..present.document import InputInfo
+    from ..spec import DEFAULT_MISSING_TEXTS
+    from .common import chosen_sheet
 
-    frame = read_table(data)
-    return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=()), frame
+    # without a scale file the default "no answer" texts apply, as they would with one that lists none
+    frame = read_table(data, sheet=chosen_sheet(), missing_texts=DEFAULT_MISSING_TEXTS)
+    found = frame.attrs.get(MISSING_CELLS)
+    notes = _missing_texts_notes(found.texts) if found is not None else ()
+    return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=notes), frame
 
 
-@click.command("tally")
+@click.command("tally", epilog=("Examples:\n\n\b\n"
+                  "  scalewright tally survey.csv --scales survey.yaml --columns age_group\n"
+                  "  scalewright tally survey.csv -s survey.yaml --columns site --expected census.csv\n"))
 @dataset_argument
 @click.option("--scales", "-s", "scales", type=click.Path(dir_okay=False, path_type=Path),
               help="Scale file (YAML); needed for --items and to use the answer labels of items.")
@@ -90,6 +109,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     summary = summarised.summary if summarised else None
     if summarised:
         inputs = summarised.inputs
+        if scales is None:  # the note of the whole-file route without a scale file (_inputs_without_scales)
+            inputs = replace(inputs, notes=_missing_texts_notes(summarised.inputs.responses.counts.missing_texts))
         spec, responses = inputs.spec, None
         column_of = None
     elif scales is not None:
@@ -117,6 +138,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                 _per_column(orders, names, "--order").items()}
     expected_of = _per_column(expected, names, "--expected")
     tallies, fits = [], []
+    counted = {} if summary is not None else _count_item_codes(spec, responses, [n for n in names if n not in order_of], min_cell=min_cell)
     for name in names:
         is_item = spec is not None and name in spec.items
         labels = order = None
@@ -127,7 +149,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
         if name in order_of:
             order = order_of[name]
         if summary is None:
-            result = count(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
+            result = counted[name] if name in counted else count(column_of(name), order=order, labels=labels,
+                                                                 min_cell=min_cell, column=name)
         elif is_item:
             result = tally_of_item(spec, summary, name, order=order, labels=labels, min_cell=min_cell)
         else:
@@ -142,7 +165,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     if summarised:
         body["engine"] = summarised.engine
     distributions = {}
-    if items and spec is not None:
+    if items and spec is not None and figures is not None:  # drawn only; the tables are the tallies above
         for scale_name, scale in spec.scales.items():
             response = scale.response
             if summary is None:
@@ -162,8 +185,34 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
          out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})
 
 
+def _count_item_codes(spec, responses, names: list[str], *, min_cell: int) -> dict:
+    """The tallies of the items among ``names``, every answer code of every item counted in one pass.
+
+    Empty when there are no such items or their answers are not all held as codes (then each column is
+    tallied on its own, as any other column). Same result as :func:`~scalewright.stats.tally.tally` of each
+    item's clean values with the scale file's levels and labels.
+    """
+    from ..answer_codes import MISSING
+    from ..stats.coded import code_counts
+    from ..stats.tally import tally_from_counts
+
+    items = [name for name in names if spec is not None and name in spec.items]
+    codes = responses.codes(items) if items else None
+    if codes is None:
+        return {}
+    counts = code_counts(codes)
+    out = {}
+    for j, name in enumerate(items):
+        response = spec.response_for(name)
+        exact = {str(level): int(counts[j, level - response.min]) for level in response.levels}
+        out[name] = tally_from_counts(exact, n_total=responses.n, n_missing=int(counts[j, MISSING]), column=name,
+                                      ordered=True, labels={str(level): str(response.label(level))
+                                                            for level in response.levels}, min_cell=min_cell)
+    return out
+
+
 def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:
-    from ..present.figure_files import figure_folder, save_figure, use_agg
+    from ..present.figure_files import FigureNames, figure_folder, safe_part, save_figure, use_agg
 
     folder = figure_folder(folder)
     use_agg()
@@ -174,19 +223,16 @@ def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: 
     drawn = []  # every figure is drawn before any is written, so a refused pie leaves no partial output
     try:
         for t in tallies:
-            drawn.append((tally_pie(t) if pie else tally_bars(t, percent=percent), f"tally_{_safe(t.column)}"))
+            drawn.append((tally_pie(t) if pie else tally_bars(t, percent=percent), f"tally_{safe_part(t.column)}"))
         for scale_name, distribution in distributions.items():
-            drawn.append((diverging_bars(distribution), f"items_{_safe(scale_name)}"))
+            drawn.append((diverging_bars(distribution), f"items_{safe_part(scale_name)}"))
     except Exception:
         for ax, _ in drawn:
             plt.close(ax.figure)
         plt.close(plt.gcf())
         raise
     written = []
+    names = FigureNames()
     for ax, stem in drawn:
-        written += save_figure(ax.figure, folder / stem, inputs=inputs)
+        written += save_figure(ax.figure, folder / names.unique(stem), inputs=inputs)
     click.echo(f"wrote {len(written)} figure file(s) to {folder}", err=True)
-
-
-def _safe(name: str) -> str:
-    return "".join(ch if ch.isalnum() or ch in "-_" else "_" for ch in str(name))

@@ -21,6 +21,7 @@ import pandas as pd
 from ..answer_codes import MISSING, ItemAnswers
 from ..data import SHOW_FIRST, _delimited_header, _ids_as_text, convert_item
 from ..read_codes import BLANK_TEXTS, convert_codes, fits
+from ..text_cells import clear_missing_texts
 from .reading import ReadingCounts
 
 #: bytes of CSV text per parsed block (pyarrow's default). pyarrow's streaming reader parses blocks ahead
@@ -170,6 +171,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     n = batch.num_rows
     codes = np.empty((n, len(items)), dtype=np.uint8, order="F")
     missing_codes, blanks, texts, refused, refused_first = {}, {}, {}, {}, {}
+    missing_texts: dict[str, dict[str, int]] = {}
     as_floats: list[int] = []
     values = None
     for j, name in enumerate(items):
@@ -186,9 +188,9 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             raw = series
             as_floats.append(j)
         for counts, value in ((missing_codes, converted.missing_codes), (blanks, converted.blanks),
-                              (texts, converted.texts)):
+                              (texts, converted.texts), (missing_texts, getattr(converted, "missing_texts", None))):
             if value:
-                counts[name] = value
+                counts[name] = dict(value) if isinstance(value, dict) else value
         bad = np.flatnonzero(converted.bad) if converted.bad.size else np.zeros(0, dtype=np.int64)
         if bad.size:
             refused[name] = int(bad.size)
@@ -205,8 +207,19 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         codes[:, as_floats] = float_codes
     wanted = {}
     id_hashes, id_empty, unknown = (), (), {}
+    # "no answer" texts of every other column read (a CSV file's all, a Parquet file's wanted ones) read as
+    # missing and counted, blanks of the group columns counted, as the whole-file reader does
+    # (data.read_responses)
+    item_set = set(items)
+    others = pd.DataFrame({name: batch.column(position).to_pandas() for name, position in by_name.items()
+                           if name not in item_set})
+    others, found = clear_missing_texts(others, tuple(getattr(spec, "missing_texts", ()) or ()),
+                                        skip=[spec.id_column] if spec.id_column else (),
+                                        count_blank=tuple(spec.groups))
+    missing_texts.update({column: dict(counts) for column, counts in found.texts.items()})
+    blanks.update(found.blank)
     for name in dict.fromkeys(columns):
-        series = batch.column(by_name[name]).to_pandas()
+        series = others[name]
         if name == spec.id_column:
             hashes, id_empty = _id_check(series, (part, first_row, file))
             id_hashes = (hashes,)
@@ -217,7 +230,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         wanted[name] = series
     reading = ReadingCounts(rows=n, missing_codes=missing_codes, blanks=blanks, texts=texts, refused=refused,
                             refused_first=refused_first, id_hashes=id_hashes, id_empty=id_empty,
-                            unknown_levels=unknown)
+                            unknown_levels=unknown, missing_texts=missing_texts)
     return Block(codes=codes, columns=wanted, reading=reading, first_row=first_row)
 
 

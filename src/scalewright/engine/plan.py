@@ -14,6 +14,7 @@ from typing import Any
 
 import numpy as np
 
+from ..stats.missing_patterns import PatternSummary
 from ..summaries import (
     AnswerCounts,
     CategoryCounts,
@@ -53,6 +54,8 @@ class SummaryPlan:
     extra: tuple[str, ...] = field(default=())
     #: listwise cross-products of every item of the scale file together (for the factor structure)
     joint: bool = False
+    #: per-missingness-pattern statistics of each scale (the missing-data block: patterns, Little's test)
+    patterns: bool = False
 
     @property
     def columns(self) -> tuple[str, ...]:
@@ -62,7 +65,8 @@ class SummaryPlan:
 
 
 def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: bool = True, scores: bool = False,
-             by: tuple[str, ...] = (), categories: tuple[str, ...] = (), joint: bool = False) -> SummaryPlan:
+             by: tuple[str, ...] = (), categories: tuple[str, ...] = (), joint: bool = False,
+             patterns: bool = False) -> SummaryPlan:
     """The plan of every scale of ``spec``."""
     index = {name: position for position, name in enumerate(spec.items)}
     categories = tuple(name for name in categories if name not in index)  # items are counted per scale
@@ -72,7 +76,8 @@ def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: boo
                              method=scale.score, required=int(scale.required_answered()))
                    for name, scale in spec.scales.items())
     return SummaryPlan(scales=scales, cross_products=cross_products, answers=answers, scores=scores, by=tuple(by),
-                       categories=tuple(categories), id_column=spec.id_column, extra=tuple(spec.groups), joint=joint)
+                       categories=tuple(categories), id_column=spec.id_column, extra=tuple(spec.groups), joint=joint,
+                       patterns=patterns)
 
 
 def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
@@ -88,6 +93,8 @@ def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
             members["cross_products"] = ListwiseCrossProducts.from_codes(part, span=span)
         elif plan.cross_products == "pairwise":
             members["cross_products"] = PairwiseCrossProducts.from_codes(part, span=span)
+        if plan.patterns:
+            members["patterns"] = PatternSummary.from_codes(part)
         if plan.scores:
             members["scores"] = ScoreCounts.from_codes(part, low=scale.low, high=scale.high,
                                                        reversed_mask=np.array(scale.reversed_mask),
@@ -120,4 +127,6 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
     if plan.joint:
         span = max((scale.high - scale.low for scale in plan.scales), default=1)
         members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)
+        # per-pattern statistics for the missing-data block (pattern counts, Little's test)
+        members["joint_patterns"] = PatternSummary.from_codes(block.codes)
     return Summary(members)

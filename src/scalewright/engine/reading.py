@@ -50,6 +50,8 @@ class ReadingCounts:
     id_hashes: tuple[np.ndarray, ...] = ()
     id_empty: tuple = ()          # ((place, count),) or ()
     unknown_levels: dict[str, tuple] = field(default_factory=dict)   # column -> (place, value, count)
+    #: cells holding a "no answer" text read as missing: column -> text -> count (items and other columns)
+    missing_texts: dict[str, dict[str, int]] = field(default_factory=dict)
 
     def merge(self, other: "ReadingCounts") -> "ReadingCounts":
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
@@ -73,7 +75,10 @@ class ReadingCounts:
                              blanks=_add(self.blanks, other.blanks), texts=_add(self.texts, other.texts),
                              refused=_add(self.refused, other.refused),
                              refused_first={c: v for c, v in refused_first.items() if v},
-                             id_hashes=hashes, id_empty=empty, unknown_levels=unknown)
+                             id_hashes=hashes, id_empty=empty, unknown_levels=unknown,
+                             missing_texts={column: _add(self.missing_texts.get(column, {}),
+                                                         other.missing_texts.get(column, {}))
+                                            for column in {*self.missing_texts, *other.missing_texts}})
 
     def has_duplicate_ids(self) -> bool:
         if not self.id_hashes:
@@ -102,6 +107,8 @@ class ReadingOutcome:
     counts: ReadingCounts
     item_names: tuple[str, ...]
     refused_problems: tuple[Problem, ...]
+    #: the texts read as "no answer" (the scale file's ``missing_texts`` or the default)
+    missing_texts: tuple[str, ...] = ()
 
     @property
     def n(self) -> int:
@@ -117,7 +124,24 @@ class ReadingOutcome:
         codes = sum(self.counts.missing_codes.values())
         if codes:
             out.append(f"{codes} 'no answer' code(s) were read as missing")
+        texts = sum(sum(counts.values()) for counts in self.counts.missing_texts.values())
+        if texts:  # worded as the whole-file reader words it (data.Responses.notes)
+            from ..errors import quoted
+
+            by_text: dict[str, int] = {}
+            for counts in self._missing_texts_by_column().values():
+                for text, count in counts.items():
+                    by_text[text] = by_text.get(text, 0) + count
+            detail = ", ".join(f"{quoted(t)} {n}" for t, n in by_text.items())
+            out.append(f"{texts} cell(s) holding a 'no answer' text were read as missing: {detail}")
         return out
+
+    def _missing_texts_by_column(self) -> dict[str, dict[str, int]]:
+        # items first, in the scale file's order, then the other columns (as the whole-file reader lists them)
+        found = self.counts.missing_texts
+        ordered = {name: dict(found[name]) for name in self.item_names if found.get(name)}
+        ordered.update({name: dict(counts) for name, counts in found.items() if name not in ordered and counts})
+        return ordered
 
     def _in_item_order(self, counts: dict[str, int]) -> dict[str, int]:
         return {name: counts[name] for name in self.item_names if counts.get(name)}
@@ -129,8 +153,11 @@ class ReadingOutcome:
             "refused_by_column": self._in_item_order(self.counts.refused),
             "refused_first": [str(p) for p in self.refused_problems],
             "missing_code_by_column": self._in_item_order(self.counts.missing_codes),
-            "blank_by_column": self._in_item_order(self.counts.blanks),
+            "blank_by_column": {**self._in_item_order(self.counts.blanks),  # then the group columns' blanks
+                                **{c: n for c, n in self.counts.blanks.items() if c not in self.item_names and n}},
             "texts_by_column": self._in_item_order(self.counts.texts),
+            "missing_texts": list(self.missing_texts),
+            "missing_texts_by_column": self._missing_texts_by_column(),
         }
 
 
@@ -167,4 +194,5 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
                                         message=f"{value!r} is not one of the levels the scale file lists for "
                                                 f"{column} ({', '.join(order)}); {count} such value(s)"))
     return ReadingOutcome(path=path, counts=counts, item_names=tuple(spec.items),
+                          missing_texts=tuple(getattr(spec, "missing_texts", ()) or ()),
                           refused_problems=tuple(p for _, p in sample))

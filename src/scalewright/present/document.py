@@ -44,4 +44,6 @@ def envelope(command: str, inputs: InputInfo, body: dict[str, Any], *,
     document.setdefault("notes", [])
     if notes:
         document["notes"] = list(document["notes"]) + list(notes)
-    return document
+    from .messages import word_document  # flags recorded as codes with values get their sentences here
+
+    return word_document(document)

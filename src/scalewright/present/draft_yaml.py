@@ -11,7 +11,7 @@ from pathlib import Path
 
 import yaml
 
-from ..drafting import CATEGORY, ID, RATING, AnswerFormat, Draft, ScaleDraft
+from ..drafting import CATEGORY, ID, RATING, ROW_NUMBER, AnswerFormat, Draft, ScaleDraft
 
 DEFAULT_MIN_ANSWERED = 0.75  # a score needs three in four items answered (common practice, no source)
 COMMENT_WIDTH = 100
@@ -122,18 +122,23 @@ def draft_yaml_text(draft: Draft, *, data_name: str, out_name: str = "THIS_FILE"
         lines += _comment(f"{draft.id_column}: {draft.column(draft.id_column).reason}, none blank")
     elif draft.id_candidates:
         lines += _comment(f"id_column: not set; could be one of {', '.join(draft.id_candidates)}")
+    elif any(p.role == ROW_NUMBER for p in draft.columns):
+        numbered = ", ".join(p.name for p in draft.columns if p.role == ROW_NUMBER)
+        lines += _comment(f"id_column: not set; {numbered} is distinct in every row but holds row numbers in file "
+                          "order, not respondent ids")
     else:
         lines += _comment("id_column: not set; no column has a distinct value in every row")
     if draft.groups:
         lines.append(f"groups: {_value(list(draft.groups))}")
-        lines += _comment("text categories: " + ", ".join(
-            f"{g} ({draft.column(g).n_distinct} levels)" for g in draft.groups) + "; keep those you compare by")
+        lines += _comment("categories: " + ", ".join(
+            f"{g} ({draft.column(g).n_distinct} {'coded ' if draft.column(g).role == RATING else 'text '}levels)"
+            for g in draft.groups) + "; keep those you compare by")
     for note in draft.notes:
         lines += _comment(f"check: {note}")
     if draft.response is not None:
         lines.append("response:")
         lines += _format_lines(draft.response, 2, draft)
-    unused = [p for p in draft.columns if p.role not in (RATING, CATEGORY, ID) or
+    unused = [p for p in draft.columns if p.role not in (RATING, CATEGORY, ID) and p.name not in draft.groups or
               (p.role == ID and p.name != draft.id_column)]
     stems = {s.stem for s in draft.scales}
     loose = [a for a in draft.set_aside if a.stem not in stems]

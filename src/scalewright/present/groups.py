@@ -49,7 +49,7 @@ def _test_plain(test: TestResult, decimals: int) -> str:
     """A test in one run of text with no brackets: ``Welch's F = 33.48, df = 2 and 324.2, p < .001``."""
     name = "Levene's W" if test.name.startswith("Levene") else test.name
     dfs = " and ".join(d for d in (_df(test.df), _df(test.df2)) if d)
-    statistic = _num(test.statistic, 0 if name == "Mann-Whitney U" else decimals)
+    statistic = _num(test.statistic, decimals, "whole" if name == "Mann-Whitney U" else "num")
     text = f"{name} = {statistic}" + (f", df = {dfs}" if dfs else "") + f", {_p(test.pvalue)}"
     if test.pvalue_holm is not None:
         text += f", Holm-adjusted {_p(test.pvalue_holm)}"
@@ -135,14 +135,15 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                             columns=("test", "statistic", "df", "df2", "p", "p Holm", "effect size", "value",
                                      "CI low", "CI high"),
                             rows=tuple(test_rows),
-                            kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text"},
+                            kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text",
+                                   "statistic": "whole", "df": "whole", "df2": "whole"},
                             notes=(comparison_sentence(c, decimals=decimals), *c.notes)))
         if c.pairs:
             tables.append(Table(title=f"{c.pairs_method} pairs: {label}", key=f"pairs.{key}",
                                 columns=("a", "b", "difference", "se", "statistic", "df", "p", "Hedges' g"),
                                 rows=tuple((p.a, p.b, p.difference, p.se, p.statistic, p.df, p.pvalue, p.hedges_g)
                                            for p in c.pairs),
-                                kinds={"a": "text", "b": "text", "p": "p"},
+                                kinds={"a": "text", "b": "text", "p": "p", "df": "whole"},
                                 notes=("p-values are adjusted for all pairs of this comparison; difference is "
                                        "mean(a) - mean(b)",)))
     return tables

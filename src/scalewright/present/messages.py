@@ -16,11 +16,100 @@ from ..notes import Note
 
 # -- reading and data ----------------------------------------------------------------------------------------
 READING: dict[str, str] = {
+    # setting respondents aside (--exclude FILE)
+    "respondents-set-aside": "{n} respondent(s) set aside from {file} ({listed} id(s) listed, {not_found} not "
+                             "found in the data)",
+    "exclusion-column": "the ids to set aside were read from column '{column}' of {file}",
+    "exclusion-flagged-only": "the list has a '{column}' column: only its {flagged} row(s) flagged yes were "
+                              "set aside; {not_flagged} row(s) not flagged were kept",
+    "exclusion-ids-not-found": "{n} listed id(s) are not in the data (first: {first})",
 }
 
 # -- reliability ---------------------------------------------------------------------------------------------
 RELIABILITY: dict[str, str] = {
+    "miskey-suspect": ("{item} runs against the rest of the scale: it loads {loading} on the scale's first "
+                       "factor, on which most of the scale loads positively (item-rest r = {item_rest_r}); "
+                       "{advice}.{alpha_text}"),
+    "miskey-suspect-pair": ("{item} correlates negatively with the other item (r = {item_rest_r}); one of the "
+                            "two may be keyed the wrong way; {advice}."),
+    "miskey-advice-declared": "it is declared reverse-keyed: check that it should be",
+    "miskey-advice-undeclared": "if its wording is reversed, list it under `reverse`",
+    "miskey-alpha-one": " With it reversed, alpha would be {new} instead of {old}.",
+    "miskey-alpha-together": " With {items} reversed together, alpha would be {new} instead of {old}.",
+    "weak-item": ("{item} agrees little with the rest of the scale (item-rest r = {item_rest_r}, below {cutoff}); "
+                  "check its wording."),
+    "redundant-pair": "{item} and {other} correlate r = {r} (above {cutoff}): they may ask the same thing twice.",
+    "low-reliability": "alpha = {alpha} is below {cutoff}: the score is noisy in this sample.",
+    "excess-reliability": ("alpha = {alpha} is above {cutoff}: items may be near-duplicates; a shorter scale "
+                           "may do."),
 }
+
+
+def reliability_flag_message(code: str, values: Mapping[str, Any]) -> str:
+    """The sentence of one reliability flag (``miskey-suspect``, ``weak-item``, ...) from its values.
+
+    Values beside a cut-off are shown with as many decimals as the comparison needs to read true; the
+    alpha a reversal would give is said only when it differs from today's alpha as shown.
+    """
+    from .numbers import format_against, format_value
+
+    def bounded(value: Any) -> str:
+        return format_value(value, "bounded")
+
+    if code == "miskey-suspect":
+        advice = RELIABILITY["miskey-advice-declared" if values.get("declared_reversed")
+                             else "miskey-advice-undeclared"]
+        new, old = bounded(values.get("alpha_reversed")), bounded(values.get("alpha"))
+        together = tuple(values.get("reversed_together", ()))
+        alpha_text = ""
+        if new != old and new != "–" and old != "–":
+            alpha_text = (RELIABILITY["miskey-alpha-together"].format(items=", ".join(together), new=new, old=old)
+                          if len(together) > 1 else RELIABILITY["miskey-alpha-one"].format(new=new, old=old))
+        loading = values.get("loading")
+        if loading is None or loading != loading:  # two items: no factor, the pair's correlation says it
+            return RELIABILITY["miskey-suspect-pair"].format(item=values["item"], advice=advice,
+                                                             item_rest_r=bounded(values.get("item_rest_r")))
+        return RELIABILITY[code].format(item=values["item"], loading=bounded(loading), advice=advice,
+                                        item_rest_r=bounded(values.get("item_rest_r")), alpha_text=alpha_text)
+    if code == "weak-item":
+        shown, cutoff = format_against(values["item_rest_r"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(item=values["item"], item_rest_r=shown, cutoff=cutoff)
+    if code == "redundant-pair":
+        shown, cutoff = format_against(values["r"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(item=values["item"], other=values["other"], r=shown, cutoff=cutoff)
+    if code in ("low-reliability", "excess-reliability"):
+        shown, cutoff = format_against(values["alpha"], values["cutoff"], "bounded")
+        return RELIABILITY[code].format(alpha=shown, cutoff=cutoff)
+    return describe(Note(code=code, values=values))
+
+
+def flag_message(flag: Any) -> str:
+    """The sentence of a flag result (anything with ``code``, ``message`` and ``values``)."""
+    values = getattr(flag, "values", None)
+    if getattr(flag, "message", "") or not values:
+        return str(getattr(flag, "message", ""))
+    if flag.code in RELIABILITY:
+        return reliability_flag_message(flag.code, values)
+    return describe(Note(code=flag.code, values=values))
+
+
+def word_document(document: Any) -> Any:
+    """Fill in every empty ``message`` of a flag in a JSON document from its ``code`` and ``values``.
+
+    Results record flags as codes with values; this is where a document gets their sentences, so a command's
+    JSON and the report's results.json carry the same words as their tables.
+    """
+    if isinstance(document, dict):
+        if document.get("message") == "" and isinstance(document.get("values"), dict) and "code" in document:
+            code = document["code"]
+            document["message"] = (reliability_flag_message(code, document["values"]) if code in RELIABILITY
+                                   else describe(Note(code=code, values=document["values"])))
+        for value in document.values():
+            word_document(value)
+    elif isinstance(document, list):
+        for value in document:
+            word_document(value)
+    return document
 
 # -- structure -----------------------------------------------------------------------------------------------
 STRUCTURE: dict[str, str] = {
@@ -36,18 +125,161 @@ GROUPS: dict[str, str] = {
 
 # -- screening -----------------------------------------------------------------------------------------------
 SCREENING: dict[str, str] = {
+    "weak-index-used": ("{index} is used: an attentive respondent's {what} is expected near {typical}, and about "
+                        "{below}% of attentive respondents below the cut-off {cutoff}"),
+    "weak-index-set-aside": ("{index} is not used as a flag in this sample (its values are still listed): an "
+                             "attentive respondent's {what} is expected near {typical}, so about {below}% of "
+                             "attentive respondents would fall below the cut-off {cutoff} (the index is used "
+                             "when at most 10% would){reason}"),
+    "weak-index-undefined": "{index} is not used as a flag in this sample: {reason}",
+    # a check that could not run: its count is "not checked", never 0
+    "fast-not-checked": "fast: not checked, as no column of completion times was named (--duration-column)",
+    "fast-no-durations": "fast: not checked, as no respondent who answered most items has a completion time",
+    "duplicates-not-checked": "duplicate-answers: not checked, as the questionnaire has {items} item(s) and "
+                              "identical rows are flagged only from {min_items} answered items (shorter rows "
+                              "can be alike by chance)",
+    "distance-not-checked": "{flags}: not checked, as the Mahalanobis distance could not be computed",
+    "halves-not-checked": "uneven-halves: not checked, as even-odd consistency needs at least three scales of "
+                          "two or more items",
+    "profile-not-checked": "against-sample: not checked, as no respondent answered three items that vary",
+    # one account of identical answer rows, matching the flag count and the Duplicate records table
+    "duplicates-account": "{groups} group(s) of identical answer rows ({respondents} respondents) are listed "
+                          "under Duplicate records; {flagged} of these respondents carry duplicate-answers",
+    "duplicates-long-run": "{groups} group(s) ({respondents} respondents) are alike through a long run of one "
+                           "answer: they are counted under long-run, not duplicate-answers, as straight lines "
+                           "are often identical",
+    "duplicates-few-answers": "{groups} group(s) ({respondents} respondents) answered fewer than {min_items} "
+                              "items: rows that short can be alike by chance, so they are listed, not flagged",
 }
+
+
+def weak_index_sentence(use: Mapping[str, Any]) -> str:
+    """Whether a weak screening index (against-sample, uneven-halves) raises its flag here, and why."""
+    from .numbers import format_value
+
+    index = use["index"]
+    what = "person-total r" if index == "against-sample" else "even-odd half correlation"
+    typical, below = use.get("typical"), use.get("expected_below")
+    if typical is None or below is None:
+        reason = ("fewer than 4 scales with at least two items give each respondent's even-odd correlation too "
+                  "few points" if index == "uneven-halves" else "too few items or respondents to judge it")
+        return SCREENING["weak-index-undefined"].format(index=index, reason=reason)
+    reason = "; the item means differ too little" if index == "against-sample" else \
+        f"; it rests on {use['points']} scales per respondent"
+    values = dict(index=index, what=what, typical=format_value(typical, "bounded"),
+                  below=format_value(100 * below, "pct"), cutoff=format_value(use["cutoff"], "bounded"))
+    if use["used"]:
+        return SCREENING["weak-index-used"].format(**values)
+    return SCREENING["weak-index-set-aside"].format(**values, reason=reason)
 
 # -- confirmatory models and invariance ----------------------------------------------------------------------
 CONFIRM: dict[str, str] = {
+    "not-identified": "{model}: not identified: {parameters} free parameters but only {moments} sample moments "
+                      "(a scale of two items needs other items beside it); nothing fitted",
+    "not-identified-empirically": "{model}: not identified by these data (the information matrix is singular); "
+                                  "estimates and standard errors are not reported",
+    "no-usable-covariance": "{model}: too few complete answers to estimate the item covariances; nothing fitted",
+    "covariance-not-positive-definite": "{model}: the item covariance matrix is not positive definite (an item "
+                                        "without variance, or pairwise deletion); the ML fit needs one that is",
+    "not-converged": "{model}: the search did not converge ({iterations} steps); treat the estimates with caution",
+    "least-squares-no-standard-errors": "{model}: {estimator} gives estimates and SRMR only; standard errors and "
+                                        "the chi-square need the full weight matrix",
+    "heywood-case": "{model}: improper solution (Heywood case) at {items}: a negative residual variance or a "
+                    "standardized loading beyond 1; the model may be misspecified or the sample too small",
+    "model-not-fitted": "{model}: the model could not be fitted",
+    "fit-meets-cutoffs": "{model}: CFI {cfi}, RMSEA {rmsea}, SRMR {srmr}: within all three conventional cut-offs "
+                         "(CFI >= {cfi_min}, RMSEA <= {rmsea_max}, SRMR <= {srmr_max}; Hu & Bentler 1999). "
+                         "Cut-offs are conventions, not tests",
+    "fit-mixed": "{model}: CFI {cfi}, RMSEA {rmsea}, SRMR {srmr}: {met} of the three conventional cut-offs met "
+                 "(CFI >= {cfi_min}, RMSEA <= {rmsea_max}, SRMR <= {srmr_max}; Hu & Bentler 1999); read the "
+                 "residuals and hints before relying on the structure. Cut-offs are conventions, not tests",
+    "fit-misses-cutoffs": "{model}: CFI {cfi}, RMSEA {rmsea}, SRMR {srmr}: none of the conventional cut-offs met "
+                          "(CFI >= {cfi_min}, RMSEA <= {rmsea_max}, SRMR <= {srmr_max}; Hu & Bentler 1999): the "
+                          "intended structure does not describe these answers well. Cut-offs are conventions, "
+                          "not tests",
+    "fit-saturated": "{model}: saturated (df = 0): it reproduces the covariances exactly, so its fit cannot be "
+                     "tested; the loadings and omega still hold",
+    "fit-unknown": "{model}: fit indices could not be computed",
+    "partial-search-skipped": "{model} by {column}: intercepts differ; the search for the items behind it runs per "
+                              "scale (see each scale's own result)",
+    "too-few-levels": "{model} by {column}: fewer than two levels large enough to fit; invariance not tested",
+    "invariance-none": "{model} by {column}: the structure itself does not fit well in the groups (configural "
+                       "model below the conventional cut-offs): neither relations nor means can be compared",
+    "invariance-configural": "{model} by {column}: the same items go together in every group, but the loadings "
+                             "differ: compare neither relations nor means across {column} without caution",
+    "invariance-metric": "{model} by {column}: loadings hold but intercepts differ: compare relations (correlations, "
+                         "regressions), not means, across {column}",
+    "invariance-partial-scalar": "{model} by {column}: loadings hold, and intercepts hold once those of {items} "
+                                 "are freed (partial scalar invariance): latent means can be compared across "
+                                 "{column}; observed score means carry the bias of those items",
+    "invariance-scalar": "{model} by {column}: loadings and intercepts hold: means can be compared across {column}",
+    "invariance-strict": "{model} by {column}: loadings, intercepts and residual variances hold: means and observed "
+                         "score variances can be compared across {column}",
 }
 
 # -- ordinal items (polychoric) ------------------------------------------------------------------------------
 ORDINAL: dict[str, str] = {
+    "ordinal-few-options": "the items have {options} answer options, fewer than {min_options}: correlations, alpha "
+                           "and omega that treat the answers as continuous are biased; the ordinal estimates "
+                           "(--ordinal) are advised (Rhemtulla, Brosseau-Liard & Savalei, 2012)",
+    "ordinal-skewed-items": "{n_items} item(s) with strongly skewed answers (|skewness| above {skew_limit}, largest "
+                            "{max_abs_skewness}): {items}; the ordinal estimates (--ordinal) are advised "
+                            "(Rhemtulla, Brosseau-Liard & Savalei, 2012)",
+    "polychoric-undefined": "{n_pairs} polychoric correlation(s) undefined ({pairs}): an item was answered at one "
+                            "level only among the rows used",
+    "polychoric-empty-cells-corrected": "{n_pairs} pair table(s) ({pairs}) had empty cells that put the estimate at "
+                                        "+-1; 0.5 was added to each empty cell (Haldane, 1956) before estimating",
+    "polychoric-at-bound": "{n_pairs} polychoric correlation(s) ({pairs}) stay at the search bound of +-.9999 even "
+                           "so (near-duplicate items); they have no standard error",
+    "polychoric-smoothed": "the polychoric correlation matrix was not positive definite (smallest eigenvalue "
+                           "{min_eigenvalue}); the nearest correlation matrix with eigenvalues of at least {floor} "
+                           "(Higham, 2002) is used instead; largest change of a correlation {max_change}",
+    "ordinal-no-factor-model": "no one-factor model could be fitted to the polychoric matrix of {k} item(s): "
+                               "ordinal omega and the sum score's reliability are not available",
+    "ordinal-factor-not-converged": "the one-factor fit ({method}) of the polychoric matrix did not converge; treat "
+                                    "ordinal omega and the sum score's reliability as provisional",
+    "ordinal-heywood": "the one-factor fit of the polychoric matrix left no unique variance for {items} (a Heywood "
+                       "case)",
+    "ordinal-sum-score": "sum-score reliability (Green & Yang, 2009) is the reliability of a score that is the sum "
+                         "or mean of the answers: report it for such a score; ordinal alpha (Zumbo, Gadermann & "
+                         "Zeisser, 2007) and ordinal omega describe the latent continuous responses behind the "
+                         "answers, not the score",
 }
 
 # -- missing answers (EM) ------------------------------------------------------------------------------------
 MISSING: dict[str, str] = {
+    "method-listwise": "listwise deletion (only respondents who answered every item)",
+    "method-pairwise": "pairwise deletion (each covariance from the respondents who answered both items)",
+    "method-em": "maximum likelihood by the EM algorithm (everyone who answered at least one item)",
+    "missing-summary": "Missing answers: {method}. The estimates rest on {n_used} of {n_rows} respondents. "
+                       "Respondents by number of answers missing: {patterns}.",
+    "mcar-test-consistent": "Little's test of missing completely at random: chi2 = {chi2}, df = {df}, p {pvalue}. "
+                            "Respondents with gaps answer the other items much as everyone else does, so the "
+                            "gaps look unrelated to the answers (the test cannot prove it).",
+    "mcar-test-rejects": "Little's test of missing completely at random: chi2 = {chi2}, df = {df}, p {pvalue}. "
+                         "Respondents with gaps answer the other items differently from the rest, so the gaps "
+                         "are related to the answers: listwise or pairwise results may be biased, and "
+                         "--missing em is the safer choice when the gaps depend on answers that were given.",
+    "listwise-many-set-aside": "Listwise deletion set aside {set_aside} of {n_rows} respondents ({set_aside_pct}%, "
+                               "more than {threshold_pct}%): the results rest on fewer people and may be biased. "
+                               "--missing em keeps everyone who answered at least one item.",
+    "em-basis-scale": "Means and covariances come from the EM algorithm (maximum likelihood under missing at "
+                      "random) over this scale's own items, using the {n_used} respondents who answered at least "
+                      "one of them. The alpha interval is Feldt's with n = {n_used}: the simplest interval that "
+                      "uses everyone who contributed; it counts them as complete, so with many gaps it is a little "
+                      "too narrow. A bootstrap would have to rerun EM on every resample and is not offered.",
+    "em-basis-file": "Means and covariances come from the EM algorithm (maximum likelihood under missing at "
+                     "random) over every item of the file together, using the {n_used} respondents who answered "
+                     "at least one item; Bartlett's test and parallel analysis take n = {n_used}.",
+    "em-not-converged": "EM did not settle within {iterations} iterations: the estimates are the last ones "
+                        "reached and may be imprecise.",
+    "em-singular": "EM stopped: the covariance matrix became singular (an item is a linear combination of "
+                   "others, or too few respondents for the pattern of gaps), so the statistics are undefined.",
+    "em-too-few": "EM needs more respondents with an answer than items; {n_used} answered at least one of "
+                  "{k} items.",
+    "em-item-never-answered": "EM cannot estimate {items}: nobody answered it.",
+    "em-constant-items": "{items}: everyone who answered gave the same answer; EM kept its mean and gave it no "
+                         "variance.",
 }
 
 # -- survey weights ------------------------------------------------------------------------------------------

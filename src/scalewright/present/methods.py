@@ -90,6 +90,24 @@ METHODS: tuple[Method, ...] = (
     Method("Structure", "Exploratory factor analysis",
            "minimum-residual extraction with an oblique rotation; each factor matched to the scale whose items "
            "load on it most", "factor model fitted with the factor_analyzer package"),
+    Method("Confirmatory models", "Maximum-likelihood factor model",
+           "each scale one factor, and the whole file one model (a factor per scale, correlations free; a total "
+           "with subscales a bifactor model), fitted to the item covariances; chi2 = N x F_ML",
+           "Joreskog (1969), Psychometrika 34, 183-202"),
+    Method("Confirmatory models", "Fit indices",
+           "CFI and TLI against the independence model; RMSEA with its 90% interval from the noncentral "
+           "chi-square; SRMR of the residual correlations",
+           "Bentler (1990), Psychological Bulletin 107, 238-246; Tucker & Lewis (1973), Psychometrika 38, 1-10; "
+           "Steiger & Lind (1980); Browne & Cudeck (1993)"),
+    Method("Confirmatory models", "Model-based omega, omega hierarchical, ECV",
+           "common variance of the raw sum over its model-implied variance, 95% CI by the delta method; for a "
+           "bifactor model the general factor's share",
+           "McDonald (1999); Reise (2012), Multivariate Behavioral Research 47, 667-696; Rodriguez, Reise & "
+           "Haviland (2016), Psychological Methods 21, 137-150"),
+    Method("Confirmatory models", "Measurement invariance",
+           "configural, metric and scalar multi-group models; a step holds when CFI drops by at most .010 and "
+           "RMSEA rises by at most .015",
+           "Chen (2007), Structural Equation Modeling 14, 464-504"),
     Method("Data quality", "Careless responding",
            "longest run of identical answers, even-odd consistency, Mahalanobis distance, person-total "
            "correlation, intra-individual response variability, missing share, duplicates",
@@ -127,6 +145,8 @@ def _v(value: Any, kind: str = "num", decimals: int = 2) -> str:
 def thresholds_used(results: Any) -> list[Threshold]:
     """Every cut-off behind a flag, label or suppression in ``results`` (a ``ReportResults``)."""
     from ..stats import shape as shape_module
+    from ..stats.quality import WEAK_INDEX_MAX_EXPECTED_BELOW
+    from ..stats.reliability import MISKEY_MIN_LOADING
     from ..stats.structure import MIN_EIGEN_RATIO, MIN_KMO
 
     options = results.options
@@ -142,6 +162,9 @@ def thresholds_used(results: Any) -> list[Threshold]:
     if first is not None:
         t = first.thresholds
         out += [
+            Threshold("Reliability", "miskey-suspect: loading on the scale's first factor (signed so most items "
+                      "load positively) below", _v(-MISKEY_MIN_LOADING, "bounded"),
+                      "this project's rule (docs/reliability.md); item-rest r given as support"),
             Threshold("Reliability", "weak-item: item-rest correlation below", _v(t.weak_item_rest_r, "bounded"),
                       "common practice, usually traced to Nunnally & Bernstein (1994)"),
             Threshold("Reliability", "low-reliability: alpha below", _v(t.low_alpha, "bounded"),
@@ -151,6 +174,12 @@ def thresholds_used(results: Any) -> list[Threshold]:
             Threshold("Reliability", "redundant-pair: inter-item correlation above", _v(t.redundant_r, "bounded"),
                       "common practice, no source"),
         ]
+    from ..stats.cfa_result import CUTOFFS
+
+    out += [Threshold("Confirmatory models", "fit verdict: CFI at least, RMSEA at most, SRMR at most",
+                      f"{_v(CUTOFFS['cfi'], 'bounded')}, {_v(CUTOFFS['rmsea'], 'bounded')}, "
+                      f"{_v(CUTOFFS['srmr'], 'bounded')}",
+                      "Hu & Bentler (1999), Structural Equation Modeling 6, 1-55 (conventions, not tests)")]
     out += [
         Threshold("Distribution", "skewed when |G1| reaches (and exceeds twice its SE)",
                   _v(shape_module.SKEW_THRESHOLD),
@@ -162,6 +191,8 @@ def thresholds_used(results: Any) -> list[Threshold]:
                   _v(shape_module.VALLEY_RATIO), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "bimodal: valley lower than the peak, one-sided binomial p below",
                   _v(shape_module.VALLEY_ALPHA, "p"), "this project's rule (docs/shape.md)"),
+        Threshold("Distribution", "bimodal: each peak window holds at least this share of respondents",
+                  f"{100 * shape_module.MIN_PEAK_SHARE:g}%", "this project's rule (docs/shape.md): heaping"),
         Threshold("Distribution", "respondents expected per score band of the shape rule",
                   _v(shape_module.BAND_EXPECTED, "int"), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "floor / ceiling effect: share at the lowest / highest score above",
@@ -196,6 +227,9 @@ def thresholds_used(results: Any) -> list[Threshold]:
                       _v(t.person_total_min, "bounded"), "Curran (2016)"),
             Threshold("Data quality", "uneven-halves (weak): even-odd consistency below",
                       _v(t.even_odd_min, "bounded"), "Meade & Craig (2012)"),
+            Threshold("Data quality", "a weak index is used only when attentive respondents expected below its "
+                      "cut-off are at most", f"{100 * WEAK_INDEX_MAX_EXPECTED_BELOW:g}%",
+                      "this project's rule (docs/screening.md)"),
             Threshold("Data quality", "duplicate-answers: identical rows flagged from this many answered items",
                       _v(t.duplicate_min_items, "int"), "this project's rule (docs/screening.md)"),
             Threshold("Data quality", "many-missing (listed only): share of items unanswered above",

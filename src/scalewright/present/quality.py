@@ -26,6 +26,9 @@ FLAG_MEANINGS = {
     "many-missing": "many items unanswered",
 }
 
+#: shown instead of a count for a check that did not run
+NOT_CHECKED = "not checked"
+
 RESPONDENT_COLUMNS = ("id", "flagged", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_df",
                       "mahalanobis_p", "even_odd", "person_total_r", "missing", "duration", "explanation")
 
@@ -38,8 +41,47 @@ def _is_number(value: Any) -> bool:
     return value is not None and not (isinstance(value, float) and math.isnan(value))
 
 
+def screen_notes(document: dict[str, Any]) -> list[str]:
+    """The screen's notes as sentences (``document`` is ``ScreenResult.to_dict()``, notes as codes or text)."""
+    from ..notes import Note
+    from .messages import describe
+
+    out = []
+    for item in document.get("notes", ()):
+        if isinstance(item, dict) and "code" in item:
+            values = {k: tuple(v) if isinstance(v, list) else v for k, v in item.items() if k != "code"}
+            item = Note(code=item["code"], values=values)
+        out.append(describe(item))
+    return out
+
+
+def duplicate_notes(document: dict[str, Any]) -> list[str]:
+    """One account of the identical answer rows: how many are listed, how many flagged, and why not the rest."""
+    from ..notes import note
+    from .messages import describe
+
+    duplicates = document["duplicates"]
+    groups, status = duplicates["rows"], duplicates.get("row_status") or []
+    if not groups:
+        return []
+    flagged = sum(len(g) for g, s in zip(groups, status) if s == "flagged")
+    out = [describe(note("duplicates-account", groups=len(groups), respondents=sum(len(g) for g in groups),
+                         flagged=flagged))]
+    for reason, code in (("long-run", "duplicates-long-run"), ("few-answers", "duplicates-few-answers")):
+        chosen = [g for g, s in zip(groups, status) if s == reason]
+        if chosen:
+            out.append(describe(note(code, groups=len(chosen), respondents=sum(len(g) for g in chosen),
+                                     min_items=document["thresholds"]["duplicate_min_items"])))
+    return out
+
+
+#: the Duplicate records table's words for ``ScreenResult.duplicate_status``
+DUPLICATE_STATUS = {"flagged": "yes", "long-run": "no: counted under long-run",
+                    "few-answers": "no: too few answers to tell from chance"}
+
+
 def explain_flags(record: dict[str, Any], *, thresholds: dict[str, Any], n_items: int, long_run_items: int,
-                  median_duration: float | None = None) -> str:
+                  median_duration: float | None = None, duration_unit: str | None = None) -> str:
     """One sentence per flag of one respondent (``record`` is an entry of ``ScreenResult.respondent_records``)."""
     parts: list[str] = []
     for code in record["flags"]:
@@ -60,8 +102,10 @@ def explain_flags(record: dict[str, Any], *, thresholds: dict[str, Any], n_items
                          f"{_num(record['person_total_r'], 'bounded')}, limit "
                          f"{_num(thresholds['person_total_min'], 'bounded')})")
         elif code == "fast":
-            median = f" against a median of {_num(median_duration, decimals=0)}" if _is_number(median_duration) else ""
-            parts.append(f"took {_num(record.get('duration'), decimals=0)}{median} "
+            unit = f" {duration_unit}" if duration_unit else ""
+            median = (f" against a median of {_num(median_duration, decimals=0)}{unit}"
+                      if _is_number(median_duration) else "")
+            parts.append(f"took {_num(record.get('duration'), decimals=0)}{unit}{median} "
                          f"(limit {_num(thresholds['speed_share'], 'bounded')} of the median)")
         elif code == "many-missing":
             parts.append(f"left {_num(100 * record['missing'], 'pct')}% of the items unanswered "
@@ -94,7 +138,8 @@ def respondent_rows(document: dict[str, Any], *, flagged_only: bool = False) -> 
             continue
         explanation = explain_flags(record, thresholds=document["thresholds"], n_items=summary["n_items"],
                                     long_run_items=summary["long_run_items"],
-                                    median_duration=summary.get("median_duration"))
+                                    median_duration=summary.get("median_duration"),
+                                    duration_unit=summary.get("duration_unit"))
         rows.append({**record, "flags": ";".join(record["flags"]), "explanation": explanation})
     return rows
 
@@ -127,8 +172,10 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
     kind_of = {**{c: "strong" for c in codes["strong"]}, **{c: "weak" for c in codes["weak"]},
                **{c: "listed only" for c in codes["listed_only"]}}
     n = summary["n"]
-    count_rows = tuple((code, FLAG_MEANINGS.get(code, code), kind_of.get(code, ""), count,
-                        100 * count / n if n else None) for code, count in summary["counts"].items())
+    # a check that did not run says so; its count is not a zero
+    count_rows = tuple((code, FLAG_MEANINGS.get(code, code), kind_of.get(code, ""),
+                        NOT_CHECKED if count is None else count, 100 * count / n if n and count is not None else None)
+                       for code, count in summary["counts"].items())
     count_rows += (("(flagged)", "respondents flagged by the combined rule", "", summary["n_flagged"],
                     100 * summary["n_flagged"] / n if n else None),)
     tables = [Table(
@@ -164,12 +211,18 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
             notes=("complete answers only (listwise) in both columns",), key="alpha_change"))
 
     duplicates = document["duplicates"]
+    status = duplicates.get("row_status") or [None] * len(duplicates["rows"])
     if duplicates["rows"] or duplicates["ids"]:
-        dup_rows = tuple(("identical answers", ", ".join(group)) for group in duplicates["rows"])
-        dup_rows += tuple(("repeated id", i) for i in duplicates["ids"])
-        tables.append(Table(title="Duplicate records", columns=("kind", "respondents"), rows=dup_rows,
-                            kinds={"kind": "text", "respondents": "text"}, key="duplicates"))
-    if document.get("notes"):
+        dup_rows = tuple(("identical answers", ", ".join(group), DUPLICATE_STATUS.get(s, "")) for group, s
+                         in zip(duplicates["rows"], status))
+        dup_rows += tuple(("repeated id", i, "yes (duplicate-id)") for i in duplicates["ids"])
+        tables.append(Table(title="Duplicate records", columns=("kind", "respondents", "flagged"), rows=dup_rows,
+                            kinds={"kind": "text", "respondents": "text", "flagged": "text"}, key="duplicates"))
+    from .messages import weak_index_sentence
+
+    weak = tuple(weak_index_sentence(use) for use in document.get("weak_indices", {}).values())
+    extra = (*weak, *screen_notes(document), *duplicate_notes(document))
+    if extra:
         tables[0] = Table(title=tables[0].title, columns=tables[0].columns, rows=tables[0].rows,
-                          kinds=tables[0].kinds, notes=tables[0].notes + tuple(document["notes"]), key=tables[0].key)
+                          kinds=tables[0].kinds, notes=tables[0].notes + tuple(extra), key=tables[0].key)
     return tables

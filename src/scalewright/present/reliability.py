@@ -8,6 +8,9 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from .messages import flag_message
+from .missing import missing_lines
+from .ordinal import ordinal_reliability_table, ordinal_sentences
 from .table import Table
 
 SUMMARY_COLUMNS = ("scale", "sample", "rows", "n used", "k", "alpha", "CI low", "CI high", "std alpha",
@@ -16,10 +19,14 @@ SUMMARY_KINDS = {"scale": "text", "sample": "text", "rows": "int", "n used": "in
                  **{c: "bounded" for c in ("alpha", "CI low", "CI high", "std alpha", "omega", "lambda2", "lambda6",
                                            "mean r", "min r", "max r")}}
 BOOTSTRAP_COLUMNS = ("boot pct low", "boot pct high", "boot BCa low", "boot BCa high")
-ITEM_COLUMNS = ("scale", "item", "reversed", "n", "mean", "sd", "missing %", "floor %", "ceiling %",
+#: which values are after reverse keying ("keyed") and which are of the answers "as given" is said in the
+#: heading itself, the same way in every command and in the report
+KEYED_MEAN, KEYED_SD = "mean (keyed)", "sd (keyed)"
+FLOOR_AS_GIVEN, CEILING_AS_GIVEN = "floor % (as given)", "ceiling % (as given)"
+ITEM_COLUMNS = ("scale", "item", "reversed", "n", KEYED_MEAN, KEYED_SD, "missing %", FLOOR_AS_GIVEN, CEILING_AS_GIVEN,
                 "item-rest r", "alpha if deleted", "omega if deleted", "loading")
-ITEM_KINDS = {"scale": "text", "item": "text", "reversed": "text", "n": "int", "mean": "num", "sd": "num",
-              "missing %": "pct", "floor %": "pct", "ceiling %": "pct", "item-rest r": "bounded",
+ITEM_KINDS = {"scale": "text", "item": "text", "reversed": "text", "n": "int", KEYED_MEAN: "num", KEYED_SD: "num",
+              "missing %": "pct", FLOOR_AS_GIVEN: "pct", CEILING_AS_GIVEN: "pct", "item-rest r": "bounded",
               "alpha if deleted": "bounded", "omega if deleted": "bounded", "loading": "bounded"}
 
 
@@ -55,8 +62,10 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
         notes = [f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
                  f"{overall.missing_handling}"]
         notes += list(overall.notes)
+        notes += missing_lines(overall.missing)
         for group in report.groups:
             notes += list(group.notes)
+        notes += ordinal_sentences(report.ordinal_advice)
         tables.append(Table(
             title=f"{report.title} ({name}): reliability", columns=columns,
             rows=tuple(_summary_row(name, sample, result, with_bootstrap) for sample, result in _samples(report)),
@@ -68,9 +77,13 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
                         item.alpha_if_deleted, item.omega_if_deleted, item.loading)
                        for item_name, item in overall.items.items()),
             kinds=ITEM_KINDS,
-            notes=("n, mean, sd and missing % use every answer to the item; floor % and ceiling % are the shares "
-                   "at the lowest and highest answer code as given; the other columns use the rows in 'n used'",),
+            notes=("keyed: after reverse keying (a reversed item's mean is of min + max - answer); as given: the "
+                   "answer codes before reverse keying (floor % and ceiling % are the shares at the lowest and highest "
+                   "code). n, mean, sd and missing % use every answer to the item; the other columns use the rows "
+                   "in 'n used'",),
             key="reliability_items"))
+        if report.ordinal is not None:
+            tables.append(ordinal_reliability_table(name, report.title, report.ordinal))
         levels = list(dict.fromkeys(level for item in overall.items.values() for level in item.counts))
         if levels:
             tables.append(Table(
@@ -80,7 +93,7 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
                            for item_name, item in overall.items.items()),
                 kinds={"scale": "text", "item": "text", **{level: "int" for level in levels}},
                 key="reliability_answer_counts"))
-        flag_rows = tuple((name, sample, flag.item or "(scale)", flag.code, flag.message)
+        flag_rows = tuple((name, sample, flag.item or "(scale)", flag.code, flag_message(flag))
                           for sample, result in _samples(report) for flag in result.flags)
         if flag_rows:
             tables.append(Table(

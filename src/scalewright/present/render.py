@@ -14,6 +14,27 @@ from ..results import to_jsonable
 from .numbers import format_value
 from .table import Table
 
+#: characters a terminal acts on instead of showing (C0 and C1 controls, DEL), line and paragraph separators, and
+#: the bidirectional controls that reorder what is shown
+_CONTROLS = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+_NAMED = {"\t": "\\t", "\n": "\\n", "\r": "\\r"}
+
+
+def _escape_control(match: re.Match[str]) -> str:
+    char = match.group()
+    if char in _NAMED:
+        return _NAMED[char]
+    return f"\\x{ord(char):02x}" if ord(char) < 0x100 else f"\\u{ord(char):04x}"
+
+
+def visible_controls(text: str) -> str:
+    r"""``text`` with every control character shown as its escape (``\x1b``, ``\r``, ``\u202e``).
+
+    An escape sequence in a group level or a label could otherwise retitle the terminal, write to the
+    clipboard or hide text; a careful command-line tool shows such characters instead of sending them.
+    """
+    return _CONTROLS.sub(_escape_control, text)
+
 
 def _cells(table: Table, decimals: int) -> list[list[str]]:
     return [
@@ -33,10 +54,16 @@ TEXT_CELL_WIDTH = 60
 def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence[str] = (),
                 text_width: int = TEXT_CELL_WIDTH) -> str:
     """Plain aligned columns for a terminal: text left-aligned (long text wrapped), numbers right-aligned."""
-    out: list[str] = list(preface)
+    out: list[str] = [visible_controls(p) for p in preface]
     if preface:
         out.append("")
     for table in tables:
+        # everything shown on a terminal has its control characters escaped first
+        table = Table(title=visible_controls(table.title), columns=tuple(visible_controls(c) for c in table.columns),
+                      rows=tuple(tuple(visible_controls(v) if isinstance(v, str) else v for v in row)
+                                 for row in table.rows),
+                      kinds={visible_controls(c): k for c, k in table.kinds.items()},
+                      notes=tuple(visible_controls(n) for n in table.notes), key=table.key)
         cells = _cells(table, decimals)
         wrapped = [[textwrap.wrap(value, text_width) or [""] if not _is_numeric_column(table, column)
                     and len(value) > text_width else [value]
@@ -65,23 +92,33 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
     return "\n".join(out).rstrip() + "\n"
 
 
+_LINE_BREAKS = re.compile("[\n\r\v\f\x1c\x1d\x1e\x85\u2028\u2029]+")
+
+
 def escape_markdown(text: str) -> str:
     """Escape text so Markdown (and the HTML it may become) shows it literally.
 
-    HTML's own characters become entities; Markdown's inline markers (emphasis, code, links, tables) are
-    backslash-escaped; a marker that only counts at the start of a line (heading, list, quote) is escaped
-    there. Parentheses and other punctuation stay as they are: without a ``]`` before them they make no link.
+    The text stays readable as plain text (report.md is read as a file too): no HTML entities and no
+    escaped decimals. Only what Markdown would act on is backslash-escaped: ``<`` before a letter, ``/``,
+    ``!`` or ``?`` (which could open a tag), ``&`` before what could be an entity (``&amp;``, ``&#60;``),
+    the inline markers (emphasis, code, links, tables), and a marker that only counts at the start of a line
+    (heading, list, quote; a number followed by ``.`` or ``)`` and a space). "< .001", "4.65" and "R&D"
+    stay as they are.
     """
-    text = text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("\n", " ")
+    # every line break Markdown knows (\n, \r, \r\n) and the ones other readers split on become a space, so
+    # no text can start a line of its own (a heading, a list); other control characters are shown escaped
+    text = visible_controls(_LINE_BREAKS.sub(" ", text))
     for char in "\\`*_{}[]|~":
         text = text.replace(char, "\\" + char)
+    text = re.sub(r"<(?=[A-Za-z/!?])", r"\\<", text)
+    text = re.sub(r"&(?=#?\w+;)", r"\\&", text)
     stripped = text.lstrip()
     lead = len(text) - len(stripped)
-    numbered = re.match(r"\d+(?=[.)])", stripped)
+    numbered = re.match(r"\d+(?=[.)](\s|$))", stripped)
     if numbered:  # "1. first" would start an ordered list: escape the dot
         end = lead + numbered.end()
         text = text[:end] + "\\" + text[end:]
-    elif stripped[:1] in ("#", "-", "+", "="):
+    elif re.match(r"[-+*]\s|#{1,6}(\s|$)|>|[=-]+\s*$", stripped):
         text = text[:lead] + "\\" + stripped
     return text
 

@@ -138,8 +138,10 @@ def reliability_table(findings: Any) -> Table | None:
         return None
     summary = next(t for t in reliability_tables([findings.reliability]) if t.key == "reliability")
     overall = findings.reliability.overall
+    from .missing import missing_lines
+
     notes = (f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
-             f"{overall.missing_handling}", *overall.notes)
+             f"{overall.missing_handling}", *overall.notes, *missing_lines(overall.missing))
     table = _without(Table(title=f"Reliability of {scale_label(findings)}", columns=summary.columns,
                            rows=tuple(row for row in summary.rows if row[1] == "all"), kinds=summary.kinds,
                            notes=tuple(notes), key=summary.key), "scale")
@@ -152,7 +154,9 @@ def _flag_sentences(findings: Any) -> list[str]:
     flags = findings.reliability.overall.flags
     if not flags:
         return ["No item or scale statistic was flagged in the whole sample."]
-    return [f"{flag.item + ': ' if flag.item else ''}{flag.message} ({flag.code})" for flag in flags]
+    from .messages import flag_message
+
+    return [f"{flag.item + ': ' if flag.item else ''}{flag_message(flag)} ({flag.code})" for flag in flags]
 
 
 def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
@@ -173,7 +177,11 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
         else:
             text = (f"Internal consistency: alpha = {_n(overall.alpha, 'bounded', decimals)}, {level} CI "
                     f"[{_n(overall.alpha_ci[0], 'bounded', decimals)}, {_n(overall.alpha_ci[1], 'bounded', decimals)}]"
-                    f", from the {overall.n_used} respondents who answered every item")
+                    + {"em": f", from the {overall.n_used} respondents who answered at least one item (EM)",
+                       "pairwise": f", from at least {overall.n_used} respondents for each pair of items "
+                                   "(pairwise)"}.get(overall.missing_handling,
+                                                     f", from the {overall.n_used} respondents who answered "
+                                                     "every item"))
             if _n(overall.omega_total) != "–":
                 text += f"; omega total = {_n(overall.omega_total, 'bounded', decimals)}"
             sentences.append(text + ".")
@@ -227,6 +235,9 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
             sentence = comparison_sentence(comparison, decimals=decimals)
             blocks.append(Paragraph(comparison_sentence(comparison, decimals=decimals, lead_only=True)))
             detail.append(Paragraph(sentence))
+        invariance = invariance_sentence(results, findings.name, column)
+        if invariance is not None:
+            blocks.append(Paragraph(invariance, tone="note"))
         figure = figures.get(("boxplot", findings.name, column))
         if figure is not None:
             detail.append(figure)
@@ -307,16 +318,19 @@ def scale_section(findings: Any, results: Any, figures: FigureMap, decimals: int
 
 def _reading_table(results: Any) -> Table:
     reading = results.reading
+    listed = reading.get("missing_texts_by_column", {})
     columns = list(dict.fromkeys([*reading.get("refused_by_column", {}), *reading.get("missing_code_by_column", {}),
-                                  *reading.get("blank_by_column", {}), *reading.get("texts_by_column", {})]))
+                                  *reading.get("blank_by_column", {}), *reading.get("texts_by_column", {}), *listed]))
     rows = tuple((column, reading.get("blank_by_column", {}).get(column, 0),
                   reading.get("missing_code_by_column", {}).get(column, 0),
+                  sum(listed.get(column, {}).values()),
                   reading.get("texts_by_column", {}).get(column, 0),
                   reading.get("refused_by_column", {}).get(column, 0)) for column in columns)
     return Table(title="What reading the data changed, by column",
-                 columns=("column", "blank", "'no answer' code", "answer text read as its code",
+                 columns=("column", "blank", "'no answer' code", "'no answer' text", "answer text read as its code",
                           "refused (set to missing)"),
                  rows=rows, kinds={"column": "text", "blank": "int", "'no answer' code": "int",
+                                   "'no answer' text": "int",
                                    "answer text read as its code": "int", "refused (set to missing)": "int"},
                  notes=() if rows else ("every value was a plain answer code",), key="reading")
 
@@ -387,7 +401,9 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
                        blocks=(Paragraph("The structure was not analysed: it needs at least two items.", tone="note"),))
     blocks: list[Any] = []
     suggested = structure.parallel.suggested_factors if structure.parallel is not None else None
-    text = (f"The structure uses the {structure.n_used} respondents who answered every item"
+    em = structure.missing is not None and structure.missing.method == "em"
+    text = (f"The structure uses the {structure.n_used} respondents who answered "
+            + ("at least one item (EM over every item of the file)" if em else "every item")
             + (f" ({structure.n_set_aside} set aside)" if structure.n_set_aside else "") + ".")
     if suggested is not None:
         text += (f" Parallel analysis suggests {suggested} factor(s) for {len(results.scales)} scale(s); "
@@ -399,9 +415,45 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
         blocks.append(FigureRow(row))
     blocks.append(Details("Adequacy, parallel analysis and loadings",
                           tuple(TableBlock(t) for t in structure_tables(structure))))
-    if structure.notes:
-        blocks.append(Bullets(tuple(structure.notes), tone="note"))
+    from .missing import missing_lines
+
+    notes = (*structure.notes, *missing_lines(structure.missing))
+    if notes:
+        blocks.append(Bullets(tuple(notes), tone="note"))
     return Section(anchor="structure", title="Structure", blocks=tuple(blocks))
+
+
+def confirm_section(results: Any, figures: FigureMap) -> Section | None:
+    """The confirmatory models: fit with verdicts, the loadings figure, omegas, latent correlations, hints."""
+    from .confirm import confirm_tables, model_notes
+
+    confirm = getattr(results, "confirm", None)
+    if confirm is None:
+        return None
+    blocks: list[Any] = [Paragraph(
+        "Does the structure of the scale file hold? Each scale is fitted as one factor, and the whole file as "
+        "one model with a factor per scale, by maximum likelihood on the item covariances of the respondents "
+        "who answered every item of the model.")]
+    whole = confirm.models.get("all")
+    if whole is not None:
+        blocks.append(Bullets(tuple(model_notes(whole)), tone="note"))
+    figure = figures.get(("confirm-loadings",))
+    if figure is not None:
+        blocks.append(FigureRow((figure,)))
+    blocks.append(Details("Fit, loadings, omegas, correlations, residuals and hints",
+                          tuple(TableBlock(t) for t in confirm_tables(confirm))))
+    return Section(anchor="confirm", title="Confirmatory models", blocks=tuple(blocks))
+
+
+def invariance_sentence(results: Any, scale: str, column: str) -> str | None:
+    """The invariance verdict of one scale across one column, worded, for beside its mean comparison."""
+    from .confirm import sentence
+
+    confirm = getattr(results, "confirm", None)
+    result = None if confirm is None else confirm.invariance.get(column, {}).get(scale)
+    if result is None or not result.notes:
+        return None
+    return "Measurement invariance: " + sentence(result.notes[0]) + "."
 
 
 # -------------------------------------------------------------------------------------- methods and rest
@@ -493,8 +545,11 @@ def build_document(results: Any, *, figures: FigureMap, decimals: int = 2) -> Re
                   + (f", subgroups by {', '.join(results.options.by)}" if results.options.by else "") + "."),
         TableBlock(summary_table(results, decimals))))]
     sections += [scale_section(f, results, figures, decimals) for f in results.scales.values()]
-    sections += [quality_section(results, decimals), structure_section(results, figures, decimals),
-                 methods_section(results), cautions_section(), provenance_section(results)]
+    sections += [quality_section(results, decimals), structure_section(results, figures, decimals)]
+    confirm = confirm_section(results, figures)
+    if confirm is not None:
+        sections.append(confirm)
+    sections += [methods_section(results), cautions_section(), provenance_section(results)]
     info = results.info
     facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), *respondent_counts(results),
              ("Date", results.created), ("Made with", f"scalewright {__version__}"))

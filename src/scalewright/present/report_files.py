@@ -1,4 +1,4 @@
-"""Writing a report folder: index.html, report.md, results.json, figures/ (SVG and PNG), scores.csv.
+"""Writing a report folder: index.html, report.md, results.json, figures/ (SVG; PNG on request), scores.csv.
 
 Every file is written atomically and never over an input file; the folder must be empty unless the caller
 allows otherwise.
@@ -7,6 +7,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Callable, Iterable
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -53,31 +54,43 @@ def _file_part(column: str, position: int) -> str:
     return f"{position + 1}-{part}" if part else str(position + 1)
 
 
-def _save(axes: Any, folder: Path, name: str, *, inputs: Iterable) -> str:
-    from .figure_files import save_figure
-
-    save_figure(axes.figure, folder / FIGURES / name, inputs=inputs)
-    return f"{FIGURES}/{name}"
+#: formats of the report's figures: SVG (inlined in index.html, linked from report.md); PNG on request
+FIGURE_FORMATS = ("svg",)
+FIGURE_FORMATS_WITH_PNG = ("svg", "png")
 
 
-def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[tuple[str, ...], FigureBlock]:
-    """Draw and save every figure of the report; return them keyed as :mod:`report_content` expects."""
-    from .figure_files import use_agg
+def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
+                 formats: tuple[str, ...] = FIGURE_FORMATS) -> dict[tuple[str, ...], FigureBlock]:
+    """Draw and save every figure of the report; return them keyed as :mod:`report_content` expects.
 
-    use_agg()
+    Each figure is drawn once per format in ``formats`` (SVG by default; the page inlines it), the figures
+    spread over worker processes (:mod:`figure_pool`).
+    """
+    from .figure_pool import FigureJob, render_figures
+
+    jobs: list[FigureJob] = []
+
+    def _save(draw: Callable[[], Any], folder: Path, name: str, *, inputs: Iterable) -> str:
+        jobs.append(FigureJob(draw, folder / FIGURES / name))
+        return f"{FIGURES}/{name}"
+
     from .figures_groups import diverging_bars, item_bar_labels
     from .report_content import scale_label
 
     inputs = list(inputs)
     figures: dict[tuple[str, ...], FigureBlock] = {}
+    from .figure_files import FigureNames, safe_part
     from .figures_shape import box_plots_by_group, histogram
 
+    names = FigureNames()
     for name, findings in results.scales.items():
         label = scale_label(findings)
         shape = findings.shape
+        part = safe_part(name)
         if shape is not None and shape.overall.histogram is not None:
-            stem = _save(histogram(shape.overall, title=f"Scores of {label}", x_label=shape.x_label), folder,
-                         f"{name}-histogram", inputs=inputs)
+            stem = _save(lambda shape=shape, label=label: histogram(shape.overall, title=f"Scores of {label}",
+                                                              x_label=shape.x_label), folder,
+                         names.unique(f"{part}-histogram"), inputs=inputs)
             overall = shape.overall
             figures[("histogram", name)] = FigureBlock(
                 stem, f"Distribution of the {label} scores",
@@ -88,8 +101,8 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
         for position, group in enumerate(shape.groups if shape is not None else ()):
             if not group.levels:
                 continue
-            stem = _save(box_plots_by_group(shape, column=group.column), folder,
-                         f"{name}-by-{_file_part(group.column, position)}-boxplot", inputs=inputs)
+            stem = _save(lambda shape=shape, group=group: box_plots_by_group(shape, column=group.column), folder,
+                         names.unique(f"{part}-by-{_file_part(group.column, position)}-boxplot"), inputs=inputs)
             medians = sorted(group.levels.items(), key=lambda pair: pair[1].median)
             figures[("boxplot", name, group.column)] = FigureBlock(
                 stem, f"{label} by {group.column}",
@@ -100,8 +113,9 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
                 "the box and circles mark scores beyond.")
         if findings.answers is not None and findings.answers.items:
             titles = item_bar_labels(findings.scale.items, findings.scale.wording, findings.scale.reverse)
-            stem = _save(diverging_bars(findings.answers, title=f"Answers to the items of {label}", titles=titles),
-                         folder, f"{name}-answers", inputs=inputs)
+            stem = _save(lambda findings=findings, label=label, titles=titles: diverging_bars(
+                findings.answers, title=f"Answers to the items of {label}", titles=titles),
+                         folder, names.unique(f"{part}-answers"), inputs=inputs)
             figures[("answers", name)] = FigureBlock(
                 stem, f"Answers to the items of {label}",
                 f"Diverging stacked bars, one per item named with its shortened wording, of the share of each "
@@ -113,18 +127,33 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = ()) -> dict[t
         from .figures_structure import loadings_figure, scree_figure
 
         if structure.parallel is not None:
-            stem = _save(scree_figure(structure), folder, "structure-scree", inputs=inputs)
+            stem = _save(lambda: scree_figure(structure), folder, names.unique("structure-scree"), inputs=inputs)
             figures[("scree",)] = FigureBlock(
                 stem, "Parallel analysis", f"Observed eigenvalues of the item correlations against those of "
                 f"random normal data of the same size ({structure.parallel.iterations} random data sets); "
                 f"{structure.parallel.suggested_factors} observed eigenvalue(s) lie above the random "
                 f"{structure.parallel.percentile:g}th percentile.")
         if structure.solution is not None:
-            stem = _save(loadings_figure(structure), folder, "structure-loadings", inputs=inputs)
+            stem = _save(lambda: loadings_figure(structure), folder, names.unique("structure-loadings"), inputs=inputs)
             figures[("loadings",)] = FigureBlock(
                 stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
                 "vermillion negative, darker for larger loadings. The numbers are in the loadings table.")
+    confirm = getattr(results, "confirm", None)
+    if confirm is not None:
+        from .figures_confirm import confirm_loadings_figure
+
+        model = confirm.models.get("all") or next(iter(confirm.models.values()), None)
+        if model is not None and model.loadings:
+            stem = _save(lambda model=model: confirm_loadings_figure(model), folder, names.unique("confirm-loadings"),
+                         inputs=inputs)
+            figures[("confirm-loadings",)] = FigureBlock(
+                stem, "Loadings of the confirmatory model", f"Standardized loadings of the {len(model.items)} "
+                f"items of the {model.structure.replace('-', ' ')} model, one bar per item and factor, with "
+                "whiskers of 1.96 standard errors. The numbers are in the loadings table.")
+    render_figures(jobs, formats=formats, inputs=inputs)
+    if "png" in formats:
+        figures = {key: replace(block, png=True) for key, block in figures.items()}
     return figures
 
 
@@ -150,8 +179,11 @@ def write_single_page(results: Any, folder: str | Path, *, decimals: int = 2, in
 
 
 def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
-                        progress: Callable[[str], None] = lambda step: None) -> list[Path]:
-    """Write every file of the report into ``folder`` (already prepared); return the paths written."""
+                        progress: Callable[[str], None] = lambda step: None, png: bool = False) -> list[Path]:
+    """Write every file of the report into ``folder`` (already prepared); return the paths written.
+
+    Figures are SVG files; ``png`` writes a PNG of each as well.
+    """
     from ..scoring import write_scores
     from .html import render_html
     from .render import render_json
@@ -161,7 +193,7 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     folder = Path(folder)
     inputs = [p for p in inputs if p is not None]
     progress("figures")
-    figures = make_figures(results, folder, inputs=inputs)
+    figures = make_figures(results, folder, inputs=inputs, formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
     document = build_document(results, figures=figures, decimals=decimals)
     progress("pages")
     written = [write_atomic(folder / "index.html", render_html(document, folder=folder), inputs=inputs),
@@ -169,7 +201,7 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
                write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs),
                write_scores(results.score_table, folder / "scores.csv", inputs=inputs)]
     for figure in figures.values():
-        written += [folder / f"{figure.stem}.svg", folder / f"{figure.stem}.png"]
+        written += [folder / f"{figure.stem}.svg", *([folder / f"{figure.stem}.png"] if figure.png else [])]
     return written
 
 

@@ -35,11 +35,12 @@ class TableBlock:
 
 @dataclass(frozen=True)
 class FigureBlock:
-    """A figure saved as ``<stem>.svg`` and ``<stem>.png`` (``stem`` relative to the report folder)."""
+    """A figure saved as ``<stem>.svg`` (and ``<stem>.png`` when ``png``); ``stem`` is relative to the report folder."""
 
     stem: str
     title: str
     description: str
+    png: bool = False
 
 
 @dataclass(frozen=True)

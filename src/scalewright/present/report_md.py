@@ -25,9 +25,9 @@ def _table(table: Table, *, decimals: int) -> list[str]:
 
 def _figure(block: FigureBlock, number: int) -> list[str]:
     # the image path is ours (a slug), never user text; the alt text is escaped
-    return [f"![{escape_markdown(block.title)}]({block.stem}.png)", "",
-            f"*Figure {number}.* {escape_markdown(block.title)}. {escape_markdown(block.description)} "
-            f"(vector version: `{block.stem}.svg`)", ""]
+    also = f" (PNG version: `{block.stem}.png`)" if block.png else ""
+    return [f"![{escape_markdown(block.title)}]({block.stem}.svg)", "",
+            f"*Figure {number}.* {escape_markdown(block.title)}. {escape_markdown(block.description)}{also}", ""]
 
 
 def _block(block: Block, *, decimals: int, counter: list[int]) -> list[str]:
@@ -73,7 +73,7 @@ def _section(section: Section, level: int, *, decimals: int, counter: list[int])
 
 
 def render_report_markdown(document: ReportDocument) -> str:
-    """``report.md``: headings in order, tables as pipe tables, figures linked as PNG files."""
+    """``report.md``: headings in order, tables as pipe tables, figures linked as SVG files."""
     counter = [0]
     out = [f"# {escape_markdown(document.title)}", "", escape_markdown(document.subtitle), ""]
     for key, value in document.facts:

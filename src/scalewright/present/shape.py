@@ -12,8 +12,8 @@ from .table import Table
 
 SUMMARY_COLUMNS = ("score", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
                    "skewness", "SE skew", "kurtosis", "SE kurt", "BC", "dip p", "uniform w", "uniform p",
-                   "floor %", "ceiling %", "effect", "shape")
-SUMMARY_KINDS = {"score": "text", "sample": "text", "n": "int", "missing": "int", "BC": "bounded", "dip p": "p",
+                   "floor %", "ceiling %", "effect", "shape", "values")
+SUMMARY_KINDS = {"score": "text", "values": "text", "sample": "text", "n": "int", "missing": "int", "BC": "bounded", "dip p": "p",
                  "uniform p": "p", "uniform w": "num", "floor %": "pct", "ceiling %": "pct", "effect": "text",
                  "shape": "text"}
 
@@ -25,10 +25,16 @@ def _samples(report: ShapeReport) -> Iterable[tuple[str, ShapeSummary]]:
             yield f"{group.column} = {level}", summary
 
 
-def _summary_row(name: str, sample: str, s: ShapeSummary) -> tuple:
+#: the same words as the reliability item table's headings: scale scores are of keyed items, an item's
+#: answers are described as given (before reverse keying)
+VALUES_KEYED, VALUES_AS_GIVEN = "keyed", "as given"
+
+
+def _summary_row(name: str, sample: str, s: ShapeSummary, kind: str = "scale") -> tuple:
     return (name, sample, s.n, s.n_missing, s.mean, s.sd, s.median, s.q1, s.q3, s.iqr, s.min, s.max, s.skewness,
             s.skewness_se, s.kurtosis, s.kurtosis_se, s.bimodality_coefficient, s.dip_p, s.uniform_gof.w,
-            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, _effect(s), s.shape or "–")
+            s.uniform_gof.p, s.floor_pct, s.ceiling_pct, _effect(s), s.shape or "–",
+            VALUES_AS_GIVEN if kind == "item" else VALUES_KEYED)
 
 
 def _effect(s: ShapeSummary) -> str:
@@ -58,7 +64,7 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
     percentile_keys: list[str] = list(values[0].overall.percentiles)
     for report in values:
         for sample, s in _samples(report):
-            summary_rows.append(_summary_row(report.name, sample, s))
+            summary_rows.append(_summary_row(report.name, sample, s, report.kind))
             evidence_rows.append((report.name, sample, s.shape or "–", _modes_text(s), s.evidence or "–"))
             percentile_rows.append((report.name, sample, *(s.percentiles.get(k) for k in percentile_keys)))
             notes.extend(f"{report.name}, {sample}: {note}" for note in _table_notes(s))
@@ -66,7 +72,10 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
             notes.extend(f"{report.name}: {note}" for note in group.notes)
     tables.append(Table(
         title="Distribution of each score", columns=SUMMARY_COLUMNS, rows=tuple(summary_rows), kinds=SUMMARY_KINDS,
-        notes=(f"quartiles and percentiles: {method} method (Hyndman & Fan 1996); skewness and kurtosis are the "
+        notes=("values: keyed = a scale score, made from the items after reverse keying; as given = an item's "
+               "answer codes before reverse keying (its mean differs from the keyed mean in the reliability item "
+               "table when the item is reversed)",
+               f"quartiles and percentiles: {method} method (Hyndman & Fan 1996); skewness and kurtosis are the "
                "adjusted G1 and excess G2 (Joanes & Gill 1998); BC: bimodality coefficient (5/9 for a flat "
                "distribution); dip p from scores jittered within their resolution; uniform w: chi-square "
                "effect size against equal counts at every attainable score; floor/ceiling: share at the lowest/"

@@ -4,11 +4,22 @@ from __future__ import annotations
 
 from typing import Any
 
+from .missing import missing_lines
 from .numbers import format_value
 from .table import Table
 
 #: parallel analysis shows at least this many leading eigenvalues (and three beyond the suggestion)
 EIGENVALUES_SHOWN = 8
+
+
+def _correlation_sentences(result: Any) -> tuple[str, ...]:
+    if getattr(result, "correlation_type", "pearson") == "pearson":
+        return ()
+    from .ordinal import ordinal_sentences
+
+    return ("every statistic below uses the polychoric correlations of the items (Olsson, 1979, two-step "
+            "estimates): the answers taken as ordered categories cut from continuous responses",
+            *ordinal_sentences(result.correlation_notes))
 
 
 def _adequacy_table(result: Any) -> Table:
@@ -20,7 +31,7 @@ def _adequacy_table(result: Any) -> Table:
                bartlett.df, bartlett.p),),
         kinds={"respondents used": "int", "set aside": "int", "items": "int", "KMO": "bounded", "df": "int",
                "p": "p"},
-        notes=(*result.notes,
+        notes=(*result.notes, *_correlation_sentences(result), *missing_lines(getattr(result, "missing", None)),
                "KMO below .50 is unacceptable for factor analysis (Kaiser, 1974); Bartlett's test asks whether "
                "the items are correlated at all (Bartlett, 1950)."),
         key="adequacy")

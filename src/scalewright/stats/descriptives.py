@@ -114,8 +114,6 @@ def moments(values: np.ndarray) -> Moments:
     ----------
     .. [1] Joanes & Gill (1998), The Statistician 47:183-189.
     """
-    from scipy import stats
-
     x = np.asarray(values, dtype=float)
     n = int(x.size)
     notes: list[str] = []
@@ -127,9 +125,17 @@ def moments(values: np.ndarray) -> Moments:
     elif np.ptp(x) == 0:
         notes.append("every score is the same value: skewness and kurtosis are undefined")
     else:
-        skew = float(stats.skew(x, bias=False))
+        # the formulas above written out in numpy, as scipy.stats.skew / kurtosis (bias=False) compute them
+        # (tests/test_shape_stats.py holds them equal): scipy's wrappers cost milliseconds a call, and a
+        # report asks for hundreds (every score and item, overall and per subgroup)
+        deviations = x - x.mean()
+        squared = deviations * deviations
+        m2, m3, m4 = float(np.mean(squared)), float(np.mean(squared * deviations)), float(np.mean(squared * squared))
+        g1 = m3 / m2**1.5
+        skew = math.sqrt(n * (n - 1)) / (n - 2) * g1
         if n >= 4:
-            kurt = float(stats.kurtosis(x, fisher=True, bias=False))
+            g2 = m4 / m2**2 - 3.0
+            kurt = (n - 1) / ((n - 2) * (n - 3)) * ((n + 1) * g2 + 6.0)
         else:
             notes.append("kurtosis needs at least 4 scores")
     return Moments(n=n, mean=mean, sd=sd, skewness=skew, skewness_se=skewness_se(n), kurtosis=kurt,
@@ -209,7 +215,7 @@ def uniform_fit(counts, weights=None) -> UniformFit:
     ----------
     .. [1] Cohen, J. (1988). Statistical Power Analysis for the Behavioral Sciences (2nd ed.), ch. 7 (w).
     """
-    from scipy import stats
+    from scipy.special import chdtrc
 
     observed = np.asarray(counts, dtype=float)
     weights = np.ones_like(observed) if weights is None else np.asarray(weights, dtype=float)
@@ -219,6 +225,7 @@ def uniform_fit(counts, weights=None) -> UniformFit:
     if observed.size < 2 or n <= 0:
         return UniformFit(chi2=math.nan, df=max(int(observed.size) - 1, 0), p=math.nan, w=math.nan)
     expected = n * weights / weights.sum()
-    result = stats.chisquare(observed, expected)
-    chi2 = float(result.statistic)
-    return UniformFit(chi2=chi2, df=int(observed.size - 1), p=float(result.pvalue), w=math.sqrt(chi2 / n))
+    # scipy.stats.chisquare's statistic and upper tail (chdtrc is its chi2.sf), without its slow wrapper
+    chi2 = float(np.sum((observed - expected) ** 2 / expected))
+    df = int(observed.size - 1)
+    return UniformFit(chi2=chi2, df=df, p=float(chdtrc(df, chi2)), w=math.sqrt(chi2 / n))

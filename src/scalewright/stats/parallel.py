@@ -8,8 +8,8 @@ import numpy as np
 
 from ..errors import UsageError
 from ..results import ResultMixin, to_jsonable
+from ..seeds import DEFAULT_SEED
 
-DEFAULT_SEED = 20261201
 #: random matrices are drawn in batches of at most this many values, so memory stays near 40 MB
 BATCH_VALUES = 5_000_000
 

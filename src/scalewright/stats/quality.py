@@ -7,12 +7,13 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -264,16 +265,27 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     column_means = np.where(answered[basis], x[basis], 0.0).sum(axis=0) / answered[basis].sum(axis=0)
     deviations = np.where(answered, x - column_means, 0.0)
     d2 = np.full(n, np.nan)
-    patterns, which = np.unique(answered, axis=0, return_inverse=True)
-    which = np.asarray(which).reshape(-1)
-    for g, pattern in enumerate(patterns):  # over missing-data patterns (few), every respondent in one at once
-        if not pattern.any():
-            continue
-        rows = which == g
-        observed = np.flatnonzero(pattern)
-        factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
-        z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
-        d2[rows] = (z ** 2).sum(axis=0)
+    # the missing-data patterns, each row's pattern packed into bytes (one key per row: far quicker to sort
+    # than the rows of a boolean matrix), and the rows of each pattern as one slice of a stable sort
+    packed = np.ascontiguousarray(np.packbits(answered, axis=1))
+    keys = packed.view(np.dtype((np.void, packed.shape[1]))).reshape(-1)
+    _, first, which = np.unique(keys, return_index=True, return_inverse=True)
+    patterns = answered[first]
+    by_pattern = np.argsort(np.asarray(which).reshape(-1), kind="stable")
+    bounds = np.searchsorted(np.asarray(which).reshape(-1)[by_pattern], np.arange(len(patterns) + 1))
+    from ..concurrency import one_blas_thread
+
+    # over missing-data patterns, every respondent of one at once; with many items and scattered blanks there
+    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine)
+    with one_blas_thread():
+        for g, pattern in enumerate(patterns):
+            if not pattern.any():
+                continue
+            rows = by_pattern[bounds[g]:bounds[g + 1]]
+            observed = np.flatnonzero(pattern)
+            factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
+            z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
+            d2[rows] = (z ** 2).sum(axis=0)
     df = answered.sum(axis=1)
     p = np.full(n, np.nan)
     has = df > 0
@@ -355,6 +367,82 @@ def even_odd_consistency(keyed_by_scale: Sequence[Any] | Mapping[str, Any]) -> E
     if len(usable) < len(matrices):
         notes.append(f"even-odd consistency leaves out {len(matrices) - len(usable)} scale(s) with a single item")
     return EvenOddResult(r, corrected, len(usable), tuple(notes))
+
+
+#: a weak index is used only when at most this share of attentive respondents is expected below its cut-off
+#: (our own rule, chosen on generated data: docs/screening.md)
+WEAK_INDEX_MAX_EXPECTED_BELOW = 0.10
+
+
+@dataclass(frozen=True)
+class WeakIndexUse(ResultMixin):
+    """Whether a weak index can tell careless from attentive answering in this sample, and why.
+
+    ``typical`` is the value an attentive respondent is expected to have, in the index's own units (even-odd
+    consistency after the Spearman-Brown step, as its cut-off); ``points`` the number of values
+    each respondent's correlation rests on; ``expected_below`` the share of attentive respondents expected
+    below ``cutoff`` by Fisher's z (SE 1/sqrt(points - 3)). The index raises its flag only when ``used``.
+    """
+
+    index: str
+    used: bool
+    typical: float
+    points: int
+    cutoff: float
+    expected_below: float
+
+
+def expected_share_below(typical: float, cutoff: float, points: int) -> float:
+    r"""Share of correlations below ``cutoff`` when the true value is ``typical`` and each rests on ``points``.
+
+    .. math:: P = \Phi\left((\operatorname{artanh} c - \operatorname{artanh} \rho) \sqrt{m - 3}\right)
+
+    NaN when ``points`` < 4 or ``typical`` is not a correlation.
+
+    References
+    ----------
+    .. [1] Fisher, R. A. (1921). On the "probable error" of a coefficient of correlation deduced from a small
+       sample. Metron, 1, 3-32.
+    """
+    from scipy.special import ndtr
+
+    if points < 4 or not (math.isfinite(typical) and -1 < typical < 1) or not -1 < cutoff < 1:
+        return 1.0 if points >= 4 and math.isfinite(typical) and typical <= -1 else math.nan
+    return float(ndtr((math.atanh(cutoff) - math.atanh(typical)) * math.sqrt(points - 3)))
+
+
+def attentive_person_total_r(keyed: Any) -> float:
+    r"""Person-total r an attentive respondent is expected to have, from the spread of the item means.
+
+    A respondent who answers by the model :math:`x_{ij} = a_i + \mu_j + e_{ij}` has, over the items, a
+    correlation with the item means of
+
+    .. math:: \rho = \frac{s_\mu}{\sqrt{s_\mu^2 + \sigma_e^2}}, \qquad
+              \sigma_e^2 = \overline{s_{jj}} - \overline{s_{jl}}\ (j \ne l)
+
+    with :math:`s_\mu^2` the variance of the item means and :math:`\sigma_e^2` the part of an answer's variance
+    that items do not share (mean item variance less mean inter-item covariance). When the item means barely
+    differ, :math:`\rho` is near zero and the index cannot separate attentive from careless answering.
+    Computed from the item means and the covariance matrix (sufficient statistics). Our own derivation.
+    """
+    x = _as_matrix(keyed, "keyed")
+    k = x.shape[1]
+    if k < 3 or x.shape[0] < 3:
+        return math.nan
+    answered = (~np.isnan(x)).sum(axis=0)
+    x = x[:, answered >= 2]
+    k = x.shape[1]
+    if k < 3:
+        return math.nan
+    means = np.nansum(x, axis=0) / (~np.isnan(x)).sum(axis=0)
+    cov = pairwise_covariance(x)
+    if not np.isfinite(cov).all():
+        return math.nan
+    unique = float(np.trace(cov)) / k - float(cov[~np.eye(k, dtype=bool)].mean())
+    spread = float(np.var(means))
+    if spread + max(unique, 0.0) <= 0:
+        return math.nan
+    return math.sqrt(spread / (spread + max(unique, 0.0)))
 
 
 def person_total_correlation(keyed: Any) -> np.ndarray:
@@ -522,7 +610,15 @@ class ScreenResult:
     long_run_items: int
     median_duration: float | None
     alpha_change: dict[str, dict[str, Any]] = field(default_factory=dict)
-    notes: tuple[str, ...] = ()
+    notes: tuple[str | Note, ...] = ()
+    #: flag codes whose check could not run (their count is None, never 0; a note says why)
+    not_checked: tuple[str, ...] = ()
+    #: per group of identical answer rows: ``flagged`` (duplicate-answers), ``long-run`` (counted there
+    #: instead) or ``few-answers`` (too few answered items to tell a copy from chance)
+    duplicate_status: tuple[str, ...] = ()
+    #: unit of the completion times (shown beside them; the checks do not depend on it)
+    duration_unit: str = "s"
+    weak_indices: tuple[WeakIndexUse, ...] = ()
 
     @property
     def n(self) -> int:
@@ -531,11 +627,14 @@ class ScreenResult:
     def flagged_ids(self) -> list[str]:
         return [i for i, f in zip(self.ids, self.flagged) if f]
 
-    def flag_counts(self) -> dict[str, int]:
-        counts = {code: 0 for code in FLAG_ORDER}
+    def flag_counts(self) -> dict[str, int | None]:
+        """Respondents per flag; None for a check that did not run."""
+        counts: dict[str, int | None] = {code: 0 for code in FLAG_ORDER}
         for codes in self.flags:
             for code in codes:
-                counts[code] += 1
+                counts[code] += 1  # type: ignore[operator]
+        for code in self.not_checked:
+            counts[code] = None
         return counts
 
     def flag_overlap(self) -> dict[str, dict[str, int]]:
@@ -558,6 +657,8 @@ class ScreenResult:
             "n_items": self.n_items,
             "long_run_items": self.long_run_items,
             "median_duration": self.median_duration,
+            "duration_unit": self.duration_unit if self.duration is not None else None,
+            "not_checked": list(self.not_checked),
         }
 
     def respondent_records(self) -> list[dict[str, Any]]:
@@ -578,9 +679,11 @@ class ScreenResult:
             "respondents": self.respondent_records(),
             "summary": self.summary(),
             "duplicates": {"rows": [[self.ids[i] for i in group] for group in self.duplicates.row_groups],
+                           "row_status": list(self.duplicate_status),
                            "ids": list(self.duplicates.duplicate_ids)},
             "thresholds": self.thresholds.to_dict(),
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
+            "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
             "notes": list(self.notes),
         })
 
@@ -601,8 +704,28 @@ def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray)
     return out
 
 
+def _unique_notes(notes: Sequence[str | Note]) -> tuple[str | Note, ...]:
+    """Each note once, in order (a note's values may be unhashable, so it is compared by its JSON form)."""
+    seen: dict[str, str | Note] = {}
+    for item in notes:
+        seen.setdefault(repr(item.to_dict()) if isinstance(item, Note) else item, item)
+    return tuple(seen.values())
+
+
+def _duplicate_status(groups: Sequence[Sequence[int]], long_run: np.ndarray, answered_items: np.ndarray,
+                      min_items: int) -> tuple[str, ...]:
+    """Why each group of identical rows is or is not counted as ``duplicate-answers`` (rows of a group agree)."""
+    status = []
+    for group in groups:
+        first = group[0]
+        status.append("long-run" if long_run[first] else "few-answers" if answered_items[first] < min_items
+                      else "flagged")
+    return tuple(status)
+
+
 def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], *, ids: Sequence[str],
-                       thresholds: ScreenThresholds = ScreenThresholds(), durations: Any = None) -> ScreenResult:
+                       thresholds: ScreenThresholds = ScreenThresholds(), durations: Any = None,
+                       duration_unit: str = "s") -> ScreenResult:
     """Screen every respondent for careless answering and suspicious records.
 
     Parameters
@@ -616,7 +739,10 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     thresholds : ScreenThresholds
         When each index raises a flag.
     durations : array_like, shape (n,), optional
-        Completion times (any unit); enables the ``fast`` flag.
+        Completion times (any unit); enables the ``fast`` flag. Without them ``fast`` is not checked: its
+        count is None (``null``), not 0.
+    duration_unit : str
+        Unit of ``durations``, kept for display.
 
     Returns
     -------
@@ -647,7 +773,8 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         if block.shape[0] != n:
             raise DataError(f"keyed items of scale {name}: {block.shape[0]} rows, expected {n}")
     keyed = np.hstack(list(scales.values())) if scales else np.empty((n, 0))
-    notes: list[str] = []
+    notes: list[str | Note] = []
+    not_checked: list[str] = []
 
     runs = longstring(raw)
     run_limit = thresholds.long_run_items(p)
@@ -675,14 +802,34 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         np.full(n, np.nan), np.full(n, np.nan), 0, ("even-odd consistency not computed: no scales",))
     notes.extend(halves.notes)
     person_total = person_total_correlation(keyed)
+    # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
+    # item means barely differ, attentive people's person-total r scatters around zero; with few scales the
+    # even-odd correlation rests on a handful of points (docs/screening.md)
+    typical_total = attentive_person_total_r(keyed)
+    answered_median = int(np.median(np.sum(~np.isnan(keyed), axis=1))) if n and keyed.shape[1] else 0
+    total_use = WeakIndexUse(index=FLAG_AGAINST_SAMPLE, used=False, typical=typical_total, points=answered_median,
+                             cutoff=thresholds.person_total_min,
+                             expected_below=expected_share_below(typical_total, thresholds.person_total_min,
+                                                                 answered_median))
     with np.errstate(invalid="ignore"):
-        uneven = halves.consistency < thresholds.even_odd_min
-        against = person_total < thresholds.person_total_min
+        typical_halves = float(np.nanmedian(halves.r_halves)) if np.isfinite(halves.r_halves).any() else math.nan
+    half_cut = thresholds.even_odd_min / (2 - thresholds.even_odd_min)  # undo Spearman-Brown: raw half r
+    halves_use = WeakIndexUse(index=FLAG_UNEVEN_HALVES, used=False, typical=2 * typical_halves / (1 + typical_halves),
+                              points=halves.scales_used, cutoff=thresholds.even_odd_min,
+                              expected_below=expected_share_below(typical_halves, half_cut, halves.scales_used))
+    total_use = replace(total_use, used=bool(total_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    halves_use = replace(halves_use, used=bool(halves_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    with np.errstate(invalid="ignore"):
+        uneven = (halves.consistency < thresholds.even_odd_min) & halves_use.used
+        against = (person_total < thresholds.person_total_min) & total_use.used
 
     fast = np.zeros(n, dtype=bool)
     duration = None
     median_duration = None
-    if durations is not None:
+    if durations is None:
+        not_checked.append(FLAG_FAST)
+        notes.append(note("fast-not-checked", flag=FLAG_FAST))
+    else:
         duration = np.asarray(durations, dtype=float).reshape(-1)
         if duration.shape != (n,):
             raise DataError(f"durations: expected {n} values, got {duration.size}")
@@ -690,15 +837,31 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         timed = np.where(many_missing, np.nan, duration)
         fast, median = speeders(timed, speed_share=thresholds.speed_share)
         median_duration = None if math.isnan(median) else median
-        if (~np.isfinite(duration)).any():
+        if median_duration is None:
+            not_checked.append(FLAG_FAST)
+            notes.append(note("fast-no-durations", flag=FLAG_FAST))
+        elif (~np.isfinite(duration)).any():
             notes.append(f"{int((~np.isfinite(duration)).sum())} respondent(s) without a duration were not "
                          "checked for speed")
 
     duplicates = duplicate_records(raw, ids)
     answered_items = p - np.isnan(raw).sum(axis=1)
     duplicate_answers = duplicates.in_row_group & ~long_run & (answered_items >= thresholds.duplicate_min_items)
-    if duplicates.row_groups and p < thresholds.duplicate_min_items:
-        notes.append(f"identical answer rows are listed but not flagged: with {p} items they can happen by chance")
+    duplicate_status = _duplicate_status(duplicates.row_groups, long_run, answered_items,
+                                         thresholds.duplicate_min_items)
+    if p < thresholds.duplicate_min_items:
+        not_checked.append(FLAG_DUPLICATE_ANSWERS)
+        notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
+                          min_items=thresholds.duplicate_min_items))
+    if not np.isfinite(distance.p).any():
+        not_checked.extend((FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR))
+        notes.append(note("distance-not-checked", flags=(FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR)))
+    if not np.isfinite(halves.consistency).any():
+        not_checked.append(FLAG_UNEVEN_HALVES)
+        notes.append(note("halves-not-checked", flag=FLAG_UNEVEN_HALVES))
+    if not np.isfinite(person_total).any():
+        not_checked.append(FLAG_AGAINST_SAMPLE)
+        notes.append(note("profile-not-checked", flag=FLAG_AGAINST_SAMPLE))
 
     fired = {
         FLAG_LONG_RUN: long_run, FLAG_FAR_FROM_SAMPLE: far, FLAG_FAST: fast, FLAG_MANY_MISSING: many_missing,
@@ -723,4 +886,6 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,
         person_total_r=person_total, missing=missing, duration=duration, flags=flags, flagged=flagged,
         duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=run_limit,
-        median_duration=median_duration, alpha_change=alpha_change, notes=tuple(dict.fromkeys(notes)))
+        median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
+        not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
+        weak_indices=(halves_use, total_use))

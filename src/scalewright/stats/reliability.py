@@ -7,17 +7,19 @@ engine. :func:`scale_reliability` is the one entry point that starts from the ke
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note
 from ..results import ResultMixin, to_jsonable
 from .bootstrap import AlphaBootstrap
 from .coded import CodedAnswers
 from .item_covariance import correlation_from_cov, is_invertible
+from .missing import MissingHandling
 from .subgroups import SubgroupSplit
 
 
@@ -317,13 +319,22 @@ class ReliabilityFlag(ResultMixin):
     message: str
     value: float = math.nan
     items: tuple[str, ...] = ()
+    values: Mapping[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
+        # ``message`` is left empty here and worded by scalewright.present.messages (see ``as_note``) when
+        # a document is rendered; ``values`` are the numbers behind it
         out: dict[str, Any] = {"item": self.item, "code": self.code, "message": self.message,
                                "value": to_jsonable(self.value)}
         if self.items:
             out["items"] = list(self.items)
+        if self.values:
+            out["values"] = to_jsonable(dict(self.values))
         return out
+
+    def as_note(self) -> Note:
+        """The flag as a code with values, for :func:`scalewright.present.messages.describe`."""
+        return Note(code=self.code, values=dict(self.values))
 
 
 @dataclass(frozen=True)
@@ -384,10 +395,15 @@ class ScaleReliability(ResultMixin):
     thresholds: ReliabilityThresholds
     bootstrap: AlphaBootstrap | None
     notes: tuple[str, ...]
+    missing: MissingHandling | None = None
 
     def to_dict(self) -> dict[str, Any]:
         out = super().to_dict()
         out["items"] = {name: item.to_dict() for name, item in self.items.items()}
+        out.pop("missing")
+        if self.missing is not None:
+            out.update(self.missing.to_dict())
+            out["notes"] = [*out["notes"], *self.missing.note_dicts]
         return out
 
     def flag_codes(self) -> set[tuple[str | None, str]]:
@@ -419,11 +435,9 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
     k = matrix.shape[1]
     reversed_mask = np.zeros(k, dtype=bool) if reversed_mask is None else np.asarray(reversed_mask, dtype=bool)
     levels = np.arange(int(math.ceil(low)), int(math.floor(high)) + 1).astype(np.float64)
-    # rating answers take few values: their counts are sufficient for n, mean and sd; one whole-matrix
-    # comparison per level (row-major friendly) instead of a pass per item and level
-    keyed_levels = _keyed_levels(levels, low, high, reversed_mask)
-    tally = np.array([np.count_nonzero(matrix == keyed_levels[l], axis=0) for l in range(levels.size)],
-                     dtype=np.int64).reshape(levels.size, k).T  # (k, L)
+    # rating answers take few values: their counts are sufficient for n, mean and sd; counted in one pass
+    # per item (bincount), whatever the number of levels
+    tally = answer_level_counts(matrix, levels=levels, low=low, high=high, reversed_mask=reversed_mask)
     n = np.count_nonzero(~np.isnan(matrix), axis=0).astype(np.int64)
     described = item_descriptives_from_tally(tally, n_rows=matrix.shape[0], low=low, high=high,
                                              reversed_mask=reversed_mask, n_answered=n)
@@ -435,6 +449,25 @@ def item_descriptives(keyed: np.ndarray, *, low: float, high: float,
         mean[j] = answered.mean()
         sd[j] = answered.std(ddof=1) if n[j] >= 2 else np.nan
     return replace(described, mean=mean, sd=sd)
+
+
+def answer_level_counts(keyed: np.ndarray, *, levels: np.ndarray, low: float, high: float,
+                        reversed_mask: np.ndarray) -> np.ndarray:
+    """(k, L) counts of each answer level (as given, before keying) of every item, in one pass per item.
+
+    Answers off the levels (between them or outside) and missing answers are not counted.
+    """
+    k = keyed.shape[1]
+    tally = np.zeros((k, levels.size), dtype=np.int64)
+    if not levels.size:
+        return tally
+    for j in range(k):
+        column = keyed[:, j]
+        given = (low + high - column) if reversed_mask[j] else column
+        offsets = given - levels[0]
+        on_level = (offsets >= 0) & (offsets < levels.size) & (offsets == np.floor(offsets))  # NaN is False
+        tally[j] = np.bincount(offsets[on_level].astype(np.int64), minlength=levels.size)
+    return tally
 
 
 def _keyed_levels(levels: np.ndarray, low: float, high: float, reversed_mask: np.ndarray) -> np.ndarray:
@@ -473,64 +506,100 @@ def item_descriptives_from_tally(tally: np.ndarray, *, n_rows: int, low: float, 
                             ceiling_pct=ceiling, counts=tuple(counts), off_level=off_level)
 
 
-def _fmt(value: float) -> str:
-    # message text only; the numbers themselves stay unrounded in the result
-    if not math.isfinite(value):
-        return "undefined"
-    text = f"{value:.2f}"
-    if text == "-0.00":  # rounds to zero: no sign
-        text = "0.00"
-    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
-
-
 #: a correlation or loading this close to zero is zero up to rounding, and has no sign to flag
 #: (numerical tolerance, common practice, no source)
 _ROUNDING_NOISE = 1e-9
+#: a first-factor loading must be at least this far below zero for the item to be called mis-keyed; a loading
+#: nearer zero says the item measures little of the factor, not that it points the other way (it gets the
+#: weak-item flag instead). Common practice, no source: loadings below .10 in size are read as negligible.
+MISKEY_MIN_LOADING = 0.10
+
+
+def first_factor_signs(loadings: np.ndarray, corr: np.ndarray) -> np.ndarray:
+    """Loadings on the scale's first factor, signed so that most of the scale's items load positively.
+
+    The one-factor fit's standardized loadings when they are defined; otherwise (the fit failed or was not
+    possible) the first principal axis of the correlation matrix, scaled by the square root of its
+    eigenvalue. A factor's sign is arbitrary; it is chosen so that most items load positively (on a tie,
+    so that the loadings sum to a positive number), so the items keyed against the majority of the scale
+    load negatively. When half the items point each way the data cannot say which half is mis-keyed.
+    NaN where undefined.
+    """
+    loadings = np.asarray(loadings, dtype=np.float64)
+    k = loadings.size
+    if np.isfinite(loadings).all() or k < 3:
+        values = loadings.copy()
+    elif np.isfinite(corr).all():
+        eigenvalues, vectors = np.linalg.eigh(corr)
+        values = vectors[:, -1] * math.sqrt(max(float(eigenvalues[-1]), 0.0))
+    else:
+        return np.full(k, np.nan)
+    if np.isfinite(values).all():
+        positive, negative = int((values > 0).sum()), int((values < 0).sum())
+        if negative > positive or (negative == positive and values.sum() < 0):
+            values = -values
+    return values
 
 
 def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: np.ndarray,
                       loadings: np.ndarray, alpha_reversed: np.ndarray, corr: np.ndarray,
                       reversed_items: Sequence[str] = (),
-                      thresholds: ReliabilityThresholds = ReliabilityThresholds()) -> tuple[ReliabilityFlag, ...]:
-    """The plain-language flags of one scale (codes of the JSON contract)."""
+                      thresholds: ReliabilityThresholds = ReliabilityThresholds(),
+                      cov: np.ndarray | None = None) -> tuple[ReliabilityFlag, ...]:
+    """The flags of one scale: codes of the JSON contract with the numbers behind them.
+
+    ``miskey-suspect`` rests on the sign of the item's loading on the scale's first factor
+    (:func:`first_factor_signs`): below ``-MISKEY_MIN_LOADING`` the item runs against the scale. Item-rest r
+    is given as support but does not decide: when two of five items point the other way, the rest of a
+    correctly keyed item holds both of them and its item-rest r can be near zero or negative. With two items
+    (no factor to speak of) a negative correlation flags both. ``alpha_reversed`` in a miskey flag's values is
+    alpha with *every* flagged item reversed at once (from ``cov``), the scale the advice leads to.
+    The sentences are written by :mod:`scalewright.present.messages`.
+    """
     flags: list[ReliabilityFlag] = []
     declared = set(reversed_items)
+    k = len(item_names)
+    signed = first_factor_signs(loadings, corr)
+    suspect = np.zeros(k, dtype=bool)
+    for j in range(k):
+        r, loading = float(item_rest_r[j]), float(signed[j])
+        if k >= 3 and math.isfinite(loading):
+            suspect[j] = loading < -MISKEY_MIN_LOADING
+        elif k == 2:
+            suspect[j] = math.isfinite(r) and r < -_ROUNDING_NOISE
+    joint_alpha = float(alpha_reversed[int(np.flatnonzero(suspect)[0])]) if suspect.sum() == 1 else math.nan
+    if suspect.sum() > 1 and cov is not None and k >= 3:
+        sign = np.where(suspect, -1.0, 1.0)
+        joint_alpha = cronbach_alpha_from_cov(np.asarray(cov, dtype=np.float64) * np.outer(sign, sign))
+    if k == 2:
+        joint_alpha = math.nan  # reversing both items of a pair changes nothing
+    flagged = tuple(name for name, is_suspect in zip(item_names, suspect) if is_suspect)
     for j, name in enumerate(item_names):
         r = float(item_rest_r[j])
-        negative_loading = math.isfinite(float(loadings[j])) and float(loadings[j]) < -_ROUNDING_NOISE
-        if (math.isfinite(r) and r < -_ROUNDING_NOISE) or negative_loading:
-            evidence = f"item-rest r = {_fmt(r)}" + (", negative loading on the scale's factor"
-                                                     if negative_loading else "")
-            advice = ("it is declared reverse-keyed: check that it should be"
-                      if name in declared else "if its wording is reversed, list it under `reverse`")
+        if suspect[j]:
             flags.append(ReliabilityFlag(
-                item=name, code="miskey-suspect", value=r,
-                message=(f"{name} runs against the rest of the scale ({evidence}); {advice}. With it reversed, "
-                         f"alpha would be {_fmt(float(alpha_reversed[j]))} instead of {_fmt(alpha)}.")))
+                item=name, code="miskey-suspect", value=r, message="",
+                values={"item": name, "loading": float(signed[j]), "item_rest_r": r,
+                        "declared_reversed": name in declared, "alpha": alpha, "alpha_reversed": joint_alpha,
+                        "reversed_together": flagged, "min_loading": MISKEY_MIN_LOADING}))
         elif math.isfinite(r) and r < thresholds.weak_item_rest_r:
             flags.append(ReliabilityFlag(
-                item=name, code="weak-item", value=r,
-                message=(f"{name} agrees little with the rest of the scale (item-rest r = {_fmt(r)}, "
-                         f"below {_fmt(thresholds.weak_item_rest_r)}); check its wording.")))
-    k = len(item_names)
+                item=name, code="weak-item", value=r, message="",
+                values={"item": name, "item_rest_r": r, "cutoff": thresholds.weak_item_rest_r}))
     for i in range(k):
         for j in range(i + 1, k):
             r = float(corr[i, j])
             if math.isfinite(r) and r > thresholds.redundant_r:
                 a, b = item_names[i], item_names[j]
                 flags.append(ReliabilityFlag(
-                    item=a, code="redundant-pair", value=r, items=(a, b),
-                    message=(f"{a} and {b} correlate r = {_fmt(r)} (above {_fmt(thresholds.redundant_r)}): "
-                             "they may ask the same thing twice.")))
+                    item=a, code="redundant-pair", value=r, items=(a, b), message="",
+                    values={"item": a, "other": b, "r": r, "cutoff": thresholds.redundant_r}))
     if math.isfinite(alpha) and alpha < thresholds.low_alpha:
-        flags.append(ReliabilityFlag(
-            item=None, code="low-reliability", value=alpha,
-            message=f"alpha = {_fmt(alpha)} is below {_fmt(thresholds.low_alpha)}: the score is noisy in this sample."))
+        flags.append(ReliabilityFlag(item=None, code="low-reliability", value=alpha, message="",
+                                     values={"alpha": alpha, "cutoff": thresholds.low_alpha}))
     if math.isfinite(alpha) and alpha > thresholds.excess_alpha:
-        flags.append(ReliabilityFlag(
-            item=None, code="excess-reliability", value=alpha,
-            message=(f"alpha = {_fmt(alpha)} is above {_fmt(thresholds.excess_alpha)}: items may be "
-                     "near-duplicates; a shorter scale may do.")))
+        flags.append(ReliabilityFlag(item=None, code="excess-reliability", value=alpha, message="",
+                                     values={"alpha": alpha, "cutoff": thresholds.excess_alpha}))
     return tuple(flags)
 
 
@@ -601,7 +670,10 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
     mean_r, min_r, max_r = inter_item_correlations(cov_used) if usable else (math.nan,) * 3
     item_rest_r = item_rest_correlations_from_cov(cov_used) if usable else np.full(k, np.nan)
     if_deleted = alpha_if_deleted_from_cov(cov_used) if usable else np.full(k, np.nan)
-    omega_deleted = (omega_if_deleted_from_cov(cov_used, start=1.0 - fit.standardized_loadings**2)
+    # each reduced fit starts afresh from its own squared multiple correlations: a start from the full
+    # fit's uniquenesses saved a fifth of the steps but, on small samples with a Heywood case, ended in a
+    # worse local optimum in 11 of 105 fits (docs/performance.md)
+    omega_deleted = (omega_if_deleted_from_cov(cov_used)
                      if fit is not None and k >= 4
                      else np.full(k, np.nan))
     loadings = fit.standardized_loadings if fit is not None else np.full(k, np.nan)
@@ -623,7 +695,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
             counts=dict(d.counts[j]) if d is not None else {})
     flags = reliability_flags(item_names=names, alpha=alpha, item_rest_r=item_rest_r, loadings=loadings,
                               alpha_reversed=alpha_reversed, corr=corr, reversed_items=reversed_items,
-                              thresholds=thresholds) if usable else ()
+                              thresholds=thresholds, cov=cov_used) if usable else ()
     n_rows = n_used if n_rows is None else n_rows
     return ScaleReliability(
         n_rows=n_rows, n_used=n_used, n_set_aside=max(0, n_rows - n_used) if missing_handling == "listwise" else 0,
@@ -643,7 +715,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                       confidence_level: float = 0.95, pairwise: bool = False,
                       thresholds: ReliabilityThresholds = ReliabilityThresholds(),
                       reversed_items: Sequence[str] = (), n_resamples: int = 0,
-                      seed: int | None = None) -> ScaleReliability:
+                      seed: int | None = None, missing: str | None = None) -> ScaleReliability:
     """Reliability and item analysis of one scale from its keyed item matrix.
 
     Parameters
@@ -666,6 +738,11 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         Items that were reverse-keyed (their answer counts are reported on the codes as given).
     n_resamples, seed : int
         Bootstrap resamples (0 = no bootstrap) and the seed of the generator.
+    missing : {"listwise", "pairwise", "em"}, optional
+        How missing answers are handled; overrides ``pairwise``. ``em``: the maximum-likelihood means and
+        covariance matrix under missing at random (EM, :mod:`scalewright.stats.em`), computed from the
+        per-pattern sufficient statistics; every reliability statistic comes from that matrix (Enders,
+        2003) and ``n_used`` counts the respondents who gave at least one answer.
 
     Returns
     -------
@@ -676,10 +753,28 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     Listwise (default): every statistic uses the rows that answered all k items; the others are counted in
     ``n_set_aside``. Pairwise: each covariance uses the rows answering both items and the confidence
     interval uses the smallest pairwise count. Item descriptives use every answer given to the item.
+    EM: Feldt's interval with ``n_used``, the respondents who answered at least one item (a note says so:
+    with much missing it is too narrow, since the information is less than that many complete rows).
+    Whatever the method, the result carries the missingness patterns and Little's MCAR test.
+
+    References
+    ----------
+    .. [1] Enders, C. K. (2003). Using the expectation maximization algorithm to estimate coefficient
+       alpha for scales with item-level missing data. Psychological Methods, 8, 322-337.
     """
+    from ..errors import UsageError
     from .bootstrap import bootstrap_alpha
-    from .coded import answer_tally, listwise_covariance, pairwise_covariance
+    from .coded import answer_tally, pairwise_covariance
+    from .em import em_means_and_covariance
     from .item_covariance import item_covariance
+    from .missing import check_method, keyed_estimate, listwise_from_summary, missing_handling
+    from .missing_patterns import PatternSummary
+
+    method = check_method(missing or ("pairwise" if pairwise else "listwise"))
+    pairwise = method == "pairwise"
+    if method == "em" and n_resamples:
+        raise UsageError("the bootstrap of alpha is not available with --missing em: it would rerun EM on every "
+                         "resample; the interval under em is Feldt's (see the note)")
 
     names = tuple(item_names)
     if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
@@ -694,9 +789,13 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if not 0 < confidence_level < 1:
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
+    summary = None
     if isinstance(keyed, CodedAnswers) and not n_resamples:
-        covariance = pairwise_covariance if pairwise else listwise_covariance
-        stats = covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        summary = PatternSummary.from_codes(keyed.codes)
+        if pairwise:
+            stats = pairwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
+        else:  # the summary's complete pattern holds the listwise statistics (no second pass over the codes)
+            stats = listwise_from_summary(summary, low=int(low), high=int(high), reversed_mask=reversed_mask)
         descriptives = item_descriptives_from_tally(answer_tally(keyed, int(high - low) + 1), n_rows=keyed.shape[0],
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
@@ -708,12 +807,24 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         if matrix.shape[1] != len(names):
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
+    if summary is None:  # the answers as given (offsets from low), as the codes route sees them: same numbers
+        summary = PatternSummary.from_values(np.where(reversed_mask, high - matrix, matrix - low))
+    estimate = None
+    cov, n_used = stats.cov, stats.n_used
+    if method == "em" and summary.anything_missing:
+        estimate = em_means_and_covariance(summary)
+        _, cov = keyed_estimate(estimate, lows=np.full(len(names), low), highs=np.full(len(names), high),
+                                reversed_mask=reversed_mask, from_codes=True)
+        n_used = summary.n_used
+    # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
+    # divisor cancels in every statistic here), so em and listwise agree exactly
+    handling = missing_handling(summary, method, n_used=n_used, estimate=estimate, item_names=names)
     notes: list[str] = []
     if pairwise:
         notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
                      f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
                      f"confidence interval uses the smallest count, {stats.n_used}")
-    elif stats.n_rows > stats.n_used:
+    elif method == "listwise" and stats.n_rows > stats.n_used:
         notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
                      f"every item and were set aside")
     if descriptives.off_level:
@@ -723,10 +834,10 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     if n_resamples:
         boot = bootstrap_alpha(matrix, n_resamples=n_resamples, confidence_level=confidence_level, seed=seed,
                                pairwise=pairwise)
-    return reliability_from_cov(stats.cov, stats.n_used, item_names=names, confidence_level=confidence_level,
-                                thresholds=thresholds, reversed_items=reversed_items, descriptives=descriptives,
-                                n_rows=stats.n_rows, missing_handling="pairwise" if pairwise else "listwise",
-                                bootstrap=boot, notes=notes)
+    result = reliability_from_cov(cov, n_used, item_names=names, confidence_level=confidence_level,
+                                  thresholds=thresholds, reversed_items=reversed_items, descriptives=descriptives,
+                                  n_rows=stats.n_rows, missing_handling=method, bootstrap=boot, notes=notes)
+    return replace(result, missing=handling)
 
 
 # --------------------------------------------------------------------------------------------------------
@@ -827,9 +938,16 @@ class ScaleReliabilityReport(ResultMixin):
     title: str
     overall: ScaleReliability
     groups: tuple[GroupReliability, ...] = ()
+    #: ordinal reliability (``--ordinal``) and the note on whether the answers call for it
+    ordinal: Any = None
+    ordinal_advice: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         out = {"title": self.title, **self.overall.to_dict()}
+        if self.ordinal is not None:
+            out["ordinal"] = self.ordinal.to_dict()
+        if self.ordinal_advice:
+            out["ordinal_advice"] = [advice.to_dict() for advice in self.ordinal_advice]
         if self.groups:
             out["by"] = {g.column: {level: r.to_dict() for level, r in g.levels.items()} for g in self.groups}
             out["alpha_comparisons"] = {g.column: [c.to_dict() for c in g.comparisons] for g in self.groups}

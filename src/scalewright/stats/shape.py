@@ -25,6 +25,7 @@ import pandas as pd
 
 from ..errors import UsageError
 from ..results import ResultMixin, to_jsonable
+from ..seeds import DEFAULT_SEED
 from .descriptives import (
     BoxPlotPoints,
     UniformFit,
@@ -56,6 +57,10 @@ DEEP_VALLEY_RATIO = 0.5
 DEEP_VALLEY_ALPHA = 0.01
 #: respondents expected at least per window of the shape rule (windows widen beyond one answer step to reach it)
 BAND_EXPECTED = 15
+#: a peak is a window holding at least this share of respondents, and windows span at least this share of the
+#: score range: a heap of a few percent on one round value (or one noisy cell of a fine-grained score) is not a
+#: second camp of respondents (common practice, no source; docs/shape.md)
+MIN_PEAK_SHARE = 0.05
 #: share at the lowest / highest attainable score above which a floor / ceiling effect is flagged (Terwee et al. 2007)
 FLOOR_CEILING_SHARE = 0.15
 #: the smallest sample that gets a shape label
@@ -69,7 +74,7 @@ class DipResult(ResultMixin):
     jitter_width: float
 
 
-def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = 0) -> DipResult:
+def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = DEFAULT_SEED) -> DipResult:
     r"""Hartigan's dip test on scores spread uniformly within their resolution.
 
     Tied scores make the empirical CDF a staircase that no unimodal CDF follows closely, so the plain dip
@@ -121,7 +126,8 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     counts = np.asarray(cells.counts, dtype=float)
     sizes = np.asarray(cells.grid_values, dtype=float) if cells.resolution > 0 else np.ones(counts.size)
     n_cells = counts.size
-    width = int(min(n_cells, max(period, math.ceil(BAND_EXPECTED * n_cells / max(n, 1)))))
+    width = int(min(n_cells, max(period, math.ceil(BAND_EXPECTED * n_cells / max(n, 1)),
+                                  math.ceil(MIN_PEAK_SHARE * n_cells))))
     starts = _symmetric_band_starts(n_cells, width)
     band_counts = np.add.reduceat(counts, starts)
     band_sizes = np.add.reduceat(sizes, starts)
@@ -131,12 +137,15 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     window_sizes = np.convolve(sizes, np.ones(width), mode="valid")
     window_density = window_sums / window_sizes
     centres = np.asarray(cells.centers)
+    total = float(counts.sum())
     best = (math.inf, math.nan, math.nan, ())
     for j in range(width, window_sums.size - width):
         left = int(np.argmax(window_density[: j - width + 1]))
         right = j + width + int(np.argmax(window_density[j + width:]))
         smaller = left if window_density[left] <= window_density[right] else right
         if window_density[smaller] <= 0 or window_density[j] >= window_density[smaller]:
+            continue
+        if min(window_sums[left], window_sums[right]) < MIN_PEAK_SHARE * total:
             continue
         ratio = window_density[j] / window_density[smaller]
         # equal density would give the valley window its share of the two windows' grid values
@@ -184,6 +193,16 @@ def _fmt(value: float, decimals: int = 2) -> str:
     return "0." + "0" * decimals if text in ("-0." + "0" * decimals,) else text
 
 
+def _fmt_against(value: float, cutoff: float) -> str:
+    """A number beside its cut-off (in size), with the decimals the comparison needs to read true."""
+    from ..present.numbers import format_against
+
+    if value is None or not math.isfinite(value):
+        return "n/a"
+    size, _ = format_against(abs(value), cutoff, "num", 2)
+    return f"-{size}" if value < 0 and float(size) != 0 else size
+
+
 def _fmt_p(p: float) -> str:
     if not math.isfinite(p):
         return "n/a"
@@ -194,7 +213,7 @@ def shape_label(*, mean: float, median: float, skewness: float, skewness_se: flo
                 bimodality: float, dip_p: float, features: ShapeEvidence) -> tuple[str | None, str, list[str]]:
     """Apply the shape rule; returns (label, evidence sentence, notes)."""
     notes: list[str] = []
-    skew_text = f"skewness {_fmt(skewness)} (SE {_fmt(skewness_se)})"
+    skew_text = f"skewness {_fmt_against(skewness, SKEW_THRESHOLD)} (SE {_fmt(skewness_se)})"
     bands = f"windows of {features.window_cells} score value(s)"
     flat = math.isfinite(features.flat_w) and features.flat_w < FLAT_W
     valley = math.isfinite(features.valley_ratio) and (
@@ -209,7 +228,7 @@ def shape_label(*, mean: float, median: float, skewness: float, skewness_se: flo
         return "bimodal", evidence, notes
     small_skew = not (abs(skewness) >= SKEW_THRESHOLD)
     if small_skew and flat:
-        evidence = (f"close to flat: excess w {_fmt(features.flat_w)} over {len(features.band_counts)} bands (below {FLAT_W}); "
+        evidence = (f"close to flat: excess w {_fmt_against(features.flat_w, FLAT_W)} over {len(features.band_counts)} bands (below {FLAT_W}); "
                     f"{skew_text}; bimodality coefficient {_fmt(bimodality)} (a flat distribution gives 5/9)")
         return "uniform", evidence, notes
     if _fmt(mean) == _fmt(median):
@@ -311,7 +330,7 @@ def _pkey(p: float) -> str:
 def describe_scores(values, *, attainable: np.ndarray | None = None, low: float | None = None,
                     high: float | None = None, resolution: float | None = None,
                     answer_levels: int | None = None, percentiles=DEFAULT_PERCENTILES,
-                    quantile_method: str = "linear", seed: int = 0) -> ShapeSummary:
+                    quantile_method: str = "linear", seed: int = DEFAULT_SEED) -> ShapeSummary:
     """Describe one score: centre, spread, shape statistics, floor/ceiling shares and a shape label.
 
     Parameters

@@ -104,6 +104,11 @@ class StructureResult(ResultMixin):
     min_loading: float = MIN_LOADING
     max_cross_loading: float = MAX_CROSS_LOADING
     dropped_items: tuple[str, ...] = field(default=())
+    #: the item correlation matrix analysed (of ``items``), ``pearson`` or ``polychoric``, and its notes
+    correlation: np.ndarray | None = None
+    correlation_type: str = "pearson"
+    correlation_notes: tuple[Any, ...] = ()
+    missing: Any = None  # stats.missing.MissingHandling
 
     @property
     def factor_names(self) -> tuple[str, ...]:
@@ -138,7 +143,13 @@ class StructureResult(ResultMixin):
             "thresholds": {"min_loading": self.min_loading, "max_cross_loading": self.max_cross_loading,
                            "min_kmo": MIN_KMO, "min_eigen_ratio": MIN_EIGEN_RATIO},
             "flags": [{"item": f.item, "scale": f.scale, "code": f.code, "message": f.message} for f in self.flags],
-            "notes": list(self.notes),
+            "notes": [*self.notes, *([] if self.missing is None else self.missing.note_dicts)],
+            "correlation_type": self.correlation_type,
+            "correlation": {} if self.correlation is None else
+            {a: {b: to_jsonable(self.correlation[i, j]) for j, b in enumerate(self.items)}
+             for i, a in enumerate(self.items)},
+            "correlation_notes": [n.to_dict() for n in self.correlation_notes],
+            **({} if self.missing is None else self.missing.to_dict()),
         }
 
 
@@ -238,6 +249,16 @@ def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
     return mapping
 
 
+def _say_against(value: float, cutoff: float, kind: str = "bounded", decimals: int = 2) -> tuple[str, str]:
+    # a value beside its cut-off, with the decimals the comparison needs to read true ("3.0 is below 3" never);
+    # the one rule for that lives with the number formatting
+    from ..present.numbers import format_against
+
+    if not np.isfinite(value):
+        return "undefined", _say(cutoff)
+    return format_against(value, cutoff, kind, decimals)
+
+
 def _say(value: float) -> str:
     # message text only (APA style, no leading zero); the numbers themselves stay unrounded in the result
     if not np.isfinite(value):
@@ -269,17 +290,22 @@ def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequen
                                        f"its scale {scale} ({_say(row[own])}); check that the item belongs to {scale}",
                                        scale))
         if abs(row[own]) < min_loading:
+            size, cut = _say_against(abs(row[own]), min_loading)
+            shown = f"-{size}" if row[own] < 0 else size
             flags.append(StructureFlag(item, "weak-loading",
-                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale}, below {_say(min_loading)}",
-                                       scale))
+                                       f"loads {shown} on F{own + 1} of its scale {scale}, below {cut}"
+                                       + (" in size" if row[own] < 0 else ""), scale))
         if row[own] < 0 and abs(row[own]) >= min_loading:
             flags.append(StructureFlag(item, "negative-loading",
                                        f"loads {_say(row[own])} on F{own + 1} of its scale {scale} after keying; "
                                        "check whether it should be reverse-keyed", scale))
         for j, value in enumerate(row):
             if j != own and abs(value) > max_cross_loading:
+                size, cut = _say_against(abs(value), max_cross_loading)
+                shown = f"-{size}" if value < 0 else size
                 flags.append(StructureFlag(item, "cross-loading",
-                                           f"also loads {_say(value)} on F{j + 1}, above {_say(max_cross_loading)}", scale))
+                                           f"also loads {shown} on F{j + 1}, above {cut}"
+                                           + (" in size" if value < 0 else ""), scale))
     return flags
 
 
@@ -312,7 +338,9 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                       n_factors: int | str | None = None, rotation: str = "oblimin", method: str = "minres",
                       seed: int | np.random.Generator | None = DEFAULT_SEED, iterations: int = 100,
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
-                      max_cross_loading: float = MAX_CROSS_LOADING, covariance: Any = None) -> StructureResult:
+                      max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
+                      correlation_type: str = "pearson", correlation_notes: Sequence[Any] = (),
+                      missing: str = "listwise", covariance: Any = None) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -335,9 +363,17 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         Parallel analysis settings.
     min_loading, max_cross_loading : float
         Thresholds of the ``weak-loading`` and ``cross-loading`` flags (common practice, no source).
+    correlation, correlation_type, correlation_notes
+        An item correlation matrix (of ``item_names``, over the same complete rows) to analyse instead of
+        the Pearson correlations, e.g. polychoric ones, its name and notes (:class:`~scalewright.notes.Note`).
+        Left without the items that are dropped, it is smoothed again if it is not positive definite.
+    missing : {"listwise", "pairwise", "em"}
+        How missing answers are handled (see Notes).
     covariance : ItemCovariance, optional
         The listwise covariance of the keyed items (from merged summaries, see ``scalewright.summaries``)
-        in place of ``keyed_matrix`` (then None): every statistic here is a function of it and n.
+        in place of ``keyed_matrix`` (then None): every statistic here is a function of it and n. Only
+        with ``missing="listwise"`` and no ``correlation``; the result then has no missing-data block
+        (Little's test needs the per-pattern statistics, which the summaries do not carry).
 
     Returns
     -------
@@ -345,14 +381,22 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     Notes
     -----
-    Respondents with any missing answer are set aside (listwise) and counted; items with no variance
-    among the rest are left out and flagged.
+    Listwise (default): respondents with any missing answer are set aside and counted. Pairwise: each
+    correlation from the respondents who answered both items; n is the smallest pair count. EM: the
+    correlations of the maximum-likelihood covariance matrix of every item together
+    (:func:`scalewright.stats.em.em_means_and_covariance`); n is the number of respondents who answered at
+    least one item. Items with no variance among the rows used are left out and flagged.
     """
     if covariance is not None:  # listwise sufficient statistics (merged summaries) instead of the rows
+        if missing != "listwise" or correlation is not None:
+            raise UsageError("a covariance from summaries is analysed listwise, with Pearson correlations only")
         keyed_matrix = np.empty((0, covariance.k))
     keyed = np.asarray(keyed_matrix, dtype=float)
+    supplied = None if correlation is None else np.asarray(correlation, dtype=float)
     item_names = [str(name) for name in item_names]
     _validate_names(keyed, item_names, item_scale)
+    if supplied is not None and supplied.shape != (len(item_names), len(item_names)):
+        raise DataError(f"a correlation matrix of shape {supplied.shape} given for {len(item_names)} items")
     if not 0 < min_loading <= 1 or not 0 < max_cross_loading <= 1:
         raise UsageError("loading thresholds must lie between 0 and 1")
     scales = list(dict.fromkeys(item_scale[name] for name in item_names))
@@ -364,19 +408,19 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     notes: list[str] = []
     flags: list[StructureFlag] = []
     if covariance is None:
-        complete, set_aside = complete_cases(keyed)
-        n, n_rows = complete.shape[0], keyed.shape[0]
-        constant = np.ptp(complete, axis=0) == 0 if n else np.ones(len(item_names), dtype=bool)
+        n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
+        n_rows = keyed.shape[0]
     else:
         n, n_rows = covariance.n_used, covariance.n_rows
-        set_aside = n_rows - n
+        set_aside, handling = n_rows - n, None
         constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
-    if set_aside:
+        correlation_all = _correlation_of_covariance(covariance.cov, constant)
+    if set_aside and missing == "listwise":
         notes.append(f"{set_aside} of {n_rows} respondent(s) with at least one missing answer set aside "
                      "(listwise); every statistic uses the remaining complete cases")
     dropped = [name for name, c in zip(item_names, constant) if c]
     for name in dropped:
-        flags.append(StructureFlag(name, "no-variance", "every complete respondent gave the same answer; "
+        flags.append(StructureFlag(name, "no-variance", "every respondent used gave the same answer; "
                                    "left out of the analysis", item_scale[name]))
     if dropped:
         notes.append(f"{len(dropped)} item(s) without variance left out: {', '.join(dropped)}")
@@ -391,31 +435,37 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                                solution=None, n_factors_rule="none", factor_for_scale={s: None for s in scales},
                                unidimensionality={}, flags=tuple(flags), notes=tuple(notes + [reason]),
                                min_loading=min_loading, max_cross_loading=max_cross_loading,
-                               dropped_items=tuple(dropped))
+                               dropped_items=tuple(dropped), correlation_type=correlation_type,
+                               correlation_notes=tuple(correlation_notes), missing=handling)
 
     if n < 3:
         return empty(f"only {n} complete respondent(s): the structure needs at least 3")
     if p < 2:
         return empty("fewer than two items with variance: there is no structure to analyse")
 
-    if covariance is None:
-        correlation = correlation_of(complete[:, kept])
+    correlation_notes = list(correlation_notes)
+    if supplied is None:
+        correlation = correlation_all[np.ix_(kept, kept)]
+        if not np.isfinite(correlation).all():
+            return empty("some item pairs have no respondents in common: the correlation matrix is incomplete")
     else:
-        kept_cov = covariance.cov[np.ix_(kept, kept)]
-        scale = 1.0 / np.sqrt(np.diag(kept_cov))
-        correlation = kept_cov * np.outer(scale, scale)
-        np.clip(correlation, -1, 1, out=correlation)  # as numpy.corrcoef does
-        np.fill_diagonal(correlation, 1.0)
+        from .polychoric_matrix import smoothed_if_needed
+
+        correlation, smoothing = smoothed_if_needed(supplied[np.ix_(kept, kept)])
+        if smoothing is not None:
+            correlation_notes.append(smoothing)
     sampling = kmo(correlation)
     sphericity = bartlett_sphericity(correlation, n)
     notes.extend(sampling.notes)
     notes.extend(sphericity.notes)
     if sampling.overall is not None and sampling.overall < MIN_KMO:
-        notes.append(f"overall KMO {_say(sampling.overall)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
+        kmo_text, kmo_cut = _say_against(sampling.overall, MIN_KMO)
+        notes.append(f"overall KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
                      "the correlations may be too weak for factor analysis")
     for name, value in zip(items, sampling.per_item):
         if np.isfinite(value) and value < MIN_KMO:
-            flags.append(StructureFlag(name, "low-kmo", f"item KMO {_say(value)} is below {_say(MIN_KMO)} (Kaiser, 1974): "
+            kmo_text, kmo_cut = _say_against(value, MIN_KMO)
+            flags.append(StructureFlag(name, "low-kmo", f"item KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
                                        "it shares little with the other items", item_scale[name]))
     if sphericity.p is not None and sphericity.p >= 0.05:
         notes.append("Bartlett's test does not reject uncorrelated items (p >= .05): factors may be spurious")
@@ -484,10 +534,64 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         per_scale[scale] = summary
         if summary.eigen_ratio is not None and summary.eigen_ratio < MIN_EIGEN_RATIO:
             flags.append(StructureFlag(None, "several-dimensions",
-                                       f"first-to-second eigenvalue ratio {summary.eigen_ratio:.1f} is below "
-                                       f"{MIN_EIGEN_RATIO:g}: the items may measure more than one thing", scale))
+                                       "first-to-second eigenvalue ratio {} is below {}: the items may measure more "
+                                       "than one thing".format(*_say_against(summary.eigen_ratio, MIN_EIGEN_RATIO,
+                                                                             "num", 1)), scale))
     return StructureResult(items=items, item_scale={name: item_scale[name] for name in items}, n_used=n,
                            n_set_aside=set_aside, kmo=sampling, bartlett=sphericity, parallel=parallel,
                            solution=solution, n_factors_rule=rule, factor_for_scale=mapping,
                            unidimensionality=per_scale, flags=tuple(flags), notes=tuple(notes),
-                           min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped))
+                           min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped),
+                           correlation=correlation, correlation_type=correlation_type,
+                           correlation_notes=tuple(correlation_notes), missing=handling)
+
+
+def _correlation_of_covariance(cov: np.ndarray, constant: np.ndarray) -> np.ndarray:
+    """Correlations of the items with variance (NaN for the others) from a covariance matrix."""
+    p = cov.shape[0]
+    correlation = np.full((p, p), np.nan)
+    kept = ~constant
+    if kept.any():
+        kept_cov = cov[np.ix_(kept, kept)]
+        scale = 1.0 / np.sqrt(np.diag(kept_cov))
+        part = kept_cov * np.outer(scale, scale)
+        np.clip(part, -1, 1, out=part)  # as numpy.corrcoef does
+        np.fill_diagonal(part, 1.0)
+        correlation[np.ix_(kept, kept)] = part
+    return correlation
+
+
+def _correlation_by_method(keyed: np.ndarray, missing: str,
+                           item_names: Sequence[str]) -> tuple[int, int, np.ndarray, np.ndarray, Any]:
+    """(n used, respondents set aside, correlation matrix, items without variance, MissingHandling)."""
+    from .em import em_means_and_covariance
+    from .item_covariance import correlation_from_cov, item_covariance
+    from .missing import check_method, missing_handling
+    from .missing_patterns import PatternSummary
+
+    check_method(missing)
+    summary = PatternSummary.from_values(keyed)
+    p = keyed.shape[1]
+    estimate = None
+    if missing == "listwise":
+        complete, set_aside = complete_cases(keyed)
+        n = complete.shape[0]
+        constant = np.ptp(complete, axis=0) == 0 if n else np.ones(p, dtype=bool)
+        correlation = np.full((p, p), np.nan)
+        if n:
+            kept = ~constant
+            correlation[np.ix_(kept, kept)] = correlation_of(complete[:, kept]) if kept.sum() > 1 else 1.0
+    else:
+        if missing == "em":
+            estimate = em_means_and_covariance(summary)
+            cov, n = estimate.cov, summary.n_used
+        else:
+            stats = item_covariance(keyed, pairwise=True)
+            cov, n = stats.cov, stats.n_used
+        set_aside = keyed.shape[0] - n if missing == "em" else 0
+        variances = np.diag(cov)
+        constant = ~(variances > 0)
+        correlation = correlation_from_cov(cov)
+    handling = missing_handling(summary, missing, n_used=n, estimate=estimate, scope="file",
+                                item_names=tuple(item_names))
+    return int(n), int(set_aside), correlation, constant, handling

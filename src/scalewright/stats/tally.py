@@ -125,14 +125,14 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
     if ordered is None:
         ordered = (order is not None or bool(labels) or pd.api.types.is_numeric_dtype(series.dtype)
                    or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
-    return tally_from_counts({str(c): int(n) for c, n in counts.items()}, n_total=len(series),
-                             n_missing=int(missing_mask.sum()), natural=natural, order=order, labels=labels,
-                             ordered=bool(ordered), min_cell=min_cell, column=column)
+    return tally_from_category_counts({str(c): int(n) for c, n in counts.items()}, n_total=len(series),
+                                      n_missing=int(missing_mask.sum()), natural=natural, order=order,
+                                      labels=labels, ordered=bool(ordered), min_cell=min_cell, column=column)
 
 
-def tally_from_counts(counts: Mapping[str, int], *, n_total: int, n_missing: int, natural: Sequence[str],
-                      order: Sequence | None = None, labels: Mapping | None = None, ordered: bool,
-                      min_cell: int = 5, column: str) -> Tally:
+def tally_from_category_counts(counts: Mapping[str, int], *, n_total: int, n_missing: int, natural: Sequence[str],
+                               order: Sequence | None = None, labels: Mapping | None = None, ordered: bool,
+                               min_cell: int = 5, column: str) -> Tally:
     """:func:`tally` from the count of each category (named as :func:`~.subgroups.level_name` names it),
     the row and missing counts and the categories' natural order: the form that merges across blocks
     of a file and Dask partitions (:class:`scalewright.summaries.CategoryCounts`)."""
@@ -152,6 +152,22 @@ def tally_from_counts(counts: Mapping[str, int], *, n_total: int, n_missing: int
     else:
         categories = list(natural)
     exact = {c: int(counts.get(c, 0)) for c in categories}
+    return tally_from_counts(exact, n_total=n_total, n_missing=n_missing, column=column,
+                             ordered=bool(ordered), labels=label_of, min_cell=min_cell)
+
+
+def tally_from_counts(exact: Mapping[str, int], *, n_total: int, n_missing: int, column: str, ordered: bool,
+                      labels: Mapping[str, str] | None = None, min_cell: int = 5) -> Tally:
+    """The :class:`Tally` of counts already made: ``exact`` maps each category name, in order, to its count.
+
+    What :func:`tally` returns once it has counted; callers that count otherwise (every answer code of
+    every item in one pass, :func:`scalewright.stats.coded.code_counts`) get the same result from here.
+    """
+    if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
+        raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
+    exact = {str(c): int(v) for c, v in exact.items()}
+    categories = list(exact)
+    label_of = dict(labels or {})
     hidden, notes = _suppression(exact, min_cell, column)
     n_valid = n_total - n_missing
     rows = []
@@ -411,6 +427,19 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
         raise UsageError(f"{len(names)} item names for {matrix.shape[1]} item columns")
     levels = [int(v) for v in levels]
     label_map = {int(k): str(v) for k, v in (labels or {}).items()}
+    answered = ~np.isnan(matrix)
+    counts = np.stack([np.count_nonzero(matrix == v, axis=0) for v in levels]) if levels else None
+    if counts is not None and (counts.sum(axis=0) == answered.sum(axis=0)).all():
+        # every answer is one of the levels: one comparison per level over the whole matrix, not a Python
+        # call per answer; the same tallies as the per-column route below
+        n_answered = answered.sum(axis=0)
+        level_labels = {str(v): label_map.get(v, str(v)) for v in levels}
+        tallies = tuple(tally_from_counts({str(v): int(counts[i, j]) for i, v in enumerate(levels)},
+                                          n_total=matrix.shape[0], n_missing=int(matrix.shape[0] - n_answered[j]),
+                                          column=name, ordered=True, labels=level_labels, min_cell=min_cell)
+                        for j, name in enumerate(names))
+        return AnswerDistribution(items=tallies, levels=tuple(str(v) for v in levels),
+                                  labels=tuple(label_map.get(v, str(v)) for v in levels))
     tallies = tuple(tally(pd.Series(matrix[:, j], name=name), order=levels,
                           labels={v: label_map.get(v, str(v)) for v in levels}, ordered=True, min_cell=min_cell)
                     for j, name in enumerate(names))
@@ -419,4 +448,4 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
 
 
 __all__ = ["AnswerDistribution", "CategoryCount", "CategoryFit", "FitResult", "PROPORTION_TOLERANCE", "Tally",
-           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_counts"]
+           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_category_counts", "tally_from_counts"]

@@ -1,0 +1,63 @@
+"""Measurement invariance of every scale (and the whole file) across the levels of subgroup columns."""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import replace
+from typing import Any
+
+from ..concurrency import one_blas_thread
+from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
+
+
+def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],
+                       min_group: int = 30, pairwise: bool = False, strict: bool = False,
+                       confidence_level: float = 0.95, whole_file: bool = True) -> ConfirmAnalysis:
+    """``analysis`` with ``invariance.<column>.<scale>`` filled in.
+
+    A level is left out (and named) when it has fewer than ``min_group`` respondents, or fewer
+    respondents with usable answers than the free parameters of one group's configural model.
+    """
+    from ..concurrency import map_in_threads
+    from ..stats.cfa_model import factor_model, scale_file_structure
+    from ..stats.invariance import measurement_invariance
+    from ..stats.subgroups import split_by
+
+    memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
+    targets: dict[str, Any] = {name: factor_model({name: items}) for name, items in memberships.items()}
+    if whole_file and len(memberships) >= 2:
+        membership, orthogonal, _ = scale_file_structure(memberships)
+        targets[WHOLE_FILE] = factor_model(membership, orthogonal=orthogonal)
+    results: dict[str, dict[str, Any]] = {}
+    for column in by:
+        split = split_by(responses.column(column), min_size=min_group, column=column)
+
+        def one(name: str, split: Any = split, column: str = column) -> Any:
+            base = targets[name]
+            p = len(base.items)
+            per_group = base.n_parameters + p  # loadings, covariances, residuals + intercepts
+            covs, ns, means, names = [], [], [], []
+            left_out = dict(split.too_small)
+            for level, rows in split.levels.items():
+                cov = keyed_covariance(spec, responses, base.items, pairwise=pairwise, rows=rows)
+                if cov.n_used < max(min_group, per_group):
+                    left_out[level] = int(cov.n_used)
+                    continue
+                covs.append(cov.cov)
+                ns.append(cov.n_used)
+                means.append(cov.means)
+                names.append(level)
+            # the search for partial invariance refits the model once per item and round: per scale only
+            return measurement_invariance(base, covs, ns, means, names, name=name, column=column, strict=strict,
+                                          left_out=left_out, confidence_level=confidence_level,
+                                          partial_search=name != WHOLE_FILE)
+
+        names = list(targets)
+        with one_blas_thread():
+            results[column] = dict(zip(names, map_in_threads(one, names)))
+    return replace(analysis, invariance=results)
+
+
+def invariance_by_scale(spec: Any, responses: Any, *, by: Sequence[str], min_group: int = 30) -> dict[str, Any]:
+    """``column -> scale -> InvarianceResult`` of each scale's one-factor model (what ``compare`` shows)."""
+    empty = ConfirmAnalysis(models={}, observed_correlations={}, missing_handling="listwise", n_rows=responses.n)
+    return analyse_invariance(spec, responses, empty, by=by, min_group=min_group, whole_file=False).invariance

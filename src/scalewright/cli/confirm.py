@@ -1,0 +1,53 @@
+"""`scalewright confirm`: the scale file's structure as confirmatory factor models; --by for invariance."""
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, scales_option
+
+
+@click.command("confirm", epilog=("Examples:\n\n\b\n"
+                  "  scalewright confirm survey.csv --scales survey.yaml\n"
+                  "  scalewright confirm survey.csv -s survey.yaml --by shift --strict\n"))
+@data_argument
+@scales_option
+@by_option
+@click.option("--pairwise", is_flag=True,
+              help="Pairwise instead of listwise deletion: each covariance uses the rows answering both items.")
+@click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
+              show_default=True, help="Coverage of the intervals of omega and the factor correlations.")
+@click.option("--min-group", type=click.IntRange(min=3), default=30, show_default=True,
+              help="With --by: subgroup levels with fewer respondents are named but left out.")
+@click.option("--strict", "with_strict", is_flag=True,
+              help="With --by: also test strict invariance (equal residual variances).")
+@input_options
+@output_options
+def confirm(data: Path, scales: Path, by: tuple[str, ...], pairwise: bool, confidence_level: float,
+            min_group: int, with_strict: bool, lenient: bool, exclude: Path | None, fmt: str | None,
+            out: Path | None, decimals: int) -> None:
+    """Check that the scale file's structure holds: confirmatory factor models fitted by maximum likelihood.
+
+    One model per scale (one factor) and one of the whole file (each scale a factor, factor correlations
+    free; a total with subscales becomes a bifactor model). Per model: chi-square, CFI, TLI, RMSEA with its
+    90% interval, SRMR, AIC, BIC, standardized loadings, factor correlations, residual correlations,
+    cross-loading hints, and omega with its interval. With --by COLUMN: measurement invariance across the
+    column's levels (configural, metric, scalar, optionally strict), only when a column is given here.
+    """
+    from ..analyses.confirm import analyse_confirm
+    from ..present.confirm import confirm_tables
+
+    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    analysis = analyse_confirm(inputs.spec, inputs.responses, pairwise=pairwise, confidence_level=confidence_level)
+    if by:
+        from ..analyses.invariance import analyse_invariance
+
+        analysis = analyse_invariance(inputs.spec, inputs.responses, analysis, by=by, min_group=min_group,
+                                      pairwise=pairwise, strict=with_strict)
+    body = {**analysis.to_dict(), "reading": inputs.responses.reading_summary()}
+    options = {"by": list(by), "missing": "pairwise" if pairwise else "listwise",
+               "confidence_level": confidence_level, "min_group": min_group, "strict": with_strict,
+               "estimator": "ml"}
+    emit(command="confirm", inputs=inputs, body=body, tables=confirm_tables(analysis), fmt=fmt, out=out,
+         decimals=decimals, options=options)

@@ -1,0 +1,82 @@
+"""Drawing many figures at once: each figure is drawn and saved by one of a few forked worker processes.
+
+Drawing a figure is pure-Python work inside matplotlib (text layout, tick placement), so threads would take
+turns under the interpreter lock; forked processes inherit the results to draw and matplotlib already
+imported, with its fonts loaded, and need nothing pickled but an index.
+"""
+from __future__ import annotations
+
+import multiprocessing
+import sys
+import warnings
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from ..concurrency import RECORDING_WARNINGS, worker_count
+
+#: below this many figures the start of the worker processes costs more than it saves
+MIN_FIGURES_FOR_WORKERS = 4
+
+
+@dataclass(frozen=True)
+class FigureJob:
+    """One figure: ``draw()`` returns its Axes (or an array of them); it is saved as ``stem.<format>``."""
+
+    draw: Callable[[], Any]
+    stem: Path
+
+
+#: the jobs of the current :func:`render_figures` call, read by the forked workers (set before they start)
+_JOBS: list[tuple[FigureJob, tuple[str, ...], tuple[Path, ...]]] = []
+
+
+def _first_axes(drawn: Any) -> Any:
+    return drawn.flat[0] if hasattr(drawn, "flat") else drawn
+
+
+def _render(index: int) -> int:
+    from .figure_files import save_figure
+
+    job, formats, inputs = _JOBS[index]
+    save_figure(_first_axes(job.draw()).figure, job.stem, formats=formats, inputs=inputs)
+    return index
+
+
+def _can_fork() -> bool:
+    return sys.platform.startswith("linux") and "fork" in multiprocessing.get_all_start_methods()
+
+
+def render_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",), inputs: Iterable = ()) -> None:
+    """Draw and save every job, in forked workers when there are several cores and enough figures.
+
+    The files are the same as a serial loop writes (each figure is drawn by one process from the same
+    results); errors raised in a worker are raised here.
+    """
+    from .figure_files import use_agg
+
+    global _JOBS
+    use_agg()
+    import matplotlib.pyplot  # noqa: F401  (imported once here, so every worker inherits it)
+    from matplotlib import font_manager
+
+    font_manager.findfont(font_manager.FontProperties())  # the font cache, loaded once before the fork
+    prepared = [(job, tuple(formats), tuple(Path(p) for p in inputs if p is not None)) for job in jobs]
+    workers = min(worker_count(), len(prepared))
+    _JOBS = prepared
+    try:
+        if workers <= 1 or len(prepared) < MIN_FIGURES_FOR_WORKERS or not _can_fork():
+            for index in range(len(prepared)):
+                _render(index)
+            return
+        from concurrent.futures import ProcessPoolExecutor
+
+        with RECORDING_WARNINGS, warnings.catch_warnings():
+            # Python 3.12+ warns that forking a process with threads (pyarrow's pool) may deadlock the child;
+            # the workers only draw with matplotlib and write files, they touch no lock of those threads
+            warnings.filterwarnings("ignore", message=r".*multi-threaded, use of fork\(\)", category=DeprecationWarning)
+            with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
+                list(pool.map(_render, range(len(prepared))))
+    finally:
+        _JOBS = []
