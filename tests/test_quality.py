@@ -213,7 +213,7 @@ def test_screen_flags_planted_records_and_explains_the_contract():
                                 thresholds=ScreenThresholds(duplicate_min_items=10), durations=durations)
     doc = result.to_dict()
     first = doc["respondents"][0]
-    assert {"id", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_p", "even_odd", "person_total_r",
+    assert {"id", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_pvalue", "even_odd", "person_total_r",
             "missing"} <= set(first)
     assert "long-run" in first["flags"] and first["flagged"]
     assert "duplicate-answers" in doc["respondents"][1]["flags"]

@@ -47,4 +47,4 @@ def test_command_and_report_give_the_same_random_results(tmp_path: Path):
     assert structure["parallel"]["random"] == pytest.approx(in_report["parallel"]["random"], rel=0, abs=0)
     shape = _json(["shape", str(data), "-s", str(scales), "--format", "json"])
     for name, result in report._shape(spec, responses, options, None).items():
-        assert shape["scales"][name]["all"]["dip_p"] == result.overall.dip_p, name
+        assert shape["scales"][name]["all"]["dip_pvalue"] == result.overall.dip_p, name

@@ -250,12 +250,12 @@ def test_summary_carries_the_contract_keys():
     s = describe_scores(rng.integers(1, 6, size=120).astype(float), attainable=np.arange(1, 6.0))
     d = s.to_dict()
     for key in ("n", "mean", "sd", "median", "q1", "q3", "min", "max", "iqr", "skewness", "skewness_se", "kurtosis",
-                "kurtosis_se", "bimodality_coefficient", "dip_p", "percentiles", "shape", "evidence", "modes",
+                "kurtosis_se", "bimodality_coefficient", "dip_pvalue", "percentiles", "shape", "evidence", "modes",
                 "uniform_gof", "floor_pct", "ceiling_pct", "floor_effect", "ceiling_effect", "quantile_method",
                 "notes"):
         assert key in d
     assert set(d["percentiles"]) == {"5", "10", "25", "50", "75", "90", "95"}
-    assert set(d["uniform_gof"]) == {"chi2", "df", "p", "w"}
+    assert set(d["uniform_gof"]) == {"chi2", "df", "pvalue", "w"}
     assert d["shape"] in SHAPES and d["evidence"]
     json.dumps(d, allow_nan=False)
 

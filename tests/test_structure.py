@@ -496,7 +496,7 @@ def test_to_dict_carries_the_contract_keys():
     for key in ("kmo", "kmo_items", "bartlett", "parallel", "loadings", "factor_correlations",
                 "factor_for_scale", "unidimensionality", "flags", "notes"):
         assert key in document
-    assert set(document["bartlett"]) == {"chi2", "df", "p"}
+    assert set(document["bartlett"]) == {"chi2", "df", "pvalue"}
     assert {"suggested_factors", "observed", "random", "random_mean", "criterion"} <= set(document["parallel"])
     assert set(document["loadings"]) == set(names) and len(document["loadings"]["wl1"]) == document["n_factors"]
     assert {"eigen_ratio", "variance_one_factor"} <= set(document["unidimensionality"]["wl"])

@@ -81,7 +81,7 @@ def test_structure_finds_the_factors_and_puts_items_with_their_scales(tmp_path, 
     assert set(document["unidimensionality"]) == {"workload", "support", "voice", "climate"}
     assert document["unidimensionality"]["climate"]["eigen_ratio"] < 3
     assert any(f["code"] == "several-dimensions" and f["scale"] == "climate" for f in document["flags"])
-    assert 0 < document["kmo"] <= 1 and document["bartlett"]["p"] < 0.001
+    assert 0 < document["kmo"] <= 1 and document["bartlett"]["pvalue"] < 0.001
 
 
 def test_structure_flags_an_item_filed_under_the_wrong_scale(tmp_path, capsys):

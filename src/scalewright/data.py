@@ -281,6 +281,8 @@ class Responses:
     missing_texts: tuple[str, ...] = ()
     #: every column name in the order the data file has them (items in questionnaire order, for longstring)
     file_columns: tuple[str, ...] = ()
+    #: survey weights (:class:`scalewright.weights.SurveyWeights`), or None when the estimates are unweighted
+    weights: Any = None
 
     @property
     def n(self) -> int:
@@ -326,7 +328,8 @@ class Responses:
             refused_total=self.refused_total, refused_by_column=self.refused_by_column,
             missing_code_by_column=self.missing_code_by_column, blank_by_column=self.blank_by_column,
             texts_by_column=self.texts_by_column, missing_texts_by_column=self.missing_texts_by_column,
-            missing_texts=self.missing_texts, file_columns=self.file_columns)
+            missing_texts=self.missing_texts, file_columns=self.file_columns,
+            weights=None if self.weights is None else self.weights.subset(positions))
 
     def items_in_file_order(self) -> tuple[str, ...]:
         """The item names in the order their columns stand in the data file."""

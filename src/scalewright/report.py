@@ -170,7 +170,7 @@ def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
     from .analyses.confirm import analyse_confirm
     from .analyses.invariance import analyse_invariance
 
-    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level)
+    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level, missing=options.missing)
     if options.by:
         # per scale only: the verdicts stand beside each scale's mean comparison (the whole-file multi-group
         # models are for `confirm --by`)

@@ -4,7 +4,7 @@ from __future__ import annotations
 import dataclasses
 import math
 from collections.abc import Mapping
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 
@@ -48,7 +48,14 @@ def to_jsonable(value: Any) -> Any:
 
 
 class ResultMixin:
-    """Default ``to_dict`` for frozen result dataclasses: every field, JSON-ready."""
+    """Default ``to_dict`` for frozen result dataclasses: every field, JSON-ready.
+
+    ``JSON_KEYS`` renames a field in the JSON where the contract's vocabulary differs from the short name
+    used in code (p-values are ``pvalue`` in the JSON, see CHANGES.md).
+    """
+
+    JSON_KEYS: ClassVar[Mapping[str, str]] = {}
 
     def to_dict(self) -> dict[str, Any]:
-        return {f.name: to_jsonable(getattr(self, f.name)) for f in dataclasses.fields(self)}  # type: ignore[arg-type]
+        return {self.JSON_KEYS.get(f.name, f.name): to_jsonable(getattr(self, f.name))
+                for f in dataclasses.fields(self)}  # type: ignore[arg-type]

@@ -20,7 +20,7 @@ from .limits import MAX_ANSWER_SPAN, MAX_ANSWER_VALUE, MAX_MISSING_CODE, MAX_YAM
 from .yaml_guard import ShapeProblem, check_yaml_shape
 
 SCORE_METHODS = ("mean", "sum")
-TOP_KEYS = ("version", "title", "id_column", "groups", "missing_texts", "response", "scales")
+TOP_KEYS = ("version", "title", "id_column", "groups", "weight", "missing_texts", "response", "scales")
 RESPONSE_KEYS = ("min", "max", "labels", "missing_codes", "missing_texts")
 #: texts read as "no answer" unless the scale file lists its own (``missing_texts``); matched as labels are
 DEFAULT_MISSING_TEXTS = ("NA", "N/A", "#N/A")
@@ -131,6 +131,8 @@ class ScaleSpec:
     #: group column -> {code as written in the data: level name}, for ``{column: {1: woman, 2: man}}``;
     #: the names (in the order listed) are also in ``group_levels``
     group_codes: Mapping[str, Mapping[str, str]] = field(default_factory=dict)
+    #: the column of survey weights (``weight:``), or None
+    weight: str | None = None
 
     @property
     def items(self) -> tuple[str, ...]:
@@ -555,6 +557,7 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
     id_column = checker.text(keys["id_column"][1], "id_column") if "id_column" in keys else None
     group_codes: dict[str, dict[str, str]] = {}
     groups, group_levels = _groups(checker, keys["groups"][1], group_codes) if "groups" in keys else ([], {})
+    weight = checker.text(keys["weight"][1], "weight") if "weight" in keys else None
     checker.top_response_given = "response" in keys
     if "missing_texts" in keys:
         checker.top_missing_texts = checker.text_values(keys["missing_texts"][1], "missing_texts") or ()
@@ -580,7 +583,7 @@ def check_spec(path: str | Path) -> tuple[ScaleSpec | None, list[Problem]]:
                      else checker.top_missing_texts,
                      group_codes=MappingProxyType({c: MappingProxyType(m) for c, m in group_codes.items()}),
                      response=base or next(iter(scales.values())).response,
-                     scales=MappingProxyType(scales), path=path_text, version=version)
+                     scales=MappingProxyType(scales), path=path_text, version=version, weight=weight)
     return spec, []
 
 
@@ -679,6 +682,8 @@ def _check_across_scales(checker: _Checker, scales: dict[str, Scale], id_column:
             formats.setdefault(item, (scale.name, scale.response))
     special = {id_column: "id_column"} if id_column else {}
     special.update({group: "groups" for group in groups})
+    if "weight" in keys and isinstance(keys["weight"][1], yaml.ScalarNode):
+        special[str(keys["weight"][1].value).strip()] = "weight"
     for item, (scale_name, _) in formats.items():
         if item in special:
             checker.problems.append(Problem(file=checker.path, line=scales[scale_name].line,

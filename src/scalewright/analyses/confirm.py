@@ -13,6 +13,18 @@ from ..concurrency import one_blas_thread
 WHOLE_FILE = "all"
 
 
+def _keying(spec: Any, items: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Lows, highs and reverse mask of ``items``, each keyed as the first scale listing it."""
+    owner = {}
+    for scale in spec.scales.values():
+        for item in scale.items:
+            owner.setdefault(item, scale)
+    lows = np.array([owner[item].response.min for item in items], dtype=np.float64)
+    highs = np.array([owner[item].response.max for item in items], dtype=np.float64)
+    reversed_mask = np.array([owner[item].is_reversed(item) for item in items], dtype=bool)
+    return lows, highs, reversed_mask
+
+
 def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwise: bool = False,
                      rows: np.ndarray | None = None) -> Any:
     """Means and covariances of the keyed ``items`` (each keyed as the first scale listing it), as
@@ -21,17 +33,10 @@ def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwis
     Integer answers go through the exact one-byte route (reverse keying only flips the sign of an item's
     covariances and turns its mean), others through the float route.
     """
-    from ..scoring import reverse_key
     from ..stats.coded import CodedAnswers, listwise_covariance, pairwise_covariance
     from ..stats.item_covariance import ItemCovariance, item_covariance
 
-    owner = {}
-    for scale in spec.scales.values():
-        for item in scale.items:
-            owner.setdefault(item, scale)
-    lows = np.array([owner[item].response.min for item in items], dtype=np.float64)
-    highs = np.array([owner[item].response.max for item in items], dtype=np.float64)
-    reversed_mask = np.array([owner[item].is_reversed(item) for item in items], dtype=bool)
+    lows, highs, reversed_mask = _keying(spec, items)
     codes = responses.codes(list(items))
     if codes is not None:
         coded = CodedAnswers(codes if rows is None else codes[rows])
@@ -42,12 +47,94 @@ def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwis
         return ItemCovariance(cov=raw.cov * np.outer(sign, sign), means=means, n_used=raw.n_used,
                               n_rows=raw.n_rows, n_complete=raw.n_complete, pair_counts=raw.pair_counts,
                               pairwise=raw.pairwise)
+    return item_covariance(_keyed_matrix(spec, responses, items, rows), pairwise=pairwise)
+
+
+def _keyed_matrix(spec: Any, responses: Any, items: Sequence[str], rows: np.ndarray | None = None) -> np.ndarray:
+    from ..scoring import reverse_key
+
+    lows, highs, reversed_mask = _keying(spec, items)
     matrix = responses.matrix(list(items))
     if rows is not None:
         matrix = matrix[rows]
     for position in np.flatnonzero(reversed_mask):
         matrix[:, position] = reverse_key(matrix[:, position], lows[position], highs[position])
-    return item_covariance(matrix, pairwise=pairwise)
+    return matrix
+
+
+def pattern_summary(spec: Any, responses: Any, items: Sequence[str]) -> tuple[Any, bool]:
+    """:class:`~scalewright.stats.missing_patterns.PatternSummary` of ``items`` (of the one-byte codes when
+    there are codes, else of the keyed answers) and whether it is of the codes."""
+    from ..stats.missing_patterns import PatternSummary
+
+    codes = responses.codes(list(items))
+    if codes is not None:
+        return PatternSummary.from_codes(np.asarray(codes)), True
+    return PatternSummary.from_values(_keyed_matrix(spec, responses, items)), False
+
+
+@dataclass(frozen=True)
+class ModelInput:
+    """What one model is fitted to: the matrix, its n, DWLS weights (ordinal only) and the missing block."""
+
+    matrix: np.ndarray
+    n: int
+    weights: np.ndarray | None
+    missing: Any
+
+
+def model_input(spec: Any, responses: Any, items: Sequence[str], *, missing: str = "listwise",
+                ordinal: bool = False, em_items: Sequence[str] | None = None, scope: str = "scale") -> ModelInput:
+    """The matrix a model of ``items`` is fitted to, by the missing-answer method.
+
+    ``em``: the EM covariance (Dempster, Laird & Rubin 1977) of ``em_items`` (default ``items``; every item
+    of the file for the whole-file model), cut to ``items``, with n = respondents who answered at least one
+    of ``em_items``. With nothing missing the EM fixed point is the complete-data estimate, and the listwise
+    matrix is used so both agree exactly (its n - 1 divisor instead of n is the one difference EM would add).
+    ``ordinal``: the keyed polychoric matrix with DWLS weights 1/SE^2 (listwise or pairwise only).
+    """
+    from ..errors import UsageError
+    from ..stats.em import em_means_and_covariance
+    from ..stats.missing import check_method, keyed_estimate, missing_handling
+
+    check_method(missing)
+    items = list(items)
+    pool = list(em_items) if em_items is not None else items
+    summary, from_codes = pattern_summary(spec, responses, pool)
+    if ordinal:
+        if missing == "em":
+            raise UsageError("--ordinal works with --missing listwise or pairwise: the polychoric correlations are "
+                             "estimated from the answer tables, not by EM")
+        from .ordinal import dwls_inputs
+
+        _, _, reversed_mask = _keying(spec, items)
+        corr, weights, n_used, _ = dwls_inputs(responses, items, [i for i, r in zip(items, reversed_mask) if r],
+                                               pairwise=missing == "pairwise")
+        # the unit diagonal carries no information and has no SE (weight 0), but with weight 0 the residual
+        # variances are left free of any equation. Each residual variance enters only its own diagonal cell,
+        # so ANY positive weight there makes the fit set it to 1 - common variance exactly and leaves the
+        # off-diagonal (DWLS) solution unchanged: the usual DWLS on correlations, with a unit implied diagonal
+        weights = np.array(weights, dtype=np.float64)
+        off = weights[~np.eye(len(items), dtype=bool)]
+        np.fill_diagonal(weights, float(off.max()) if off.size and off.max() > 0 else 1.0)
+        handling = missing_handling(summary, missing, n_used=n_used, scope=scope, item_names=tuple(pool))
+        return ModelInput(matrix=corr, n=int(n_used), weights=weights, missing=handling)
+    estimate = None
+    if missing == "em" and summary.anything_missing:
+        estimate = em_means_and_covariance(summary)
+        lows, highs, reversed_mask = _keying(spec, pool)
+        _, cov_all = keyed_estimate(estimate, lows=lows, highs=highs, reversed_mask=reversed_mask,
+                                    from_codes=from_codes)
+        where = [pool.index(item) for item in items]
+        cov, n_used = cov_all[np.ix_(where, where)], summary.n_used
+    else:
+        stats = keyed_covariance(spec, responses, items, pairwise=missing == "pairwise")
+        cov, n_used = stats.cov, stats.n_used
+        if missing == "em":
+            n_used = summary.n_used
+    handling = missing_handling(summary, missing, n_used=n_used, estimate=estimate, scope=scope,
+                                item_names=tuple(pool))
+    return ModelInput(matrix=np.asarray(cov, dtype=np.float64), n=int(n_used), weights=None, missing=handling)
 
 
 @dataclass(frozen=True)
@@ -59,13 +146,25 @@ class ConfirmAnalysis:
     missing_handling: str
     n_rows: int
     invariance: dict[str, Any] = field(default_factory=dict)
+    estimator: str = "ml"
+    correlation_type: str = "covariance"
+    missing_by_model: dict[str, Any] = field(default_factory=dict)
+    notes: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         from ..results import to_jsonable
 
-        out: dict[str, Any] = {"models": {name: model.to_dict() for name, model in self.models.items()},
+        models = {}
+        for name, model in self.models.items():
+            models[name] = model.to_dict()
+            if name in self.missing_by_model:
+                models[name].update(self.missing_by_model[name].to_dict())
+                models[name]["missing_notes"] = self.missing_by_model[name].note_dicts
+        out: dict[str, Any] = {"models": models,
                                "observed_score_correlations": to_jsonable(self.observed_correlations),
-                               "missing": self.missing_handling}
+                               "missing": self.missing_handling, "estimator": self.estimator,
+                               "correlation_type": self.correlation_type,
+                               "notes": [n.to_dict() for n in self.notes]}
         if self.invariance:
             out["invariance"] = {column: {scale: result.to_dict() for scale, result in by_scale.items()}
                                  for column, by_scale in self.invariance.items()}
@@ -94,37 +193,58 @@ def one_factor_models(spec: Any, responses: Any, *, pairwise: bool = False) -> d
 
 
 def analyse_confirm(spec: Any, responses: Any, *, pairwise: bool = False, confidence_level: float = 0.95,
-                    scales: Sequence[str] | None = None, whole_file: bool = True) -> ConfirmAnalysis:
-    """Fit the one-factor model of each scale and the whole-file model (correlated factors or bifactor)."""
+                    scales: Sequence[str] | None = None, whole_file: bool = True, missing: str | None = None,
+                    ordinal: bool = False) -> ConfirmAnalysis:
+    """Fit the one-factor model of each scale and the whole-file model (correlated factors or bifactor).
+
+    ``missing``: listwise, pairwise or em (default: pairwise if ``pairwise`` else listwise). ``ordinal``:
+    fit by diagonally weighted least squares on the polychoric correlations (Muthen 1984).
+    """
+    method = missing or ("pairwise" if pairwise else "listwise")
     with one_blas_thread():
-        return _analyse_confirm(spec, responses, pairwise=pairwise, confidence_level=confidence_level,
+        return _analyse_confirm(spec, responses, missing=method, ordinal=ordinal, confidence_level=confidence_level,
                                 names=list(scales or spec.scales), whole_file=whole_file)
 
 
-def _analyse_confirm(spec: Any, responses: Any, *, pairwise: bool, confidence_level: float, names: list[str],
-                     whole_file: bool) -> ConfirmAnalysis:
+def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, confidence_level: float,
+                     names: list[str], whole_file: bool) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
+    from ..notes import note
     from ..stats.cfa_fit import fit
     from ..stats.cfa_model import factor_model, scale_file_structure
     from ..stats.cfa_result import summarize_fit
 
     memberships = {name: tuple(spec.scales[name].items) for name in names}
+    estimator = "dwls" if ordinal else "ml"
 
-    def one_scale(name: str) -> Any:
+    def fitted_to(given: ModelInput, model: Any) -> Any:
+        if ordinal:
+            return fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights)
+        return fit(given.matrix, given.n, model)
+
+    def one_scale(name: str) -> tuple[Any, Any]:
         items = memberships[name]
-        cov = keyed_covariance(spec, responses, items, pairwise=pairwise)
-        fitted = fit(cov.cov, cov.n_used, factor_model({name: items}))
-        return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level)
+        given = model_input(spec, responses, items, missing=missing, ordinal=ordinal, scope="confirm-scale")
+        fitted = fitted_to(given, factor_model({name: items}))
+        return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
 
-    models = dict(zip(names, map_in_threads(one_scale, names)))
+    done = dict(zip(names, map_in_threads(one_scale, names)))
+    models = {name: pair[0] for name, pair in done.items()}
+    missing_by_model = {name: pair[1].missing for name, pair in done.items()}
     observed: dict[str, dict[str, float]] = {}
     if whole_file and len(names) >= 2:
         membership, orthogonal, totals = scale_file_structure(memberships)
         model = factor_model(membership, orthogonal=orthogonal)
-        cov = keyed_covariance(spec, responses, model.items, pairwise=pairwise)
-        fitted = fit(cov.cov, cov.n_used, model)
+        given = model_input(spec, responses, model.items, missing=missing, ordinal=ordinal, scope="confirm-file",
+                            em_items=list(spec.items) if missing == "em" else None)
+        fitted = fitted_to(given, model)
         models[WHOLE_FILE] = summarize_fit(fitted, name=WHOLE_FILE, scales=memberships, totals=totals, hints=True,
                                            confidence_level=confidence_level)
-        observed = observed_score_correlations(cov.cov, model.items, memberships)
-    return ConfirmAnalysis(models=models, observed_correlations=observed,
-                           missing_handling="pairwise" if pairwise else "listwise", n_rows=responses.n)
+        missing_by_model[WHOLE_FILE] = given.missing
+        if not ordinal:  # observed score correlations need the covariances, not the polychoric correlations
+            observed = observed_score_correlations(given.matrix, model.items, memberships)
+    notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing,
+                           n_rows=responses.n, estimator=estimator,
+                           correlation_type="polychoric" if ordinal else "covariance",
+                           missing_by_model=missing_by_model, notes=notes)

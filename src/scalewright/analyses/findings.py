@@ -12,6 +12,8 @@ Each finding is a code with the numbers behind it and the anchor of the section 
 4. Items that hurt a scale: the items flagged ``miskey-suspect`` or ``weak-item``.
 5. Shape: floor and ceiling effects, and scores labelled bimodal.
 6. Data quality: the share of respondents the careless-responding screen flagged.
+7. Structure: each confirmatory model of the whole file whose fit misses any of the conventional cut-offs of
+   Hu & Bentler (1999): CFI >= .95, RMSEA <= .06, SRMR <= .08.
 
 At most :data:`MAX_FINDINGS` findings are kept, in the order above.
 """
@@ -155,6 +157,32 @@ def _quality(results: Any) -> list[Finding]:
     return out
 
 
+def _structure_fit(results: Any) -> list[Finding]:
+    from ..stats.cfa_result import CUTOFFS
+    from .confirm import WHOLE_FILE
+
+    confirm = getattr(results, "confirm", None)
+    if confirm is None:
+        return []
+    out = []
+    for name, model in confirm.models.items():
+        if name != WHOLE_FILE or model.verdict is None:  # the per-scale models are not findings
+            continue
+        if model.verdict.code not in ("fit-mixed", "fit-misses-cutoffs"):
+            continue
+        indices = model.indices
+        missed = tuple(index for index, value, ok in (("CFI", indices.cfi, indices.cfi >= CUTOFFS["cfi"]),
+                                                      ("RMSEA", indices.rmsea, indices.rmsea <= CUTOFFS["rmsea"]),
+                                                      ("SRMR", indices.srmr, indices.srmr <= CUTOFFS["srmr"]))
+                       if not ok)
+        out.append(Finding("model-fit-misses", "confirm",
+                           {"model": name, "structure": model.structure, "cfi": indices.cfi,
+                            "rmsea": indices.rmsea, "srmr": indices.srmr, "missed": missed,
+                            "cfi_min": CUTOFFS["cfi"], "rmsea_max": CUTOFFS["rmsea"],
+                            "srmr_max": CUTOFFS["srmr"]}))
+    return out
+
+
 def select_findings(results: Any) -> tuple[Finding, ...]:
     """The report's findings, in the order of the rules above, at most :data:`MAX_FINDINGS`."""
     found: list[Finding] = []
@@ -168,4 +196,5 @@ def select_findings(results: Any) -> tuple[Finding, ...]:
     found += _items(results)
     found += _shape(results)
     found += _quality(results)
+    found += _structure_fit(results)
     return tuple(found[:MAX_FINDINGS])

@@ -52,6 +52,23 @@ def sheet_option(fn: Callable) -> Callable:
                         help="The sheet to read from a workbook (.xlsx) with several.")(fn)
 
 
+def _remember_weight(ctx: click.Context, _param: click.Parameter, value: str | None) -> None:
+    ctx.meta["scalewright.weight"] = value
+
+
+def chosen_weight() -> str | None:
+    """The ``--weight`` of the running command, or None."""
+    ctx = click.get_current_context(silent=True)
+    return ctx.meta.get("scalewright.weight") if ctx is not None else None
+
+
+def weight_option(fn: Callable) -> Callable:
+    """``--weight COLUMN``, for the commands that give weighted estimates (it wins over the scale file's)."""
+    return click.option("--weight", metavar="COLUMN", expose_value=False, callback=_remember_weight,
+                        help="Column of survey weights (overrides the scale file's `weight`); "
+                             "estimates are then weighted.")(fn)
+
+
 def input_options(fn: Callable) -> Callable:
     fn = sheet_option(fn)
     fn = click.option("--exclude", type=click.Path(dir_okay=False, path_type=Path),
@@ -134,8 +151,34 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
         listing = read_exclusion_list(exclude, id_column=spec.id_column)
         responses, exclusion = exclude_respondents(responses, listing)
         notes.extend(describe(n) for n in exclusion.notes())
+    responses, weight_notes = _with_weights(spec, responses, lenient=lenient)
+    notes.extend(weight_notes)
     return Inputs(spec=spec, responses=responses, info=info, excluded=0 if exclusion is None else exclusion.set_aside,
                   notes=tuple(notes), exclusion=exclusion)
+
+
+def _with_weights(spec: Any, responses: Any, *, lenient: bool) -> tuple[Any, list[str]]:
+    """The responses with their survey weights attached, when the command gives weighted estimates."""
+    from dataclasses import replace
+
+    from ..notes import note
+    from ..present.messages import describe
+    from ..weights import read_weights
+
+    ctx = click.get_current_context(silent=True)
+    weighs = ctx is not None and "scalewright.weight" in ctx.meta
+    column = (ctx.meta.get("scalewright.weight") if weighs else None) or getattr(spec, "weight", None)
+    if column is None:
+        return responses, []
+    if not weighs:
+        return responses, [describe(note("weights-not-used", weight_column=column, command=ctx.info_name if ctx else ""))]
+    weights = read_weights(responses.frame, column, responses.line_numbers, path=responses.path, lenient=lenient)
+    found = [note("weights-approximate-inference", weight_column=column)]
+    if weights.n_zero_weight:
+        found.append(note("weights-zero", weight_column=column, n_zero_weight=weights.n_zero_weight))
+    for kind, count in weights.refused.items():
+        found.append(note("weights-refused", weight_column=column, kind=kind.replace("_", " "), count=count))
+    return replace(responses, weights=weights), [describe(found_note) for found_note in found]
 
 
 def resolve_by(by: Sequence[str], spec: Any, responses: Any = None, *, max_levels: int | None = None) -> tuple[str, ...]:

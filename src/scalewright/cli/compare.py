@@ -15,6 +15,7 @@ from .common import (
     output_options,
     resolve_by,
     scales_option,
+    weight_option,
 )
 
 
@@ -28,6 +29,7 @@ from .common import (
               help="Assume equal variances: Student's t / classic F with Tukey pairs instead of Welch's versions.")
 @click.option("--min-cell", type=click.IntRange(min=1), default=5, show_default=True,
               help="Groups with fewer respondents are shown as '< N' and left out of the tests.")
+@weight_option
 @input_options
 @output_options
 def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_cell: int, lenient: bool,
@@ -60,5 +62,25 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
                        for i, name in enumerate(scored.scales)}}
     ordered = [c for i in range(len(scored.scales)) for column in columns for c in (per_column[column][i],)]
     tables = [*compare_tables(ordered, decimals=decimals), invariance_tables(invariance)[1]]
+    if getattr(inputs.responses, "weights", None) is not None:
+        tables = [*tables, *_weighted(body, inputs, scored, columns, min_cell)]
     emit(command="compare", inputs=inputs, body=body, tables=tables, fmt=fmt,
          out=out, decimals=decimals, options={"by": list(columns), "student": student, "min_cell": min_cell})
+
+
+def _weighted(body, inputs, scored, columns, min_cell) -> list:
+    """Weighted level means and effect sizes beside the unweighted comparison (``...by.<column>.weighted``)."""
+    from ..present.weighted import weighted_compare_table
+    from ..stats.subgroups import split_by
+    from ..stats.weighted_groups import weighted_compare
+
+    weights = inputs.responses.weights
+    tables = []
+    for column in columns:
+        split = split_by(inputs.responses.column(column), min_size=1, column=column)
+        for name, scale_scores in scored.scales.items():
+            result = weighted_compare(scale_scores.scores, split.levels, weights.values, column=column, scale=name,
+                                      weight_column=weights.column, min_cell=min_cell)
+            body["scales"][name]["by"][column]["weighted"] = result.to_dict()
+            tables.append(weighted_compare_table(result))
+    return tables

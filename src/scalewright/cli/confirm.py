@@ -5,7 +5,18 @@ from pathlib import Path
 
 import click
 
-from .common import by_option, data_argument, emit, input_options, load_inputs, output_options, scales_option
+from .common import (
+    by_option,
+    data_argument,
+    emit,
+    input_options,
+    load_inputs,
+    missing_option,
+    output_options,
+    require,
+    resolve_missing,
+    scales_option,
+)
 
 
 @click.command("confirm", epilog=("Examples:\n\n\b\n"
@@ -14,8 +25,10 @@ from .common import by_option, data_argument, emit, input_options, load_inputs, 
 @data_argument
 @scales_option
 @by_option
-@click.option("--pairwise", is_flag=True,
-              help="Pairwise instead of listwise deletion: each covariance uses the rows answering both items.")
+@missing_option
+@click.option("--pairwise", is_flag=True, help="Same as --missing pairwise (kept for existing scripts).")
+@click.option("--ordinal", is_flag=True,
+              help="Treat answers as ordered categories: fit by DWLS on the polychoric correlations.")
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
               show_default=True, help="Coverage of the intervals of omega and the factor correlations.")
 @click.option("--min-group", type=click.IntRange(min=3), default=30, show_default=True,
@@ -24,7 +37,8 @@ from .common import by_option, data_argument, emit, input_options, load_inputs, 
               help="With --by: also test strict invariance (equal residual variances).")
 @input_options
 @output_options
-def confirm(data: Path, scales: Path, by: tuple[str, ...], pairwise: bool, confidence_level: float,
+def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, pairwise: bool, ordinal: bool,
+            confidence_level: float,
             min_group: int, with_strict: bool, lenient: bool, exclude: Path | None, fmt: str | None,
             out: Path | None, decimals: int) -> None:
     """Check that the scale file's structure holds: confirmatory factor models fitted by maximum likelihood.
@@ -34,20 +48,29 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], pairwise: bool, confi
     90% interval, SRMR, AIC, BIC, standardized loadings, factor correlations, residual correlations,
     cross-loading hints, and omega with its interval. With --by COLUMN: measurement invariance across the
     column's levels (configural, metric, scalar, optionally strict), only when a column is given here.
+    --missing em fits each scale to the EM covariances of its own items and the whole-file model to those
+    of every item of the file. --ordinal fits by diagonally weighted least squares on polychoric correlations.
     """
     from ..analyses.confirm import analyse_confirm
     from ..present.confirm import confirm_tables
 
+    method = resolve_missing(missing, pairwise)
+    require(not (ordinal and method == "em"), "--ordinal works with --missing listwise or pairwise, not em: the "
+                                              "polychoric correlations come from the answer tables")
+    require(not (by and (ordinal or method == "em")), "--by (invariance) fits means and covariances by maximum "
+                                                      "likelihood; use it without --ordinal and --missing em")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    analysis = analyse_confirm(inputs.spec, inputs.responses, pairwise=pairwise, confidence_level=confidence_level)
+    analysis = analyse_confirm(inputs.spec, inputs.responses, missing=method, ordinal=ordinal,
+                               confidence_level=confidence_level)
+    pairwise = method == "pairwise"
     if by:
         from ..analyses.invariance import analyse_invariance
 
         analysis = analyse_invariance(inputs.spec, inputs.responses, analysis, by=by, min_group=min_group,
                                       pairwise=pairwise, strict=with_strict)
     body = {**analysis.to_dict(), "reading": inputs.responses.reading_summary()}
-    options = {"by": list(by), "missing": "pairwise" if pairwise else "listwise",
+    options = {"by": list(by), "missing": method, "ordinal": ordinal,
                "confidence_level": confidence_level, "min_group": min_group, "strict": with_strict,
-               "estimator": "ml"}
+               "estimator": analysis.estimator}
     emit(command="confirm", inputs=inputs, body=body, tables=confirm_tables(analysis), fmt=fmt, out=out,
          decimals=decimals, options=options)

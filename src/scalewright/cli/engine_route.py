@@ -72,6 +72,14 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     if route == "memory":
         return None
     spec = load_spec(scales) if scales is not None else _without_scales()
+    from .common import chosen_weight
+
+    weight = chosen_weight() or getattr(spec, "weight", None)
+    if weight:  # weighted estimates (and the note that a command does not weigh) come from the rows
+        if engine in ("stream", "dask"):
+            raise UsageError(f"--engine {engine} works from summaries; survey weights (column {weight!r}) need "
+                             "the rows (use --engine memory)")
+        return None
     plan = make_plan(spec)
     coded = [column for column in getattr(spec, "group_codes", {}) if column in plan.columns]
     if coded:  # the block reader does not turn a group's codes into the level names the scale file gives

@@ -67,6 +67,7 @@ def check_files(data: Path | None, scales: Path, exclude: Path | None, *,
         else:
             findings.append(f"{data}: {responses.n} respondent(s), {len(responses.item_names)} item(s) read")
             findings.extend(f"note: {line}" for line in responses.notes())
+            data_problems = _weight_problems(spec, responses, findings)
             if exclude is not None:
                 try:
                     _, exclusion = exclude_respondents(responses,
@@ -80,6 +81,21 @@ def check_files(data: Path | None, scales: Path, exclude: Path | None, *,
         findings.extend(missing_text_lines(spec))
         findings.append(f"{scales}: {len(spec.scales)} scale(s), {len(spec.items)} item(s)")
     return code, [*problems, *data_problems], findings
+
+
+def _weight_problems(spec, responses, findings: list[str]) -> list[Problem]:
+    """Every bad weight of the scale file's weight column (the commands stop at the first 20)."""
+    if getattr(spec, "weight", None) is None:
+        return []
+    from ..weights import read_weights
+
+    try:
+        weights = read_weights(responses.frame, spec.weight, responses.line_numbers, path=responses.path)
+    except DataError as error:
+        return list(error.problems)
+    if weights.n_zero_weight:
+        findings.append(f"note: {weights.n_zero_weight} row(s) have weight 0 in {spec.weight} (left out of estimates)")
+    return []
 
 
 def missing_text_lines(spec) -> list[str]:

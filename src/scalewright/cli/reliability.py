@@ -17,6 +17,7 @@ from .common import (
     resolve_by,
     resolve_missing,
     scales_option,
+    weight_option,
 )
 from .engine_route import StreamedLevels, dataset_argument, engine_options, first_needing_rows, load_summaries
 
@@ -48,6 +49,7 @@ from .engine_route import StreamedLevels, dataset_argument, engine_options, firs
 @click.option("--low-alpha", type=float, default=0.70, show_default=True, help="Flag scales with alpha below this.")
 @click.option("--excess-alpha", type=float, default=0.95, show_default=True,
               help="Flag scales with alpha above this (items may be near-duplicates).")
+@weight_option
 @input_options
 @engine_options
 @output_options
@@ -107,6 +109,26 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
                "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
-    emit(command="reliability", inputs=inputs, body=body,
-         tables=[*reliability_tables(reports), reliability_beside_table(models)], fmt=fmt, out=out,
+    tables = [*reliability_tables(reports), reliability_beside_table(models)]
+    if getattr(inputs.responses, "weights", None) is not None:
+        tables = [*tables, *_weighted(body, inputs, columns, confidence_level, min_group, thresholds)]
+    emit(command="reliability", inputs=inputs, body=body, tables=tables, fmt=fmt, out=out,
          decimals=decimals, options=options)
+
+
+def _weighted(body, inputs, columns, confidence_level, min_group, thresholds) -> list:
+    """Weighted reliability beside the unweighted (``scales.<name>.weighted``, ``...by.<col>.<level>.weighted``)."""
+    from ..analyses.weighted_reliability import weighted_reliability
+    from ..present.weighted import weighted_reliability_table
+
+    found = weighted_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
+                                 min_group=min_group, thresholds=thresholds)
+    tables = []
+    for name, blocks in found.items():
+        record = body["scales"][name]
+        record["weighted"] = blocks["all"]
+        for column, levels in blocks["by"].items():
+            for level, block in levels.items():
+                record.setdefault("by", {}).setdefault(column, {}).setdefault(level, {})["weighted"] = block
+        tables.append(weighted_reliability_table(name, blocks))
+    return tables

@@ -18,6 +18,7 @@ from .common import (
     load_inputs,
     output_options,
     scales_option,
+    weight_option,
 )
 
 
@@ -30,6 +31,7 @@ from .common import (
               help="Also write a rescaled score beside the raw one, as <scale>__pomp (percent of maximum "
                    "possible, 0-100) or <scale>__z (standard scores in this sample).")
 @click.option("--force", is_flag=True, help="Replace --out if it exists (never an input file).")
+@weight_option
 @input_options
 @output_options
 def score(data: Path, scales: Path, standardize: str | None, force: bool, lenient: bool, exclude: Path | None,
@@ -60,5 +62,20 @@ def score(data: Path, scales: Path, standardize: str | None, force: bool, lenien
             click.echo(f"note: {visible_controls(note)}", err=True)
         return
     body = {"scores": table.to_dict(), "reading": inputs.responses.reading_summary()}
-    emit(command="score", inputs=inputs, body=body, tables=[summary], fmt=choose_format(fmt, out), out=out,
+    tables = [summary, *_weighted(body, inputs, table)]
+    emit(command="score", inputs=inputs, body=body, tables=tables, fmt=choose_format(fmt, out), out=out,
          decimals=decimals, options={"standardize": standardize})
+
+
+def _weighted(body, inputs, table) -> list:
+    """Weighted mean and sd of every scale score (``weighted.<scale>``); the scored file keeps every row."""
+    weights = getattr(inputs.responses, "weights", None)
+    if weights is None:
+        return []
+    from ..present.weighted import weighted_scores_table
+    from ..stats.weighted import weighted_summary
+
+    found = {name: weighted_summary(s.scores, weights.values, weight_column=weights.column)
+             for name, s in table.scales.items()}
+    body["weighted"] = {name: summary.to_dict() for name, summary in found.items()}
+    return [weighted_scores_table(found)]

@@ -18,6 +18,7 @@ from .common import (
     output_options,
     resolve_by,
     scales_option,
+    weight_option,
 )
 from .engine_route import StreamedLevels, dataset_argument, engine_options, load_summaries
 
@@ -62,6 +63,7 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
                    "and the report).")
 @click.option("--figures", "figures", type=click.Path(file_okay=False, path_type=Path),
               help="Write histograms and box plots (SVG and PNG) to this folder.")
+@weight_option
 @input_options
 @engine_options
 @output_options
@@ -105,10 +107,31 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
     options = {"by": list(columns), "items": items, "percentiles": list(chosen), "quantile_method": quantile_method,
                "min_group": min_group, "seed": seed}
     reports = [*results["scales"].values(), *results["items"].values()]
+    weighted_tables = _weighted(body, results, inputs, columns, chosen)
     if figures is not None:
         write_shape_figures(figures, reports, spec=inputs.spec, inputs=[data, scales])
-    emit(command="shape", inputs=inputs, body=body, tables=shape_tables(reports), fmt=fmt, out=out,
+    emit(command="shape", inputs=inputs, body=body, tables=[*shape_tables(reports), *weighted_tables], fmt=fmt, out=out,
          decimals=decimals, options=options)
+
+
+def _weighted(body, results, inputs, columns, chosen) -> list:
+    """Weighted descriptions beside the unweighted ones (``...all.weighted``, ``...by.<col>.<level>.weighted``)."""
+    if getattr(inputs.responses, "weights", None) is None:
+        return []
+    from ..analyses.weighted_shape import weighted_shapes
+    from ..present.weighted import weighted_shape_table
+
+    tables = []
+    for part in ("scales", "items"):
+        found = weighted_shapes(inputs.spec, inputs.responses, results[part], by=columns, percentiles=chosen)
+        for name, blocks in found.items():
+            record = body[part][name]
+            record["all"]["weighted"] = blocks["all"].to_dict()
+            for column, levels in blocks["by"].items():
+                for level, block in levels.items():
+                    record["by"][column][level]["weighted"] = block.to_dict()
+            tables.append(weighted_shape_table(name, blocks))
+    return tables
 
 
 def write_shape_figures(folder: Path, reports: Sequence[Any], *, spec: Any = None, inputs: Sequence[Path] = ()) -> list[Path]:

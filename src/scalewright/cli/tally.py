@@ -9,10 +9,12 @@ import click
 from ..errors import UsageError
 from .common import (
     Inputs,
+    chosen_weight,
     emit,
     input_options,
     load_inputs,
     output_options,
+    weight_option,
 )
 from .engine_route import dataset_argument, engine_options, load_summaries
 
@@ -75,6 +77,7 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
               help="Write a bar chart per --columns column (and, with --items, diverging bars per scale) here.")
 @click.option("--percent", is_flag=True, help="Bar charts of valid percentages instead of counts.")
 @click.option("--pie", is_flag=True, help="Pie charts instead of bar charts (refused above 5 slices).")
+@weight_option
 @input_options
 @engine_options
 @output_options
@@ -120,6 +123,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     else:
         if items:
             raise UsageError("--items needs the scale file: give --scales FILE")
+        if chosen_weight() is not None:
+            raise UsageError("--weight needs the scale file (weights apply to its respondents): give --scales FILE")
         if exclude is not None:
             raise UsageError("--exclude needs the scale file (it names the id column): give --scales FILE")
         inputs, frame = _inputs_without_scales(data)
@@ -164,6 +169,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
     if summarised:
         body["engine"] = summarised.engine
+    weighted_tables = _weighted(body, tallies, fits, column_of, expected_of, responses, decimals)
     distributions = {}
     if items and spec is not None and figures is not None:  # drawn only; the tables are the tallies above
         for scale_name, scale in spec.scales.items():
@@ -181,7 +187,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     if figures is not None:
         _write_figures(figures, [t for t in tallies if t.column in asked], distributions, percent=percent, pie=pie,
                        inputs=[p for p in (data, scales) if p is not None])
-    emit(command="tally", inputs=inputs, body=body, tables=tally_tables(tallies, fits, decimals=decimals), fmt=fmt,
+    emit(command="tally", inputs=inputs, body=body, tables=[*tally_tables(tallies, fits, decimals=decimals),
+                                                            *weighted_tables], fmt=fmt,
          out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})
 
 
@@ -209,6 +216,30 @@ def _count_item_codes(spec, responses, names: list[str], *, min_cell: int) -> di
                                       ordered=True, labels={str(level): str(response.label(level))
                                                             for level in response.levels}, min_cell=min_cell)
     return out
+
+
+def _weighted(body, tallies, fits, column_of, expected_of, responses, decimals) -> list:
+    """Weighted shares (and their fit to the reference) beside each unweighted tally, when weights are given."""
+    weights = getattr(responses, "weights", None)
+    if weights is None:
+        return []
+    from ..expected_file import read_expected
+    from ..present.weighted import weighted_fit_table, weighted_tally_table
+    from ..stats.weighted_tally import weighted_goodness_of_fit, weighted_tally
+
+    tables = []
+    for t, fit in zip(tallies, fits):
+        shares = weighted_tally(column_of(t.column), weights.values, t, weight_column=weights.column)
+        record = body["columns"][t.column]
+        record["weighted"] = shares.to_dict()
+        tables.append(weighted_tally_table(shares, t))
+        if t.column in expected_of:
+            reference = read_expected(Path(expected_of[t.column]))
+            weighted_fit = weighted_goodness_of_fit(shares, t, reference.proportions, source=reference.path,
+                                                    rows=reference.lines)
+            record["weighted_fit"] = weighted_fit.to_dict()
+            tables.append(weighted_fit_table(weighted_fit, fit, decimals))
+    return tables
 
 
 def _write_figures(folder: Path, tallies, distributions, *, percent: bool, pie: bool, inputs) -> None:

@@ -39,9 +39,9 @@ def model_notes(model: Any) -> list[str]:
     return out + [sentence(n) for n in model.notes]
 
 
-def fit_table(models: dict[str, Any]) -> Table:
+def fit_table(models: dict[str, Any], extra_notes: tuple[str, ...] = ()) -> Table:
     rows = []
-    notes: list[str] = list(CONVENTIONS)
+    notes: list[str] = [*extra_notes, *CONVENTIONS]
     for name, model in models.items():
         f = model.indices
         rows.append((name, model.structure, f.n_used, f.chi2, f.df, f.pvalue, f.cfi, f.tli, f.rmsea,
@@ -171,7 +171,13 @@ def confirmatory_summary(model: Any) -> dict[str, Any]:
 
 def confirm_tables(analysis: Any) -> list[Table]:
     """Tables of a :class:`~scalewright.analyses.confirm.ConfirmAnalysis`."""
-    tables = [fit_table(analysis.models), loadings_table(analysis.models), omega_table(analysis.models)]
+    from .missing import missing_lines
+
+    extra = [describe(n) for n in getattr(analysis, "notes", ())]
+    for name, handling in getattr(analysis, "missing_by_model", {}).items():
+        extra += [f"{name}: {line}" for line in missing_lines(handling)]
+    tables = [fit_table(analysis.models, tuple(extra)), loadings_table(analysis.models),
+              omega_table(analysis.models)]
     for extra in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),
                   hints_table(analysis.models)):
         if extra is not None:

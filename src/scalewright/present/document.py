@@ -30,10 +30,15 @@ class InputInfo:
                 "scales": self.scales, "scales_sha256": self.scales_sha256}
 
 
+#: version of the JSON contract; every rename is listed in CHANGES.md
+SCHEMA_VERSION = 2
+
+
 def envelope(command: str, inputs: InputInfo, body: dict[str, Any], *,
              options: dict[str, Any] | None = None, notes: list[str] | None = None) -> dict[str, Any]:
     """Wrap a command's results in the contract's ``tool`` and ``input`` keys."""
     document: dict[str, Any] = {
+        "schema": SCHEMA_VERSION,
         "tool": {"name": "scalewright", "version": __version__},
         "command": command,
         "input": inputs.to_dict(),

@@ -83,6 +83,14 @@ def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
         return (f"The careless-responding screen flagged {v['n_flagged']} of {v['n']} respondents "
                 f"({format_value(v['share_pct'], 'pct')}%); they are kept in every analysis as records to look at "
                 "again.")
+    if code == "model-fit-misses":
+        shape = {"correlated-factors": "with a factor per scale", "bifactor": "with a general factor beside the "
+                 "subscales"}.get(v["structure"], f"({v['structure']})")
+        return (f"The scale file's structure, as one model of all its items {shape}, fits these answers less "
+                f"well than convention asks (CFI = {_b(v['cfi'])}, RMSEA = {_b(v['rmsea'])}, SRMR = "
+                f"{_b(v['srmr'])}; {_join(list(v['missed']))} outside CFI >= {_b(v['cfi_min'])}, RMSEA <= "
+                f"{_b(v['rmsea_max'])}, SRMR <= {_b(v['srmr_max'])}, Hu & Bentler 1999): see the residuals "
+                "and hints before reading the scales as separate.")
     raise ValueError(f"no wording for finding {code!r}")
 
 

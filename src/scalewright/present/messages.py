@@ -187,6 +187,18 @@ CONFIRM: dict[str, str] = {
     "heywood-case": "{model}: improper solution (Heywood case) at {items}: a negative residual variance or a "
                     "standardized loading beyond 1; the model may be misspecified or the sample too small",
     "model-not-fitted": "{model}: the model could not be fitted",
+    "dwls-polychoric": "--ordinal: every model is fitted by diagonally weighted least squares (DWLS) to the "
+                       "polychoric correlation matrix, each correlation weighted by 1/SE^2 (Muthén 1984, "
+                       "Psychometrika 49:115-132; compared with other estimators for ordinal items by Flora & "
+                       "Curran 2004, Psychological Methods 9:466-491). Loadings, SRMR and the model omega are "
+                       "given; the chi-square, the indices built on it and the standard errors are not, because "
+                       "they need the full weight matrix of the correlations",
+    "em-basis-confirm-scale": "Covariances come from the EM algorithm (maximum likelihood under missing at random) "
+                              "over this scale's own items; the fit takes n = {n_used}, the respondents who "
+                              "answered at least one of them",
+    "em-basis-confirm-file": "Covariances come from the EM algorithm (maximum likelihood under missing at random) "
+                             "over every item of the file together; the fit takes n = {n_used}, the respondents "
+                             "who answered at least one item",
     "fit-meets-cutoffs": "{model}: CFI {cfi}, RMSEA {rmsea}, SRMR {srmr}: within all three conventional cut-offs "
                          "(CFI >= {cfi_min}, RMSEA <= {rmsea_max}, SRMR <= {srmr_max}; Hu & Bentler 1999). "
                          "Cut-offs are conventions, not tests",
@@ -284,6 +296,25 @@ MISSING: dict[str, str] = {
 
 # -- survey weights ------------------------------------------------------------------------------------------
 WEIGHTS: dict[str, str] = {
+    "weights-not-used": "The scale file names the weight column {weight_column}, but `{command}` does not use "
+                        "weights yet: its results are unweighted.",
+    "weights-approximate-inference": "Estimates are weighted by {weight_column}. Confidence intervals and tests use "
+                                     "Kish's effective sample size, which is approximate unless the weights are "
+                                     "the whole design; for strata or clusters use design-based survey software.",
+    "weights-zero": "{n_zero_weight} row(s) have weight 0 in {weight_column}: they stay in row-level outputs and "
+                    "are left out of every estimate.",
+    "weights-refused": "{count} row(s) have {kind} weight(s) in {weight_column}; read leniently, they are left out "
+                       "of every estimate.",
+    "weighted-quantiles": "Weighted quantiles take the smallest value whose cumulative share of the weight reaches "
+                          "the probability (as statsmodels DescrStatsW.quantile does); they can differ from the "
+                          "interpolated unweighted quantiles.",
+    "weighted-fit-kish": "The weighted test uses Kish's effective sample size n_eff = {n_effective} (design effect "
+                         "of the weights {design_effect}); it is approximate unless the weights are the whole design.",
+    "weighted-fit-impossible": "Fewer than two categories with weight to compare: no weighted test.",
+    "weighted-moments-undefined": "Weighted skewness and kurtosis need at least 3 rows with weight "
+                                  "whose values are not all the same (found {n} row(s)).",
+    "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
+                        "= {n} (design effect of the weights {design_effect}).",
 }
 
 # -- engine (streaming, Dask) --------------------------------------------------------------------------------

@@ -30,7 +30,7 @@ FLAG_MEANINGS = {
 NOT_CHECKED = "not checked"
 
 RESPONDENT_COLUMNS = ("id", "flagged", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_df",
-                      "mahalanobis_p", "even_odd", "person_total_r", "missing", "duration", "explanation")
+                      "mahalanobis_pvalue", "even_odd", "person_total_r", "missing", "duration", "explanation")
 
 
 def _num(value: Any, kind: str = "num", decimals: int = 2) -> str:
@@ -92,7 +92,7 @@ def explain_flags(record: dict[str, Any], *, thresholds: dict[str, Any], n_items
             limit = thresholds["mahalanobis_p" if code == "far-from-sample" else "mahalanobis_p_weak"]
             parts.append(f"answer pattern {'far' if code == 'far-from-sample' else 'somewhat far'} from the "
                          f"sample's (D² = {_num(record['mahalanobis_d2'], decimals=1)} on "
-                         f"{record['mahalanobis_df']} items, p {_p_phrase(record['mahalanobis_p'])}; "
+                         f"{record['mahalanobis_df']} items, p {_p_phrase(record['mahalanobis_pvalue'])}; "
                          f"limit p < {_num(limit, 'p')})")
         elif code == "uneven-halves":
             parts.append(f"odd and even items disagree (even-odd consistency "
@@ -192,7 +192,7 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
     tables.append(Table(
         title="Flagged respondents" if flagged_only else "Respondents",
         columns=("id", "flags", "longest run", "IRV", "D²", "p", "even-odd", "person-total r", "missing %", "why"),
-        rows=tuple((r["id"], r["flags"], r["longstring"], r["irv"], r["mahalanobis_d2"], r["mahalanobis_p"],
+        rows=tuple((r["id"], r["flags"], r["longstring"], r["irv"], r["mahalanobis_d2"], r["mahalanobis_pvalue"],
                     r["even_odd"], r["person_total_r"], None if r["missing"] is None else 100 * r["missing"],
                     r["explanation"]) for r in rows),
         kinds={"id": "text", "flags": "text", "longest run": "int", "p": "p", "even-odd": "bounded",

@@ -34,7 +34,7 @@ class BartlettResult(ResultMixin):
     notes: tuple[str, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        return {"chi2": to_jsonable(self.chi2), "df": self.df, "p": to_jsonable(self.p)}
+        return {"chi2": to_jsonable(self.chi2), "df": self.df, "pvalue": to_jsonable(self.p)}
 
 
 def complete_cases(matrix: np.ndarray) -> tuple[np.ndarray, int]:

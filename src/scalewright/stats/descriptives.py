@@ -191,6 +191,8 @@ def box_plot_points(values: np.ndarray, *, q1: float, median: float, q3: float) 
 class UniformFit(ResultMixin):
     """Chi-square goodness of fit against a uniform distribution over the score's cells, with w = sqrt(chi2/n)."""
 
+    JSON_KEYS = {"p": "pvalue"}
+
     chi2: float
     df: int
     p: float

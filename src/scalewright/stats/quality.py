@@ -179,6 +179,8 @@ def missing_share(answers: Any) -> np.ndarray:
 class MahalanobisResult(ResultMixin):
     """Squared Mahalanobis distance of every respondent from the sample centroid, with its chi-square p."""
 
+    JSON_KEYS = {"p": "pvalue"}
+
     d2: np.ndarray
     p: np.ndarray
     df: np.ndarray
@@ -665,7 +667,7 @@ class ScreenResult:
         columns = {
             "id": list(self.ids), "flagged": self.flagged.tolist(), "flags": [list(f) for f in self.flags],
             "longstring": self.longstring.tolist(), "irv": self.irv.tolist(),
-            "mahalanobis_d2": self.mahalanobis_d2.tolist(), "mahalanobis_p": self.mahalanobis_p.tolist(),
+            "mahalanobis_d2": self.mahalanobis_d2.tolist(), "mahalanobis_pvalue": self.mahalanobis_p.tolist(),
             "mahalanobis_df": self.mahalanobis_df.tolist(), "even_odd": self.even_odd.tolist(),
             "person_total_r": self.person_total_r.tolist(), "missing": self.missing.tolist(),
         }

@@ -848,6 +848,8 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
 class AlphaComparison(ResultMixin):
     """Feldt's (1969) test of two subgroup alphas, with the Holm-adjusted p across all pairs of a column."""
 
+    JSON_KEYS = {"p": "pvalue", "p_holm": "pvalue_holm"}
+
     level_a: str
     level_b: str
     alpha_a: float

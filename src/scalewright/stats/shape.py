@@ -69,6 +69,10 @@ MIN_N_FOR_LABEL = 20
 
 @dataclass(frozen=True)
 class DipResult(ResultMixin):
+    """Hartigan's dip and its p-value (``pvalue`` in the JSON), with the jitter that broke the ties."""
+
+    JSON_KEYS = {"p": "pvalue"}
+
     dip: float
     p: float
     jitter_width: float
@@ -103,6 +107,8 @@ def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = DEFA
 @dataclass(frozen=True)
 class ShapeEvidence(ResultMixin):
     """The numbers the shape rule looked at, on the bands it used."""
+
+    JSON_KEYS = {"valley_p": "valley_pvalue"}
 
     band_edges: tuple[float, ...]
     band_counts: tuple[float, ...]
@@ -299,6 +305,7 @@ class ShapeSummary(ResultMixin):
             "n", "n_missing", "mean", "sd", "median", "q1", "q3", "min", "max", "iqr", "skewness", "skewness_se",
             "kurtosis", "kurtosis_se", "bimodality_coefficient", "dip", "dip_p", "percentiles", "shape",
             "evidence", "modes")}
+        out["dip_pvalue"] = out.pop("dip_p")
         out["uniform_gof"] = self.uniform_gof.to_dict()
         out.update({"floor_pct": to_jsonable(self.floor_pct), "ceiling_pct": to_jsonable(self.ceiling_pct),
                     "floor_effect": self.floor_effect, "ceiling_effect": self.ceiling_effect,
