@@ -230,7 +230,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         wanted[name] = series
     reading = ReadingCounts(rows=n, missing_codes=missing_codes, blanks=blanks, texts=texts, refused=refused,
                             refused_first=refused_first, id_hashes=id_hashes, id_empty=id_empty,
-                            unknown_levels=unknown, missing_texts=missing_texts)
+                            unknown_levels=unknown, missing_texts=missing_texts, file_columns=tuple(by_name))
     return Block(codes=codes, columns=wanted, reading=reading, first_row=first_row)
 
 

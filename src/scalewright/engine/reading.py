@@ -52,6 +52,8 @@ class ReadingCounts:
     unknown_levels: dict[str, tuple] = field(default_factory=dict)   # column -> (place, value, count)
     #: cells holding a "no answer" text read as missing: column -> text -> count (items and other columns)
     missing_texts: dict[str, dict[str, int]] = field(default_factory=dict)
+    #: the file's column names in order (to list the other columns as the whole-file reader lists them)
+    file_columns: tuple[str, ...] = ()
 
     def merge(self, other: "ReadingCounts") -> "ReadingCounts":
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
@@ -78,7 +80,8 @@ class ReadingCounts:
                              id_hashes=hashes, id_empty=empty, unknown_levels=unknown,
                              missing_texts={column: _add(self.missing_texts.get(column, {}),
                                                          other.missing_texts.get(column, {}))
-                                            for column in {*self.missing_texts, *other.missing_texts}})
+                                            for column in dict.fromkeys([*self.missing_texts, *other.missing_texts])},
+                             file_columns=self.file_columns or other.file_columns)
 
     def has_duplicate_ids(self) -> bool:
         if not self.id_hashes:
@@ -140,8 +143,12 @@ class ReadingOutcome:
         # items first, in the scale file's order, then the other columns (as the whole-file reader lists them)
         found = self.counts.missing_texts
         ordered = {name: dict(found[name]) for name in self.item_names if found.get(name)}
-        ordered.update({name: dict(counts) for name, counts in found.items() if name not in ordered and counts})
+        ordered.update({name: dict(found[name]) for name in self._others_in_file_order(found) if found[name]})
         return ordered
+
+    def _others_in_file_order(self, found: dict) -> list[str]:
+        rank = {name: position for position, name in enumerate(self.counts.file_columns)}
+        return sorted((name for name in found if name not in self.item_names), key=lambda name: rank.get(name, len(rank)))
 
     def _in_item_order(self, counts: dict[str, int]) -> dict[str, int]:
         return {name: counts[name] for name in self.item_names if counts.get(name)}
@@ -154,7 +161,8 @@ class ReadingOutcome:
             "refused_first": [str(p) for p in self.refused_problems],
             "missing_code_by_column": self._in_item_order(self.counts.missing_codes),
             "blank_by_column": {**self._in_item_order(self.counts.blanks),  # then the group columns' blanks
-                                **{c: n for c, n in self.counts.blanks.items() if c not in self.item_names and n}},
+                                **{c: self.counts.blanks[c] for c in self._others_in_file_order(self.counts.blanks)
+                                   if self.counts.blanks[c]}},
             "texts_by_column": self._in_item_order(self.counts.texts),
             "missing_texts": list(self.missing_texts),
             "missing_texts_by_column": self._missing_texts_by_column(),
