@@ -54,6 +54,18 @@ def analyse_structure_of_file(spec: Any, responses: Any, *, ordinal: bool = Fals
 
     from ..stats.structure import analyse_structure
 
+    codes = responses.codes(spec.items)
+    if codes is not None and not ordinal and options.get("missing", "listwise") == "listwise":
+        # whole answer levels, listwise Pearson correlations: from exact integer cross-products of the codes,
+        # as the streaming and Dask routes compute them, so every route gives the same structure (the
+        # iterative factoring would carry a last-bit difference in the correlations into the loadings)
+        from ..stats.missing_patterns import PatternSummary
+        from ..summaries import ListwiseCrossProducts
+        from .summarised import structure_from_cross_products
+
+        span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
+        return structure_from_cross_products(spec, ListwiseCrossProducts.from_codes(codes, span=span),
+                                             patterns=PatternSummary.from_codes(codes), **options)
     joint = joint_keyed_items(responses, spec)
     if ordinal:
         from .ordinal import joint_polychoric

@@ -9,7 +9,6 @@ from ..analyses.reliability import analyse_reliability
 from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -20,12 +19,13 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .engine_route import StreamedLevels, dataset_argument, engine_options, first_needing_rows, load_summaries
 
 
 @click.command("reliability", epilog=("Examples:\n\n\b\n"
                   "  scalewright reliability survey.csv --scales survey.yaml\n"
                   "  scalewright reliability survey.csv -s survey.yaml --by shift --bootstrap 2000\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,
@@ -51,12 +51,13 @@ from .common import (
               help="Flag scales with alpha above this (items may be near-duplicates).")
 @weight_option
 @input_options
+@engine_options
 @output_options
 def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level: float, n_resamples: int,
                 seed: int, missing: str | None, pairwise: bool, ordinal: bool, min_group: int,
                 weak_item_r: float, redundant_r: float, low_alpha: float, excess_alpha: float, lenient: bool,
-                exclude: Path | None, fmt: str | None,
-                out: Path | None, decimals: int) -> None:
+                exclude: Path | None, engine: str, scheduler: str | None, workers: int | None,
+                block_size: int | None, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check that each scale is reliable in this sample and find the items that hurt it.
 
     Per scale: alpha with its Feldt confidence interval, standardized alpha, omega total (one-factor
@@ -66,25 +67,45 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     subgroup, and Feldt's test of the alphas between subgroups. With --ordinal, also ordinal alpha and
     omega and the reliability of the sum score from polychoric correlations (whole sample).
     """
+    from ..engine.plan import plan_for
     from ..present.reliability import reliability_tables
     from ..stats.reliability import ReliabilityThresholds
 
     method = resolve_missing(missing, pairwise)
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec, inputs.responses)
+    # the summaries serve listwise and pairwise covariances; any other option takes the whole-file route
+    needs_rows = first_needing_rows(bootstrap=bool(n_resamples), exclude=exclude is not None, ordinal=ordinal,
+                                    missing=method not in ("listwise", "pairwise"))
+    summarised = load_summaries(
+        data, scales, lambda spec: plan_for(spec, cross_products=method, by=resolve_by(by, spec), patterns=True),
+        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
+        needs_rows=needs_rows)
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
-    reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
-                                  missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
-                                  thresholds=thresholds, ordinal=ordinal)
-    from ..analyses.confirm import one_factor_models
     from ..present.confirm import confirmatory_summary, reliability_beside_table
 
-    # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`)
-    models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
+    if summarised:
+        from ..analyses.summarised import one_factor_models_from_summaries, reliability_from_summaries
+
+        reports = reliability_from_summaries(inputs.spec, summarised.summary, by=columns,
+                                             confidence_level=confidence_level, pairwise=method == "pairwise",
+                                             min_group=min_group, thresholds=thresholds)
+        # the confirmatory one-factor model of each scale from the merged covariance (see `confirm`)
+        models = one_factor_models_from_summaries(inputs.spec, summarised.summary, pairwise=method == "pairwise")
+    else:
+        reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
+                                      missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
+                                      thresholds=thresholds, ordinal=ordinal)
+        from ..analyses.confirm import one_factor_models
+
+        # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`)
+        models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
     body = {"scales": {name: {**report.to_dict(), "confirmatory": confirmatory_summary(models[name])}
                        for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
                "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}

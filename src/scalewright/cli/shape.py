@@ -12,7 +12,6 @@ from ..errors import UsageError
 from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -21,6 +20,7 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .engine_route import StreamedLevels, dataset_argument, engine_options, load_summaries
 
 
 def parse_percentiles(text: str) -> tuple[float, ...]:
@@ -45,7 +45,7 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
 @click.command("shape", epilog=("Examples:\n\n\b\n"
                   "  scalewright shape survey.csv --scales survey.yaml --items\n"
                   "  scalewright shape survey.csv -s survey.yaml --by shift --figures figures/\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @click.option("--items", is_flag=True, help="Also describe every item (answers as given, before reverse keying).")
@@ -65,9 +65,11 @@ def parse_percentiles(text: str) -> tuple[float, ...]:
               help="Write histograms and box plots (SVG and PNG) to this folder.")
 @weight_option
 @input_options
+@engine_options
 @output_options
 def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentiles: str, quantile_method: str,
-          min_group: int, seed: int, figures: Path | None, lenient: bool, exclude: Path | None, fmt: str | None,
+          min_group: int, seed: int, figures: Path | None, lenient: bool, exclude: Path | None, engine: str,
+          scheduler: str | None, workers: int | None, block_size: int | None, fmt: str | None,
           out: Path | None, decimals: int) -> None:
     """Describe each score's distribution and name its shape, with the numbers behind the name.
 
@@ -79,14 +81,29 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
     from ..present.shape import shape_tables
 
     chosen = parse_percentiles(percentiles)
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec, inputs.responses)
-    results = analyse_shape(inputs.spec, inputs.responses, by=columns, items=items, percentiles=chosen,
-                            quantile_method=quantile_method, min_group=min_group, seed=seed)
+    from ..engine.plan import plan_for
+
+    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None, scores=True,
+                                                                    by=resolve_by(by, spec)),
+                                engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
+    if summarised:
+        from ..analyses.summarised import shape_from_summaries
+
+        results = shape_from_summaries(inputs.spec, summarised.summary, by=columns, items=items,
+                                       percentiles=chosen, quantile_method=quantile_method, min_group=min_group,
+                                       seed=seed)
+    else:
+        results = analyse_shape(inputs.spec, inputs.responses, by=columns, items=items, percentiles=chosen,
+                                quantile_method=quantile_method, min_group=min_group, seed=seed)
     body = {"scales": {name: r.to_dict() for name, r in results["scales"].items()},
             "reading": inputs.responses.reading_summary()}
     if items:
         body["items"] = {name: r.to_dict() for name, r in results["items"].items()}
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"by": list(columns), "items": items, "percentiles": list(chosen), "quantile_method": quantile_method,
                "min_group": min_group, "seed": seed}
     reports = [*results["scales"].values(), *results["items"].values()]

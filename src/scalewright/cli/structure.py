@@ -8,7 +8,6 @@ import click
 from ..analyses.structure import analyse_structure_of_file
 from ..seeds import DEFAULT_SEED
 from .common import (
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -17,6 +16,7 @@ from .common import (
     resolve_missing,
     scales_option,
 )
+from .engine_route import dataset_argument, engine_options, first_needing_rows, load_summaries
 
 ROTATION_CHOICES = ("oblimin", "promax", "varimax", "none")
 METHOD_CHOICES = ("minres", "ml")
@@ -37,7 +37,7 @@ def parse_factors(value: str | None) -> int | str | None:
 @click.command("structure", epilog=("Examples:\n\n\b\n"
                   "  scalewright structure survey.csv --scales survey.yaml\n"
                   "  scalewright structure survey.csv -s survey.yaml --factors scales --rotation promax\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @click.option("--factors", "factors", metavar="N|scales", default=None,
               help="Number of factors: a whole number, or 'scales' for one per scale. Default: parallel analysis.")
@@ -57,10 +57,12 @@ def parse_factors(value: str | None) -> int | str | None:
               help="Factor the polychoric correlations of the items (answers as ordered categories).")
 @missing_option
 @input_options
+@engine_options
 @output_options
 def structure(data: Path, scales: Path, factors: str | None, rotation: str, method: str, iterations: int,
               seed: int, min_loading: float, cross_loading: float, ordinal: bool, missing: str | None,
-              lenient: bool, exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+              lenient: bool, exclude: Path | None, engine: str, scheduler: str | None, workers: int | None,
+              block_size: int | None, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Check dimensionality: do each scale's items measure one thing, and the scales different things?
 
     Reports sampling adequacy (KMO, Bartlett's test), parallel analysis, an
@@ -75,11 +77,28 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
 
     n_factors = parse_factors(factors)
     missing_method = resolve_missing(missing)
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    result = analyse_structure_of_file(inputs.spec, inputs.responses, n_factors=n_factors, rotation=rotation,
-                                       method=method, seed=seed, iterations=iterations, min_loading=min_loading,
-                                       max_cross_loading=cross_loading, ordinal=ordinal, missing=missing_method)
+    from ..engine.plan import plan_for
+
+    # the summaries serve listwise Pearson correlations; any other option takes the whole-file route
+    needs_rows = first_needing_rows(exclude=exclude is not None, ordinal=ordinal,
+                                    missing=missing_method != "listwise")
+    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None, answers=False,
+                                                                    joint=True),
+                                engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
+                                workers=workers, needs_rows=needs_rows)
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    options = dict(n_factors=n_factors, rotation=rotation, method=method, seed=seed, iterations=iterations,
+                   min_loading=min_loading, max_cross_loading=cross_loading)
+    if summarised:
+        from ..analyses.summarised import structure_from_summaries
+
+        result = structure_from_summaries(inputs.spec, summarised.summary, **options)
+    else:
+        result = analyse_structure_of_file(inputs.spec, inputs.responses, ordinal=ordinal, missing=missing_method,
+                                           **options)
     body = result.to_dict()
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
                "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading,
                "ordinal": ordinal, "missing": missing_method}

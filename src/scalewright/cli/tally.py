@@ -1,6 +1,7 @@
 """`scalewright tally`: frequency tables of categorical columns and rating items, and reference proportions."""
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import click
@@ -9,13 +10,13 @@ from ..errors import UsageError
 from .common import (
     Inputs,
     chosen_weight,
-    data_argument,
     emit,
     input_options,
     load_inputs,
     output_options,
     weight_option,
 )
+from .engine_route import dataset_argument, engine_options, load_summaries
 
 
 def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dict[str, str]:
@@ -33,6 +34,17 @@ def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dic
     return out
 
 
+def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
+    from ..spec import DEFAULT_MISSING_TEXTS
+
+    if not texts:
+        return ()
+    detail = "; ".join(f"{column}: " + ", ".join(f"{text!r} {n}" for text, n in counts.items())
+                       for column, counts in texts.items())
+    return (f"cells holding a 'no answer' text ({', '.join(DEFAULT_MISSING_TEXTS)}) were read as missing: "
+            f"{detail}",)
+
+
 def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
     from ..data import MISSING_CELLS, read_table
     from ..present.document import InputInfo
@@ -42,19 +54,14 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
     # without a scale file the default "no answer" texts apply, as they would with one that lists none
     frame = read_table(data, sheet=chosen_sheet(), missing_texts=DEFAULT_MISSING_TEXTS)
     found = frame.attrs.get(MISSING_CELLS)
-    notes = ()
-    if found is not None and found.texts:
-        detail = "; ".join(f"{column}: " + ", ".join(f"{text!r} {n}" for text, n in counts.items())
-                           for column, counts in found.texts.items())
-        notes = (f"cells holding a 'no answer' text ({', '.join(DEFAULT_MISSING_TEXTS)}) were read as missing: "
-                 f"{detail}",)
+    notes = _missing_texts_notes(found.texts) if found is not None else ()
     return Inputs(spec=None, responses=None, info=InputInfo.from_paths(data, None), excluded=0, notes=notes), frame
 
 
 @click.command("tally", epilog=("Examples:\n\n\b\n"
                   "  scalewright tally survey.csv --scales survey.yaml --columns age_group\n"
                   "  scalewright tally survey.csv -s survey.yaml --columns site --expected census.csv\n"))
-@data_argument
+@dataset_argument
 @click.option("--scales", "-s", "scales", type=click.Path(dir_okay=False, path_type=Path),
               help="Scale file (YAML); needed for --items and to use the answer labels of items.")
 @click.option("--columns", "-c", "columns", default="", metavar="A,B",
@@ -72,23 +79,44 @@ def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
 @click.option("--pie", is_flag=True, help="Pie charts instead of bar charts (refused above 5 slices).")
 @weight_option
 @input_options
+@engine_options
 @output_options
 def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tuple[str, ...],
           expected: tuple[str, ...], min_cell: int, figures: Path | None, percent: bool, pie: bool, lenient: bool,
-          exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+          exclude: Path | None, engine: str, scheduler: str | None, workers: int | None, block_size: int | None,
+          fmt: str | None, out: Path | None, decimals: int) -> None:
     """Count and percentage tables of categorical columns, with missing answers as their own row.
 
     Ordered categories keep their order (the scale file's answer labels for items, or --order);
     cumulative percentages are shown for them. --expected checks the sample against reference
     proportions (e.g. a workforce census) with a chi-square test, residuals and the effect size w.
     """
+    from ..analyses.summarised import tally_of_column, tally_of_item
+    from ..engine.plan import plan_for
     from ..expected_file import read_expected
     from ..present.tally import tally_record, tally_tables
-    from ..stats.tally import answer_distribution, goodness_of_fit
+    from ..stats.tally import AnswerDistribution, answer_distribution, goodness_of_fit
     from ..stats.tally import tally as count
 
     names = [c.strip() for c in columns.split(",") if c.strip()]
-    if scales is not None:
+    if items and scales is None:
+        raise UsageError("--items needs the scale file: give --scales FILE")
+    if exclude is not None and scales is None:
+        raise UsageError("--exclude needs the scale file (it names the id column): give --scales FILE")
+    if not names and not items:
+        raise UsageError("nothing to tally: give --columns A,B or --items")
+    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None,
+                                                                    categories=tuple(names)),
+                                engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+    summary = summarised.summary if summarised else None
+    if summarised:
+        inputs = summarised.inputs
+        if scales is None:  # the note of the whole-file route without a scale file (_inputs_without_scales)
+            inputs = replace(inputs, notes=_missing_texts_notes(summarised.inputs.responses.counts.missing_texts))
+        spec, responses = inputs.spec, None
+        column_of = None
+    elif scales is not None:
         inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
         spec, responses = inputs.spec, inputs.responses
         column_of = responses.column
@@ -115,7 +143,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                 _per_column(orders, names, "--order").items()}
     expected_of = _per_column(expected, names, "--expected")
     tallies, fits = [], []
-    counted = _count_item_codes(spec, responses, [n for n in names if n not in order_of], min_cell=min_cell)
+    counted = {} if summary is not None else _count_item_codes(spec, responses, [n for n in names if n not in order_of], min_cell=min_cell)
     for name in names:
         is_item = spec is not None and name in spec.items
         labels = order = None
@@ -125,8 +153,13 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             labels = {level: response.label(level) for level in response.levels}
         if name in order_of:
             order = order_of[name]
-        result = counted[name] if name in counted else count(column_of(name), order=order, labels=labels,
-                                                             min_cell=min_cell, column=name)
+        if summary is None:
+            result = counted[name] if name in counted else count(column_of(name), order=order, labels=labels,
+                                                                 min_cell=min_cell, column=name)
+        elif is_item:
+            result = tally_of_item(spec, summary, name, order=order, labels=labels, min_cell=min_cell)
+        else:
+            result = tally_of_column(spec, summary, name, order=order, min_cell=min_cell)
         tallies.append(result)
         fit = None
         if name in expected_of:
@@ -134,14 +167,23 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             fit = goodness_of_fit(result, reference.proportions, source=reference.path, rows=reference.lines)
         fits.append(fit)
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
+    if summarised:
+        body["engine"] = summarised.engine
     weighted_tables = _weighted(body, tallies, fits, column_of, expected_of, responses, decimals)
     distributions = {}
     if items and spec is not None and figures is not None:  # drawn only; the tables are the tallies above
         for scale_name, scale in spec.scales.items():
             response = scale.response
-            distributions[scale_name] = answer_distribution(
-                responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
-                item_names=scale.items, min_cell=min_cell)
+            if summary is None:
+                distributions[scale_name] = answer_distribution(
+                    responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
+                    item_names=scale.items, min_cell=min_cell)
+                continue
+            labels = {v: response.label(v) for v in response.levels}
+            distributions[scale_name] = AnswerDistribution(
+                items=tuple(tally_of_item(spec, summary, item, order=list(response.levels), labels=labels,
+                                          min_cell=min_cell) for item in scale.items),
+                levels=tuple(str(v) for v in response.levels), labels=tuple(labels[v] for v in response.levels))
     if figures is not None:
         _write_figures(figures, [t for t in tallies if t.column in asked], distributions, percent=percent, pie=pie,
                        inputs=[p for p in (data, scales) if p is not None])

@@ -97,31 +97,25 @@ def code_counts(codes: np.ndarray) -> np.ndarray:
     return counts.reshape(k, 256)
 
 
-def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
-    """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
+def listwise_gram(codes: np.ndarray, *, span: int) -> np.ndarray:
+    """``G = [1 x]' [1 x]`` over the complete rows (x the codes, zero elsewhere): exact int64, (k+1, k+1).
 
-    With ``x`` the codes of the complete rows (zero elsewhere) and a leading column of ones,
-    ``G = [1 x]' [1 x]`` holds the count n, the sums s and the cross-products C, exact integers
-    (accumulated a block of rows at a time, each block exact in its float type, see :func:`_block_dtype`;
-    the total is exact in float64 while n * (high - low)**2 < 2**53). Then, in integers,
-    ``cov = (n C - s s') / (n (n - 1))``. Reverse keying ``x -> (high - low) - x`` only flips the signs
-    of that item's row and column, and its mean.
+    ``G[0, 0]`` is the complete-row count, ``G[0, 1:]`` the sums and ``G[1:, 1:]`` the cross-products.
+    Accumulated a block of rows at a time, each block exact in its float type (see :func:`_block_dtype`).
+    Grams of blocks of rows add up to the gram of all of them (the mergeable form).
     """
-    codes = coded.codes
     n_rows, k = codes.shape
-    reversed_mask = np.asarray(reversed_mask, dtype=bool)
-    if k == 0:
-        complete = np.ones(n_rows, dtype=bool)
-    else:
-        complete = reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING
+    if k == 0 or n_rows == 0:
+        gram = np.zeros((k + 1, k + 1), dtype=np.int64)
+        gram[0, 0] = n_rows if k == 0 else 0
+        return gram
+    complete = reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING
     n = int(np.count_nonzero(complete))
-    counts = np.full((k, k), n, dtype=np.int64)
-    if n == 0 or k == 0:
-        return ItemCovariance(cov=np.full((k, k), np.nan), means=np.full(k, np.nan), n_used=n, n_rows=n_rows,
-                              n_complete=n, pair_counts=counts, pairwise=False)
     gram = np.zeros((k + 1, k + 1))
+    if n == 0:
+        return gram.astype(np.int64)
     # a block of rows at a time keeps the widened copy in cache and reuses its memory
-    block = np.empty((min(n_rows, _BLOCK_ROWS), k + 1), dtype=_block_dtype(high - low), order="F")
+    block = np.empty((min(n_rows, _BLOCK_ROWS), k + 1), dtype=_block_dtype(span), order="F")
     for start in range(0, n_rows, _BLOCK_ROWS):
         stop = min(n_rows, start + _BLOCK_ROWS)
         design = block[: stop - start]
@@ -131,8 +125,26 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
         else:
             np.multiply(codes[start:stop], complete[start:stop, None], out=design[:, 1:], casting="unsafe")
         gram += _cross_products(design)
-    gram = np.rint(gram).astype(np.int64).astype(object)  # exact integers, no overflow below
-    sums, cross = gram[0, 1:], gram[1:, 1:]
+    return np.rint(gram).astype(np.int64)
+
+
+def covariance_from_listwise_gram(gram: np.ndarray, *, n_rows: int, low: int, high: int,
+                                  reversed_mask: np.ndarray) -> ItemCovariance:
+    """Means and covariance of the keyed items from :func:`listwise_gram` (summed over any blocks of rows).
+
+    In integers, ``cov = (n C - s s') / (n (n - 1))``, one rounding at the end; exact input while
+    n * (high - low)**2 < 2**53. Reverse keying ``x -> (high - low) - x`` flips the signs of that item's
+    row and column, and its mean.
+    """
+    k = gram.shape[0] - 1
+    reversed_mask = np.asarray(reversed_mask, dtype=bool)
+    n = int(gram[0, 0]) if k else n_rows
+    counts = np.full((k, k), n, dtype=np.int64)
+    if n == 0 or k == 0:
+        return ItemCovariance(cov=np.full((k, k), np.nan), means=np.full(k, np.nan), n_used=n, n_rows=n_rows,
+                              n_complete=n, pair_counts=counts, pairwise=False)
+    exact = np.asarray(gram, dtype=np.int64).astype(object)  # exact integers, no overflow below
+    sums, cross = exact[0, 1:], exact[1:, 1:]
     means = np.array([float(s) / n for s in sums])
     if n >= 2:
         cov = ((n * cross - np.outer(sums, sums)) / (n * (n - 1))).astype(np.float64)
@@ -143,19 +155,27 @@ def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
                           n_used=n, n_rows=n_rows, n_complete=n, pair_counts=counts, pairwise=False)
 
 
-def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
-    """Covariances of the keyed items, each over the rows that answered both (pairwise deletion).
+def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+    """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
 
-    With ``a`` the answered indicators and ``z`` the codes (zero where missing), ``G = [a z]' [a z]``
-    holds the pair counts ``a'a``, the sums of each item over the rows answering the other ``z'a`` and the
-    cross-products ``z'z``, all exact integers. Then ``cov_ij = (n_ij C_ij - s_i|j s_j|i) / (n_ij (n_ij - 1))``,
-    the definition of :meth:`pandas.DataFrame.cov`; ``n_used`` is the smallest pair count.
+    With ``x`` the codes of the complete rows (zero elsewhere) and a leading column of ones,
+    ``G = [1 x]' [1 x]`` holds the count n, the sums s and the cross-products C, exact integers
+    (:func:`listwise_gram`); then :func:`covariance_from_listwise_gram`.
     """
-    codes = coded.codes
+    return covariance_from_listwise_gram(listwise_gram(coded.codes, span=high - low), n_rows=coded.shape[0],
+                                         low=low, high=high, reversed_mask=reversed_mask)
+
+
+def pairwise_gram(codes: np.ndarray, *, span: int) -> np.ndarray:
+    """``G = [a z]' [a z]`` (a the answered indicators, z the codes, zero where missing): exact int64, (2k, 2k).
+
+    Grams of blocks of rows add up to the gram of all of them (the mergeable form).
+    """
     n_rows, k = codes.shape
-    reversed_mask = np.asarray(reversed_mask, dtype=bool)
     gram = np.zeros((2 * k, 2 * k))
-    block = np.empty((min(n_rows, _BLOCK_ROWS), 2 * k), dtype=_block_dtype(high - low), order="F")
+    if n_rows == 0 or k == 0:
+        return gram.astype(np.int64)
+    block = np.empty((min(n_rows, _BLOCK_ROWS), 2 * k), dtype=_block_dtype(span), order="F")
     for start in range(0, n_rows, _BLOCK_ROWS):
         stop = min(n_rows, start + _BLOCK_ROWS)
         design = block[: stop - start]
@@ -163,9 +183,26 @@ def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
         np.not_equal(part, MISSING, out=design[:, :k], casting="unsafe")
         np.multiply(part, design[:, :k], out=design[:, k:])
         gram += _cross_products(design)
-    gram = np.rint(gram).astype(np.int64)
+    return np.rint(gram).astype(np.int64)
+
+
+def complete_rows(codes: np.ndarray) -> int:
+    """How many rows answered every item."""
+    n_rows, k = codes.shape
+    return int(np.count_nonzero(reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING)) if k else n_rows
+
+
+def covariance_from_pairwise_gram(gram: np.ndarray, *, n_rows: int, n_complete: int, low: int, high: int,
+                                  reversed_mask: np.ndarray) -> ItemCovariance:
+    """Pairwise covariances of the keyed items from :func:`pairwise_gram` (summed over any blocks of rows).
+
+    ``cov_ij = (n_ij C_ij - s_i|j s_j|i) / (n_ij (n_ij - 1))`` in integers, the definition of
+    :meth:`pandas.DataFrame.cov`; ``n_used`` is the smallest pair count.
+    """
+    k = gram.shape[0] // 2
+    reversed_mask = np.asarray(reversed_mask, dtype=bool)
+    gram = np.asarray(gram, dtype=np.int64)
     counts, sums, cross = gram[:k, :k], gram[k:, :k], gram[k:, k:]
-    complete = int(np.count_nonzero(reduce(np.maximum, (codes[:, j] for j in range(k))) != MISSING)) if k else n_rows
     cov = np.full((k, k), np.nan)
     for i in range(k):
         for j in range(k):
@@ -178,5 +215,19 @@ def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_ma
         means = np.diag(sums) / diagonal
     sign = np.where(reversed_mask, -1.0, 1.0)
     return ItemCovariance(cov=cov * np.outer(sign, sign), means=np.where(reversed_mask, high - means, low + means),
-                          n_used=int(counts.min()) if k else 0, n_rows=n_rows, n_complete=complete,
+                          n_used=int(counts.min()) if k else 0, n_rows=n_rows, n_complete=n_complete,
                           pair_counts=counts.astype(np.int64), pairwise=True)
+
+
+def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+    """Covariances of the keyed items, each over the rows that answered both (pairwise deletion).
+
+    With ``a`` the answered indicators and ``z`` the codes (zero where missing), ``G = [a z]' [a z]``
+    holds the pair counts ``a'a``, the sums of each item over the rows answering the other ``z'a`` and the
+    cross-products ``z'z``, all exact integers (:func:`pairwise_gram`); then
+    :func:`covariance_from_pairwise_gram`.
+    """
+    codes = coded.codes
+    return covariance_from_pairwise_gram(pairwise_gram(codes, span=high - low), n_rows=codes.shape[0],
+                                         n_complete=complete_rows(codes), low=low, high=high,
+                                         reversed_mask=reversed_mask)

@@ -98,7 +98,9 @@ def dip_test_jittered(values: np.ndarray, *, resolution: float, seed: int = DEFA
     if x.size < 4 or np.ptp(x) == 0:
         return DipResult(dip=math.nan, p=math.nan, jitter_width=resolution)
     if resolution > 0:
-        x = x + np.random.default_rng(seed).uniform(-resolution / 2, resolution / 2, size=x.size)
+        # jittered in sorted order, so the result depends on the scores and not on the order of the rows:
+        # the same from a file read whole, from its blocks' score counts or from Dask partitions
+        x = np.sort(x) + np.random.default_rng(seed).uniform(-resolution / 2, resolution / 2, size=x.size)
     with warnings.catch_warnings():
         # above 72,000 scores diptest takes the p-value from its largest tabulated sample size (the dip's
         # null distribution has settled by then) and says so on stderr; the tool's output is the same either

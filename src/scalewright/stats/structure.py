@@ -340,7 +340,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
                       max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
                       correlation_type: str = "pearson", correlation_notes: Sequence[Any] = (),
-                      missing: str = "listwise") -> StructureResult:
+                      missing: str = "listwise", covariance: Any = None) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -369,6 +369,11 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         Left without the items that are dropped, it is smoothed again if it is not positive definite.
     missing : {"listwise", "pairwise", "em"}
         How missing answers are handled (see Notes).
+    covariance : ItemCovariance, optional
+        The listwise covariance of the keyed items (from merged summaries, see ``scalewright.summaries``)
+        in place of ``keyed_matrix`` (then None): every statistic here is a function of it and n. Only
+        with ``missing="listwise"`` and no ``correlation``; the result then has no missing-data block
+        (Little's test needs the per-pattern statistics, which the summaries do not carry).
 
     Returns
     -------
@@ -382,6 +387,10 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     (:func:`scalewright.stats.em.em_means_and_covariance`); n is the number of respondents who answered at
     least one item. Items with no variance among the rows used are left out and flagged.
     """
+    if covariance is not None:  # listwise sufficient statistics (merged summaries) instead of the rows
+        if missing != "listwise" or correlation is not None:
+            raise UsageError("a covariance from summaries is analysed listwise, with Pearson correlations only")
+        keyed_matrix = np.empty((0, covariance.k))
     keyed = np.asarray(keyed_matrix, dtype=float)
     supplied = None if correlation is None else np.asarray(correlation, dtype=float)
     item_names = [str(name) for name in item_names]
@@ -398,9 +407,16 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
 
     notes: list[str] = []
     flags: list[StructureFlag] = []
-    n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
+    if covariance is None:
+        n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
+        n_rows = keyed.shape[0]
+    else:
+        n, n_rows = covariance.n_used, covariance.n_rows
+        set_aside, handling = n_rows - n, None
+        constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
+        correlation_all = _correlation_of_covariance(covariance.cov, constant)
     if set_aside and missing == "listwise":
-        notes.append(f"{set_aside} of {keyed.shape[0]} respondent(s) with at least one missing answer set aside "
+        notes.append(f"{set_aside} of {n_rows} respondent(s) with at least one missing answer set aside "
                      "(listwise); every statistic uses the remaining complete cases")
     dropped = [name for name, c in zip(item_names, constant) if c]
     for name in dropped:
@@ -528,6 +544,21 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                            min_loading=min_loading, max_cross_loading=max_cross_loading, dropped_items=tuple(dropped),
                            correlation=correlation, correlation_type=correlation_type,
                            correlation_notes=tuple(correlation_notes), missing=handling)
+
+
+def _correlation_of_covariance(cov: np.ndarray, constant: np.ndarray) -> np.ndarray:
+    """Correlations of the items with variance (NaN for the others) from a covariance matrix."""
+    p = cov.shape[0]
+    correlation = np.full((p, p), np.nan)
+    kept = ~constant
+    if kept.any():
+        kept_cov = cov[np.ix_(kept, kept)]
+        scale = 1.0 / np.sqrt(np.diag(kept_cov))
+        part = kept_cov * np.outer(scale, scale)
+        np.clip(part, -1, 1, out=part)  # as numpy.corrcoef does
+        np.fill_diagonal(part, 1.0)
+        correlation[np.ix_(kept, kept)] = part
+    return correlation
 
 
 def _correlation_by_method(keyed: np.ndarray, missing: str,

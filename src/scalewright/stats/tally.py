@@ -121,26 +121,38 @@ def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping |
     present = series[~missing_mask]
     names = present.map(level_name)
     counts = names.value_counts(sort=False)
+    natural = [level_name(v) for v in level_order(series)] if order is None else []
+    if ordered is None:
+        ordered = (order is not None or bool(labels) or pd.api.types.is_numeric_dtype(series.dtype)
+                   or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
+    return tally_from_category_counts({str(c): int(n) for c, n in counts.items()}, n_total=len(series),
+                                      n_missing=int(missing_mask.sum()), natural=natural, order=order,
+                                      labels=labels, ordered=bool(ordered), min_cell=min_cell, column=column)
+
+
+def tally_from_category_counts(counts: Mapping[str, int], *, n_total: int, n_missing: int, natural: Sequence[str],
+                               order: Sequence | None = None, labels: Mapping | None = None, ordered: bool,
+                               min_cell: int = 5, column: str) -> Tally:
+    """:func:`tally` from the count of each category (named as :func:`~.subgroups.level_name` names it),
+    the row and missing counts and the categories' natural order: the form that merges across blocks
+    of a file and Dask partitions (:class:`scalewright.summaries.CategoryCounts`)."""
+    if isinstance(min_cell, bool) or not isinstance(min_cell, (int, np.integer)) or min_cell < 1:
+        raise UsageError(f"min_cell must be a whole number of at least 1, got {min_cell!r}")
     label_of = {level_name(k): str(v) for k, v in (labels or {}).items()}
     if order is not None:
         categories = [level_name(c) for c in order]
         if len(set(categories)) != len(categories):
             raise UsageError(f"the order for {column} lists a category twice: {', '.join(categories)}")
-        unknown = [c for c in counts.index if c not in categories]
+        unknown = [c for c in counts if c not in categories]
         if unknown:
             raise UsageError(f"column {column} has value(s) {', '.join(map(repr, unknown))} that the given order "
                             f"({', '.join(categories)}) does not list")
+    elif label_of:
+        categories = list(label_of) + [c for c in natural if c not in label_of]
     else:
-        natural = [level_name(v) for v in level_order(series)]
-        if label_of:
-            categories = list(label_of) + [c for c in natural if c not in label_of]
-        else:
-            categories = natural
-    if ordered is None:
-        ordered = (order is not None or bool(label_of) or pd.api.types.is_numeric_dtype(series.dtype)
-                   or (isinstance(values.dtype, pd.CategoricalDtype) and bool(values.dtype.ordered)))
+        categories = list(natural)
     exact = {c: int(counts.get(c, 0)) for c in categories}
-    return tally_from_counts(exact, n_total=len(series), n_missing=int(missing_mask.sum()), column=column,
+    return tally_from_counts(exact, n_total=n_total, n_missing=n_missing, column=column,
                              ordered=bool(ordered), labels=label_of, min_cell=min_cell)
 
 
@@ -436,4 +448,4 @@ def answer_distribution(items: np.ndarray, levels: Sequence[int], labels: Mappin
 
 
 __all__ = ["AnswerDistribution", "CategoryCount", "CategoryFit", "FitResult", "PROPORTION_TOLERANCE", "Tally",
-           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_counts"]
+           "answer_distribution", "check_expected", "goodness_of_fit", "tally", "tally_from_category_counts", "tally_from_counts"]

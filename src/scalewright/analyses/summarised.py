@@ -1,0 +1,315 @@
+"""The analyses of the summary commands from merged summaries (a file read in blocks, Dask partitions).
+
+Each function gives the same result objects as its whole-file counterpart in this package, from a
+:class:`~scalewright.summaries.Summary` made by :mod:`scalewright.engine.plan`: the counts are the same
+integers, so everything computed from them is identical.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from typing import Any
+
+import numpy as np
+
+from ..summaries import Keyed, merge_all
+
+
+def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
+    """The levels of a counted column in their natural order, each with the values as read that name it
+    (``01`` and ``1`` both name level ``1``), and whether the column is numeric.
+
+    The order is :func:`~scalewright.stats.subgroups.level_order`'s: the scale file's order for a group it
+    lists with its levels, numbers numerically (a column of numbers only, as the parser would type it),
+    else natural text order.
+    """
+    from ..data import _is_number
+    from ..stats.subgroups import level_name, natural_key
+
+    keys = list(counts.counts)
+    if spec is not None and column in getattr(spec, "group_levels", {}):
+        return {level: [level] for level in spec.group_levels[column] if counts.counts.get(level)}, False
+    if all(_is_number(key) for key in keys):
+        members: dict[str, list[str]] = {}
+        for key in sorted(keys, key=float):
+            members.setdefault(level_name(float(key)), []).append(key)
+        return members, True
+    return {key: [key] for key in sorted(keys, key=natural_key)}, False
+
+
+def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+    """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
+    the levels as read that make up each level (see :func:`category_levels`)."""
+    from ..stats.subgroups import SubgroupSplit
+
+    counts = summary["categories"][column]
+    members, _ = category_levels(spec, counts, column)
+    sizes = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
+    # a level's rows are named by its size only (the rows themselves are not held): a view of zeros
+    levels = {name: np.broadcast_to(np.int64(0), (size,)) for name, size in sizes.items() if size >= min_group}
+    too_small = {name: size for name, size in sizes.items() if size < min_group}
+    split = SubgroupSplit(column=column, levels=levels, too_small=too_small, missing=counts.missing,
+                          min_size=min_group)
+    return split, members
+
+
+def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | None = None,
+                    min_cell: int = 5) -> Any:
+    """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
+    from ..stats.tally import tally_from_category_counts
+
+    counts = summary["categories"][column]
+    members, numeric = category_levels(spec, counts, column)
+    listed = spec is not None and column in getattr(spec, "group_levels", {})
+    merged = {name: sum(counts.counts[key] for key in raw) for name, raw in members.items()}
+    return tally_from_category_counts(merged, n_total=counts.n, n_missing=counts.missing, natural=list(members), order=order,
+                             ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
+
+
+def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
+                  min_cell: int = 5) -> Any:
+    """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
+    from ..stats.subgroups import level_name
+    from ..stats.tally import tally_from_category_counts
+
+    scale_name, position = next((name, scale.items.index(item)) for name, scale in spec.scales.items()
+                                if item in scale.items)
+    answers = summary["scales"][scale_name]["answers"]
+    low = spec.response_for(item).min
+    counts = {level_name(low + code): int(n) for code, n in enumerate(answers.tally[position]) if n}
+    answered = int(answers.tally[position].sum())
+    return tally_from_category_counts(counts, n_total=answers.n_rows, n_missing=answers.n_rows - answered,
+                             natural=list(counts), order=order, labels=labels, ordered=True, min_cell=min_cell,
+                             column=item)
+
+
+def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
+    """Per level name, the per-scale summaries of its rows (merged over the levels as read)."""
+    by_level = summary["by"][column]
+    return {name: merge_all([by_level[key] for key in raw]) for name, raw in members.items()}
+
+
+def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: float = 0.95, pairwise: bool = False,
+                                   thresholds: Any = None) -> Any:
+    """:func:`~scalewright.stats.reliability.scale_reliability` of one scale from its answer counts and
+    cross-products (the same statistics, notes and flags)."""
+    from ..stats.reliability import ReliabilityThresholds, item_descriptives_from_tally, reliability_from_cov
+
+    thresholds = thresholds or ReliabilityThresholds()
+    low, high = int(scale.response.min), int(scale.response.max)
+    reversed_mask = np.array([scale.is_reversed(item) for item in scale.items], dtype=bool)
+    stats = part["cross_products"].covariance(low=low, high=high, reversed_mask=reversed_mask)
+    answers = part["answers"]
+    descriptives = item_descriptives_from_tally(answers.tally, n_rows=answers.n_rows, low=low, high=high,
+                                                reversed_mask=reversed_mask)
+    notes: list[str] = []
+    if pairwise:
+        notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
+                     f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
+                     f"confidence interval uses the smallest count, {stats.n_used}")
+    elif stats.n_rows > stats.n_used:
+        notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
+                     f"every item and were set aside")
+    method = "pairwise" if pairwise else "listwise"
+    result = reliability_from_cov(stats.cov, stats.n_used, item_names=tuple(scale.items),
+                                  confidence_level=confidence_level, thresholds=thresholds,
+                                  reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
+                                  missing_handling=method, bootstrap=None, notes=notes)
+    if "patterns" not in part:
+        return result
+    from dataclasses import replace
+
+    from ..stats.missing import missing_handling
+
+    # the missing-data block of the whole-file route (patterns, Little's test) from the merged patterns
+    return replace(result, missing=missing_handling(part["patterns"], method, n_used=stats.n_used,
+                                                    item_names=tuple(scale.items)))
+
+
+def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
+                               pairwise: bool = False, min_group: int = 10, thresholds: Any = None) -> dict[str, Any]:
+    """:func:`~scalewright.analyses.reliability.analyse_reliability` from merged summaries (no bootstrap:
+    it resamples rows)."""
+    from ..stats.ordinal_reliability import ordinal_advice
+    from ..stats.reliability import GroupReliability, ScaleReliabilityReport, compare_alphas
+
+    options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds)
+    splits = []
+    for column in by:
+        split, members = subgroup_split(spec, summary, column, min_group=min_group)
+        splits.append((split, level_summaries(summary, column, {n: members[n] for n in split.levels})))
+    reports = {}
+    for name, scale in spec.scales.items():
+        overall = scale_reliability_from_summary(summary["scales"][name], scale, **options)
+        groups = []
+        for split, parts in splits:
+            levels = {level: scale_reliability_from_summary(parts[level][name], scale, **options)
+                      for level in split.levels}
+            notes = list(split.notes())
+            if len(levels) < 2:
+                notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "
+                             "no comparison of alphas")
+            groups.append(GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),
+                                           missing=split.missing, min_group=split.min_size,
+                                           comparisons=compare_alphas(levels) if len(levels) >= 2 else (),
+                                           notes=tuple(notes)))
+        # the note on whether the answers call for --ordinal, from the answer counts (as analyses.ordinal does)
+        levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
+        tallies = np.array([[item.counts.get(level, 0) for level in levels] for item in overall.items.values()])
+        advice = ordinal_advice(tallies, len(levels), list(overall.items)) if len(tallies) else ()
+        reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups),
+                                               ordinal=None, ordinal_advice=advice)
+    return reports
+
+
+def _counted_values(values: np.ndarray, counts: np.ndarray, n_missing: int) -> np.ndarray:
+    """The scores in ascending order, then a NaN per row without one (what the shape statistics take).
+
+    The one place the shape route holds one number per row: the dip test needs the jittered sample.
+    """
+    out = np.empty(int(counts.sum()) + n_missing)
+    out[: out.size - n_missing] = np.repeat(values, counts)
+    out[out.size - n_missing:] = np.nan
+    return out
+
+
+def _score_sample(part: Any, *, scored_only: bool = False) -> Any:
+    counts = part["scores"]
+    if scored_only:
+        return counts.n_rows - counts.n_missing
+    values, tallies = counts.values_and_counts()
+    return _counted_values(values, tallies, counts.n_missing), counts.n_rows - counts.n_missing
+
+
+def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
+    answers = part["answers"]
+    tallies = answers.tally[position]
+    answered = int(tallies.sum())
+    if scored_only:
+        return answered
+    return _counted_values(low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered), answered
+
+
+def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), items: bool = False,
+                         percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
+                         min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
+    """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
+    from ..scoring import score_range
+    from ..stats.score_grid import attainable_scores, score_resolution
+    from ..stats.shape import ShapeReport, SubgroupShapes, describe_scores
+    from ..stats.subgroups import SubgroupSplit
+
+    level_parts = {}
+    for column in by:
+        members, _ = category_levels(spec, summary["categories"][column], column)
+        level_parts[column] = level_summaries(summary, column, members)
+
+    def report(name: str, title: str, kind: str, sample, x_label: str, **grid) -> ShapeReport:
+        """``sample(parts)`` gives (the scores with a NaN per unscored row, the scored count) of a Keyed."""
+        options = dict(percentiles=percentiles, quantile_method=quantile_method, seed=seed, **grid)
+        overall_values, overall_scored = sample(summary["scales"])
+        overall = describe_scores(overall_values, **options)
+        unscored = overall_values.size - overall_scored
+        del overall_values  # one sample held at a time
+        groups = []
+        for column, parts in level_parts.items():
+            sizes = {level: sample(part, scored_only=True) for level, part in parts.items()}
+            sizes = {level: size for level, size in sizes.items() if size}
+            # a level is described on its scored rows only (the scores come first, the NaNs after them)
+            levels = {level: describe_scores(sample(parts[level])[0][:size], **options)
+                      for level, size in sizes.items() if size >= min_group}
+            split = SubgroupSplit(column=column, levels={}, too_small={k: v for k, v in sizes.items() if v < min_group},
+                                  missing=overall_scored - sum(sizes.values()), min_size=min_group)
+            notes = list(split.notes())
+            if unscored:
+                notes.append(f"{unscored} respondent(s) without a score left out of the {column} subgroups")
+            groups.append(SubgroupShapes(column=column, levels=levels, too_small=dict(split.too_small),
+                                         missing=split.missing, min_group=min_group, notes=tuple(notes)))
+        return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=tuple(groups), x_label=x_label)
+
+    scales: dict[str, Any] = {}
+    for name, scale in spec.scales.items():
+        fmt = scale.response
+        low, high = score_range(scale)
+        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
+        word = "mean" if scale.score == "mean" else "prorated sum"
+        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
+        scales[name] = report(name, scale.title, "scale", lambda parts, name=name, **only: _score_sample(parts[name], **only),
+                              x_label, attainable=grid, low=low, high=high,
+                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
+                              answer_levels=len(fmt.levels))
+    item_reports: dict[str, Any] = {}
+    if items:
+        for item in spec.items:
+            fmt = spec.response_for(item)
+            wording = spec.wording_for(item)
+            title = f"{item}: {wording}" if wording else item
+            owner, position = next((n, s.items.index(item)) for n, s in spec.scales.items() if item in s.items)
+            item_reports[item] = report(item, title, "item",
+                                        lambda parts, owner=owner, position=position, low=fmt.min, **only:
+                                        _item_sample(parts[owner], position, low, **only),
+                                        f"answer to {item} (as given, {fmt.min} to {fmt.max})",
+                                        attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
+                                        answer_levels=len(fmt.levels))
+    return {"scales": scales, "items": item_reports}
+
+
+def structure_from_summaries(spec: Any, summary: Any, **options: Any) -> Any:
+    """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
+    cross-products of every item (``joint`` in the plan)."""
+    return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
+
+
+def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
+    """The factor structure from the listwise cross-products of the codes of every item of the scale file
+    (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
+    :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
+    from dataclasses import replace
+
+    from ..stats.structure import analyse_structure
+
+    item_scale, notes, reversed_mask = {}, [], []
+    for item in spec.items:  # as analyses.structure.joint_keyed_items chooses each item's home scale
+        homes = [s for s in spec.scales.values() if item in s.items]
+        home = min(homes, key=lambda s: s.k)
+        item_scale[item] = home.name
+        reversed_mask.append(home.is_reversed(item))
+        if len({s.is_reversed(item) for s in homes}) > 1:
+            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
+    covariance = joint.covariance(low=0, high=span, reversed_mask=np.array(reversed_mask, dtype=bool))
+    result = analyse_structure(None, covariance=covariance, item_names=tuple(spec.items), item_scale=item_scale,
+                               scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
+                               **options)
+    if patterns is not None:  # the missing-data block of the whole-file route, from the merged patterns
+        from ..stats.missing import missing_handling
+
+        result = replace(result, missing=missing_handling(patterns, "listwise", n_used=covariance.n_used,
+                                                          scope="file", item_names=tuple(spec.items)))
+    return replace(result, notes=(*notes, *result.notes)) if notes else result
+
+
+def one_factor_models_from_summaries(spec: Any, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
+    """:func:`~scalewright.analyses.confirm.one_factor_models` from each scale's merged cross-products.
+
+    The fit is a function of the covariance matrix and n only (:func:`~scalewright.stats.cfa_fit.fit`);
+    each item is keyed as the first scale listing it, as ``analyses.confirm.keyed_covariance`` keys it.
+    """
+    from ..concurrency import one_blas_thread
+    from ..stats.cfa_fit import fit
+    from ..stats.cfa_model import factor_model
+    from ..stats.cfa_result import summarize_fit
+
+    owner: dict[str, Any] = {}
+    for scale in spec.scales.values():
+        for item in scale.items:
+            owner.setdefault(item, scale)
+    models = {}
+    with one_blas_thread():
+        for name, scale in spec.scales.items():
+            items = tuple(scale.items)
+            reversed_mask = np.array([owner[item].is_reversed(item) for item in items], dtype=bool)
+            cov = summary["scales"][name]["cross_products"].covariance(
+                low=int(scale.response.min), high=int(scale.response.max), reversed_mask=reversed_mask)
+            fitted = fit(cov.cov, cov.n_used, factor_model({name: items}))
+            models[name] = summarize_fit(fitted, name=name, scales={name: items})
+    return models

@@ -1,0 +1,150 @@
+"""The engine options of the summary commands, and loading their inputs as merged summaries."""
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import click
+
+from ..errors import UsageError
+from .common import Inputs
+
+
+def engine_options(fn: Callable) -> Callable:
+    fn = click.option("--workers", type=click.IntRange(min=1), default=None, metavar="N",
+                      help="With --engine dask and no --scheduler: workers of the local cluster (default: the cores).")(fn)
+    fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
+                      help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
+    fn = click.option("--scheduler", default=None, metavar="ADDRESS",
+                      help="With --engine dask: the Dask scheduler (default: a local cluster).")(fn)
+    fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream", "dask"]), default="auto",
+                      show_default=True,
+                      help="memory: read the file whole; stream: read it in blocks with memory that does not grow "
+                           "with the rows; dask: summarise a Parquet dataset or CSV files on a Dask cluster; "
+                           "auto: stream files of 64 MiB or more.")(fn)
+    return fn
+
+
+def dataset_argument(fn: Callable) -> Callable:
+    """The data argument of commands that also take a dataset (a folder, a glob or a URL) under Dask."""
+    return click.argument("data", type=click.Path(path_type=Path))(fn)
+
+
+@dataclass(frozen=True)
+class Summarised:
+    """Inputs read as merged summaries: the ``Inputs`` a command emits with, the summary, the route taken."""
+
+    inputs: Inputs
+    summary: Any
+    engine: dict[str, Any]
+
+
+def _without_scales() -> Any:
+    """What the block reader needs of a spec when no scale file is given: no items, no id, no groups."""
+    from types import SimpleNamespace
+
+    from ..spec import DEFAULT_MISSING_TEXTS
+
+    # without a scale file the default "no answer" texts apply, as on the whole-file route
+    return SimpleNamespace(items=(), id_column=None, groups=(), group_levels={}, scales={}, path=None,
+                           missing_texts=tuple(DEFAULT_MISSING_TEXTS))
+
+
+def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], Any], *, engine: str,
+                   scheduler: str | None, block_size: int | None, lenient: bool, workers: int | None = None,
+                   needs_rows: str | None = None) -> Summarised | None:
+    """The inputs as merged summaries, or None when the command should read the file whole.
+
+    ``make_plan(spec)`` gives the :class:`~scalewright.engine.plan.SummaryPlan`. A file the streaming
+    route cannot read (see :class:`~scalewright.engine.blocks.CannotStream`) is left to the whole-file
+    route, which names any problem in it.
+    """
+    from ..engine.blocks import CannotStream
+    from ..engine.choose import choose_route
+    from ..present.document import InputInfo
+    from ..spec import load_spec
+
+    if engine != "dask" and (scheduler is not None or workers is not None):
+        raise UsageError("--scheduler and --workers go with --engine dask")
+    route = choose_route(engine, data, needs_rows=needs_rows)
+    if route == "memory":
+        return None
+    spec = load_spec(scales) if scales is not None else _without_scales()
+    from .common import chosen_weight
+
+    weight = chosen_weight() or getattr(spec, "weight", None)
+    if weight:  # weighted estimates (and the note that a command does not weigh) come from the rows
+        if engine in ("stream", "dask"):
+            raise UsageError(f"--engine {engine} works from summaries; survey weights (column {weight!r}) need "
+                             "the rows (use --engine memory)")
+        return None
+    plan = make_plan(spec)
+    coded = [column for column in getattr(spec, "group_codes", {}) if column in plan.columns]
+    if coded:  # the block reader does not turn a group's codes into the level names the scale file gives
+        reason = f"group column {coded[0]!r} holds codes the scale file names; only the whole-file route names them"
+        if route == "dask":
+            raise UsageError(f"--engine dask: {reason} (use --engine memory)")
+        if engine == "stream":
+            click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
+        return None
+    if route == "dask":
+        if scales is None:
+            raise UsageError("--engine dask needs the scale file: give --scales FILE")
+        from ..engine.dask_engine import dask_summary
+
+        summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient,
+                                              workers=workers)
+        inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=str(data), data_sha256=info["data_sha256"],
+                                                                     scales=str(scales),
+                                                                     scales_sha256=InputInfo.from_paths(None, scales).scales_sha256),
+                        excluded=0, notes=tuple(outcome.notes()))
+        return Summarised(inputs=inputs, summary=summary,
+                          engine={"name": "dask", "scheduler": info["scheduler"], "partitions": info["partitions"]})
+    from concurrent.futures import ThreadPoolExecutor
+
+    from ..engine.stream import stream_summary
+
+    # the provenance digests read the file once more; hashing releases the interpreter lock, so it runs
+    # beside the blocks instead of after them
+    with ThreadPoolExecutor(max_workers=1) as pool:
+        digests = pool.submit(InputInfo.from_paths, data, scales)
+        try:
+            summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size)
+        except CannotStream as reason:
+            if engine == "stream":
+                click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
+            return None
+        info = digests.result()
+    inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
+                    notes=tuple(outcome.notes()))
+    return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"})
+
+
+def first_needing_rows(**given: Any) -> str | None:
+    """The first option (named as on the command line, ``--`` added) that the summaries cannot serve, or None.
+
+    ``given`` maps an option's name (underscores for dashes) to True when it was given in a form the
+    streaming route does not support; such a command takes the whole-file route exactly as without an engine.
+    """
+    for name, used in given.items():
+        if used:
+            return "--" + name.replace("_", "-")
+    return None
+
+
+class StreamedLevels:
+    """The distinct values of the counted columns of merged summaries, where ``resolve_by`` wants responses.
+
+    The check of ``--max-levels`` looks only at a column's distinct values (their number and, for numbers,
+    their range and spacing), which the merged category counts hold exactly.
+    """
+
+    def __init__(self, summary: Any) -> None:
+        self._categories = summary["categories"]
+
+    def column(self, name: str) -> Any:
+        import pandas as pd
+
+        return pd.Series(list(self._categories[name].counts), dtype=object)

@@ -1,0 +1,272 @@
+"""A data file read block by block into one-byte answer codes, with what reading each block found.
+
+CSV is parsed by pyarrow's streaming reader (blocks of bytes, several threads) with the item columns as
+16-bit integers and each block converted by :func:`scalewright.read_codes.convert_codes`, the quick
+route of the whole-file reader. A block that route cannot take (an answer text, a decimal, a number
+beyond 16 bits) restarts the file with the item columns as text, converted by
+:func:`scalewright.data.convert_item`, the general route. Parquet is read a row group batch at a time
+with its own types, by the general route. Whatever neither can read block by block (see
+:class:`CannotStream`) is left to the whole-file reader, which names the problem.
+"""
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from ..answer_codes import MISSING, ItemAnswers
+from ..data import SHOW_FIRST, _delimited_header, _ids_as_text, convert_item
+from ..read_codes import BLANK_TEXTS, convert_codes, fits
+from ..text_cells import clear_missing_texts
+from .reading import ReadingCounts
+
+#: bytes of CSV text per parsed block (pyarrow's default). pyarrow's streaming reader parses blocks ahead
+#: of the consumer, a bounded queue of them: its memory is this times the queue's length, so a small block
+#: keeps the peak low (on 4,000,000 x 60: 180 MB with 1 MiB blocks, 320 MB with 4 MiB, 750 MB with 16 MiB)
+BLOCK_BYTES = 1 << 20
+#: rows per Parquet batch
+BATCH_ROWS = 131072
+
+
+class CannotStream(Exception):
+    """This file cannot be read block by block (the reason says why); the whole-file reader takes it."""
+
+
+@dataclass(frozen=True, eq=False)
+class Block:
+    """One block of rows: item codes (n x k, items in scale-file order), the other columns needed, and
+    what reading it found. ``columns`` holds the id, group and tallied columns as pandas Series."""
+
+    codes: np.ndarray
+    columns: dict[str, pd.Series]
+    reading: ReadingCounts
+    first_row: int
+
+    @property
+    def n(self) -> int:
+        return int(self.codes.shape[0])
+
+
+def _is_parquet(path: Path) -> bool:
+    return path.suffix.lower() == ".parquet"
+
+
+def streamable(path: Path) -> bool:
+    return path.suffix.lower() in (".csv", ".txt", ".tsv", ".parquet")
+
+
+def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes: int | None = None,
+                  batch_rows: int | None = None, source: Any = None) -> list[Callable[[], Iterator[Any]]]:
+    """Ways to read the file as Arrow record batches, quickest first. ``columns`` are the non-item columns
+    wanted (id, groups, tallied).
+
+    A way may fail part-way (:data:`RETRY_ERRORS`: a value that is not a 16-bit whole number, a value
+    holding a line break that only a quote-aware parse reads safely); the reader then starts over with
+    the next way. ``source`` is an open binary file to read instead of ``path`` (a Parquet file behind
+    any fsspec URL); ``path`` still names it in messages. Raises :class:`CannotStream` for what only the
+    whole-file reader can read.
+    """
+    block_bytes = block_bytes or BLOCK_BYTES
+    batch_rows = batch_rows or BATCH_ROWS
+    if not streamable(path):
+        raise CannotStream(f"{path.suffix or 'no extension'} files are read whole")
+    if any(spec.response_for(name).max - spec.response_for(name).min > 250 for name in spec.items):
+        raise CannotStream("an answer range is too wide for one-byte codes")
+    if _is_parquet(path):
+        return [lambda: _parquet_batches(path, spec, columns, batch_rows=batch_rows, source=source)]
+    sep, raw_names = _delimited_header(path, "\t" if path.suffix.lower() == ".tsv" else None)
+    stripped = [name.strip() for name in raw_names]
+    missing = [name for name in [*spec.items, *columns] if name not in stripped]
+    if missing:
+        raise CannotStream(f"column {missing[0]!r} is absent")  # the whole-file reader names every one
+    whole_numbers = all(fits(spec.response_for(name)) for name in spec.items)
+    ways = [(True, False)] if whole_numbers else []
+    ways += [(False, False), (False, True)]
+    return [lambda as_int16=as_int16, quote_aware=quote_aware: _csv_batches(
+                path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16, quote_aware=quote_aware)
+            for as_int16, quote_aware in ways]
+
+
+class Retry(Exception):
+    """The parse must start again another way (a value holds a line break a quick parse may split wrongly)."""
+
+
+def retry_errors() -> tuple[type, ...]:
+    """The errors after which the next way of reading is tried."""
+    import pyarrow as pa
+
+    return (Retry, pa.ArrowInvalid, pa.ArrowNotImplementedError, UnicodeDecodeError)
+
+
+def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str], *, block_bytes: int,
+                 as_int16: bool, quote_aware: bool) -> Iterator[Any]:
+    """Arrow record batches of the file (item columns int16 or text, the rest text)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+    import pyarrow.csv as pacsv
+
+    wanted = set(items)
+    types = {raw: (pa.int16() if as_int16 and raw.strip() in wanted else pa.string()) for raw in raw_names}
+    reader = pacsv.open_csv(
+        path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
+        parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False, newlines_in_values=quote_aware),
+        convert_options=pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS),
+                                             strings_can_be_null=True))
+    if len(reader.schema.names) != len(raw_names):
+        raise CannotStream("the parser saw the header differently")
+    for batch in reader:
+        if batch.num_rows and all(column.null_count for column in batch.columns):
+            blank = pc.and_(*[pc.is_null(c) for c in batch.columns[:2]]) if batch.num_columns > 1 else \
+                pc.is_null(batch.column(0))
+            for column in batch.columns[2:]:
+                blank = pc.and_(blank, pc.is_null(column))
+            if pc.any(blank).as_py():
+                raise CannotStream("a row is blank in every column (an empty line?)")
+        if not quote_aware:
+            texts = [c for c, t in zip(batch.columns, batch.schema.types) if pa.types.is_string(t)]
+            if any(pc.any(pc.match_substring(c, "\n")).as_py() is True for c in texts):
+                raise Retry()  # a value holds a line break: only a quote-aware parse is safe
+        yield batch
+
+
+# ---------------------------------------------------------------------------------------------------- Parquet
+
+
+def _parquet_batches(path: Path, spec: Any, columns: Sequence[str], *, batch_rows: int,
+                     source: Any) -> Iterator[Any]:
+    import pyarrow.parquet as pq
+
+    try:
+        handle = pq.ParquetFile(source if source is not None else path)
+    except Exception as error:  # pyarrow raises its own types for broken files
+        raise CannotStream(str(error)) from None
+    names = handle.schema_arrow.names
+    stripped = {name.strip(): name for name in names}
+    missing = [name for name in [*spec.items, *columns] if name not in stripped]
+    if missing:
+        raise CannotStream(f"column {missing[0]!r} is absent")
+    yield from handle.iter_batches(batch_size=batch_rows, columns=[stripped[n] for n in dict.fromkeys([*spec.items,
+                                                                                                    *columns])])
+
+
+# ---------------------------------------------------------------------------------------------------- conversion
+
+
+def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: int, file: str = "",
+                  part: int = 0) -> Block:
+    """One Arrow record batch as a :class:`Block` (item codes, wanted columns, reading counts).
+
+    ``first_row`` is the row number of the batch's first row in ``file``, the ``part``-th file of a dataset
+    (0 for a single file): what reading finds is placed by (part, row, file), see
+    :class:`~scalewright.engine.reading.ReadingCounts`.
+    """
+    import pyarrow as pa
+
+    by_name = {name.strip(): position for position, name in enumerate(batch.schema.names)}
+    items = list(spec.items)
+    n = batch.num_rows
+    codes = np.empty((n, len(items)), dtype=np.uint8, order="F")
+    missing_codes, blanks, texts, refused, refused_first = {}, {}, {}, {}, {}
+    missing_texts: dict[str, dict[str, int]] = {}
+    as_floats: list[int] = []
+    values = None
+    for j, name in enumerate(items):
+        column = batch.column(by_name[name])
+        fmt = spec.response_for(name)
+        if column.type == pa.int16():
+            converted = convert_codes(column, fmt, out=codes[:, j])
+            raw = converted.raw
+        else:
+            if values is None:
+                values = np.empty((n, len(items)), dtype=np.float64, order="F")
+            series = column.to_pandas()
+            converted = convert_item(series, fmt, out=values[:, j])
+            raw = series
+            as_floats.append(j)
+        for counts, value in ((missing_codes, converted.missing_codes), (blanks, converted.blanks),
+                              (texts, converted.texts), (missing_texts, getattr(converted, "missing_texts", None))):
+            if value:
+                counts[name] = dict(value) if isinstance(value, dict) else value
+        bad = np.flatnonzero(converted.bad) if converted.bad.size else np.zeros(0, dtype=np.int64)
+        if bad.size:
+            refused[name] = int(bad.size)
+            shown = bad[:SHOW_FIRST]
+            as_read = raw.iloc[shown] if isinstance(raw, pd.Series) else raw[shown]
+            refused_first[name] = tuple(((part, first_row + int(row), file), _plain(value))
+                                        for row, value in zip(shown, as_read))
+    if as_floats:
+        float_answers = ItemAnswers.from_values(values[:, as_floats], [spec.response_for(items[j]).min for j in as_floats],
+                                                [spec.response_for(items[j]).max for j in as_floats])
+        float_codes = float_answers.codes_of(range(len(as_floats)))
+        if float_codes is None:
+            raise CannotStream("an answer is not a whole answer level (it needs the float route)")
+        codes[:, as_floats] = float_codes
+    wanted = {}
+    id_hashes, id_empty, unknown = (), (), {}
+    # "no answer" texts of every other column read (a CSV file's all, a Parquet file's wanted ones) read as
+    # missing and counted, blanks of the group columns counted, as the whole-file reader does
+    # (data.read_responses)
+    item_set = set(items)
+    others = pd.DataFrame({name: batch.column(position).to_pandas() for name, position in by_name.items()
+                           if name not in item_set})
+    others, found = clear_missing_texts(others, tuple(getattr(spec, "missing_texts", ()) or ()),
+                                        skip=[spec.id_column] if spec.id_column else (),
+                                        count_blank=tuple(spec.groups))
+    missing_texts.update({column: dict(counts) for column, counts in found.texts.items()})
+    blanks.update(found.blank)
+    for name in dict.fromkeys(columns):
+        series = others[name]
+        if name == spec.id_column:
+            hashes, id_empty = _id_check(series, (part, first_row, file))
+            id_hashes = (hashes,)
+        if name in spec.group_levels:
+            series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file))
+            if found:
+                unknown[name] = found
+        wanted[name] = series
+    reading = ReadingCounts(rows=n, missing_codes=missing_codes, blanks=blanks, texts=texts, refused=refused,
+                            refused_first=refused_first, id_hashes=id_hashes, id_empty=id_empty,
+                            unknown_levels=unknown, missing_texts=missing_texts, file_columns=tuple(by_name))
+    return Block(codes=codes, columns=wanted, reading=reading, first_row=first_row)
+
+
+def _plain(value: Any) -> Any:
+    """A numpy scalar as a plain Python value (summaries travel between processes)."""
+    return value.item() if isinstance(value, np.generic) else value
+
+
+def _at(start: tuple, offset: int) -> tuple:
+    """The place ``offset`` rows below ``start`` (part, row, file)."""
+    return (start[0], start[1] + offset, start[2])
+
+
+def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
+    empty = raw.isna().to_numpy().copy()
+    if raw.dtype == object or pd.api.types.is_string_dtype(raw.dtype):
+        empty |= (raw.astype("string").str.strip() == "").fillna(True).to_numpy()
+    found = ()
+    if empty.any():
+        found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),)
+    ids = _ids_as_text(raw[~empty]) if not empty.all() else pd.Series([], dtype=object)
+    hashes = pd.util.hash_pandas_object(ids.astype(str), index=False).to_numpy()
+    return hashes, found
+
+
+def _known_levels(values: pd.Series, order: Sequence[str], start: tuple) -> tuple[pd.Series, tuple]:
+    """The group column with levels the scale file does not list made missing, and the first such one."""
+    text = values.astype("string").str.strip()
+    text = text.mask(text == "")
+    unknown = (text.notna() & ~text.isin(order)).to_numpy(dtype=bool)
+    found = ()
+    if unknown.any():
+        first = int(np.flatnonzero(unknown)[0])
+        found = (_at(start, first), str(text.iloc[first]), int(unknown.sum()))
+    return text.where(~unknown), found
+
+
+__all__ = ["BATCH_ROWS", "BLOCK_BYTES", "Block", "CannotStream", "MISSING", "Retry", "batch_sources", "convert_batch",
+           "retry_errors", "streamable"]

@@ -1,0 +1,132 @@
+"""Which summaries a command needs, and the summary of one block of rows.
+
+A :class:`SummaryPlan` names the scales, whether their cross-products are listwise or pairwise, whether
+score value counts are wanted, the subgroup columns and the columns to count. :func:`summarise_block`
+turns one :class:`~scalewright.engine.blocks.Block` into a :class:`~scalewright.summaries.Summary` with
+the members ``reading`` (what reading found), ``scales`` (per scale), ``by`` (per subgroup column, per
+level as read, per scale) and ``categories`` (per counted column). Further members (per-pair
+contingency tables, per-missingness-pattern sums) are added here the same way.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..stats.missing_patterns import PatternSummary
+from ..summaries import (
+    AnswerCounts,
+    CategoryCounts,
+    Keyed,
+    ListwiseCrossProducts,
+    PairwiseCrossProducts,
+    ScoreCounts,
+    Summary,
+)
+
+
+@dataclass(frozen=True)
+class ScalePlan:
+    """One scale: its items' positions among the spec's items, answer range, keying and scoring rule."""
+
+    name: str
+    positions: tuple[int, ...]
+    low: int
+    high: int
+    reversed_mask: tuple[bool, ...]
+    method: str
+    required: int
+
+
+@dataclass(frozen=True)
+class SummaryPlan:
+    """What to summarise: ``cross_products`` is "listwise", "pairwise" or None; ``scores`` asks for score
+    value counts; ``by`` the subgroup columns; ``categories`` the columns whose values are counted."""
+
+    scales: tuple[ScalePlan, ...]
+    cross_products: str | None = "listwise"
+    answers: bool = True
+    scores: bool = False
+    by: tuple[str, ...] = ()
+    categories: tuple[str, ...] = ()
+    id_column: str | None = None
+    extra: tuple[str, ...] = field(default=())
+    #: listwise cross-products of every item of the scale file together (for the factor structure)
+    joint: bool = False
+    #: per-missingness-pattern statistics of each scale (the missing-data block: patterns, Little's test)
+    patterns: bool = False
+
+    @property
+    def columns(self) -> tuple[str, ...]:
+        """The non-item columns to read: the id (for its checks), the groups and the counted columns."""
+        wanted = ([self.id_column] if self.id_column else []) + list(self.extra) + list(self.by) + list(self.categories)
+        return tuple(dict.fromkeys(wanted))
+
+
+def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: bool = True, scores: bool = False,
+             by: tuple[str, ...] = (), categories: tuple[str, ...] = (), joint: bool = False,
+             patterns: bool = False) -> SummaryPlan:
+    """The plan of every scale of ``spec``."""
+    index = {name: position for position, name in enumerate(spec.items)}
+    categories = tuple(name for name in categories if name not in index)  # items are counted per scale
+    scales = tuple(ScalePlan(name=name, positions=tuple(index[item] for item in scale.items),
+                             low=int(scale.response.min), high=int(scale.response.max),
+                             reversed_mask=tuple(scale.is_reversed(item) for item in scale.items),
+                             method=scale.score, required=int(scale.required_answered()))
+                   for name, scale in spec.scales.items())
+    return SummaryPlan(scales=scales, cross_products=cross_products, answers=answers, scores=scores, by=tuple(by),
+                       categories=tuple(categories), id_column=spec.id_column, extra=tuple(spec.groups), joint=joint,
+                       patterns=patterns)
+
+
+def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
+    """Per scale, the summaries the plan asks for of these rows' answer codes."""
+    parts = {}
+    for scale in plan.scales:
+        part = np.asarray(codes[:, list(scale.positions)], order="F")
+        span = scale.high - scale.low
+        members: dict[str, Any] = {}
+        if plan.answers:
+            members["answers"] = AnswerCounts.from_codes(part, span + 1)
+        if plan.cross_products == "listwise":
+            members["cross_products"] = ListwiseCrossProducts.from_codes(part, span=span)
+        elif plan.cross_products == "pairwise":
+            members["cross_products"] = PairwiseCrossProducts.from_codes(part, span=span)
+        if plan.patterns:
+            members["patterns"] = PatternSummary.from_codes(part)
+        if plan.scores:
+            members["scores"] = ScoreCounts.from_codes(part, low=scale.low, high=scale.high,
+                                                       reversed_mask=np.array(scale.reversed_mask),
+                                                       method=scale.method, required=scale.required)
+        parts[scale.name] = Summary(members)
+    return Keyed(parts)
+
+
+def level_keys(values) -> tuple[np.ndarray, list[str]]:
+    """Each row's level as a position into the list of levels (as read, text stripped; -1 missing)."""
+    import pandas as pd
+
+    from ..summaries.categories import level_texts
+
+    positions, uniques = pd.factorize(level_texts(values))
+    return positions, [str(u) for u in uniques]
+
+
+def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
+    """The summary of one block of rows (see the module notes for its members)."""
+    by: dict[str, Keyed] = {}
+    for column in plan.by:
+        positions, levels = level_keys(block.columns[column])
+        by[column] = Keyed({level: summarise_codes(block.codes[positions == index], plan)
+                            for index, level in enumerate(levels)})
+    categories = {column: CategoryCounts.from_values(block.columns[column])
+                  for column in dict.fromkeys([*plan.by, *plan.categories])}
+    members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan), "by": Keyed(by),
+               "categories": Keyed(categories)}
+    if plan.joint:
+        span = max((scale.high - scale.low for scale in plan.scales), default=1)
+        members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)
+        # per-pattern statistics for the missing-data block (pattern counts, Little's test)
+        members["joint_patterns"] = PatternSummary.from_codes(block.codes)
+    return Summary(members)

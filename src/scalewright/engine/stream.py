@@ -1,0 +1,77 @@
+"""A file summarised block by block: parsed on pyarrow's threads, each block converted and summarised on
+a pool of threads as it arrives, merged into a running total and dropped. Memory holds a few blocks
+whatever the number of rows."""
+from __future__ import annotations
+
+from collections import deque
+from concurrent.futures import ThreadPoolExecutor
+from pathlib import Path
+from typing import Any
+
+from ..concurrency import worker_count
+from ..data import first_row_number
+from ..summaries import Summary
+from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .plan import SummaryPlan, summarise_block
+from .reading import ReadingOutcome, check_reading
+
+
+def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_bytes: int | None = None,
+                   batch_rows: int | None = None, source: Any = None, first_row: int | None = None,
+                   file: str = "", part: int = 0) -> Summary:
+    """The merged summary of every block of the file (reading not yet checked: see :func:`stream_summary`).
+
+    ``first_row`` is the row number of the file's first data row (default: 2 below a header, 1 in Parquet);
+    ``file`` and ``part`` name the file and its position when it is one partition of a dataset.
+    Raises :class:`~scalewright.engine.blocks.CannotStream` for a file only the whole-file reader reads.
+    """
+    path = Path(path)
+    ways = batch_sources(path, spec, plan.columns, block_bytes=block_bytes, batch_rows=batch_rows, source=source)
+    start = first_row_number(path) if first_row is None else first_row
+    for number, batches in enumerate(ways, start=1):
+        try:
+            return _summarise_batches(batches(), spec, plan, start, file=file, part=part)
+        except retry_errors() as error:
+            if number == len(ways):
+                raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+    raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
+
+
+def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *, file: str = "",
+                       part: int = 0) -> Summary:
+    workers = worker_count()
+    total: Summary | None = None
+    row = start
+
+    def summarise(batch: Any, first: int) -> Summary:
+        return summarise_block(convert_batch(batch, spec, plan.columns, first_row=first, file=file, part=part), plan)
+
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        pending: deque = deque()
+        for batch in batches:
+            pending.append(pool.submit(summarise, batch, row))
+            row += batch.num_rows
+            del batch
+            while len(pending) > workers:  # at most this many blocks held at once
+                done = pending.popleft().result()
+                total = done if total is None else total.merge(done)
+        while pending:
+            done = pending.popleft().result()
+            total = done if total is None else total.merge(done)
+    if total is None or total["reading"].rows == 0:
+        raise CannotStream("no rows")  # the whole-file reader says so
+    return total
+
+
+def stream_summary(path: str | Path, spec: Any, plan: SummaryPlan, *, lenient: bool = False,
+                   block_bytes: int | None = None, batch_rows: int | None = None) -> tuple[Summary, ReadingOutcome]:
+    """The summary of the file and its checked reading (errors raised as the whole-file reader raises them)."""
+    summary = summarise_file(path, spec, plan, block_bytes=block_bytes, batch_rows=batch_rows)
+    return summary, checked(str(path), summary, spec, lenient=lenient)
+
+
+def checked(path: str, summary: Summary, spec: Any, *, lenient: bool) -> ReadingOutcome:
+    counts = summary["reading"]
+    if counts.has_duplicate_ids():
+        raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
+    return check_reading(path, counts, spec, lenient=lenient)

@@ -1,0 +1,199 @@
+"""Benchmark of the streaming and Dask routes: memory flat in rows, time against pyarrow's own parse.
+
+Generates the fictional staff climate survey of ``bench_reliability.py`` (id, shift, 60 items in 10 scales
+of 6, answers 1-5, about 1% blanks) in chunks, so even 20,000,000 rows are written with little memory,
+as CSV (and, for ``dask``, as a folder of Parquet files), into FOLDER. Each measurement is one child
+process; peak memory is its maximum resident set size (``os.wait4`` rusage), time its wall time.
+
+    python tests/benchmarks/bench_engine.py FOLDER memory [--rows 1000000 4000000 20000000]
+    python tests/benchmarks/bench_engine.py FOLDER speed [--rows 1000000] [--repeat 3]
+    python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8]
+
+``memory``: `reliability`, `shape` and `tally --items` with ``--engine stream`` on each size (goal: peak
+on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
+route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
+multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
+--engine dask` on the Parquet folder with a local cluster of 1 and of 2 workers. Results are printed and
+written as JSON beside the data; record them, with ``cat /proc/loadavg``, in docs/performance.md.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import numpy as np
+
+N_SCALES = 10
+ITEMS_PER_SCALE = 6
+CHUNK_ROWS = 500_000
+
+
+def write_scales(folder: Path) -> Path:
+    scales = folder / "climate.yaml"
+    lines = ["version: 1", "title: Staff climate survey (benchmark)", "id_column: staff_id",
+             "groups: []", "response: {min: 1, max: 5, missing_codes: [9]}", "scales:"]
+    for s in range(N_SCALES):
+        names = [f"s{s}_{j}" for j in range(1, ITEMS_PER_SCALE + 1)]
+        lines += [f"  scale{s}:", f"    title: Scale {s}", f"    items: [{', '.join(names)}]",
+                  f"    reverse: [{names[2]}, {names[5]}]"]
+    scales.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    return scales
+
+
+def chunk_table(start: int, rows: int, seed: int):
+    """Rows ``start`` .. ``start + rows`` of the survey as an Arrow table (seeded per chunk)."""
+    import pyarrow as pa
+
+    rng = np.random.default_rng([seed, start])
+    columns = {"staff_id": pa.array(np.char.add("p", np.arange(start, start + rows).astype(str))),
+               "shift": pa.array(rng.choice(np.array(["day", "night", "rotating"]), rows))}
+    cuts = np.array([-1.3, -0.4, 0.4, 1.3])
+    for s in range(N_SCALES):
+        factor = rng.standard_normal(rows).astype(np.float32)
+        for j in range(1, ITEMS_PER_SCALE + 1):
+            answer = 0.7 * factor + 0.71 * rng.standard_normal(rows).astype(np.float32)
+            if j in (3, 6):
+                answer = -answer
+            codes = (1 + np.searchsorted(cuts, answer)).astype(np.int8)
+            columns[f"s{s}_{j}"] = pa.array(codes, mask=rng.random(rows) < 0.01)
+    return pa.table(columns)
+
+
+def write_csv(folder: Path, rows: int, seed: int = 2026) -> Path:
+    import pyarrow.csv as pacsv
+
+    data = folder / f"climate_{rows}.csv"
+    if data.exists():
+        return data
+    partial = data.with_suffix(".partial")
+    with pacsv.CSVWriter(partial, chunk_table(0, 1, seed).schema) as writer:
+        for start in range(0, rows, CHUNK_ROWS):
+            writer.write_table(chunk_table(start, min(CHUNK_ROWS, rows - start), seed))
+    partial.rename(data)
+    return data
+
+
+def write_parquet_folder(folder: Path, rows: int, parts: int, seed: int = 2026) -> Path:
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    target = folder / f"climate_{rows}_{parts}parts"
+    if target.exists():
+        return target
+    partial = folder / (target.name + ".partial")
+    partial.mkdir(exist_ok=True)
+    per_part = -(-rows // parts)
+    for part in range(parts):
+        start, stop = part * per_part, min(rows, (part + 1) * per_part)
+        tables = [chunk_table(s, min(CHUNK_ROWS, stop - s), seed) for s in range(start, stop, CHUNK_ROWS)]
+        pq.write_table(pa.concat_tables(tables), partial / f"part-{part:03d}.parquet", row_group_size=131072)
+    partial.rename(target)
+    return target
+
+
+def run_child(arguments: list[str]) -> tuple[float, float, int]:
+    """Wall seconds, peak RSS in MB and exit status of one child process."""
+    start = time.perf_counter()
+    process = subprocess.Popen(arguments, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
+    _, status, usage = os.wait4(process.pid, 0)
+    elapsed = time.perf_counter() - start
+    code = os.waitstatus_to_exitcode(status)
+    if code:
+        sys.stderr.write(process.stderr.read().decode())
+    return elapsed, usage.ru_maxrss / 1024, code  # Linux reports kilobytes
+
+
+def command(*arguments: str) -> list[str]:
+    return [sys.executable, "-c", "import sys; from scalewright.cli import main; sys.exit(main(sys.argv[1:]))",
+            *arguments]
+
+
+def load() -> str:
+    return Path("/proc/loadavg").read_text().strip() if Path("/proc/loadavg").exists() else "unknown"
+
+
+def measure(label: str, arguments: list[str], results: list[dict], **fields) -> dict:
+    seconds, peak, code = run_child(arguments)
+    record = {"what": label, "seconds": round(seconds, 2), "peak_mb": round(peak), "exit": code,
+              "load": load(), **fields}
+    print(json.dumps(record), flush=True)
+    results.append(record)
+    return record
+
+
+COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"]}
+
+
+def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], names: list[str],
+           whole: bool = True) -> None:
+    for rows in sizes:
+        data = write_csv(folder, rows)
+        for name, extra in ((name, COMMANDS[name]) for name in names):
+            measure(f"{name} stream", command(name, str(data), "--scales", str(scales), "--format", "json",
+                                              "--out", str(folder / f"{name}_{rows}.json"), "--engine", "stream",
+                                              *extra), results, rows=rows, file_mb=round(data.stat().st_size / 1e6))
+    data = write_csv(folder, min(sizes))
+    for name, extra in ((name, COMMANDS[name]) for name in names if whole):
+        measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
+                                          "--out", str(folder / f"{name}_{min(sizes)}_memory.json"),
+                                          "--engine", "memory", *extra), results, rows=min(sizes))
+
+
+def speed(folder: Path, scales: Path, rows: int, repeat: int, results: list[dict]) -> None:
+    data = write_csv(folder, rows)
+    parse = [sys.executable, "-c", f"import pyarrow.csv as c; c.read_csv({str(data)!r})"]
+    for _ in range(repeat):
+        bare = measure("pyarrow.csv.read_csv", parse, results, rows=rows)
+        streamed = measure("reliability stream", command("reliability", str(data), "--scales", str(scales),
+                                                         "--format", "json", "--out", str(folder / "speed.json"),
+                                                         "--engine", "stream"), results, rows=rows)
+        print(f"ratio {streamed['seconds'] / bare['seconds']:.2f}", flush=True)
+
+
+def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict]) -> None:
+    dataset = write_parquet_folder(folder, rows, parts)
+    for workers in (1, 2):
+        measure(f"reliability dask {workers} worker(s)",
+                command("reliability", str(dataset), "--scales", str(scales), "--format", "json",
+                        "--out", str(folder / f"dask_{workers}.json"), "--engine", "dask", "--workers", str(workers)),
+                results, rows=rows, parts=parts, workers=workers)
+
+
+def main() -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("folder", type=Path)
+    parser.add_argument("what", choices=["memory", "speed", "dask", "generate"])
+    parser.add_argument("--rows", type=int, nargs="+", default=None)
+    parser.add_argument("--repeat", type=int, default=3)
+    parser.add_argument("--parts", type=int, default=8)
+    parser.add_argument("--commands", nargs="+", default=list(COMMANDS), choices=list(COMMANDS))
+    parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
+    options = parser.parse_args()
+    options.folder.mkdir(parents=True, exist_ok=True)
+    scales = write_scales(options.folder)
+    results: list[dict] = []
+    if options.what == "generate":
+        for rows in options.rows or [1_000_000, 4_000_000, 20_000_000]:
+            start = time.perf_counter()
+            data = write_csv(options.folder, rows)
+            print(f"{data}: {data.stat().st_size / 1e6:.0f} MB in {time.perf_counter() - start:.0f} s", flush=True)
+    elif options.what == "memory":
+        memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results, options.commands,
+               whole=not options.no_whole)
+    elif options.what == "speed":
+        speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
+    else:
+        dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results)
+    if results:
+        out = options.folder / f"bench_engine_{options.what}.json"
+        out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results}, indent=2), encoding="utf-8")
+    return 0 if all(r["exit"] == 0 for r in results) else 1
+
+
+if __name__ == "__main__":
+    sys.exit(main())

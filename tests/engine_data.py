@@ -1,0 +1,65 @@
+"""Test data for the streaming and Dask routes: a fictional staff climate survey generated in code."""
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+
+SCALES = """\
+version: 1
+title: Staff climate survey
+id_column: staff_id
+groups: [shift]
+response:
+  min: 1
+  max: 5
+  labels: {1: Strongly disagree, 2: Disagree, 3: Neither, 4: Agree, 5: Strongly agree}
+  missing_codes: [9]
+scales:
+  workload:
+    title: Workload strain
+    items: [wl1, wl2, wl3, wl4]
+    reverse: [wl2]
+  climate:
+    title: Team climate
+    items: [cl1, cl2, cl3]
+    score: sum
+    min_answered: 2
+"""
+
+ITEMS = ["wl1", "wl2", "wl3", "wl4", "cl1", "cl2", "cl3"]
+
+
+def survey_rows(n: int, seed: int = 11) -> list[list[str]]:
+    """Rows of text cells: id, shift, site and seven items (about 5% blank, 1% 'no answer' code 9)."""
+    rng = np.random.default_rng(seed)
+    factor = rng.standard_normal((n, 1))
+    latent = 0.7 * factor + 0.7 * rng.standard_normal((n, len(ITEMS)))
+    answers = (1 + (latent[:, :, None] > np.array([-1.2, -0.4, 0.4, 1.2])).sum(axis=2)).astype(object)
+    answers[:, 1] = 6 - answers[:, 1]
+    answers[rng.random(answers.shape) < 0.05] = ""
+    answers[rng.random(answers.shape) < 0.01] = 9
+    shift = rng.choice(["day", "night", "late", "weekend"], size=n, p=[0.46, 0.46, 0.077, 0.003])
+    site = rng.choice(["north", "south", ""], size=n, p=[0.5, 0.45, 0.05])
+    return [[f"s{i:05d}", shift[i], site[i], *[str(a) for a in answers[i]]] for i in range(n)]
+
+
+HEADER = ["staff_id", "shift", "site", *ITEMS]
+
+
+def write_csv(path: Path, rows: list[list[str]], header: list[str] = HEADER) -> Path:
+    path.write_text("\n".join(",".join(row) for row in [header, *rows]) + "\n", encoding="utf-8")
+    return path
+
+
+def write_parquet(path: Path, rows: list[list[str]], *, row_group_size: int = 1000) -> Path:
+    """The rows as Parquet, items as nullable integers (9 kept as the 'no answer' code)."""
+    import pyarrow as pa
+    import pyarrow.parquet as pq
+
+    columns = {"staff_id": pa.array([r[0] for r in rows]), "shift": pa.array([r[1] for r in rows]),
+               "site": pa.array([r[2] or None for r in rows])}
+    for j, item in enumerate(ITEMS):
+        columns[item] = pa.array([int(r[3 + j]) if r[3 + j] else None for r in rows], type=pa.int64())
+    pq.write_table(pa.table(columns), path, row_group_size=row_group_size)
+    return path

@@ -1,0 +1,85 @@
+"""The Dask route: a Parquet dataset of several files on a local cluster of two workers gives the JSON of
+the in-memory run on the same rows, apart from provenance (input digests, the engine block)."""
+from __future__ import annotations
+
+import io
+import json
+from contextlib import redirect_stderr, redirect_stdout
+from pathlib import Path
+
+import pytest
+
+from scalewright.cli import main
+
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
+
+pytest.importorskip("distributed")
+
+
+def run(*args: str) -> tuple[int, str, str]:
+    out, err = io.StringIO(), io.StringIO()
+    with redirect_stdout(out), redirect_stderr(err):
+        code = main(list(args))
+    return code, out.getvalue(), err.getvalue()
+
+
+def without_provenance(document: dict) -> dict:
+    document = dict(document)
+    document.pop("input")
+    document.pop("engine", None)
+    return document
+
+
+@pytest.fixture(scope="module")
+def cluster():
+    from dask.distributed import LocalCluster
+
+    # threads, not processes: the test stays fast; the partitions still go to two separate workers
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
+        yield local
+
+
+@pytest.fixture
+def dataset(tmp_path: Path) -> tuple[Path, Path, Path]:
+    """The same 2,400 rows as one CSV file and as a folder of four Parquet files."""
+    rows = survey_rows(2400, seed=5)
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    folder = tmp_path / "survey"
+    folder.mkdir()
+    for part in range(4):
+        write_parquet(folder / f"part-{part}.parquet", rows[part * 600:(part + 1) * 600], row_group_size=250)
+    return write_csv(tmp_path / "survey.csv", rows), folder, scales
+
+
+@pytest.mark.parametrize("options", [("--by", "shift"), ("--pairwise", "--by", "site")])
+def test_dask_dataset_equals_the_in_memory_run(cluster, dataset, options):
+    whole_file, folder, scales = dataset
+    code_m, out_m, err_m = run("reliability", str(whole_file), "-s", str(scales), "--format", "json",
+                               "--engine", "memory", *options)
+    code_d, out_d, err_d = run("reliability", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
+                               "--scheduler", cluster.scheduler_address, *options)
+    assert code_m == 0 and code_d == 0, (err_m, err_d)
+    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    assert on_dask["engine"] == {"name": "dask", "scheduler": cluster.scheduler_address, "partitions": 4}
+    assert without_provenance(on_dask) == without_provenance(in_memory)
+
+
+def test_a_glob_of_csv_files_and_a_refused_value_naming_its_file_and_row(cluster, dataset, tmp_path):
+    scales = dataset[2]
+    rows = survey_rows(300, seed=9)
+    rows[150 + 123][4] = "8"  # wl2 of the 124th data row of the second file: its row 125 below the header
+    write_csv(tmp_path / "wave-0.csv", rows[:150])
+    write_csv(tmp_path / "wave-1.csv", rows[150:])
+    code, _, err = run("reliability", str(tmp_path / "wave-*.csv"), "-s", str(scales), "--engine", "dask",
+                       "--scheduler", cluster.scheduler_address)
+    assert code == 4 and "wave-1.csv (row 125, column wl2): 8 is outside" in err
+    code, out, err = run("reliability", str(tmp_path / "wave-*.csv"), "-s", str(scales), "--engine", "dask",
+                         "--scheduler", cluster.scheduler_address, "--lenient", "--format", "json")
+    assert code == 0 and json.loads(out)["reading"]["refused_by_column"] == {"wl2": 1}
+
+
+def test_scheduler_without_dask_is_a_usage_error(dataset):
+    whole_file, _, scales = dataset
+    code, _, err = run("reliability", str(whole_file), "-s", str(scales), "--scheduler", "tcp://nowhere:1")
+    assert code == 2 and "--engine dask" in err
