@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..analyses.reliability import analyse_reliability
+from ..errors import UsageError
 from ..seeds import DEFAULT_SEED
 from .common import (
     by_option,
@@ -72,6 +73,9 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     from ..stats.reliability import ReliabilityThresholds
 
     method = resolve_missing(missing, pairwise)
+    if method == "em" and n_resamples:
+        raise UsageError("--bootstrap is not available with --missing em: it would rerun EM on every resample; "
+                         "the interval under em is Feldt's (see the note)")
     # the summaries serve listwise and pairwise covariances; any other option takes the whole-file route
     needs_rows = first_needing_rows(bootstrap=bool(n_resamples), exclude=exclude is not None, ordinal=ordinal,
                                     missing=method not in ("listwise", "pairwise"))

@@ -25,7 +25,7 @@ LISTWISE_WARNING_PCT = 5.0
 
 def check_method(method: str) -> str:
     if method not in METHODS:
-        raise UsageError(f"--missing takes one of {', '.join(METHODS)}, not {method!r}")
+        raise UsageError(f"the missing-data method is one of {', '.join(METHODS)}, not {method!r}")
     return method
 
 

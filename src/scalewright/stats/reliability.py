@@ -773,8 +773,8 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     method = check_method(missing or ("pairwise" if pairwise else "listwise"))
     pairwise = method == "pairwise"
     if method == "em" and n_resamples:
-        raise UsageError("the bootstrap of alpha is not available with --missing em: it would rerun EM on every "
-                         "resample; the interval under em is Feldt's (see the note)")
+        raise UsageError("the bootstrap of alpha is not available with the em method: it would rerun EM on "
+                         "every resample; the interval under em is Feldt's (see the note)")
 
     names = tuple(item_names)
     if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):

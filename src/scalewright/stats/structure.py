@@ -403,7 +403,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     if scale_items is None:
         scale_items = {scale: [name for name in item_names if item_scale[name] == scale] for scale in scales}
     if isinstance(n_factors, str) and n_factors != "scales":
-        raise UsageError(f"--factors takes a whole number or 'scales', not {n_factors!r}")
+        raise UsageError(f"the number of factors is a whole number or 'scales', not {n_factors!r}")
 
     notes: list[str] = []
     flags: list[StructureFlag] = []
