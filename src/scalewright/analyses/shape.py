@@ -7,6 +7,26 @@ from typing import Any
 from ..seeds import DEFAULT_SEED
 
 
+def score_axis(scale: Any) -> dict[str, Any]:
+    """What the shape statistics of a scale score need to know of its axis: the attainable scores, the ends of
+    the possible range, the resolution and the axis label. One place, for the whole-file and the streamed
+    routes alike."""
+    from ..scoring import score_range
+    from ..stats.score_grid import attainable_scores, score_resolution
+
+    fmt = scale.response
+    low, high = score_range(scale)
+    word = "mean" if scale.score == "mean" else "prorated sum"
+    return {
+        "x_label": f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})",
+        "attainable": attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score,
+                                        min_answered=scale.required_answered()),
+        "low": low, "high": high,
+        "resolution": score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
+        "answer_levels": len(fmt.levels),
+    }
+
+
 def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                   min_group: int = 10, seed: int = DEFAULT_SEED, scores: Any = None) -> dict[str, dict[str, Any]]:
@@ -15,8 +35,7 @@ def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: b
     Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.
     ``scores`` may pass an existing ScoreTable, so the scores are not made twice.
     """
-    from ..scoring import composite, keyed_items, score_range
-    from ..stats.score_grid import attainable_scores, score_resolution
+    from ..scoring import composite, keyed_items
     from ..stats.shape import ShapeReport, describe_by_subgroup, describe_scores
 
     group_values = {column: responses.column(column) for column in by}
@@ -33,13 +52,9 @@ def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: b
         fmt = scale.response
         values = scores.scales[name].scores if scores is not None else \
             composite(keyed_items(responses, scale), method=scale.score, required=scale.required_answered())[0]
-        low, high = score_range(scale)
-        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
-        word = "mean" if scale.score == "mean" else "prorated sum"
-        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
-        scales[name] = report(name, scale.title, "scale", values, x_label, attainable=grid, low=low, high=high,
-                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
-                              answer_levels=len(fmt.levels))
+        axis = score_axis(scale)
+        x_label = axis.pop("x_label")
+        scales[name] = report(name, scale.title, "scale", values, x_label, **axis)
     item_reports: dict[str, ShapeReport] = {}
     if items:
         import numpy as np

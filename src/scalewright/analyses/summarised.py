@@ -193,10 +193,9 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
                          percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                          min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
     """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
-    from ..scoring import score_range
-    from ..stats.score_grid import attainable_scores, score_resolution
     from ..stats.shape import ShapeReport, SubgroupShapes, describe_scores
     from ..stats.subgroups import SubgroupSplit
+    from .shape import score_axis
 
     level_parts = {}
     for column in by:
@@ -228,15 +227,10 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
 
     scales: dict[str, Any] = {}
     for name, scale in spec.scales.items():
-        fmt = scale.response
-        low, high = score_range(scale)
-        grid = attainable_scores(fmt.min, fmt.max, scale.k, method=scale.score, min_answered=scale.required_answered())
-        word = "mean" if scale.score == "mean" else "prorated sum"
-        x_label = f"{scale.title} ({word} of {scale.k} item{'s' if scale.k > 1 else ''}, {low:g} to {high:g})"
-        scales[name] = report(name, scale.title, "scale", lambda parts, name=name, **only: _score_sample(parts[name], **only),
-                              x_label, attainable=grid, low=low, high=high,
-                              resolution=score_resolution(fmt.min, fmt.max, scale.k, method=scale.score),
-                              answer_levels=len(fmt.levels))
+        axis = score_axis(scale)
+        x_label = axis.pop("x_label")
+        scales[name] = report(name, scale.title, "scale",
+                              lambda parts, name=name, **only: _score_sample(parts[name], **only), x_label, **axis)
     item_reports: dict[str, Any] = {}
     if items:
         for item in spec.items:
