@@ -52,7 +52,8 @@ def test_page_in_headless_chromium(report_folder, tmp_path):
             page.screenshot(path=str(tmp_path / "report-top.png"))
             page.screenshot(path=str(tmp_path / "report-full.png"), full_page=True)
 
-            assert console_errors == [] and page_errors == []
+            assert console_errors == []
+            assert page_errors == []
             assert requests == [page_url], f"requests beyond the page itself: {requests}"
             assert page.evaluate("typeof window.__pwned") == "undefined"
             assert page.evaluate("document.scripts.length") == 0
@@ -68,7 +69,8 @@ def test_page_in_headless_chromium(report_folder, tmp_path):
             assert len(drawn) == len(figure_files) >= 4
             for figure in drawn:
                 assert figure["w"] > 100 and figure["h"] > 50 and figure["shapes"] > 5, figure
-                assert figure["label"] and figure["title"]
+                assert figure["label"]
+                assert figure["title"]
 
             # folded detail holds some of the hostile texts: open it all, as a reader would
             page.evaluate("document.querySelectorAll('details').forEach(d => d.open = true)")
@@ -79,7 +81,7 @@ def test_page_in_headless_chromium(report_folder, tmp_path):
             headings = page.evaluate("Array.from(document.querySelectorAll('h1,h2,h3,h4,h5,h6'))"
                                      ".map(h => Number(h.tagName[1]))")
             assert headings[0] == 1
-            assert all(after <= before + 1 for before, after in zip(headings, headings[1:]))
+            assert all(after <= before + 1 for before, after in zip(headings, headings[1:], strict=False))
 
             page.emulate_media(media="print")
             page.pdf(path=str(tmp_path / "report.pdf"), format="A4") if hasattr(page, "pdf") else None

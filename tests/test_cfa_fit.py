@@ -257,7 +257,8 @@ def test_least_squares_estimators_agree_with_a_generic_optimizer():
 def test_two_item_scale_alone_is_not_identified():
     # reference: counting rule, 3 moments < 4 parameters (common practice, no source)
     result = fit(np.array([[1.0, .5], [.5, 1.0]]), 100, factor_model({"f": ["a", "b"]}))
-    assert not result.identified and not result.fitted
+    assert not result.identified
+    assert not result.fitted
     assert [n.code for n in result.notes] == ["not-identified"]
     assert np.isnan(fit_indices(result).chi2)
 

@@ -20,15 +20,19 @@ def _run(args: list[str]) -> tuple[int, str, str]:
     return code, out.getvalue(), err.getvalue()
 
 
-@pytest.mark.parametrize("typed, meant", [("reliabilty", "reliability"), ("shap", "shape"), ("sreen", "screen")])
+@pytest.mark.parametrize(("typed", "meant"), [("reliabilty", "reliability"), ("shap", "shape"), ("sreen", "screen")])
 def test_mistyped_command_gets_did_you_mean(typed, meant):
     code, _, err = _run([typed, "x.csv"])
-    assert code == 2 and err.startswith("error: ") and f"did you mean '{meant}'?" in err
+    assert code == 2
+    assert err.startswith("error: ")
+    assert f"did you mean '{meant}'?" in err
 
 
 def test_unknown_command_lists_the_commands():
     code, _, err = _run(["zzzz"])
-    assert code == 2 and "reliability" in err and "Traceback" not in err
+    assert code == 2
+    assert "reliability" in err
+    assert "Traceback" not in err
 
 
 @pytest.mark.parametrize("name", list(COMMANDS))
@@ -50,8 +54,11 @@ def test_lint_json_lists_every_problem(tmp_path):
     scales.write_text("version: 1\nscales: {a: {items: [x], reverse: [y]}}\n", encoding="utf-8")
     code, out, _ = _run(["lint", "--scales", str(scales), "--format", "json"])
     document = json.loads(out)
-    assert code == 3 and document["exit_code"] == 3 and document["clean"] is False
-    assert document["tool"]["name"] == "scalewright" and document["input"]["scales_sha256"]
+    assert code == 3
+    assert document["exit_code"] == 3
+    assert document["clean"] is False
+    assert document["tool"]["name"] == "scalewright"
+    assert document["input"]["scales_sha256"]
     assert {p["where"] for p in document["problems"]} >= {"scales.a.reverse"}
     assert all(p["line"] == 2 for p in document["problems"])
 
@@ -60,10 +67,12 @@ def test_lint_json_of_a_clean_file(tmp_path):
     scales = tmp_path / "ok.yaml"
     scales.write_text("version: 1\nresponse: {min: 1, max: 5}\nscales: {a: {items: [x, y]}}\n", encoding="utf-8")
     code, out, _ = _run(["lint", "-s", str(scales), "-f", "json"])
-    assert code == 0 and json.loads(out)["clean"] is True and json.loads(out)["problems"] == []
+    assert code == 0
+    assert json.loads(out)["clean"] is True
+    assert json.loads(out)["problems"] == []
 
 
-@pytest.mark.parametrize("value, shown", [(12.0, "12"), (312, "312"), (123.5, "123.50"), (17.42, "17.42")])
+@pytest.mark.parametrize(("value", "shown"), [(12.0, "12"), (312, "312"), (123.5, "123.50"), (17.42, "17.42")])
 def test_whole_numbers_print_whole(value, shown):
     # degrees of freedom and U statistics are counts or half-counts: "12", not "12.00"
     assert format_value(value, "whole") == shown

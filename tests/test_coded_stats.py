@@ -42,14 +42,14 @@ def nearly_equal(a, b, rel: float = 1e-9, key: str = "") -> bool:
         return a.keys() == b.keys() and all(nearly_equal(a[name], b[name], rel, name) for name in a
                                             if name != "message")
     if isinstance(a, (list, tuple)):
-        return len(a) == len(b) and all(nearly_equal(x, y, rel, key) for x, y in zip(a, b))
+        return len(a) == len(b) and all(nearly_equal(x, y, rel, key) for x, y in zip(a, b, strict=True))
     if isinstance(a, float) and isinstance(b, float):
         tolerance = 1e-6 if ("omega" in key or "loading" in key) else rel
         return math.isclose(a, b, rel_tol=tolerance, abs_tol=tolerance)
     return a == b
 
 
-@pytest.mark.parametrize("span, missing", [(4, 0.0), (4, 0.03), (6, 0.1), (10, 0.02), (100, 0.01)])
+@pytest.mark.parametrize(("span", "missing"), [(4, 0.0), (4, 0.03), (6, 0.1), (10, 0.02), (100, 0.01)])
 def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missing):
     rng = np.random.default_rng(span)
     codes = coded_scale(rng, 3000, 5, span, missing)
@@ -61,7 +61,8 @@ def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missi
     # reference: numpy.cov (ddof 1) and mean on the rows that answered every item
     np.testing.assert_allclose(result.cov, np.cov(complete, rowvar=False), rtol=1e-12, atol=1e-13)
     np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-13, atol=1e-13)
-    assert result.n_used == complete.shape[0] and result.n_rows == 3000
+    assert result.n_used == complete.shape[0]
+    assert result.n_rows == 3000
 
 
 @pytest.mark.parametrize("span", [32, 33, 250])  # widest range in float32 blocks, the next one, the widest
@@ -76,7 +77,7 @@ def test_cross_products_stay_exact_over_several_full_blocks(span):
     np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-14)
 
 
-@pytest.mark.parametrize("span, missing", [(4, 0.0), (4, 0.15), (10, 0.3)])
+@pytest.mark.parametrize(("span", "missing"), [(4, 0.0), (4, 0.15), (10, 0.3)])
 def test_pairwise_covariance_equals_pandas(span, missing):
     import pandas as pd
 

@@ -73,18 +73,22 @@ def test_confirm_json_contract(tmp_path, capsys):
                 "srmr", "aic", "bic", "loadings", "factor_correlations", "omega", "residual_correlations",
                 "modification_hints", "notes", "chi2_convention"):
         assert key in workload
-    assert workload["estimator"] == "ml" and workload["df"] == 2
+    assert workload["estimator"] == "ml"
+    assert workload["df"] == 2
     assert 0.6 < workload["loadings"]["wl4"]["workload"] < 0.95  # keyed before fitting
     assert set(workload["omega"]["workload"]) >= {"omega_total", "omega_ci"}
-    assert len(workload["residual_correlations"]) == 6 and set(workload["residual_correlations"][0]) == {"a", "b",
+    assert len(workload["residual_correlations"]) == 6
+    assert set(workload["residual_correlations"][0]) == {"a", "b",
                                                                                                          "value"}
     # a scale of two items on its own is not identified: null indices and a note, no crash
     pair = models["pair"]
-    assert pair["chi2"] is None and pair["cfi"] is None
+    assert pair["chi2"] is None
+    assert pair["cfi"] is None
     assert pair["notes"][0]["code"] == "not-identified"
     # the whole file: correlated factors, the pair identified beside the others
     whole = models["all"]
-    assert whole["structure"] == "correlated-factors" and whole["identified"]
+    assert whole["structure"] == "correlated-factors"
+    assert whole["identified"]
     assert whole["factor_correlations"]["workload"]["climate"] == pytest.approx(0.4, abs=0.1)
     assert -1 < whole["factor_correlations"]["pair"]["climate"] < 1
     assert document["observed_score_correlations"]["workload"]["climate"] < \
@@ -112,7 +116,8 @@ def test_confirm_tables_render_and_change_no_file(tmp_path, capsys):
     before = folder_fingerprint(tmp_path)
     assert main(["confirm", str(data), "--scales", str(scales), "--format", "table"]) == 0
     out = capsys.readouterr().out
-    assert "Confirmatory factor models: fit" in out and "Hu & Bentler 1999" in out
+    assert "Confirmatory factor models: fit" in out
+    assert "Hu & Bentler 1999" in out
     assert "not identified" in out
     assert folder_fingerprint(tmp_path) == before
 
@@ -122,7 +127,10 @@ def test_confirm_unknown_by_column_is_a_one_line_error(tmp_path, capsys):
     data, scales = write_survey(tmp_path, n=100)
     code = main(["confirm", str(data), "--scales", str(scales), "--by", "shfit"])
     err = capsys.readouterr().err
-    assert code == 4 and err.startswith("error:") and "shfit" in err and "Traceback" not in err
+    assert code == 4
+    assert err.startswith("error:")
+    assert "shfit" in err
+    assert "Traceback" not in err
 
 
 def test_reliability_shows_the_confirmatory_omega_and_fit(tmp_path, capsys):
@@ -133,7 +141,8 @@ def test_reliability_shows_the_confirmatory_omega_and_fit(tmp_path, capsys):
     workload = document["scales"]["workload"]
     confirmatory = workload["confirmatory"]
     assert confirmatory["omega"]["omega_total"] == pytest.approx(workload["omega_total"], abs=1e-6)
-    assert confirmatory["df"] == 2 and confirmatory["cfi"] is not None
+    assert confirmatory["df"] == 2
+    assert confirmatory["cfi"] is not None
     assert document["scales"]["pair"]["confirmatory"]["notes"][0]["code"] == "not-identified"
 
 
@@ -143,4 +152,5 @@ def test_compare_mentions_the_invariance_verdict(tmp_path, capsys):
     assert main(["compare", str(data), "--scales", str(scales), "--by", "shift", "--format", "json"]) == 0
     document = json.loads(capsys.readouterr().out)
     record = document["scales"]["climate"]["by"]["shift"]["invariance"]
-    assert record["level"] in ("scalar", "strict") and "means can be compared" in record["sentence"]
+    assert record["level"] in ("scalar", "strict")
+    assert "means can be compared" in record["sentence"]

@@ -62,7 +62,8 @@ def test_ordinal_dwls_recovers_population_loadings(tmp_path, capsys):
     answers = (1 + (latent[..., None] > cuts).sum(axis=-1)).astype(float)
     data, scales = write_files(tmp_path, answers, 1, 5)
     document = run_json(capsys, str(data), "--scales", str(scales), "--ordinal")
-    assert document["estimator"] == "dwls" and document["correlation_type"] == "polychoric"
+    assert document["estimator"] == "dwls"
+    assert document["correlation_type"] == "polychoric"
     assert document["options"]["estimator"] == "dwls"
     model = document["models"]["climate"]
     assert model["estimator"] == "dwls"
@@ -72,7 +73,8 @@ def test_ordinal_dwls_recovers_population_loadings(tmp_path, capsys):
     assert any(n["code"] == "dwls-polychoric" for n in document["notes"])
     # the Pearson ML fit of the same coarse answers is attenuated: the polychoric route is what recovers l
     pearson = run_json(capsys, str(data), "--scales", str(scales))
-    assert pearson["estimator"] == "ml" and pearson["correlation_type"] == "covariance"
+    assert pearson["estimator"] == "ml"
+    assert pearson["correlation_type"] == "covariance"
     assert np.max(np.abs(loadings_of(pearson["models"]["climate"]) - LOADINGS)) > 0.03
 
 
@@ -82,7 +84,9 @@ def test_ordinal_table_states_the_estimator(tmp_path, capsys):
     data, scales = write_files(tmp_path, answers, 1, 3)
     assert main(["confirm", str(data), "--scales", str(scales), "--ordinal", "--format", "table"]) == 0
     out = capsys.readouterr().out
-    assert "diagonally weighted least squares" in out and "Muthén 1984" in out and "Flora & Curran 2004" in out
+    assert "diagonally weighted least squares" in out
+    assert "Muthén 1984" in out
+    assert "Flora & Curran 2004" in out
 
 
 def fine_answers(latent: np.ndarray) -> np.ndarray:
@@ -99,10 +103,12 @@ def test_em_equals_listwise_exactly_when_nothing_is_missing(tmp_path, capsys):
     em = run_json(capsys, str(data), "--scales", str(scales), "--missing", "em")
     for name in ("climate", "support", "all"):
         a, b = listwise["models"][name], em["models"][name]
-        assert a["missing_method"] == "listwise" and b["missing_method"] == "em"
+        assert a["missing_method"] == "listwise"
+        assert b["missing_method"] == "em"
         for key in ("n_used", "chi2", "df", "cfi", "rmsea", "srmr", "loadings", "factor_correlations", "omega"):
             assert a[key] == b[key], (name, key)
-        assert b["missing_patterns"] == [{"n_missing": 0, "respondents": 800}] and b["mcar_test"] is None
+        assert b["missing_patterns"] == [{"n_missing": 0, "respondents": 800}]
+        assert b["mcar_test"] is None
 
 
 def test_em_closer_to_population_than_listwise_under_mar(tmp_path, capsys):
@@ -120,7 +126,8 @@ def test_em_closer_to_population_than_listwise_under_mar(tmp_path, capsys):
     em_error = np.max(np.abs(loadings_of(em) - LOADINGS))
     listwise_error = np.max(np.abs(loadings_of(listwise) - LOADINGS))
     assert em_error < 0.03 < listwise_error
-    assert em["n_used"] == 20_000 and listwise["n_used"] < 15_000
+    assert em["n_used"] == 20_000
+    assert listwise["n_used"] < 15_000
     assert em["mcar_test"]["pvalue"] < 0.001  # Little (1988) sees the MAR gaps
     assert sum(p["respondents"] for p in em["missing_patterns"]) == 20_000
     assert any(n["code"] == "em-basis-confirm-scale" for n in em["missing_notes"])
@@ -135,7 +142,8 @@ def test_em_whole_file_uses_every_item_and_says_so(tmp_path, capsys):
     data, scales = write_files(tmp_path, answers, 0, 100, extra_scale=True)
     document = run_json(capsys, str(data), "--scales", str(scales), "--missing", "em")
     whole = document["models"]["all"]
-    assert whole["missing_method"] == "em" and whole["n_used"] == 490
+    assert whole["missing_method"] == "em"
+    assert whole["n_used"] == 490
     assert [n["code"] for n in whole["missing_notes"] if n["code"].startswith("em-basis")] == ["em-basis-confirm-file"]
     assert document["models"]["support"]["n_used"] == 490
     assert document["options"]["missing"] == "em"
@@ -148,7 +156,8 @@ def test_unsupported_combinations_are_usage_errors(tmp_path, capsys, extra):
     data, scales = write_files(tmp_path, fine_answers(one_factor_latent(50, seed=9)), 0, 100)
     assert main(["confirm", str(data), "--scales", str(scales), *extra]) == 2
     err = capsys.readouterr().err
-    assert err.startswith("error:") and "Traceback" not in err
+    assert err.startswith("error:")
+    assert "Traceback" not in err
 
 
 def test_dwls_unit_diagonal_matches_a_direct_least_squares_fit(tmp_path):
@@ -215,7 +224,9 @@ def test_finding_for_a_whole_file_model_that_misses_the_cutoffs(tmp_path, cross_
     if cross_loading == 0:
         assert found == []
         return
-    assert len(found) == 1 and found[0].anchor == "confirm" and found[0].values["model"] == "all"
+    assert len(found) == 1
+    assert found[0].anchor == "confirm"
+    assert found[0].values["model"] == "all"
     whole = analysis.models["all"].indices
     assert whole.cfi < 0.95 or whole.rmsea > 0.06 or whole.srmr > 0.08
     assert "RMSEA" in found[0].values["missed"]

@@ -104,18 +104,21 @@ def test_only_the_first_twenty_bad_cells_are_listed_but_all_are_counted(write_fi
     with pytest.raises(DataError) as caught:
         read_responses(path, spec)
     problems = caught.value.problems
-    assert len(problems) == 21 and "30 value(s) in all" in str(problems[-1])
+    assert len(problems) == 21
+    assert "30 value(s) in all" in str(problems[-1])
 
 
 def test_lenient_turns_bad_values_into_counted_missing_values(write_file, spec):
     path = write_file("d.csv", BASIC_DATA.replace("s03,day,5,5,1", "s03,day,6,5,0"))
     responses = read_responses(path, spec, lenient=True)
-    assert np.isnan(responses.items[2, 0]) and np.isnan(responses.items[2, 2])
-    assert responses.refused_total == 2 and responses.refused_by_column == {"wl1": 1, "wl3": 1}
+    assert np.isnan(responses.items[2, 0])
+    assert np.isnan(responses.items[2, 2])
+    assert responses.refused_total == 2
+    assert responses.refused_by_column == {"wl1": 1, "wl3": 1}
     assert any("2 value(s) were neither an answer nor a missing code" in n for n in responses.notes())
 
 
-@pytest.mark.parametrize("content, expected", [
+@pytest.mark.parametrize(("content", "expected"), [
     ("", "the file is empty"),
     ("staff_id,shift,wl1,wl2,wl3,st1,st2\n", "header but no rows"),
     ("staff_id,shift,wl1,wl1,wl3,st1,st2\ns1,day,1,1,1,1,1\n", "'wl1' appears twice in the header"),
@@ -159,8 +162,11 @@ def test_data_errors_end_in_one_line_exit_4_and_no_traceback(write_file, tmp_pat
     before = folder_fingerprint(tmp_path)
     code = main(["score", str(data), "--scales", str(scales), "--out", str(tmp_path / "scores.csv")])
     err = capsys.readouterr().err
-    assert code == 4 and err.startswith("error: ") and err.count("\n") == 1
-    assert "row 4, column wl1" in err and "Traceback" not in err
+    assert code == 4
+    assert err.startswith("error: ")
+    assert err.count("\n") == 1
+    assert "row 4, column wl1" in err
+    assert "Traceback" not in err
     assert folder_fingerprint(tmp_path) == before
 
 
@@ -168,7 +174,8 @@ def test_ordered_group_levels_become_ordered_categories(write_file):
     scales = BASIC_SCALES.replace("groups: [shift]", "groups: [{shift: [night, day]}]")
     spec = load_spec(write_file("s.yaml", scales))
     shift = read_responses(write_file("d.csv", BASIC_DATA), spec).column("shift")
-    assert list(shift.cat.categories) == ["night", "day"] and shift.cat.ordered
+    assert list(shift.cat.categories) == ["night", "day"]
+    assert shift.cat.ordered
     with pytest.raises(DataError, match="row 2, column shift.*'dawn' is not one of the levels"):
         read_responses(write_file("e.csv", BASIC_DATA.replace("s01,day", "s01,dawn")), spec)
 

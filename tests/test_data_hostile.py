@@ -72,7 +72,8 @@ def test_a_value_between_answer_codes_is_refused_by_every_route(write_file, spec
             with pytest.raises(DataError, match=f"row 3, column a.*'?{cell}'? lies between the answer codes 1..5"):
                 read_responses(path, spec)
     lenient = read_responses(path, spec, lenient=True)
-    assert lenient.refused_by_column == {"a": 1} and np.isnan(lenient.items[1, 0])
+    assert lenient.refused_by_column == {"a": 1}
+    assert np.isnan(lenient.items[1, 0])
     assert read_responses(write_file("w.csv", "id,grp,a,b,c\np1,x,3.0,2,3\n"), spec).items[0, 0] == 3.0
 
 
@@ -91,7 +92,8 @@ def test_a_row_longer_than_a_parse_block_is_read(write_file, spec, monkeypatch):
     rows.insert(100, "p_long,x," + "y" * 3_000_000 + ",4,4,4")
     path = write_file("d.csv", "\n".join(rows) + "\n")
     for responses in both_routes(path, spec, monkeypatch):
-        assert responses.n == 201 and len(responses.frame["note"].iloc[99]) == 3_000_000
+        assert responses.n == 201
+        assert len(responses.frame["note"].iloc[99]) == 3_000_000
 
 
 def test_a_row_beyond_the_record_limit_gets_our_message(write_file, spec, monkeypatch):
@@ -102,7 +104,8 @@ def test_a_row_beyond_the_record_limit_gets_our_message(write_file, spec, monkey
     path = write_file("d.csv", "\n".join(rows) + "\n")
     with pytest.raises(DataError) as caught:
         read_responses(path, spec)
-    assert "a row is longer than 2 MiB" in str(caught.value) and "straddl" not in str(caught.value)
+    assert "a row is longer than 2 MiB" in str(caught.value)
+    assert "straddl" not in str(caught.value)
 
 
 def test_a_header_longer_than_a_mebibyte_is_read_whole(write_file, spec, monkeypatch):
@@ -114,7 +117,8 @@ def test_a_header_longer_than_a_mebibyte_is_read_whole(write_file, spec, monkeyp
     assert len(header) > 2**20
     path = write_file("d.csv", header + "\n" + ",".join(["p1", "x", *[""] * len(names), "1", "2", "3"]) + "\n")
     responses = read_responses(path, spec)
-    assert responses.n == 1 and list(responses.items[0]) == [1, 2, 3]
+    assert responses.n == 1
+    assert list(responses.items[0]) == [1, 2, 3]
 
 
 def test_a_header_of_too_many_names_is_refused_by_us(write_file, spec):
@@ -132,7 +136,8 @@ def test_a_parquet_item_of_lists_is_refused_in_one_line(tmp_path, spec):
     pq.write_table(table, tmp_path / "d.parquet")
     with pytest.raises(DataError) as caught:
         read_responses(tmp_path / "d.parquet", spec)
-    assert "column 'a'" in str(caught.value) and "one answer per cell" in str(caught.value)
+    assert "column 'a'" in str(caught.value)
+    assert "one answer per cell" in str(caught.value)
 
 
 def test_a_parquet_duplicate_column_is_refused_in_one_short_line(tmp_path, spec, capsys, write_file):
@@ -146,21 +151,27 @@ def test_a_parquet_duplicate_column_is_refused_in_one_short_line(tmp_path, spec,
         read_responses(tmp_path / "d.parquet", spec)
     assert main(["lint", str(tmp_path / "d.parquet"), "--scales", str(write_file("s.yaml", SCALES))]) == 4
     out = capsys.readouterr().out
-    assert out.count("\n") == 1 and len(out) < 300
+    assert out.count("\n") == 1
+    assert len(out) < 300
 
 
 def test_a_very_long_bad_answer_is_quoted_short(write_file, spec, capsys):
     path = write_file("d.csv", "id,grp,a,b,c\np1,x," + "z" * 1_000_000 + ",2,3\n")
     code = main(["score", str(path), "--scales", str(write_file("s.yaml", SCALES))])
     err = capsys.readouterr().err
-    assert code == 4 and err.count("\n") == 1 and len(err) < 600 and "1,000,000 characters" in err
+    assert code == 4
+    assert err.count("\n") == 1
+    assert len(err) < 600
+    assert "1,000,000 characters" in err
 
 
 def test_a_file_name_with_a_line_break_stays_on_one_line(write_file, spec, capsys, tmp_path):
     path = write_file("bad\nname.csv", "id,grp,a,b,c\np1,x,7,2,3\n")
     code = main(["score", str(path), "--scales", str(write_file("s.yaml", SCALES))])
     err = capsys.readouterr().err
-    assert code == 4 and err.count("\n") == 1 and "bad\\nname.csv" in err
+    assert code == 4
+    assert err.count("\n") == 1
+    assert "bad\\nname.csv" in err
 
 
 # -- texts are data; only blanks and listed texts are missing (issue 13) ---------------------------------
@@ -212,7 +223,8 @@ def test_a_tally_of_levels_including_none_counts_them(write_file, capsys):
     rows = {row["category"]: row["count"] for row in out["columns"]["grp"]["rows"]} \
         if "rows" in out["columns"]["grp"] else out["columns"]["grp"]
     text = json.dumps(rows)
-    assert '"None"' in text and "24" in text
+    assert '"None"' in text
+    assert "24" in text
     assert any("'NA' 2" in note for note in out["notes"])
 
 
@@ -265,4 +277,5 @@ def test_the_report_notes_which_texts_were_read_as_missing(write_file):
                                                             "  other: {items: [c], response: {missing_texts: [skip]}}")))
     responses = read_responses(write_file("d.csv", "id,grp,a,b,c\np1,x,None,NA,skip\n"), spec)
     note = responses.missing_texts_note(spec)
-    assert "'NA', 'N/A', '#N/A'" in note and "in the items of other: 'skip'" in note
+    assert "'NA', 'N/A', '#N/A'" in note
+    assert "in the items of other: 'skip'" in note

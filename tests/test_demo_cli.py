@@ -28,7 +28,8 @@ def test_demo_writes_data_scale_file_and_scores(demo_run):
     printed = demo_run.printed
     for name in (DATA_NAME, SCALES_NAME, SCORES_NAME):
         assert str(out / name) in printed
-    assert "fictional" in printed and "not a diagnosis" in printed
+    assert "fictional" in printed
+    assert "not a diagnosis" in printed
     # the closing "next:" line runs as printed (a shell would split it as shlex does)
     import shlex
     import subprocess
@@ -36,7 +37,8 @@ def test_demo_writes_data_scale_file_and_scores(demo_run):
 
     next_line = next(line for line in printed.splitlines() if line.startswith("next: "))
     words = shlex.split(next_line.removeprefix("next: "))
-    assert words[0] in (sys.executable, Path(sys.executable).name) and words[1:3] == ["-m", "scalewright"]
+    assert words[0] in (sys.executable, Path(sys.executable).name)
+    assert words[1:3] == ["-m", "scalewright"]
     words[0] = sys.executable
     done = subprocess.run([*words, "--format", "json"], capture_output=True, text=True, timeout=120,
                           env={**os.environ, "PYTHONPATH": str(REPO / "src")})
@@ -46,7 +48,8 @@ def test_demo_writes_data_scale_file_and_scores(demo_run):
     data = pd.read_csv(out / DATA_NAME, dtype=str, keep_default_na=False)
     scores = pd.read_csv(out / SCORES_NAME, dtype={"staff_id": str})
     # one row per respondent, in input order
-    assert list(scores["staff_id"]) == list(data["staff_id"]) and len(scores) == demo_data.DEFAULT_N
+    assert list(scores["staff_id"]) == list(data["staff_id"])
+    assert len(scores) == demo_data.DEFAULT_N
     expected = ["staff_id"] + [c for name in demo_data.SCALE_NAMES for c in (name, f"{name}__answered")]
     assert list(scores.columns) == expected
     assert (out / SCALES_NAME).read_bytes() == (REPO / "scales" / demo_data.SCALE_FILE_NAME).read_bytes()
@@ -77,7 +80,10 @@ def test_demo_refuses_a_non_empty_folder_and_changes_nothing(tmp_path, capsys):
     before = _snapshot(tmp_path)
     assert main(["demo", "--out", str(tmp_path), "--n", "60"]) == 2
     err = capsys.readouterr().err
-    assert err.startswith("error: ") and "not empty" in err and "--force" in err and len(err.splitlines()) == 1
+    assert err.startswith("error: ")
+    assert "not empty" in err
+    assert "--force" in err
+    assert len(err.splitlines()) == 1
     assert _snapshot(tmp_path) == before
 
 
@@ -86,14 +92,16 @@ def test_demo_refuses_a_file_as_folder_and_bad_sizes(tmp_path, capsys):
     target.write_text("x")
     assert main(["demo", "--out", str(target)]) == 2
     assert main(["demo", "--out", str(tmp_path / "new"), "--n", "3"]) == 2
-    assert target.read_text() == "x" and not (tmp_path / "new").exists()
+    assert target.read_text() == "x"
+    assert not (tmp_path / "new").exists()
     assert capsys.readouterr().err.count("error: ") == 2
 
 
 def test_write_demo_inputs_returns_the_paths(tmp_path):
     data_path, scales_path = write_demo_inputs(tmp_path, seed=1, n=50)
     assert (data_path, scales_path) == (tmp_path / DATA_NAME, tmp_path / SCALES_NAME)
-    assert data_path.name == demo_data.DATA_FILE_NAME and scales_path.name == demo_data.SCALE_FILE_NAME
+    assert data_path.name == demo_data.DATA_FILE_NAME
+    assert scales_path.name == demo_data.SCALE_FILE_NAME
     assert len(pd.read_csv(data_path)) == 50
 
 
@@ -108,7 +116,9 @@ def test_example_script_writes_data_scale_file_and_truth(tmp_path, capsys):
     assert module.main(["--out", str(out), "--seed", "9", "--n", "70"]) == 0
     truth = json.loads((out / "truth.json").read_text())
     data = pd.read_csv(out / DATA_NAME, dtype={"staff_id": str})
-    assert truth["n"] == 70 and truth["seed"] == 9 and len(data) == 70
+    assert truth["n"] == 70
+    assert truth["seed"] == 9
+    assert len(data) == 70
     assert set(truth["careless_ids"]) <= set(data["staff_id"])
     _, expected = demo_data.generate_staff_climate(seed=9, n=70)
     for name, value in expected.population_reliability.items():

@@ -127,17 +127,21 @@ def test_scale_file_matches_the_generating_model(spec):
 def test_data_read_strictly_with_all_kinds_of_mess(scored):
     frame, truth, responses, _ = scored[2026]
     summary = responses.reading_summary()
-    assert responses.n == 600 and summary["refused_total"] == 0
+    assert responses.n == 600
+    assert summary["refused_total"] == 0
     assert set(demo_data.TEXT_COLUMNS) <= set(summary["texts_by_column"])
     assert sum(summary["missing_code_by_column"].values()) > 40  # about 0.8% of 18 x 600 cells carry a code
     assert sum(summary["blank_by_column"].values()) > 100
     raw = frame["rc2"].dropna().astype(str)
-    assert raw.str.startswith(" ").any() and raw.str.isupper().any() and raw.str.islower().any()
+    assert raw.str.startswith(" ").any()
+    assert raw.str.isupper().any()
+    assert raw.str.islower().any()
     assert list(responses.ids) == list(truth.true_scores["staff_id"])
     # about 5% careless respondents, half of each kind, and a few who stopped part-way
     assert truth.careless.sum() == 30
     assert set(truth.careless_kind[truth.careless]) == {"straight-line", "random"}
-    assert truth.partial.sum() >= 10 and not (truth.partial & truth.careless).any()
+    assert truth.partial.sum() >= 10
+    assert not (truth.partial & truth.careless).any()
 
 
 def test_straight_liners_give_one_answer_throughout(scored):
@@ -229,7 +233,9 @@ def test_every_sample_size_the_demo_allows_gets_distinct_ids():
     # five digits hold 90,000 ids; 100,000 used to stop with "larger sample than population"
     for n, digits in ((90_000, 5), (90_001, 6), (100_000, 6)):
         ids = pd.Series(_staff_ids(np.random.default_rng(n), n))
-        assert len(ids) == n and ids.is_unique and ids.str.fullmatch(rf"KB\d{{{digits}}}").all()
+        assert len(ids) == n
+        assert ids.is_unique
+        assert ids.str.fullmatch(rf"KB\d{{{digits}}}").all()
 
 
 @pytest.mark.slow
@@ -237,7 +243,8 @@ def test_the_largest_demo_the_help_allows_gets_distinct_ids():
     from scalewright.demo_data import _staff_ids
 
     ids = pd.Series(_staff_ids(np.random.default_rng(1), 1_000_000))
-    assert ids.is_unique and ids.str.fullmatch(r"KB\d{7}").all()
+    assert ids.is_unique
+    assert ids.str.fullmatch(r"KB\d{7}").all()
 
 
 @pytest.mark.slow
@@ -246,4 +253,5 @@ def test_a_demo_of_100000_respondents_is_written(tmp_path):
 
     assert main(["demo", "--out", str(tmp_path / "big"), "--n", "100000", "--iterations", "2", "--quiet"]) == 0
     frame = pd.read_csv(tmp_path / "big" / "staff-climate.csv", usecols=["staff_id"])
-    assert len(frame) == 100_000 and frame["staff_id"].is_unique
+    assert len(frame) == 100_000
+    assert frame["staff_id"].is_unique

@@ -103,7 +103,8 @@ def test_reverse_evidence_matches_item_rest_r_computed_with_numpy(survey_csv, dr
     proposal = scale.reverse[0]
     # the draft uses pairwise covariances; with 9/99 set aside per cell they differ slightly from listwise
     assert proposal.r_as_worded == pytest.approx(expected, abs=0.05)
-    assert proposal.r_as_worded < -0.4 and proposal.r_reversed > 0.4
+    assert proposal.r_as_worded < -0.4
+    assert proposal.r_reversed > 0.4
     assert scale.alpha_keyed > scale.alpha_as_worded
 
 
@@ -132,26 +133,33 @@ def test_lone_columns_are_reported_and_coded_categories_proposed_as_groups(draft
 
 def test_non_rating_columns_are_recognised(drafted):
     roles = {p.name: p.role for p in drafted.columns}
-    assert roles["staff_id"] == ID and drafted.id_column == "staff_id"
-    assert roles["site"] == CATEGORY and roles["shift"] == CATEGORY
+    assert roles["staff_id"] == ID
+    assert drafted.id_column == "staff_id"
+    assert roles["site"] == CATEGORY
+    assert roles["shift"] == CATEGORY
     assert drafted.groups == ("site", "shift", "unit_code")
     assert roles["comment"] == FREE_TEXT
     assert roles["start_date"] == DATE
-    assert roles["duration_min"] == NUMBER and roles["age"] == NUMBER
+    assert roles["duration_min"] == NUMBER
+    assert roles["age"] == NUMBER
 
 
 def test_cli_draft_passes_load_spec_and_lint(survey_csv, tmp_path, capsys):
     out = tmp_path / "draft.yaml"
     assert main(["draft", str(survey_csv), "--out", str(out)]) == 0
     summary = capsys.readouterr().err
-    assert "wl: 7 items; reversed wl3" in summary and "then run: scalewright lint" in summary
+    assert "wl: 7 items; reversed wl3" in summary
+    assert "then run: scalewright lint" in summary
     spec = load_spec(out)
     assert {name: (list(s.items), list(s.reverse)) for name, s in spec.scales.items()} == DRAFTED
-    assert spec.id_column == "staff_id" and spec.groups == ("site", "shift", "unit_code")
+    assert spec.id_column == "staff_id"
+    assert spec.groups == ("site", "shift", "unit_code")
     assert main(["lint", str(survey_csv), "--scales", str(out)]) == 0
     text = out.read_text()
-    assert "# wl3: item-rest r = -." in text and "reversed" in text
-    assert "overall" in text and "unit_code" in text  # reported as comments
+    assert "# wl3: item-rest r = -." in text
+    assert "reversed" in text
+    assert "overall" in text
+    assert "unit_code" in text
     assert "# check: wl7 correlates weakly" in text
 
 
@@ -194,7 +202,8 @@ def test_one_stem_holding_two_scales_is_split_by_correlations():
     draft = draft_scales(frame)
     assert sorted(sorted(s.items) for s in draft.scales) == [["q1", "q2", "q3", "q4"], ["q5", "q6", "q7", "q8"]]
     assert all("fall into 2 groups" in " ".join(s.notes) for s in draft.scales)
-    assert {s.response.min for s in draft.scales} == {1} and {s.response.max for s in draft.scales} == {4}
+    assert {s.response.min for s in draft.scales} == {1}
+    assert {s.response.max for s in draft.scales} == {4}
 
 
 def test_awkward_column_names_survive_the_yaml(tmp_path):
@@ -209,7 +218,8 @@ def test_awkward_column_names_survive_the_yaml(tmp_path):
     out = tmp_path / "odd.yaml"
     assert main(["draft", str(path), "--out", str(out)]) == 0
     spec = load_spec(out)
-    assert list(spec.scales["yes"].items) == names and spec.groups == ("null",)
+    assert list(spec.scales["yes"].items) == names
+    assert spec.groups == ("null",)
     assert main(["lint", str(path), "--scales", str(out)]) == 0
 
 

@@ -36,7 +36,8 @@ def test_agreement_texts_are_ordered_whatever_their_case_spacing_and_order():
     fmt, notes = fmt_of(list(rng.permutation(words * 4)))
     assert fmt.labels_dict() == {1: "Strongly disagree", 2: "Disagree", 3: "Neither agree nor disagree",
                                  4: "Agree", 5: "Strongly agree"}
-    assert (fmt.min, fmt.max, fmt.wording) == (1, 5, "agreement") and notes == []
+    assert (fmt.min, fmt.max, fmt.wording) == (1, 5, "agreement")
+    assert notes == []
 
 
 def test_seven_point_agreement_and_five_point_satisfaction():
@@ -47,14 +48,16 @@ def test_seven_point_agreement_and_five_point_satisfaction():
     satisfied = ["very dissatisfied", "dissatisfied", "neither satisfied nor dissatisfied", "satisfied",
                  "very satisfied"]
     fmt, _ = fmt_of(satisfied[2:] + satisfied[:2] + satisfied)
-    assert [fmt.labels_dict()[c].casefold() for c in range(1, 6)] == satisfied and fmt.wording == "satisfaction"
+    assert [fmt.labels_dict()[c].casefold() for c in range(1, 6)] == satisfied
+    assert fmt.wording == "satisfaction"
 
 
 def test_texts_continue_the_numeric_codes_of_their_column():
     # the middle answers were typed as codes 2-4, the ends as texts: a 5-point agreement format
     fmt, _ = fmt_of([2, 3, 4, "strongly disagree", "STRONGLY AGREE"] * 4)
     assert (fmt.min, fmt.max) == (1, 5)
-    assert fmt.labels_dict()[1] == "Strongly disagree" and fmt.labels_dict()[5] == "Strongly agree"
+    assert fmt.labels_dict()[1] == "Strongly disagree"
+    assert fmt.labels_dict()[5] == "Strongly agree"
     # codes 0-4 in one column, the same answers as texts in another: the texts spell the codes 0..4
     fmt, _ = fmt_of([0, 1, 2, 3, 4] * 4, ["never", "rarely", "sometimes", "often", "always"] * 4)
     assert fmt.labels_dict() == {0: "Never", 1: "Rarely", 2: "Sometimes", 3: "Often", 4: "Always"}
@@ -66,7 +69,8 @@ def test_unusual_text_sets_are_flagged_for_checking():
     _, notes = fmt_of(["disagree", "agree", "neutral", "neither agree nor disagree"] * 3)
     assert any("mean the same" in n for n in notes)
     fmt, notes = fmt_of(["agree", "often", "never", "disagree"] * 3)
-    assert fmt.labels == () and any("different kinds" in n for n in notes)
+    assert fmt.labels == ()
+    assert any("different kinds" in n for n in notes)
 
 
 @settings(max_examples=40, deadline=None)
@@ -82,13 +86,17 @@ def test_far_off_code_like_values_become_missing_codes(low, width, codes, repeat
 
 def test_codes_inside_a_wide_range_and_odd_values_are_not_missing_codes():
     profile, _ = profile_column("item", pd.Series(list(range(0, 11)) * 5))
-    assert profile.codes == () and (profile.low, profile.high) == (0, 10)  # 9 is an answer on 0-10
+    assert profile.codes == ()
+    assert (profile.low, profile.high) == (0, 10)
     rng = np.random.default_rng(2)
     values = list(rng.integers(1, 6, 400)) + [55]
     profile, _ = profile_column("item", pd.Series(values))
-    assert profile.codes == () and profile.odd_values == (55.0,) and profile.high == 5
+    assert profile.codes == ()
+    assert profile.odd_values == (55.0,)
+    assert profile.high == 5
     fmt, notes = infer_answer_format([profile])
-    assert fmt.max == 5 and any("55" in n and "fix them" in n for n in notes)
+    assert fmt.max == 5
+    assert any("55" in n and "fix them" in n for n in notes)
 
 
 @settings(max_examples=60, deadline=None)
@@ -111,7 +119,8 @@ def test_items_of_a_stem_are_not_keyed_on_too_few_rows():
     frame = pd.DataFrame({"wb1": [1, 2, 3, 4, 5, 2], "wb2": [5, 4, 3, 2, 1, 4], "wb3": [1, 3, 3, 4, 5, 1]})
     draft = draft_scales(frame)
     (scale,) = draft.scales
-    assert scale.items == ("wb1", "wb2", "wb3") and scale.reverse == ()
+    assert scale.items == ("wb1", "wb2", "wb3")
+    assert scale.reverse == ()
     assert any("too few" in n or "by name alone" in n for n in scale.notes)
 
 
@@ -141,14 +150,18 @@ def test_ambiguous_columns_are_reported_in_the_draft():
                           "serial": rng.permutation(n) + 1, "ticket": rng.permutation(n) + 501})
     draft = draft_scales(frame)
     profile = draft.column("code_a")
-    assert profile.role == UNCLEAR and "other text" in profile.reason
+    assert profile.role == UNCLEAR
+    assert "other text" in profile.reason
     # two serial-number columns and no id-like name: neither is guessed
-    assert draft.id_column is None and set(draft.id_candidates) == {"serial", "ticket"}
+    assert draft.id_column is None
+    assert set(draft.id_candidates) == {"serial", "ticket"}
     assert any("could be the respondent id" in n for n in draft.notes)
     text = draft_yaml_text(draft, data_name="d.csv")
-    assert "# code_a (unclear)" in text and "id_column: not set" in text
+    assert "# code_a (unclear)" in text
+    assert "id_column: not set" in text
     named = draft_scales(frame.rename(columns={"serial": "respondent_id"}))
-    assert named.id_column == "respondent_id" and named.column("respondent_id").role == ID
+    assert named.id_column == "respondent_id"
+    assert named.column("respondent_id").role == ID
 
 
 def test_a_table_without_rows_is_refused():
@@ -159,7 +172,8 @@ def test_a_table_without_rows_is_refused():
 def test_codes_among_answer_texts_are_missing_codes():
     words = ["Strongly disagree", "Disagree", "Neither agree nor disagree", "Agree", "Strongly agree"]
     profile, _ = profile_column("item", pd.Series(words * 5 + ["9", "99", "9"], dtype=object))
-    assert profile.role == RATING and profile.codes == (9.0, 99.0)
+    assert profile.role == RATING
+    assert profile.codes == (9.0, 99.0)
     fmt, _ = infer_answer_format([profile])
     assert (fmt.min, fmt.max, fmt.missing_codes) == (1, 5, (9.0, 99.0))
 
@@ -168,7 +182,8 @@ def test_seven_point_likelihood_with_extreme_ends_continues_codes_one_to_seven()
     words = ["Extremely unlikely", "Very unlikely", "Somewhat unlikely", "Neither likely nor unlikely",
              "Somewhat likely", "Very likely", "Extremely likely"]
     fmt, _ = fmt_of(list(range(1, 8)) * 3 + [w.upper() for w in words[::-1]])
-    assert fmt.labels_dict() == dict(enumerate(words, start=1)) and fmt.wording == "likelihood"
+    assert fmt.labels_dict() == dict(enumerate(words, start=1))
+    assert fmt.wording == "likelihood"
 
 
 def _inventory(seed: int = 3, n: int = 2800) -> tuple[pd.DataFrame, dict[str, list[str]]]:
@@ -195,7 +210,8 @@ def test_draft_on_a_real_looking_export():
     # ground truth is the generator: which items are worded in reverse, which columns are codes
     frame, truth = _inventory()
     drafted = draft_scales(frame)
-    assert drafted.id_column is None and "" not in drafted.id_candidates
+    assert drafted.id_column is None
+    assert "" not in drafted.id_candidates
     assert drafted.column("").role == "row number"
     assert {"gender", "education"} <= set(drafted.groups)
     found = {s.stem: sorted(s.reverse_items) for s in drafted.scales}

@@ -84,7 +84,8 @@ def test_nothing_missing_em_reliability_equals_listwise_exactly():
     em = scale_reliability(CodedAnswers(codes), missing="em", **options).to_dict()
     for key in ("alpha", "alpha_ci", "omega_total", "lambda2", "lambda6", "alpha_standardized", "n_used", "items"):
         assert em[key] == listwise[key], key
-    assert em["missing_method"] == "em" and em["mcar_test"] is None
+    assert em["missing_method"] == "em"
+    assert em["mcar_test"] is None
 
 
 def _mar_sample(n: int, rng: np.random.Generator) -> np.ndarray:
@@ -116,7 +117,8 @@ def test_little_test_rejects_mar_missingness():
     data = _mar_sample(1000, np.random.default_rng(88))
     summary = PatternSummary.from_values(data)
     test = little_mcar_test(summary, em_means_and_covariance(summary))
-    assert test is not None and test.df == 2  # 3 + 2 answered items over the two patterns, less 3
+    assert test is not None
+    assert test.df == 2
     assert test.pvalue < 1e-6
 
 
@@ -156,7 +158,9 @@ def test_little_test_size_under_mcar():
 # ------------------------------------------------------------------------------------------ the summaries
 
 def _same(a: PatternSummary, b: PatternSummary) -> None:
-    assert a.k == b.k and a.n_none == b.n_none and a.exact == b.exact
+    assert a.k == b.k
+    assert a.n_none == b.n_none
+    assert a.exact == b.exact
     np.testing.assert_array_equal(a.observed, b.observed)
     np.testing.assert_array_equal(a.counts, b.counts)
     np.testing.assert_array_equal(a.sums, b.sums)
@@ -258,7 +262,8 @@ def test_an_item_without_variance_keeps_its_mean_and_no_covariance():
     data[rng.random(data.shape) < 0.1] = np.nan
     estimate = em_means_and_covariance(PatternSummary.from_values(data))
     assert estimate.means[2] == 4.0
-    assert (estimate.cov[2] == 0).all() and (estimate.cov[:, 2] == 0).all()
+    assert (estimate.cov[2] == 0).all()
+    assert (estimate.cov[:, 2] == 0).all()
     assert [n.code for n in estimate.notes] == ["em-constant-items"]
     assert np.isfinite(estimate.cov).all()
 
@@ -293,12 +298,14 @@ def test_degenerate_samples_give_nan_with_a_reason():
     # singular whatever n is; both must end in NaN and a note, never in an exception.
     few = np.array([[2, 255, 2], [255, 3, 1], [255, 2, 255]], dtype=np.uint8)
     estimate = em_means_and_covariance(PatternSummary.from_codes(few))
-    assert np.isnan(estimate.cov).all() and [n.code for n in estimate.notes] == ["em-too-few"]
+    assert np.isnan(estimate.cov).all()
+    assert [n.code for n in estimate.notes] == ["em-too-few"]
     rng = np.random.default_rng(12)
     data = rng.multivariate_normal(np.zeros(2), POPULATION[:2, :2], size=100)
     data = np.column_stack([data, data[:, 0]])
     data[rng.random(data.shape) < 0.1] = np.nan
     summary = PatternSummary.from_values(data)
     estimate = em_means_and_covariance(summary)
-    assert np.isnan(estimate.cov).all() and [n.code for n in estimate.notes] == ["em-singular"]
+    assert np.isnan(estimate.cov).all()
+    assert [n.code for n in estimate.notes] == ["em-singular"]
     assert little_mcar_test(summary, estimate) is None

@@ -67,7 +67,8 @@ def test_many_blocks_are_read(survey, monkeypatch):
 
     monkeypatch.setattr(stream, "_summarise_batches", counting)
     both_routes("reliability", *survey)
-    assert len(seen) > 10 and sum(seen) == 2500
+    assert len(seen) > 10
+    assert sum(seen) == 2500
 
 
 def test_parquet_streamed_equals_whole_file(tmp_path, survey, monkeypatch):
@@ -93,7 +94,8 @@ def test_refused_values_far_down_name_their_global_row_exactly_as_whole(survey):
     whole = run("reliability", str(data), "-s", str(scales), "--engine", "memory")
     streamed = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--block-size", SMALL_BLOCK)
     assert whole[0] == streamed[0] == 4
-    assert streamed[2] == whole[2] and "row 2400, column wl1" not in whole[2]  # first of several listed
+    assert streamed[2] == whole[2]
+    assert "row 2400, column wl1" not in whole[2]
     assert "row 57, column wl1" in streamed[2]
     lenient_whole, lenient_streamed = both_routes("reliability", data, scales, "--lenient")
     assert lenient_streamed == lenient_whole
@@ -104,12 +106,14 @@ def test_answer_texts_and_decimals_take_the_text_route_or_the_whole_file(survey)
     data, scales = survey
     _with_cells(data, {(300, 5): "Agree", (2100, 6): " strongly DISAGREE "})
     whole, streamed = both_routes("reliability", data, scales)
-    assert streamed == whole and whole["reading"]["texts_by_column"] == {"wl3": 1, "wl4": 1}
+    assert streamed == whole
+    assert whole["reading"]["texts_by_column"] == {"wl3": 1, "wl4": 1}
     _with_cells(data, {(1500, 7): "2.5"})  # between two whole answer codes: refused on both routes alike
     refusals = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--format", "json")
                 for engine in ("memory", "stream")]
     assert [code for code, _, _ in refusals] == [4, 4]
-    assert refusals[0][2] == refusals[1][2] and "row 1500, column cl1" in refusals[0][2]
+    assert refusals[0][2] == refusals[1][2]
+    assert "row 1500, column cl1" in refusals[0][2]
 
 
 def test_empty_lines_and_line_breaks_in_values(survey):
@@ -118,12 +122,14 @@ def test_empty_lines_and_line_breaks_in_values(survey):
     lines[1500] = ""  # an empty line: rows below it keep their spreadsheet numbers (whole-file route)
     data.write_text("\n".join(lines) + "\n", encoding="utf-8")
     code, out, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json")
-    assert code == 0 and "read whole" in err
+    assert code == 0
+    assert "read whole" in err
     for row in (300, 1500, 2200):  # a quoted value holding a line break
         lines[row] = f's9{row},day,"north\nside",1,2,3,4,5,4,3'
     data.write_text("\n".join(lines) + "\n", encoding="utf-8")
     whole, streamed = both_routes("reliability", data, scales, "--by", "site", "--min-group", "3")
-    assert streamed == whole and "north\nside" in whole["scales"]["workload"]["by"]["site"]
+    assert streamed == whole
+    assert "north\nside" in whole["scales"]["workload"]["by"]["site"]
 
 
 def test_id_problems_are_refused_as_whole(survey):
@@ -131,13 +137,15 @@ def test_id_problems_are_refused_as_whole(survey):
     _with_cells(data, {(2000, 0): ""})
     results = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--block-size", SMALL_BLOCK)
                for engine in ("memory", "stream")]
-    assert results[0][0] == results[1][0] == 4 and results[0][2] == results[1][2]
+    assert results[0][0] == results[1][0] == 4
+    assert results[0][2] == results[1][2]
     assert "row 2000" in results[1][2]
     _with_cells(data, {(2000, 0): "s00003"})  # a duplicate id
     results = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--block-size", SMALL_BLOCK)
                for engine in ("memory", "stream")]
     assert results[0][0] == results[1][0] == 4
-    assert results[1][2].splitlines()[-1] == results[0][2].strip() and "s00003" in results[0][2]
+    assert results[1][2].splitlines()[-1] == results[0][2].strip()
+    assert "s00003" in results[0][2]
 
 
 def test_group_levels_listed_in_the_scale_file(survey, tmp_path):
@@ -146,9 +154,11 @@ def test_group_levels_listed_in_the_scale_file(survey, tmp_path):
     scales.write_text(SCALES.replace("groups: [shift]", "groups: [{shift: [night, day, late]}]"), encoding="utf-8")
     results = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--block-size", SMALL_BLOCK)
                for engine in ("memory", "stream")]
-    assert results[0][0] == results[1][0] == 4 and results[0][2] == results[1][2]  # 'weekend' is not listed
+    assert results[0][0] == results[1][0] == 4
+    assert results[0][2] == results[1][2]
     whole, streamed = both_routes("reliability", data, scales, "--lenient")
-    assert streamed == whole and list(whole["scales"]["workload"]["by"]["shift"]) == ["night", "day", "late"]
+    assert streamed == whole
+    assert list(whole["scales"]["workload"]["by"]["shift"]) == ["night", "day", "late"]
 
 
 def test_route_choice(tmp_path, monkeypatch):
@@ -195,7 +205,7 @@ def assert_same_numbers(streamed, whole, path="$"):
             assert_same_numbers(streamed[key], whole[key], f"{path}.{key}")
     elif isinstance(whole, list):
         assert isinstance(streamed, list) and len(streamed) == len(whole), path
-        for index, (a, b) in enumerate(zip(streamed, whole)):
+        for index, (a, b) in enumerate(zip(streamed, whole, strict=True)):
             assert_same_numbers(a, b, f"{path}[{index}]")
     elif isinstance(whole, float) and not isinstance(whole, bool):
         assert streamed == pytest.approx(whole, rel=1e-12, abs=1e-12), path
@@ -235,7 +245,8 @@ def test_options_the_summaries_do_not_serve_keep_the_whole_file_route(survey, op
     data, scales = survey
     code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
                        *options)
-    assert code == 2 and options[0] in err
+    assert code == 2
+    assert options[0] in err
     code, out, err = run("reliability", str(data), "-s", str(scales), "--format", "json", *options)  # auto
     assert code == 0, err
     assert "engine" not in json.loads(out)
@@ -244,7 +255,8 @@ def test_options_the_summaries_do_not_serve_keep_the_whole_file_route(survey, op
 def test_structure_with_pairwise_missing_keeps_the_whole_file_route(survey):
     data, scales = survey
     code, _, err = run("structure", str(data), "-s", str(scales), "--engine", "stream", "--missing", "pairwise")
-    assert code == 2 and "--missing" in err
+    assert code == 2
+    assert "--missing" in err
 
 
 def test_reliability_confirmatory_block_streamed_equals_whole_file(survey):
@@ -262,6 +274,9 @@ def test_group_codes_named_by_the_scale_file_take_the_whole_file_route(survey):
     code, out, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
                          "--block-size", SMALL_BLOCK)
     assert code == 0, err
-    assert "read whole" in err and "shift" in err and "engine" not in json.loads(out)
+    assert "read whole" in err
+    assert "shift" in err
+    assert "engine" not in json.loads(out)
     code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "dask", "--format", "json")
-    assert code == 2 and "shift" in err
+    assert code == 2
+    assert "shift" in err

@@ -77,7 +77,9 @@ def test_screen_ids_disappear_after_exclusion(tmp_path, capsys):
     exclude.write_text("id,flagged\nW000,yes\nW005,yes\n", encoding="utf-8")
     assert main(["screen", str(data), "--scales", str(scales), "--exclude", str(exclude), "-f", "json"]) == 0
     ids = {r["id"] for r in json.loads(capsys.readouterr().out)["respondents"]}
-    assert "W000" not in ids and "W005" not in ids and len(ids) == 118
+    assert "W000" not in ids
+    assert "W005" not in ids
+    assert len(ids) == 118
 
 
 # ---- the screen file round trip, and lists that would set aside everyone or no one -------------------------
@@ -110,7 +112,9 @@ def test_a_full_screen_file_sets_aside_only_the_flagged(tmp_path, capsys):
     assert not flagged & {r["id"] for r in doc["respondents"]}
     notes = " ".join(n for n in doc["notes"] if isinstance(n, str))
     assert f"{len(flagged)} respondent(s) set aside" in notes
-    assert "column 'id'" in notes and "only its" in notes and f"{120 - len(flagged)} row(s) not flagged" in notes
+    assert "column 'id'" in notes
+    assert "only its" in notes
+    assert f"{120 - len(flagged)} row(s) not flagged" in notes
     assert doc["exclusion"] == {"file": str(target), "column": "id", "flagged_column": "flagged",
                                 "listed": len(flagged), "set_aside": len(flagged),
                                 "not_flagged": 120 - len(flagged), "not_found": 0, "not_found_first": []}
@@ -132,10 +136,11 @@ def test_the_scale_files_id_column_is_preferred_over_the_first(tmp_path, capsys)
     listing.write_text("reason,staff_id\ncopied,W004\ncopied,W005\n", encoding="utf-8")
     doc = _screen_json(data, scales, capsys, "--exclude", str(listing))
     notes = " ".join(n for n in doc["notes"] if isinstance(n, str))
-    assert doc["summary"]["n"] == 118 and "column 'staff_id'" in notes
+    assert doc["summary"]["n"] == 118
+    assert "column 'staff_id'" in notes
 
 
-@pytest.mark.parametrize("content, message", [
+@pytest.mark.parametrize(("content", "message"), [
     ("id,flagged\n" + "".join(f"W{i:03d},yes\n" for i in range(120)), "setting every one aside"),
     ("staff_id\nQ1\nQ2\nQ3\n", "none of the 3 listed id(s)"),
 ])
@@ -149,7 +154,8 @@ def test_setting_everyone_or_no_one_aside_is_an_error(tmp_path, capsys, content,
         assert code == 4, (command, captured)
         assert message in captured.err + captured.out
         if command != "lint":
-            assert captured.err.startswith("error: ") and captured.err.count("\n") == 1
+            assert captured.err.startswith("error: ")
+            assert captured.err.count("\n") == 1
     report = tmp_path / "report"
     assert main(["report", str(data), "--scales", str(scales), "--exclude", str(listing), "--out", str(report),
                  "-q"]) == 4
@@ -177,4 +183,5 @@ def test_ids_a_spreadsheet_would_run_survive_the_screen_round_trip(tmp_path, cap
     doc = _screen_json(data, scales, capsys, "--exclude", str(target))
     left = {r["id"] for r in doc["respondents"]}
     assert not set(hostile) & left
-    assert doc["summary"]["n"] == 120 - len(rows) and doc["exclusion"]["not_found"] == 0
+    assert doc["summary"]["n"] == 120 - len(rows)
+    assert doc["exclusion"]["not_found"] == 0

@@ -54,7 +54,8 @@ def test_codes_become_names_in_the_data(tmp_path):
     spec = load_spec(scales)
     column = read_responses(data, spec).column("gender")
     assert list(column.cat.categories) == ["woman", "man"]
-    assert column.iloc[:4].tolist()[:3] == ["woman", "man", "man"] and pd.isna(column.iloc[3])
+    assert column.iloc[:4].tolist()[:3] == ["woman", "man", "man"]
+    assert pd.isna(column.iloc[3])
 
 
 def test_an_unknown_code_is_refused_naming_the_codes(tmp_path):
@@ -63,7 +64,7 @@ def test_an_unknown_code_is_refused_naming_the_codes(tmp_path):
         read_responses(data, load_spec(scales))
 
 
-@pytest.mark.parametrize("groups, message", [
+@pytest.mark.parametrize(("groups", "message"), [
     ("[{gender: {1: woman, 2: woman}}]", "same name"),
     ("[{gender: {1: woman, 1.0: man}}]", "named twice"),
     ("[{gender: {}}]", "empty"),

@@ -38,7 +38,7 @@ def two_groups(seed: int, n1: int = 37, n2: int = 29, shift: float = 0.4):
 
 def many_groups(seed: int, sizes=(31, 24, 40), means=(3.0, 3.4, 3.1), sds=(0.6, 1.1, 0.8)):
     rng = np.random.default_rng(seed)
-    samples = [rng.normal(m, s, n) for n, m, s in zip(sizes, means, sds)]
+    samples = [rng.normal(m, s, n) for n, m, s in zip(sizes, means, sds, strict=True)]
     labels = ["A", "B", "C", "D", "E"][:len(sizes)]
     groups = pd.Series(np.repeat(labels, sizes), name="site")
     return samples, np.concatenate(samples), groups
@@ -130,7 +130,7 @@ def test_games_howell_pairs_match_the_formula():
     c = compare_groups(scores, groups)
     assert c.pairs_method == "Games-Howell"
     assert [(p.a, p.b) for p in c.pairs] == [("A", "B"), ("A", "C"), ("B", "C")]
-    by_name = dict(zip("ABC", samples))
+    by_name = dict(zip("ABC", samples, strict=True))
     for pair in c.pairs:
         a, b = by_name[pair.a], by_name[pair.b]
         # Games & Howell (1976): Welch-type se and df, p from the studentized range with k groups (scipy)
@@ -199,7 +199,8 @@ def test_small_group_is_suppressed_everywhere():
     renderings = [render_json(comparison_record(c)), render_text(tables, decimals=6),
                   render_markdown(tables, decimals=6), render_csv(tables)]
     for text in renderings:
-        assert "weekend" in text and ("< 5" in text or "&lt; 5" in text)
+        assert "weekend" in text
+        assert ("< 5" in text or "&lt; 5" in text)
         for secret in (small_mean, *scores[55:]):
             for digits in (2, 3, 4, 6):
                 assert f"{secret:.{digits}f}" not in text
@@ -212,9 +213,11 @@ def test_small_group_is_suppressed_everywhere():
 def test_degenerate_input_gives_notes_not_crashes():
     groups = pd.Series(["a"] * 6 + ["b"] * 6, name="g")
     flat = compare_groups(np.full(12, 3.0), groups)
-    assert flat.test is None and any("zero variance" in n for n in flat.notes)
+    assert flat.test is None
+    assert any("zero variance" in n for n in flat.notes)
     one = compare_groups(np.arange(12.0), pd.Series(["a"] * 12, name="g"))
-    assert one.test is None and any("fewer than two levels" in n for n in one.notes)
+    assert one.test is None
+    assert any("fewer than two levels" in n for n in one.notes)
     sentence = comparison_sentence(one)
     assert "not compared" in sentence
     json.loads(render_json(one.to_dict()))  # no NaN reaches JSON
@@ -227,7 +230,8 @@ def test_missing_scores_and_groups_are_counted():
     groups = groups.copy().astype(object)
     groups[[5, 6, 7]] = [None, "", "  "]
     c = compare_groups(scores, groups)
-    assert c.n_no_score == 2 and c.n_no_group == 3
+    assert c.n_no_score == 2
+    assert c.n_no_group == 3
     assert c.n_used == len(scores) - 5
 
 

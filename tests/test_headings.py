@@ -23,9 +23,11 @@ def _report():
 def test_reliability_item_table_says_keyed_and_as_given():
     answers, report = _report()
     items = next(t for t in reliability_tables([report]) if t.key == "reliability_items")
-    assert "mean (keyed)" in items.columns and "sd (keyed)" in items.columns
-    assert "floor % (as given)" in items.columns and "ceiling % (as given)" in items.columns
-    row = dict(zip(items.columns, next(r for r in items.rows if r[1] == "i4")))
+    assert "mean (keyed)" in items.columns
+    assert "sd (keyed)" in items.columns
+    assert "floor % (as given)" in items.columns
+    assert "ceiling % (as given)" in items.columns
+    row = dict(zip(items.columns, next(r for r in items.rows if r[1] == "i4"), strict=True))
     # the keyed mean of a reversed item is 6 - the mean of the answers as given (numpy)
     assert row["mean (keyed)"] == pytest.approx(6 - answers[:, 3].mean(), rel=1e-12)
     # floor as given: the share of answers at code 1 before keying (numpy)
@@ -46,4 +48,5 @@ def test_shape_tables_say_which_values_are_keyed(tmp_path):
     values = {row[0]: row[-1] for row in summary.rows}
     assert all(values[name] == "keyed" for name in spec.scales)
     assert all(values[item] == "as given" for item in spec.items)
-    assert summary.columns[-1] == "values" and "as given" in summary.notes[0]
+    assert summary.columns[-1] == "values"
+    assert "as given" in summary.notes[0]

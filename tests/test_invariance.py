@@ -48,7 +48,8 @@ def test_invariant_groups_reach_scalar_with_latent_means_recovered():
     covs, ns, means, _ = groups(np.random.default_rng(1))
     result = invariance(covs, ns, means, strict=True)
     assert result.level in ("scalar", "strict")
-    assert result.partial_scalar is None and result.freed == []
+    assert result.partial_scalar is None
+    assert result.freed == []
     assert result.latent_mean_differences["g1"]["f"]["value"] == pytest.approx(0.3, abs=0.1)
     assert result.latent_mean_differences["g2"]["f"]["value"] == pytest.approx(0.6, abs=0.1)
     low, high = result.latent_mean_differences["g2"]["f"]["ci"]
@@ -104,7 +105,8 @@ def test_fewer_than_two_levels_is_a_note_not_a_crash():
     # reference: invariance needs two groups (common practice, no source)
     covs, ns, means, _ = groups(np.random.default_rng(6), n_groups=1)
     result = invariance(covs, ns, means)
-    assert result.level is None and result.notes[0].code == "too-few-levels"
+    assert result.level is None
+    assert result.notes[0].code == "too-few-levels"
 
 
 @pytest.mark.slow

@@ -74,13 +74,16 @@ def test_em_and_listwise_differ_and_listwise_warns_above_five_percent(files, cap
     block = listwise["scales"]["workload"]
     set_aside = int(gaps[:, :4].any(axis=1).sum())
     assert set_aside / 300 > 0.05  # about 15% of rows miss one of four items at 4% each
-    assert block["missing_method"] == "listwise" and block["n_used"] == 300 - set_aside
+    assert block["missing_method"] == "listwise"
+    assert block["n_used"] == 300 - set_aside
     warning = [n for n in block["notes"] if isinstance(n, dict) and n["code"] == "listwise-many-set-aside"]
-    assert warning and warning[0]["set_aside"] == set_aside
+    assert warning
+    assert warning[0]["set_aside"] == set_aside
     assert em["scales"]["workload"]["alpha"] != block["alpha"]
     assert main(["reliability", str(data), "--scales", str(scales), "--format", "table"]) == 0
     text = capsys.readouterr().out
-    assert "--missing em" in text and "Little's test" in text
+    assert "--missing em" in text
+    assert "Little's test" in text
 
 
 def test_pairwise_flag_is_a_synonym(files, capsys):
@@ -98,7 +101,8 @@ def test_contradictory_or_unknown_choices_are_usage_errors(files, capsys, extra)
     data, scales, _ = files
     assert main(["reliability", str(data), "--scales", str(scales), "--format", "json", *extra]) == 2
     err = capsys.readouterr().err
-    assert "Traceback" not in err and ("error" in err.lower())
+    assert "Traceback" not in err
+    assert ("error" in err.lower())
 
 
 def test_structure_em_uses_every_item_of_the_file(files, capsys):
@@ -111,7 +115,8 @@ def test_structure_em_uses_every_item_of_the_file(files, capsys):
     assert "em-basis-file" in [n["code"] for n in out["notes"] if isinstance(n, dict)]
     listwise = run_json(capsys, "structure", str(data), "--scales", str(scales), "--format", "json",
                         "--iterations", "5")
-    assert listwise["missing_method"] == "listwise" and listwise["n_used"] == int((~gaps.any(axis=1)).sum())
+    assert listwise["missing_method"] == "listwise"
+    assert listwise["n_used"] == int((~gaps.any(axis=1)).sum())
 
 
 def test_report_em(files, tmp_path, capsys):
@@ -124,5 +129,6 @@ def test_report_em(files, tmp_path, capsys):
     assert results["reliability"]["scales"]["workload"]["missing_method"] == "em"
     assert results["structure"]["missing_method"] == "em"
     markdown = (out / "report.md").read_text()
-    assert "EM algorithm" in markdown and "Little's test" in markdown
+    assert "EM algorithm" in markdown
+    assert "Little's test" in markdown
     assert "not a diagnosis" in markdown or "diagnos" in markdown

@@ -29,4 +29,5 @@ def test_missing_p_values_stay_missing_and_leave_the_family():
     adjusted = holm_adjusted([0.01, np.nan, 0.04])
     # two tests in the family (hand-worked): .01 x 2 = .02, then max(.02, .04 x 1) = .04
     np.testing.assert_allclose(adjusted[[0, 2]], [0.02, 0.04])
-    assert np.isnan(adjusted[1]) and np.isnan(holm_adjusted([np.nan])).all()
+    assert np.isnan(adjusted[1])
+    assert np.isnan(holm_adjusted([np.nan])).all()

@@ -131,7 +131,8 @@ def test_dwls_inputs_for_the_confirmatory_models(files) -> None:
     data, scales = files
     inputs = load_inputs(data, scales)
     correlation, weights, n_used, matrix = dwls_inputs(inputs.responses, ["m1", "m2", "m3", "m4"], ["m4"])
-    assert n_used == 2000 and correlation.shape == weights.shape == (4, 4)
+    assert n_used == 2000
+    assert correlation.shape == weights.shape == (4, 4)
     assert correlation[0, 3] > 0  # m4 keyed back
     # the weights of diagonally weighted least squares are the inverse squared standard errors
     np.testing.assert_allclose(weights[0, 1:], 1 / matrix.se[0, 1:] ** 2)

@@ -46,7 +46,7 @@ def test_sum_score_reliability_recovers_the_variance_share_of_the_factor(sample)
     # sum's variance from the sample
     factor = np.random.default_rng(8).standard_normal(300_000)
     expected = sum(ndtr((lam * factor[:, None] - cuts) / np.sqrt(1 - lam**2)).sum(axis=1)
-                   for lam, cuts in zip(LOADINGS, CUTS))
+                   for lam, cuts in zip(LOADINGS, CUTS, strict=True))
     population = expected.var() / codes.sum(axis=1).astype(float).var()
     assert result.omega_sum_score == pytest.approx(population, abs=0.01)
     assert result.omega_sum_score < result.omega  # the answers' coarseness costs reliability
@@ -67,11 +67,13 @@ def test_advice_names_few_options_and_skewed_items() -> None:
     assert ordinal_advice(symmetric, 5, ["a", "b"]) == ()
     # Rhemtulla et al. (2012): fewer than five options call for ordinal methods
     (few,) = ordinal_advice(symmetric[:, 1:4], 4, ["a", "b"])
-    assert few.code == "ordinal-few-options" and few.values["options"] == 4
+    assert few.code == "ordinal-few-options"
+    assert few.values["options"] == 4
     # answers piled at the top: skewness about -1.6, computed live by scipy.stats.skew on the answers
     from scipy.stats import skew
 
     piled = np.array([[2, 3, 5, 20, 70], [10, 20, 40, 20, 10]])
     (skewed,) = ordinal_advice(piled, 5, ["a", "b"])
-    assert skewed.code == "ordinal-skewed-items" and skewed.values["items"] == ("a",)
+    assert skewed.code == "ordinal-skewed-items"
+    assert skewed.values["items"] == ("a",)
     assert skewed.values["max_abs_skewness"] == pytest.approx(abs(skew(np.repeat(np.arange(5), piled[0]))))

@@ -148,7 +148,8 @@ def test_a_replaced_file_keeps_its_own_mode(tmp_path, umask_022):
     target.write_text("old\n")
     target.chmod(0o600)  # the user made it private: replacing it must not widen that
     assert main(["score", str(data), "-s", str(scales), "--out", str(target), "--force"]) == 0
-    assert _mode(target) == 0o600 and target.read_text() != "old\n"
+    assert _mode(target) == 0o600
+    assert target.read_text() != "old\n"
 
 
 # ---- figure file names -------------------------------------------------------------------------------------
@@ -160,7 +161,8 @@ def test_scales_whose_names_differ_in_punctuation_get_a_figure_each(report_folde
     assert len(histograms) == 3, figures  # wb.1, wb_1 and wb-1: none overwrote another
     markdown = (report_folder / "report.md").read_text(encoding="utf-8")
     linked = re.findall(r"\]\((figures/[^)]+\.png)\)", markdown)
-    assert len(linked) == len(set(linked)) and all((report_folder / name).is_file() for name in linked)
+    assert len(linked) == len(set(linked))
+    assert all((report_folder / name).is_file() for name in linked)
     assert len([p for p in figures if p.endswith(".png")]) == len(linked)
 
 
@@ -172,7 +174,8 @@ def test_tally_figures_of_columns_named_alike_do_not_overwrite_each_other(tmp_pa
     frame.to_parquet(data, index=False)
     assert main(["tally", str(data), "--columns", "a b,a/b,a_b", "--figures", str(tmp_path / "f"), "-f", "json"]) == 0
     names = [p.name for p in (tmp_path / "f").iterdir()]
-    assert len(names) == 6 and len({n.casefold() for n in names}) == 6
+    assert len(names) == 6
+    assert len({n.casefold() for n in names}) == 6
     assert "tally_a_b.svg" in names  # a name that is already safe stays as it is
 
 
@@ -200,7 +203,8 @@ def test_carriage_returns_cannot_start_a_line_in_report_md(report_folder):
         assert not re.match(r"\s*(#+|[-*+]|\d+[.)])\s*(Injected|injected)", line), line
     # the texts are all there, on the line they belong to
     assert "Pulse 2026 \\# Injected heading" in markdown or "Pulse 2026 # Injected heading" in markdown
-    assert "injected list item" in markdown and "Injected level" in markdown
+    assert "injected list item" in markdown
+    assert "Injected level" in markdown
 
 
 def test_escape_markdown_turns_every_line_break_into_a_space():
@@ -215,11 +219,15 @@ def test_terminal_tables_show_control_characters_escaped(tmp_path, capsys):
     frame.to_parquet(data, index=False)
     assert main(["tally", str(data), "--columns", "team", "-f", "table"]) == 0
     out = capsys.readouterr().out
-    assert "\x1b" not in out and "\x07" not in out and "\r" not in out
-    assert "east\\x1b]0;owned\\x07" in out and "## Injected level" in out  # shown, escaped, on one line
+    assert "\x1b" not in out
+    assert "\x07" not in out
+    assert "\r" not in out
+    assert "east\\x1b]0;owned\\x07" in out
+    assert "## Injected level" in out
     assert main(["compare", str(data), "-s", str(scales), "--by", "team", "-f", "table"]) == 0
     out = capsys.readouterr().out
-    assert "\x1b" not in out and "east\\x1b]0;owned" in out
+    assert "\x1b" not in out
+    assert "east\\x1b]0;owned" in out
 
 
 def test_visible_controls_leaves_ordinary_text_alone():
@@ -227,7 +235,9 @@ def test_visible_controls_leaves_ordinary_text_alone():
     assert visible_controls("a\u202eb\x9bc\x00") == "a\\u202eb\\x9bc\\x00"
     text = render_text([Table(title="T\x1b[2J", columns=("c\x1b",), rows=(("v\x07",),), kinds={"c\x1b": "text"},
                               notes=("n\x1b",))])
-    assert "\x1b" not in text and "\x07" not in text and "T\\x1b[2J" in text
+    assert "\x1b" not in text
+    assert "\x07" not in text
+    assert "T\\x1b[2J" in text
 
 
 # ---- one account of duplicates in the report ---------------------------------------------------------------

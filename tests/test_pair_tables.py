@@ -26,7 +26,7 @@ def reference_table(codes: np.ndarray, i: int, j: int, levels: int) -> np.ndarra
     return table
 
 
-@pytest.mark.parametrize("levels, k", [(2, 7), (3, 5), (4, 9), (5, 8), (7, 4), (12, 3), (30, 2), (5, 1)])
+@pytest.mark.parametrize(("levels", "k"), [(2, 7), (3, 5), (4, 9), (5, 8), (7, 4), (12, 3), (30, 2), (5, 1)])
 def test_every_pair_table_equals_the_direct_count(levels: int, k: int) -> None:
     rng = np.random.default_rng(levels * 100 + k)
     codes = random_codes(rng, 700, k, levels, 0.1)

@@ -54,7 +54,7 @@ def test_tetrachoric_with_median_splits_is_sheppards_closed_form() -> None:
     assert (estimates.status == 0).all()
 
 
-@pytest.mark.parametrize("seed, rho, rows, columns", [
+@pytest.mark.parametrize(("seed", "rho", "rows", "columns"), [
     (1, 0.55, [-1.0, -0.2, 0.5, 1.4], [-0.5, 0.3, 1.0, 1.8]),
     (2, -0.3, [-0.4, 0.9], [0.2]),
     (3, 0.85, [-1.5, -0.8, 0.0, 0.6, 1.1, 1.7], [-1.0, 0.0, 1.0]),
@@ -85,7 +85,8 @@ def test_empty_cells_that_push_to_one_are_corrected_by_half() -> None:
 
 def test_tables_without_a_second_level_are_undefined() -> None:
     result = polychoric_pairs(np.array([[[40.0, 10.0], [0.0, 0.0]], [[0.0, 0.0], [0.0, 5.0]]]))
-    assert np.isnan(result.rho).all() and (result.status == 3).all()
+    assert np.isnan(result.rho).all()
+    assert (result.status == 3).all()
 
 
 def test_a_perfectly_ordered_table_is_corrected_in_every_empty_cell() -> None:
@@ -101,7 +102,8 @@ def test_an_estimate_past_the_bound_is_the_bound_without_a_standard_error() -> N
     table = np.array([[[4999.0, 1.0], [1.0, 4999.0]]])
     result = polychoric_pairs(table)
     assert np.sin(2 * np.pi * (0.4999 - 0.25)) > RHO_BOUND
-    assert result.status[0] == 2 and result.rho[0] == pytest.approx(RHO_BOUND, abs=1e-7)
+    assert result.status[0] == 2
+    assert result.rho[0] == pytest.approx(RHO_BOUND, abs=1e-7)
     assert np.isnan(result.se[0])
 
 

@@ -31,7 +31,8 @@ def test_unknown_commands_and_options_are_usage_errors(capsys):
     assert main(["no-such-command"]) == 2
     assert main(["score", "--no-such-option"]) == 2
     err = capsys.readouterr().err
-    assert err.count("error: ") == 2 and "Traceback" not in err
+    assert err.count("error: ") == 2
+    assert "Traceback" not in err
 
 
 def test_importing_the_cli_stays_light():

@@ -49,7 +49,7 @@ def test_longstring_matches_a_plain_run_count(rows):
     expected = []
     for r in rows:
         best = run = 1
-        for a, b in zip(r, r[1:]):
+        for a, b in zip(r, r[1:], strict=False):
             run = run + 1 if a == b else 1
             best = max(best, run)
         expected.append(best)
@@ -110,14 +110,18 @@ def test_mahalanobis_reference_rows_estimate_the_centre():
 
 def test_mahalanobis_degenerate_inputs_give_notes():
     few = mahalanobis_distance(np.array([[1.0, 2.0], [2.0, 1.0]]))
-    assert np.isnan(few.d2).all() and "at least 3" in few.notes[0]
+    assert np.isnan(few.d2).all()
+    assert "at least 3" in few.notes[0]
     x = np.random.default_rng(1).normal(size=(20, 3))
     x[:, 2] = x[:, 0] + x[:, 1]  # exactly collinear
     singular = mahalanobis_distance(x)
-    assert np.isnan(singular.d2).all() and "singular" in singular.notes[-1]
+    assert np.isnan(singular.d2).all()
+    assert "singular" in singular.notes[-1]
     constant = np.column_stack([x[:, :2], np.full(20, 3.0)])
     dropped = mahalanobis_distance(constant)
-    assert np.isfinite(dropped.d2).all() and "without spread" in dropped.notes[0] and (dropped.df == 2).all()
+    assert np.isfinite(dropped.d2).all()
+    assert "without spread" in dropped.notes[0]
+    assert (dropped.df == 2).all()
 
 
 def test_even_odd_hand_case():
@@ -134,7 +138,8 @@ def test_even_odd_hand_case():
 
 def test_even_odd_needs_three_scales_and_clips():
     two = even_odd_consistency([np.ones((4, 3)), np.ones((4, 2))])
-    assert np.isnan(two.consistency).all() and "at least 3 scales" in two.notes[0]
+    assert np.isnan(two.consistency).all()
+    assert "at least 3 scales" in two.notes[0]
     # odd means rise where even means fall: r = -1, corrected value clipped to -1
     contrary = even_odd_consistency([np.array([[1, 5]]), np.array([[3, 3]]), np.array([[5, 1]])])
     np.testing.assert_allclose(contrary.consistency, [-1.0])
@@ -215,7 +220,8 @@ def test_screen_flags_planted_records_and_explains_the_contract():
     first = doc["respondents"][0]
     assert {"id", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_pvalue", "even_odd", "person_total_r",
             "missing"} <= set(first)
-    assert "long-run" in first["flags"] and first["flagged"]
+    assert "long-run" in first["flags"]
+    assert first["flagged"]
     assert "duplicate-answers" in doc["respondents"][1]["flags"]
     assert doc["duplicates"]["rows"] == [["p1", "p2"]]
     assert doc["respondents"][3]["flags"] == ["fast"] or "fast" in doc["respondents"][3]["flags"]
@@ -269,7 +275,8 @@ def test_attentive_respondents_rarely_carry_any_flag(item_shift, design):
     assert carrying <= 0.15
     against = next(use for use in result.weak_indices if use.index == "against-sample")
     if item_shift <= 0.2:  # item means that barely differ: person-total r cannot mean anything
-        assert not against.used and not any("against-sample" in codes for codes in result.flags)
+        assert not against.used
+        assert not any("against-sample" in codes for codes in result.flags)
     if item_shift >= 1.5:
         assert against.used
 

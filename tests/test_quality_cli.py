@@ -47,10 +47,12 @@ def test_screen_json_contract(tmp_path, capsys):
     data, scales = write_survey(tmp_path)
     assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "minutes", "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["command"] == "screen" and doc["tool"]["name"] == "scalewright"
+    assert doc["command"] == "screen"
+    assert doc["tool"]["name"] == "scalewright"
     by_id = {r["id"]: r for r in doc["respondents"]}
     assert len(by_id) == 120
-    assert "long-run" in by_id["W000"]["flags"] and by_id["W000"]["flagged"]
+    assert "long-run" in by_id["W000"]["flags"]
+    assert by_id["W000"]["flagged"]
     assert "fast" in by_id["W001"]["flags"]
     assert by_id["W000"]["longstring"] == 12
     assert set(doc["summary"]["alpha_change"]) == {"pace", "team", "voice"}
@@ -63,8 +65,10 @@ def test_screen_out_csv_feeds_exclude(tmp_path, capsys):
                  "--out", str(flagged), "--flagged-only"]) == 0
     with open(flagged, newline="", encoding="utf-8") as handle:
         rows = list(csv.DictReader(handle))
-    assert list(rows[0])[0] == "id" and {"W000", "W001"} <= {r["id"] for r in rows}
-    assert all(r["flagged"] == "yes" for r in rows) and all(r["explanation"] for r in rows)
+    assert list(rows[0])[0] == "id"
+    assert {"W000", "W001"} <= {r["id"] for r in rows}
+    assert all(r["flagged"] == "yes" for r in rows)
+    assert all(r["explanation"] for r in rows)
     capsys.readouterr()
     assert main(["screen", str(data), "--scales", str(scales), "--exclude", str(flagged), "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
@@ -101,7 +105,8 @@ def test_present_tables_have_raw_values(tmp_path):
     tables = screen_tables(screen_respondents(raw, keyed, ids=[str(i) for i in range(40)]).to_dict())
     respondents = next(t for t in tables if t.key == "respondents")
     row = next(r for r in respondents.rows if r[0] == "3")
-    assert row[2] == 9 and isinstance(row[3], float)
+    assert row[2] == 9
+    assert isinstance(row[3], float)
     assert "9 items in a row" in row[-1]
 
 
@@ -109,17 +114,20 @@ def test_a_check_that_did_not_run_is_not_checked_never_zero(tmp_path, capsys):
     data, scales = write_survey(tmp_path)
     assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["summary"]["counts"]["fast"] is None and doc["summary"]["not_checked"] == ["fast"]
+    assert doc["summary"]["counts"]["fast"] is None
+    assert doc["summary"]["not_checked"] == ["fast"]
     assert {"code": "fast-not-checked", "flag": "fast"} in doc["notes"]
     assert main(["screen", str(data), "--scales", str(scales), "-f", "table"]) == 0
     out = capsys.readouterr().out
     fast = next(line for line in out.splitlines() if line.startswith("fast "))
-    assert "not checked" in fast and not re.search(r"\b0\b", fast)
+    assert "not checked" in fast
+    assert not re.search(r"\b0\b", fast)
     assert "fast: not checked, as no column of completion times was named" in out
     # with the durations the check runs, and its count is a number
     assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "minutes", "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
-    assert doc["summary"]["counts"]["fast"] >= 1 and doc["summary"]["not_checked"] == []
+    assert doc["summary"]["counts"]["fast"] >= 1
+    assert doc["summary"]["not_checked"] == []
 
 
 def test_few_items_leave_duplicate_answers_not_checked(tmp_path, capsys):
@@ -150,7 +158,7 @@ def test_duplicates_are_counted_listed_and_explained_alike(tmp_path, capsys):
     assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     duplicates = doc["duplicates"]
-    by_status = dict(zip(map(tuple, duplicates["rows"]), duplicates["row_status"]))
+    by_status = dict(zip(map(tuple, duplicates["rows"]), duplicates["row_status"], strict=True))
     assert by_status == {("W000", "W008"): "long-run", ("W005", "W006", "W007"): "flagged"}
     assert doc["summary"]["counts"]["duplicate-answers"] == 3
     assert main(["screen", str(data), "--scales", str(scales), "-f", "table"]) == 0

@@ -92,7 +92,8 @@ def test_quick_route_equals_the_general_route(write_file, spec, monkeypatch, see
     assert data_module._read_quickly(path, spec) is not None  # this file does take the quick route
     quick, general = read_both(path, spec, monkeypatch)
     assert_same_responses(quick, general)
-    assert quick.missing_code_by_column and quick.blank_by_column  # the file exercises both
+    assert quick.missing_code_by_column
+    assert quick.blank_by_column
 
 
 def test_quick_route_equals_the_general_route_on_tab_separated_files(write_file, spec, monkeypatch):
@@ -116,7 +117,8 @@ def test_refused_values_give_the_same_error_by_either_route(write_file, spec, mo
     with pytest.raises(DataError) as general:
         read_responses(path, spec)
     assert [str(p) for p in quick.value.problems] == [str(p) for p in general.value.problems]
-    assert "row " in str(quick.value.problems[0]) and "outside the answer range" in str(quick.value.problems[0])
+    assert "row " in str(quick.value.problems[0])
+    assert "outside the answer range" in str(quick.value.problems[0])
 
 
 @pytest.mark.parametrize("cell", ["Agree", "2.5", "40000", "3;4"])
@@ -143,7 +145,8 @@ def test_code_table_marks_answers_no_answer_codes_and_other_numbers():
     as_bits = np.array([-2, -1, 0, 2, 9, -99, 3, 8], dtype=np.int16).view(np.uint16)
     # codes are offsets from min (hand-worked: -2 -> 0 ... 2 -> 4); 253 = "no answer" code, 254 = refused
     assert table[as_bits].tolist() == [0, 1, 2, 4, 253, 253, 254, 254]
-    assert fits(fmt) and not fits(ResponseFormat(min=0, max=1000))
+    assert fits(fmt)
+    assert not fits(ResponseFormat(min=0, max=1000))
 
 
 def test_convert_codes_counts_blanks_codes_and_refusals():
@@ -155,7 +158,8 @@ def test_convert_codes_counts_blanks_codes_and_refusals():
     converted = convert_codes(column, fmt, out=out)
     assert out.tolist() == [0, MISSING, MISSING, 4, MISSING, 2, MISSING]
     assert (converted.blanks, converted.missing_codes) == (2, 1)
-    assert np.flatnonzero(converted.bad).tolist() == [4] and converted.raw[4] == 7
+    assert np.flatnonzero(converted.bad).tolist() == [4]
+    assert converted.raw[4] == 7
 
 
 def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_file, spec, monkeypatch):
@@ -195,7 +199,7 @@ def test_a_header_name_with_a_line_break_is_read_by_both_routes(write_file, smal
     assert quick.file_columns == ("Comment\nfree text", "a", "b", "c")
 
 
-@pytest.mark.parametrize("body, message", [
+@pytest.mark.parametrize(("body", "message"), [
     ("a,x\n", "header but no rows"),
     ("a,x\n1,2\n3\n", "cannot parse as delimited text"),
     (b"a,x\n1,caf\xe9\n", "not UTF-8"),
@@ -244,7 +248,8 @@ def test_comments_with_line_breaks_in_a_file_of_many_blocks(write_file, monkeypa
     assert path.stat().st_size > 2**20
     quick, general = read_both(path, spec, monkeypatch)
     assert_same_responses(quick, general)
-    assert quick.n == 40_000 and quick.frame["comment"].iloc[7] == "first line, 7\nsecond line"
+    assert quick.n == 40_000
+    assert quick.frame["comment"].iloc[7] == "first line, 7\nsecond line"
 
 
 def test_an_empty_line_does_not_turn_whole_numbers_into_decimals(write_file, monkeypatch):
@@ -255,7 +260,8 @@ def test_an_empty_line_does_not_turn_whole_numbers_into_decimals(write_file, mon
     path = write_file("g.csv", "grp;a0;a1\n2;;\n\n1;;6\n")
     quick, general = read_both(path, spec, monkeypatch)
     assert_same_responses(quick, general)
-    assert list(general.frame["grp"].astype(str)) == ["2", "1"] and list(general.line_numbers) == [2, 4]
+    assert list(general.frame["grp"].astype(str)) == ["2", "1"]
+    assert list(general.line_numbers) == [2, 4]
 
 
 def test_a_file_of_items_only_reads_alike(write_file, small_spec, monkeypatch):

@@ -70,7 +70,9 @@ def test_omega_three_items_closed_form_on_holzinger_swineford():
     closed_loadings = np.sqrt([s[0, 1] * s[0, 2] / s[1, 2], s[0, 1] * s[1, 2] / s[0, 2],
                                s[0, 2] * s[1, 2] / s[0, 1]])
     fit = fit_one_factor(s)
-    assert fit.method == "ml" and fit.converged and not fit.heywood_items
+    assert fit.method == "ml"
+    assert fit.converged
+    assert not fit.heywood_items
     np.testing.assert_allclose(fit.loadings, closed_loadings, rtol=1e-5)  # L-BFGS-B stopping tolerance
     assert omega_total_from_cov(s) == pytest.approx(closed_loadings.sum() ** 2 / s.sum(), abs=1e-6)
 
@@ -80,7 +82,8 @@ def test_omega_signs_are_aligned_and_heywood_case_noted():
     rng = np.random.default_rng(5)
     x = rating_scale(3000, 5, rng)
     fit = fit_one_factor(np.cov(x, rowvar=False))
-    assert fit.loadings.sum() > 0 and (fit.loadings > 0).all()
+    assert fit.loadings.sum() > 0
+    assert (fit.loadings > 0).all()
     # a Heywood case: item 1 correlates with the others beyond what its variance allows
     corr = np.array([[1.0, 0.9, 0.9, 0.9], [0.9, 1.0, 0.7, 0.7], [0.9, 0.7, 1.0, 0.95], [0.9, 0.7, 0.95, 1.0]])
     result = reliability_from_cov(corr, 500, item_names=["a", "b", "c", "d"])
@@ -145,7 +148,8 @@ def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas(a
         assert item.counts == {str(level): int(counts.get(float(level), 0)) for level in range(1, 6)}
         assert item.floor_pct == pytest.approx(100 * (frame[name] == 1).mean(), rel=1e-12)
         assert item.ceiling_pct == pytest.approx(100 * (frame[name] == 5).mean(), rel=1e-12)
-    assert result.n_used == 250 and result.n_set_aside == 0
+    assert result.n_used == 250
+    assert result.n_set_aside == 0
 
 
 def test_listwise_and_pairwise_missing_handling():
@@ -156,7 +160,8 @@ def test_listwise_and_pairwise_missing_handling():
     names = list("abcde")
     listwise = scale_reliability(x, item_names=names, low=1, high=5)
     complete = pd.DataFrame(x).dropna()
-    assert listwise.n_used == len(complete) and listwise.n_set_aside == 400 - len(complete)
+    assert listwise.n_used == len(complete)
+    assert listwise.n_set_aside == 400 - len(complete)
     assert listwise.alpha == pytest.approx(cronbach_alpha_from_cov(complete.cov().to_numpy()), rel=1e-12)
     assert any("listwise" in note for note in listwise.notes)
     pairwise = scale_reliability(x, item_names=names, low=1, high=5, pairwise=True)
@@ -194,7 +199,8 @@ def test_miskey_flag_on_pingouin_cronbach_alpha_data():
     result = scale_reliability(wide.to_numpy(dtype=np.float64), item_names=list(wide.columns), low=1, high=7)
     reference = pingouin.cronbach_alpha(data=long, items="Items", scores="Scores", subject="Subj")[0]
     assert result.alpha == pytest.approx(reference, rel=1e-10)
-    assert result.items["Q5"].item_rest_r < 0 and result.items["Q6"].item_rest_r < 0
+    assert result.items["Q5"].item_rest_r < 0
+    assert result.items["Q6"].item_rest_r < 0
     # their loadings on the first factor are near zero (|loading| < .10): they measure little of the scale
     # rather than pointing against it, so the flag is weak-item, not miskey-suspect (the mis-key flag rests
     # on the loading's sign; item-rest r only supports it)
@@ -210,7 +216,8 @@ def test_redundant_pair_and_excess_reliability_flags():
     x = factor[:, None] + 0.15 * rng.standard_normal((2000, 4))
     result = scale_reliability(x, item_names=list("abcd"), low=-5, high=5)
     codes = result.flag_codes()
-    assert (None, "excess-reliability") in codes and ("a", "redundant-pair") in codes
+    assert (None, "excess-reliability") in codes
+    assert ("a", "redundant-pair") in codes
     relaxed = scale_reliability(x, item_names=list("abcd"), low=-5, high=5,
                                 thresholds=ReliabilityThresholds(redundant_r=0.999, excess_alpha=0.999))
     assert not relaxed.flags
@@ -219,18 +226,23 @@ def test_redundant_pair_and_excess_reliability_flags():
 def test_degenerate_inputs_give_nulls_and_notes():
     # common practice, no source: undefined statistics are null, with a reason
     one_item = scale_reliability(np.arange(10.0)[:, None], item_names=["a"], low=0, high=9)
-    assert math.isnan(one_item.alpha) and any("one item" in n for n in one_item.notes)
+    assert math.isnan(one_item.alpha)
+    assert any("one item" in n for n in one_item.notes)
     two_rows = scale_reliability(np.array([[1.0, 2, 3], [2, 3, 4]]), item_names=list("abc"), low=1, high=5)
-    assert math.isnan(two_rows.alpha) and any("at least 3" in n for n in two_rows.notes)
+    assert math.isnan(two_rows.alpha)
+    assert any("at least 3" in n for n in two_rows.notes)
     rng = np.random.default_rng(1)
     x = rating_scale(100, 4, rng)
     x[:, 1] = 3.0
     constant = scale_reliability(x, item_names=list("abcd"), low=1, high=5)
-    assert math.isfinite(constant.alpha) and math.isnan(constant.omega_total)
-    assert math.isnan(constant.items["b"].item_rest_r) and any("no variance" in n for n in constant.notes)
+    assert math.isfinite(constant.alpha)
+    assert math.isnan(constant.omega_total)
+    assert math.isnan(constant.items["b"].item_rest_r)
+    assert any("no variance" in n for n in constant.notes)
     y = rating_scale(100, 3, rng)
     singular = scale_reliability(np.column_stack([y, y.sum(1)]), item_names=list("abcd"), low=1, high=15)
-    assert math.isnan(singular.lambda6) and any("singular" in n for n in singular.notes)
+    assert math.isnan(singular.lambda6)
+    assert any("singular" in n for n in singular.notes)
     for result in (one_item, two_rows, constant, singular):
         json.dumps(to_jsonable(result.to_dict()), allow_nan=False)
 
@@ -264,7 +276,8 @@ def test_reliability_by_group_with_holm_across_pairs():
     shift = pd.Series(["day"] * 150 + ["night"] * 150 + ["rotating"] * 150 + ["on-call"] * 6, name="shift")
     split = split_by(shift, min_size=10, column="shift")
     groups = reliability_by_group(x, split, item_names=list("abcde"), low=1, high=5)
-    assert set(groups.levels) == {"day", "night", "rotating"} and groups.too_small == {"on-call": 6}
+    assert set(groups.levels) == {"day", "night", "rotating"}
+    assert groups.too_small == {"on-call": 6}
     assert len(groups.comparisons) == 3
     raw = [c.p for c in groups.comparisons]
     np.testing.assert_allclose([c.p_holm for c in groups.comparisons], multipletests(raw, method="holm")[1],
@@ -294,7 +307,8 @@ def test_one_factor_ml_fit_matches_factor_analyzer():
     reference = np.asarray(model.loadings_)[:, 0]
     reference = reference if reference.sum() > 0 else -reference
     fit = fit_one_factor(cov)
-    assert fit.method == "ml" and fit.converged
+    assert fit.method == "ml"
+    assert fit.converged
     np.testing.assert_allclose(fit.standardized_loadings, reference, rtol=1e-4)
     np.testing.assert_allclose(fit.uniquenesses / np.diag(cov), model.get_uniquenesses(), rtol=1e-3)
 
@@ -362,7 +376,8 @@ def test_no_alpha_sentence_when_reversing_changes_nothing_shown():
     sentence = reliability_flag_message("miskey-suspect", {
         "item": "x1", "loading": -0.4, "item_rest_r": -0.2, "declared_reversed": False, "alpha": -0.6212,
         "alpha_reversed": -0.6199, "reversed_together": ("x1",)})
-    assert "alpha would be" not in sentence and "x1 runs against" in sentence
+    assert "alpha would be" not in sentence
+    assert "x1 runs against" in sentence
 
 
 def test_weak_item_message_near_the_cutoff_reads_true():

@@ -62,7 +62,8 @@ def test_json_contract_and_values(files, capsys):
     # reference: numpy covariance of the keyed items (wl4 reversed as 6 - x) for alpha; the contract of DESIGN.md
     data, scales, workload, climate = files
     document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
-    assert document["tool"]["name"] == "scalewright" and document["command"] == "reliability"
+    assert document["tool"]["name"] == "scalewright"
+    assert document["command"] == "reliability"
     block = document["scales"]["workload"]
     for key in ("n_used", "k", "alpha", "alpha_ci", "alpha_standardized", "omega_total", "lambda2", "lambda6",
                 "mean_inter_item_r", "items", "flags", "notes"):
@@ -70,7 +71,8 @@ def test_json_contract_and_values(files, capsys):
     keyed = workload.copy()
     keyed[:, 3] = 6 - keyed[:, 3]
     assert block["alpha"] == pytest.approx(cronbach_alpha_from_cov(np.cov(keyed, rowvar=False)), rel=1e-12)
-    assert block["n_used"] == 240 and block["k"] == 4
+    assert block["n_used"] == 240
+    assert block["k"] == 4
     for key in ("mean", "sd", "item_rest_r", "alpha_if_deleted", "omega_if_deleted", "missing_pct", "floor_pct",
                 "ceiling_pct"):
         assert key in block["items"]["wl1"]
@@ -91,7 +93,8 @@ def test_by_subgroup_and_small_level_named(files, capsys):
     assert set(block["by"]["shift"]) == {"day", "night"}
     assert block["groups_not_analysed"]["shift"] == {"on-call": 4}
     assert len(block["alpha_comparisons"]["shift"]) == 1
-    assert block["bootstrap"]["n_resamples"] == 50 and document["options"]["seed"] == 3
+    assert block["bootstrap"]["n_resamples"] == 50
+    assert document["options"]["seed"] == 3
     assert any("on-call" in note for note in block["notes"])
 
 
@@ -102,7 +105,8 @@ def test_pairwise_is_said_in_output(write_file, capsys):
     data = write_file("gaps.csv", "\n".join(lines) + "\n")
     scales = write_file("s.yaml", SCALES)
     listwise = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
-    assert listwise["scales"]["climate"]["n_used"] == 119 and listwise["scales"]["climate"]["n_set_aside"] == 1
+    assert listwise["scales"]["climate"]["n_used"] == 119
+    assert listwise["scales"]["climate"]["n_set_aside"] == 1
     pairwise = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json", "--pairwise")
     assert pairwise["scales"]["climate"]["missing_handling"] == "pairwise"
     assert any("pairwise" in note for note in pairwise["scales"]["climate"]["notes"])
@@ -113,7 +117,8 @@ def test_text_renderings(files, capsys, fmt):
     data, scales, _, _ = files
     assert main(["reliability", str(data), "--scales", str(scales), "-f", fmt]) == 0
     out = capsys.readouterr().out
-    assert "cl3" in out and "miskey-suspect" in out
+    assert "cl3" in out
+    assert "miskey-suspect" in out
     if fmt == "csv":
         rows = list(csv.DictReader(io.StringIO(out)))
         assert sum(r["table"] == "reliability" for r in rows) == 2
@@ -132,7 +137,8 @@ def test_degenerate_scale_still_produces_output(write_file, capsys):
                                   "scales:\n  a:\n    title: A\n    items: [a1, a2, a3]\n"
                                   "  b:\n    title: B\n    items: [b1]\n")
     document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
-    assert document["scales"]["b"]["alpha"] is None and document["scales"]["b"]["notes"]
+    assert document["scales"]["b"]["alpha"] is None
+    assert document["scales"]["b"]["notes"]
     assert document["scales"]["a"]["omega_total"] is None
     assert document["scales"]["a"]["items"]["a3"]["item_rest_r"] is None
     assert document["scales"]["a"]["alpha"] is not None
@@ -143,6 +149,8 @@ def test_bad_input_is_one_error_line_and_writes_nothing(files, capsys, tmp_path)
     out = tmp_path / "result.json"
     assert main(["reliability", str(data), "--scales", str(scales), "--by", "nosuch", "-o", str(out)]) != 0
     err = capsys.readouterr().err
-    assert err.startswith("error:") and "nosuch" in err and not out.exists()
+    assert err.startswith("error:")
+    assert "nosuch" in err
+    assert not out.exists()
     assert main(["reliability", str(data), "--scales", str(scales), "--confidence-level", "1.5"]) != 0
     assert capsys.readouterr().err.startswith("error:")

@@ -13,7 +13,7 @@ from scalewright.present.render import escape_markdown, render_csv, render_json,
 from scalewright.present.table import Table
 
 
-@pytest.mark.parametrize("value, kind, expected", [
+@pytest.mark.parametrize(("value", "kind", "expected"), [
     (0.8412, "bounded", ".84"),      # APA: no leading zero for statistics that cannot exceed 1
     (-0.305, "bounded", "-.30"),
     (1.0, "bounded", "1.00"),
@@ -36,7 +36,7 @@ def test_decimals_are_a_choice():
     assert format_value(2.5, "num", decimals=0) in ("2", "3")
 
 
-@pytest.mark.parametrize("text, shown", [
+@pytest.mark.parametrize(("text", "shown"), [
     # CommonMark 0.31 (spec section 2.4): a backslash before any ASCII punctuation shows it literally, so
     # "\<" opens no tag and "\&" starts no entity; text Markdown would not act on stays as it is
     ("<script>alert(1)</script>", "\\<script>alert(1)\\</script>"),
@@ -63,9 +63,12 @@ TABLE = Table(title="Items <b>", columns=("item", "alpha", "p", "n"),
 
 def test_text_and_markdown_round_only_when_rendered():
     text = render_text([TABLE])
-    assert ".84" in text and "< .001" in text and "note: a note" in text
+    assert ".84" in text
+    assert "< .001" in text
+    assert "note: a note" in text
     markdown = render_markdown([TABLE])
-    assert "## Items \\<b>" in markdown and "| .84 |" in markdown
+    assert "## Items \\<b>" in markdown
+    assert "| .84 |" in markdown
 
 
 def test_csv_keeps_full_precision_and_neutralises_formulas():
@@ -80,7 +83,7 @@ def test_json_never_carries_nan():
     assert json.loads(text) == {"alpha": None, "values": [1.0, None]}
 
 
-@pytest.mark.parametrize("value, cutoff, kind, decimals, shown", [
+@pytest.mark.parametrize(("value", "cutoff", "kind", "decimals", "shown"), [
     (0.2996, 0.30, "bounded", 2, (".2996", ".30")),   # not "r = .30, below .30"
     (2.96, 3.0, "num", 1, ("2.96", "3.0")),           # not "ratio 3.0 is below 3"
     (0.84, 0.30, "bounded", 2, (".84", ".30")),       # far from the cut-off: usual decimals
@@ -93,7 +96,8 @@ def test_values_beside_a_cutoff_read_true(value, cutoff, kind, decimals, shown):
     text, limit = format_against(value, cutoff, kind, decimals)
     assert (text, limit) == shown
     # the comparison of the shown numbers agrees with the true one (the property the rule exists for)
-    assert (float(text) < float(limit)) == (value < cutoff) and (float(text) > float(limit)) == (value > cutoff)
+    assert (float(text) < float(limit)) == (value < cutoff)
+    assert (float(text) > float(limit)) == (value > cutoff)
 
 
 def test_structure_eigenvalue_ratio_near_its_cutoff_reads_true():
@@ -102,4 +106,5 @@ def test_structure_eigenvalue_ratio_near_its_cutoff_reads_true():
     from scalewright.stats import structure
 
     text, limit = structure._say_against(2.96, structure.MIN_EIGEN_RATIO, "num", 1)
-    assert float(text) < float(limit) and not np.isclose(float(text), float(limit))
+    assert float(text) < float(limit)
+    assert not np.isclose(float(text), float(limit))

@@ -146,8 +146,9 @@ def test_report_folder_holds_every_file(hostile_report):
 
 def test_page_structure_sections_tables_and_figures(hostile_report):
     page = parse(hostile_report / "index.html")
-    assert page.headings[0] == 1 and page.headings.count(1) == 1
-    for before, after in zip(page.headings, page.headings[1:]):
+    assert page.headings[0] == 1
+    assert page.headings.count(1) == 1
+    for before, after in zip(page.headings, page.headings[1:], strict=False):
         assert after <= before + 1, f"heading level jumps from h{before} to h{after}"
     for anchor in ("summary", "scale-morale", "scale-voice", "quality", "structure", "methods", "cautions",
                    "provenance", "scale-morale-items", "scale-morale-subgroups"):
@@ -157,22 +158,28 @@ def test_page_structure_sections_tables_and_figures(hostile_report):
     svg_files = len(list((hostile_report / "figures").glob("*.svg")))
     assert len(page.svgs) == svg_files
     for svg in page.svgs:
-        assert svg.get("role") == "img" and svg.get("aria-labelledby")
+        assert svg.get("role") == "img"
+        assert svg.get("aria-labelledby")
     assert page.tags.count("figcaption") == svg_files
     html = (hostile_report / "index.html").read_text(encoding="utf-8")
-    assert "@media print" in html and "size:A4" in html
-    assert "not a diagnosis" in html and "manual" in html
+    assert "@media print" in html
+    assert "size:A4" in html
+    assert "not a diagnosis" in html
+    assert "manual" in html
 
 
 def test_hostile_text_is_escaped_everywhere(hostile_report):
     html = (hostile_report / "index.html").read_text(encoding="utf-8")
     page = parse(hostile_report / "index.html")
-    assert "script" not in page.tags and "img" not in page.tags and "iframe" not in page.tags
+    assert "script" not in page.tags
+    assert "img" not in page.tags
+    assert "iframe" not in page.tags
     assert not [a for a in page.attributes if a[1].lower().startswith("on")]
     assert "<script" not in html.lower()
     assert html.count("&lt;script&gt;window.__pwned=1&lt;/script&gt;") >= 4  # titles, the group level
     text = "".join(page.text)
-    assert HOSTILE in text and HOSTILE_IMG in text  # shown literally to the reader
+    assert HOSTILE in text
+    assert HOSTILE_IMG in text
     for tag, name, value in page.attributes:
         if name in ("href", "src", "xlink:href"):
             assert value.startswith(("#", "data:image/png")), (tag, name, value)
@@ -182,8 +189,11 @@ def test_hostile_text_is_escaped_everywhere(hostile_report):
     # (the section anchors, <a id="..."></a> on lines of their own, are the report's own markup, not user text)
     user_text = re.sub(r'^<a id="[^"<>]*"></a>$', "", markdown, flags=re.M)
     assert re.search(r"(?<!\\)<[A-Za-z/!?]", user_text) is None
-    assert "\\<script>" in markdown and "\\<img" in markdown
-    assert "&lt;" not in markdown and "&amp;" not in markdown and not re.search(r"\d\\\.\d", markdown)
+    assert "\\<script>" in markdown
+    assert "\\<img" in markdown
+    assert "&lt;" not in markdown
+    assert "&amp;" not in markdown
+    assert not re.search(r"\d\\\.\d", markdown)
     assert r"My work \| matters \*to me\*" in markdown
 
 
@@ -191,7 +201,8 @@ def test_results_json_carries_the_contract_keys(hostile_report):
     text = (hostile_report / "results.json").read_text(encoding="utf-8")
     assert "NaN" not in text
     document = json.loads(text)
-    assert document["tool"]["name"] == "scalewright" and document["tool"]["version"]
+    assert document["tool"]["name"] == "scalewright"
+    assert document["tool"]["version"]
     assert set(document["input"]) >= {"data", "data_sha256", "scales_sha256"}
     assert document["input"]["data"].endswith("answers.csv")
     morale = document["reliability"]["scales"]["morale"]
@@ -252,7 +263,9 @@ def test_unknown_group_column_is_a_clear_error(tmp_path, capsys):
     data, scales = hostile_inputs(tmp_path, n=40)
     assert run_report(data, scales, tmp_path / "out", "--by", "tema") != 0
     err = capsys.readouterr().err
-    assert err.startswith("error:") and "team" in err and "Traceback" not in err
+    assert err.startswith("error:")
+    assert "team" in err
+    assert "Traceback" not in err
     assert not (tmp_path / "out").exists()
 
 
@@ -297,7 +310,9 @@ def test_progress_lines_bar_and_quiet():
     progress = Progress(4, stream=bar, bar=True)
     progress.step("one")
     progress.step("two")
-    assert bar.getvalue().startswith("\r[") and "2/4 two" in bar.getvalue() and "\n" not in bar.getvalue()
+    assert bar.getvalue().startswith("\r[")
+    assert "2/4 two" in bar.getvalue()
+    assert "\n" not in bar.getvalue()
     quiet = io.StringIO()
     progress = Progress(2, stream=quiet, quiet=True)
     progress.step("x")
@@ -325,9 +340,12 @@ def test_sanitise_svg_drops_anything_that_could_run_or_fetch():
     lowered = clean.lower()
     for bad in ("<script", "onload", "onclick", "foreignobject", "example.org", "javascript:", "<a ", "comment"):
         assert bad not in lowered, bad
-    assert 'id="fig9-c1"' in clean and 'url(#fig9-c1)' in clean and 'href="#fig9-c1"' in clean
+    assert 'id="fig9-c1"' in clean
+    assert 'url(#fig9-c1)' in clean
+    assert 'href="#fig9-c1"' in clean
     assert "<title id=\"fig9-title\">A &lt;b&gt; title</title>" in clean
-    assert 'role="img"' in clean and 'width="10pt"' not in clean
+    assert 'role="img"' in clean
+    assert 'width="10pt"' not in clean
 
 
 def test_png_versions_only_on_request(built, tmp_path):
@@ -339,7 +357,8 @@ def test_png_versions_only_on_request(built, tmp_path):
     figures = make_figures(built.results, tmp_path, formats=FIGURE_FORMATS_WITH_PNG)
     svgs = sorted(p.stem for p in (tmp_path / "figures").glob("*.svg"))
     pngs = sorted(p.stem for p in (tmp_path / "figures").glob("*.png"))
-    assert svgs == pngs and len(svgs) == len(figures)
+    assert svgs == pngs
+    assert len(svgs) == len(figures)
     assert all((tmp_path / "figures" / f"{stem}.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for stem in pngs)
     markdown = render_report_markdown(build_document(built.results, figures=figures, decimals=2))
     assert all(f"(PNG version: `figures/{stem}.png`)" in markdown for stem in pngs)

@@ -18,7 +18,7 @@ def _close(a, b, path: str = "") -> None:
             _close(a[key], b[key], f"{path}.{key}")
     elif isinstance(a, list):
         assert len(a) == len(b), f"{path}: lengths differ"
-        for i, (x, y) in enumerate(zip(a, b)):
+        for i, (x, y) in enumerate(zip(a, b, strict=True)):
             _close(x, y, f"{path}[{i}]")
     elif isinstance(a, float) and isinstance(b, float):
         assert math.isclose(a, b, rel_tol=1e-12, abs_tol=1e-15), f"{path}: {a} != {b}"
@@ -50,7 +50,8 @@ def test_reliability_equals_the_reliability_command(demo_run):
     alone = _command_json(folder, "reliability", [str(data), "--scales", str(scales), "--by", "shift"])
     _close(alone["scales"], results["reliability"]["scales"], "reliability")
     workload = results["reliability"]["scales"]["workload"]
-    assert 0 < workload["alpha"] < 1 and workload["alpha_ci"][0] < workload["alpha"] < workload["alpha_ci"][1]
+    assert 0 < workload["alpha"] < 1
+    assert workload["alpha_ci"][0] < workload["alpha"] < workload["alpha_ci"][1]
     assert alone["input"] == results["input"]
 
 

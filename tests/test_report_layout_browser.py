@@ -115,7 +115,8 @@ def test_print_layout_expands_details_and_cuts_no_table(demo_folders, browser, t
         .filter(d => d.querySelector('table, figure')).length""") > 0
     assert page.evaluate(OVERFLOWING_TABLES) == []
     pdf = page.pdf(format="A4", path=str(tmp_path / "report.pdf"))
-    assert pdf[:5] == b"%PDF-" and len(pdf) > 50_000
+    assert pdf[:5] == b"%PDF-"
+    assert len(pdf) > 50_000
     page.close()
 
 

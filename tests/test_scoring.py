@@ -32,7 +32,7 @@ NAN = np.nan
 # ---- small cases worked by hand (common practice, no source) -------------------------------------------
 
 
-@pytest.mark.parametrize("low, high, answers, keyed", [
+@pytest.mark.parametrize(("low", "high", "answers", "keyed"), [
     (1, 5, [1, 2, 3, 4, 5], [5, 4, 3, 2, 1]),
     (1, 7, [1, 4, 7, 2], [7, 4, 1, 6]),
     (0, 4, [0, 1, 4, 3], [4, 3, 0, 1]),
@@ -65,7 +65,7 @@ scales:
 """))
 
 
-@pytest.mark.parametrize("low, high, rows, expected", [
+@pytest.mark.parametrize(("low", "high", "rows", "expected"), [
     # 1-7: b reversed as 8 - b; "always" is the label of 7; -9 is the no-answer code
     (1, 7, ["7,1,7,7", "always,7,never,-9", "1,,,"], [7.0, (7 + 1 + 1) / 3, NAN]),
     # 0-4: b reversed as 4 - b; 'never' is 0
@@ -83,7 +83,9 @@ def test_a_fraction_rule_and_a_prorated_sum(write_file):
     data = write_file("d.csv", "a,b,c,d\n5,1,5,5\n4,,4,4\n4,,,4\n")
     result = score_scales(read_responses(data, spec), spec).scales["often"]
     np.testing.assert_allclose(result.scores, [20.0, 16.0, NAN])
-    assert result.required == 3 and result.n_scored == 2 and result.n_unscored == 1
+    assert result.required == 3
+    assert result.n_scored == 2
+    assert result.n_unscored == 1
 
 
 def test_pomp_and_z():
@@ -135,7 +137,7 @@ def test_item_order_does_not_matter(answers, random):
                   elements=st.one_of(st.integers(1, 5).map(float), st.just(np.nan))))
 def test_prorated_sum_equals_mean_of_answered_times_k(answers):
     sums, answered = composite(answers, method="sum", required=1)
-    for row, total, count in zip(answers, sums, answered):
+    for row, total, count in zip(answers, sums, answered, strict=True):
         if count == 0:
             assert np.isnan(total)
         else:
@@ -178,7 +180,8 @@ def test_formula_like_ids_are_neutralised(write_file, tmp_path):
     table = score_scales(read_responses(data, spec), spec)
     write_scores(table, tmp_path / "o.csv")
     text = (tmp_path / "o.csv").read_text()
-    assert "'=HYPERLINK(1)" in text and "'@x" in text
+    assert "'=HYPERLINK(1)" in text
+    assert "'@x" in text
     write_scores(table, tmp_path / "o.xlsx")
     assert pd.read_excel(tmp_path / "o.xlsx")["staff_id"][0] == "'=HYPERLINK(1)"
 
@@ -210,7 +213,10 @@ def test_control_characters_in_ids_are_refused_before_an_xlsx_is_written(write_f
     code = main(["score", str(data), "--scales", str(write_file("s.yaml", BASIC_SCALES)),
                  "--out", str(tmp_path / "o.xlsx")])
     err = capsys.readouterr().err
-    assert code == 4 and err.count("\n") == 1 and "control character" in err and "'s\\x01'" in err
+    assert code == 4
+    assert err.count("\n") == 1
+    assert "control character" in err
+    assert "'s\\x01'" in err
     assert not (tmp_path / "o.xlsx").exists()
 
 
@@ -272,9 +278,10 @@ def test_scores_and_pomp_are_the_nearest_double_to_the_exact_value(answers, meth
     k = answers.shape[1]
     scores, answered = composite(answers, method=method, required=1)
     rescaled = pomp_of_composite(answers, 0.0, 10.0, required=1)
-    for row, score, value, count in zip(answers, scores, rescaled, answered):
+    for row, score, value, count in zip(answers, scores, rescaled, answered, strict=True):
         if count == 0:
-            assert np.isnan(score) and np.isnan(value)
+            assert np.isnan(score)
+            assert np.isnan(value)
             continue
         total = Fraction(int(np.nansum(row)))  # the reference: exact rational arithmetic
         mean = total / int(count)

@@ -31,7 +31,7 @@ scales:
 """
 
 
-@pytest.fixture()
+@pytest.fixture
 def files(tmp_path):
     rng = np.random.default_rng(2026)
     n = 260
@@ -59,7 +59,8 @@ def test_json_follows_the_contract_and_matches_numpy(files, capsys):
     data, scales, frame = files
     assert main(["shape", str(data), "--scales", str(scales), "--format", "json", "--by", "shift"]) == 0
     document = json.loads(capsys.readouterr().out)
-    assert document["tool"]["name"] == "scalewright" and document["command"] == "shape"
+    assert document["tool"]["name"] == "scalewright"
+    assert document["command"] == "shape"
     overall = document["scales"]["support"]["all"]
     scores = _keyed_scores(frame)
     # numpy is the outside reference for the plain descriptives
@@ -68,7 +69,8 @@ def test_json_follows_the_contract_and_matches_numpy(files, capsys):
     assert overall["sd"] == pytest.approx(np.std(scores, ddof=1))
     assert overall["median"] == pytest.approx(np.median(scores))
     assert overall["percentiles"]["90"] == pytest.approx(np.percentile(scores, 90))
-    assert overall["shape"] == "left-skewed" and "skewness" in overall["evidence"]
+    assert overall["shape"] == "left-skewed"
+    assert "skewness" in overall["evidence"]
     by_shift = document["scales"]["support"]["by"]["shift"]
     assert set(by_shift) == {"day", "night"}
     night = scores[frame["shift"].to_numpy() == "night"]
@@ -123,12 +125,13 @@ def test_figures_are_written_as_svg_and_png(files, tmp_path, capsys):
     names = {p.name for p in folder.iterdir()}
     for stem in ("shape_support_histogram", "shape_support_boxplot", "shape_support_by_shift_boxplots",
                  "shape_support_by_shift_histograms"):
-        assert f"{stem}.svg" in names and f"{stem}.png" in names
+        assert f"{stem}.svg" in names
+        assert f"{stem}.png" in names
     assert (folder / "shape_support_histogram.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert json.loads(out.read_text())["scales"]["support"]["all"]["n"] == 260
 
 
-@pytest.mark.parametrize("args, message", [
+@pytest.mark.parametrize(("args", "message"), [
     (["--percentiles", "5,abc"], "not a number"),
     (["--percentiles", "5,150"], "outside 0..100"),
     (["--by", "no_such_column"], "no_such_column"),
@@ -138,7 +141,10 @@ def test_bad_options_end_in_one_error_line(files, capsys, args, message):
     before = data.read_bytes()
     code = main(["shape", str(data), "--scales", str(scales), "--format", "json", *args])
     err = capsys.readouterr().err
-    assert code != 0 and err.startswith("error:") and message in err and "Traceback" not in err
+    assert code != 0
+    assert err.startswith("error:")
+    assert message in err
+    assert "Traceback" not in err
     assert data.read_bytes() == before
 
 

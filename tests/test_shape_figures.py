@@ -44,7 +44,8 @@ def test_histogram_bars_equal_the_counts_one_bar_per_value():
     assert heights == expected
     centres = [p.get_x() + p.get_width() / 2 for p in ax.patches]
     np.testing.assert_allclose(centres, values)
-    assert ax.get_xlabel() == "mean of 3 items" and ax.get_title().startswith("Team support")
+    assert ax.get_xlabel() == "mean of 3 items"
+    assert ax.get_title().startswith("Team support")
 
 
 def test_histogram_of_a_long_grid_uses_half_open_intervals():
@@ -52,7 +53,8 @@ def test_histogram_of_a_long_grid_uses_half_open_intervals():
     x = rng.integers(0, 101, size=800).astype(float)  # a 0..100 sum score
     s = describe_scores(x, low=0, high=100, resolution=1.0)
     cells = s.histogram
-    assert not cells.per_value and len(cells.counts) <= 61
+    assert not cells.per_value
+    assert len(cells.counts) <= 61
     ax = histogram(s, percent=True)
     heights = np.array([p.get_height() for p in ax.patches])
     reference, _ = np.histogram(x, bins=np.asarray(cells.edges))  # numpy, same half-open edges
@@ -71,7 +73,9 @@ def test_box_plot_draws_the_summary_quartiles_and_outliers():
     np.testing.assert_allclose(np.sort(flier_x), np.repeat(box.outliers, box.outlier_counts))
     assert 1.0 in flier_x
     xs = np.concatenate([np.asarray(line.get_xdata(), dtype=float) for line in ax.lines])
-    assert box.whisker_low in xs and box.whisker_high in xs and box.median in xs
+    assert box.whisker_low in xs
+    assert box.whisker_high in xs
+    assert box.median in xs
 
 
 def _report():
@@ -98,7 +102,7 @@ def test_small_multiple_histograms_share_axes_and_show_percentages():
     assert len(axes) == len(report.groups[0].levels)
     assert axes[0].get_shared_x_axes().joined(axes[0], axes[1])
     assert axes[0].get_shared_y_axes().joined(axes[0], axes[1])
-    for ax, level in zip(axes, report.groups[0].levels):
+    for ax, level in zip(axes, report.groups[0].levels, strict=True):
         subset = x[(groups == level).to_numpy()]
         heights = np.array([p.get_height() for p in ax.patches])
         expected = [np.sum(np.isclose(subset, v)) for v in attainable_scores(1, 5, 3)]

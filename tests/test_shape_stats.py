@@ -58,7 +58,7 @@ def _pairs(centre, low, high):
 
 
 # NIST StRD univariate summary statistics, certified values (as listed in REFERENCES.md)
-@pytest.mark.parametrize("values, mean, sd, rtol", [
+@pytest.mark.parametrize(("values", "mean", "sd", "rtol"), [
     (np.array([10000001.0, 10000003.0, 10000002.0]), 10000002.0, 1.0, 1e-13),
     (_pairs(1.2, 1.1, 1.3), 1.2, 0.1, 1e-13),
     (_pairs(1000000.2, 1000000.1, 1000000.3), 1000000.2, 0.1, 1e-8),
@@ -162,7 +162,8 @@ def test_attainable_scores_of_a_two_item_mean_with_a_missing_item():
     np.testing.assert_allclose(attainable_scores(1, 5, 2), np.arange(1, 5.01, 0.5))
     np.testing.assert_allclose(attainable_scores(1, 5, 2, min_answered=1), np.arange(1, 5.01, 0.5))
     three = attainable_scores(1, 5, 3, min_answered=2)
-    assert 1.5 in three and pytest.approx(4 / 3) in list(three)
+    assert 1.5 in three
+    assert pytest.approx(4 / 3) in list(three)
     np.testing.assert_allclose(attainable_scores(1, 5, 2, method="sum"), np.arange(2, 10.01, 1.0))
 
 
@@ -177,14 +178,18 @@ def test_histogram_cells_count_every_score_once():
     rng = np.random.default_rng(4)
     x = rng.integers(10, 51, size=700) / 10
     cells = histogram_cells(x, low=1, high=5, resolution=0.1)
-    assert cells.per_value and len(cells.counts) == 41
+    assert cells.per_value
+    assert len(cells.counts) == 41
     assert sum(cells.counts) == x.size
     # numpy's histogram on the same half-open cells is the outside reference
     reference, _ = np.histogram(x, bins=np.asarray(cells.edges))
     np.testing.assert_array_equal(cells.counts, reference)
     coarse = histogram_cells(rng.integers(0, 201, size=900).astype(float), low=0, high=200, resolution=1.0)
-    assert not coarse.per_value and sum(coarse.counts) == 900 and len(coarse.counts) <= 61
-    assert coarse.labels()[0].startswith("[") and coarse.labels()[0].endswith(")")
+    assert not coarse.per_value
+    assert sum(coarse.counts) == 900
+    assert len(coarse.counts) <= 61
+    assert coarse.labels()[0].startswith("[")
+    assert coarse.labels()[0].endswith(")")
 
 
 def test_box_plot_points_follow_tukeys_fences():
@@ -198,7 +203,8 @@ def test_box_plot_points_follow_tukeys_fences():
     outside = x[(x < box.lower_fence) | (x > box.upper_fence)]
     assert sum(box.outlier_counts) == outside.size
     inside = x[(x >= box.lower_fence) & (x <= box.upper_fence)]
-    assert box.whisker_low == inside.min() and box.whisker_high == inside.max()
+    assert box.whisker_low == inside.min()
+    assert box.whisker_high == inside.max()
 
 
 def test_left_skewed_scores_have_mean_below_median():
@@ -206,29 +212,37 @@ def test_left_skewed_scores_have_mean_below_median():
     rng = np.random.default_rng(21)
     x = 1 + 4 * rng.beta(6, 1.5, size=1000)
     s = describe_scores(x, low=1, high=5)
-    assert s.mean < s.median and s.skewness < 0 and s.shape == "left-skewed"
+    assert s.mean < s.median
+    assert s.skewness < 0
+    assert s.shape == "left-skewed"
 
 
 def test_mean_median_order_that_contradicts_the_skew_is_said():
     # von Hippel (2005): with tied data the mean can sit on the "wrong" side of the median
     x = np.repeat([1.0, 2, 3, 4, 5], [9, 3, 3, 40, 45])
     s = describe_scores(x, attainable=np.arange(1, 6.0))
-    assert s.skewness < 0 and s.mean > s.median
+    assert s.skewness < 0
+    assert s.mean > s.median
     assert s.shape == "left-skewed"
-    assert "von Hippel" in s.evidence and any("von Hippel" in note for note in s.notes)
+    assert "von Hippel" in s.evidence
+    assert any("von Hippel" in note for note in s.notes)
 
 
 def test_floor_and_ceiling_shares_and_flags():
     x = np.repeat([1.0, 2, 3, 4, 5], [30, 20, 20, 20, 10])
     s = describe_scores(x, low=1, high=5)
-    assert s.floor_pct == pytest.approx(30.0) and s.ceiling_pct == pytest.approx(10.0)
+    assert s.floor_pct == pytest.approx(30.0)
+    assert s.ceiling_pct == pytest.approx(10.0)
     # Terwee et al. (2007): more than 15% at an extreme is a floor/ceiling effect
-    assert s.floor_effect is True and s.ceiling_effect is False
+    assert s.floor_effect is True
+    assert s.ceiling_effect is False
 
 
 def test_constant_scores_give_no_shape_and_a_reason_without_warnings():
     s = describe_scores(np.full(50, 3.0), low=1, high=5)
-    assert math.isnan(s.skewness) and s.shape is None and s.sd == 0
+    assert math.isnan(s.skewness)
+    assert s.shape is None
+    assert s.sd == 0
     assert any("same value" in note for note in s.notes)
     body = json.dumps(to_jsonable(s.to_dict()), allow_nan=False)
     assert '"skewness": null' in body
@@ -237,7 +251,9 @@ def test_constant_scores_give_no_shape_and_a_reason_without_warnings():
 def test_too_few_and_no_scores():
     assert describe_scores([2.0, 4.0]).shape is None
     empty = describe_scores([np.nan, np.nan], low=1, high=5)
-    assert empty.n == 0 and empty.n_missing == 2 and empty.shape is None
+    assert empty.n == 0
+    assert empty.n_missing == 2
+    assert empty.shape is None
 
 
 def test_scores_outside_the_range_are_refused():
@@ -256,7 +272,8 @@ def test_summary_carries_the_contract_keys():
         assert key in d
     assert set(d["percentiles"]) == {"5", "10", "25", "50", "75", "90", "95"}
     assert set(d["uniform_gof"]) == {"chi2", "df", "pvalue", "w"}
-    assert d["shape"] in SHAPES and d["evidence"]
+    assert d["shape"] in SHAPES
+    assert d["evidence"]
     json.dumps(d, allow_nan=False)
 
 
@@ -265,7 +282,8 @@ def test_by_subgroup_names_small_levels_without_describing_them():
     x = rng.integers(1, 6, size=60).astype(float)
     groups = pd.Series(["day"] * 30 + ["night"] * 25 + ["weekend"] * 5, name="shift")
     result = describe_by_subgroup(x, groups, min_group=10, low=1, high=5)
-    assert set(result.levels) == {"day", "night"} and result.too_small == {"weekend": 5}
+    assert set(result.levels) == {"day", "night"}
+    assert result.too_small == {"weekend": 5}
     assert result.levels["day"].n == 30
     assert result.levels["night"].mean == pytest.approx(x[30:55].mean())
     assert any("weekend" in note for note in result.notes)
@@ -305,13 +323,17 @@ def test_union_grid_of_partial_answers_keeps_the_complete_answer_resolution():
     grid = attainable_scores(1, 5, 4, min_answered=3)
     s = describe_scores(x, attainable=grid)
     assert s.resolution == pytest.approx(0.25)
-    assert s.histogram.per_value and len(s.histogram.counts) == 17 and sum(s.histogram.counts) == x.size
-    assert s.low == 1 and s.high == 5
+    assert s.histogram.per_value
+    assert len(s.histogram.counts) == 17
+    assert sum(s.histogram.counts) == x.size
+    assert s.low == 1
+    assert s.high == 5
 
 
 def test_floor_and_ceiling_need_the_range():
     s = describe_scores(np.arange(30, dtype=float) % 5 + 1)
-    assert s.floor_effect is None and math.isnan(s.floor_pct)
+    assert s.floor_effect is None
+    assert math.isnan(s.floor_pct)
     assert any("attainable range" in note for note in s.notes)
 
 
@@ -374,7 +396,9 @@ def test_two_real_camps_on_a_fine_grained_score_stay_bimodal():
     camp = rng.random(2800) < 0.4
     x = np.clip(np.round(np.where(camp, rng.normal(350, 40, 2800), rng.normal(650, 40, 2800))), 200, 800)
     modes = _kde_modes(x, 200, 800)
-    assert len(modes) == 2 and abs(modes[0] - 350) < 30 and abs(modes[1] - 650) < 30
+    assert len(modes) == 2
+    assert abs(modes[0] - 350) < 30
+    assert abs(modes[1] - 650) < 30
     assert describe_scores(x, low=200, high=800, resolution=1.0).shape == "bimodal"
 
 
@@ -387,7 +411,8 @@ def test_shape_evidence_near_the_skew_cutoff_reads_true():
                              window_cells=1)
     label, evidence, _ = shape_label(mean=3.0, median=3.1, skewness=-0.3996, skewness_se=0.05, bimodality=0.4,
                                      dip_p=0.9, features=features)
-    assert label == "symmetric" and "skewness -0.3996 (SE 0.05), within ±0.4" in evidence
+    assert label == "symmetric"
+    assert "skewness -0.3996 (SE 0.05), within ±0.4" in evidence
 
 
 def test_dip_test_on_more_scores_than_diptest_tabulates_warns_nobody():

@@ -30,12 +30,13 @@ def test_the_example_file_is_read(basic_files):
     assert spec.scales["workload"].reverse == ("wl3",)
     assert spec.scales["workload"].required_answered() == 2
     # a scale's own answer format overrides the default; its labels are not inherited when the range changes
-    assert spec.scales["stay"].response.max == 7 and dict(spec.scales["stay"].response.labels) == {}
+    assert spec.scales["stay"].response.max == 7
+    assert dict(spec.scales["stay"].response.labels) == {}
     assert spec.scales["stay"].response.missing_codes == (9, 99)
     assert spec.scales["stay"].required_answered() == 2  # fraction 1.0 of 2 items
 
 
-@pytest.mark.parametrize("fraction, k, expected", [(0.75, 6, 5), (0.5, 6, 3), (0.5, 5, 3), (1.0, 4, 4), (0.01, 3, 1)])
+@pytest.mark.parametrize(("fraction", "k", "expected"), [(0.75, 6, 5), (0.5, 6, 3), (0.5, 5, 3), (1.0, 4, 4), (0.01, 3, 1)])
 def test_fraction_of_items_rounds_up(write_file, fraction, k, expected):
     items = ", ".join(f"i{j}" for j in range(k))
     spec = load_spec(write_file("s.yaml", one_scale(f"items: [{items}]\nmin_answered: {fraction}\n")))
@@ -56,7 +57,7 @@ def test_misspelled_keys_get_a_suggestion_and_a_line(write_file):
     assert any(":6" in p and "did you mean 'items'" in p for p in found)
 
 
-@pytest.mark.parametrize("body, expected", [
+@pytest.mark.parametrize(("body", "expected"), [
     ("items: []\n", "list of items is empty"),
     ("items: [x, y, x]\n", "'x' is listed twice"),
     ("items: [x, y]\nreverse: [z]\n", "'z' is not one of this scale's items"),
@@ -78,7 +79,7 @@ def test_bad_scale_definitions(write_file, body, expected):
     assert all("bad.yaml:" in p for p in found)  # every problem names the file and a line
 
 
-@pytest.mark.parametrize("response, expected", [
+@pytest.mark.parametrize(("response", "expected"), [
     ("response: {min: 5, max: 1}", "min (5) must be less than max (1)"),
     ("response: {min: 3, max: 3}", "must be less than max"),
     ("response: {min: 1, max: 5, labels: {0: Never}}", "label code 0 is outside the answer range 1..5"),
@@ -171,7 +172,9 @@ def test_load_spec_raises_with_a_one_line_summary(write_file):
     with pytest.raises(SpecError) as caught:
         load_spec(path)
     message = str(caught.value)
-    assert "\n" not in message and "1 more problem" in message and len(caught.value.problems) == 2
+    assert "\n" not in message
+    assert "1 more problem" in message
+    assert len(caught.value.problems) == 2
 
 
 def test_lint_lists_every_problem_exits_3_and_changes_nothing(write_file, tmp_path, capsys):
@@ -180,7 +183,8 @@ def test_lint_lists_every_problem_exits_3_and_changes_nothing(write_file, tmp_pa
     code = main(["lint", "--scales", str(path)])
     out = capsys.readouterr()
     assert code == 3
-    assert "score must be mean or sum" in out.out and "'wl4' is not one of this scale's items" in out.out
+    assert "score must be mean or sum" in out.out
+    assert "'wl4' is not one of this scale's items" in out.out
     assert "Traceback" not in out.out + out.err
     assert folder_fingerprint(tmp_path) == before
 
@@ -192,7 +196,9 @@ def test_other_commands_report_a_bad_scale_file_in_one_error_line(basic_files, w
     code = main(["score", str(data), "--scales", str(bad), "--out", str(tmp_path / "scores.csv")])
     err = capsys.readouterr().err
     assert code == 3
-    assert err.startswith("error: ") and err.count("\n") == 1 and "bad.yaml:" in err
+    assert err.startswith("error: ")
+    assert err.count("\n") == 1
+    assert "bad.yaml:" in err
     assert folder_fingerprint(tmp_path) == before
 
 
@@ -231,7 +237,7 @@ def test_only_plain_decimal_numbers_are_numbers(write_file, written):
     assert any("labels" in p and "'0x1'" in p for p in found), found
 
 
-@pytest.mark.parametrize("response, expected", [
+@pytest.mark.parametrize(("response", "expected"), [
     ("response: {min: 1, max: 100000000000000000000000000}", "goes beyond +-1,000,000"),
     ("response: {min: 1, max: 5000000}", "goes beyond +-1,000,000"),
     ("response: {min: 0, max: 1001}", "has 1,002 levels; rating answers have at most 1,001"),
@@ -252,7 +258,10 @@ def test_a_huge_range_ends_in_one_error_line_not_an_overflow(basic_files, write_
     bad = write_file("bad.yaml", BASIC_SCALES.replace("max: 5", "max: 100000000000000000000000000"))
     code = main(["reliability", str(data), "--scales", str(bad), "--format", "json"])
     err = capsys.readouterr().err
-    assert code == 3 and err.count("\n") == 1 and "Overflow" not in err and "docs/limits.md" in err
+    assert code == 3
+    assert err.count("\n") == 1
+    assert "Overflow" not in err
+    assert "docs/limits.md" in err
 
 
 def test_a_merge_key_gets_a_plain_message(write_file):
@@ -270,7 +279,8 @@ def test_a_merge_key_gets_a_plain_message(write_file):
 
 def test_missing_texts_default_top_level_and_per_scale(write_file):
     spec = load_spec(write_file("s.yaml", one_scale("items: [x, y]\n")))
-    assert spec.missing_texts == ("NA", "N/A", "#N/A") and spec.response.missing_texts == ("NA", "N/A", "#N/A")
+    assert spec.missing_texts == ("NA", "N/A", "#N/A")
+    assert spec.response.missing_texts == ("NA", "N/A", "#N/A")
     spec = load_spec(write_file("t.yaml", """\
         version: 1
         missing_texts: [no answer, refused]

@@ -100,7 +100,8 @@ def test_three_hundred_items_do_not_underflow():
     assert np.isfinite(result.chi2)
     assert result.chi2 == pytest.approx(-(n - 1 - (2 * p + 5) / 6) * log_det, rel=1e-8)
     adequacy = kmo(r)
-    assert adequacy.overall is not None and 0 < adequacy.overall < 1
+    assert adequacy.overall is not None
+    assert 0 < adequacy.overall < 1
     assert np.all(np.isfinite(adequacy.per_item))
 
 
@@ -109,14 +110,18 @@ def test_kmo_and_bartlett_on_a_singular_matrix_give_none_with_a_reason():
     x = rng.standard_normal((50, 3))
     x = np.column_stack([x, x[:, 0] + x[:, 1]])
     r = correlation_of(x)
-    assert kmo(r).overall is None and kmo(r).notes
+    assert kmo(r).overall is None
+    assert kmo(r).notes
     result = bartlett_sphericity(r, 50)
-    assert result.chi2 is None and result.p is None and "singular" in result.notes[0]
+    assert result.chi2 is None
+    assert result.p is None
+    assert "singular" in result.notes[0]
 
 
 def test_bartlett_with_too_few_respondents_gives_none():
     result = bartlett_sphericity(np.eye(20), 5)
-    assert result.chi2 is None and result.notes
+    assert result.chi2 is None
+    assert result.notes
 
 
 @settings(max_examples=25, deadline=None)
@@ -218,7 +223,8 @@ def test_efa_recovers_a_generated_two_factor_structure(two_factor_data):
     # population values of the generating model (closed form), sampling error at n = 4000 is about .02
     np.testing.assert_allclose(solution.loadings[:, order], pattern, atol=0.06)
     assert solution.factor_correlations[order[0], order[1]] == pytest.approx(phi[0, 1], abs=0.06)
-    assert solution.converged and not solution.heywood_items
+    assert solution.converged
+    assert not solution.heywood_items
 
 
 @pytest.mark.parametrize("rotation", ["oblimin", "promax", "varimax"])
@@ -422,10 +428,13 @@ def test_unidimensionality_alone_handles_missing_and_small_scales():
     x = rng.standard_normal((200, 1)) + rng.standard_normal((200, 4))
     x[:7, 1] = np.nan
     summary = unidimensionality(x)
-    assert summary.n_used == 193 and summary.n_set_aside == 7
+    assert summary.n_used == 193
+    assert summary.n_set_aside == 7
     assert any("set aside" in note for note in summary.notes)
     two = unidimensionality(x[:, :2])
-    assert two.eigen_ratio is not None and two.variance_one_factor is None and two.notes
+    assert two.eigen_ratio is not None
+    assert two.variance_one_factor is None
+    assert two.notes
     assert unidimensionality(x[:2]).eigen_ratio is None
 
 
@@ -446,7 +455,8 @@ def test_missing_answers_are_set_aside_listwise_and_counted():
     result = analyse_structure(holed, item_names=names, item_scale=item_scale, n_factors=3, iterations=10)
     reference = analyse_structure(complete_cases(holed)[0], item_names=names, item_scale=item_scale,
                                   n_factors=3, iterations=10)
-    assert result.n_used == 597 and result.n_set_aside == 3
+    assert result.n_used == 597
+    assert result.n_set_aside == 3
     assert any("3 of 600" in note for note in result.notes)
     assert result.kmo.overall == pytest.approx(reference.kmo.overall, rel=1e-12)
     np.testing.assert_allclose(result.solution.loadings, reference.solution.loadings, atol=1e-10)
@@ -498,6 +508,7 @@ def test_to_dict_carries_the_contract_keys():
         assert key in document
     assert set(document["bartlett"]) == {"chi2", "df", "pvalue"}
     assert {"suggested_factors", "observed", "random", "random_mean", "criterion"} <= set(document["parallel"])
-    assert set(document["loadings"]) == set(names) and len(document["loadings"]["wl1"]) == document["n_factors"]
+    assert set(document["loadings"]) == set(names)
+    assert len(document["loadings"]["wl1"]) == document["n_factors"]
     assert {"eigen_ratio", "variance_one_factor"} <= set(document["unidimensionality"]["wl"])
     json.dumps(document, allow_nan=False)

@@ -67,10 +67,14 @@ def run_json(capsys, *args: str) -> dict:
 def test_structure_finds_the_factors_and_puts_items_with_their_scales(tmp_path, capsys):
     data, scales = write_inputs(tmp_path)
     document = run_json(capsys, str(data), "--scales", str(scales))
-    assert document["command"] == "structure" and document["tool"]["name"] == "scalewright"
-    assert document["parallel"]["suggested_factors"] == 3 and document["n_factors"] == 3
+    assert document["command"] == "structure"
+    assert document["tool"]["name"] == "scalewright"
+    assert document["parallel"]["suggested_factors"] == 3
+    assert document["n_factors"] == 3
     # the total shares every item with a subscale: each item is one column, matched to its subscale
-    assert len(document["items"]) == 15 and document["n_set_aside"] == 12 and document["n_used"] == 888
+    assert len(document["items"]) == 15
+    assert document["n_set_aside"] == 12
+    assert document["n_used"] == 888
     assert set(document["factor_for_scale"]) == {"workload", "support", "voice"}
     assert sorted(document["factor_for_scale"].values()) == ["F1", "F2", "F3"]
     item_flags = [f for f in document["flags"] if f["item"] is not None]
@@ -81,7 +85,8 @@ def test_structure_finds_the_factors_and_puts_items_with_their_scales(tmp_path, 
     assert set(document["unidimensionality"]) == {"workload", "support", "voice", "climate"}
     assert document["unidimensionality"]["climate"]["eigen_ratio"] < 3
     assert any(f["code"] == "several-dimensions" and f["scale"] == "climate" for f in document["flags"])
-    assert 0 < document["kmo"] <= 1 and document["bartlett"]["pvalue"] < 0.001
+    assert 0 < document["kmo"] <= 1
+    assert document["bartlett"]["pvalue"] < 0.001
 
 
 def test_structure_flags_an_item_filed_under_the_wrong_scale(tmp_path, capsys):
@@ -99,11 +104,13 @@ def test_structure_renders_every_format(tmp_path, capsys, fmt):
     assert main(["structure", str(data), "--scales", str(scales), "--format", fmt, "--iterations", "10",
                  "--rotation", "promax", "--method", "ml", "--factors", "3"]) == 0
     text = capsys.readouterr().out
-    assert "wl1" in text and ("Factor loadings" in text or "loadings" in text)
+    assert "wl1" in text
+    assert ("Factor loadings" in text or "loadings" in text)
     if fmt == "csv":
         assert text.splitlines()[0].startswith("table,")
     else:
-        assert "Parallel analysis" in text and "Factor correlations" in text
+        assert "Parallel analysis" in text
+        assert "Factor correlations" in text
 
 
 def test_structure_writes_out_atomically_and_refuses_bad_options(tmp_path, capsys):
@@ -147,7 +154,8 @@ def test_tables_and_figures_from_a_result(tmp_path):
                                   result.solution.loadings)
 
     ax = scree_figure(result)
-    assert ax.get_xlabel() and ax.get_ylabel()
+    assert ax.get_xlabel()
+    assert ax.get_ylabel()
     lines = ax.get_lines()
     np.testing.assert_allclose(lines[0].get_ydata(), result.parallel.observed)
     np.testing.assert_allclose(lines[1].get_ydata(), result.parallel.random)

@@ -10,7 +10,9 @@ from scalewright.stats.subgroups import level_order, split_by
 def test_small_levels_are_named_not_analysed_and_missing_is_counted():
     values = pd.Series(["a"] * 12 + ["b"] * 3 + [None, " "] + ["c"] * 10)
     split = split_by(values, min_size=10, column="unit")
-    assert list(split.levels) == ["a", "c"] and split.too_small == {"b": 3} and split.missing == 2
+    assert list(split.levels) == ["a", "c"]
+    assert split.too_small == {"b": 3}
+    assert split.missing == 2
     np.testing.assert_array_equal(split.levels["c"], np.arange(17, 27))
     assert any("unit = b: 3 respondent(s), fewer than 10" in n for n in split.notes())
 
@@ -32,9 +34,11 @@ def test_count_levels_tells_continuous_numbers_from_codes_and_texts():
     ages = count_levels(pd.Series(np.arange(18, 67).astype(str)), column="age")
     assert (ages.levels, ages.numeric, ages.low, ages.high, ages.looks_continuous) == (49, True, 18, 66, True)
     minutes = count_levels(pd.Series([1.5, 2.25, 3.0, None]), column="t")
-    assert minutes.levels == 3 and minutes.looks_continuous  # not whole numbers
+    assert minutes.levels == 3
+    assert minutes.looks_continuous
     codes = count_levels(pd.Series([100, 200, 300, 400, 500]), column="unit")
-    assert codes.numeric and not codes.looks_continuous  # five codes spread over 401 values
+    assert codes.numeric
+    assert not codes.looks_continuous
     same = count_levels(pd.Series(["3", "3.0", " 3 ", "", None, "4"]), column="x")
     assert same.levels == 2  # '3' and '3.0' are one number; blanks are no level
     words = count_levels(pd.Series(["a", "b", "a", " "]), column="w")

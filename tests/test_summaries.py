@@ -67,7 +67,7 @@ def test_merging_is_associative_and_order_independent(seed, cuts, order):
     codes = _codes(rng, 60)
     groups = rng.choice(np.array(["a", "b", "c"]), size=60)
     bounds = [0, *sorted(cuts), 60]
-    blocks = [_summary(codes[lo:hi], groups[lo:hi]) for lo, hi in zip(bounds, bounds[1:])]
+    blocks = [_summary(codes[lo:hi], groups[lo:hi]) for lo, hi in zip(bounds, bounds[1:], strict=False)]
     whole = _as_plain(_summary(codes, groups))
     assert _as_plain(merge_all(blocks)) == whole  # a balanced tree
     left_fold = blocks[0]
@@ -93,8 +93,10 @@ def test_merged_cross_products_give_the_whole_files_covariance_bit_for_bit():
     whole_p = pairwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
     merged_l = listwise.covariance(low=1, high=5, reversed_mask=reversed_mask)
     merged_p = pairwise.covariance(low=1, high=5, reversed_mask=reversed_mask)
-    assert np.array_equal(merged_l.cov, whole_l.cov) and merged_l.n_used == whole_l.n_used
-    assert np.array_equal(merged_p.cov, whole_p.cov) and np.array_equal(merged_p.pair_counts, whole_p.pair_counts)
+    assert np.array_equal(merged_l.cov, whole_l.cov)
+    assert merged_l.n_used == whole_l.n_used
+    assert np.array_equal(merged_p.cov, whole_p.cov)
+    assert np.array_equal(merged_p.pair_counts, whole_p.pair_counts)
     # reference: pandas' own covariance of the keyed float answers (pairwise = DataFrame.cov's definition)
     keyed = CodedAnswers(codes).keyed_values(low=1, high=5, reversed_mask=reversed_mask)
     np.testing.assert_allclose(merged_p.cov, pd.DataFrame(keyed).cov().to_numpy(), rtol=1e-12)
@@ -133,7 +135,8 @@ def test_score_counts_hold_every_score_exactly(method):
     values, tallies = counts.values_and_counts()
     # reference: numpy's unique with counts
     distinct, expected = np.unique(present, return_counts=True)
-    assert np.array_equal(values, distinct) and tallies.tolist() == expected.tolist()
+    assert np.array_equal(values, distinct)
+    assert tallies.tolist() == expected.tolist()
 
 
 @pytest.mark.parametrize("method", ["inverted_cdf", "averaged_inverted_cdf", "closest_observation",

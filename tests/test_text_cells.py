@@ -29,4 +29,6 @@ def test_a_column_of_numbers_with_listed_texts_becomes_numeric():
 def test_blank_counts_only_where_asked_and_nothing_listed_changes_nothing():
     frame = pd.DataFrame({"a": [1.0, np.nan], "b": ["x", None]})
     same, found = clear_missing_texts(frame, [], count_blank=["b"])
-    assert same is frame and found.blank == {"b": 1} and not found.texts
+    assert same is frame
+    assert found.blank == {"b": 1}
+    assert not found.texts

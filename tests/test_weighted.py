@@ -98,7 +98,8 @@ def test_unit_weights_equal_unweighted():
     assert s.sd == pytest.approx(np.std(x, ddof=1), rel=1e-12)
     assert s.skewness == pytest.approx(stats.skew(x, bias=False), rel=1e-10)
     assert s.kurtosis == pytest.approx(stats.kurtosis(x, bias=False), rel=1e-10)
-    assert s.n_effective == pytest.approx(x.size) and s.design_effect == pytest.approx(1.0)
+    assert s.n_effective == pytest.approx(x.size)
+    assert s.design_effect == pytest.approx(1.0)
     data = np.column_stack([x, x**2, np.sqrt(x)])
     np.testing.assert_allclose(weighted_covariance(data, np.ones(x.size)), np.cov(data, rowvar=False), rtol=1e-12)
 
@@ -116,7 +117,8 @@ def test_zero_weights_are_left_out():
     x, w = sample(9, 50)
     w[:10] = 0
     s = weighted_summary(x, w)
-    assert s.n == 50 and s.n_zero_weight == 10
+    assert s.n == 50
+    assert s.n_zero_weight == 10
     assert s.mean == pytest.approx(np.average(x[10:], weights=w[10:]))  # numpy's weighted average
     np.testing.assert_allclose(weighted_quantiles(x, w, PROBS), weighted_quantiles(x[10:], w[10:], PROBS))
 
@@ -137,4 +139,6 @@ def test_degenerate_inputs_give_nan_not_errors():
     assert math.isnan(weighted_variance(np.array([1.0]), np.array([2.0])))
     assert math.isnan(weighted_mean(np.array([1.0, 2.0]), np.array([0.0, 0.0])))
     s = weighted_summary(np.array([3.0, 3.0, 3.0]), np.array([1.0, 2.0, 1.0]))
-    assert math.isnan(s.skewness) and s.notes and s.notes[0].code == "weighted-moments-undefined"
+    assert math.isnan(s.skewness)
+    assert s.notes
+    assert s.notes[0].code == "weighted-moments-undefined"

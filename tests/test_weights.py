@@ -54,19 +54,22 @@ def test_scale_file_key_is_read(tmp_path):
 def test_weight_column_may_not_be_an_item(tmp_path, capsys):
     data, scales, _ = make_files(tmp_path, weight_line="weight: wl1")
     code, _, err = run(capsys, "shape", data, "--scales", scales)
-    assert code == 3 and "wl1" in err and "weight" in err
+    assert code == 3
+    assert "wl1" in err
+    assert "weight" in err
 
 
 def test_zero_weights_are_counted_not_refused():
     frame = pd.DataFrame({"w": [1.0, 0.0, 2.5, 0.0]})
     weights = read_weights(frame, "w", np.arange(2, 6), path="d.csv")
-    assert weights.n_zero_weight == 2 and weights.refused == {}
+    assert weights.n_zero_weight == 2
+    assert weights.refused == {}
     np.testing.assert_array_equal(weights.values, [1.0, 0.0, 2.5, 0.0])
     half = weights.subset(np.array([0, 1]))
     assert half.n_zero_weight == 1
 
 
-@pytest.mark.parametrize("cell, kind, shown", [
+@pytest.mark.parametrize(("cell", "kind", "shown"), [
     (None, "missing", "no weight given"),
     (-1.5, "negative", "'-1.5' is a negative weight"),
     ("heavy", "not_numeric", "'heavy' is a weight that is not a number"),
@@ -78,9 +81,12 @@ def test_each_bad_weight_refused_with_row_and_column_or_counted(cell, kind, show
     with pytest.raises(DataError) as caught:
         read_weights(frame, "w", np.arange(2, 6), path="d.csv")
     text = str(caught.value)
-    assert "row 4, column w" in text and shown in text and "--lenient" in text
+    assert "row 4, column w" in text
+    assert shown in text
+    assert "--lenient" in text
     weights = read_weights(frame, "w", np.arange(2, 6), path="d.csv", lenient=True)
-    assert weights.refused == {kind: 1} and weights.n_zero_weight == 0
+    assert weights.refused == {kind: 1}
+    assert weights.n_zero_weight == 0
     assert weights.values[2] == 0.0  # left out of every estimate
 
 
@@ -93,7 +99,8 @@ def test_absent_weight_column_is_named(tmp_path):
 def test_command_without_weights_says_its_results_are_unweighted(tmp_path, capsys):
     data, scales, _ = make_files(tmp_path)
     code, out, _ = run(capsys, "structure", data, "--scales", scales, "--format", "json")
-    assert code == 0 and "does not use weights yet" in out
+    assert code == 0
+    assert "does not use weights yet" in out
 
 
 def test_bad_weight_through_a_command_changes_no_file(tmp_path, capsys):
@@ -102,7 +109,9 @@ def test_bad_weight_through_a_command_changes_no_file(tmp_path, capsys):
     data, scales, _ = make_files(tmp_path, weights=weights, n=30)
     before = folder_fingerprint(tmp_path)
     code, _, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--out", tmp_path / "t.json")
-    assert code == 4 and "row 9, column w" in err and "not a number" in err
+    assert code == 4
+    assert "row 9, column w" in err
+    assert "not a number" in err
     assert folder_fingerprint(tmp_path) == before
 
 
@@ -119,7 +128,9 @@ def test_tally_weighted_shares_beside_the_unweighted(tmp_path, capsys):
     assert code == 0
     record = json.loads(out)["columns"]["site"]
     block = record["weighted"]
-    assert block["weighted"] is True and block["weight_column"] == "w" and block["n"] == 80
+    assert block["weighted"] is True
+    assert block["weight_column"] == "w"
+    assert block["n"] == 80
     assert block["n_zero_weight"] == 1
     w = frame["w"].to_numpy()
     # numpy: sum of weights per category over the total, and Kish (1965) n_eff = (sum w)^2 / sum w^2
@@ -153,12 +164,16 @@ def test_tally_expected_weighted_and_unweighted(tmp_path, capsys):
     shares = np.array([w[frame["site"] == s].sum() for s in ("North", "South")]) / w.sum()
     # scipy.stats.chisquare on the weighted shares scaled to n_eff (the stated Kish approximation)
     reference = stats.chisquare(n_eff * shares, n_eff * np.array([0.4, 0.6]))
-    assert fit["chi2"] == pytest.approx(reference.statistic) and fit["pvalue"] == pytest.approx(reference.pvalue)
-    assert fit["weighted"] is True and fit["n_effective"] == pytest.approx(n_eff) and fit["n"] == 120
+    assert fit["chi2"] == pytest.approx(reference.statistic)
+    assert fit["pvalue"] == pytest.approx(reference.pvalue)
+    assert fit["weighted"] is True
+    assert fit["n_effective"] == pytest.approx(n_eff)
+    assert fit["n"] == 120
     assert "fit" in record  # the unweighted comparison beside
     code, out, _ = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", census,
                        "--format", "table")
-    assert "Weighted shares against the reference" in out and "unweighted: χ²" in out
+    assert "Weighted shares against the reference" in out
+    assert "unweighted: χ²" in out
 
 
 def test_tally_unit_weights_equal_the_unweighted_test(tmp_path, capsys):
@@ -173,14 +188,15 @@ def test_tally_unit_weights_equal_the_unweighted_test(tmp_path, capsys):
     # with all weights 1 the weighted test is scipy's chisquare on the plain counts (as the unweighted fit)
     assert record["weighted_fit"]["chi2"] == pytest.approx(record["fit"]["chi2"], rel=1e-12)
     assert record["weighted_fit"]["pvalue"] == pytest.approx(record["fit"]["pvalue"], rel=1e-10)
-    for plain, weighted in zip(record["categories"], record["weighted"]["categories"]):
+    for plain, weighted in zip(record["categories"], record["weighted"]["categories"], strict=True):
         assert weighted["share_of_answered_pct"] == pytest.approx(plain["share_of_answered_pct"], rel=1e-12)
 
 
 def test_weight_without_scale_file_is_a_usage_error(tmp_path, capsys):
     data, _, _ = make_files(tmp_path)
     code, _, err = run(capsys, "tally", data, "--columns", "site", "--weight", "w")
-    assert code == 2 and "--weight needs the scale file" in err
+    assert code == 2
+    assert "--weight needs the scale file" in err
 
 
 # ----------------------------------------------------------------------------- shape
@@ -202,7 +218,9 @@ def test_shape_weighted_against_statsmodels(tmp_path, capsys):
     score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
     w = frame["w"].to_numpy()
     reference = DescrStatsW(score, weights=w)  # statsmodels, computed live
-    assert block["weighted"] is True and block["n"] == 90 and block["weight_column"] == "w"
+    assert block["weighted"] is True
+    assert block["n"] == 90
+    assert block["weight_column"] == "w"
     assert block["mean"] == pytest.approx(reference.mean, rel=1e-12)
     assert block["sd"] == pytest.approx(reference.std_ddof(np.sum(w**2) / w.sum()), rel=1e-12)
     assert block["median"] == pytest.approx(reference.quantile([0.5], return_pandas=False)[0])
@@ -254,7 +272,9 @@ def test_zero_weight_rows_kept_in_scores_left_out_of_estimates(tmp_path, capsys)
     weights[:5] = 0
     data, scales, frame = make_files(tmp_path, weights=weights, n=40)
     block = _shape_json(capsys, data, scales)["all"]
-    assert block["n"] == 40 and block["weighted"]["n"] == 40 and block["weighted"]["n_zero_weight"] == 5
+    assert block["n"] == 40
+    assert block["weighted"]["n"] == 40
+    assert block["weighted"]["n_zero_weight"] == 5
     score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
     assert block["weighted"]["mean"] == pytest.approx(score[5:].mean())  # numpy mean of the weighted rows
 
@@ -306,7 +326,9 @@ def test_reliability_integer_weights_equal_replicated_rows(tmp_path, capsys):
     # pingouin.cronbach_alpha on the rows repeated w times, computed live
     alpha, _ = pingouin.cronbach_alpha(repeated[["sp1", "sp2", "sp3", "sp4"]])
     assert block["alpha"] == pytest.approx(alpha, rel=1e-10)
-    assert block["weighted"] is True and block["n"] == 80 and block["weight_column"] == "w"
+    assert block["weighted"] is True
+    assert block["n"] == 80
+    assert block["weight_column"] == "w"
     # numpy: item-rest correlation of sp1 on the replicated rows
     rest = repeated[["sp2", "sp3", "sp4"]].sum(axis=1)
     assert block["items"]["sp1"]["item_rest_r"] == pytest.approx(np.corrcoef(repeated["sp1"], rest)[0, 1], rel=1e-10)
@@ -383,7 +405,9 @@ def test_compare_unit_weights_equal_scipy_and_pingouin(tmp_path, capsys):
     grand = score.mean()
     between = north.size * (north.mean() - grand) ** 2 + south.size * (south.mean() - grand) ** 2
     assert block["eta_squared"] == pytest.approx(between / np.sum((score - grand) ** 2), rel=1e-10)
-    assert block["weighted"] is True and block["n"] == 80 and block["sum_of_weights"] == pytest.approx(80)
+    assert block["weighted"] is True
+    assert block["n"] == 80
+    assert block["sum_of_weights"] == pytest.approx(80)
 
 
 def test_compare_integer_weights_equal_replicated_means(tmp_path, capsys):
@@ -410,7 +434,10 @@ def test_lint_lists_bad_weights(tmp_path, capsys):
     weights[4] = 0
     data, scales, _ = make_files(tmp_path, weights=weights, n=30)
     code, out, _ = run(capsys, "lint", data, "--scales", scales)
-    assert code == 4 and "row 4, column w" in out and "row 11, column w" in out and "2 weight(s)" in out
+    assert code == 4
+    assert "row 4, column w" in out
+    assert "row 11, column w" in out
+    assert "2 weight(s)" in out
 
 
 def test_score_weighted_summary_and_zero_weight_rows_kept(tmp_path, capsys):
@@ -427,7 +454,10 @@ def test_score_weighted_summary_and_zero_weight_rows_kept(tmp_path, capsys):
     score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
     reference = DescrStatsW(score[4:], weights=weights[4:])  # statsmodels, computed live
     assert block["mean"] == pytest.approx(reference.mean, rel=1e-12)
-    assert block["n"] == 50 and block["n_zero_weight"] == 4 and block["weighted"] is True
+    assert block["n"] == 50
+    assert block["n_zero_weight"] == 4
+    assert block["weighted"] is True
     code, _, _ = run(capsys, "score", data, "--scales", scales, "--out", tmp_path / "scores.csv")
     written = pd.read_csv(tmp_path / "scores.csv")
-    assert len(written) == 50 and written["workload"].notna().all()  # weight-0 rows stay in the scored file
+    assert len(written) == 50
+    assert written["workload"].notna().all()

@@ -102,7 +102,8 @@ def test_formulas_without_stored_values_are_refused_with_their_cell(tmp_path, sp
     with pytest.raises(DataError) as caught:
         read_responses(path, spec)
     message = str(caught.value)
-    assert "cell C2" in message and "2 formula cell(s) have no stored value" in message
+    assert "cell C2" in message
+    assert "2 formula cell(s) have no stored value" in message
     _with_cached_value(path, "C2", "5")
     _with_cached_value(path, "B4", "2")
     responses = read_responses(path, spec)
@@ -148,4 +149,5 @@ def test_a_file_that_is_not_a_workbook_gets_one_line(tmp_path, write_file, capsy
     path = write_file("d.xlsx", "id,a,b\n")
     assert main(["lint", str(path), "--scales", str(write_file("s.yaml", SCALES))]) == 4
     out = capsys.readouterr().out
-    assert out.count("\n") == 1 and "not an XLSX file" in out
+    assert out.count("\n") == 1
+    assert "not an XLSX file" in out

@@ -41,13 +41,13 @@ class ItemAnswers:
         self._lock = threading.Lock()  # analyses of several scales may ask for the same form at once
 
     @classmethod
-    def from_values(cls, values: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
+    def from_values(cls, values: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> ItemAnswers:
         answers = cls(lows, highs)
         answers._values = _read_only(values)
         return answers
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> "ItemAnswers":
+    def from_codes(cls, codes: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> ItemAnswers:
         answers = cls(lows, highs)
         answers._codes = (_read_only(codes), np.ones(codes.shape[1], dtype=bool))
         return answers
@@ -79,7 +79,7 @@ class ItemAnswers:
             return None
         return codes[:, positions]
 
-    def subset(self, rows: np.ndarray) -> "ItemAnswers":
+    def subset(self, rows: np.ndarray) -> ItemAnswers:
         """The answers of the rows at ``rows`` (positions), in that order."""
         if self._codes is not None and self._codes[1].all():
             return ItemAnswers.from_codes(np.asfortranarray(self._codes[0][rows]), self.lows, self.highs)

@@ -9,10 +9,11 @@ from __future__ import annotations
 import csv
 import io
 import re
+from collections.abc import Mapping, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Mapping, Sequence
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -231,7 +232,7 @@ def _read_parquet(path: Path) -> pd.DataFrame:
     except Exception as error:  # pyarrow raises its own types for broken files
         raise DataError(Problem(file=str(path), message=f"cannot read the Parquet file: {_cut(str(error))}")) from None
     _check_header(path, [str(name).strip() for name in schema.names], line=None)
-    for position, column in enumerate(schema, start=1):
+    for _position, column in enumerate(schema, start=1):
         if pa.types.is_nested(column.type) or pa.types.is_dictionary(column.type) and \
                 pa.types.is_nested(column.type.value_type):
             raise DataError(Problem(file=str(path), where=f"column {quoted(column.name)}",
@@ -318,7 +319,7 @@ class Responses:
         hint = did_you_mean(name, list(self.frame.columns) + list(self.item_names))
         raise DataError(Problem(file=self.path, message=f"no column named {name!r}{hint}"))
 
-    def subset(self, rows: np.ndarray | Sequence[int] | Sequence[bool]) -> "Responses":
+    def subset(self, rows: np.ndarray | Sequence[int] | Sequence[bool]) -> Responses:
         rows = np.asarray(rows)
         positions = np.flatnonzero(rows) if rows.dtype == bool else rows.astype(int)
         return Responses(
@@ -513,7 +514,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, 
     blank_by_column: dict[str, int] = {}
     texts_by_column: dict[str, int] = {}
     missing_texts_by_column: dict[str, dict[str, int]] = {}
-    for name, column in zip(needed, converted):
+    for name, column in zip(needed, converted, strict=True):
         fmt = spec.response_for(name)
         if column.missing_texts:
             missing_texts_by_column[name] = dict(column.missing_texts)
@@ -529,7 +530,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, 
             bad_total += count
             if len(bad_sample) < SHOW_FIRST:
                 rows = np.flatnonzero(column.bad)[: SHOW_FIRST - len(bad_sample)]
-                for row, value in zip(rows, raw_of[name].iloc[rows]):
+                for row, value in zip(rows, raw_of[name].iloc[rows], strict=True):
                     bad_sample.append((int(line_numbers[row]),
                                        Problem(file=str(path), where=f"row {line_numbers[row]}, column {name}",
                                                message=_describe_bad(value, fmt))))
@@ -576,7 +577,7 @@ def _convert_table(pool, table, item_raw_names: Sequence[str], spec: ScaleSpec):
     converted = list(pool.map(lambda j: convert_codes(table.column(as_written[needed[j]]),
                                                       spec.response_for(needed[j]), out=codes[:, j]),
                               range(len(needed))))
-    raw_of = {name: pd.Series(column.raw) for name, column in zip(needed, converted)}
+    raw_of = {name: pd.Series(column.raw) for name, column in zip(needed, converted, strict=True)}
     return ItemAnswers.from_codes(codes, *_answer_ranges(spec)), converted, raw_of
 
 

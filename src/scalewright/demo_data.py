@@ -103,7 +103,7 @@ class ScaleModel:
 
     @property
     def reverse(self) -> tuple[str, ...]:
-        return tuple(item for item, loading in zip(self.items, self.loadings) if loading < 0)
+        return tuple(item for item, loading in zip(self.items, self.loadings, strict=True) if loading < 0)
 
 
 def _cuts(base: tuple[float, ...], offsets: tuple[float, ...]) -> tuple[tuple[float, ...], ...]:
@@ -429,8 +429,8 @@ def generate_staff_climate(seed: int = DEFAULT_SEED, n: int = DEFAULT_N) -> tupl
         seed=int(seed), n=int(n),
         scales={s.name: s.items for s in SCALES},
         reverse={s.name: s.reverse for s in SCALES},
-        loadings={i: l for s in SCALES for i, l in zip(s.items, s.loadings)},
-        thresholds={i: t for s in SCALES for i, t in zip(s.items, s.thresholds)},
+        loadings={i: l for s in SCALES for i, l in zip(s.items, s.loadings, strict=True)},
+        thresholds={i: t for s in SCALES for i, t in zip(s.items, s.thresholds, strict=True)},
         latent_correlation=pd.DataFrame(LATENT_CORRELATION, index=list(SCALE_NAMES), columns=list(SCALE_NAMES)),
         group_effects=GROUP_EFFECTS,
         true_scores=pd.DataFrame({"staff_id": ids, **{name: eta[:, i] for i, name in enumerate(SCALE_NAMES)}}),

@@ -55,7 +55,7 @@ def read_whole_number_table(path: Path, sep: str, raw_names: Sequence[str], item
         return None
     if any(pa.types.is_binary(t) or pa.types.is_large_binary(t) for t in table.schema.types):
         return None  # bytes that are not UTF-8: the general route names the first
-    typed = {name.strip() for name, column_type in zip(table.column_names, table.schema.types)
+    typed = {name.strip() for name, column_type in zip(table.column_names, table.schema.types, strict=True)
              if column_type == pa.int16()}
     if not wanted <= typed or len(table.column_names) != len(raw_names):
         return None  # pyarrow saw the header differently: leave the file to the general route
@@ -146,7 +146,7 @@ def holds_line_breaks(table) -> bool:
 
     from .concurrency import map_in_threads
 
-    texts = [column for column, column_type in zip(table.columns, table.schema.types)
+    texts = [column for column, column_type in zip(table.columns, table.schema.types, strict=True)
              if pa.types.is_string(column_type) or pa.types.is_large_string(column_type)]
     return any(map_in_threads(lambda column: pc.any(pc.match_substring(column, "\n")).as_py() is True, texts))
 

@@ -1,9 +1,10 @@
 """Scoring: reverse-key items and build one composite score per scale per respondent."""
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any, Iterable
+from typing import Any
 
 import numpy as np
 import pandas as pd

@@ -8,10 +8,11 @@ from __future__ import annotations
 import difflib
 import math
 import re
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from types import MappingProxyType
-from typing import Any, Mapping
+from typing import Any
 
 import yaml
 

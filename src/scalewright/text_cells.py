@@ -49,7 +49,7 @@ def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *, sk
     listed = {normalise(text): text for text in missing_texts}
     found = MissingCells()
     changed: dict[str, pd.Series] = {}
-    for name, dtype in zip(frame.columns, frame.dtypes):
+    for name, dtype in zip(frame.columns, frame.dtypes, strict=True):
         counted = count_blank is None or name in count_blank
         if name in skip or not (counted or dtype == object or pd.api.types.is_string_dtype(dtype)):
             continue  # a numeric column holds no text; its blanks are counted only when asked for
@@ -79,7 +79,7 @@ def _clear_column(column: pd.Series, listed: dict[str, str]) -> tuple[pd.Series,
     if not len(uniques):
         return column, {}
     is_text = np.fromiter((isinstance(value, str) for value in uniques), dtype=bool, count=len(uniques))
-    forms = [normalise(value) if text else None for value, text in zip(uniques, is_text)]
+    forms = [normalise(value) if text else None for value, text in zip(uniques, is_text, strict=True)]
     clear = np.array([form == "" or form in listed for form in forms], dtype=bool)
     if not clear.any():
         return column, {}
@@ -89,7 +89,7 @@ def _clear_column(column: pd.Series, listed: dict[str, str]) -> tuple[pd.Series,
         if forms[index]:
             text = listed[forms[index]]
             texts[text] = texts.get(text, 0) + int(counts[index])
-    kept_uniques = [value for value, cleared in zip(uniques, clear) if not cleared]
+    kept_uniques = [value for value, cleared in zip(uniques, clear, strict=True) if not cleared]
     cleared_positions = np.where(clear[np.maximum(positions, 0)] | (positions < 0), -1, positions)
     result = column.mask(cleared_positions < 0)
     if kept_uniques and all(isinstance(value, str) and is_plain_number(value) for value in kept_uniques):

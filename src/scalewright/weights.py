@@ -46,9 +46,9 @@ class SurveyWeights:
     @property
     def refused(self) -> dict[str, int]:
         counts = np.bincount(self.refused_kind[self.refused_kind >= 0], minlength=len(BAD_KINDS))
-        return {kind: int(count) for kind, count in zip(BAD_KINDS, counts) if count}
+        return {kind: int(count) for kind, count in zip(BAD_KINDS, counts, strict=True) if count}
 
-    def subset(self, positions: np.ndarray) -> "SurveyWeights":
+    def subset(self, positions: np.ndarray) -> SurveyWeights:
         return replace(self, values=self.values[positions], refused_kind=self.refused_kind[positions])
 
     def to_dict(self) -> dict[str, Any]:

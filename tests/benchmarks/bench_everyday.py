@@ -169,13 +169,13 @@ def run_case(case: Case, arguments: list[str], repeat: int) -> dict:
         if busy is not None:
             busy.kill()
             busy.wait()
-    ratios = [c / s for c, s in zip(commands, startups)]
+    ratios = [c / s for c, s in zip(commands, startups, strict=True)]
     return {"case": case.name, "what": case.what, "goal": case.goal, "busy": case.busy, "load": load_at_start,
             "load_after": load(), "startup_s": startups, "command_s": commands, "ratios": ratios,
             "median_startup_s": statistics.median(startups), "median_command_s": statistics.median(commands),
             "median_ratio": statistics.median(ratios), "met": statistics.median(ratios) <= case.goal,
             "startup_cpu_s": startup_cpu, "command_cpu_s": command_cpu,
-            "median_cpu_ratio": statistics.median(c / s for c, s in zip(command_cpu, startup_cpu))}
+            "median_cpu_ratio": statistics.median(c / s for c, s in zip(command_cpu, startup_cpu, strict=True))}
 
 
 def main() -> int:

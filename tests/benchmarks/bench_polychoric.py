@@ -84,7 +84,7 @@ def main() -> int:
               f"({run['pairwise_total_cpu_s']:.2f} CPU) | whole, listwise {run['listwise_total_s']:.2f} s "
               f"({run['listwise_total_cpu_s']:.2f} CPU) | load {before} -> {run['load_after']}")
     best = {key: min(r[key] for r in runs) for key in runs[0] if key.endswith("_s")}
-    print("best of {}: ".format(len(runs)) + ", ".join(f"{k} {v:.2f}" for k, v in best.items()))
+    print(f"best of {len(runs)}: " + ", ".join(f"{k} {v:.2f}" for k, v in best.items()))
     summary = {"rows": int(codes.shape[0]), "items": len(items), "read_s": read_s, "read_cpu_s": read_cpu_s,
                "best": best, "runs": runs,
                "cpu_count": os.cpu_count()}

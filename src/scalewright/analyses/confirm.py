@@ -108,7 +108,7 @@ def model_input(spec: Any, responses: Any, items: Sequence[str], *, missing: str
         from .ordinal import dwls_inputs
 
         _, _, reversed_mask = _keying(spec, items)
-        corr, weights, n_used, _ = dwls_inputs(responses, items, [i for i, r in zip(items, reversed_mask) if r],
+        corr, weights, n_used, _ = dwls_inputs(responses, items, [i for i, r in zip(items, reversed_mask, strict=True) if r],
                                                pairwise=missing == "pairwise")
         # the unit diagonal carries no information and has no SE (weight 0), but with weight 0 the residual
         # variances are left free of any equation. Each residual variance enters only its own diagonal cell,
@@ -228,7 +228,7 @@ def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, 
         fitted = fitted_to(given, factor_model({name: items}))
         return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
 
-    done = dict(zip(names, map_in_threads(one_scale, names)))
+    done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
     models = {name: pair[0] for name, pair in done.items()}
     missing_by_model = {name: pair[1].missing for name, pair in done.items()}
     observed: dict[str, dict[str, float]] = {}

@@ -53,7 +53,7 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
 
         names = list(targets)
         with one_blas_thread():
-            results[column] = dict(zip(names, map_in_threads(one, names)))
+            results[column] = dict(zip(names, map_in_threads(one, names), strict=True))
     return replace(analysis, invariance=results)
 
 

@@ -26,7 +26,7 @@ def polychoric_of_items(responses: Any, items: Sequence[str], reversed_items: Se
         raise UsageError("--ordinal needs answers that are whole levels of each item's answer range; "
                          f"some of {', '.join(items)} have other values")
     spans = [int(h - lo) for lo, h in zip(responses.answers.lows[[responses.item_index(i) for i in items]],
-                                          responses.answers.highs[[responses.item_index(i) for i in items]])]
+                                          responses.answers.highs[[responses.item_index(i) for i in items]], strict=True)]
     matrix = polychoric_of_codes(np.asarray(codes), max(spans, default=1) + 1, item_names=items, pairwise=pairwise)
     return matrix.keyed([item in set(reversed_items) for item in items])
 

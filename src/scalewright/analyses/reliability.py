@@ -48,4 +48,4 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
                                       ordinal=ordinal_result, ordinal_advice=advice)
 
     names = list(spec.scales)
-    return dict(zip(names, map_in_threads(analyse, names)))
+    return dict(zip(names, map_in_threads(analyse, names), strict=True))

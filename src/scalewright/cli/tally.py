@@ -166,7 +166,7 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
             reference = read_expected(Path(expected_of[name]))
             fit = goodness_of_fit(result, reference.proportions, source=reference.path, rows=reference.lines)
         fits.append(fit)
-    body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits)}}
+    body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits, strict=True)}}
     if summarised:
         body["engine"] = summarised.engine
     weighted_tables = _weighted(body, tallies, fits, column_of, expected_of, responses, decimals)
@@ -228,7 +228,7 @@ def _weighted(body, tallies, fits, column_of, expected_of, responses, decimals) 
     from ..stats.weighted_tally import weighted_goodness_of_fit, weighted_tally
 
     tables = []
-    for t, fit in zip(tallies, fits):
+    for t, fit in zip(tallies, fits, strict=True):
         shares = weighted_tally(column_of(t.column), weights.values, t, weight_column=weights.column)
         record = body["columns"][t.column]
         record["weighted"] = shares.to_dict()

@@ -127,7 +127,7 @@ def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence
             if pc.any(blank).as_py():
                 raise CannotStream("a row is blank in every column (an empty line?)")
         if not quote_aware:
-            texts = [c for c, t in zip(batch.columns, batch.schema.types) if pa.types.is_string(t)]
+            texts = [c for c, t in zip(batch.columns, batch.schema.types, strict=True) if pa.types.is_string(t)]
             if any(pc.any(pc.match_substring(c, "\n")).as_py() is True for c in texts):
                 raise Retry()  # a value holds a line break: only a quote-aware parse is safe
         yield batch
@@ -197,7 +197,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             shown = bad[:SHOW_FIRST]
             as_read = raw.iloc[shown] if isinstance(raw, pd.Series) else raw[shown]
             refused_first[name] = tuple(((part, first_row + int(row), file), _plain(value))
-                                        for row, value in zip(shown, as_read))
+                                        for row, value in zip(shown, as_read, strict=True))
     if as_floats:
         float_answers = ItemAnswers.from_values(values[:, as_floats], [spec.response_for(items[j]).min for j in as_floats],
                                                 [spec.response_for(items[j]).max for j in as_floats])

@@ -140,7 +140,7 @@ def dask_summary(data: str, spec: Any, plan: SummaryPlan, *, scheduler: str | No
                                 message="an id appears more than once across the partitions; read the files "
                                         "together with --engine memory to list them"))
     outcome = check_reading(data, counts, spec, lenient=lenient)
-    listing = "".join(f"{Path(url).name}\t{digest}\n" for url, digest in zip(urls, digests))
+    listing = "".join(f"{Path(url).name}\t{digest}\n" for url, digest in zip(urls, digests, strict=True))
     info = {"data_sha256": hashlib.sha256(listing.encode("utf-8")).hexdigest(),
             "scheduler": scheduler or "local", "partitions": len(urls), "address": address}
     return summary, outcome, info

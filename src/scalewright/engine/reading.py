@@ -55,7 +55,7 @@ class ReadingCounts:
     #: the file's column names in order (to list the other columns as the whole-file reader lists them)
     file_columns: tuple[str, ...] = ()
 
-    def merge(self, other: "ReadingCounts") -> "ReadingCounts":
+    def merge(self, other: ReadingCounts) -> ReadingCounts:
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
                                         SHOW_FIRST) for column in {*self.refused_first, *other.refused_first}}
         # the blocks' sorted hashes are kept apart (no copy of all of them at every merge); they are

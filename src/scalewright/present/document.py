@@ -17,7 +17,7 @@ class InputInfo:
     scales_sha256: str | None
 
     @classmethod
-    def from_paths(cls, data: str | Path | None, scales: str | Path | None) -> "InputInfo":
+    def from_paths(cls, data: str | Path | None, scales: str | Path | None) -> InputInfo:
         return cls(
             data=str(data) if data is not None else None,
             data_sha256=sha256_of(data) if data is not None else None,

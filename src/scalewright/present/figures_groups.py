@@ -26,7 +26,7 @@ def tally_bars(t: Tally, *, percent: bool = False, ax=None):
         value = c.valid_percent if percent else c.count
         heights.append(0.0 if c.suppressed or value is None else float(value))
     bars = ax.bar(list(positions), heights, color=PRIMARY, width=0.7)
-    for bar, c in zip(bars, t.categories):
+    for bar, c in zip(bars, t.categories, strict=True):
         if c.suppressed:
             bar.set_visible(False)
             ax.annotate(suppressed_text(t.min_cell), (bar.get_x() + bar.get_width() / 2, 0), ha="center",

@@ -126,7 +126,7 @@ def box_plots_by_group(report: ShapeReport, *, column: str | None = None, ax=Non
     parts = ax.bxp(stats, orientation="horizontal", showfliers=True, widths=0.55, patch_artist=True,
                    medianprops={"color": "black", "linewidth": 2},
                    flierprops={"marker": "o", "markerfacecolor": "none", "markeredgecolor": "black", "markersize": 4})
-    for patch, colour in zip(parts["boxes"], _colours(len(samples))):
+    for patch, colour in zip(parts["boxes"], _colours(len(samples)), strict=True):
         patch.set_facecolor(colour)
     ax.invert_yaxis()  # first level on top, as in the tables
     ax.set_xlabel(report.x_label)
@@ -158,7 +158,7 @@ def histograms_by_group(report: ShapeReport, *, column: str | None = None, perce
         figure.suptitle(f"{report.title} by {name}")
     elif len(axes) < len(samples):
         raise UsageError(f"{len(samples)} levels of {name} need as many Axes, got {len(axes)}")
-    for ax, (level, summary), colour in zip(axes, samples, _colours(len(samples))):
+    for ax, (level, summary), colour in zip(axes, samples, _colours(len(samples)), strict=True):
         histogram(summary, title=str(level), x_label=report.x_label, percent=percent, colour=colour, ax=ax)
     return np.asarray(axes[:len(samples)])
 

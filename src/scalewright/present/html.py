@@ -239,13 +239,13 @@ def _one_table_html(table: Table, *, decimals: int, flag_column: str | None = No
     wide = [not is_number and any(len(str(row[i])) > 40 for row in table.rows)
             for i, is_number in enumerate(numeric)]
     parts = ['<div class="table-wrap"><table>', f"<caption>{esc(table.title)}</caption>", "<thead><tr>"]
-    for column, is_number in zip(table.columns, numeric):
+    for column, is_number in zip(table.columns, numeric, strict=True):
         css = ' class="num"' if is_number else (' class="flags"' if column == flag_column else "")
         parts.append(f'<th scope="col"{css}>{esc(column)}</th>')
     parts.append("</tr></thead><tbody>")
     for row in table.rows:
         parts.append("<tr>")
-        for position, (column, value, is_number, is_wide) in enumerate(zip(table.columns, row, numeric, wide)):
+        for position, (column, value, is_number, is_wide) in enumerate(zip(table.columns, row, numeric, wide, strict=True)):
             kind = table.kind_of(column)
             if column == flag_column:
                 content = _flags_html(value)

@@ -32,7 +32,7 @@ def ordinal_sentences(notes: Iterable[Note]) -> tuple[str, ...]:
     return tuple(ordinal_sentence(n) for n in notes)
 
 
-def ordinal_reliability_table(name: str, title: str, result: "OrdinalReliability") -> Table:
+def ordinal_reliability_table(name: str, title: str, result: OrdinalReliability) -> Table:
     """One scale's ordinal alpha, ordinal omega and sum-score reliability, with the note saying which to report."""
     columns = ("scale", "missing", "n used", "k", "ordinal alpha", "ordinal omega", "sum-score reliability")
     row = (name, result.missing_handling, result.n_used, result.k, result.alpha, result.omega,

@@ -64,11 +64,11 @@ def duplicate_notes(document: dict[str, Any]) -> list[str]:
     groups, status = duplicates["rows"], duplicates.get("row_status") or []
     if not groups:
         return []
-    flagged = sum(len(g) for g, s in zip(groups, status) if s == "flagged")
+    flagged = sum(len(g) for g, s in zip(groups, status, strict=True) if s == "flagged")
     out = [describe(note("duplicates-account", groups=len(groups), respondents=sum(len(g) for g in groups),
                          flagged=flagged))]
     for reason, code in (("long-run", "duplicates-long-run"), ("few-answers", "duplicates-few-answers")):
-        chosen = [g for g, s in zip(groups, status) if s == reason]
+        chosen = [g for g, s in zip(groups, status, strict=True) if s == reason]
         if chosen:
             out.append(describe(note(code, groups=len(chosen), respondents=sum(len(g) for g in chosen),
                                      min_items=document["thresholds"]["duplicate_min_items"])))
@@ -214,7 +214,7 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
     status = duplicates.get("row_status") or [None] * len(duplicates["rows"])
     if duplicates["rows"] or duplicates["ids"]:
         dup_rows = tuple(("identical answers", ", ".join(group), DUPLICATE_STATUS.get(s, "")) for group, s
-                         in zip(duplicates["rows"], status))
+                         in zip(duplicates["rows"], status, strict=True))
         dup_rows += tuple(("repeated id", i, "yes (duplicate-id)") for i in duplicates["ids"])
         tables.append(Table(title="Duplicate records", columns=("kind", "respondents", "flagged"), rows=dup_rows,
                             kinds={"kind": "text", "respondents": "text", "flagged": "text"}, key="duplicates"))

@@ -38,7 +38,7 @@ def visible_controls(text: str) -> str:
 
 def _cells(table: Table, decimals: int) -> list[list[str]]:
     return [
-        [format_value(value, table.kind_of(column), decimals) for column, value in zip(table.columns, row)]
+        [format_value(value, table.kind_of(column), decimals) for column, value in zip(table.columns, row, strict=True)]
         for row in table.rows
     ]
 
@@ -67,16 +67,16 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
         cells = _cells(table, decimals)
         wrapped = [[textwrap.wrap(value, text_width) or [""] if not _is_numeric_column(table, column)
                     and len(value) > text_width else [value]
-                    for column, value in zip(table.columns, row)] for row in cells]
+                    for column, value in zip(table.columns, row, strict=True)] for row in cells]
         widths = [len(c) for c in table.columns]
         for row in wrapped:
-            widths = [max(w, *(len(part) for part in parts)) for w, parts in zip(widths, row)]
+            widths = [max(w, *(len(part) for part in parts)) for w, parts in zip(widths, row, strict=True)]
         out.append(table.title)
         out.append("=" * max(len(table.title), 1))
 
         def line(values: Sequence[str]) -> str:
             parts = []
-            for column, value, width in zip(table.columns, values, widths):
+            for column, value, width in zip(table.columns, values, widths, strict=True):
                 parts.append(value.rjust(width) if _is_numeric_column(table, column) else value.ljust(width))
             return "  ".join(parts).rstrip()
 
@@ -164,7 +164,7 @@ def render_csv(tables: Sequence[Table]) -> str:
     for table in tables:
         name = table.key or table.title
         for row in table.rows:
-            record = dict(zip(table.columns, row))
+            record = dict(zip(table.columns, row, strict=True))
             values = []
             for column in columns:
                 value = to_jsonable(record.get(column))

@@ -63,7 +63,7 @@ class Details:
     """Detail a reader opens on demand: folded on screen, printed expanded. ``summary`` is the one-line label."""
 
     summary: str
-    blocks: tuple["Block", ...]
+    blocks: tuple[Block, ...]
 
 
 Block = Union[Paragraph, Bullets, TableBlock, FigureBlock, FigureRow, Findings, Details]
@@ -76,7 +76,7 @@ class Section:
     anchor: str
     title: str
     blocks: tuple[Block, ...] = ()
-    subsections: tuple["Section", ...] = ()
+    subsections: tuple[Section, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -105,7 +105,7 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
                 title=f"{report.title} ({report.name}): counts per score interval",
                 columns=("score", "interval", "from", "to", "count", "%"),
                 rows=tuple((report.name, label, a, b, c, 100.0 * c / total)
-                           for label, a, b, c in zip(labels, cells.edges[:-1], cells.edges[1:], cells.counts)),
+                           for label, a, b, c in zip(labels, cells.edges[:-1], cells.edges[1:], cells.counts, strict=True)),
                 kinds={"score": "text", "interval": "text", "count": "int", "%": "pct"},
                 notes=tuple(interval_notes), key="shape_histogram"))
     return tables

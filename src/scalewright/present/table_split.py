@@ -19,7 +19,7 @@ def turned(table: Table, *, decimals: int = 2) -> Table:
     """A one-row table turned on its side: one row per statistic, its value beside it."""
     (row,) = table.rows
     kinds = {"statistic": "text"}
-    rows = tuple((column, value) for column, value in zip(table.columns, row))
+    rows = tuple((column, value) for column, value in zip(table.columns, row, strict=True))
     # each value keeps its own kind, so the value column holds text already formatted row by row
     formatted = tuple((name, format_value(value, table.kind_of(name), decimals)) for name, value in rows)
     return Table(title=table.title, columns=("statistic", "value"), rows=formatted,

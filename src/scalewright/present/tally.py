@@ -76,7 +76,7 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
     """One frequency table per column (suppressed cells as "< min_cell"), and a fit table where given."""
     fits = list(fits) + [None] * (len(tallies) - len(fits))
     tables: list[Table] = []
-    for t, fit in zip(tallies, fits):
+    for t, fit in zip(tallies, fits, strict=True):
         # one row per category: its count and its share of those who answered (a number and a bar); the
         # running share only where the categories have an order; the unanswered in a sentence below
         with_labels = any(c.label != c.category for c in t.categories)

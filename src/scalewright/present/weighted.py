@@ -21,7 +21,7 @@ def weighted_tally_table(shares: Any, unweighted: Any) -> Table:
     """Weighted share of every category beside its unweighted count and share."""
     hidden = suppressed_text(unweighted.min_cell)
     rows = []
-    for plain, weighted in zip(unweighted.categories, shares.categories):
+    for plain, weighted in zip(unweighted.categories, shares.categories, strict=True):
         rows.append((plain.category, hidden if plain.suppressed else plain.count, plain.valid_percent,
                      weighted.sum_of_weights, weighted.share_of_answered_pct))
     return Table(title=f"Weighted answers: {shares.column}", key=f"tally_weighted.{shares.column}",

@@ -102,7 +102,7 @@ def _elements(model: CfaModel, group: int) -> _Elements:
     p, m = len(model.items), len(model.factors)
     mean = model.mean_structure
     rows: list[tuple[int, int, int, float, int, int, int]] = []
-    for i, j in zip(*np.nonzero(pattern.loading_index >= 0)):
+    for i, j in zip(*np.nonzero(pattern.loading_index >= 0), strict=True):
         rows.append((int(pattern.loading_index[i, j]), int(i), p + int(j), 1.0, int(i), 2 if mean else 0, int(j)))
     for j in range(m):
         for k in range(j, m):
@@ -233,7 +233,7 @@ def _start_values(model: CfaModel, covs: Sequence[np.ndarray], means: Sequence[n
         for i in range(free.shape[0]):
             columns = np.flatnonzero(free[i])
             shares = size[columns] / size[columns].sum() if len(columns) else []
-            for j, share in zip(columns, shares):
+            for j, share in zip(columns, shares, strict=True):
                 value = np.sqrt(smc[i] * variances[i] * share)
                 index = pattern.loading_index[i, j]
                 if not seen[index]:
@@ -327,7 +327,7 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
     weight_list = _as_list(weights, groups, "weights") if estimator == "dwls" else None
     usable = all(n_g > 1 for n_g in ns) and all(np.isfinite(c).all() for c in covs)
     if estimator == "ml" and usable:
-        covs = [c * (n_g - ddof) / n_g for c, n_g in zip(covs, ns)]
+        covs = [c * (n_g - ddof) / n_g for c, n_g in zip(covs, ns, strict=True)]
     q = model.n_parameters
     nan_fit = dict(model=model, estimator=estimator, theta=np.full(q, np.nan), vcov=np.full((q, q), np.nan),
                    discrepancy=np.nan, iterations=0, n=tuple(ns), sample_cov=tuple(covs),

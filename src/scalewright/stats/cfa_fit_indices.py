@@ -49,7 +49,7 @@ def baseline_chi2(fit_result: CfaFit) -> tuple[float, int]:
     """
     total = float(sum(fit_result.n))
     value = sum(n_g / total * (np.log(np.diag(s)).sum() - np.linalg.slogdet(s)[1])
-                for n_g, s in zip(fit_result.n, fit_result.sample_cov))
+                for n_g, s in zip(fit_result.n, fit_result.sample_cov, strict=True))
     p = len(fit_result.model.items)
     return total * float(value), fit_result.model.n_groups * p * (p - 1) // 2
 
@@ -106,7 +106,7 @@ def srmr(fit_result: CfaFit) -> float:
         return math.nan
     total = float(sum(fit_result.n))
     value = 0.0
-    for g, (n_g, s) in enumerate(zip(fit_result.n, fit_result.sample_cov)):
+    for g, (n_g, s) in enumerate(zip(fit_result.n, fit_result.sample_cov, strict=True)):
         residual = residual_correlations(s, fit_result.implied(g)[0])
         upper = residual[np.triu_indices(len(s))]
         value += n_g / total * math.sqrt(float(np.mean(upper**2)))
@@ -126,7 +126,7 @@ def log_likelihood(fit_result: CfaFit) -> float:
     """Normal log-likelihood at the estimates (sample means where the model has no mean structure)."""
     total = 0.0
     p = len(fit_result.model.items)
-    for g, (n_g, s) in enumerate(zip(fit_result.n, fit_result.sample_cov)):
+    for g, (n_g, s) in enumerate(zip(fit_result.n, fit_result.sample_cov, strict=True)):
         sigma, mu = fit_result.implied(g)
         sign, logdet = np.linalg.slogdet(sigma)
         if sign <= 0:

@@ -201,7 +201,7 @@ def multigroup_model(base: CfaModel, n_groups: int, level: str, *,
     patterns = []
     for g in range(n_groups):
         loading_index = np.full((p, m), FIXED)
-        for i, j in zip(*np.nonzero(base_pattern.loading_index >= 0)):
+        for i, j in zip(*np.nonzero(base_pattern.loading_index >= 0), strict=True):
             loading_index[i, j] = index("loading", int(i), int(j), g, step >= 1)
         phi_index = np.full((m, m), FIXED)
         for j in range(m):
@@ -236,7 +236,7 @@ def with_candidate_loadings(model: CfaModel) -> tuple[CfaModel, list[tuple[int, 
     parameters = list(model.parameters)
     loading_index = pattern.loading_index.copy()
     candidates = []
-    for i, j in zip(*np.nonzero(pattern.loading_index < 0)):
+    for i, j in zip(*np.nonzero(pattern.loading_index < 0), strict=True):
         parameters.append(Parameter("loading", int(i), int(j), (0,)))
         loading_index[i, j] = len(parameters) - 1
         candidates.append((int(i), int(j)))

@@ -52,7 +52,7 @@ class CodedAnswers:
     def shape(self) -> tuple[int, int]:
         return self.codes.shape
 
-    def rows(self, positions: np.ndarray) -> "CodedAnswers":
+    def rows(self, positions: np.ndarray) -> CodedAnswers:
         return CodedAnswers(self.codes[positions])
 
     def keyed_values(self, *, low: int, high: int, reversed_mask: np.ndarray) -> np.ndarray:

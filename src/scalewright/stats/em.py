@@ -120,7 +120,7 @@ def _groups(summary: PatternSummary) -> list[_Group]:
     if held:
         observed = summary.observed[held]
         for m in np.unique(k - observed.sum(axis=1)):
-            mine = [p for p, o in zip(held, observed) if k - o.sum() == m]
+            mine = [p for p, o in zip(held, observed, strict=True) if k - o.sum() == m]
             answered = summary.observed[mine]
             groups.append(_Group(missing=np.nonzero(~answered)[1].reshape(-1, int(m)), answered=answered,
                                  counts=summary.counts[mine].astype(np.float64),

@@ -393,7 +393,7 @@ def pvalue_holm(comparisons: Sequence[Comparison]) -> tuple[Comparison, ...]:
 
     main, rank = adjusted("test"), adjusted("nonparametric")
     out = []
-    for c, p_main, p_rank in zip(comparisons, main, rank):
+    for c, p_main, p_rank in zip(comparisons, main, rank, strict=True):
         changes: dict[str, Any] = {}
         if c.test is not None:
             changes["test"] = dataclasses.replace(c.test, pvalue_holm=p_main)

@@ -167,7 +167,7 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
     """
     notes: list[Note] = []
     left_out = dict(left_out or {})
-    empty = dict(name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns))), left_out=left_out,
+    empty = dict(name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns), strict=True)), left_out=left_out,
                  freed=[], latent_mean_differences={}, observed_differences={})
     if len(covs) < 2:
         return InvarianceResult(steps={}, changes={}, level=None, partial_scalar=None,
@@ -178,7 +178,7 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
     for step, (result, _) in fits.items():
         notes += [Note(n.code, {"model": name, "step": step, **n.values}) for n in result.notes]
     steps = {step: _step(indices, result) for step, (result, indices) in fits.items()}
-    changes = {after: step_change(fits[before][1], fits[after][1]) for before, after in zip(order, order[1:])}
+    changes = {after: step_change(fits[before][1], fits[after][1]) for before, after in zip(order, order[1:], strict=False)}
     level: str | None = "configural" if _configural_holds(fits["configural"][1]) else "none"
     if level == "configural":
         for step in order[1:]:
@@ -207,7 +207,7 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
                 break
     latent = _latent_means(mean_model, level_names, confidence_level) if mean_model is not None else {}
     return InvarianceResult(
-        name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns))), left_out=left_out,
+        name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns), strict=True)), left_out=left_out,
         steps=steps, changes=changes, level=level, freed=freed, partial_scalar=partial,
         latent_mean_differences=latent, observed_differences=observed_differences(base, covs, means, level_names),
         notes=tuple([verdict_note(name, column, level, partial, freed), *notes]))

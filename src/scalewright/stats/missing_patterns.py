@@ -110,7 +110,7 @@ class PatternSummary:
     # ------------------------------------------------------------------------------------------ building
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray) -> "PatternSummary":
+    def from_codes(cls, codes: np.ndarray) -> PatternSummary:
         """From one-byte answer codes (n x k uint8, 255 = missing); every statistic is an exact integer."""
         codes = np.asarray(codes)
         if codes.dtype != np.uint8 or codes.ndim != 2:
@@ -138,7 +138,7 @@ class PatternSummary:
         return cls._build(codes.shape, complete, none, complete_block, gather, exact=True)
 
     @classmethod
-    def from_values(cls, values: np.ndarray) -> "PatternSummary":
+    def from_values(cls, values: np.ndarray) -> PatternSummary:
         """From answers as numbers (n x k float, NaN = missing). Exact when every answer is a whole number."""
         values = np.asarray(values, dtype=np.float64)
         if values.ndim != 2:
@@ -163,7 +163,7 @@ class PatternSummary:
 
     @classmethod
     def _build(cls, shape: tuple[int, int], complete: np.ndarray, none: np.ndarray, complete_block, gather, *,
-               exact: bool) -> "PatternSummary":
+               exact: bool) -> PatternSummary:
         """One pass over blocks of rows for the complete rows' statistics, then the incomplete rows by pattern.
 
         ``complete`` and ``none`` mark the rows that answered every item and no item;
@@ -218,7 +218,7 @@ class PatternSummary:
                       row_pattern=np.concatenate(row_pattern), n_none=n_none, exact=exact)
         return summary._canonical()
 
-    def _canonical(self) -> "PatternSummary":
+    def _canonical(self) -> PatternSummary:
         """Patterns sorted by their bits; statistics as exact integers when exact."""
         order, _, _ = group_patterns(self.observed)
         position = np.empty_like(order)
@@ -235,7 +235,7 @@ class PatternSummary:
 
     # ------------------------------------------------------------------------------------------ merging
 
-    def merge(self, other: "PatternSummary") -> "PatternSummary":
+    def merge(self, other: PatternSummary) -> PatternSummary:
         """The summary of both blocks of respondents together (associative and commutative)."""
         if self.k != other.k:
             raise DataError(f"cannot merge summaries of {self.k} and {other.k} items")

@@ -114,7 +114,7 @@ def _fixed_point_ml_stack(corr: np.ndarray, start: np.ndarray, *, max_iter: int 
         extrapolated = np.clip(point - 2.0 * alpha * change + alpha**2 * curvature,
                                FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0)
         uniqueness[active] = _fixed_point_steps(extrapolated, problems)
-    settled = np.array([_projected_gradient(u, c) < 1e-7 for u, c in zip(uniqueness, corr)], dtype=bool)
+    settled = np.array([_projected_gradient(u, c) < 1e-7 for u, c in zip(uniqueness, corr, strict=True)], dtype=bool)
     return settled, uniqueness
 
 

@@ -169,7 +169,7 @@ def ordinal_reliability(matrix: PolychoricMatrix) -> OrdinalReliability:
     sum_score = sum_score_reliability(loadings, matrix.thresholds, correlation) if fit is not None else math.nan
     return OrdinalReliability(alpha=alpha, omega=omega, omega_sum_score=sum_score, n_used=matrix.n_used,
                               k=matrix.k, missing_handling="pairwise" if matrix.pairwise else "listwise",
-                              loadings=dict(zip(matrix.items, loadings.tolist())), omega_method=method,
+                              loadings=dict(zip(matrix.items, loadings.tolist(), strict=True)), omega_method=method,
                               smoothed=matrix.smoothed, notes=tuple(notes))
 
 
@@ -198,7 +198,7 @@ def ordinal_advice(tallies: np.ndarray, n_options: int, item_names: Sequence[str
        be treated as continuous? Psychological Methods, 17, 354-373.
     """
     skews = [_skewness(np.asarray(t, dtype=float)) for t in tallies]
-    skewed = tuple(name for name, s in zip(item_names, skews) if np.isfinite(s) and abs(s) > STRONG_SKEW)
+    skewed = tuple(name for name, s in zip(item_names, skews, strict=True) if np.isfinite(s) and abs(s) > STRONG_SKEW)
     notes = []
     if n_options < FEW_OPTIONS:
         notes.append(note("ordinal-few-options", options=int(n_options), min_options=FEW_OPTIONS))

@@ -51,13 +51,13 @@ class PairTables:
     def n_rows(self) -> int:
         return int(self.counts[0, 0].sum()) if self.k else 0
 
-    def merge(self, other: "PairTables") -> "PairTables":
+    def merge(self, other: PairTables) -> PairTables:
         """The tables of both sets of rows together (counts add; associative and commutative)."""
         if not isinstance(other, PairTables) or other.counts.shape != self.counts.shape:
             raise DataError("pair tables can only be merged with tables of the same items and answer levels")
         return PairTables(self.counts + other.counts)
 
-    def take(self, positions: list[int] | np.ndarray) -> "PairTables":
+    def take(self, positions: list[int] | np.ndarray) -> PairTables:
         """The tables of the items at ``positions`` (in that order)."""
         positions = np.asarray(positions, dtype=np.intp)
         return PairTables(np.ascontiguousarray(self.counts[np.ix_(positions, positions)]))
@@ -134,7 +134,7 @@ def pair_tables(codes: np.ndarray, n_levels: int) -> PairTables:
     sizes = [min(group, k - s) for s in starts]
     # pack each group's codes into one byte per row (no answer -> level n_levels)
     packed = np.zeros((len(starts), n), dtype=np.uint16)  # uint16: a joint index of two groups fits too
-    for s, (start, size) in enumerate(zip(starts, sizes)):
+    for s, (start, size) in enumerate(zip(starts, sizes, strict=True)):
         for j in range(start, start + group):
             packed[s] *= m
             if j < start + size:
@@ -142,7 +142,7 @@ def pair_tables(codes: np.ndarray, n_levels: int) -> PairTables:
     width = m ** group
     digits = (m,) * group
     buffer = np.empty(min(n, _BLOCK_ROWS), dtype=np.uint16)
-    for s, (start_s, size_s) in enumerate(zip(starts, sizes)):
+    for s, (start_s, size_s) in enumerate(zip(starts, sizes, strict=True)):
         tally = np.bincount(packed[s], minlength=width).reshape(digits)
         for i in range(size_s):
             item = tally.sum(axis=tuple(a for a in range(group) if a != i))

@@ -52,7 +52,7 @@ class PolychoricMatrix:
     def k(self) -> int:
         return len(self.items)
 
-    def keyed(self, reversed_mask: Sequence[bool] | np.ndarray) -> "PolychoricMatrix":
+    def keyed(self, reversed_mask: Sequence[bool] | np.ndarray) -> PolychoricMatrix:
         """The matrix of the reverse-keyed items: reversing an item's order of answers flips the sign of its
         correlations and mirrors its thresholds (the estimator is symmetric in the order of the levels)."""
         reversed_mask = np.asarray(reversed_mask, dtype=bool)
@@ -60,7 +60,7 @@ class PolychoricMatrix:
             raise DataError(f"{reversed_mask.size} keying flags given for {self.k} items")
         sign = np.where(reversed_mask, -1.0, 1.0)
         flip = np.outer(sign, sign)
-        thresholds = tuple(-t[::-1] if turned else t for t, turned in zip(self.thresholds, reversed_mask))
+        thresholds = tuple(-t[::-1] if turned else t for t, turned in zip(self.thresholds, reversed_mask, strict=True))
         return replace(self, correlation=self.correlation * flip, estimated=self.estimated * flip,
                        thresholds=thresholds)
 
@@ -84,7 +84,7 @@ class PolychoricMatrix:
         return {"items": list(self.items), "n_used": self.n_used,
                 "missing": "pairwise" if self.pairwise else "listwise", "smoothed": self.smoothed,
                 "correlation": by_item(self.correlation), "se": by_item(self.se),
-                "thresholds": {item: to_jsonable(t) for item, t in zip(self.items, self.thresholds)},
+                "thresholds": {item: to_jsonable(t) for item, t in zip(self.items, self.thresholds, strict=True)},
                 "notes": [n.to_dict() for n in self.notes]}
 
 

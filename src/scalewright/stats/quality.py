@@ -627,7 +627,7 @@ class ScreenResult:
         return len(self.ids)
 
     def flagged_ids(self) -> list[str]:
-        return [i for i, f in zip(self.ids, self.flagged) if f]
+        return [i for i, f in zip(self.ids, self.flagged, strict=True) if f]
 
     def flag_counts(self) -> dict[str, int | None]:
         """Respondents per flag; None for a check that did not run."""
@@ -674,7 +674,7 @@ class ScreenResult:
         if self.duration is not None:
             columns["duration"] = self.duration.tolist()
         names = list(columns)
-        return [dict(zip(names, values)) for values in zip(*columns.values())]
+        return [dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True)]
 
     def to_dict(self) -> dict[str, Any]:
         return to_jsonable({

@@ -33,7 +33,7 @@ def _pooled_midranks(values: Sequence[np.ndarray], counts: Sequence[np.ndarray])
         raise DataError("one array of counts is needed per array of values")
     pooled = np.unique(np.concatenate([np.asarray(v, dtype=np.float64) for v in values]))
     table = np.zeros((len(values), pooled.size), dtype=np.int64)
-    for g, (v, c) in enumerate(zip(values, counts)):
+    for g, (v, c) in enumerate(zip(values, counts, strict=True)):
         np.add.at(table[g], np.searchsorted(pooled, np.asarray(v, dtype=np.float64)), np.asarray(c, dtype=np.int64))
     ties = table.sum(axis=0)
     below = np.cumsum(ties) - ties

@@ -497,7 +497,7 @@ def item_descriptives_from_tally(tally: np.ndarray, *, n_rows: int, low: float, 
             mean[j] = float(tally[j] @ keyed_levels[:, j]) / n[j]
             if n[j] >= 2:
                 sd[j] = math.sqrt(float(tally[j] @ (keyed_levels[:, j] - mean[j]) ** 2) / (n[j] - 1))
-        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally[j])})
+        counts.append({str(int(level)): int(c) for level, c in zip(levels, tally[j], strict=True)})
         if n[j] and levels.size:
             floor[j] = 100.0 * tally[j, 0] / n[j]
             ceiling[j] = 100.0 * tally[j, -1] / n[j]
@@ -573,7 +573,7 @@ def reliability_flags(*, item_names: Sequence[str], alpha: float, item_rest_r: n
         joint_alpha = cronbach_alpha_from_cov(np.asarray(cov, dtype=np.float64) * np.outer(sign, sign))
     if k == 2:
         joint_alpha = math.nan  # reversing both items of a pair changes nothing
-    flagged = tuple(name for name, is_suspect in zip(item_names, suspect) if is_suspect)
+    flagged = tuple(name for name, is_suspect in zip(item_names, suspect, strict=True) if is_suspect)
     for j, name in enumerate(item_names):
         r = float(item_rest_r[j])
         if suspect[j]:

@@ -83,7 +83,7 @@ class HistogramCells(ResultMixin):
         """Half-open interval labels, ``[a, b)``; the value itself when a cell holds one value."""
         if self.per_value:
             return [_trim(c, decimals) for c in self.centers]
-        return [f"[{_trim(a, decimals)}, {_trim(b, decimals)})" for a, b in zip(self.edges[:-1], self.edges[1:])]
+        return [f"[{_trim(a, decimals)}, {_trim(b, decimals)})" for a, b in zip(self.edges[:-1], self.edges[1:], strict=True)]
 
 
 def _trim(value: float, decimals: int) -> str:

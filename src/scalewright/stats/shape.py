@@ -444,7 +444,7 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
         n=n, n_missing=n_missing, mean=m.mean, sd=m.sd, median=median, q1=q1, q3=q3, min=float(x.min()),
         max=float(x.max()), iqr=q3 - q1, skewness=m.skewness, skewness_se=m.skewness_se, kurtosis=m.kurtosis,
         kurtosis_se=m.kurtosis_se, bimodality_coefficient=bc, dip=dip.dip, dip_p=dip.p,
-        percentiles={_pkey(p): float(v) for p, v in zip(percentiles, pct)}, modes=modes(x), uniform_gof=fit,
+        percentiles={_pkey(p): float(v) for p, v in zip(percentiles, pct, strict=True)}, modes=modes(x), uniform_gof=fit,
         floor_pct=floor_pct, ceiling_pct=ceiling_pct, floor_effect=floor_flag, ceiling_effect=ceiling_flag,
         shape=label, evidence=evidence, quantile_method=quantile_method, low=low, high=high,
         resolution=float(resolution), histogram=cells, box_plot=box, rule=features, notes=tuple(notes))

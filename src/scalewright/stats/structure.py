@@ -124,7 +124,7 @@ class StructureResult(ResultMixin):
             "items": list(self.items),
             "dropped_items": list(self.dropped_items),
             "kmo": to_jsonable(self.kmo.overall),
-            "kmo_items": {item: to_jsonable(v) for item, v in zip(self.items, self.kmo.per_item)},
+            "kmo_items": {item: to_jsonable(v) for item, v in zip(self.items, self.kmo.per_item, strict=True)},
             "bartlett": self.bartlett.to_dict(),
             "parallel": None if self.parallel is None else self.parallel.to_dict(),
             "n_factors": len(names),
@@ -133,9 +133,9 @@ class StructureResult(ResultMixin):
             "rotation": None if solution is None else solution.rotation,
             "factors": list(names),
             "loadings": {} if solution is None else
-            {item: to_jsonable(row) for item, row in zip(self.items, solution.loadings)},
+            {item: to_jsonable(row) for item, row in zip(self.items, solution.loadings, strict=True)},
             "communalities": {} if solution is None else
-            {item: to_jsonable(v) for item, v in zip(self.items, solution.communalities)},
+            {item: to_jsonable(v) for item, v in zip(self.items, solution.communalities, strict=True)},
             "variance_explained": [] if solution is None else to_jsonable(solution.variance_explained),
             "factor_correlations": [] if solution is None else to_jsonable(solution.factor_correlations),
             "factor_for_scale": {scale: (None if j is None else names[j]) for scale, j in self.factor_for_scale.items()},
@@ -244,7 +244,7 @@ def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
         weight[s] = np.abs(loadings[rows]).sum(axis=0)
     scale_rows, factor_cols = linear_sum_assignment(weight, maximize=True)
     mapping: dict[str, int | None] = {scale: None for scale in scales}
-    for s, j in zip(scale_rows, factor_cols):
+    for s, j in zip(scale_rows, factor_cols, strict=True):
         mapping[scales[s]] = int(j)
     return mapping
 
@@ -278,7 +278,7 @@ def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequen
     another factor. Thresholds are common practice, no source.
     """
     flags: list[StructureFlag] = []
-    for i, (item, scale) in enumerate(zip(items, item_scale)):
+    for i, (item, scale) in enumerate(zip(items, item_scale, strict=True)):
         own = factor_for_scale.get(scale)
         if own is None:
             continue
@@ -418,7 +418,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     if set_aside and missing == "listwise":
         notes.append(f"{set_aside} of {n_rows} respondent(s) with at least one missing answer set aside "
                      "(listwise); every statistic uses the remaining complete cases")
-    dropped = [name for name, c in zip(item_names, constant) if c]
+    dropped = [name for name, c in zip(item_names, constant, strict=True) if c]
     for name in dropped:
         flags.append(StructureFlag(name, "no-variance", "every respondent used gave the same answer; "
                                    "left out of the analysis", item_scale[name]))
@@ -462,7 +462,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         kmo_text, kmo_cut = _say_against(sampling.overall, MIN_KMO)
         notes.append(f"overall KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
                      "the correlations may be too weak for factor analysis")
-    for name, value in zip(items, sampling.per_item):
+    for name, value in zip(items, sampling.per_item, strict=True):
         if np.isfinite(value) and value < MIN_KMO:
             kmo_text, kmo_cut = _say_against(value, MIN_KMO)
             flags.append(StructureFlag(name, "low-kmo", f"item KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "

@@ -382,7 +382,7 @@ def goodness_of_fit(tally_result: Tally, expected: Mapping[str, float], *, alpha
     rows_out = tuple(CategoryFit(category=c.category, observed=int(o), expected_proportion=float(pj),
                                  expected=float(e), pearson_residual=float((o - e) / np.sqrt(e)),
                                  standardized_residual=float((o - e) / np.sqrt(e * (1 - pj))) if pj < 1 else float("nan"))
-                     for c, o, pj, e in zip(kept, observed, p, expected_counts))
+                     for c, o, pj, e in zip(kept, observed, p, expected_counts, strict=True))
     w = float(np.sqrt(chi2 / n))
     if pvalue >= alpha:
         verdict = "resembles"

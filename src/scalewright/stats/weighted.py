@@ -215,6 +215,6 @@ def weighted_shape(values: np.ndarray, weights: np.ndarray, *, percentiles=(5, 1
         total = w.sum()
         heights = tuple(float(v) for v in (100.0 * mass / total if total > 0 else np.full(mass.shape, math.nan)))
     return WeightedShape(summary=summary, q1=float(q[0]), median=float(q[1]), q3=float(q[2]),
-                         percentiles={f"{p:g}": float(v) for p, v in zip(percentiles, q[3:])},
+                         percentiles={f"{p:g}": float(v) for p, v in zip(percentiles, q[3:], strict=True)},
                          histogram_edges=tuple(map(float, edges)) if edges is not None else (),
                          histogram_weighted_pct=heights)

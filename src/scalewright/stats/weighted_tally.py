@@ -151,7 +151,7 @@ def weighted_goodness_of_fit(shares: WeightedTally, unweighted: Tally, expected:
     per_category = {c.category: {"weighted_share_pct": 100 * o, "expected_pct": 100 * pj,
                                  "standardized_residual": float((o - pj) * np.sqrt(n_eff) / np.sqrt(pj * (1 - pj)))
                                  if pj < 1 else nan}
-                    for c, o, pj in zip(kept, observed, p)}
+                    for c, o, pj in zip(kept, observed, p, strict=True)}
     return WeightedFit(column=shares.column, weight_column=shares.weight_column, chi2=float(result.statistic),
                        df=len(kept) - 1, pvalue=float(result.pvalue),
                        w=float(np.sqrt(np.sum((observed - p) ** 2 / p))), n=shares.n, n_effective=n_eff,

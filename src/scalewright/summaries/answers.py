@@ -36,10 +36,10 @@ class AnswerCounts:
     n_rows: int
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, n_levels: int) -> "AnswerCounts":
+    def from_codes(cls, codes: np.ndarray, n_levels: int) -> AnswerCounts:
         return cls(tally=answer_tally(CodedAnswers(codes), n_levels), n_rows=int(codes.shape[0]))
 
-    def merge(self, other: "AnswerCounts") -> "AnswerCounts":
+    def merge(self, other: AnswerCounts) -> AnswerCounts:
         _same_shape(self.tally, other.tally, "answer counts")
         return AnswerCounts(tally=self.tally + other.tally, n_rows=self.n_rows + other.n_rows)
 
@@ -52,10 +52,10 @@ class ListwiseCrossProducts:
     n_rows: int
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, *, span: int) -> "ListwiseCrossProducts":
+    def from_codes(cls, codes: np.ndarray, *, span: int) -> ListwiseCrossProducts:
         return cls(gram=listwise_gram(codes, span=span), n_rows=int(codes.shape[0]))
 
-    def merge(self, other: "ListwiseCrossProducts") -> "ListwiseCrossProducts":
+    def merge(self, other: ListwiseCrossProducts) -> ListwiseCrossProducts:
         _same_shape(self.gram, other.gram, "cross-products")
         return ListwiseCrossProducts(gram=self.gram + other.gram, n_rows=self.n_rows + other.n_rows)
 
@@ -73,10 +73,10 @@ class PairwiseCrossProducts:
     n_complete: int
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, *, span: int) -> "PairwiseCrossProducts":
+    def from_codes(cls, codes: np.ndarray, *, span: int) -> PairwiseCrossProducts:
         return cls(gram=pairwise_gram(codes, span=span), n_rows=int(codes.shape[0]), n_complete=complete_rows(codes))
 
-    def merge(self, other: "PairwiseCrossProducts") -> "PairwiseCrossProducts":
+    def merge(self, other: PairwiseCrossProducts) -> PairwiseCrossProducts:
         _same_shape(self.gram, other.gram, "cross-products")
         return PairwiseCrossProducts(gram=self.gram + other.gram, n_rows=self.n_rows + other.n_rows,
                                      n_complete=self.n_complete + other.n_complete)

@@ -37,7 +37,7 @@ class Keyed:
 
     parts: Mapping[Any, Any] = field(default_factory=dict)
 
-    def merge(self, other: "Keyed") -> "Keyed":
+    def merge(self, other: Keyed) -> Keyed:
         merged = dict(self.parts)
         for key, part in other.parts.items():
             merged[key] = merged[key].merge(part) if key in merged else part
@@ -58,7 +58,7 @@ class Keyed:
     def __contains__(self, key: Any) -> bool:
         return key in self.parts
 
-    def map(self, fn: Callable[[Any], Any]) -> "Keyed":
+    def map(self, fn: Callable[[Any], Any]) -> Keyed:
         return Keyed({key: fn(part) for key, part in self.parts.items()})
 
 
@@ -74,7 +74,7 @@ class Summary:
 
     members: Mapping[str, Any] = field(default_factory=dict)
 
-    def merge(self, other: "Summary") -> "Summary":
+    def merge(self, other: Summary) -> Summary:
         if set(self.members) != set(other.members):
             raise DataError(f"cannot merge summaries of different kinds: {sorted(self.members)} and "
                             f"{sorted(other.members)}")

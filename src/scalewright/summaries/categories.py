@@ -29,7 +29,7 @@ class CategoryCounts:
     missing: int = 0
 
     @classmethod
-    def from_values(cls, values) -> "CategoryCounts":
+    def from_values(cls, values) -> CategoryCounts:
         """Counts of an Arrow or pandas column or a sequence of texts (None or blank text is missing)."""
         import pandas as pd
 
@@ -39,7 +39,7 @@ class CategoryCounts:
         counted = present.value_counts(sort=False)
         return cls(counts={str(k): int(v) for k, v in counted.items()}, missing=int(len(text) - len(present)))
 
-    def merge(self, other: "CategoryCounts") -> "CategoryCounts":
+    def merge(self, other: CategoryCounts) -> CategoryCounts:
         merged = Counter(self.counts)
         merged.update(other.counts)
         return CategoryCounts(counts=dict(merged), missing=self.missing + other.missing)
@@ -48,6 +48,6 @@ class CategoryCounts:
     def n(self) -> int:
         return int(sum(self.counts.values()) + self.missing)
 
-    def as_series(self, order) -> "np.ndarray":
+    def as_series(self, order) -> np.ndarray:
         """Counts in the given order of values (0 for values never seen)."""
         return np.array([self.counts.get(value, 0) for value in order], dtype=np.int64)

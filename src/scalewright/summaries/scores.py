@@ -43,7 +43,7 @@ class ScoreCounts:
 
     @classmethod
     def from_codes(cls, codes: np.ndarray, *, low: int, high: int, reversed_mask: np.ndarray,
-                   method: str = "mean", required: int | None = None) -> "ScoreCounts":
+                   method: str = "mean", required: int | None = None) -> ScoreCounts:
         """The table of a block of answer codes as given (n x k uint8, 255 missing); keyed here."""
         n, k = codes.shape
         span = int(high - low)
@@ -60,7 +60,7 @@ class ScoreCounts:
         table = np.bincount(answered * width + total, minlength=(k + 1) * width).reshape(k + 1, width)
         return cls(table=table.astype(np.int64), low=int(low), span=span, k=k, method=method, required=required)
 
-    def merge(self, other: "ScoreCounts") -> "ScoreCounts":
+    def merge(self, other: ScoreCounts) -> ScoreCounts:
         if (self.low, self.span, self.k, self.method, self.required) != \
                 (other.low, other.span, other.k, other.method, other.required):
             raise DataError("cannot merge score counts of different scales")
