@@ -12,7 +12,8 @@ from scalewright.answer_codes import MISSING
 from scalewright.errors import DataError
 from scalewright.results import to_jsonable
 from scalewright.stats.coded import CodedAnswers, answer_tally, listwise_covariance, pairwise_covariance
-from scalewright.stats.reliability import reliability_by_group, scale_reliability
+from scalewright.stats.reliability import scale_reliability
+from scalewright.stats.reliability_groups import reliability_by_group
 from scalewright.stats.subgroups import split_by
 
 

@@ -21,7 +21,7 @@ from scalewright.drafting import (
 )
 from scalewright.errors import DataError
 from scalewright.present.draft_yaml import draft_yaml_text
-from scalewright.stats.reliability import item_rest_correlations_from_cov
+from scalewright.stats.item_analysis import item_rest_correlations_from_cov
 
 
 def fmt_of(*columns):

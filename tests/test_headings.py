@@ -6,7 +6,8 @@ import pytest
 
 from scalewright.present.reliability import reliability_tables
 from scalewright.present.shape import shape_tables
-from scalewright.stats.reliability import ScaleReliabilityReport, scale_reliability
+from scalewright.stats.reliability import scale_reliability
+from scalewright.stats.reliability_groups import ScaleReliabilityReport
 
 
 def _report():

@@ -233,7 +233,7 @@ def test_screen_flags_planted_records_and_explains_the_contract():
 
 def test_alpha_change_uses_the_reliability_module():
     from scalewright.stats.item_covariance import item_covariance
-    from scalewright.stats.reliability import cronbach_alpha_from_cov
+    from scalewright.stats.reliability_coefficients import cronbach_alpha_from_cov
 
     raw, keyed = _small_survey(12)
     raw[:5] = np.random.default_rng(0).integers(1, 6, size=(5, raw.shape[1]))

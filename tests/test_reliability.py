@@ -12,16 +12,10 @@ import pytest
 from scalewright.results import to_jsonable
 from scalewright.stats.bootstrap import bootstrap_alpha
 from scalewright.stats.omega import fit_one_factor, omega_total_from_cov
-from scalewright.stats.reliability import (
-    ReliabilityThresholds,
-    ScaleReliabilityReport,
-    alpha_difference_test,
-    compare_alphas,
-    cronbach_alpha_from_cov,
-    reliability_by_group,
-    reliability_from_cov,
-    scale_reliability,
-)
+from scalewright.stats.reliability import reliability_from_cov, scale_reliability
+from scalewright.stats.reliability_coefficients import alpha_difference_test, cronbach_alpha_from_cov
+from scalewright.stats.reliability_flags import ReliabilityThresholds
+from scalewright.stats.reliability_groups import ScaleReliabilityReport, compare_alphas, reliability_by_group
 from scalewright.stats.subgroups import split_by
 
 
@@ -314,7 +308,7 @@ def test_one_factor_ml_fit_matches_factor_analyzer():
 
 
 def test_answer_level_counts_of_a_wide_range_match_numpy():
-    from scalewright.stats.reliability import answer_level_counts, item_descriptives
+    from scalewright.stats.item_analysis import answer_level_counts, item_descriptives
 
     # a 0..1000 range (the widest allowed), one reverse-keyed item, answers off the levels and missing
     rng = np.random.default_rng(14)

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from scalewright.cli import main
-from scalewright.stats.reliability import cronbach_alpha_from_cov
+from scalewright.stats.reliability_coefficients import cronbach_alpha_from_cov
 
 SCALES = """\
 version: 1

@@ -9,16 +9,18 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scalewright.stats.item_covariance import item_covariance
-from scalewright.stats.reliability import (
+from scalewright.stats.item_analysis import (
     alpha_if_deleted_from_cov,
     alpha_with_item_reversed_from_cov,
+    item_rest_correlations_from_cov,
+)
+from scalewright.stats.item_covariance import item_covariance
+from scalewright.stats.reliability_coefficients import (
     cronbach_alpha_from_cov,
     feldt_alpha_ci,
     guttman_lambda2_from_cov,
     guttman_lambda6_from_cov,
     inter_item_correlations,
-    item_rest_correlations_from_cov,
     standardized_alpha_from_cov,
 )
 

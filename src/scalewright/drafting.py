@@ -585,13 +585,14 @@ def propose_reverse_keys(cov: np.ndarray) -> np.ndarray:
     """Signs (+1 as worded, -1 reversed) from the signs of the items' loadings on the first factor.
 
     The first principal axis of the correlation matrix, signed so that most items load positively
-    (:func:`scalewright.stats.reliability.first_factor_signs`, the rule of the ``miskey-suspect`` flag): an
+    (:func:`scalewright.stats.reliability_flags.first_factor_signs`, the rule of the ``miskey-suspect`` flag): an
     item loading below -.10 is proposed for reversing. Item-rest r is not used to decide: when several items
     point the other way, the rest of a correctly worded item holds them and its item-rest r misleads. With
     two items (no factor to speak of) the second is reversed when they correlate negatively.
     """
+    from .stats.item_analysis import item_rest_correlations_from_cov
     from .stats.item_covariance import correlation_from_cov
-    from .stats.reliability import MISKEY_MIN_LOADING, first_factor_signs, item_rest_correlations_from_cov
+    from .stats.reliability_flags import MISKEY_MIN_LOADING, first_factor_signs
 
     k = cov.shape[0]
     corr = correlation_from_cov(cov)
@@ -622,11 +623,9 @@ def _fmt_r(value: float) -> str:
 
 def _scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarray, fmt: AnswerFormat,
                         notes: list[str], weak: frozenset[str] = frozenset()) -> ScaleDraft:
+    from .stats.item_analysis import item_rest_correlations_from_cov
     from .stats.item_covariance import item_covariance
-    from .stats.reliability import (
-        cronbach_alpha_from_cov,
-        item_rest_correlations_from_cov,
-    )
+    from .stats.reliability_coefficients import cronbach_alpha_from_cov
 
     stats = item_covariance(matrix, pairwise=True)
     cov = np.nan_to_num(stats.cov, nan=0.0)

@@ -68,7 +68,7 @@ class ScaleFindings:
     name: str
     scale: Any                      # spec.Scale
     scores: Any                     # scoring.ScaleScores
-    reliability: Any | None         # stats.reliability.ScaleReliabilityReport
+    reliability: Any | None         # stats.reliability_groups.ScaleReliabilityReport
     shape: Any | None               # stats.shape.ShapeReport (overall and one SubgroupShapes per --by column)
     comparisons: tuple[Any, ...]    # stats.groups.Comparison, one per --by column (Holm across scales)
     answers: Any | None             # stats.tally.AnswerDistribution of the answer codes as given

@@ -10,7 +10,7 @@ mis-keyed ones, no more and no fewer; *missed* and *false* count mis-keyed items
 keyed items flagged.
 
 - new rule (today): the sign of the item's loading on the scale's first factor, below -.10
-  (``scalewright.stats.reliability.reliability_flags``);
+  (``scalewright.stats.reliability_flags.reliability_flags``);
 - old rule (before): item-rest r below 0 *or* a negative loading (re-implemented here for comparison).
 """
 from __future__ import annotations

@@ -9,7 +9,7 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
                         pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
                         seed: int | None = None, thresholds: Any = None, ordinal: bool = False,
                         missing: str | None = None) -> dict[str, Any]:
-    """:class:`~scalewright.stats.reliability.ScaleReliabilityReport` of every scale of ``spec``.
+    """:class:`~scalewright.stats.reliability_groups.ScaleReliabilityReport` of every scale of ``spec``.
 
     Plain library function (no click): the report builds on it. ``by`` names subgroup columns; ``missing``
     (listwise, pairwise or em) overrides ``pairwise``. ``ordinal`` adds ordinal alpha, omega and the sum
@@ -20,12 +20,9 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
     from ..concurrency import map_in_threads
     from ..scoring import keyed_items
     from ..stats.coded import CodedAnswers
-    from ..stats.reliability import (
-        ReliabilityThresholds,
-        ScaleReliabilityReport,
-        reliability_by_group,
-        scale_reliability,
-    )
+    from ..stats.reliability import scale_reliability
+    from ..stats.reliability_flags import ReliabilityThresholds
+    from ..stats.reliability_groups import ScaleReliabilityReport, reliability_by_group
     from ..stats.subgroups import split_by
     from .ordinal import scale_ordinal
 

@@ -92,7 +92,9 @@ def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: f
                                    thresholds: Any = None) -> Any:
     """:func:`~scalewright.stats.reliability.scale_reliability` of one scale from its answer counts and
     cross-products (the same statistics, notes and flags)."""
-    from ..stats.reliability import ReliabilityThresholds, item_descriptives_from_tally, reliability_from_cov
+    from ..stats.item_analysis import item_descriptives_from_tally
+    from ..stats.reliability import reliability_from_cov
+    from ..stats.reliability_flags import ReliabilityThresholds
 
     thresholds = thresholds or ReliabilityThresholds()
     low, high = int(scale.response.min), int(scale.response.max)
@@ -130,7 +132,7 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
     """:func:`~scalewright.analyses.reliability.analyse_reliability` from merged summaries (no bootstrap:
     it resamples rows)."""
     from ..stats.ordinal_reliability import ordinal_advice
-    from ..stats.reliability import GroupReliability, ScaleReliabilityReport, compare_alphas
+    from ..stats.reliability_groups import GroupReliability, ScaleReliabilityReport, compare_alphas
 
     options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds)
     splits = []

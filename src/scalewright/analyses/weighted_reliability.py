@@ -18,7 +18,9 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
                                item_names: Sequence[str], low: float, high: float, confidence_level: float = 0.95,
                                thresholds: Any = None, reversed_items: Sequence[str] = ()) -> dict[str, Any]:
     """The ``scales.<name>`` reliability block, weighted, with the weighted-block keys of the JSON contract."""
-    from ..stats.reliability import ReliabilityThresholds, item_descriptives, reliability_from_cov
+    from ..stats.item_analysis import item_descriptives
+    from ..stats.reliability import reliability_from_cov
+    from ..stats.reliability_flags import ReliabilityThresholds
     from ..stats.weighted import design_effect, kish_effective_n, weighted_covariance
 
     keyed = np.asarray(keyed, dtype=float)

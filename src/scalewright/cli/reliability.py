@@ -70,7 +70,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     """
     from ..engine.plan import plan_for
     from ..present.reliability import reliability_tables
-    from ..stats.reliability import ReliabilityThresholds
+    from ..stats.reliability_flags import ReliabilityThresholds
 
     method = resolve_missing(missing, pairwise)
     if method == "em" and n_resamples:

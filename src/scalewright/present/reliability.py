@@ -7,7 +7,8 @@ from __future__ import annotations
 
 from collections.abc import Iterable, Mapping
 
-from ..stats.reliability import ScaleReliability, ScaleReliabilityReport
+from ..stats.reliability import ScaleReliability
+from ..stats.reliability_groups import ScaleReliabilityReport
 from .messages import flag_message
 from .missing import missing_lines
 from .ordinal import ordinal_reliability_table, ordinal_sentences

@@ -692,7 +692,7 @@ class ScreenResult:
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
     from .item_covariance import item_covariance
-    from .reliability import cronbach_alpha_from_cov
+    from .reliability_coefficients import cronbach_alpha_from_cov
 
     out = {}
     for name, keyed in keyed_by_scale.items():
