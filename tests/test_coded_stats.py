@@ -78,6 +78,31 @@ def test_cross_products_stay_exact_over_several_full_blocks(span):
     np.testing.assert_allclose(result.means, complete.mean(axis=0), rtol=1e-14)
 
 
+def test_float_and_code_routes_of_pairwise_covariance_agree_with_pandas():
+    # the one pairwise covariance in two arithmetics: float products on a NaN matrix
+    # (item_covariance(pairwise=True), used by the screen's Mahalanobis distance) and exact integer sums on
+    # one-byte codes (pairwise_covariance, used by reliability and confirm); both against pandas live
+    import pandas as pd
+
+    from scalewright.stats.item_covariance import item_covariance
+
+    rng = np.random.default_rng(31)
+    codes = coded_scale(rng, 400, 5, 4, 0.2)
+    codes[:, 4] = MISSING
+    codes[:1, 4] = 2  # the last item answered once: no pair with it has 2 rows, so its covariances are NaN
+    reversed_mask = np.array([False, True, False, False, False])
+    values = keyed_floats(codes, 1, 5, reversed_mask)
+    from_codes = pairwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
+    from_floats = item_covariance(values, pairwise=True)
+    # reference: pandas DataFrame.cov(min_periods=2), pairwise complete observations, NaN below 2 rows
+    expected = pd.DataFrame(values).cov(min_periods=2).to_numpy()
+    np.testing.assert_allclose(from_codes.cov, expected, rtol=1e-12, atol=1e-13, equal_nan=True)
+    np.testing.assert_allclose(from_floats.cov, expected, rtol=1e-12, atol=1e-13, equal_nan=True)
+    assert np.isnan(from_codes.cov[4]).all()
+    np.testing.assert_array_equal(from_codes.pair_counts, from_floats.pair_counts)
+    assert from_codes.n_used == from_floats.n_used
+
+
 @pytest.mark.parametrize(("span", "missing"), [(4, 0.0), (4, 0.15), (10, 0.3)])
 def test_pairwise_covariance_equals_pandas(span, missing):
     import pandas as pd

@@ -9,19 +9,19 @@ from scipy.spatial.distance import mahalanobis as scipy_mahalanobis
 from scipy.stats import chi2, pearsonr
 
 from scalewright.errors import DataError, UsageError
-from scalewright.stats.quality import (
-    ScreenThresholds,
+from scalewright.stats.careless_indices import (
     duplicate_records,
     even_odd_consistency,
     intra_individual_variability,
     longstring,
-    mahalanobis_distance,
     missing_share,
-    pairwise_covariance,
     person_total_correlation,
-    screen_respondents,
     speeders,
 )
+from scalewright.stats.item_covariance import item_covariance
+from scalewright.stats.mahalanobis import mahalanobis_distance
+from scalewright.stats.screen_rules import ScreenThresholds
+from scalewright.stats.screening import screen_respondents
 
 NAN = np.nan
 
@@ -87,7 +87,7 @@ def test_mahalanobis_with_missing_uses_the_observed_submatrix():
     x[0, 2] = NAN
     x[1, [0, 1]] = NAN
     result = mahalanobis_distance(x)
-    cov = pairwise_covariance(x)
+    cov = item_covariance(x, pairwise=True).cov
     np.testing.assert_allclose(cov, __import__("pandas").DataFrame(x).cov().to_numpy(), rtol=1e-12)  # pandas live
     means = np.nanmean(x, axis=0)
     sub = [0, 1]
@@ -267,7 +267,7 @@ def _attentive_survey(item_shift: float, seed: int, **design):
 def test_attentive_respondents_rarely_carry_any_flag(item_shift, design):
     # every respondent answers attentively (the generator is the ground truth); target from the project's
     # issue: at most 15% carry any flag, strong or weak
-    from scalewright.stats.quality import screen_respondents
+    from scalewright.stats.screening import screen_respondents
 
     survey = _attentive_survey(item_shift, seed=31, **design)
     result = screen_respondents(survey.raw, survey.keyed_by_scale, ids=survey.ids)
@@ -284,7 +284,7 @@ def test_attentive_respondents_rarely_carry_any_flag(item_shift, design):
 def test_attentive_person_total_r_matches_the_observed_median():
     # closed form from the answer model x = a + mu_j + e (our derivation, docs/screening.md) against the
     # median person-total r of 3000 simulated attentive respondents (numpy)
-    from scalewright.stats.quality import attentive_person_total_r, person_total_correlation
+    from scalewright.stats.careless_indices import attentive_person_total_r, person_total_correlation
 
     rng = np.random.default_rng(5)
     n, k = 3000, 30
@@ -300,7 +300,7 @@ def test_expected_share_below_follows_fishers_z():
     # Fisher (1921): artanh(r) is about normal with SE 1/sqrt(m - 3); checked against scipy.stats.norm
     from scipy import stats as scipy_stats
 
-    from scalewright.stats.quality import expected_share_below
+    from scalewright.stats.screen_rules import expected_share_below
 
     assert expected_share_below(0.4, 0.15, 28) == pytest.approx(
         scipy_stats.norm.cdf((np.arctanh(0.15) - np.arctanh(0.4)) * 5.0), rel=1e-12)

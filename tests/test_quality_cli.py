@@ -97,7 +97,7 @@ def test_screen_bad_options_and_columns(tmp_path, capsys):
 
 def test_present_tables_have_raw_values(tmp_path):
     from scalewright.present.quality import screen_tables
-    from scalewright.stats.quality import screen_respondents
+    from scalewright.stats.screening import screen_respondents
 
     raw = np.random.default_rng(2).integers(1, 6, size=(40, 9)).astype(float)
     raw[3] = 5

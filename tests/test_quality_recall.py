@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from scalewright.stats.quality import screen_respondents
+from scalewright.stats.screening import screen_respondents
 
 _spec = importlib.util.spec_from_file_location("screen_recall", Path(__file__).parent / "benchmarks" / "screen_recall.py")
 screen_recall = importlib.util.module_from_spec(_spec)

@@ -94,7 +94,7 @@ DESIGNS = [
 
 
 def study(seeds: range) -> list[dict]:
-    from scalewright.stats.quality import screen_respondents
+    from scalewright.stats.screening import screen_respondents
 
     rows = []
     for name, kwargs in DESIGNS:
@@ -141,7 +141,8 @@ def demo_study(seeds: range, *, n: int = 800, with_durations: bool = True) -> di
 def attentive_study(seeds: range, shifts=(0.05, 0.2, 0.7, 1.5)) -> list[dict]:
     """Share of attentive respondents (no careless ones generated) carrying any flag, strong or weak, and
     against-sample in particular, by how much the item means differ (latent shift U(-s, s) per item)."""
-    from scalewright.stats.quality import FLAG_AGAINST_SAMPLE, screen_respondents
+    from scalewright.stats.screen_rules import FLAG_AGAINST_SAMPLE
+    from scalewright.stats.screening import screen_respondents
 
     rows = []
     for name, kwargs in DESIGNS:

@@ -11,12 +11,13 @@ def questionnaire_order(responses: Any) -> list[int]:
 
 def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
                    duration_unit: str = "s") -> Any:
-    """:class:`~scalewright.stats.quality.ScreenResult` of the responses (plain function; the report uses it)."""
+    """:class:`~scalewright.stats.screening.ScreenResult` of the responses (plain function; the report uses it)."""
     import numpy as np
 
     from ..errors import DataError
     from ..scoring import keyed_items
-    from ..stats.quality import ScreenThresholds, screen_respondents
+    from ..stats.screen_rules import ScreenThresholds
+    from ..stats.screening import screen_respondents
 
     order = questionnaire_order(responses)
     raw = responses.items[:, order]

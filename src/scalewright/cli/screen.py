@@ -59,7 +59,7 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
     from ..files import write_atomic
     from ..present.quality import duplicate_notes, respondents_csv, screen_notes, screen_tables
     from ..present.render import visible_controls
-    from ..stats.quality import ScreenThresholds
+    from ..stats.screen_rules import ScreenThresholds
 
     thresholds = ScreenThresholds(
         long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,

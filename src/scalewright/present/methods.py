@@ -145,8 +145,8 @@ def _v(value: Any, kind: str = "num", decimals: int = 2) -> str:
 def thresholds_used(results: Any) -> list[Threshold]:
     """Every cut-off behind a flag, label or suppression in ``results`` (a ``ReportResults``)."""
     from ..stats import shape as shape_module
-    from ..stats.quality import WEAK_INDEX_MAX_EXPECTED_BELOW
     from ..stats.reliability_flags import MISKEY_MIN_LOADING
+    from ..stats.screen_rules import WEAK_INDEX_MAX_EXPECTED_BELOW
     from ..stats.structure import MIN_EIGEN_RATIO, MIN_KMO
 
     options = results.options

@@ -13,7 +13,7 @@ from .table import Table
 CAUTION = ("A flag marks a record to look at, not a verdict on a person: read the answers before setting anyone "
            "aside, and report how many were set aside and why.")
 
-#: what each flag code means, in words (codes are defined in scalewright.stats.quality)
+#: what each flag code means, in words (codes are defined in scalewright.stats.screen_rules)
 FLAG_MEANINGS = {
     "long-run": "the same answer many times in a row",
     "far-from-sample": "an answer pattern far from the sample's (Mahalanobis distance)",

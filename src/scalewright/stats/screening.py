@@ -1,0 +1,354 @@
+"""The careless-responding screen: every index of every respondent, the flags they raise and a summary.
+
+:func:`screen_respondents` computes the indices (:mod:`.careless_indices`, :mod:`.mahalanobis`) and
+applies the rules of :mod:`.screen_rules`; a flag marks a record to look at, not a verdict on a person.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
+from typing import Any
+
+import numpy as np
+
+from ..errors import DataError
+from ..notes import Note, note
+from ..results import to_jsonable
+from .careless_indices import (
+    DuplicateResult,
+    EvenOddResult,
+    as_answer_matrix,
+    attentive_person_total_r,
+    duplicate_records,
+    even_odd_consistency,
+    intra_individual_variability,
+    longstring,
+    missing_share,
+    person_total_correlation,
+    speeders,
+)
+from .mahalanobis import mahalanobis_distance
+from .screen_rules import (
+    DEFAULT_SCREEN_THRESHOLDS,
+    FLAG_AGAINST_SAMPLE,
+    FLAG_DUPLICATE_ANSWERS,
+    FLAG_DUPLICATE_ID,
+    FLAG_FAR_FROM_SAMPLE,
+    FLAG_FAST,
+    FLAG_LONG_RUN,
+    FLAG_MANY_MISSING,
+    FLAG_ORDER,
+    FLAG_SOMEWHAT_FAR,
+    FLAG_UNEVEN_HALVES,
+    INFO_FLAGS,
+    STRONG_FLAGS,
+    WEAK_FLAGS,
+    WEAK_INDEX_MAX_EXPECTED_BELOW,
+    ScreenThresholds,
+    WeakIndexUse,
+    expected_share_below,
+)
+
+
+@dataclass(frozen=True)
+class ScreenResult:
+    """Indices, flags and summary of a careless-responding screen; ``to_dict()`` is the JSON contract."""
+
+    ids: tuple[str, ...]
+    longstring: np.ndarray
+    irv: np.ndarray
+    mahalanobis_d2: np.ndarray
+    mahalanobis_p: np.ndarray
+    mahalanobis_df: np.ndarray
+    even_odd: np.ndarray
+    person_total_r: np.ndarray
+    missing: np.ndarray
+    duration: np.ndarray | None
+    flags: tuple[tuple[str, ...], ...]
+    flagged: np.ndarray
+    duplicates: DuplicateResult
+    thresholds: ScreenThresholds
+    n_items: int
+    long_run_items: int
+    median_duration: float | None
+    alpha_change: dict[str, dict[str, Any]] = field(default_factory=dict)
+    notes: tuple[str | Note, ...] = ()
+    #: flag codes whose check could not run (their count is None, never 0; a note says why)
+    not_checked: tuple[str, ...] = ()
+    #: per group of identical answer rows: ``flagged`` (duplicate-answers), ``long-run`` (counted there
+    #: instead) or ``few-answers`` (too few answered items to tell a copy from chance)
+    duplicate_status: tuple[str, ...] = ()
+    #: unit of the completion times (shown beside them; the checks do not depend on it)
+    duration_unit: str = "s"
+    weak_indices: tuple[WeakIndexUse, ...] = ()
+
+    @property
+    def n(self) -> int:
+        return len(self.ids)
+
+    def flagged_ids(self) -> list[str]:
+        return [i for i, f in zip(self.ids, self.flagged, strict=True) if f]
+
+    def flag_counts(self) -> dict[str, int | None]:
+        """Respondents per flag; None for a check that did not run."""
+        counts: dict[str, int | None] = {code: 0 for code in FLAG_ORDER}
+        for codes in self.flags:
+            for code in codes:
+                counts[code] += 1  # type: ignore[operator]
+        for code in self.not_checked:
+            counts[code] = None
+        return counts
+
+    def flag_overlap(self) -> dict[str, dict[str, int]]:
+        """Respondents carrying both flags, for every pair of flag codes that occur (diagonal = count)."""
+        present = [c for c, k in self.flag_counts().items() if k]
+        has = np.array([[code in codes for code in present] for codes in self.flags], dtype=int).reshape(
+            self.n, len(present))
+        both = has.T @ has
+        return {a: {b: int(both[i, j]) for j, b in enumerate(present)} for i, a in enumerate(present)}
+
+    def summary(self) -> dict[str, Any]:
+        n_flagged = int(self.flagged.sum())
+        return {
+            "n": self.n,
+            "n_flagged": n_flagged,
+            "flagged_share": n_flagged / self.n if self.n else None,
+            "counts": self.flag_counts(),
+            "overlap": self.flag_overlap(),
+            "alpha_change": self.alpha_change,
+            "n_items": self.n_items,
+            "long_run_items": self.long_run_items,
+            "median_duration": self.median_duration,
+            "duration_unit": self.duration_unit if self.duration is not None else None,
+            "not_checked": list(self.not_checked),
+        }
+
+    def respondent_records(self) -> list[dict[str, Any]]:
+        columns = {
+            "id": list(self.ids), "flagged": self.flagged.tolist(), "flags": [list(f) for f in self.flags],
+            "longstring": self.longstring.tolist(), "irv": self.irv.tolist(),
+            "mahalanobis_d2": self.mahalanobis_d2.tolist(), "mahalanobis_pvalue": self.mahalanobis_p.tolist(),
+            "mahalanobis_df": self.mahalanobis_df.tolist(), "even_odd": self.even_odd.tolist(),
+            "person_total_r": self.person_total_r.tolist(), "missing": self.missing.tolist(),
+        }
+        if self.duration is not None:
+            columns["duration"] = self.duration.tolist()
+        names = list(columns)
+        return [dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True)]
+
+    def to_dict(self) -> dict[str, Any]:
+        return to_jsonable({
+            "respondents": self.respondent_records(),
+            "summary": self.summary(),
+            "duplicates": {"rows": [[self.ids[i] for i in group] for group in self.duplicates.row_groups],
+                           "row_status": list(self.duplicate_status),
+                           "ids": list(self.duplicates.duplicate_ids)},
+            "thresholds": self.thresholds.to_dict(),
+            "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
+            "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
+            "notes": list(self.notes),
+        })
+
+
+def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
+    from .item_covariance import item_covariance
+    from .reliability_coefficients import cronbach_alpha_from_cov
+
+    out = {}
+    for name, keyed in keyed_by_scale.items():
+        everyone = item_covariance(keyed)
+        kept = item_covariance(keyed[~flagged])
+        alpha_all = cronbach_alpha_from_cov(everyone.cov) if everyone.n_used >= 2 else math.nan
+        alpha_kept = cronbach_alpha_from_cov(kept.cov) if kept.n_used >= 2 else math.nan
+        out[name] = {"alpha_all": alpha_all, "n_all": everyone.n_used,
+                     "alpha_without_flagged": alpha_kept, "n_without_flagged": kept.n_used,
+                     "change": alpha_kept - alpha_all}
+    return out
+
+
+def _unique_notes(notes: Sequence[str | Note]) -> tuple[str | Note, ...]:
+    """Each note once, in order (a note's values may be unhashable, so it is compared by its JSON form)."""
+    seen: dict[str, str | Note] = {}
+    for item in notes:
+        seen.setdefault(repr(item.to_dict()) if isinstance(item, Note) else item, item)
+    return tuple(seen.values())
+
+
+def _duplicate_status(groups: Sequence[Sequence[int]], long_run: np.ndarray, answered_items: np.ndarray,
+                      min_items: int) -> tuple[str, ...]:
+    """Why each group of identical rows is or is not counted as ``duplicate-answers`` (rows of a group agree)."""
+    status = []
+    for group in groups:
+        first = group[0]
+        status.append("long-run" if long_run[first] else "few-answers" if answered_items[first] < min_items
+                      else "flagged")
+    return tuple(status)
+
+
+def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], *, ids: Sequence[str],
+                       thresholds: ScreenThresholds = DEFAULT_SCREEN_THRESHOLDS, durations: Any = None,
+                       duration_unit: str = "s") -> ScreenResult:
+    """Screen every respondent for careless answering and suspicious records.
+
+    Parameters
+    ----------
+    items_raw_order : array_like, shape (n, p)
+        Answers in questionnaire order, not reverse-keyed (for the longest run and for duplicates).
+    keyed_by_scale : mapping of scale name to array_like (n, k_s)
+        Keyed items of each scale (for IRV, Mahalanobis, even-odd, person-total and alpha).
+    ids : sequence of str
+        Respondent ids, one per row.
+    thresholds : ScreenThresholds
+        When each index raises a flag.
+    durations : array_like, shape (n,), optional
+        Completion times (any unit); enables the ``fast`` flag. Without them ``fast`` is not checked: its
+        count is None (``null``), not 0.
+    duration_unit : str
+        Unit of ``durations``, kept for display.
+
+    Returns
+    -------
+    ScreenResult
+
+    Notes
+    -----
+    A respondent is *flagged* when a strong flag fires (``long-run``, ``far-from-sample``, ``fast``,
+    ``duplicate-answers``, ``duplicate-id``) or when ``somewhat-far`` (Mahalanobis p below
+    ``mahalanobis_p_weak`` but not below ``mahalanobis_p``) comes with ``uneven-halves`` or ``against-sample``.
+    Those two may not confirm each other: both fall for attentive people whose scale scores are all alike.
+    Weak signals do not count for a respondent with ``many-missing``, a flag that is listed but marks no one:
+    an unfinished questionnaire is not careless answering. Such respondents are also left out of the median
+    duration and of the ``fast`` check.
+
+    The Mahalanobis distance is
+    computed twice: first from everyone, then from the means and covariance of the respondents the first pass
+    left unflagged (neither a long run nor p below ``mahalanobis_p_weak``). One reweighting step is our own
+    choice: careless answers inflate the covariance and so hide each other (masking). A flag marks a record to
+    look at, not a verdict on a person.
+    """
+    raw = as_answer_matrix(items_raw_order, "items_raw_order")
+    n, p = raw.shape
+    if len(ids) != n:
+        raise DataError(f"ids: expected {n} respondent ids, got {len(ids)}")
+    scales = {str(name): as_answer_matrix(block, f"keyed items of scale {name}") for name, block in keyed_by_scale.items()}
+    for name, block in scales.items():
+        if block.shape[0] != n:
+            raise DataError(f"keyed items of scale {name}: {block.shape[0]} rows, expected {n}")
+    keyed = np.hstack(list(scales.values())) if scales else np.empty((n, 0))
+    notes: list[str | Note] = []
+    not_checked: list[str] = []
+
+    runs = longstring(raw)
+    run_limit = thresholds.long_run_items(p)
+    long_run = runs >= run_limit
+    irv = intra_individual_variability(keyed)
+    missing = missing_share(raw)
+    many_missing = missing > thresholds.missing_share_max
+
+    first = mahalanobis_distance(keyed)
+    distance = first
+    if np.isfinite(first.p).any():
+        reference = ~long_run & ~(first.p < thresholds.mahalanobis_p_weak)
+        second = mahalanobis_distance(keyed, reference=reference)
+        if np.isfinite(second.p).any():
+            distance = second
+        else:
+            notes.append("the Mahalanobis distance uses every respondent: too few were left to re-estimate it "
+                         "without the first pass's outliers")
+    notes.extend(distance.notes)
+    with np.errstate(invalid="ignore"):
+        far = distance.p < thresholds.mahalanobis_p
+        somewhat_far = distance.p < thresholds.mahalanobis_p_weak
+
+    halves = even_odd_consistency(scales) if scales else EvenOddResult(
+        np.full(n, np.nan), np.full(n, np.nan), 0, ("even-odd consistency not computed: no scales",))
+    notes.extend(halves.notes)
+    person_total = person_total_correlation(keyed)
+    # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
+    # item means barely differ, attentive people's person-total r scatters around zero; with few scales the
+    # even-odd correlation rests on a handful of points (docs/screening.md)
+    typical_total = attentive_person_total_r(keyed)
+    answered_median = int(np.median(np.sum(~np.isnan(keyed), axis=1))) if n and keyed.shape[1] else 0
+    total_use = WeakIndexUse(index=FLAG_AGAINST_SAMPLE, used=False, typical=typical_total, points=answered_median,
+                             cutoff=thresholds.person_total_min,
+                             expected_below=expected_share_below(typical_total, thresholds.person_total_min,
+                                                                 answered_median))
+    with np.errstate(invalid="ignore"):
+        typical_halves = float(np.nanmedian(halves.r_halves)) if np.isfinite(halves.r_halves).any() else math.nan
+    half_cut = thresholds.even_odd_min / (2 - thresholds.even_odd_min)  # undo Spearman-Brown: raw half r
+    halves_use = WeakIndexUse(index=FLAG_UNEVEN_HALVES, used=False, typical=2 * typical_halves / (1 + typical_halves),
+                              points=halves.scales_used, cutoff=thresholds.even_odd_min,
+                              expected_below=expected_share_below(typical_halves, half_cut, halves.scales_used))
+    total_use = replace(total_use, used=bool(total_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    halves_use = replace(halves_use, used=bool(halves_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    with np.errstate(invalid="ignore"):
+        uneven = (halves.consistency < thresholds.even_odd_min) & halves_use.used
+        against = (person_total < thresholds.person_total_min) & total_use.used
+
+    fast = np.zeros(n, dtype=bool)
+    duration = None
+    median_duration = None
+    if durations is None:
+        not_checked.append(FLAG_FAST)
+        notes.append(note("fast-not-checked", flag=FLAG_FAST))
+    else:
+        duration = np.asarray(durations, dtype=float).reshape(-1)
+        if duration.shape != (n,):
+            raise DataError(f"durations: expected {n} values, got {duration.size}")
+        # a respondent who stopped early is quick for that reason; the median comes from the others
+        timed = np.where(many_missing, np.nan, duration)
+        fast, median = speeders(timed, speed_share=thresholds.speed_share)
+        median_duration = None if math.isnan(median) else median
+        if median_duration is None:
+            not_checked.append(FLAG_FAST)
+            notes.append(note("fast-no-durations", flag=FLAG_FAST))
+        elif (~np.isfinite(duration)).any():
+            notes.append(f"{int((~np.isfinite(duration)).sum())} respondent(s) without a duration were not "
+                         "checked for speed")
+
+    duplicates = duplicate_records(raw, ids)
+    answered_items = p - np.isnan(raw).sum(axis=1)
+    duplicate_answers = duplicates.in_row_group & ~long_run & (answered_items >= thresholds.duplicate_min_items)
+    duplicate_status = _duplicate_status(duplicates.row_groups, long_run, answered_items,
+                                         thresholds.duplicate_min_items)
+    if p < thresholds.duplicate_min_items:
+        not_checked.append(FLAG_DUPLICATE_ANSWERS)
+        notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
+                          min_items=thresholds.duplicate_min_items))
+    if not np.isfinite(distance.p).any():
+        not_checked.extend((FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR))
+        notes.append(note("distance-not-checked", flags=(FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR)))
+    if not np.isfinite(halves.consistency).any():
+        not_checked.append(FLAG_UNEVEN_HALVES)
+        notes.append(note("halves-not-checked", flag=FLAG_UNEVEN_HALVES))
+    if not np.isfinite(person_total).any():
+        not_checked.append(FLAG_AGAINST_SAMPLE)
+        notes.append(note("profile-not-checked", flag=FLAG_AGAINST_SAMPLE))
+
+    fired = {
+        FLAG_LONG_RUN: long_run, FLAG_FAR_FROM_SAMPLE: far, FLAG_FAST: fast, FLAG_MANY_MISSING: many_missing,
+        FLAG_DUPLICATE_ANSWERS: duplicate_answers, FLAG_DUPLICATE_ID: duplicates.id_repeated,
+        FLAG_SOMEWHAT_FAR: somewhat_far & ~far, FLAG_UNEVEN_HALVES: uneven, FLAG_AGAINST_SAMPLE: against,
+    }
+    strong = np.zeros(n, dtype=bool)
+    for code in STRONG_FLAGS:
+        strong |= fired[code]
+    # weak signals rest on few answers when many are missing, so they count only for respondents who
+    # answered most items
+    # uneven-halves and against-sample both drop for attentive people whose scale scores are all alike, so they
+    # do not confirm each other; each may confirm a moderately distant answer pattern
+    flagged = strong | (~many_missing & somewhat_far & (uneven | against))
+    codes = np.array(FLAG_ORDER, dtype=object)
+    matrix = np.column_stack([fired[c] for c in FLAG_ORDER])
+    flags = tuple(tuple(codes[row]) for row in matrix)  # per-respondent lists of codes for the output
+
+    alpha_change = _alpha_change(scales, flagged) if scales else {}
+    return ScreenResult(
+        ids=tuple(str(i) for i in ids), longstring=runs, irv=irv, mahalanobis_d2=distance.d2,
+        mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,
+        person_total_r=person_total, missing=missing, duration=duration, flags=flags, flagged=flagged,
+        duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=run_limit,
+        median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
+        not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
+        weak_indices=(halves_use, total_use))
