@@ -89,7 +89,7 @@ def test_screen_bad_options_and_columns(tmp_path, capsys):
     assert main(["screen", str(data), "--scales", str(scales), "--duration-column", "nope"]) != 0
     assert "error:" in capsys.readouterr().err
     assert main(["screen", str(data), "--scales", str(scales), "--mahalanobis-p", "0.2"]) != 0
-    assert "mahalanobis-p-weak" in capsys.readouterr().err
+    assert "--mahalanobis-p-weak" in capsys.readouterr().err
     before = data.read_bytes()
     assert main(["screen", str(data), "--scales", str(scales), "--out", str(data)]) != 0
     assert data.read_bytes() == before

@@ -6,6 +6,7 @@ from pathlib import Path
 import click
 
 from ..analyses.screen import analyse_screen
+from ..errors import UsageError
 from .common import (
     choose_format,
     data_argument,
@@ -61,6 +62,9 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
     from ..present.render import visible_controls
     from ..stats.screen_rules import ScreenThresholds
 
+    if mahalanobis_p_weak < mahalanobis_p:
+        raise UsageError(f"--mahalanobis-p-weak ({mahalanobis_p_weak:g}) must not be below --mahalanobis-p "
+                         f"({mahalanobis_p:g}): the weak signal is the wider net")
     thresholds = ScreenThresholds(
         long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,

@@ -97,15 +97,17 @@ class ScreenThresholds(ResultMixin):
         for name in ("long_run_share", "mahalanobis_p", "mahalanobis_p_weak", "missing_share_max", "speed_share"):
             value = getattr(self, name)
             if not (isinstance(value, (int, float)) and 0 < value < 1 or (name == "long_run_share" and value == 1)):
-                raise UsageError(f"threshold {name.replace('_', '-')} must lie between 0 and 1, got {value!r}")
+                raise UsageError(f"screen threshold {name} must lie between 0 and 1, got {value!r}")
         for name in ("person_total_min", "even_odd_min"):
             value = getattr(self, name)
             if not (isinstance(value, (int, float)) and -1 <= value <= 1):
-                raise UsageError(f"threshold {name.replace('_', '-')} must lie between -1 and 1, got {value!r}")
+                raise UsageError(f"screen threshold {name} must lie between -1 and 1, got {value!r}")
         if self.mahalanobis_p_weak < self.mahalanobis_p:
-            raise UsageError("threshold mahalanobis-p-weak must not be below mahalanobis-p")
+            raise UsageError(f"screen threshold mahalanobis_p_weak ({self.mahalanobis_p_weak!r}) must not be below "
+                             f"mahalanobis_p ({self.mahalanobis_p!r})")
         if int(self.duplicate_min_items) != self.duplicate_min_items or self.duplicate_min_items < 1:
-            raise UsageError(f"duplicate-min-items must be a whole number >= 1, got {self.duplicate_min_items!r}")
+            raise UsageError(f"screen threshold duplicate_min_items must be a whole number >= 1, "
+                             f"got {self.duplicate_min_items!r}")
 
     def long_run_items(self, n_items: int) -> int:
         """The run length that raises ``long-run`` on a questionnaire of ``n_items`` items (at least 2)."""
