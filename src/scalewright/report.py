@@ -236,9 +236,9 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     ReportResults
     """
     from .analyses.compare import analyse_compare
+    from .analyses.tally import answer_distributions, tally_columns
     from .concurrency import start_in_process
     from .scoring import score_scales
-    from .stats.tally import answer_distribution, tally
 
     check_columns(responses, options)
     progress(STEPS[0])
@@ -260,10 +260,8 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
                                          for i, name in enumerate(spec.scales)}
 
     progress(STEPS[4])
-    answers = {name: answer_distribution(responses.matrix(scale.items), scale.response.levels, scale.response.labels,
-                                         item_names=scale.items, min_cell=options.min_cell)
-               for name, scale in spec.scales.items()}
-    group_tallies = tuple(tally(responses.column(column), min_cell=options.min_cell) for column in options.by)
+    answers = answer_distributions(spec, responses=responses, min_cell=options.min_cell)
+    group_tallies = tally_columns(options.by, responses=responses, min_cell=options.min_cell)
 
     progress(STEPS[5])
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None

@@ -91,12 +91,10 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     cumulative percentages are shown for them. --expected checks the sample against reference
     proportions (e.g. a workforce census) with a chi-square test, residuals and the effect size w.
     """
-    from ..analyses.summarised import tally_of_column, tally_of_item
+    from ..analyses.tally import analyse_tally, answer_distributions
     from ..engine.plan import plan_for
     from ..expected_file import read_expected
     from ..present.tally import tally_record, tally_tables
-    from ..stats.tally import AnswerDistribution, answer_distribution, goodness_of_fit
-    from ..stats.tally import tally as count
 
     names = [c.strip() for c in columns.split(",") if c.strip()]
     if items and scales is None:
@@ -141,49 +139,18 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
         raise UsageError("nothing to tally: give --columns A,B or --items")
     order_of = {c: [v.strip() for v in text.split(",") if v.strip()] for c, text in
                 _per_column(orders, names, "--order").items()}
-    expected_of = _per_column(expected, names, "--expected")
-    tallies, fits = [], []
-    counted = {} if summary is not None else _count_item_codes(spec, responses, [n for n in names if n not in order_of], min_cell=min_cell)
-    for name in names:
-        is_item = spec is not None and name in spec.items
-        labels = order = None
-        if is_item:
-            response = spec.response_for(name)
-            order = list(response.levels)
-            labels = {level: response.label(level) for level in response.levels}
-        if name in order_of:
-            order = order_of[name]
-        if summary is None:
-            result = counted[name] if name in counted else count(column_of(name), order=order, labels=labels,
-                                                                 min_cell=min_cell, column=name)
-        elif is_item:
-            result = tally_of_item(spec, summary, name, order=order, labels=labels, min_cell=min_cell)
-        else:
-            result = tally_of_column(spec, summary, name, order=order, min_cell=min_cell)
-        tallies.append(result)
-        fit = None
-        if name in expected_of:
-            reference = read_expected(Path(expected_of[name]))
-            fit = goodness_of_fit(result, reference.proportions, source=reference.path, rows=reference.lines)
-        fits.append(fit)
+    expected_of = {column: read_expected(Path(path)) for column, path in
+                   _per_column(expected, names, "--expected").items()}
+    analysis = analyse_tally(names, spec=spec, responses=responses, column_of=column_of, summary=summary,
+                             orders=order_of, expected=expected_of, min_cell=min_cell)
+    tallies, fits = list(analysis.tallies), list(analysis.fits)
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits, strict=True)}}
     if summarised:
         body["engine"] = summarised.engine
-    weighted_tables = _weighted(body, tallies, fits, column_of, expected_of, responses, decimals)
+    weighted_tables = _weighted(body, analysis, decimals)
     distributions = {}
     if items and spec is not None and figures is not None:  # drawn only; the tables are the tallies above
-        for scale_name, scale in spec.scales.items():
-            response = scale.response
-            if summary is None:
-                distributions[scale_name] = answer_distribution(
-                    responses.matrix(scale.items), response.levels, {v: response.label(v) for v in response.levels},
-                    item_names=scale.items, min_cell=min_cell)
-                continue
-            labels = {v: response.label(v) for v in response.levels}
-            distributions[scale_name] = AnswerDistribution(
-                items=tuple(tally_of_item(spec, summary, item, order=list(response.levels), labels=labels,
-                                          min_cell=min_cell) for item in scale.items),
-                levels=tuple(str(v) for v in response.levels), labels=tuple(labels[v] for v in response.levels))
+        distributions = answer_distributions(spec, responses=responses, summary=summary, min_cell=min_cell)
     if figures is not None:
         _write_figures(figures, [t for t in tallies if t.column in asked], distributions, percent=percent, pie=pie,
                        inputs=[p for p in (data, scales) if p is not None])
@@ -192,53 +159,20 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
          out=out, decimals=decimals, options={"columns": names, "min_cell": min_cell, "items": items})
 
 
-def _count_item_codes(spec, responses, names: list[str], *, min_cell: int) -> dict:
-    """The tallies of the items among ``names``, every answer code of every item counted in one pass.
-
-    Empty when there are no such items or their answers are not all held as codes (then each column is
-    tallied on its own, as any other column). Same result as :func:`~scalewright.stats.tally.tally` of each
-    item's clean values with the scale file's levels and labels.
-    """
-    from ..answer_codes import MISSING
-    from ..stats.coded import code_counts
-    from ..stats.tally import tally_from_counts
-
-    items = [name for name in names if spec is not None and name in spec.items]
-    codes = responses.codes(items) if items else None
-    if codes is None:
-        return {}
-    counts = code_counts(codes)
-    out = {}
-    for j, name in enumerate(items):
-        response = spec.response_for(name)
-        exact = {str(level): int(counts[j, level - response.min]) for level in response.levels}
-        out[name] = tally_from_counts(exact, n_total=responses.n, n_missing=int(counts[j, MISSING]), column=name,
-                                      ordered=True, labels={str(level): str(response.label(level))
-                                                            for level in response.levels}, min_cell=min_cell)
-    return out
-
-
-def _weighted(body, tallies, fits, column_of, expected_of, responses, decimals) -> list:
-    """Weighted shares (and their fit to the reference) beside each unweighted tally, when weights are given."""
-    weights = getattr(responses, "weights", None)
-    if weights is None:
+def _weighted(body: dict, analysis, decimals: int) -> list:
+    """The weighted shares (and their fit) into each column's record, and their tables; none without weights."""
+    if not analysis.weighted:
         return []
-    from ..expected_file import read_expected
     from ..present.weighted import weighted_fit_table, weighted_tally_table
-    from ..stats.weighted_tally import weighted_goodness_of_fit, weighted_tally
 
     tables = []
-    for t, fit in zip(tallies, fits, strict=True):
-        shares = weighted_tally(column_of(t.column), weights.values, t, weight_column=weights.column)
+    for t, fit, weighted in zip(analysis.tallies, analysis.fits, analysis.weighted, strict=True):
         record = body["columns"][t.column]
-        record["weighted"] = shares.to_dict()
-        tables.append(weighted_tally_table(shares, t))
-        if t.column in expected_of:
-            reference = read_expected(Path(expected_of[t.column]))
-            weighted_fit = weighted_goodness_of_fit(shares, t, reference.proportions, source=reference.path,
-                                                    rows=reference.lines)
-            record["weighted_fit"] = weighted_fit.to_dict()
-            tables.append(weighted_fit_table(weighted_fit, fit, decimals))
+        record["weighted"] = weighted.shares.to_dict()
+        tables.append(weighted_tally_table(weighted.shares, t))
+        if weighted.fit is not None:
+            record["weighted_fit"] = weighted.fit.to_dict()
+            tables.append(weighted_fit_table(weighted.fit, fit, decimals))
     return tables
 
 
