@@ -288,3 +288,33 @@ def test_answer_distribution_counted_per_level_equals_tally_of_each_column():
         assert result.items[j] == expected
     with pytest.raises(UsageError):
         answer_distribution(np.array([[1.0], [7.0]]), [1, 2, 3, 4, 5])
+
+
+def test_analyse_tally_counts_items_and_groups_as_pandas_does(write_file):
+    # reference: pandas value_counts of the same columns, as the data file gives them (outside our counting);
+    # the items held as codes are counted in one pass, a group column on its own: both routes checked
+    from scalewright.analyses.tally import analyse_tally, answer_distributions
+    from scalewright.data import read_responses
+    from scalewright.spec import load_spec
+
+    rng = np.random.default_rng(5)
+    n = 60
+    frame = pd.DataFrame({"staff_id": [f"s{i:02d}" for i in range(n)],
+                          "shift": rng.choice(["day", "night", "late"], size=n, p=[.5, .3, .2]),
+                          **{name: rng.integers(1, 6, size=n) for name in ("wl1", "wl2", "wl3")}})
+    frame.loc[rng.random(n) < 0.1, "wl2"] = np.nan
+    scales = write_file("scales.yaml", "version: 1\nid_column: staff_id\ngroups: [shift]\n"
+                        "response: {min: 1, max: 5}\nscales:\n  workload:\n    items: [wl1, wl2, wl3]\n")
+    data = write_file("data.csv", frame.to_csv(index=False, float_format="%.0f"))
+    spec = load_spec(scales)
+    responses = read_responses(data, spec)
+    analysis = analyse_tally(["shift", "wl2"], spec=spec, responses=responses, min_cell=1)
+    shift, wl2 = analysis.tallies
+    assert analysis.fits == (None, None)
+    assert {c.category: c.count for c in shift.categories} == frame["shift"].value_counts().to_dict()
+    expected_wl2 = frame["wl2"].value_counts()
+    assert {c.category: c.count for c in wl2.categories} == {
+        str(level): int(expected_wl2.get(float(level), 0)) for level in range(1, 6)}
+    assert wl2.n_missing == int(frame["wl2"].isna().sum())
+    distribution = answer_distributions(spec, responses=responses, min_cell=1)["workload"]
+    assert [c.count for c in distribution.items[1].categories] == [c.count for c in wl2.categories]
