@@ -8,7 +8,8 @@ import yaml
 
 from scalewright.cli import main
 from scalewright.data import read_table
-from scalewright.drafting import CATEGORY, DATE, FREE_TEXT, ID, NUMBER, draft_scales
+from scalewright.drafting.build import draft_scales
+from scalewright.drafting.rules import CATEGORY, DATE, FREE_TEXT, ID, NUMBER
 from scalewright.present.draft_yaml import draft_yaml_text
 from scalewright.spec import load_spec
 

@@ -7,18 +7,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scalewright.drafting import (
-    CONSTANT,
-    DATE,
-    EMPTY,
-    ID,
-    RATING,
-    UNCLEAR,
-    draft_scales,
-    infer_answer_format,
-    profile_column,
-    propose_reverse_keys,
-)
+from scalewright.drafting.answer_format import infer_answer_format
+from scalewright.drafting.build import draft_scales
+from scalewright.drafting.columns import profile_column
+from scalewright.drafting.keying import propose_reverse_keys
+from scalewright.drafting.rules import CONSTANT, DATE, EMPTY, ID, RATING, UNCLEAR
 from scalewright.errors import DataError
 from scalewright.present.draft_yaml import draft_yaml_text
 from scalewright.stats.item_analysis import item_rest_correlations_from_cov
@@ -226,7 +219,7 @@ def test_draft_on_a_real_looking_export():
 def test_reverse_keys_follow_first_factor_signs_where_item_rest_r_misleads():
     # two of five items reversed with the larger loadings: the rest of each correctly worded item holds both
     # reversed items, so greedy item-rest keying can reverse the wrong half; the first factor does not
-    from scalewright.drafting import propose_reverse_keys
+    from scalewright.drafting.keying import propose_reverse_keys
 
     rng = np.random.default_rng(11)
     n = 3000

@@ -23,7 +23,7 @@ def draft(data: Path, out: Path | None, force: bool, sheet: str | None) -> None:
     then run `scalewright lint DATA --scales FILE`. A short summary goes to stderr.
     """
     from ..data import read_table
-    from ..drafting import draft_scales
+    from ..drafting.build import draft_scales
     from ..present.draft_yaml import draft_summary_lines, draft_yaml_text
 
     if out is not None:

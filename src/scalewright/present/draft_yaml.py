@@ -11,7 +11,8 @@ from pathlib import Path
 
 import yaml
 
-from ..drafting import CATEGORY, ID, RATING, ROW_NUMBER, AnswerFormat, Draft, ScaleDraft
+from ..drafting.results import AnswerFormat, Draft, ScaleDraft
+from ..drafting.rules import CATEGORY, ID, RATING, ROW_NUMBER
 
 DEFAULT_MIN_ANSWERED = 0.75  # a score needs three in four items answered (common practice, no source)
 COMMENT_WIDTH = 100
