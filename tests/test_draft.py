@@ -10,6 +10,7 @@ from scalewright.cli import main
 from scalewright.data import read_table
 from scalewright.drafting.build import draft_scales
 from scalewright.drafting.rules import CATEGORY, DATE, FREE_TEXT, ID, NUMBER
+from scalewright.notes import Note
 from scalewright.present.draft_yaml import draft_yaml_text
 from scalewright.spec import load_spec
 
@@ -87,7 +88,9 @@ def test_draft_names_the_three_scales_with_their_items_and_reverse_items(drafted
     found = {s.name: (list(s.items), list(s.reverse_items)) for s in drafted.scales}
     assert found == DRAFTED
     wl = next(s for s in drafted.scales if s.name == "wl")
-    assert any(note.startswith("wl7 correlates weakly") for note in wl.notes)
+    weak = [note for note in wl.notes if isinstance(note, Note) and note.code == "draft-weakly-related-item"]
+    assert [note.values["item"] for note in weak] == ["wl7"]
+    assert weak[0].values["mean_abs_r"] < weak[0].values["threshold"]
 
 
 def test_reverse_evidence_matches_item_rest_r_computed_with_numpy(survey_csv, drafted):
@@ -202,7 +205,7 @@ def test_one_stem_holding_two_scales_is_split_by_correlations():
                                                [-1, 0, 1]) + 1 for i in range(1, 9)})
     draft = draft_scales(frame)
     assert sorted(sorted(s.items) for s in draft.scales) == [["q1", "q2", "q3", "q4"], ["q5", "q6", "q7", "q8"]]
-    assert all("fall into 2 groups" in " ".join(s.notes) for s in draft.scales)
+    assert all("fall into 2 groups" in " ".join(n for n in s.notes if isinstance(n, str)) for s in draft.scales)
     assert {s.response.min for s in draft.scales} == {1}
     assert {s.response.max for s in draft.scales} == {4}
 

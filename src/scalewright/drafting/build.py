@@ -10,10 +10,11 @@ import numpy as np
 import pandas as pd
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..spec import SCALE_NAME
 from .answer_format import answer_values, infer_answer_format
 from .columns import ParsedColumn, looks_like_id_name, profile_column
-from .keying import _fmt_r, correlation_clusters, correlation_threshold, scale_from_cluster
+from .keying import correlation_clusters, correlation_threshold, scale_from_cluster
 from .results import ColumnProfile, Draft, ScaleDraft, SetAside
 from .rules import (
     CATEGORY,
@@ -136,7 +137,7 @@ def draft_scales(frame: pd.DataFrame) -> Draft:
             threshold = correlation_threshold(stats.n_used)
             clusters = correlation_clusters(np.abs(corr), threshold=threshold)
         kept = [c for c in clusters if len(c) >= 2]
-        weak_notes: dict[int, list[str]] = {}
+        weak_notes: dict[int, list[str | Note]] = {}
         weak_items: dict[int, list[str]] = {}
         if stats.n_used >= MIN_ROWS_FOR_CORRELATIONS:
             for cluster in clusters:
@@ -148,18 +149,15 @@ def draft_scales(frame: pd.DataFrame) -> Draft:
                     mean_r = float(np.nanmean(np.abs(corr[j, others]))) if others else math.nan
                     set_aside.append(SetAside(
                         column=names[j], stem=stem,
-                        reason=f"does not correlate with the other {stem} items (mean |r| = "
-                               f"{_fmt_r(mean_r).lstrip('+')}, below {threshold:.2f}): left out of every scale"))
+                        reason=note("draft-uncorrelated-column", stem=stem, mean_abs_r=mean_r, threshold=threshold)))
                     continue
                 # kept in its likeliest scale (highest mean |r|) with a note to check it, rather than dropped
                 mean_rs = [float(np.nanmean(np.abs(corr[j, c]))) for c in kept]
                 home = int(np.argmax(mean_rs))
                 kept[home] = sorted([*kept[home], j])
                 weak_items.setdefault(home, []).append(names[j])
-                weak_notes.setdefault(home, []).append(
-                    f"{names[j]} correlates weakly with the other {stem} items (mean |r| = "
-                    f"{_fmt_r(mean_rs[home]).lstrip('+')} with this group, below {threshold:.2f}); kept here as its "
-                    "likeliest scale, as worded: check its wording and direction, or remove it")
+                weak_notes.setdefault(home, []).append(note("draft-weakly-related-item", item=names[j], stem=stem,
+                                                             mean_abs_r=mean_rs[home], threshold=threshold))
         for number, cluster in enumerate(kept):
             name = _scale_name(stem, taken)
             cluster_notes = list(fmt_notes) + weak_notes.get(number, [])

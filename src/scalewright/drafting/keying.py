@@ -5,6 +5,7 @@ import math
 
 import numpy as np
 
+from ..notes import Note, note
 from .results import AnswerFormat, ReverseProposal, ScaleDraft
 from .rules import (
     MIN_ABS_R,
@@ -80,15 +81,8 @@ def propose_reverse_keys(cov: np.ndarray) -> np.ndarray:
     return signs
 
 
-def _fmt_r(value: float) -> str:
-    if not np.isfinite(value):
-        return "n/a"
-    text = f"{value:+.2f}"
-    return text.replace("0.", ".", 1)
-
-
 def scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarray, fmt: AnswerFormat,
-                        notes: list[str], weak: frozenset[str] = frozenset()) -> ScaleDraft:
+                        notes: list[str | Note], weak: frozenset[str] = frozenset()) -> ScaleDraft:
     from ..stats.item_analysis import item_rest_correlations_from_cov
     from ..stats.item_covariance import item_covariance
     from ..stats.reliability_coefficients import cronbach_alpha_from_cov
@@ -115,8 +109,7 @@ def scale_from_cluster(name: str, stem: str, items: list[str], matrix: np.ndarra
                      "should mean; check the wording")
     for j in range(k):
         if np.isfinite(keyed_r[j]) and keyed_r[j] < threshold:
-            notes.append(f"{items[j]}: item-rest r = {_fmt_r(keyed_r[j])} with the proposed keying, weak: "
-                         "check its wording")
+            notes.append(note("draft-weak-item", item=items[j], item_rest_r=float(keyed_r[j])))
     if k == 2:
         notes.append("only two items: keying and reliability rest on one correlation")
     return ScaleDraft(name=name, stem=stem, items=tuple(items), reverse=proposals, response=fmt,

@@ -4,6 +4,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 from ..errors import DataError
+from ..notes import Note
 from ..results import ResultMixin
 
 # ----------------------------------------------------------------------------------------------------------
@@ -69,7 +70,7 @@ class ScaleDraft(ResultMixin):
     alpha_as_worded: float
     alpha_keyed: float
     item_rest_r: tuple[float, ...]  # per item, with the proposed keying
-    notes: tuple[str, ...] = ()
+    notes: tuple[str | Note, ...] = ()  # sentences, or codes with values worded by present/draft_yaml.py
 
     @property
     def reverse_items(self) -> tuple[str, ...]:
@@ -82,7 +83,7 @@ class SetAside(ResultMixin):
 
     column: str
     stem: str | None
-    reason: str
+    reason: str | Note
 
 
 @dataclass(frozen=True)

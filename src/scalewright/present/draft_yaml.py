@@ -34,6 +34,18 @@ def _r(value: float) -> str:
     return f"{value:+.2f}".replace("0.", ".", 1)
 
 
+def _worded(note: object) -> str:
+    """A draft's note or reason as a sentence: correlations as ``+.23`` (a mean of sizes without its sign),
+    cut-offs to two decimals."""
+    from ..notes import Note
+    from .messages import describe
+
+    if not isinstance(note, Note):
+        return str(note)
+    shown = {"item_rest_r": _r, "mean_abs_r": lambda v: _r(v).lstrip("+"), "threshold": lambda v: f"{v:.2f}"}
+    return describe(note, {key: show(note.values[key]) for key, show in shown.items() if key in note.values})
+
+
 def _alpha(value: float) -> str:
     return "n/a" if not math.isfinite(value) else f"{value:.2f}".replace("0.", ".", 1)
 
@@ -97,10 +109,10 @@ def _scale_lines(scale: ScaleDraft, draft: Draft) -> list[str]:
         lines.append("    response:")
         lines += _format_lines(scale.response, 6, draft, scale.items)
     for note in scale.notes:
-        lines += _comment(f"check: {note}", 4)
+        lines += _comment(f"check: {_worded(note)}", 4)
     for aside in draft.set_aside:
         if aside.stem == scale.stem and _first_of_stem(draft, scale):
-            lines += _comment(f"left out: {aside.column} {aside.reason}", 4)
+            lines += _comment(f"left out: {aside.column} {_worded(aside.reason)}", 4)
     return lines
 
 
@@ -135,7 +147,7 @@ def draft_yaml_text(draft: Draft, *, data_name: str, out_name: str = "THIS_FILE"
             f"{g} ({draft.column(g).n_distinct} {'coded ' if draft.column(g).role == RATING else 'text '}levels)"
             for g in draft.groups) + "; keep those you compare by")
     for note in draft.notes:
-        lines += _comment(f"check: {note}")
+        lines += _comment(f"check: {_worded(note)}")
     if draft.response is not None:
         lines.append("response:")
         lines += _format_lines(draft.response, 2, draft)
@@ -149,7 +161,7 @@ def draft_yaml_text(draft: Draft, *, data_name: str, out_name: str = "THIS_FILE"
             role = "possible id" if profile.role == ID else profile.role
             lines += _comment(f"  {profile.name} ({role}): {profile.reason}")
         for aside in loose:
-            lines += _comment(f"  {aside.column}: {aside.reason}")
+            lines += _comment(f"  {aside.column}: {_worded(aside.reason)}")
     if draft.scales:
         lines.append("scales:")
         for scale in draft.scales:

@@ -317,6 +317,16 @@ WEIGHTS: dict[str, str] = {
                         "= {n} (design effect of the weights {design_effect}).",
 }
 
+# -- drafting a scale file ----------------------------------------------------------------------------------
+DRAFTING: dict[str, str] = {
+    "draft-weak-item": "{item}: item-rest r = {item_rest_r} with the proposed keying, weak: check its wording",
+    "draft-uncorrelated-column": "does not correlate with the other {stem} items (mean |r| = {mean_abs_r}, below "
+                                 "{threshold}): left out of every scale",
+    "draft-weakly-related-item": "{item} correlates weakly with the other {stem} items (mean |r| = {mean_abs_r} "
+                                 "with this group, below {threshold}); kept here as its likeliest scale, as "
+                                 "worded: check its wording and direction, or remove it",
+}
+
 # -- engine (streaming, Dask) --------------------------------------------------------------------------------
 ENGINE: dict[str, str] = {
 }
@@ -325,7 +335,7 @@ ENGINE: dict[str, str] = {
 def _all_templates() -> dict[str, str]:
     merged: dict[str, str] = {}
     for block in (READING, RELIABILITY, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
-                  WEIGHTS, ENGINE):
+                  WEIGHTS, ENGINE, DRAFTING):
         clash = merged.keys() & block.keys()
         if clash:
             raise RuntimeError(f"message codes defined twice: {sorted(clash)}")
