@@ -208,17 +208,17 @@ def test_tally_figures(files, capsys, tmp_path):
 
 def test_tally_items_counted_from_codes_equal_the_column_route(files, capsys, monkeypatch):
     # reference: the per-column route (tally() of each item's values), forced by hiding the one-pass counts
-    import scalewright.cli.tally as tally_cli
+    import scalewright.analyses.tally as tally_analysis
 
     data, scales, _, _ = files
     counted = []
-    one_pass = tally_cli._count_item_codes
-    monkeypatch.setattr(tally_cli, "_count_item_codes", lambda *a, **k: counted.append(one_pass(*a, **k)) or counted[-1])
+    one_pass = tally_analysis._count_item_codes
+    monkeypatch.setattr(tally_analysis, "_count_item_codes", lambda *a, **k: counted.append(one_pass(*a, **k)) or counted[-1])
     code, fast, _ = run(capsys, "tally", data, "--scales", scales, "--items", "--format", "json")
     assert code == 0
     assert len(counted[0]) == 6
 
-    monkeypatch.setattr(tally_cli, "_count_item_codes", lambda *args, **kwargs: {})
+    monkeypatch.setattr(tally_analysis, "_count_item_codes", lambda *args, **kwargs: {})
     code, slow, _ = run(capsys, "tally", data, "--scales", scales, "--items", "--format", "json")
     assert code == 0
     assert json.loads(fast)["columns"] == json.loads(slow)["columns"]
