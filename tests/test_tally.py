@@ -18,12 +18,8 @@ from scalewright.present.render import (
     render_text,
 )
 from scalewright.present.tally import fit_sentence, tally_record, tally_tables
-from scalewright.stats.tally import (
-    answer_distribution,
-    check_expected,
-    goodness_of_fit,
-    tally,
-)
+from scalewright.stats.tally import answer_distribution, tally
+from scalewright.stats.tally_fit import check_expected, goodness_of_fit
 
 TOL = dict(rtol=1e-9, atol=1e-12)
 

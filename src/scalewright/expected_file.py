@@ -21,7 +21,7 @@ class ReferenceProportions:
 def read_expected(path: str | Path) -> ReferenceProportions:
     """Read ``category,proportion`` rows; a bad header, blank category, repeated category or non-number is a
     ``DataError`` naming the file and line. Whether the categories fit the data is checked by
-    :func:`scalewright.stats.tally.check_expected`."""
+    :func:`scalewright.stats.tally_fit.check_expected`."""
     path = Path(path)
     try:
         text = path.read_bytes().decode("utf-8-sig")

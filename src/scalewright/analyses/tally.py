@@ -31,7 +31,7 @@ class TallyAnalysis:
     with survey weights, the weighted shares of each."""
 
     tallies: tuple[Any, ...]                            # stats.tally.Tally
-    fits: tuple[Any | None, ...]                        # stats.tally.FitResult
+    fits: tuple[Any | None, ...]                        # stats.tally_fit.FitResult
     weighted: tuple[WeightedTallyResult, ...] = ()
 
 
@@ -92,8 +92,8 @@ def tally_columns(names: Sequence[str], *, spec: Any = None, responses: Any = No
 
 
 def fit_to_expected(tallies: Sequence[Any], expected: Mapping[str, Any]) -> tuple[Any | None, ...]:
-    """:func:`~scalewright.stats.tally.goodness_of_fit` of each tally whose column has reference proportions."""
-    from ..stats.tally import goodness_of_fit
+    """:func:`~scalewright.stats.tally_fit.goodness_of_fit` of each tally whose column has reference proportions."""
+    from ..stats.tally_fit import goodness_of_fit
 
     fits = []
     for result in tallies:

@@ -5,7 +5,8 @@ from collections.abc import Sequence
 from typing import Any
 
 from ..stats.groups import suppressed_text
-from ..stats.tally import FitResult, Tally
+from ..stats.tally import Tally
+from ..stats.tally_fit import FitResult
 from .numbers import format_value
 from .table import Table
 

@@ -16,7 +16,8 @@ import pandas as pd
 from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
 from .subgroups import blank_as_missing, level_name
-from .tally import Tally, check_expected
+from .tally import Tally
+from .tally_fit import check_expected
 from .weighted import design_effect, kish_effective_n
 
 
@@ -122,7 +123,7 @@ def weighted_goodness_of_fit(shares: WeightedTally, unweighted: Tally, expected:
     in place of n: the unweighted statistic divided by the design effect of the weights (a first-order
     correction in the spirit of Rao & Scott 1981, exact only when the weights are the whole design). With
     equal weights it is the unweighted test. Suppressed categories and those with proportion 0 are left out
-    and the rest rescaled, as in :func:`scalewright.stats.tally.goodness_of_fit`; the p-value is scipy's
+    and the rest rescaled, as in :func:`scalewright.stats.tally_fit.goodness_of_fit`; the p-value is scipy's
     ``chisquare``.
 
     References
