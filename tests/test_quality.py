@@ -111,17 +111,25 @@ def test_mahalanobis_reference_rows_estimate_the_centre():
 def test_mahalanobis_degenerate_inputs_give_notes():
     few = mahalanobis_distance(np.array([[1.0, 2.0], [2.0, 1.0]]))
     assert np.isnan(few.d2).all()
-    assert "at least 3" in few.notes[0]
+    assert few.notes[0].code == "distance-too-few"
+    assert few.notes[0].values == {"respondents": 2, "items": 2}
     x = np.random.default_rng(1).normal(size=(20, 3))
     x[:, 2] = x[:, 0] + x[:, 1]  # exactly collinear
     singular = mahalanobis_distance(x)
     assert np.isnan(singular.d2).all()
-    assert "singular" in singular.notes[-1]
+    assert singular.notes[-1].code == "distance-singular"
     constant = np.column_stack([x[:, :2], np.full(20, 3.0)])
     dropped = mahalanobis_distance(constant)
     assert np.isfinite(dropped.d2).all()
-    assert "without spread" in dropped.notes[0]
+    assert dropped.notes[0].code == "distance-items-without-spread"
+    assert dropped.notes[0].values == {"items": 1}
     assert (dropped.df == 2).all()
+    # each code has its sentence in present/messages.py (not the fallback "code: values")
+    from scalewright.present.messages import describe
+
+    for found in (few.notes[0], singular.notes[-1], dropped.notes[0]):
+        assert not describe(found).startswith(found.code)
+    assert describe(few.notes[0]).startswith("Mahalanobis distance not computed: 2 respondent(s) and 2 item(s)")
 
 
 def test_even_odd_hand_case():
@@ -139,7 +147,8 @@ def test_even_odd_hand_case():
 def test_even_odd_needs_three_scales_and_clips():
     two = even_odd_consistency([np.ones((4, 3)), np.ones((4, 2))])
     assert np.isnan(two.consistency).all()
-    assert "at least 3 scales" in two.notes[0]
+    assert two.notes[0].code == "halves-too-few-scales"
+    assert two.notes[0].values == {"scales": 2, "min_scales": 3}
     # odd means rise where even means fall: r = -1, corrected value clipped to -1
     contrary = even_odd_consistency([np.array([[1, 5]]), np.array([[3, 3]]), np.array([[5, 1]])])
     np.testing.assert_allclose(contrary.consistency, [-1.0])

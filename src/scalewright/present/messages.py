@@ -142,6 +142,23 @@ SCREENING: dict[str, str] = {
     "halves-not-checked": "uneven-halves: not checked, as even-odd consistency needs at least three scales of "
                           "two or more items",
     "profile-not-checked": "against-sample: not checked, as no respondent answered three items that vary",
+    # the indices that could not be computed, or only in part
+    "distance-too-few": "Mahalanobis distance not computed: {respondents} respondent(s) and {items} item(s); it "
+                        "needs at least 3 respondents and 1 item",
+    "distance-items-without-spread": "Mahalanobis distance leaves out {items} item(s) without spread in the sample",
+    "distance-too-few-respondents": "Mahalanobis distance not computed: {respondents} respondent(s) for {items} "
+                                    "item(s); the covariance matrix needs more respondents than items and every "
+                                    "pair of items answered together",
+    "distance-singular": "Mahalanobis distance not computed: the item covariance matrix is singular (some items "
+                         "are exact linear combinations of others)",
+    "distance-no-answers": "Mahalanobis distance not computed for {respondents} respondent(s) with no answer",
+    "distance-not-reweighted": "the Mahalanobis distance uses every respondent: too few were left to re-estimate it "
+                               "without the first pass's outliers",
+    "halves-no-scales": "even-odd consistency not computed: no scales",
+    "halves-too-few-scales": "even-odd consistency not computed: it needs at least {min_scales} scales with 2 or "
+                             "more items, and there are {scales}",
+    "halves-single-item-scales": "even-odd consistency leaves out {scales} scale(s) with a single item",
+    "durations-missing": "{respondents} respondent(s) without a duration were not checked for speed",
     # one account of identical answer rows, matching the flag count and the Duplicate records table
     "duplicates-account": "{groups} group(s) of identical answer rows ({respondents} respondents) are listed "
                           "under Duplicate records; {flagged} of these respondents carry duplicate-answers",

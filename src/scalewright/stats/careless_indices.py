@@ -16,6 +16,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..results import ResultMixin
 from .item_covariance import item_covariance
 
@@ -160,7 +161,7 @@ class EvenOddResult(ResultMixin):
     r_halves: np.ndarray
     consistency: np.ndarray
     scales_used: int
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages.py
 
 
 def even_odd_consistency(keyed_by_scale: Sequence[Any] | Mapping[str, Any]) -> EvenOddResult:
@@ -203,16 +204,15 @@ def even_odd_consistency(keyed_by_scale: Sequence[Any] | Mapping[str, Any]) -> E
     blocks = list(keyed_by_scale.values()) if isinstance(keyed_by_scale, Mapping) else list(keyed_by_scale)
     matrices = [as_answer_matrix(b, "keyed_by_scale") for b in blocks]
     if not matrices:
-        return EvenOddResult(np.array([]), np.array([]), 0, ("even-odd consistency not computed: no scales",))
+        return EvenOddResult(np.array([]), np.array([]), 0, (note("halves-no-scales"),))
     n = matrices[0].shape[0]
     if any(m.shape[0] != n for m in matrices):
         raise DataError("keyed_by_scale: every scale must have the same number of respondents")
     usable = [m for m in matrices if m.shape[1] >= 2]
     if len(usable) < 3:
         nan = np.full(n, np.nan)
-        return EvenOddResult(nan, nan.copy(), len(usable), (
-            f"even-odd consistency not computed: it needs at least 3 scales with 2 or more items, "
-            f"and there are {len(usable)}",))
+        return EvenOddResult(nan, nan.copy(), len(usable), (note("halves-too-few-scales", scales=len(usable),
+                                                                 min_scales=3),))
     odd = np.column_stack([_row_count_mean(m[:, 0::2])[1] for m in usable])
     even = np.column_stack([_row_count_mean(m[:, 1::2])[1] for m in usable])
     r = _rowwise_pearson(odd, even, min_pairs=3)
@@ -221,9 +221,9 @@ def even_odd_consistency(keyed_by_scale: Sequence[Any] | Mapping[str, Any]) -> E
     np.divide(2 * r, 1 + r, out=corrected, where=finite & (r > -1))
     corrected[finite & (r <= -1)] = -1.0
     np.clip(corrected, -1.0, 1.0, out=corrected, where=np.isfinite(corrected))
-    notes = []
+    notes: list[Note] = []
     if len(usable) < len(matrices):
-        notes.append(f"even-odd consistency leaves out {len(matrices) - len(usable)} scale(s) with a single item")
+        notes.append(note("halves-single-item-scales", scales=len(matrices) - len(usable)))
     return EvenOddResult(r, corrected, len(usable), tuple(notes))
 
 

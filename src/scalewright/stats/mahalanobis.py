@@ -7,6 +7,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..results import ResultMixin
 from .careless_indices import as_answer_matrix
 from .item_covariance import item_covariance
@@ -22,7 +23,7 @@ class MahalanobisResult(ResultMixin):
     p: np.ndarray
     df: np.ndarray
     items_used: tuple[int, ...]
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages.py
 
 
 def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisResult:
@@ -68,9 +69,8 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     nan = np.full(n, np.nan)
     if n < 3 or k == 0:
         return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), (),
-                                 (f"Mahalanobis distance not computed: {n} respondent(s) and {k} item(s); "
-                                  "it needs at least 3 respondents and 1 item",))
-    notes: list[str] = []
+                                 (note("distance-too-few", respondents=n, items=k),))
+    notes: list[Note] = []
     basis = np.ones(n, dtype=bool) if reference is None else np.asarray(reference, dtype=bool).reshape(-1)
     if basis.shape != (n,):
         raise DataError(f"reference: expected {n} true/false values, got {basis.size}")
@@ -78,19 +78,17 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     variances = np.diag(cov)
     usable = np.flatnonzero(np.isfinite(variances) & (variances > 1e-12))
     if len(usable) < k:
-        notes.append(f"Mahalanobis distance leaves out {k - len(usable)} item(s) without spread in the sample")
+        notes.append(note("distance-items-without-spread", items=k - len(usable)))
     if len(usable) == 0:
         return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), (), tuple(notes))
     x = x[:, usable]
     cov = cov[np.ix_(usable, usable)]
     if basis.sum() <= len(usable) or not np.isfinite(cov).all():
-        notes.append(f"Mahalanobis distance not computed: {int(basis.sum())} respondent(s) for {len(usable)} item(s); the "
-                     "covariance matrix needs more respondents than items and every pair of items answered together")
+        notes.append(note("distance-too-few-respondents", respondents=int(basis.sum()), items=len(usable)))
         return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), tuple(int(u) for u in usable), tuple(notes))
     eigenvalues = np.linalg.eigvalsh(cov)
     if eigenvalues[0] <= 1e-10 * max(eigenvalues[-1], 1e-300):
-        notes.append("Mahalanobis distance not computed: the item covariance matrix is singular (some items are "
-                     "exact linear combinations of others)")
+        notes.append(note("distance-singular"))
         return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), tuple(int(u) for u in usable), tuple(notes))
 
     answered = ~np.isnan(x)
@@ -123,5 +121,5 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     has = df > 0
     p[has] = chi2.sf(d2[has], df[has])
     if (~has).any():
-        notes.append(f"Mahalanobis distance not computed for {int((~has).sum())} respondent(s) with no answer")
+        notes.append(note("distance-no-answers", respondents=int((~has).sum())))
     return MahalanobisResult(d2, p, df, tuple(int(u) for u in usable), tuple(notes))

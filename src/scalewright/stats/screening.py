@@ -254,15 +254,14 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         if np.isfinite(second.p).any():
             distance = second
         else:
-            notes.append("the Mahalanobis distance uses every respondent: too few were left to re-estimate it "
-                         "without the first pass's outliers")
+            notes.append(note("distance-not-reweighted"))
     notes.extend(distance.notes)
     with np.errstate(invalid="ignore"):
         far = distance.p < thresholds.mahalanobis_p
         somewhat_far = distance.p < thresholds.mahalanobis_p_weak
 
     halves = even_odd_consistency(scales) if scales else EvenOddResult(
-        np.full(n, np.nan), np.full(n, np.nan), 0, ("even-odd consistency not computed: no scales",))
+        np.full(n, np.nan), np.full(n, np.nan), 0, (note("halves-no-scales"),))
     notes.extend(halves.notes)
     person_total = person_total_correlation(keyed)
     # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
@@ -304,8 +303,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
             not_checked.append(FLAG_FAST)
             notes.append(note("fast-no-durations", flag=FLAG_FAST))
         elif (~np.isfinite(duration)).any():
-            notes.append(f"{int((~np.isfinite(duration)).sum())} respondent(s) without a duration were not "
-                         "checked for speed")
+            notes.append(note("durations-missing", respondents=int((~np.isfinite(duration)).sum())))
 
     duplicates = duplicate_records(raw, ids)
     answered_items = p - np.isnan(raw).sum(axis=1)
