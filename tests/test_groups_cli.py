@@ -183,7 +183,9 @@ def test_tally_bad_expected_file(files, capsys, tmp_path, content, message):
     bad.write_text(content)
     before = data.read_bytes()
     code, out, err = run(capsys, "tally", data, "--scales", scales, "--columns", "site", "--expected", bad)
-    assert code != 0 and err.startswith("error:") and re.search(message, err), err
+    assert code != 0
+    assert err.startswith("error:"), err
+    assert re.search(message, err), err
     assert data.read_bytes() == before
 
 
