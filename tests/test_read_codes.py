@@ -15,7 +15,8 @@ from scalewright.answer_codes import MISSING
 from scalewright.data import read_responses
 from scalewright.errors import DataError
 from scalewright.read_codes import code_table, convert_codes, fits
-from scalewright.spec import ResponseFormat, load_spec
+from scalewright.spec import load_spec
+from scalewright.spec_model import ResponseFormat
 
 SCALES = """\
 version: 1

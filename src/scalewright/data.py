@@ -20,7 +20,7 @@ import pandas as pd
 
 from .answer_codes import ItemAnswers
 from .concurrency import worker_count
-from .errors import DataError, Problem, UsageError, quoted
+from .errors import DataError, Problem, UsageError, did_you_mean, quoted
 from .read_codes import (
     RecordTooLong,
     convert_codes,
@@ -31,7 +31,7 @@ from .read_codes import (
     rest_as_frame,
     without_empty_lines,
 )
-from .spec import ResponseFormat, ScaleSpec, did_you_mean, normalise_answer_text
+from .spec_model import ResponseFormat, ScaleSpec, normalise_answer_text
 from .text_cells import clear_missing_texts, is_plain_number
 
 DELIMITERS = (",", ";", "\t")

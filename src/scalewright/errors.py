@@ -1,6 +1,7 @@
 """Project exceptions. Each names the place of the problem; the CLI turns them into one ``error:`` line."""
 from __future__ import annotations
 
+import difflib
 import re
 from dataclasses import dataclass
 from typing import Any
@@ -25,6 +26,12 @@ def quoted(value: Any) -> str:
     if len(text) > MAX_QUOTED_CHARS:
         return repr(text[:MAX_QUOTED_CHARS]) + f"... ({len(text):,} characters)"
     return repr(text)
+
+
+def did_you_mean(word: str, choices: list[str]) -> str:
+    """'; did you mean X?' for the closest of ``choices`` (difflib's default cut-off), else ''."""
+    close = difflib.get_close_matches(str(word), [str(c) for c in choices], n=1, cutoff=0.6)
+    return f"; did you mean {close[0]!r}?" if close else ""
 
 
 @dataclass(frozen=True)

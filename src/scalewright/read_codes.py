@@ -16,7 +16,7 @@ import numpy as np
 
 from .answer_codes import MAX_SPAN, MISSING
 from .row_numbers import empty_lines, numbers_of_kept_rows
-from .spec import ResponseFormat
+from .spec_model import ResponseFormat
 
 #: the only text the parser reads as blank: any other text ("None", "NA", "-") is data, read as "no answer"
 #: only when the scale file lists it (``missing_texts``), so an answer labelled "None" is never lost

@@ -66,7 +66,7 @@ class ScaleFindings:
     """Every result about one scale. A result is None when its analysis could not be run (see ``notes``)."""
 
     name: str
-    scale: Any                      # spec.Scale
+    scale: Any                      # spec_model.Scale
     scores: Any                     # scoring.ScaleScores
     reliability: Any | None         # stats.reliability_groups.ScaleReliabilityReport
     shape: Any | None               # stats.shape.ShapeReport (overall and one SubgroupShapes per --by column)
@@ -214,7 +214,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     Parameters
     ----------
-    spec : scalewright.spec.ScaleSpec
+    spec : scalewright.spec_model.ScaleSpec
         The validated scale file.
     responses : scalewright.data.Responses
         The clean answers (respondents set aside with ``--exclude`` already removed).

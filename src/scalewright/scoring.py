@@ -13,7 +13,7 @@ from .data import Responses
 from .errors import UsageError
 from .files import neutralise_formula, write_atomic, write_atomic_with
 from .results import ResultMixin
-from .spec import Scale, ScaleSpec
+from .spec_model import Scale, ScaleSpec
 
 STANDARDIZE = ("pomp", "z")
 

@@ -69,7 +69,7 @@ def read_weights(frame: pd.DataFrame, column: str, line_numbers: np.ndarray, *, 
     Raises ``DataError`` naming row and column of the first bad weights and their total, unless ``lenient``.
     """
     if column not in frame.columns:
-        from .spec import did_you_mean
+        from .errors import did_you_mean
 
         raise DataError(Problem(file=path, line=1, message=f"the weight column {column!r} is not in the data file"
                                                             f"{did_you_mean(column, list(frame.columns))}"))

@@ -86,7 +86,7 @@ def _holds_formula(archive: zipfile.ZipFile, part: zipfile.ZipInfo) -> bool:
 def _chosen_sheet(path: Path, names: list[str], sheet: str | None) -> str:
     if sheet is not None:
         if sheet not in names:
-            from .spec import did_you_mean
+            from .errors import did_you_mean
 
             raise DataError(Problem(file=str(path), message=f"the workbook has no sheet {quoted(sheet)} (sheets: "
                                                             f"{', '.join(map(quoted, names))}){did_you_mean(sheet, names)}"))

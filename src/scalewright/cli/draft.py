@@ -30,7 +30,7 @@ def draft(data: Path, out: Path | None, force: bool, sheet: str | None) -> None:
         refuse_input_overwrite(out, [data])
         if out.exists() and not force:
             raise UsageError(f"{out} exists; add --force to replace it")
-    from ..spec import DEFAULT_MISSING_TEXTS
+    from ..spec_model import DEFAULT_MISSING_TEXTS
 
     result = draft_scales(read_table(data, sheet=sheet, missing_texts=DEFAULT_MISSING_TEXTS))
     out_name = str(out) if out is not None else "SCALE_FILE"

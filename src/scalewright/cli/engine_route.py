@@ -45,7 +45,7 @@ def _without_scales() -> Any:
     """What the block reader needs of a spec when no scale file is given: no items, no id, no groups."""
     from types import SimpleNamespace
 
-    from ..spec import DEFAULT_MISSING_TEXTS
+    from ..spec_model import DEFAULT_MISSING_TEXTS
 
     # without a scale file the default "no answer" texts apply, as on the whole-file route
     return SimpleNamespace(items=(), id_column=None, groups=(), group_levels={}, scales={}, path=None,

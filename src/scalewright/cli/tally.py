@@ -35,7 +35,7 @@ def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dic
 
 
 def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
-    from ..spec import DEFAULT_MISSING_TEXTS
+    from ..spec_model import DEFAULT_MISSING_TEXTS
 
     if not texts:
         return ()
@@ -48,7 +48,7 @@ def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
 def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
     from ..data import MISSING_CELLS, read_table
     from ..present.document import InputInfo
-    from ..spec import DEFAULT_MISSING_TEXTS
+    from ..spec_model import DEFAULT_MISSING_TEXTS
     from .common import chosen_sheet
 
     # without a scale file the default "no answer" texts apply, as they would with one that lists none

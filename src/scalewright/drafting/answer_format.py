@@ -4,7 +4,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from ..spec import normalise_answer_text
+from ..spec_model import normalise_answer_text
 from .columns import ParsedColumn
 from .results import AnswerFormat, ColumnProfile
 from .wordings import TEMPLATES, WORDINGS, canonical_phrase

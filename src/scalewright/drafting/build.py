@@ -11,7 +11,7 @@ import pandas as pd
 
 from ..errors import DataError
 from ..notes import Note, note
-from ..spec import SCALE_NAME
+from ..spec_model import SCALE_NAME
 from .answer_format import answer_values, infer_answer_format
 from .columns import ParsedColumn, looks_like_id_name, profile_column
 from .keying import correlation_clusters, correlation_threshold, scale_from_cluster

@@ -2,7 +2,7 @@
 from __future__ import annotations
 
 from ..errors import DataError
-from ..spec import normalise_answer_text
+from ..spec_model import normalise_answer_text
 
 # ----------------------------------------------------------------------------------------------------------
 # answer wordings: each phrase has a position on its family's ordered continuum; a template is a common
