@@ -6,11 +6,8 @@ import pandas as pd
 import pytest
 
 from scalewright.cli import main
-from scalewright.data import (
-    read_responses,
-    read_table,
-    sniff_delimiter,
-)
+from scalewright.data import read_responses
+from scalewright.data_file import read_table, sniff_delimiter
 from scalewright.errors import DataError
 from scalewright.spec import load_spec
 

@@ -7,7 +7,7 @@ import pytest
 import yaml
 
 from scalewright.cli import main
-from scalewright.data import read_table
+from scalewright.data_file import read_table
 from scalewright.drafting.build import draft_scales
 from scalewright.drafting.rules import CATEGORY, DATE, FREE_TEXT, ID, NUMBER
 from scalewright.notes import Note

@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 
 from scalewright.cli import main
-from scalewright.data import read_responses, read_table
+from scalewright.data import read_responses
+from scalewright.data_file import read_table
 from scalewright.errors import DataError
 from scalewright.spec import load_spec
 

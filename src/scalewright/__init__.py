@@ -23,7 +23,7 @@ _LAZY = {
     "load_spec": "spec",
     "check_spec": "spec",
     "read_responses": "data",
-    "read_table": "data",
+    "read_table": "data_file",
     "score_scales": "scoring",
     "write_scores": "scoring",
     "analyse_reliability": "analyses.reliability",

@@ -15,9 +15,10 @@ from typing import Any
 
 import numpy as np
 
-from .data import Responses, _decode_check, sniff_delimiter
+from .data_file import decode_check, sniff_delimiter
 from .errors import DataError, Problem
 from .notes import Note, note
+from .responses import Responses
 from .results import ResultMixin
 
 #: the column of ``screen --out`` that says whether a respondent was flagged
@@ -76,7 +77,7 @@ def read_exclusion_list(path: str | Path, *, id_column: str | None = None) -> Ex
     path = Path(path)
     if not path.exists():
         raise DataError(Problem(file=str(path), message="exclusion list not found"))
-    body = _decode_check(path, path.read_bytes()).decode("utf-8")
+    body = decode_check(path, path.read_bytes()).decode("utf-8")
     if path.suffix.lower() not in (".csv", ".tsv"):
         lines = [line.strip() for line in body.splitlines()]
         return ExclusionList(path=str(path), ids=tuple(line for line in lines if line and not line.startswith("#")))

@@ -216,7 +216,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     ----------
     spec : scalewright.spec_model.ScaleSpec
         The validated scale file.
-    responses : scalewright.data.Responses
+    responses : scalewright.responses.Responses
         The clean answers (respondents set aside with ``--exclude`` already removed).
     info : InputInfo
         Names and SHA-256 digests of the input files (for the provenance).

@@ -9,9 +9,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from .data import Responses
 from .errors import UsageError
 from .files import neutralise_formula, write_atomic, write_atomic_with
+from .responses import Responses
 from .results import ResultMixin
 from .spec_model import Scale, ScaleSpec
 

@@ -22,7 +22,7 @@ def draft(data: Path, out: Path | None, force: bool, sheet: str | None) -> None:
     Every choice is written with its evidence as a comment; check them against the questionnaire,
     then run `scalewright lint DATA --scales FILE`. A short summary goes to stderr.
     """
-    from ..data import read_table
+    from ..data_file import read_table
     from ..drafting.build import draft_scales
     from ..present.draft_yaml import draft_summary_lines, draft_yaml_text
 

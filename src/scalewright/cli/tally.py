@@ -46,7 +46,7 @@ def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
 
 
 def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
-    from ..data import MISSING_CELLS, read_table
+    from ..data_file import MISSING_CELLS, read_table
     from ..present.document import InputInfo
     from ..spec_model import DEFAULT_MISSING_TEXTS
     from .common import chosen_sheet

@@ -19,7 +19,9 @@ import numpy as np
 import pandas as pd
 
 from ..answer_codes import MISSING, ItemAnswers
-from ..data import SHOW_FIRST, _delimited_header, _ids_as_text, convert_item
+from ..data import SHOW_FIRST, convert_item
+from ..data_columns import ids_as_text
+from ..data_file import delimited_header
 from ..read_codes import BLANK_TEXTS, convert_codes, fits
 from ..text_cells import clear_missing_texts
 from .reading import ReadingCounts
@@ -78,7 +80,7 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
         raise CannotStream("an answer range is too wide for one-byte codes")
     if _is_parquet(path):
         return [lambda: _parquet_batches(path, spec, columns, batch_rows=batch_rows, source=source)]
-    sep, raw_names = _delimited_header(path, "\t" if path.suffix.lower() == ".tsv" else None)
+    sep, raw_names = delimited_header(path, "\t" if path.suffix.lower() == ".tsv" else None)
     stripped = [name.strip() for name in raw_names]
     missing = [name for name in [*spec.items, *columns] if name not in stripped]
     if missing:
@@ -251,7 +253,7 @@ def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
     found = ()
     if empty.any():
         found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),)
-    ids = _ids_as_text(raw[~empty]) if not empty.all() else pd.Series([], dtype=object)
+    ids = ids_as_text(raw[~empty]) if not empty.all() else pd.Series([], dtype=object)
     hashes = pd.util.hash_pandas_object(ids.astype(str), index=False).to_numpy()
     return hashes, found
 

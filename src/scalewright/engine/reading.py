@@ -103,7 +103,7 @@ def describe_value(value: Any, *, blanks_in_column: bool) -> Any:
 
 @dataclass(frozen=True)
 class ReadingOutcome:
-    """The merged reading counts of a file, checked; stands in for :class:`~scalewright.data.Responses`
+    """The merged reading counts of a file, checked; stands in for :class:`~scalewright.responses.Responses`
     where a command reports what reading found."""
 
     path: str
@@ -128,7 +128,7 @@ class ReadingOutcome:
         if codes:
             out.append(f"{codes} 'no answer' code(s) were read as missing")
         texts = sum(sum(counts.values()) for counts in self.counts.missing_texts.values())
-        if texts:  # worded as the whole-file reader words it (data.Responses.notes)
+        if texts:  # worded as the whole-file reader words it (responses.Responses.notes)
             from ..errors import quoted
 
             by_text: dict[str, int] = {}

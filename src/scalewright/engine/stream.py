@@ -9,7 +9,7 @@ from pathlib import Path
 from typing import Any
 
 from ..concurrency import worker_count
-from ..data import first_row_number
+from ..data_file import first_row_number
 from ..summaries import Summary
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
 from .plan import SummaryPlan, summarise_block
