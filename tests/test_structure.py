@@ -10,19 +10,12 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from scalewright.errors import DataError, UsageError
+from scalewright.stats.adequacy import bartlett_sphericity, complete_cases, correlation_of, kmo
+from scalewright.stats.factor_matching import assign_factors_to_scales
 from scalewright.stats.factoring import factor_correlations_from_transform, fit_factors
-from scalewright.stats.structure import (
-    analyse_structure,
-    assign_factors_to_scales,
-    bartlett_sphericity,
-    complete_cases,
-    correlation_of,
-    kmo,
-    parallel_analysis,
-    random_eigenvalues,
-    unidimensionality,
-    unidimensionality_of_correlation,
-)
+from scalewright.stats.parallel import parallel_analysis, random_eigenvalues
+from scalewright.stats.structure import analyse_structure
+from scalewright.stats.unidimensionality import unidimensionality, unidimensionality_of_correlation
 
 
 def simple_structure(n_factors: int, per_factor: int, loading: float = 0.7) -> np.ndarray:

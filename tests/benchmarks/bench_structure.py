@@ -34,7 +34,8 @@ def main() -> None:
     # factor_analyzer 0.5.1 passes an argument scikit-learn 1.7 renamed; harmless below 1.8
     warnings.filterwarnings("ignore", message="'force_all_finite' was renamed", category=FutureWarning)
 
-    from scalewright.stats.structure import analyse_structure, random_eigenvalues
+    from scalewright.stats.parallel import random_eigenvalues
+    from scalewright.stats.structure import analyse_structure
 
     rng = np.random.default_rng(2026)
     n, p = args.rows, args.items

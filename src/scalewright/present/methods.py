@@ -147,7 +147,7 @@ def thresholds_used(results: Any) -> list[Threshold]:
     from ..stats import shape as shape_module
     from ..stats.reliability_flags import MISKEY_MIN_LOADING
     from ..stats.screen_rules import WEAK_INDEX_MAX_EXPECTED_BELOW
-    from ..stats.structure import MIN_EIGEN_RATIO, MIN_KMO
+    from ..stats.structure_results import MIN_EIGEN_RATIO, MIN_KMO
 
     options = results.options
     out: list[Threshold] = [

@@ -8,13 +8,11 @@ project; the factor model comes from factor_analyzer through :mod:`scalewright.s
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
 from ..errors import DataError, UsageError
-from ..results import ResultMixin, to_jsonable
 from .adequacy import (
     BartlettResult,
     KMOResult,
@@ -24,289 +22,24 @@ from .adequacy import (
     kmo,
     log_determinant,
 )
-from .factoring import FactorSolution, fit_factors
+from .factor_matching import _say_against, assign_factors_to_scales, loading_flags
+from .factoring import fit_factors
 from .parallel import (
     DEFAULT_SEED,
-    ParallelAnalysisResult,
     parallel_analysis,
-    random_eigenvalues,
 )
+from .structure_results import (
+    MAX_CROSS_LOADING,
+    MIN_EIGEN_RATIO,
+    MIN_KMO,
+    MIN_LOADING,
+    StructureFlag,
+    StructureResult,
+    UnidimensionalityResult,
+)
+from .unidimensionality import unidimensionality_of_correlation
 
-__all__ = [
-    "BartlettResult", "KMOResult", "ParallelAnalysisResult", "StructureFlag", "StructureResult",
-    "UnidimensionalityResult", "analyse_structure", "assign_factors_to_scales", "bartlett_sphericity",
-    "complete_cases", "correlation_of", "kmo", "loading_flags", "parallel_analysis", "random_eigenvalues",
-    "unidimensionality", "unidimensionality_of_correlation",
-]
-
-#: common practice, no source: a salient loading is at least .40; a cross-loading above .30 muddies an item
-MIN_LOADING = 0.40
-MAX_CROSS_LOADING = 0.30
-#: Kaiser (1974) calls a KMO below .50 unacceptable
-MIN_KMO = 0.50
-#: common practice, no source: a first-to-second eigenvalue ratio of 3 or more reads as one dominant dimension
-MIN_EIGEN_RATIO = 3.0
-
-
-# --------------------------------------------------------------------------- result objects
-
-@dataclass(frozen=True)
-class UnidimensionalityResult(ResultMixin):
-    """How strongly one dimension dominates a scale's items.
-
-    ``eigen_ratio`` is the first eigenvalue of the item correlation matrix over the second;
-    ``variance_one_factor`` the share of the items' total variance a one-factor model explains.
-    """
-
-    k: int
-    n_used: int
-    n_set_aside: int
-    eigenvalues: np.ndarray
-    eigen_ratio: float | None
-    variance_one_factor: float | None
-    loadings_one_factor: np.ndarray
-    notes: tuple[str, ...] = ()
-
-    def to_dict(self) -> dict[str, Any]:
-        return {"k": self.k, "n_used": self.n_used, "n_set_aside": self.n_set_aside,
-                "eigen_ratio": to_jsonable(self.eigen_ratio),
-                "variance_one_factor": to_jsonable(self.variance_one_factor),
-                "eigenvalues": to_jsonable(self.eigenvalues), "notes": list(self.notes)}
-
-
-@dataclass(frozen=True)
-class StructureFlag(ResultMixin):
-    """Something about one item (or, with ``item`` None, one scale) a researcher should look at."""
-
-    item: str | None
-    code: str
-    message: str
-    scale: str | None = None
-
-
-@dataclass(frozen=True)
-class StructureResult(ResultMixin):
-    """Everything ``scalewright structure`` reports. ``to_dict`` is the JSON contract."""
-
-    items: tuple[str, ...]
-    item_scale: dict[str, str]
-    n_used: int
-    n_set_aside: int
-    kmo: KMOResult
-    bartlett: BartlettResult
-    parallel: ParallelAnalysisResult | None
-    solution: FactorSolution | None
-    n_factors_rule: str
-    factor_for_scale: dict[str, int | None]
-    unidimensionality: dict[str, UnidimensionalityResult]
-    flags: tuple[StructureFlag, ...]
-    notes: tuple[str, ...]
-    min_loading: float = MIN_LOADING
-    max_cross_loading: float = MAX_CROSS_LOADING
-    dropped_items: tuple[str, ...] = field(default=())
-    #: the item correlation matrix analysed (of ``items``), ``pearson`` or ``polychoric``, and its notes
-    correlation: np.ndarray | None = None
-    correlation_type: str = "pearson"
-    correlation_notes: tuple[Any, ...] = ()
-    missing: Any = None  # stats.missing.MissingHandling
-
-    @property
-    def factor_names(self) -> tuple[str, ...]:
-        m = 0 if self.solution is None else self.solution.n_factors
-        return tuple(f"F{j + 1}" for j in range(m))
-
-    def to_dict(self) -> dict[str, Any]:
-        names = self.factor_names
-        solution = self.solution
-        return {
-            "n_used": self.n_used,
-            "n_set_aside": self.n_set_aside,
-            "items": list(self.items),
-            "dropped_items": list(self.dropped_items),
-            "kmo": to_jsonable(self.kmo.overall),
-            "kmo_items": {item: to_jsonable(v) for item, v in zip(self.items, self.kmo.per_item, strict=True)},
-            "bartlett": self.bartlett.to_dict(),
-            "parallel": None if self.parallel is None else self.parallel.to_dict(),
-            "n_factors": len(names),
-            "n_factors_rule": self.n_factors_rule,
-            "method": None if solution is None else solution.method,
-            "rotation": None if solution is None else solution.rotation,
-            "factors": list(names),
-            "loadings": {} if solution is None else
-            {item: to_jsonable(row) for item, row in zip(self.items, solution.loadings, strict=True)},
-            "communalities": {} if solution is None else
-            {item: to_jsonable(v) for item, v in zip(self.items, solution.communalities, strict=True)},
-            "variance_explained": [] if solution is None else to_jsonable(solution.variance_explained),
-            "factor_correlations": [] if solution is None else to_jsonable(solution.factor_correlations),
-            "factor_for_scale": {scale: (None if j is None else names[j]) for scale, j in self.factor_for_scale.items()},
-            "unidimensionality": {scale: u.to_dict() for scale, u in self.unidimensionality.items()},
-            "thresholds": {"min_loading": self.min_loading, "max_cross_loading": self.max_cross_loading,
-                           "min_kmo": MIN_KMO, "min_eigen_ratio": MIN_EIGEN_RATIO},
-            "flags": [{"item": f.item, "scale": f.scale, "code": f.code, "message": f.message} for f in self.flags],
-            "notes": [*self.notes, *([] if self.missing is None else self.missing.note_dicts)],
-            "correlation_type": self.correlation_type,
-            "correlation": {} if self.correlation is None else
-            {a: {b: to_jsonable(self.correlation[i, j]) for j, b in enumerate(self.items)}
-             for i, a in enumerate(self.items)},
-            "correlation_notes": [n.to_dict() for n in self.correlation_notes],
-            **({} if self.missing is None else self.missing.to_dict()),
-        }
-
-
-# --------------------------------------------------------------------------- building blocks
-
-def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method: str = "minres",
-                                     n_set_aside: int = 0) -> UnidimensionalityResult:
-    r"""Unidimensionality summary of one scale from its item correlation matrix.
-
-    .. math::
-
-        \text{eigen ratio} = \lambda_1 / \lambda_2, \qquad
-        \text{variance one factor} = \frac{1}{k}\sum_{j=1}^{k} \hat\lambda_{j}^2
-
-    with :math:`\lambda_1 \ge \lambda_2` the largest eigenvalues of the k x k correlation matrix and
-    :math:`\hat\lambda_j` the loadings of a one-factor model (``minres`` or ``ml``).
-
-    Notes
-    -----
-    Common practice, no source: a ratio of 3 or more reads as one dominant dimension. A one-factor model
-    needs at least three items to be identified, so ``variance_one_factor`` is None below that.
-
-    References
-    ----------
-    .. [1] Lord, F. M. (1980). Applications of Item Response Theory to Practical Testing Problems. Erlbaum.
-       (the eigenvalue-ratio index; recalled from memory)
-    """
-    correlation = np.asarray(correlation, dtype=float)
-    k = correlation.shape[0]
-    notes: list[str] = []
-    eigenvalues = np.linalg.eigvalsh(correlation)[::-1] if k else np.empty(0)
-    ratio = None
-    share = None
-    loadings = np.full(k, np.nan)
-    if k < 2:
-        notes.append("a scale of one item has no dimensionality to check")
-    elif eigenvalues[1] <= 1e-12:
-        notes.append("the second eigenvalue is zero (perfectly correlated items): the eigenvalue ratio is undefined")
-    else:
-        ratio = float(eigenvalues[0] / eigenvalues[1])
-    if k >= 3 and n > k and log_determinant(correlation) is not None:
-        solution = fit_factors(correlation, 1, method=method, rotation="none")
-        loadings = solution.loadings[:, 0]
-        share = float(solution.variance_explained[0])
-        notes.extend(solution.notes)
-    elif k >= 3:
-        notes.append("the one-factor model needs a non-singular correlation matrix and more respondents than items")
-    elif k == 2:
-        notes.append("a one-factor model of two items is not identified: variance explained by one factor left out")
-    return UnidimensionalityResult(k=k, n_used=int(n), n_set_aside=int(n_set_aside), eigenvalues=eigenvalues,
-                                   eigen_ratio=ratio, variance_one_factor=share, loadings_one_factor=loadings,
-                                   notes=tuple(notes))
-
-
-def unidimensionality(keyed: np.ndarray, *, method: str = "minres") -> UnidimensionalityResult:
-    """Unidimensionality summary of one scale from its keyed n x k item matrix (listwise complete cases).
-
-    See :func:`unidimensionality_of_correlation` for the statistics.
-    """
-    complete, set_aside = complete_cases(keyed)
-    n, k = complete.shape
-    notes = []
-    if set_aside:
-        notes.append(f"{set_aside} respondent(s) with a missing answer set aside (listwise)")
-    if n < 3:
-        return UnidimensionalityResult(k=k, n_used=n, n_set_aside=set_aside, eigenvalues=np.full(k, np.nan),
-                                       eigen_ratio=None, variance_one_factor=None, loadings_one_factor=np.full(k, np.nan),
-                                       notes=tuple(notes + [f"only {n} complete respondent(s): at least 3 are needed"]))
-    constant = np.ptp(complete, axis=0) == 0
-    if constant.any():
-        return UnidimensionalityResult(k=k, n_used=n, n_set_aside=set_aside, eigenvalues=np.full(k, np.nan),
-                                       eigen_ratio=None, variance_one_factor=None, loadings_one_factor=np.full(k, np.nan),
-                                       notes=tuple(notes + [f"{int(constant.sum())} item(s) have no variance: "
-                                                            "correlations are undefined"]))
-    result = unidimensionality_of_correlation(correlation_of(complete), n, method=method, n_set_aside=set_aside)
-    return UnidimensionalityResult(**{**result.__dict__, "notes": tuple(notes) + result.notes})
-
-
-def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
-                             scales: Sequence[str]) -> dict[str, int | None]:
-    """Give each scale the factor its items load on most, one factor per scale (Hungarian assignment).
-
-    The assignment maximises the summed absolute loadings of each scale's items on its factor
-    (Kuhn, 1955, Naval Research Logistics Quarterly 2:83-97, via scipy's ``linear_sum_assignment``).
-    With fewer factors than scales, the scales left over get None.
-    """
-    from scipy.optimize import linear_sum_assignment
-
-    weight = np.zeros((len(scales), loadings.shape[1]))
-    for s, scale in enumerate(scales):
-        rows = [i for i, name in enumerate(item_scale) if name == scale]
-        weight[s] = np.abs(loadings[rows]).sum(axis=0)
-    scale_rows, factor_cols = linear_sum_assignment(weight, maximize=True)
-    mapping: dict[str, int | None] = {scale: None for scale in scales}
-    for s, j in zip(scale_rows, factor_cols, strict=True):
-        mapping[scales[s]] = int(j)
-    return mapping
-
-
-def _say_against(value: float, cutoff: float, kind: str = "bounded", decimals: int = 2) -> tuple[str, str]:
-    # a value beside its cut-off, with the decimals the comparison needs to read true ("3.0 is below 3" never);
-    # the one rule for that lives with the number formatting
-    from ..present.numbers import format_against
-
-    if not np.isfinite(value):
-        return "undefined", _say(cutoff)
-    return format_against(value, cutoff, kind, decimals)
-
-
-def _say(value: float) -> str:
-    # message text only (APA style, no leading zero); the numbers themselves stay unrounded in the result
-    if not np.isfinite(value):
-        return "undefined"
-    text = f"{value:.2f}"
-    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
-
-
-def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequence[str],
-                  factor_for_scale: Mapping[str, int | None], *, min_loading: float = MIN_LOADING,
-                  max_cross_loading: float = MAX_CROSS_LOADING) -> list[StructureFlag]:
-    """Flags for items that sit badly with their own scale's factor.
-
-    ``off-scale-factor``: the largest absolute loading is on another factor; ``weak-loading``: below
-    ``min_loading`` on the own factor; ``negative-loading``: negative on the own factor after keying (a
-    reverse item not reversed, or reversed by mistake); ``cross-loading``: above ``max_cross_loading`` on
-    another factor. Thresholds are common practice, no source.
-    """
-    flags: list[StructureFlag] = []
-    for i, (item, scale) in enumerate(zip(items, item_scale, strict=True)):
-        own = factor_for_scale.get(scale)
-        if own is None:
-            continue
-        row = loadings[i]
-        largest = int(np.argmax(np.abs(row)))
-        if largest != own:
-            flags.append(StructureFlag(item, "off-scale-factor",
-                                       f"loads most on F{largest + 1} ({_say(row[largest])}), not on F{own + 1} of "
-                                       f"its scale {scale} ({_say(row[own])}); check that the item belongs to {scale}",
-                                       scale))
-        if abs(row[own]) < min_loading:
-            size, cut = _say_against(abs(row[own]), min_loading)
-            shown = f"-{size}" if row[own] < 0 else size
-            flags.append(StructureFlag(item, "weak-loading",
-                                       f"loads {shown} on F{own + 1} of its scale {scale}, below {cut}"
-                                       + (" in size" if row[own] < 0 else ""), scale))
-        if row[own] < 0 and abs(row[own]) >= min_loading:
-            flags.append(StructureFlag(item, "negative-loading",
-                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale} after keying; "
-                                       "check whether it should be reverse-keyed", scale))
-        for j, value in enumerate(row):
-            if j != own and abs(value) > max_cross_loading:
-                size, cut = _say_against(abs(value), max_cross_loading)
-                shown = f"-{size}" if value < 0 else size
-                flags.append(StructureFlag(item, "cross-loading",
-                                           f"also loads {shown} on F{j + 1}, above {cut}"
-                                           + (" in size" if value < 0 else ""), scale))
-    return flags
+__all__ = ["StructureResult", "analyse_structure"]
 
 
 # --------------------------------------------------------------------------- the whole analysis
