@@ -29,12 +29,8 @@ from scalewright.stats.score_grid import (
     histogram_cells,
     infer_resolution,
 )
-from scalewright.stats.shape import (
-    SHAPES,
-    describe_by_subgroup,
-    describe_scores,
-    dip_test_jittered,
-)
+from scalewright.stats.shape import describe_by_subgroup, describe_scores
+from scalewright.stats.shape_rule import SHAPES, dip_test_jittered
 
 
 def _study_module():
@@ -404,7 +400,7 @@ def test_two_real_camps_on_a_fine_grained_score_stay_bimodal():
 
 def test_shape_evidence_near_the_skew_cutoff_reads_true():
     # a skewness of -0.3996 is within +-0.4; two decimals would show "-0.40, within +-0.4"
-    from scalewright.stats.shape import ShapeEvidence, shape_label
+    from scalewright.stats.shape_rule import ShapeEvidence, shape_label
 
     features = ShapeEvidence(band_edges=(), band_counts=(1.0, 1.0, 1.0), band_density=(), flat_w=0.5,
                              valley_ratio=float("nan"), valley_p=float("nan"), valley_at=float("nan"), peaks_at=(),
@@ -418,7 +414,6 @@ def test_shape_evidence_near_the_skew_cutoff_reads_true():
 def test_dip_test_on_more_scores_than_diptest_tabulates_warns_nobody():
     # diptest tabulates p-values up to n = 72,000 and warns beyond; the warning must not reach the user
     # (warnings are errors in this test run, so a leak fails here)
-    from scalewright.stats.shape import dip_test_jittered
 
     values = np.random.default_rng(4).integers(1, 6, size=80_000).astype(float)
     result = dip_test_jittered(values, resolution=1.0)
