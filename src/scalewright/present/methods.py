@@ -145,6 +145,7 @@ def _v(value: Any, kind: str = "num", decimals: int = 2) -> str:
 def thresholds_used(results: Any) -> list[Threshold]:
     """Every cut-off behind a flag, label or suppression in ``results`` (a ``ReportResults``)."""
     from ..stats import shape as shape_module
+    from ..stats import shape_rule
     from ..stats.reliability_flags import MISKEY_MIN_LOADING
     from ..stats.screen_rules import WEAK_INDEX_MAX_EXPECTED_BELOW
     from ..stats.structure_results import MIN_EIGEN_RATIO, MIN_KMO
@@ -182,19 +183,19 @@ def thresholds_used(results: Any) -> list[Threshold]:
                       "Hu & Bentler (1999), Structural Equation Modeling 6, 1-55 (conventions, not tests)")]
     out += [
         Threshold("Distribution", "skewed when |G1| reaches (and exceeds twice its SE)",
-                  _v(shape_module.SKEW_THRESHOLD),
+                  _v(shape_rule.SKEW_THRESHOLD),
                   "lowered from Bulmer's (1979, Principles of Statistics) 0.5 because a bounded answer range damps "
                   "the skewness of rating scores; this project's choice, measured in docs/shape.md"),
-        Threshold("Distribution", "uniform when the bands' excess w stays below", _v(shape_module.FLAT_W),
+        Threshold("Distribution", "uniform when the bands' excess w stays below", _v(shape_rule.FLAT_W),
                   "Cohen (1988): w = .1 small, .3 medium"),
         Threshold("Distribution", "bimodal: valley density at most this share of the smaller peak",
-                  _v(shape_module.VALLEY_RATIO), "this project's rule (docs/shape.md)"),
+                  _v(shape_rule.VALLEY_RATIO), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "bimodal: valley lower than the peak, one-sided binomial p below",
-                  _v(shape_module.VALLEY_ALPHA, "p"), "this project's rule (docs/shape.md)"),
+                  _v(shape_rule.VALLEY_ALPHA, "p"), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "bimodal: each peak window holds at least this share of respondents",
-                  f"{100 * shape_module.MIN_PEAK_SHARE:g}%", "this project's rule (docs/shape.md): heaping"),
+                  f"{100 * shape_rule.MIN_PEAK_SHARE:g}%", "this project's rule (docs/shape.md): heaping"),
         Threshold("Distribution", "respondents expected per score band of the shape rule",
-                  _v(shape_module.BAND_EXPECTED, "int"), "this project's rule (docs/shape.md)"),
+                  _v(shape_rule.BAND_EXPECTED, "int"), "this project's rule (docs/shape.md)"),
         Threshold("Distribution", "floor / ceiling effect: share at the lowest / highest score above",
                   f"{100 * shape_module.FLOOR_CEILING_SHARE:g}%", "Terwee et al. (2007)"),
         Threshold("Distribution", "smallest sample given a shape label", _v(shape_module.MIN_N_FOR_LABEL, "int"),

@@ -75,7 +75,7 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
         return f"{FIGURES}/{name}"
 
     from .figures_groups import diverging_bars, item_bar_labels
-    from .report_content import scale_label
+    from .report_scales import scale_label
 
     inputs = list(inputs)
     figures: dict[tuple[str, ...], FigureBlock] = {}
