@@ -77,14 +77,14 @@ class BuiltReport:
 @pytest.fixture(scope="module")
 def built(tmp_path_factory) -> BuiltReport:
     """One report on the hostile survey, built once for every test of this module (through the CLI's function)."""
-    from scalewright.cli.report import build_report_folder
+    from scalewright.cli.report import report_from_files
 
     folder = tmp_path_factory.mktemp("hostile")
     data, scales = hostile_inputs(folder)
     out = folder / "report"
     stderr = io.StringIO()
     with contextlib.redirect_stderr(stderr):
-        results = build_report_folder(data, scales, out, iterations=5)
+        results = report_from_files(data, scales, out, iterations=5)
     return BuiltReport(folder=out, results=results, stderr=stderr.getvalue())
 
 

@@ -65,13 +65,13 @@ def write_demo_scores(folder: str | Path, data_path: Path, scales_path: Path) ->
 def demo(out: Path, seed: int, n: int, force: bool, iterations: int, quiet: bool) -> None:
     """Write a fictional staff climate survey and its scale file, and build the full report from them.
     """
-    from .report import build_report_folder
+    from .report import report_from_files
 
     folder = prepare_folder(out, force=force)
     data_path, scales_path = write_demo_inputs(folder, seed=seed, n=n)
     # the report writes the scored file (scores.csv) itself, with every other output
-    build_report_folder(data_path, scales_path, folder, force=True, seed=seed, iterations=iterations,
-                        duration_column=DURATION_COLUMN, quiet=quiet)
+    report_from_files(data_path, scales_path, folder, force=True, seed=seed, iterations=iterations,
+                      duration_column=DURATION_COLUMN, quiet=quiet)
     click.echo(f"wrote {data_path}  (data: {n} fictional respondents, seed {seed})")
     click.echo(f"wrote {scales_path}  (scale file)")
     click.echo(f"wrote {folder / SCORES_NAME}  (scored file: one row per respondent, in data order)")

@@ -19,41 +19,29 @@ from .common import (
 )
 
 
-def build_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
-                        exclude: Path | None = None, decimals: int = 2, force: bool = False,
-                        seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
-                        min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
-                        duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
-                        missing: str = "listwise", png: bool = False, max_levels: int | None = None) -> Any:
-    """Read the inputs, run every analysis and write the report folder; returns the ``ReportResults``."""
+def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
+                      exclude: Path | None = None, decimals: int = 2, force: bool = False,
+                      seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
+                      min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
+                      duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
+                      missing: str = "listwise", png: bool = False, max_levels: int | None = None) -> Any:
+    """Read the inputs, turn the options into ``ReportOptions`` and build the report folder; returns the
+    ``ReportResults`` (:func:`scalewright.report_folder.build_report_folder` does the work)."""
     from ..present.progress import Progress
-    from ..present.report_files import (
-        WRITE_STEPS,
-        prepare_report_folder,
-        write_report_folder,
-        write_single_page,
-    )
-    from ..report import DEFAULT_SEED, STEPS, ReportOptions, build_report, check_columns
+    from ..report import DEFAULT_SEED, ReportOptions
+    from ..report_folder import build_report_folder, report_folder_steps
 
-    progress = Progress(1 + len(STEPS) + len(WRITE_STEPS), quiet=quiet)
+    progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(), seed=DEFAULT_SEED if seed is None else seed,
-                            iterations=iterations, confidence_level=confidence_level, min_group=min_group,
-                            min_cell=min_cell, lenient=lenient, exclude=None if exclude is None else str(exclude),
-                            decimals=decimals, duration_column=duration_column, duration_unit=duration_unit,
-                            missing=missing)
-    # every check of the inputs and options runs before the folder is touched
-    check_columns(inputs.responses, options)
-    folder = prepare_report_folder(out, force=force, inputs=[data, scales, exclude], single_file=single_file)
-    results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
-                           input_notes=inputs.notes, n_excluded=inputs.excluded, progress=progress.step)
-    if single_file:
-        write_single_page(results, folder, decimals=decimals, inputs=[data, scales, exclude],
-                          progress=progress.step)
-    else:
-        write_report_folder(results, folder, decimals=decimals, inputs=[data, scales, exclude],
-                            progress=progress.step, png=png)
+    options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(),
+                            seed=DEFAULT_SEED if seed is None else seed, iterations=iterations,
+                            confidence_level=confidence_level, min_group=min_group, min_cell=min_cell,
+                            lenient=lenient, exclude=None if exclude is None else str(exclude), decimals=decimals,
+                            duration_column=duration_column, duration_unit=duration_unit, missing=missing)
+    results = build_report_folder(inputs, out, options=options, sources=[data, scales, exclude], force=force,
+                                  single_file=single_file, png=png, progress=progress.step)
+    folder = Path(out)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
 
@@ -102,7 +90,7 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
     only DIR/index.html, with every figure inside it.
     """
-    build_report_folder(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
+    report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                         min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
                         single_file=single_file, missing=resolve_missing(missing), png=png)
