@@ -398,7 +398,10 @@ def test_fewer_factors_than_scales_leaves_a_scale_without_factor():
     x, names, item_scale = make_three_scales(seed=33)
     result = analyse_structure(x, item_names=names, item_scale=item_scale, n_factors=2, iterations=10)
     assert list(result.factor_for_scale.values()).count(None) == 1
-    assert any("fewer factors" in note for note in result.notes)
+    missing_factor = [n for n in result.notes if getattr(n, "code", None) == "scales-without-factor"]
+    assert len(missing_factor) == 1
+    assert missing_factor[0].values["n_factors"] == 2
+    assert missing_factor[0].values["n_scales"] == 3
 
 
 def test_unidimensionality_closed_forms():
@@ -423,7 +426,7 @@ def test_unidimensionality_alone_handles_missing_and_small_scales():
     summary = unidimensionality(x)
     assert summary.n_used == 193
     assert summary.n_set_aside == 7
-    assert any("set aside" in note for note in summary.notes)
+    assert [n.values["set_aside"] for n in summary.notes if n.code == "scale-listwise-set-aside"] == [7]
     two = unidimensionality(x[:, :2])
     assert two.eigen_ratio is not None
     assert two.variance_one_factor is None
@@ -450,7 +453,8 @@ def test_missing_answers_are_set_aside_listwise_and_counted():
                                   n_factors=3, iterations=10)
     assert result.n_used == 597
     assert result.n_set_aside == 3
-    assert any("3 of 600" in note for note in result.notes)
+    set_aside = [n.values for n in result.notes if getattr(n, "code", None) == "listwise-set-aside"]
+    assert set_aside == [{"set_aside": 3, "n_rows": 600}]
     assert result.kmo.overall == pytest.approx(reference.kmo.overall, rel=1e-12)
     np.testing.assert_allclose(result.solution.loadings, reference.solution.loadings, atol=1e-10)
 

@@ -119,9 +119,10 @@ def structure_section(results: Any, figures: FigureMap, decimals: int) -> Sectio
         blocks.append(FigureRow(row))
     blocks.append(Details("Adequacy, parallel analysis and loadings",
                           tuple(TableBlock(t) for t in structure_tables(structure))))
+    from .messages import describe
     from .missing import missing_lines
 
-    notes = (*structure.notes, *missing_lines(structure.missing))
+    notes = (*(describe(n) for n in structure.notes), *missing_lines(structure.missing))
     if notes:
         blocks.append(Bullets(tuple(notes), tone="note"))
     return Section(anchor="structure", title="Structure", blocks=tuple(blocks))

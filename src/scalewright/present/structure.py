@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from .messages import describe, flag_message
 from .missing import missing_lines
 from .numbers import format_value
 from .table import Table
@@ -31,7 +32,7 @@ def _adequacy_table(result: Any) -> Table:
                bartlett.df, bartlett.p),),
         kinds={"respondents used": "int", "set aside": "int", "items": "int", "KMO": "bounded", "df": "int",
                "p": "p"},
-        notes=(*result.notes, *_correlation_sentences(result), *missing_lines(getattr(result, "missing", None)),
+        notes=(*(describe(n) for n in result.notes), *_correlation_sentences(result), *missing_lines(getattr(result, "missing", None)),
                "KMO below .50 is unacceptable for factor analysis (Kaiser, 1974); Bartlett's test asks whether "
                "the items are correlated at all (Bartlett, 1950)."),
         key="adequacy")
@@ -101,7 +102,8 @@ def _scales_table(result: Any) -> Table | None:
         j = result.factor_for_scale.get(scale)
         rows.append((scale, summary.k, names[j] if j is not None else "–", summary.eigen_ratio,
                      summary.variance_one_factor))
-    notes = [f"{scale}: {note}" for scale, summary in result.unidimensionality.items() for note in summary.notes]
+    notes = [f"{scale}: {describe(note)}" for scale, summary in result.unidimensionality.items()
+             for note in summary.notes]
     notes.append("eigenvalue ratio = first over second eigenvalue of the scale's item correlations; 3 or more "
                  "reads as one dominant dimension (common practice)")
     return Table(title="Scales and factors", columns=("scale", "items", "factor", "eigenvalue ratio",
@@ -112,7 +114,7 @@ def _scales_table(result: Any) -> Table | None:
 
 
 def _flags_table(result: Any) -> Table:
-    rows = tuple((flag.item or "(scale)", flag.scale or "", flag.code, flag.message) for flag in result.flags)
+    rows = tuple((flag.item or "(scale)", flag.scale or "", flag.code, flag_message(flag)) for flag in result.flags)
     return Table(title="Flags", columns=("item", "scale", "code", "message"), rows=rows,
                  kinds={"item": "text", "scale": "text", "code": "text", "message": "text"},
                  notes=() if rows else ("nothing flagged",), key="flags")

@@ -29,24 +29,6 @@ def assign_factors_to_scales(loadings: np.ndarray, item_scale: Sequence[str],
     return mapping
 
 
-def _say_against(value: float, cutoff: float, kind: str = "bounded", decimals: int = 2) -> tuple[str, str]:
-    # a value beside its cut-off, with the decimals the comparison needs to read true ("3.0 is below 3" never);
-    # the one rule for that lives with the number formatting
-    from ..present.numbers import format_against
-
-    if not np.isfinite(value):
-        return "undefined", _say(cutoff)
-    return format_against(value, cutoff, kind, decimals)
-
-
-def _say(value: float) -> str:
-    # message text only (APA style, no leading zero); the numbers themselves stay unrounded in the result
-    if not np.isfinite(value):
-        return "undefined"
-    text = f"{value:.2f}"
-    return text.replace("0.", ".", 1) if text.startswith(("0.", "-0.")) else text
-
-
 def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequence[str],
                   factor_for_scale: Mapping[str, int | None], *, min_loading: float = MIN_LOADING,
                   max_cross_loading: float = MAX_CROSS_LOADING) -> list[StructureFlag]:
@@ -65,25 +47,18 @@ def loading_flags(loadings: np.ndarray, items: Sequence[str], item_scale: Sequen
         row = loadings[i]
         largest = int(np.argmax(np.abs(row)))
         if largest != own:
-            flags.append(StructureFlag(item, "off-scale-factor",
-                                       f"loads most on F{largest + 1} ({_say(row[largest])}), not on F{own + 1} of "
-                                       f"its scale {scale} ({_say(row[own])}); check that the item belongs to {scale}",
-                                       scale))
+            flags.append(StructureFlag(item, "off-scale-factor", "", scale,
+                                       values={"factor": largest + 1, "loading": float(row[largest]),
+                                               "own_factor": own + 1, "own_loading": float(row[own])}))
         if abs(row[own]) < min_loading:
-            size, cut = _say_against(abs(row[own]), min_loading)
-            shown = f"-{size}" if row[own] < 0 else size
-            flags.append(StructureFlag(item, "weak-loading",
-                                       f"loads {shown} on F{own + 1} of its scale {scale}, below {cut}"
-                                       + (" in size" if row[own] < 0 else ""), scale))
+            flags.append(StructureFlag(item, "weak-loading", "", scale,
+                                       values={"factor": own + 1, "loading": float(row[own]), "cutoff": min_loading}))
         if row[own] < 0 and abs(row[own]) >= min_loading:
-            flags.append(StructureFlag(item, "negative-loading",
-                                       f"loads {_say(row[own])} on F{own + 1} of its scale {scale} after keying; "
-                                       "check whether it should be reverse-keyed", scale))
+            flags.append(StructureFlag(item, "negative-loading", "", scale,
+                                       values={"factor": own + 1, "loading": float(row[own])}))
         for j, value in enumerate(row):
             if j != own and abs(value) > max_cross_loading:
-                size, cut = _say_against(abs(value), max_cross_loading)
-                shown = f"-{size}" if value < 0 else size
-                flags.append(StructureFlag(item, "cross-loading",
-                                           f"also loads {shown} on F{j + 1}, above {cut}"
-                                           + (" in size" if value < 0 else ""), scale))
+                flags.append(StructureFlag(item, "cross-loading", "", scale,
+                                           values={"factor": j + 1, "loading": float(value),
+                                                   "cutoff": max_cross_loading}))
     return flags

@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError, UsageError
+from ..notes import note
 from .adequacy import (
     BartlettResult,
     KMOResult,
@@ -22,7 +23,7 @@ from .adequacy import (
     kmo,
     log_determinant,
 )
-from .factor_matching import _say_against, assign_factors_to_scales, loading_flags
+from .factor_matching import assign_factors_to_scales, loading_flags
 from .factoring import fit_factors
 from .parallel import (
     DEFAULT_SEED,
@@ -138,7 +139,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     if isinstance(n_factors, str) and n_factors != "scales":
         raise UsageError(f"the number of factors is a whole number or 'scales', not {n_factors!r}")
 
-    notes: list[str] = []
+    notes: list[Any] = []
     flags: list[StructureFlag] = []
     if covariance is None:
         n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
@@ -149,19 +150,17 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
         correlation_all = _correlation_of_covariance(covariance.cov, constant)
     if set_aside and missing == "listwise":
-        notes.append(f"{set_aside} of {n_rows} respondent(s) with at least one missing answer set aside "
-                     "(listwise); every statistic uses the remaining complete cases")
+        notes.append(note("listwise-set-aside", set_aside=int(set_aside), n_rows=int(n_rows)))
     dropped = [name for name, c in zip(item_names, constant, strict=True) if c]
     for name in dropped:
-        flags.append(StructureFlag(name, "no-variance", "every respondent used gave the same answer; "
-                                   "left out of the analysis", item_scale[name]))
+        flags.append(StructureFlag(name, "no-variance", "", item_scale[name]))
     if dropped:
-        notes.append(f"{len(dropped)} item(s) without variance left out: {', '.join(dropped)}")
+        notes.append(note("items-left-out", count=len(dropped), items=tuple(dropped)))
     kept = [i for i, c in enumerate(constant) if not c]
     items = tuple(item_names[i] for i in kept)
     p = len(items)
 
-    def empty(reason: str) -> StructureResult:
+    def empty(reason: Any) -> StructureResult:
         return StructureResult(items=items, item_scale={i: item_scale[i] for i in items}, n_used=n,
                                n_set_aside=set_aside, kmo=KMOResult(None, np.full(p, np.nan)),
                                bartlett=BartlettResult(None, p * (p - 1) // 2, None, n), parallel=None,
@@ -172,15 +171,15 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
                                correlation_notes=tuple(correlation_notes), missing=handling)
 
     if n < 3:
-        return empty(f"only {n} complete respondent(s): the structure needs at least 3")
+        return empty(note("structure-too-few-respondents", n=int(n), needed=3))
     if p < 2:
-        return empty("fewer than two items with variance: there is no structure to analyse")
+        return empty(note("structure-too-few-items", p=p))
 
     correlation_notes = list(correlation_notes)
     if supplied is None:
         correlation = correlation_all[np.ix_(kept, kept)]
         if not np.isfinite(correlation).all():
-            return empty("some item pairs have no respondents in common: the correlation matrix is incomplete")
+            return empty(note("correlations-incomplete"))
     else:
         from .polychoric_matrix import smoothed_if_needed
 
@@ -192,16 +191,13 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     notes.extend(sampling.notes)
     notes.extend(sphericity.notes)
     if sampling.overall is not None and sampling.overall < MIN_KMO:
-        kmo_text, kmo_cut = _say_against(sampling.overall, MIN_KMO)
-        notes.append(f"overall KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
-                     "the correlations may be too weak for factor analysis")
+        notes.append(note("low-kmo-overall", kmo=float(sampling.overall), cutoff=MIN_KMO))
     for name, value in zip(items, sampling.per_item, strict=True):
         if np.isfinite(value) and value < MIN_KMO:
-            kmo_text, kmo_cut = _say_against(value, MIN_KMO)
-            flags.append(StructureFlag(name, "low-kmo", f"item KMO {kmo_text} is below {kmo_cut} (Kaiser, 1974): "
-                                       "it shares little with the other items", item_scale[name]))
+            flags.append(StructureFlag(name, "low-kmo", "", item_scale[name],
+                                       values={"kmo": float(value), "cutoff": MIN_KMO}))
     if sphericity.p is not None and sphericity.p >= 0.05:
-        notes.append("Bartlett's test does not reject uncorrelated items (p >= .05): factors may be spurious")
+        notes.append(note("bartlett-not-rejected", pvalue=float(sphericity.p), alpha=0.05))
     parallel = parallel_analysis(correlation, n, iterations=iterations, percentile=percentile, seed=seed)
 
     singular = log_determinant(correlation) is None or n <= p
@@ -210,7 +206,7 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         chosen = max(1, parallel.suggested_factors)
         rule = "parallel analysis"
         if parallel.suggested_factors == 0:
-            notes.append("parallel analysis found no eigenvalue above random data; one factor fitted anyway")
+            notes.append(note("parallel-no-factor"))
     elif n_factors == "scales":
         chosen = len(scales)
         rule = "number of scales"
@@ -223,9 +219,9 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
             raise UsageError(f"{chosen} factor(s) cannot be extracted from {p} item(s); ask for fewer than {p}")
     if chosen > max(bound, 1):
         if rule == "requested":
-            notes.append(f"{chosen} factors exceed the {bound} that {p} items can identify; the solution is not unique")
+            notes.append(note("factors-not-unique", n_factors=chosen, bound=bound, p=p))
         else:
-            notes.append(f"{chosen} factors ({rule}) exceed the {bound} that {p} items can identify; {max(bound, 1)} fitted")
+            notes.append(note("factors-reduced", n_factors=chosen, rule=rule, bound=bound, p=p, fitted=max(bound, 1)))
             chosen = max(bound, 1)
     if chosen >= p:
         chosen = p - 1
@@ -233,25 +229,22 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
     solution = None
     mapping: dict[str, int | None] = {scale: None for scale in scales}
     if singular:
-        notes.append("the item correlation matrix is singular (an item duplicates others, or there are no more "
-                     "respondents than items): no factor analysis")
+        notes.append(note("correlation-singular", n=int(n), p=p))
     else:
         solution = fit_factors(correlation, chosen, method=method, rotation=rotation)
         notes.extend(solution.notes)
         for i in solution.heywood_items:
-            flags.append(StructureFlag(items[i], "heywood-case", "uniqueness at the lower bound: the factors "
-                                       "reproduce this item almost entirely", item_scale[items[i]]))
+            flags.append(StructureFlag(items[i], "heywood-case", "", item_scale[items[i]]))
         own_scales = [item_scale[name] for name in items]
         present_scales = list(dict.fromkeys(own_scales))
         mapping.update(assign_factors_to_scales(solution.loadings, own_scales, present_scales))
         unmatched = [s for s in present_scales if mapping[s] is None]
         if unmatched:
-            notes.append(f"fewer factors ({chosen}) than scales ({len(present_scales)}): no factor of its own for "
-                         f"{', '.join(unmatched)}; its items are not checked against a factor")
+            notes.append(note("scales-without-factor", n_factors=chosen, n_scales=len(present_scales),
+                              scales=tuple(unmatched)))
         spare = sorted(set(range(chosen)) - {j for j in mapping.values() if j is not None})
         if spare:
-            notes.append(f"factor(s) {', '.join(f'F{j + 1}' for j in spare)} belong to no scale: a dimension the "
-                         "scale file does not name, or a method factor (e.g. the reverse-worded items)")
+            notes.append(note("factors-without-scale", factors=tuple(f"F{j + 1}" for j in spare)))
         flags.extend(loading_flags(solution.loadings, items, own_scales, mapping, min_loading=min_loading,
                                    max_cross_loading=max_cross_loading))
 
@@ -266,10 +259,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         summary = unidimensionality_of_correlation(sub, n, method=method, n_set_aside=set_aside)
         per_scale[scale] = summary
         if summary.eigen_ratio is not None and summary.eigen_ratio < MIN_EIGEN_RATIO:
-            flags.append(StructureFlag(None, "several-dimensions",
-                                       "first-to-second eigenvalue ratio {} is below {}: the items may measure more "
-                                       "than one thing".format(*_say_against(summary.eigen_ratio, MIN_EIGEN_RATIO,
-                                                                             "num", 1)), scale))
+            flags.append(StructureFlag(None, "several-dimensions", "", scale,
+                                       values={"eigen_ratio": float(summary.eigen_ratio), "cutoff": MIN_EIGEN_RATIO}))
     return StructureResult(items=items, item_scale={name: item_scale[name] for name in items}, n_used=n,
                            n_set_aside=set_aside, kmo=sampling, bartlett=sphericity, parallel=parallel,
                            solution=solution, n_factors_rule=rule, factor_for_scale=mapping,

@@ -1,11 +1,13 @@
 """The results of the dimensionality analysis: per-scale unidimensionality, item flags, the whole structure."""
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
+from ..notes import Note
 from ..results import ResultMixin, to_jsonable
 from .adequacy import (
     BartlettResult,
@@ -15,6 +17,13 @@ from .factoring import FactorSolution
 from .parallel import (
     ParallelAnalysisResult,
 )
+
+
+def notes_to_json(notes: Any) -> list[Any]:
+    """Notes for JSON: a code with its values and an empty ``message`` that the presentation layer words
+    (:func:`scalewright.present.messages.word_document`); a plain text stays as it is."""
+    return [{**n.to_dict(), "message": ""} if isinstance(n, Note) else n for n in notes]
+
 
 #: common practice, no source: a salient loading is at least .40; a cross-loading above .30 muddies an item
 MIN_LOADING = 0.40
@@ -42,13 +51,14 @@ class UnidimensionalityResult(ResultMixin):
     eigen_ratio: float | None
     variance_one_factor: float | None
     loadings_one_factor: np.ndarray
-    notes: tuple[str, ...] = ()
+    #: :class:`~scalewright.notes.Note` values (and plain texts from the factoring library's messages)
+    notes: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {"k": self.k, "n_used": self.n_used, "n_set_aside": self.n_set_aside,
                 "eigen_ratio": to_jsonable(self.eigen_ratio),
                 "variance_one_factor": to_jsonable(self.variance_one_factor),
-                "eigenvalues": to_jsonable(self.eigenvalues), "notes": list(self.notes)}
+                "eigenvalues": to_jsonable(self.eigenvalues), "notes": notes_to_json(self.notes)}
 
 
 @dataclass(frozen=True)
@@ -57,8 +67,16 @@ class StructureFlag(ResultMixin):
 
     item: str | None
     code: str
+    #: left empty: ``scalewright.present.messages`` words the flag from ``code`` and ``values``
     message: str
     scale: str | None = None
+    values: Mapping[str, Any] = field(default_factory=dict)
+
+    def to_dict(self) -> dict[str, Any]:
+        out: dict[str, Any] = {"item": self.item, "scale": self.scale, "code": self.code, "message": self.message}
+        if self.values:
+            out["values"] = to_jsonable(dict(self.values))
+        return out
 
 
 @dataclass(frozen=True)
@@ -77,7 +95,7 @@ class StructureResult(ResultMixin):
     factor_for_scale: dict[str, int | None]
     unidimensionality: dict[str, UnidimensionalityResult]
     flags: tuple[StructureFlag, ...]
-    notes: tuple[str, ...]
+    notes: tuple[Any, ...]
     min_loading: float = MIN_LOADING
     max_cross_loading: float = MAX_CROSS_LOADING
     dropped_items: tuple[str, ...] = field(default=())
@@ -119,8 +137,8 @@ class StructureResult(ResultMixin):
             "unidimensionality": {scale: u.to_dict() for scale, u in self.unidimensionality.items()},
             "thresholds": {"min_loading": self.min_loading, "max_cross_loading": self.max_cross_loading,
                            "min_kmo": MIN_KMO, "min_eigen_ratio": MIN_EIGEN_RATIO},
-            "flags": [{"item": f.item, "scale": f.scale, "code": f.code, "message": f.message} for f in self.flags],
-            "notes": [*self.notes, *([] if self.missing is None else self.missing.note_dicts)],
+            "flags": [f.to_dict() for f in self.flags],
+            "notes": [*notes_to_json(self.notes), *([] if self.missing is None else self.missing.note_dicts)],
             "correlation_type": self.correlation_type,
             "correlation": {} if self.correlation is None else
             {a: {b: to_jsonable(self.correlation[i, j]) for j, b in enumerate(self.items)}

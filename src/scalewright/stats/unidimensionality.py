@@ -1,8 +1,11 @@
 """Unidimensionality of one scale: the first-to-second eigenvalue ratio and one factor's share of variance."""
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
+from ..notes import note
 from .adequacy import (
     complete_cases,
     correlation_of,
@@ -36,15 +39,15 @@ def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method:
     """
     correlation = np.asarray(correlation, dtype=float)
     k = correlation.shape[0]
-    notes: list[str] = []
+    notes: list[Any] = []
     eigenvalues = np.linalg.eigvalsh(correlation)[::-1] if k else np.empty(0)
     ratio = None
     share = None
     loadings = np.full(k, np.nan)
     if k < 2:
-        notes.append("a scale of one item has no dimensionality to check")
+        notes.append(note("one-item-scale"))
     elif eigenvalues[1] <= 1e-12:
-        notes.append("the second eigenvalue is zero (perfectly correlated items): the eigenvalue ratio is undefined")
+        notes.append(note("eigen-ratio-undefined"))
     else:
         ratio = float(eigenvalues[0] / eigenvalues[1])
     if k >= 3 and n > k and log_determinant(correlation) is not None:
@@ -53,9 +56,9 @@ def unidimensionality_of_correlation(correlation: np.ndarray, n: int, *, method:
         share = float(solution.variance_explained[0])
         notes.extend(solution.notes)
     elif k >= 3:
-        notes.append("the one-factor model needs a non-singular correlation matrix and more respondents than items")
+        notes.append(note("one-factor-not-fitted", k=k, n=int(n)))
     elif k == 2:
-        notes.append("a one-factor model of two items is not identified: variance explained by one factor left out")
+        notes.append(note("one-factor-two-items"))
     return UnidimensionalityResult(k=k, n_used=int(n), n_set_aside=int(n_set_aside), eigenvalues=eigenvalues,
                                    eigen_ratio=ratio, variance_one_factor=share, loadings_one_factor=loadings,
                                    notes=tuple(notes))
@@ -68,18 +71,17 @@ def unidimensionality(keyed: np.ndarray, *, method: str = "minres") -> Unidimens
     """
     complete, set_aside = complete_cases(keyed)
     n, k = complete.shape
-    notes = []
+    notes: list[Any] = []
     if set_aside:
-        notes.append(f"{set_aside} respondent(s) with a missing answer set aside (listwise)")
+        notes.append(note("scale-listwise-set-aside", set_aside=int(set_aside)))
     if n < 3:
         return UnidimensionalityResult(k=k, n_used=n, n_set_aside=set_aside, eigenvalues=np.full(k, np.nan),
                                        eigen_ratio=None, variance_one_factor=None, loadings_one_factor=np.full(k, np.nan),
-                                       notes=tuple(notes + [f"only {n} complete respondent(s): at least 3 are needed"]))
+                                       notes=tuple(notes + [note("too-few-complete", n=int(n), needed=3)]))
     constant = np.ptp(complete, axis=0) == 0
     if constant.any():
         return UnidimensionalityResult(k=k, n_used=n, n_set_aside=set_aside, eigenvalues=np.full(k, np.nan),
                                        eigen_ratio=None, variance_one_factor=None, loadings_one_factor=np.full(k, np.nan),
-                                       notes=tuple(notes + [f"{int(constant.sum())} item(s) have no variance: "
-                                                            "correlations are undefined"]))
+                                       notes=tuple(notes + [note("items-without-variance", count=int(constant.sum()))]))
     result = unidimensionality_of_correlation(correlation_of(complete), n, method=method, n_set_aside=set_aside)
     return UnidimensionalityResult(**{**result.__dict__, "notes": tuple(notes) + result.notes})
