@@ -70,7 +70,8 @@ def test_json_follows_the_contract_and_matches_numpy(files, capsys):
     assert overall["median"] == pytest.approx(np.median(scores))
     assert overall["percentiles"]["90"] == pytest.approx(np.percentile(scores, 90))
     assert overall["shape"] == "left-skewed"
-    assert "skewness" in overall["evidence"]
+    assert overall["evidence"]["code"] == "shape-skewed"
+    assert overall["evidence"]["message"].startswith("skewness ")
     by_shift = document["scales"]["support"]["by"]["shift"]
     assert set(by_shift) == {"day", "night"}
     night = scores[frame["shift"].to_numpy() == "night"]

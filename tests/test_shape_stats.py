@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 from scipy import stats
 
 from scalewright.errors import UsageError
+from scalewright.present.messages import describe
 from scalewright.results import to_jsonable
 from scalewright.stats.descriptives import (
     QUANTILE_METHODS,
@@ -220,8 +221,10 @@ def test_mean_median_order_that_contradicts_the_skew_is_said():
     assert s.skewness < 0
     assert s.mean > s.median
     assert s.shape == "left-skewed"
-    assert "von Hippel" in s.evidence
-    assert any("von Hippel" in note for note in s.notes)
+    assert s.evidence.code == "shape-skewed"
+    assert s.evidence.values["order_as_expected"] is False
+    assert "von Hippel" in describe(s.evidence)
+    assert "mean-median-disagree" in [note.code for note in s.notes]
 
 
 def test_floor_and_ceiling_shares_and_flags():
@@ -239,7 +242,7 @@ def test_constant_scores_give_no_shape_and_a_reason_without_warnings():
     assert math.isnan(s.skewness)
     assert s.shape is None
     assert s.sd == 0
-    assert any("same value" in note for note in s.notes)
+    assert "shape-not-given-constant" in [getattr(note, "code", None) for note in s.notes]
     body = json.dumps(to_jsonable(s.to_dict()), allow_nan=False)
     assert '"skewness": null' in body
 
@@ -330,7 +333,7 @@ def test_floor_and_ceiling_need_the_range():
     s = describe_scores(np.arange(30, dtype=float) % 5 + 1)
     assert s.floor_effect is None
     assert math.isnan(s.floor_pct)
-    assert any("attainable range" in note for note in s.notes)
+    assert "floor-ceiling-no-range" in [getattr(note, "code", None) for note in s.notes]
 
 
 @pytest.mark.slow
@@ -408,7 +411,8 @@ def test_shape_evidence_near_the_skew_cutoff_reads_true():
     label, evidence, _ = shape_label(mean=3.0, median=3.1, skewness=-0.3996, skewness_se=0.05, bimodality=0.4,
                                      dip_p=0.9, features=features)
     assert label == "symmetric"
-    assert "skewness -0.3996 (SE 0.05), within ±0.4" in evidence
+    assert evidence.code == "shape-symmetric"
+    assert "skewness -0.3996 (SE 0.05), within ±0.4" in describe(evidence)
 
 
 def test_dip_test_on_more_scores_than_diptest_tabulates_warns_nobody():

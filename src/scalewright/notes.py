@@ -6,7 +6,7 @@ statistics layer never writes sentences; the presentation layer turns each note 
 """
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -31,3 +31,9 @@ class Note:
 def note(code: str, **values: Any) -> Note:
     """Shorthand: ``note("not-identified", items=2)``."""
     return Note(code=code, values=dict(values))
+
+
+def notes_to_json(notes: Iterable[Any]) -> list[Any]:
+    """Notes for JSON: each note's code and values with an empty ``message``, which the presentation layer
+    fills in (:func:`scalewright.present.messages.word_document`); a plain text stays as it is."""
+    return [{**n.to_dict(), "message": ""} if isinstance(n, Note) else n for n in notes]

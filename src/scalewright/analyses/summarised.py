@@ -11,6 +11,7 @@ from typing import Any
 
 import numpy as np
 
+from ..notes import note
 from ..summaries import Keyed, merge_all
 
 
@@ -222,7 +223,7 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
                                   missing=overall_scored - sum(sizes.values()), min_size=min_group)
             notes = list(split.notes())
             if unscored:
-                notes.append(f"{unscored} respondent(s) without a score left out of the {column} subgroups")
+                notes.append(note("subgroup-unscored", unscored=unscored, column=column))
             groups.append(SubgroupShapes(column=column, levels=levels, too_small=dict(split.too_small),
                                          missing=split.missing, min_group=min_group, notes=tuple(notes)))
         return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=tuple(groups), x_label=x_label)

@@ -8,6 +8,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 
 from ..stats.shape import ShapeReport, ShapeSummary
+from .messages import describe
 from .table import Table
 
 SUMMARY_COLUMNS = ("score", "sample", "n", "missing", "mean", "sd", "median", "q1", "q3", "IQR", "min", "max",
@@ -44,7 +45,8 @@ def _effect(s: ShapeSummary) -> str:
 
 def _table_notes(s: ShapeSummary) -> list[str]:
     """The summary's notes, less the floor/ceiling ones that the 'effect' column already shows."""
-    return [note for note in s.notes if not note.startswith(("floor effect", "ceiling effect"))]
+    return [describe(note) for note in s.notes
+            if getattr(note, "code", None) not in ("floor-effect", "ceiling-effect")]
 
 
 def _modes_text(s: ShapeSummary) -> str:
@@ -65,11 +67,12 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
     for report in values:
         for sample, s in _samples(report):
             summary_rows.append(_summary_row(report.name, sample, s, report.kind))
-            evidence_rows.append((report.name, sample, s.shape or "–", _modes_text(s), s.evidence or "–"))
+            evidence_rows.append((report.name, sample, s.shape or "–", _modes_text(s),
+                                  describe(s.evidence) if s.evidence is not None else "–"))
             percentile_rows.append((report.name, sample, *(s.percentiles.get(k) for k in percentile_keys)))
             notes.extend(f"{report.name}, {sample}: {note}" for note in _table_notes(s))
         for group in report.groups:
-            notes.extend(f"{report.name}: {note}" for note in group.notes)
+            notes.extend(f"{report.name}: {describe(note)}" for note in group.notes)
     tables.append(Table(
         title="Distribution of each score", columns=SUMMARY_COLUMNS, rows=tuple(summary_rows), kinds=SUMMARY_KINDS,
         notes=("values: keyed = a scale score, made from the items after reverse keying; as given = an item's "

@@ -12,6 +12,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import UsageError
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
 from ..seeds import DEFAULT_SEED
 from .descriptives import (
@@ -70,7 +71,8 @@ class ShapeSummary(ResultMixin):
     floor_effect: bool | None
     ceiling_effect: bool | None
     shape: str | None
-    evidence: str
+    #: the evidence behind the label, a code with values (:class:`~scalewright.notes.Note`); None without a summary
+    evidence: Any
     quantile_method: str
     low: float | None
     high: float | None
@@ -78,13 +80,14 @@ class ShapeSummary(ResultMixin):
     histogram: HistogramCells | None
     box_plot: BoxPlotPoints | None
     rule: ShapeEvidence | None = None
-    notes: tuple[str, ...] = field(default=())
+    notes: tuple[Any, ...] = field(default=())
 
     def to_dict(self) -> dict[str, Any]:
         out = {name: to_jsonable(getattr(self, name)) for name in (
             "n", "n_missing", "mean", "sd", "median", "q1", "q3", "min", "max", "iqr", "skewness", "skewness_se",
-            "kurtosis", "kurtosis_se", "bimodality_coefficient", "dip", "dip_p", "percentiles", "shape",
-            "evidence", "modes")}
+            "kurtosis", "kurtosis_se", "bimodality_coefficient", "dip", "dip_p", "percentiles", "shape")}
+        out["evidence"] = notes_to_json([self.evidence])[0] if self.evidence is not None else None
+        out["modes"] = to_jsonable(self.modes)
         out["dip_pvalue"] = out.pop("dip_p")
         out["uniform_gof"] = self.uniform_gof.to_dict()
         out.update({"floor_pct": to_jsonable(self.floor_pct), "ceiling_pct": to_jsonable(self.ceiling_pct),
@@ -94,11 +97,11 @@ class ShapeSummary(ResultMixin):
                     "histogram": self.histogram.to_dict() if self.histogram else None,
                     "box_plot": self.box_plot.to_dict() if self.box_plot else None,
                     "rule": self.rule.to_dict() if self.rule else None,
-                    "notes": list(self.notes)})
+                    "notes": notes_to_json(self.notes)})
         return out
 
 
-def _empty_summary(n: int, n_missing: int, method: str, low, high, resolution: float, reason: str,
+def _empty_summary(n: int, n_missing: int, method: str, low, high, resolution: float, reason: Note,
                    percentiles) -> ShapeSummary:
     nan = math.nan
     return ShapeSummary(
@@ -106,7 +109,7 @@ def _empty_summary(n: int, n_missing: int, method: str, low, high, resolution: f
         skewness=nan, skewness_se=nan, kurtosis=nan, kurtosis_se=nan, bimodality_coefficient=nan, dip=nan,
         dip_p=nan, percentiles={_pkey(p): nan for p in percentiles}, modes=(),
         uniform_gof=UniformFit(chi2=nan, df=0, p=nan, w=nan), floor_pct=nan, ceiling_pct=nan, floor_effect=None,
-        ceiling_effect=None, shape=None, evidence="", quantile_method=method, low=low, high=high,
+        ceiling_effect=None, shape=None, evidence=None, quantile_method=method, low=low, high=high,
         resolution=resolution, histogram=None, box_plot=None, notes=(reason,))
 
 
@@ -159,16 +162,16 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
         high = float(grid[-1])
     if low is not None and high is not None and high <= low:
         raise UsageError(f"the score range needs high > low, got {low}..{high}")
-    notes: list[str] = []
+    notes: list[Any] = []
     if n_missing:
-        notes.append(f"{n_missing} missing score(s) left out")
+        notes.append(note("scores-missing", n_missing=n_missing))
     if low is not None and n and (x.min() < low - 1e-9 or (high is not None and x.max() > high + 1e-9)):
         raise UsageError(f"scores outside the attainable range {low:g}..{high:g} "
                          f"(found {x.min():g}..{x.max():g})")
     if resolution is None:
         resolution = _resolution(x, grid, low, high)
     if n == 0:
-        return _empty_summary(0, n_missing, quantile_method, low, high, resolution, "no scores to describe",
+        return _empty_summary(0, n_missing, quantile_method, low, high, resolution, note("no-scores"),
                               percentiles)
 
     m = moments(x)
@@ -193,18 +196,18 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
         ceiling_flag = ceiling_pct > 100 * FLOOR_CEILING_SHARE
         for name, share, flag in (("floor", floor_pct, floor_flag), ("ceiling", ceiling_pct, ceiling_flag)):
             if flag:
-                notes.append(f"{name} effect: {share:.1f}% of scores at the {'lowest' if name == 'floor' else 'highest'} "
-                             f"attainable value (more than 15%, Terwee et al. 2007)")
+                notes.append(note(f"{name}-effect", share_pct=share, threshold_pct=100 * FLOOR_CEILING_SHARE))
     else:
-        notes.append("floor and ceiling shares need the attainable range (low, high)")
+        notes.append(note("floor-ceiling-no-range"))
 
-    label, evidence, features = None, "", None
+    label, evidence, features = None, None, None
     if not math.isfinite(m.skewness) or np.ptp(x) == 0:
-        evidence = "no shape: every score is the same value" if n >= 3 and np.ptp(x) == 0 else "no shape: too few scores"
-        notes.append("shape label not given: " + evidence.removeprefix("no shape: "))
+        why = "constant" if n >= 3 and np.ptp(x) == 0 else "too-few"
+        evidence = note(f"no-shape-{why}")
+        notes.append(note(f"shape-not-given-{why}"))
     elif n < MIN_N_FOR_LABEL:
-        evidence = f"no shape: {n} scores are too few for a label (at least {MIN_N_FOR_LABEL})"
-        notes.append(f"shape label not given: fewer than {MIN_N_FOR_LABEL} scores")
+        evidence = note("no-shape-below-minimum", n=n, minimum=MIN_N_FOR_LABEL)
+        notes.append(note("shape-not-given-below-minimum", minimum=MIN_N_FOR_LABEL))
     elif cells is not None:
         features = _band_features(cells, n, period=_cells_per_step(cells, lo, hi, resolution, answer_levels))
         label, evidence, rule_notes = shape_label(mean=m.mean, median=median, skewness=m.skewness,
@@ -259,12 +262,12 @@ class SubgroupShapes(ResultMixin):
     too_small: dict[str, int]
     missing: int
     min_group: int
-    notes: tuple[str, ...] = ()
+    notes: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
         return {"column": self.column, "levels": {k: v.to_dict() for k, v in self.levels.items()},
                 "too_small": dict(self.too_small), "missing": self.missing, "min_group": self.min_group,
-                "notes": list(self.notes)}
+                "notes": notes_to_json(self.notes)}
 
 
 def describe_by_subgroup(values, groups, *, min_group: int = 10, column: str | None = None,
@@ -287,7 +290,7 @@ def describe_by_subgroup(values, groups, *, min_group: int = 10, column: str | N
     notes = list(split.notes())
     unscored = int((~scored).sum())
     if unscored:
-        notes.append(f"{unscored} respondent(s) without a score left out of the {split.column} subgroups")
+        notes.append(note("subgroup-unscored", unscored=unscored, column=split.column))
     return SubgroupShapes(column=split.column, levels=levels, too_small=dict(split.too_small), missing=split.missing,
                           min_group=min_group, notes=tuple(notes))
 
@@ -311,4 +314,4 @@ class ShapeReport(ResultMixin):
         return {"title": self.title, "kind": self.kind, "x_label": self.x_label, "all": self.overall.to_dict(),
                 "by": {g.column: {level: s.to_dict() for level, s in g.levels.items()} for g in self.groups},
                 "too_small": {g.column: dict(g.too_small) for g in self.groups},
-                "group_notes": {g.column: list(g.notes) for g in self.groups}}
+                "group_notes": {g.column: notes_to_json(g.notes) for g in self.groups}}

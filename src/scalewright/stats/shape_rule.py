@@ -22,6 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..notes import Note, note
 from ..results import ResultMixin
 from ..seeds import DEFAULT_SEED
 from .descriptives import (
@@ -180,71 +181,33 @@ def _symmetric_band_starts(n_cells: int, width: int) -> np.ndarray:
     return np.concatenate([[0], np.cumsum(sizes)[:-1]])
 
 
-def _fmt(value: float, decimals: int = 2) -> str:
-    """Numbers inside the evidence sentence (the raw values are in the result's fields)."""
-    if value is None or not math.isfinite(value):
-        return "n/a"
-    text = f"{value:.{decimals}f}"
-    return "0." + "0" * decimals if text in ("-0." + "0" * decimals,) else text
-
-
-def _fmt_against(value: float, cutoff: float) -> str:
-    """A number beside its cut-off (in size), with the decimals the comparison needs to read true."""
-    from ..present.numbers import format_against
-
-    if value is None or not math.isfinite(value):
-        return "n/a"
-    size, _ = format_against(abs(value), cutoff, "num", 2)
-    return f"-{size}" if value < 0 and float(size) != 0 else size
-
-
-def _fmt_p(p: float) -> str:
-    if not math.isfinite(p):
-        return "n/a"
-    return "p < .001" if p < 0.001 else f"p = {p:.3f}".replace("0.", ".", 1)
-
-
 def shape_label(*, mean: float, median: float, skewness: float, skewness_se: float,
-                bimodality: float, dip_p: float, features: ShapeEvidence) -> tuple[str | None, str, list[str]]:
-    """Apply the shape rule; returns (label, evidence sentence, notes)."""
-    notes: list[str] = []
-    skew_text = f"skewness {_fmt_against(skewness, SKEW_THRESHOLD)} (SE {_fmt(skewness_se)})"
-    bands = f"windows of {features.window_cells} score value(s)"
+                bimodality: float, dip_p: float, features: ShapeEvidence) -> tuple[str | None, Note, list[Note]]:
+    """Apply the shape rule; returns (label, the evidence as a code with values, notes).
+
+    ``scalewright.present.messages`` words the evidence (the code is ``shape-`` and the label).
+    """
+    notes: list[Note] = []
     flat = math.isfinite(features.flat_w) and features.flat_w < FLAT_W
     valley = math.isfinite(features.valley_ratio) and (
         (not flat and features.valley_ratio <= VALLEY_RATIO and features.valley_p < VALLEY_ALPHA)
         or (features.valley_ratio <= DEEP_VALLEY_RATIO and features.valley_p < DEEP_VALLEY_ALPHA))
+    common = {"skewness": float(skewness), "skewness_se": float(skewness_se), "skew_cutoff": SKEW_THRESHOLD,
+              "bimodality": float(bimodality), "flat_w": float(features.flat_w)}
     if valley:
         low_peak, high_peak = features.peaks_at
-        evidence = (f"two peaks near {_fmt(low_peak)} and {_fmt(high_peak)} with a valley near "
-                    f"{_fmt(features.valley_at)} at {features.valley_ratio:.0%} of the smaller peak "
-                    f"({_fmt_p(features.valley_p)}, {bands}); excess w {_fmt(features.flat_w)} against flat; dip test {_fmt_p(dip_p)} on jittered scores; "
-                    f"bimodality coefficient {_fmt(bimodality)}")
-        return "bimodal", evidence, notes
+        return "bimodal", note("shape-bimodal", low_peak=float(low_peak), high_peak=float(high_peak),
+                               valley_at=float(features.valley_at), valley_ratio=float(features.valley_ratio),
+                               valley_pvalue=float(features.valley_p), window_cells=int(features.window_cells),
+                               dip_pvalue=float(dip_p), **common), notes
     small_skew = not (abs(skewness) >= SKEW_THRESHOLD)
     if small_skew and flat:
-        evidence = (f"close to flat: excess w {_fmt_against(features.flat_w, FLAT_W)} over {len(features.band_counts)} bands (below {FLAT_W}); "
-                    f"{skew_text}; bimodality coefficient {_fmt(bimodality)} (a flat distribution gives 5/9)")
-        return "uniform", evidence, notes
-    if _fmt(mean) == _fmt(median):
-        centre = f"mean and median both {_fmt(median)}"
-    else:
-        centre = f"mean {_fmt(mean)} {'below' if mean < median else 'above'} median {_fmt(median)}"
+        return "uniform", note("shape-uniform", bands=len(features.band_counts), flat_cutoff=FLAT_W, **common), notes
+    centre = {"mean": float(mean), "median": float(median)}
     if not small_skew and abs(skewness) >= 2 * skewness_se:
         label = "left-skewed" if skewness < 0 else "right-skewed"
-        evidence = f"{skew_text}, beyond ±{SKEW_THRESHOLD}; {centre}"
-        expected_order = mean < median if skewness < 0 else mean > median
+        expected_order = bool(mean < median if skewness < 0 else mean > median)
         if not expected_order:
-            evidence += (f"; the mean is not {'below' if skewness < 0 else 'above'} the median although the "
-                         "skewness says so, common with tied rating data (von Hippel 2005)")
-            notes.append("mean and median disagree with the direction of the skewness (von Hippel 2005): "
-                         "report the skewness, not the mean-median order")
-        return label, evidence, notes
-    evidence = f"{skew_text}, within ±{SKEW_THRESHOLD}; no clear valley between two peaks"
-    if abs(skewness) >= SKEW_THRESHOLD:
-        evidence = f"{skew_text}: beyond ±{SKEW_THRESHOLD} but within twice its SE; no clear valley between two peaks"
-    if math.isfinite(features.flat_w) and not flat:
-        evidence += f"; not flat (excess w {_fmt(features.flat_w)})"
-    if abs(mean - median) > 0 and math.isfinite(skewness) and abs(skewness) < SKEW_THRESHOLD:
-        evidence += f"; {centre}"
-    return "symmetric", evidence, notes
+            notes.append(note("mean-median-disagree"))
+        return label, note("shape-skewed", order_as_expected=expected_order, **centre, **common), notes
+    return "symmetric", note("shape-symmetric", flat=bool(flat), **centre, **common), notes

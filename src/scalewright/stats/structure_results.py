@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from ..notes import Note
+from ..notes import notes_to_json
 from ..results import ResultMixin, to_jsonable
 from .adequacy import (
     BartlettResult,
@@ -17,13 +17,6 @@ from .factoring import FactorSolution
 from .parallel import (
     ParallelAnalysisResult,
 )
-
-
-def notes_to_json(notes: Any) -> list[Any]:
-    """Notes for JSON: a code with its values and an empty ``message`` that the presentation layer words
-    (:func:`scalewright.present.messages.word_document`); a plain text stays as it is."""
-    return [{**n.to_dict(), "message": ""} if isinstance(n, Note) else n for n in notes]
-
 
 #: common practice, no source: a salient loading is at least .40; a cross-loading above .30 muddies an item
 MIN_LOADING = 0.40
