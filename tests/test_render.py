@@ -101,10 +101,14 @@ def test_values_beside_a_cutoff_read_true(value, cutoff, kind, decimals, shown):
 
 
 def test_structure_eigenvalue_ratio_near_its_cutoff_reads_true():
+    import re
+
     import numpy as np
 
-    from scalewright.stats import structure
+    from scalewright.present.messages import structure_message
+    from scalewright.stats.structure_results import MIN_EIGEN_RATIO
 
-    text, limit = structure._say_against(2.96, structure.MIN_EIGEN_RATIO, "num", 1)
+    sentence = structure_message("several-dimensions", {"eigen_ratio": 2.96, "cutoff": MIN_EIGEN_RATIO}, flag=True)
+    text, limit = re.search(r"ratio (\S+) is below (\S+):", sentence).groups()
     assert float(text) < float(limit)
     assert not np.isclose(float(text), float(limit))
