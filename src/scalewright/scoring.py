@@ -94,6 +94,34 @@ def z_scores(scores: np.ndarray) -> np.ndarray:
     return (scores - valid.mean()) / np.std(valid, ddof=1)
 
 
+def z_basis(scores: np.ndarray, weights: Any = None) -> dict[str, Any]:
+    """The mean and sd the z scores are taken from: the sample's (sd with n - 1), or with survey weights the
+    weighted mean and sd (divisor sum(w) - sum(w^2)/sum(w), :mod:`scalewright.stats.weighted`) of the rows
+    with a score and a positive weight."""
+    scores = np.asarray(scores, dtype=np.float64)
+    if weights is None:
+        valid = scores[~np.isnan(scores)]
+        usable = valid.size >= 2
+        return {"weighted": False, "mean": float(valid.mean()) if usable else float("nan"),
+                "sd": float(np.std(valid, ddof=1)) if usable else float("nan")}
+    from .stats.weighted import weighted_summary
+
+    summary = weighted_summary(scores, weights.values, weight_column=weights.column)
+    return {"weighted": True, "weight_column": weights.column, "n": summary.n,
+            "n_zero_weight": summary.n_zero_weight, "n_effective": summary.n_effective,
+            "sum_of_weights": summary.sum_of_weights, "mean": summary.mean, "sd": summary.sd}
+
+
+def z_from_basis(scores: np.ndarray, basis: dict[str, Any]) -> np.ndarray:
+    """``(score - mean) / sd`` of :func:`z_basis`; all NaN when the sd is 0 or cannot be computed. Rows of
+    weight 0 get a z score too (they stay in the scored file)."""
+    scores = np.asarray(scores, dtype=np.float64)
+    mean, sd = basis["mean"], basis["sd"]
+    if not (np.isfinite(mean) and np.isfinite(sd)) or sd == 0:
+        return np.full_like(scores, np.nan)
+    return (scores - mean) / sd
+
+
 @dataclass(frozen=True, eq=False)
 class ScaleScores(ResultMixin):
     """Scores of one scale."""
@@ -108,10 +136,17 @@ class ScaleScores(ResultMixin):
     n_unscored: int
     #: the rescaled score (``pomp`` or ``z``) written beside the raw one, or None
     standardized: np.ndarray | None = None
+    #: with ``z``: the mean and sd it is taken from, weighted or not (:func:`z_basis`)
+    standardized_basis: dict[str, Any] | None = None
 
     def to_dict(self) -> dict[str, Any]:
-        return {"scale": self.scale, "k": self.k, "method": self.method, "required_answered": self.required,
-                "n_scored": self.n_scored, "n_unscored": self.n_unscored}
+        out = {"scale": self.scale, "k": self.k, "method": self.method, "required_answered": self.required,
+               "n_scored": self.n_scored, "n_unscored": self.n_unscored}
+        if self.standardized_basis is not None:
+            from .results import to_jsonable
+
+            out["z_basis"] = to_jsonable(self.standardized_basis)
+        return out
 
 
 @dataclass(frozen=True, eq=False)
@@ -137,8 +172,12 @@ class ScoreTable(ResultMixin):
 
 
 def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | None = None,
-                 scales: Iterable[str] | None = None) -> ScoreTable:
-    """Score every scale of ``spec`` (or those named) for every respondent."""
+                 scales: Iterable[str] | None = None, weights: Any = None) -> ScoreTable:
+    """Score every scale of ``spec`` (or those named) for every respondent.
+
+    ``weights`` (:class:`scalewright.weights.SurveyWeights`): ``z`` scores are then taken from the weighted
+    mean and sd; ``pomp`` does not depend on the sample, so weights do not change it.
+    """
     if standardize not in (None, *STANDARDIZE):
         raise UsageError(f"--standardize must be pomp or z, not {standardize!r}")
     names = list(scales) if scales is not None else list(spec.scales)
@@ -148,16 +187,19 @@ def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | No
         required = scale.required_answered()
         keyed = keyed_items(responses, scale)
         scores, answered = composite(keyed, method=scale.score, required=required)
-        standardized = None
+        standardized = basis = None
         if standardize == "pomp":
             standardized = pomp_of_composite(keyed, float(scale.response.min), float(scale.response.max),
                                              required=required)
+        elif standardize == "z" and weights is None:
+            standardized, basis = z_scores(scores), z_basis(scores)
         elif standardize == "z":
-            standardized = z_scores(scores)
+            basis = z_basis(scores, weights)
+            standardized = z_from_basis(scores, basis)
         n_scored = int(np.sum(~np.isnan(scores)))
         results[name] = ScaleScores(scale=name, scores=scores, answered=answered, required=required, k=scale.k,
                                     method=scale.score, n_scored=n_scored, n_unscored=responses.n - n_scored,
-                                    standardized=standardized)
+                                    standardized=standardized, standardized_basis=basis)
     id_name = spec.id_column or "row"
     return ScoreTable(ids=responses.ids, id_name=id_name, scales=results, standardize=standardize)
 

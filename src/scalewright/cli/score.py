@@ -29,7 +29,8 @@ from .common import (
 @scales_option
 @click.option("--standardize", type=click.Choice(STANDARDIZE), default=None,
               help="Also write a rescaled score beside the raw one, as <scale>__pomp (percent of maximum "
-                   "possible, 0-100) or <scale>__z (standard scores in this sample).")
+                   "possible, 0-100) or <scale>__z (standard scores in this sample; with survey weights from "
+                   "the weighted mean and sd).")
 @click.option("--force", is_flag=True, help="Replace --out if it exists (never an input file).")
 @weight_option
 @input_options
@@ -47,7 +48,8 @@ def score(data: Path, scales: Path, standardize: str | None, force: bool, lenien
         if out.exists() and not force:
             raise UsageError(f"{out} exists; add --force to replace it")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    table = score_scales(inputs.responses, inputs.spec, standardize=standardize)
+    weights = getattr(inputs.responses, "weights", None)
+    table = score_scales(inputs.responses, inputs.spec, standardize=standardize, weights=weights)
     summary = Table(
         title="Scores",
         columns=("scale", "items", "method", "needs answered", "scored", "not scored"),
@@ -58,13 +60,27 @@ def score(data: Path, scales: Path, standardize: str | None, force: bool, lenien
     if out is not None and out.suffix.lower() in SCORE_FILE_TYPES and fmt is None:
         write_scores(table, out, inputs=[data, scales, exclude])
         click.echo(f"wrote {out} ({inputs.responses.n} rows, {len(table.scales)} scale(s))", err=True)
-        for note in inputs.notes:
+        for note in [*inputs.notes, *_z_lines(table)]:
             click.echo(f"note: {visible_controls(note)}", err=True)
         return
     body = {"scores": table.to_dict(), "reading": inputs.responses.reading_summary()}
     tables = [summary, *_weighted(body, inputs, table)]
     emit(command="score", inputs=inputs, body=body, tables=tables, fmt=choose_format(fmt, out), out=out,
-         decimals=decimals, options={"standardize": standardize})
+         decimals=decimals, options={"standardize": standardize}, preface=_z_lines(table))
+
+
+def _z_lines(table) -> list[str]:
+    """What the z scores are taken from: the sample's mean and sd, or the weighted ones."""
+    if table.standardize != "z":
+        return []
+    from ..notes import note
+    from ..present.messages import describe
+
+    weighted = [s.standardized_basis["weight_column"] for s in table.scales.values()
+                if s.standardized_basis and s.standardized_basis.get("weighted")]
+    if weighted:
+        return [describe(note("z-weighted", weight_column=weighted[0]))]
+    return [describe(note("z-unweighted"))]
 
 
 def _weighted(body, inputs, table) -> list:

@@ -542,6 +542,10 @@ WEIGHTS: dict[str, str] = {
     "weighted-fit-impossible": "Fewer than two categories with weight to compare: no weighted test.",
     "weighted-moments-undefined": "Weighted skewness and kurtosis need at least 3 rows with weight "
                                   "whose values are not all the same (found {n} row(s)).",
+    "z-weighted": "z scores are taken from the weighted mean and sd of each score (weights {weight_column}; sd "
+                  "with the divisor sum(w) - sum(w^2)/sum(w)); rows of weight 0 get a z score but do not enter "
+                  "the mean and sd.",
+    "z-unweighted": "z scores are taken from the unweighted mean and sd of each score in this file (sd with n - 1).",
     "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
                         "= {n} (design effect of the weights {design_effect}).",
 }
