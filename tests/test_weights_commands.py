@@ -105,3 +105,90 @@ def test_z_scores_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_
     np.testing.assert_allclose(unweighted["support__z"], stats.zscore(score, ddof=1), rtol=1e-12)
     np.testing.assert_allclose(files["plain"]["support__z"], unweighted["support__z"], rtol=1e-12)
     np.testing.assert_allclose(files["scaled"]["support__z"], files["plain"]["support__z"], rtol=1e-12)
+
+
+# ----------------------------------------------------------------------------- confirm
+
+
+def _model_numbers(model: dict) -> dict[str, float]:
+    out = {key: model[key] for key in ("chi2", "cfi", "tli", "rmsea", "srmr")}
+    for item, loadings in model["loadings"].items():
+        for factor, value in loadings.items():
+            out[f"loading {item} {factor}"] = value
+            out[f"se {item} {factor}"] = model["loading_se"][item][factor]
+    for name, omega in model["omega"].items():
+        out[f"omega {name}"] = omega["omega_total"]
+    return out
+
+
+def test_confirm_integer_weights_equal_replicated_rows_against_semopy(tmp_path, capsys):
+    import logging
+
+    semopy = pytest.importorskip("semopy")
+    weights = np.random.default_rng(11).integers(1, 4, 150)
+    frame = climate(150, weights)
+    data, scales = write(tmp_path, frame)
+    models = run_json(capsys, "confirm", data, "--scales", scales)["models"]
+    copies = replicated(frame, weights)
+    # semopy (test reference only), computed live on the rows repeated w times, sp4 reverse-keyed as the tool does
+    keyed = copies[["sp1", "sp2", "sp3", "sp4"]].assign(sp4=6 - copies["sp4"]).astype(float)
+    logging.getLogger().setLevel(logging.ERROR)
+    reference = semopy.Model("support =~ sp1 + sp2 + sp3 + sp4")
+    reference.fit(keyed, options={"ftol": 1e-14, "maxiter": 20000})
+    standardized = reference.inspect(std_est=True)
+    support = models["support"]
+    for item in ("sp1", "sp2", "sp3", "sp4"):
+        row = standardized[(standardized.lval == item) & (standardized.rval == "support")]
+        assert support["loadings"][item]["support"] == pytest.approx(float(row["Est. Std"].iloc[0]), abs=1e-3)
+    # the chi-square differs by design: semopy's is N_rep x F_ML, ours n_eff x F_ML (Kish 1965)
+    n_eff = weights.sum() ** 2 / np.sum(weights**2)
+    theirs = semopy.calc_stats(reference).T["Value"]
+    assert support["chi2"] == pytest.approx(theirs["chi2"] * n_eff / weights.sum(), rel=1e-3)
+    assert support["weighted"]["n_effective"] == pytest.approx(n_eff, rel=1e-12)
+    assert support["weighted"]["n"] == 150
+    assert support["n_used"] == 150
+    # our unweighted fit of the replicated file: every standardized estimate equal, chi-square scaled by n_eff/N
+    data_copies, scales_copies = write(tmp_path / "copies", copies)
+    (tmp_path / "copies" / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = run_json(capsys, "confirm", data_copies, "--scales", scales_copies)["models"]
+    for name in ("support", "workload", "all"):
+        for item, loadings in plain[name]["loadings"].items():
+            for factor, value in loadings.items():
+                assert models[name]["loadings"][item][factor] == pytest.approx(value, rel=1e-6)
+        assert models[name]["chi2"] == pytest.approx(plain[name]["chi2"] * n_eff / weights.sum(), rel=1e-6)
+    assert models["all"]["factor_correlations"]["support"]["workload"] == pytest.approx(
+        plain["all"]["factor_correlations"]["support"]["workload"], rel=1e-6)
+
+
+def test_confirm_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_path, capsys):
+    frame = climate(120, 1.0)
+    frame["w3"] = 3.0
+    frame["wr"] = np.random.default_rng(4).uniform(0.5, 2, 120)
+    frame["wr10"] = frame["wr"] * 10
+    data, scales = write(tmp_path, frame)
+    ones = run_json(capsys, "confirm", data, "--scales", scales)["models"]
+    threes = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "w3")["models"]
+    varied = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "wr")["models"]
+    scaled = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "wr10")["models"]
+    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = run_json(capsys, "confirm", data, "--scales", scales)["models"]
+    for name in ("support", "workload", "all"):
+        # with all weights 1 np.cov(aweights=1) is np.cov, and Kish's n_eff is n: the unweighted fit exactly
+        for key, value in _model_numbers(plain[name]).items():
+            assert _model_numbers(ones[name])[key] == pytest.approx(value, rel=1e-9, abs=1e-12), key
+            assert _model_numbers(threes[name])[key] == pytest.approx(value, rel=1e-9, abs=1e-12), key
+        for key, value in _model_numbers(varied[name]).items():
+            assert _model_numbers(scaled[name])[key] == pytest.approx(value, rel=1e-9, abs=1e-12), key
+        assert ones[name]["weighted"]["weighted"] is True
+        assert "weighted" not in plain[name]
+
+
+@pytest.mark.parametrize("extra", [["--ordinal"], ["--missing", "pairwise"], ["--by", "site"]])
+def test_confirm_with_weights_refuses_what_it_cannot_weight(tmp_path, capsys, extra):
+    data, scales = write(tmp_path, climate(60, 1.0))
+    code = main([str(a) for a in ("confirm", data, "--scales", scales, *extra)])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.startswith("error: ")
+    assert err.count("\n") == 1
+    assert "weight" in err

@@ -78,9 +78,36 @@ class ModelInput:
     """What one model is fitted to: the matrix, its n, DWLS weights (ordinal only) and the missing block."""
 
     matrix: np.ndarray
-    n: int
+    n: float  # a count, or Kish's effective n with survey weights
     weights: np.ndarray | None
     missing: Any
+    #: with survey weights: the weighted-block keys of the JSON contract
+    weighted: dict[str, Any] | None = None
+
+
+def weighted_model_input(spec: Any, responses: Any, items: Sequence[str], *, scope: str = "scale") -> ModelInput:
+    """The weighted covariance matrix of the keyed ``items`` (listwise: every item answered, positive weight;
+    divisor sum(w) - sum(w^2)/sum(w)) with Kish's effective sample size as n.
+
+    The estimates equal those of the rows repeated w times (integer weights); the chi-square, the fit
+    indices that use N and the standard errors use n_eff, which is approximate unless the weights are the
+    whole design (no strata, no clusters).
+    """
+    from ..stats.missing import missing_handling
+    from ..stats.weighted import design_effect, kish_effective_n, weighted_covariance
+
+    items = list(items)
+    matrix = _keyed_matrix(spec, responses, items)
+    w = responses.weights.values
+    used = np.isfinite(matrix).all(axis=1) & (w > 0)
+    summary, _ = pattern_summary(spec, responses, items)
+    handling = missing_handling(summary, "listwise", n_used=int(used.sum()), scope=scope, item_names=tuple(items))
+    n_eff = kish_effective_n(w[used]) if used.any() else 0.0
+    block = {"weighted": True, "weight_column": responses.weights.column, "n": int(used.sum()),
+             "n_zero_weight": int(np.count_nonzero(np.isfinite(matrix).all(axis=1) & (w == 0))),
+             "n_effective": n_eff, "sum_of_weights": float(w[used].sum()), "design_effect": design_effect(w[used]),
+             "fit_n": "n_effective"}
+    return ModelInput(matrix=weighted_covariance(matrix, w), n=n_eff, weights=None, missing=handling, weighted=block)
 
 
 def model_input(spec: Any, responses: Any, items: Sequence[str], *, missing: str = "listwise",
@@ -150,6 +177,8 @@ class ConfirmAnalysis:
     correlation_type: str = "covariance"
     missing_by_model: dict[str, Any] = field(default_factory=dict)
     notes: tuple[Any, ...] = ()
+    #: with survey weights: per model the weighted-block keys (``weighted``, ``weight_column``, ``n``, ...)
+    weighted_by_model: dict[str, Any] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         from ..results import to_jsonable
@@ -160,6 +189,10 @@ class ConfirmAnalysis:
             if name in self.missing_by_model:
                 models[name].update(self.missing_by_model[name].to_dict())
                 models[name]["missing_notes"] = self.missing_by_model[name].note_dicts
+            if name in self.weighted_by_model:
+                # n_used stays a count of respondents; the fit's N (chi-square, RMSEA, SEs) is n_effective
+                models[name]["n_used"] = self.weighted_by_model[name]["n"]
+                models[name]["weighted"] = to_jsonable(self.weighted_by_model[name])
         out: dict[str, Any] = {"models": models,
                                "observed_score_correlations": to_jsonable(self.observed_correlations),
                                "missing": self.missing_handling, "estimator": self.estimator,
@@ -194,20 +227,27 @@ def one_factor_models(spec: Any, responses: Any, *, pairwise: bool = False) -> d
 
 def analyse_confirm(spec: Any, responses: Any, *, pairwise: bool = False, confidence_level: float = 0.95,
                     scales: Sequence[str] | None = None, whole_file: bool = True, missing: str | None = None,
-                    ordinal: bool = False) -> ConfirmAnalysis:
+                    ordinal: bool = False, weighted: bool = False) -> ConfirmAnalysis:
     """Fit the one-factor model of each scale and the whole-file model (correlated factors or bifactor).
 
     ``missing``: listwise, pairwise or em (default: pairwise if ``pairwise`` else listwise). ``ordinal``:
-    fit by diagonally weighted least squares on the polychoric correlations (Muthen 1984).
+    fit by diagonally weighted least squares on the polychoric correlations (Muthen 1984). ``weighted``:
+    fit by ML to the weighted covariance matrix with Kish's n_eff as N (:func:`weighted_model_input`; the
+    responses carry the survey weights; listwise and not ordinal only).
     """
+    from ..errors import UsageError
+
     method = missing or ("pairwise" if pairwise else "listwise")
+    if weighted and (ordinal or method != "listwise"):
+        raise UsageError("survey weights: confirmatory models are fitted to the weighted covariance matrix of "
+                         "complete answers; use them without --ordinal and with --missing listwise")
     with one_blas_thread():
         return _analyse_confirm(spec, responses, missing=method, ordinal=ordinal, confidence_level=confidence_level,
-                                names=list(scales or spec.scales), whole_file=whole_file)
+                                names=list(scales or spec.scales), whole_file=whole_file, weighted=weighted)
 
 
 def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, confidence_level: float,
-                     names: list[str], whole_file: bool) -> ConfirmAnalysis:
+                     names: list[str], whole_file: bool, weighted: bool = False) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
     from ..notes import note
     from ..stats.cfa_fit import fit
@@ -224,27 +264,34 @@ def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, 
 
     def one_scale(name: str) -> tuple[Any, Any]:
         items = memberships[name]
-        given = model_input(spec, responses, items, missing=missing, ordinal=ordinal, scope="confirm-scale")
+        given = (weighted_model_input(spec, responses, items, scope="confirm-scale") if weighted else
+                 model_input(spec, responses, items, missing=missing, ordinal=ordinal, scope="confirm-scale"))
         fitted = fitted_to(given, factor_model({name: items}))
         return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
 
     done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
     models = {name: pair[0] for name, pair in done.items()}
     missing_by_model = {name: pair[1].missing for name, pair in done.items()}
+    weighted_by_model = {name: pair[1].weighted for name, pair in done.items() if pair[1].weighted}
     observed: dict[str, dict[str, float]] = {}
     if whole_file and len(names) >= 2:
         membership, orthogonal, totals = scale_file_structure(memberships)
         model = factor_model(membership, orthogonal=orthogonal)
-        given = model_input(spec, responses, model.items, missing=missing, ordinal=ordinal, scope="confirm-file",
-                            em_items=list(spec.items) if missing == "em" else None)
+        given = (weighted_model_input(spec, responses, model.items, scope="confirm-file") if weighted else
+                 model_input(spec, responses, model.items, missing=missing, ordinal=ordinal, scope="confirm-file",
+                             em_items=list(spec.items) if missing == "em" else None))
         fitted = fitted_to(given, model)
         models[WHOLE_FILE] = summarize_fit(fitted, name=WHOLE_FILE, scales=memberships, totals=totals, hints=True,
                                            confidence_level=confidence_level)
         missing_by_model[WHOLE_FILE] = given.missing
+        if given.weighted:
+            weighted_by_model[WHOLE_FILE] = given.weighted
         if not ordinal:  # observed score correlations need the covariances, not the polychoric correlations
             observed = observed_score_correlations(given.matrix, model.items, memberships)
     notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    if weighted:
+        notes += (note("confirm-weighted", weight_column=responses.weights.column),)
     return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing,
                            n_rows=responses.n, estimator=estimator,
                            correlation_type="polychoric" if ordinal else "covariance",
-                           missing_by_model=missing_by_model, notes=notes)
+                           missing_by_model=missing_by_model, notes=notes, weighted_by_model=weighted_by_model)

@@ -16,6 +16,7 @@ from .common import (
     require,
     resolve_missing,
     scales_option,
+    weight_option,
 )
 
 
@@ -35,6 +36,7 @@ from .common import (
               help="With --by: subgroup levels with fewer respondents are named but left out.")
 @click.option("--strict", "with_strict", is_flag=True,
               help="With --by: also test strict invariance (equal residual variances).")
+@weight_option
 @input_options
 @output_options
 def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, pairwise: bool, ordinal: bool,
@@ -60,8 +62,16 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
     require(not (by and (ordinal or method == "em")), "--by (invariance) fits means and covariances by maximum "
                                                       "likelihood; use it without --ordinal and --missing em")
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    weighted = getattr(inputs.responses, "weights", None) is not None
+    if weighted:
+        # weighted polychoric tables would need weighted SEs for the DWLS weights too: refused, not guessed
+        require(not ordinal, "--ordinal cannot use survey weights yet (the polychoric correlations are of "
+                             "unweighted answer tables); leave out --ordinal or the weight column")
+        require(method == "listwise", f"survey weights work with --missing listwise only (the weighted covariance "
+                                      f"of complete answers), not {method}")
+        require(not by, "--by (invariance) does not use survey weights yet; leave out --by or the weight column")
     analysis = analyse_confirm(inputs.spec, inputs.responses, missing=method, ordinal=ordinal,
-                               confidence_level=confidence_level)
+                               confidence_level=confidence_level, weighted=weighted)
     pairwise = method == "pairwise"
     if by:
         from ..analyses.invariance import analyse_invariance
@@ -71,6 +81,7 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
     body = {**analysis.to_dict(), "reading": inputs.responses.reading_summary()}
     options = {"by": list(by), "missing": method, "ordinal": ordinal,
                "confidence_level": confidence_level, "min_group": min_group, "strict": with_strict,
-               "estimator": analysis.estimator}
+               "estimator": analysis.estimator,
+               "weight": inputs.responses.weights.column if weighted else None}
     emit(command="confirm", inputs=inputs, body=body, tables=confirm_tables(analysis), fmt=fmt, out=out,
          decimals=decimals, options=options)

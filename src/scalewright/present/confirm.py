@@ -171,11 +171,15 @@ def confirmatory_summary(model: Any) -> dict[str, Any]:
 
 def confirm_tables(analysis: Any) -> list[Table]:
     """Tables of a :class:`~scalewright.analyses.confirm.ConfirmAnalysis`."""
+    from ..notes import note
     from .missing import missing_lines
 
     extra = [describe(n) for n in getattr(analysis, "notes", ())]
     for name, handling in getattr(analysis, "missing_by_model", {}).items():
         extra += [f"{name}: {line}" for line in missing_lines(handling)]
+    for name, block in getattr(analysis, "weighted_by_model", {}).items():
+        extra.append(f"{name}: " + describe(note("weighted-ci-kish", n_effective=block["n_effective"], n=block["n"],
+                                                 design_effect=block["design_effect"])))
     tables = [fit_table(analysis.models, tuple(extra)), loadings_table(analysis.models),
               omega_table(analysis.models)]
     for extra in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),

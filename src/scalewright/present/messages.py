@@ -546,6 +546,11 @@ WEIGHTS: dict[str, str] = {
                   "with the divisor sum(w) - sum(w^2)/sum(w)); rows of weight 0 get a z score but do not enter "
                   "the mean and sd.",
     "z-unweighted": "z scores are taken from the unweighted mean and sd of each score in this file (sd with n - 1).",
+    "confirm-weighted": "Every model is fitted by maximum likelihood to the weighted covariance matrix (weights "
+                        "{weight_column}; complete answers). The chi-square, the fit indices that use N and the "
+                        "standard errors take Kish's effective sample size as N: this inference is approximate "
+                        "without the sampling design (strata, clusters), for which design-based survey software "
+                        "is needed.",
     "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
                         "= {n} (design effect of the weights {design_effect}).",
 }

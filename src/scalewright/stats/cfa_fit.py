@@ -13,7 +13,8 @@ Call signature for other modules (e.g. ordinal items on polychoric correlations)
   order of ``model.items``. For ``ml`` these are covariance matrices with divisor ``n - 1`` (``ddof=1``,
   as :func:`scalewright.stats.item_covariance.item_covariance` gives; pass ``ddof=0`` for divisor n).
   For ``uls``/``dwls`` the matrix is fitted as given (e.g. a polychoric correlation matrix).
-* ``n``: the sample size (or one per group).
+* ``n``: the sample size (or one per group); with survey weights Kish's effective size (a float) and ``cov``
+  the weighted covariance with divisor sum(w) - sum(w^2)/sum(w), which ``ddof=1`` rescales to divisor sum(w).
 * ``means``: item means (or one vector per group); required when the model has a mean structure.
 * ``estimator``: ``"ml"``, ``"uls"`` or ``"dwls"``.
 * ``weights``: for ``dwls`` only, a (p, p) symmetric array of non-negative weights of the elements
@@ -61,8 +62,9 @@ class CfaFit:
     notes: tuple[Note, ...] = field(default=())
 
     @property
-    def n_total(self) -> int:
-        return int(sum(self.n))
+    def n_total(self) -> float:
+        """The total sample size: an integer, or Kish's effective size of survey weights (not a whole number)."""
+        return _sample_size(sum(self.n))
 
     @property
     def fitted(self) -> bool:
@@ -282,6 +284,12 @@ def _as_list(value: Any, n_groups: int, name: str) -> list:
     return values
 
 
+def _sample_size(value: Any) -> Any:
+    """A count as int; a fractional size (Kish's effective n of survey weights) stays a float."""
+    number = float(value)
+    return int(number) if number.is_integer() else number
+
+
 def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "ml", weights: Any = None, *,
         ddof: int = 1, max_iter: int = 500, tolerance: float = 1e-9, start: np.ndarray | None = None) -> CfaFit:
     """Fit ``model`` to covariance matrices by maximum likelihood (default) or least squares.
@@ -312,7 +320,7 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
         raise UsageError(f"estimator must be one of {', '.join(ESTIMATORS)}, not {estimator!r}")
     groups = model.n_groups
     covs = [np.asarray(c, dtype=np.float64) for c in _as_list(cov, groups, "cov")]
-    ns = [int(v) for v in _as_list(n, groups, "n")]
+    ns = [_sample_size(v) for v in _as_list(n, groups, "n")]
     mean_list = [None if v is None else np.asarray(v, dtype=np.float64) for v in _as_list(means, groups, "means")]
     p = len(model.items)
     for c in covs:
