@@ -98,7 +98,7 @@ def test_absent_weight_column_is_named(tmp_path):
 
 def test_command_without_weights_says_its_results_are_unweighted(tmp_path, capsys):
     data, scales, _ = make_files(tmp_path)
-    code, out, _ = run(capsys, "structure", data, "--scales", scales, "--format", "json")
+    code, out, _ = run(capsys, "screen", data, "--scales", scales, "--format", "json")
     assert code == 0
     assert "does not use weights yet" in out
 

@@ -192,3 +192,83 @@ def test_confirm_with_weights_refuses_what_it_cannot_weight(tmp_path, capsys, ex
     assert err.startswith("error: ")
     assert err.count("\n") == 1
     assert "weight" in err
+
+
+# ----------------------------------------------------------------------------- structure
+
+ITEMS = ["sp1", "sp2", "sp3", "sp4", "wl1", "wl2", "wl3", "wl4"]
+
+
+def _keyed(frame: pd.DataFrame) -> np.ndarray:
+    return frame[ITEMS].assign(sp4=6 - frame["sp4"]).to_numpy(float)
+
+
+def _loadings(body: dict) -> np.ndarray:
+    return np.array([body["loadings"][item] for item in ITEMS])
+
+
+def test_structure_integer_weights_equal_replicated_rows(tmp_path, capsys):
+    from factor_analyzer import FactorAnalyzer, calculate_bartlett_sphericity, calculate_kmo
+    from scipy import stats
+
+    weights = np.random.default_rng(6).integers(1, 4, 160)
+    frame = climate(160, weights)
+    data, scales = write(tmp_path, frame)
+    body = run_json(capsys, "structure", data, "--scales", scales, "--factors", "2")
+    copies = _keyed(replicated(frame, weights))
+    # numpy: correlations and eigenvalues of the rows repeated w times
+    r = np.corrcoef(copies, rowvar=False)
+    ours = np.array([[body["correlation"][a][b] for b in ITEMS] for a in ITEMS])
+    np.testing.assert_allclose(ours, r, rtol=1e-10)
+    np.testing.assert_allclose(body["parallel"]["observed"], np.linalg.eigvalsh(r)[::-1], rtol=1e-10)
+    # factor_analyzer (computed live) on the replicated rows: KMO and minres/oblimin loadings
+    _, kmo_overall = calculate_kmo(copies)
+    assert body["kmo"] == pytest.approx(kmo_overall, abs=1e-6)
+    reference = FactorAnalyzer(n_factors=2, rotation="oblimin", method="minres", use_smc=True, is_corr_matrix=False,
+                               bounds=(0.005, 1), impute="drop", svd_method="lapack", rotation_kwargs={}).fit(copies)
+    theirs = reference.loadings_
+    mine = _loadings(body)
+    order = [int(np.argmax(np.abs(np.corrcoef(mine.T, theirs.T)[j, 2:]))) for j in range(2)]
+    signs = np.sign([np.sum(mine[:, j] * theirs[:, order[j]]) for j in range(2)])
+    np.testing.assert_allclose(theirs[:, order] * signs, mine, atol=1e-4)
+    # Bartlett's test differs by design: factor_analyzer's uses N_rep rows, ours Kish's n_eff (Bartlett 1950 formula)
+    chi2_rep, _ = calculate_bartlett_sphericity(copies)
+    n_eff = weights.sum() ** 2 / np.sum(weights**2)
+    p = len(ITEMS)
+    expected = chi2_rep * (n_eff - 1 - (2 * p + 5) / 6) / (len(copies) - 1 - (2 * p + 5) / 6)
+    assert body["bartlett"]["chi2"] == pytest.approx(expected, rel=1e-8)
+    assert body["bartlett"]["pvalue"] == pytest.approx(stats.chi2.sf(expected, p * (p - 1) / 2), rel=1e-6)
+    assert body["parallel"]["n"] == round(n_eff)
+    block = body["weighted"]
+    assert block["weighted"] is True
+    assert block["n"] == 160
+    assert block["n_effective"] == pytest.approx(n_eff, rel=1e-12)
+    assert block["sum_of_weights"] == pytest.approx(weights.sum())
+    assert body["n_used"] == 160
+
+
+def test_structure_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_path, capsys):
+    frame = climate(140, 1.0)
+    frame["wr"] = np.random.default_rng(12).uniform(0.3, 3, 140)
+    frame["wr100"] = frame["wr"] * 100
+    frame.loc[:4, ["wr", "wr100"]] = 0.0  # rows of weight 0 are left out of the estimates
+    data, scales = write(tmp_path, frame)
+    ones = run_json(capsys, "structure", data, "--scales", scales)
+    varied = run_json(capsys, "structure", data, "--scales", scales, "--weight", "wr")
+    scaled = run_json(capsys, "structure", data, "--scales", scales, "--weight", "wr100")
+    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = run_json(capsys, "structure", data, "--scales", scales)
+    for reference, other in ((plain, ones), (varied, scaled)):
+        # the unweighted route sums exact integer cross-products, the weighted one calls np.cov: the last bits of
+        # the correlations differ, and the iterative factoring carries them to about 1e-9 in the loadings
+        np.testing.assert_allclose(_loadings(other), _loadings(reference), rtol=0, atol=1e-8)
+        np.testing.assert_allclose(other["parallel"]["observed"], reference["parallel"]["observed"], rtol=1e-10)
+        np.testing.assert_allclose(other["parallel"]["random"], reference["parallel"]["random"], rtol=1e-10)
+        for key in ("kmo", "n_factors", "n_used"):
+            assert other[key] == pytest.approx(reference[key], rel=1e-10), key
+        assert other["bartlett"]["chi2"] == pytest.approx(reference["bartlett"]["chi2"], rel=1e-9)
+        assert other["unidimensionality"]["support"]["eigen_ratio"] == pytest.approx(
+            reference["unidimensionality"]["support"]["eigen_ratio"], rel=1e-9)
+    assert varied["weighted"]["n_zero_weight"] == 5
+    assert varied["weighted"]["n"] == 135
+    assert "weighted" not in plain

@@ -14,7 +14,9 @@ from .common import (
     missing_option,
     output_options,
     resolve_missing,
+    require,
     scales_option,
+    weight_option,
 )
 from .engine_route import dataset_argument, engine_options, first_needing_rows, load_summaries
 
@@ -56,6 +58,7 @@ def parse_factors(value: str | None) -> int | str | None:
 @click.option("--ordinal", is_flag=True,
               help="Factor the polychoric correlations of the items (answers as ordered categories).")
 @missing_option
+@weight_option
 @input_options
 @engine_options
 @output_options
@@ -89,18 +92,30 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     options = dict(n_factors=n_factors, rotation=rotation, method=method, seed=seed, iterations=iterations,
                    min_loading=min_loading, max_cross_loading=cross_loading)
+    weighted_block = None
     if summarised:
         from ..analyses.summarised import structure_from_summaries
 
         result = structure_from_summaries(inputs.spec, summarised.summary, **options)
+    elif getattr(inputs.responses, "weights", None) is not None:
+        from ..analyses.weighted_structure import weighted_structure_of_file
+
+        require(not ordinal, "--ordinal cannot use survey weights yet (the polychoric correlations are of "
+                             "unweighted answer tables); leave out --ordinal or the weight column")
+        require(missing_method == "listwise", f"survey weights work with --missing listwise only (the weighted "
+                                              f"covariance of complete answers), not {missing_method}")
+        result, weighted_block = weighted_structure_of_file(inputs.spec, inputs.responses, **options)
     else:
         result = analyse_structure_of_file(inputs.spec, inputs.responses, ordinal=ordinal, missing=missing_method,
                                            **options)
     body = result.to_dict()
+    if weighted_block is not None:
+        body["weighted"] = weighted_block
     if summarised:
         body["engine"] = summarised.engine
     options = {"factors": factors or "parallel analysis", "rotation": rotation, "method": method,
                "iterations": iterations, "seed": seed, "min_loading": min_loading, "cross_loading": cross_loading,
-               "ordinal": ordinal, "missing": missing_method}
+               "ordinal": ordinal, "missing": missing_method,
+               "weight": weighted_block["weight_column"] if weighted_block else None}
     emit(command="structure", inputs=inputs, body=body, tables=structure_tables(result), fmt=fmt, out=out,
          decimals=decimals, options=options)

@@ -551,6 +551,11 @@ WEIGHTS: dict[str, str] = {
                         "standard errors take Kish's effective sample size as N: this inference is approximate "
                         "without the sampling design (strata, clusters), for which design-based survey software "
                         "is needed.",
+    "structure-weighted": "Every statistic uses the correlations of the weighted covariance matrix (weights "
+                          "{weight_column}; complete answers, {n} respondents). Bartlett's test takes Kish's "
+                          "effective sample size n_eff = {n_effective} as n and parallel analysis draws random data "
+                          "of {parallel_n} rows: approximate without the sampling design (strata, clusters), for "
+                          "which design-based survey software is needed.",
     "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
                         "= {n} (design effect of the weights {design_effect}).",
 }

@@ -15,7 +15,9 @@ EIGENVALUES_SHOWN = 8
 
 def _correlation_sentences(result: Any) -> tuple[str, ...]:
     if getattr(result, "correlation_type", "pearson") == "pearson":
-        return ()
+        from .messages import describe
+
+        return tuple(describe(n) for n in getattr(result, "correlation_notes", ()) if n.code == "structure-weighted")
     from .ordinal import ordinal_sentences
 
     return ("every statistic below uses the polychoric correlations of the items (Olsson, 1979, two-step "

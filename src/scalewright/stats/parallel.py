@@ -130,7 +130,7 @@ def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100,
     correlation : (p, p) array
         Observed item correlation matrix.
     n : int
-        Number of respondents behind it.
+        Number of respondents behind it (a fractional effective n is rounded to whole rows).
     iterations : int
         Number of random data sets B.
     percentile : float
@@ -157,6 +157,7 @@ def parallel_analysis(correlation: np.ndarray, n: int, *, iterations: int = 100,
         raise UsageError(f"the parallel-analysis percentile must lie between 0 and 100, not {percentile!r}")
     correlation = np.asarray(correlation, dtype=float)
     p = correlation.shape[0]
+    n = int(round(n))  # Kish's effective n of survey weights: random data sets have whole rows
     observed = np.linalg.eigvalsh(correlation)[::-1]
     simulated = random_eigenvalues(n, p, iterations=int(iterations), seed=seed, sampler=sampler)
     threshold = np.percentile(simulated, percentile, axis=0)

@@ -146,7 +146,8 @@ def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], it
         n_rows = keyed.shape[0]
     else:
         n, n_rows = covariance.n_used, covariance.n_rows
-        set_aside, handling = n_rows - n, None
+        # n_used may be Kish's effective n (survey weights); the rows set aside are counted rows
+        set_aside, handling = n_rows - covariance.n_complete, None
         constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
         correlation_all = _correlation_of_covariance(covariance.cov, constant)
     if set_aside and missing == "listwise":
