@@ -272,3 +272,75 @@ def test_structure_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp
     assert varied["weighted"]["n_zero_weight"] == 5
     assert varied["weighted"]["n"] == 135
     assert "weighted" not in plain
+
+
+# ----------------------------------------------------------------------------- screen
+
+
+def test_weighted_mahalanobis_equals_replicated_rows_against_scipy():
+    from scipy.spatial.distance import mahalanobis
+
+    from scalewright.stats.quality import mahalanobis_distance
+
+    weights = np.random.default_rng(21).integers(1, 4, 90)
+    x = _keyed(climate(90, weights))
+    ours = mahalanobis_distance(x, weights=weights.astype(float))
+    copies = np.repeat(x, weights, axis=0)
+    inverse = np.linalg.inv(np.cov(copies, rowvar=False))
+    centre = copies.mean(axis=0)
+    # scipy.spatial.distance.mahalanobis (a square root) from the replicated rows' mean and covariance. The
+    # sums of squares agree; the divisors differ by design: V1 - V2/V1 for survey weights, N_rep - 1 for copies
+    v1, v2 = weights.sum(), np.sum(weights**2)
+    expected = np.array([mahalanobis(row, centre, inverse) ** 2 for row in x]) * (v1 - v2 / v1) / (v1 - 1)
+    np.testing.assert_allclose(ours.d2, expected, rtol=1e-9)
+
+
+def test_weighted_pairwise_moments_against_numpy_per_pair():
+    from scalewright.stats.weighted import weighted_pairwise_moments
+
+    rng = np.random.default_rng(5)
+    x = _keyed(climate(80, 1.0))
+    x[rng.random(x.shape) < 0.1] = np.nan
+    w = rng.uniform(0.2, 3, 80)
+    w[:4] = 0
+    means, cov = weighted_pairwise_moments(x, w)
+    for j in range(x.shape[1]):
+        rows = np.isfinite(x[:, j]) & (w > 0)
+        assert means[j] == pytest.approx(np.average(x[rows, j], weights=w[rows]), rel=1e-12)  # numpy
+        for k in range(x.shape[1]):
+            both = np.isfinite(x[:, j]) & np.isfinite(x[:, k]) & (w > 0)
+            # numpy's cov with aweights over the rows answering both: divisor V1 - V2/V1
+            reference = np.cov(x[both, j], x[both, k], aweights=w[both], ddof=1)[0, 1]
+            assert cov[j, k] == pytest.approx(reference, rel=1e-10)
+
+
+def test_screen_unit_weights_equal_unweighted_scaling_changes_nothing_zero_weights_kept(tmp_path, capsys):
+    frame = climate(150, 1.0, seed=9)
+    frame.loc[:6, ITEMS] = 3  # a few long runs, so something is flagged
+    frame["wr"] = np.random.default_rng(8).uniform(0.2, 4, 150)
+    frame.loc[10:12, "wr"] = 0.0
+    frame["wr5"] = frame["wr"] * 5
+    data, scales = write(tmp_path, frame)
+    ones = run_json(capsys, "screen", data, "--scales", scales)
+    varied = run_json(capsys, "screen", data, "--scales", scales, "--weight", "wr")
+    scaled = run_json(capsys, "screen", data, "--scales", scales, "--weight", "wr5")
+    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = run_json(capsys, "screen", data, "--scales", scales)
+    for reference, other in ((plain, ones), (varied, scaled)):
+        assert [r["flags"] for r in other["respondents"]] == [r["flags"] for r in reference["respondents"]]
+        np.testing.assert_allclose([r["mahalanobis_d2"] for r in other["respondents"]],
+                                   [r["mahalanobis_d2"] for r in reference["respondents"]], rtol=1e-9)
+    block = varied["summary"]["weighted"]
+    assert len(varied["respondents"]) == 150  # rows of weight 0 are screened too
+    assert block["n_zero_weight"] == 3
+    w = frame["wr"].to_numpy()
+    flagged = np.array([r["flagged"] for r in varied["respondents"]])
+    # numpy: the share of the sum of weights the flagged rows carry
+    assert block["flagged_pct"] == pytest.approx(100 * w[flagged].sum() / w.sum(), rel=1e-12)
+    assert block["flagged_unweighted_pct"] == pytest.approx(100 * flagged.mean(), rel=1e-12)
+    runs = np.array(["long-run" in r["flags"] for r in varied["respondents"]])
+    assert block["flag_pct"]["long-run"] == pytest.approx(100 * w[runs].sum() / w.sum(), rel=1e-12)
+    assert block["weighted"] is True
+    assert block["n_effective"] == pytest.approx(w.sum() ** 2 / np.sum(w**2))  # Kish (1965)
+    assert ones["summary"]["weighted"]["flagged_pct"] == pytest.approx(100 * plain["summary"]["flagged_share"])
+    assert "weighted" not in plain["summary"]

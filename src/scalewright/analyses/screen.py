@@ -34,6 +34,35 @@ def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = N
             raise DataError(f"{responses.path}: column {duration_column!r}, row {int(responses.line_numbers[first])}: "
                             f"{column.iloc[first]!r} is not a number of seconds or minutes")
         durations = values.to_numpy(dtype=float, na_value=np.nan)
+    weights = getattr(responses, "weights", None)
     return screen_respondents(raw, keyed, ids=[str(i) for i in responses.ids],
                               thresholds=thresholds or ScreenThresholds(), durations=durations,
-                              duration_unit=duration_unit)
+                              duration_unit=duration_unit, weights=None if weights is None else weights.values)
+
+
+def weighted_screen_summary(result: Any, weights: Any) -> dict[str, Any]:
+    """The shares of flagged respondents weighted (percent of the sum of weights) beside the unweighted counts.
+
+    Flags are a respondent's own and do not depend on their weight; the weighted share says how much of the
+    population the flagged records stand for. Rows of weight 0 are flagged like any other but weigh nothing.
+    """
+    import numpy as np
+
+    from ..stats.weighted import design_effect, kish_effective_n
+
+    w = np.asarray(weights.values, dtype=float)
+    total = float(w.sum())
+
+    def share(mask: np.ndarray) -> float:
+        return 100.0 * float(w[mask].sum()) / total if total > 0 else float("nan")
+
+    flagged = np.asarray(result.flagged, dtype=bool)
+    per_flag: dict[str, float | None] = {}
+    for code, count in result.flag_counts().items():
+        per_flag[code] = None if count is None else share(np.array([code in codes for codes in result.flags],
+                                                                    dtype=bool).reshape(-1))
+    return {"weighted": True, "weight_column": weights.column, "n": int(w.size),
+            "n_zero_weight": weights.n_zero_weight, "n_effective": kish_effective_n(w), "sum_of_weights": total,
+            "design_effect": design_effect(w), "n_flagged": int(flagged.sum()), "flagged_pct": share(flagged),
+            "flagged_unweighted_pct": 100.0 * float(flagged.mean()) if flagged.size else float("nan"),
+            "flag_pct": per_flag}

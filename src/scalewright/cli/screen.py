@@ -5,7 +5,7 @@ from pathlib import Path
 
 import click
 
-from ..analyses.screen import analyse_screen
+from ..analyses.screen import analyse_screen, weighted_screen_summary
 from ..errors import UsageError
 from .common import (
     choose_format,
@@ -15,6 +15,7 @@ from .common import (
     load_inputs,
     output_options,
     scales_option,
+    weight_option,
 )
 
 
@@ -45,6 +46,7 @@ from .common import (
               show_default=True, help="List 'many-missing' above this share of unanswered items.")
 @click.option("--duplicate-min-items", type=click.IntRange(min=1), default=10, show_default=True,
               help="Flag identical answer rows only when at least this many items are answered.")
+@weight_option
 @input_options
 @output_options
 def screen(data: Path, scales: Path, duration_column: str | None, duration_unit: str, speed_share: float, flagged_only: bool,
@@ -73,16 +75,27 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
     result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds,
                             duration_unit=duration_unit)
     document = result.to_dict()
+    weights = getattr(inputs.responses, "weights", None)
+    weighted_tables = []
+    if weights is not None:
+        from ..present.weighted import weighted_screen_table
+        from ..results import to_jsonable
+
+        block = weighted_screen_summary(result, weights)
+        document["summary"]["weighted"] = to_jsonable(block)
+        weighted_tables.append(weighted_screen_table(block, result.flag_counts(), result.n))
     if out is not None and fmt is None and out.suffix.lower() == ".csv":
         write_atomic(out, respondents_csv(document, flagged_only=flagged_only), inputs=[data, scales])
         written = result.n if not flagged_only else int(result.flagged.sum())
         click.echo(f"wrote {out} ({written} respondent(s); {int(result.flagged.sum())} of {result.n} flagged)",
                    err=True)
-        for note in (*inputs.notes, *screen_notes(document), *duplicate_notes(document)):
+        lines = [t.notes[0] for t in weighted_tables]
+        for note in (*inputs.notes, *screen_notes(document), *duplicate_notes(document), *lines):
             click.echo(f"note: {visible_controls(note)}", err=True)
         return
     if flagged_only:
         document["respondents"] = [r for r in document["respondents"] if r["flagged"]]
-    emit(command="screen", inputs=inputs, body=document, tables=screen_tables(result.to_dict(), flagged_only=True),
+    emit(command="screen", inputs=inputs, body=document,
+         tables=[*screen_tables(result.to_dict(), flagged_only=True), *weighted_tables],
          fmt=choose_format(fmt, out), out=out, decimals=decimals,
          options={"duration_column": duration_column, "flagged_only": flagged_only, "excluded": inputs.excluded})

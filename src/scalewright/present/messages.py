@@ -556,6 +556,10 @@ WEIGHTS: dict[str, str] = {
                           "effective sample size n_eff = {n_effective} as n and parallel analysis draws random data "
                           "of {parallel_n} rows: approximate without the sampling design (strata, clusters), for "
                           "which design-based survey software is needed.",
+    "screen-weighted": "Flags are each respondent's own and do not depend on their weight; the Mahalanobis "
+                       "distance is measured from the weighted means and covariance (weights {weight_column}), "
+                       "so its flags can differ from an unweighted screen. The weighted share is the part of the "
+                       "sum of weights the flagged respondents carry.",
     "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
                         "= {n} (design effect of the weights {design_effect}).",
 }

@@ -132,3 +132,23 @@ def weighted_scores_table(found: dict) -> Table:
                  columns=("scale", "scored", "effective n", "weighted mean", "weighted sd"), rows=rows,
                  kinds={"scale": "text", "scored": "int"},
                  notes=(weights_line(first),) if first is not None else ())
+
+
+def weighted_screen_table(block: dict, counts: dict, n: int) -> Table:
+    """Share of the respondents and of the sum of weights carrying each flag (flags themselves are unweighted)."""
+    rows = [("flagged (any)", block["n_flagged"], block["flagged_unweighted_pct"], block["flagged_pct"])]
+    for code, count in counts.items():
+        if count is None or not count:
+            continue
+        rows.append((code, count, 100.0 * count / n if n else None, block["flag_pct"][code]))
+    line = (f"weighted by {block['weight_column']}: n = {block['n']}, effective n (Kish) = "
+            f"{format_value(block['n_effective'], 'num', 1)}, sum of weights = "
+            f"{format_value(block['sum_of_weights'], 'num', 1)}"
+            + (f", {block['n_zero_weight']} with weight 0 (screened, weigh nothing)" if block["n_zero_weight"] else ""))
+    from ..notes import note
+
+    return Table(title="Flagged respondents, weighted", key="screen_weighted",
+                 columns=("flag", "respondents", "share of respondents %", "weighted share %"),
+                 rows=tuple(rows), kinds={"flag": "text", "respondents": "int", "share of respondents %": "pct",
+                                          "weighted share %": "pct"},
+                 notes=(line, describe(note("screen-weighted", weight_column=block["weight_column"]))))

@@ -26,7 +26,7 @@ class MahalanobisResult(ResultMixin):
     notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages.py
 
 
-def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisResult:
+def mahalanobis_distance(keyed: Any, *, reference: Any = None, weights: Any = None) -> MahalanobisResult:
     r"""Squared Mahalanobis distance of each respondent's answers from the item means, and its chi-square p.
 
     .. math:: D^2_i = (x_i - \bar x)^\top S^{-1} (x_i - \bar x), \qquad p_i = P(\chi^2_{m_i} > D^2_i)
@@ -38,6 +38,10 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     reference : array_like of bool, shape (n,), optional
         Respondents whose answers estimate the means and the covariance (default: all). Distances are computed
         for every respondent.
+    weights : array_like, shape (n,), optional
+        Survey weights: the means and the covariance are then weighted
+        (:func:`scalewright.stats.weighted.weighted_pairwise_moments`) and rows of weight 0 do not enter them;
+        every respondent still gets a distance, whatever their own weight.
 
     Returns
     -------
@@ -74,7 +78,13 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
     basis = np.ones(n, dtype=bool) if reference is None else np.asarray(reference, dtype=bool).reshape(-1)
     if basis.shape != (n,):
         raise DataError(f"reference: expected {n} true/false values, got {basis.size}")
-    cov = item_covariance(x[basis], pairwise=True).cov
+    if weights is None:
+        cov = item_covariance(x[basis], pairwise=True).cov
+    else:
+        from .weighted import weighted_pairwise_moments
+
+        basis = basis & (np.asarray(weights, dtype=float).reshape(-1) > 0)
+        weighted_means, cov = weighted_pairwise_moments(x[basis], np.asarray(weights, dtype=float)[basis])
     variances = np.diag(cov)
     usable = np.flatnonzero(np.isfinite(variances) & (variances > 1e-12))
     if len(usable) < k:
@@ -92,7 +102,10 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None) -> MahalanobisRes
         return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), tuple(int(u) for u in usable), tuple(notes))
 
     answered = ~np.isnan(x)
-    column_means = np.where(answered[basis], x[basis], 0.0).sum(axis=0) / answered[basis].sum(axis=0)
+    if weights is None:
+        column_means = np.where(answered[basis], x[basis], 0.0).sum(axis=0) / answered[basis].sum(axis=0)
+    else:
+        column_means = weighted_means[usable]
     deviations = np.where(answered, x - column_means, 0.0)
     d2 = np.full(n, np.nan)
     # the missing-data patterns, each row's pattern packed into bytes (one key per row: far quicker to sort

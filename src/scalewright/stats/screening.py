@@ -188,7 +188,7 @@ def _duplicate_status(groups: Sequence[Sequence[int]], long_run: np.ndarray, ans
 
 def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], *, ids: Sequence[str],
                        thresholds: ScreenThresholds = DEFAULT_SCREEN_THRESHOLDS, durations: Any = None,
-                       duration_unit: str = "s") -> ScreenResult:
+                       duration_unit: str = "s", weights: Any = None) -> ScreenResult:
     """Screen every respondent for careless answering and suspicious records.
 
     Parameters
@@ -206,6 +206,9 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         count is None (``null``), not 0.
     duration_unit : str
         Unit of ``durations``, kept for display.
+    weights : array_like, shape (n,), optional
+        Survey weights: the Mahalanobis distance is measured from the weighted means and covariance. Every
+        other index is a respondent's own; no one's weight changes their own flags.
 
     Returns
     -------
@@ -246,11 +249,11 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     missing = missing_share(raw)
     many_missing = missing > thresholds.missing_share_max
 
-    first = mahalanobis_distance(keyed)
+    first = mahalanobis_distance(keyed, weights=weights)
     distance = first
     if np.isfinite(first.p).any():
         reference = ~long_run & ~(first.p < thresholds.mahalanobis_p_weak)
-        second = mahalanobis_distance(keyed, reference=reference)
+        second = mahalanobis_distance(keyed, reference=reference, weights=weights)
         if np.isfinite(second.p).any():
             distance = second
         else:

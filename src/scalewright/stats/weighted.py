@@ -218,3 +218,37 @@ def weighted_shape(values: np.ndarray, weights: np.ndarray, *, percentiles=(5, 1
                          percentiles={f"{p:g}": float(v) for p, v in zip(percentiles, q[3:], strict=True)},
                          histogram_edges=tuple(map(float, edges)) if edges is not None else (),
                          histogram_weighted_pct=heights)
+
+
+def weighted_pairwise_moments(matrix: np.ndarray, weights: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    r"""Weighted item means (every answer given) and pairwise-complete weighted covariances.
+
+    For items j, k and the rows :math:`R_{jk}` that answered both with a positive weight,
+
+    .. math:: s_{jk} = \frac{\sum_{R_{jk}} w_i (x_{ij} - \bar x_{j|jk})(x_{ik} - \bar x_{k|jk})}
+              {V_1 - V_2 / V_1}, \qquad V_1 = \sum_{R_{jk}} w_i,\; V_2 = \sum_{R_{jk}} w_i^2
+
+    with :math:`\bar x_{j|jk}` the weighted mean of item j over :math:`R_{jk}`: with no missing answers this
+    is :func:`weighted_covariance`, and with unit weights the usual pairwise covariance (divisor
+    :math:`n_{jk} - 1`). NaN where a pair has fewer than two weighted rows. Sums of cross-products about the
+    overall weighted means, from matrix products (hand-written: numpy's ``cov`` has no pairwise option).
+    """
+    x = np.asarray(matrix, dtype=float)
+    w = np.asarray(weights, dtype=float)
+    if x.ndim != 2 or w.shape != (x.shape[0],):
+        raise DataError(Problem(file="", message=f"{w.size} weights for {x.shape[0]} rows"))
+    if np.any(~np.isfinite(w)) or np.any(w < 0):
+        raise DataError(Problem(file="", message="weights must be finite and not negative"))
+    answered = (np.isfinite(x) & (w > 0)[:, None]).astype(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        column_w = (answered * w[:, None]).sum(axis=0)
+        means = np.where(answered > 0, x, 0.0).T @ w / column_w
+        centred = np.where(answered > 0, x - means, 0.0)  # about the item means: less cancellation below
+        weighted = answered * w[:, None]
+        v1 = weighted.T @ answered
+        v2 = (weighted * w[:, None]).T @ answered
+        sums = (centred * w[:, None]).T @ answered          # [j, k]: sum over R_jk of w x_j (centred)
+        cross = (centred * w[:, None]).T @ centred
+        cov = (cross - sums * sums.T / v1) / (v1 - v2 / v1)
+    cov[~(v1 - v2 / np.where(v1 > 0, v1, 1) > 0)] = np.nan
+    return means, cov
