@@ -96,11 +96,21 @@ def test_absent_weight_column_is_named(tmp_path):
         read_weights(frame, "weigth", np.array([2]), path="d.csv")
 
 
-def test_command_without_weights_says_its_results_are_unweighted(tmp_path, capsys):
-    data, scales, _ = make_files(tmp_path)
-    code, out, _ = run(capsys, "screen", data, "--scales", scales, "--format", "json")
+@pytest.mark.parametrize("command", ["tally", "shape", "reliability", "compare", "score", "structure", "confirm",
+                                     "screen", "report"])
+def test_every_analysis_command_takes_weight(command, capsys):
+    code, out, _ = run(capsys, command, "--help")
     assert code == 0
-    assert "does not use weights yet" in out
+    assert "--weight COLUMN" in out
+
+
+def test_inputs_read_outside_a_command_say_the_weights_are_not_used(tmp_path):
+    from scalewright.cli.common import load_inputs
+
+    data, scales, _ = make_files(tmp_path)
+    inputs = load_inputs(data, scales)
+    assert getattr(inputs.responses, "weights", None) is None
+    assert any("does not use weights" in n for n in inputs.notes)
 
 
 def test_bad_weight_through_a_command_changes_no_file(tmp_path, capsys):

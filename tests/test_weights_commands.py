@@ -344,3 +344,90 @@ def test_screen_unit_weights_equal_unweighted_scaling_changes_nothing_zero_weigh
     assert block["n_effective"] == pytest.approx(w.sum() ** 2 / np.sum(w**2))  # Kish (1965)
     assert ones["summary"]["weighted"]["flagged_pct"] == pytest.approx(100 * plain["summary"]["flagged_share"])
     assert "weighted" not in plain["summary"]
+
+
+# ----------------------------------------------------------------------------- report
+
+
+def _report_results(data, scales, column: str | None):
+    from dataclasses import replace
+
+    from scalewright.cli.common import load_inputs
+    from scalewright.report import ReportOptions, build_report
+    from scalewright.weights import read_weights
+
+    inputs = load_inputs(data, scales)  # outside a command: the weights are attached here, as --weight does
+    responses = inputs.responses
+    if column is not None:
+        responses = replace(responses, weights=read_weights(responses.frame, column, responses.line_numbers,
+                                                            path=responses.path))
+    return build_report(inputs.spec, responses, info=inputs.info,
+                        options=ReportOptions(iterations=5, by=("site",))).to_dict()
+
+
+def test_report_with_weights_says_so_and_carries_the_weighted_blocks(tmp_path, capsys):
+    weights = np.random.default_rng(30).uniform(0.3, 3, 80).round(3)
+    weights[:2] = 0
+    frame = climate(80, weights)
+    data, scales = write(tmp_path, frame)
+    code = main([str(a) for a in ("report", data, "--scales", scales, "--by", "site", "--out", tmp_path / "r",
+                                  "--iterations", "5", "--quiet")])
+    assert code == 0, capsys.readouterr().err
+    page = (tmp_path / "r" / "index.html").read_text(encoding="utf-8")
+    assert "Survey weights" in page
+    assert "weighted by the column w" in page
+    assert "effective sample size (Kish, 1965) of" in page
+    assert "design effect of the weights" in page
+    assert "design-based survey software" in page
+    assert "with weight 0 stay in the scores" in page
+    assert "Weighted summary" in page
+    assert "Weighted reliability: support" in page
+    results = json.loads((tmp_path / "r" / "results.json").read_text(encoding="utf-8"))
+    used = weights[weights > 0]
+    design = results["weighted"]
+    assert design["n_effective"] == pytest.approx(used.sum() ** 2 / np.sum(used**2))  # Kish (1965)
+    assert design["n_zero_weight"] == 2
+    blocks = [results["reliability"]["scales"]["support"]["weighted"], results["shape"]["scales"]["support"]["all"]["weighted"],
+              results["compare"]["scales"]["support"]["by"]["site"]["weighted"], results["scores"]["weighted"]["support"],
+              results["tally"]["site"]["weighted"], results["structure"]["weighted"],
+              results["confirm"]["models"]["support"]["weighted"], results["screen"]["summary"]["weighted"]]
+    for block in blocks:
+        assert block["weighted"] is True
+        assert block["weight_column"] == "w"
+        assert "n_effective" in block
+    # the report's numbers are the commands' numbers: the weighted alpha of `reliability`
+    alone = run_json(capsys, "reliability", data, "--scales", scales)
+    assert blocks[0]["alpha"] == pytest.approx(alone["scales"]["support"]["weighted"]["alpha"], rel=1e-12)
+    assert len(results["screen"]["respondents"]) == 80  # rows of weight 0 are screened and scored
+    score = frame[["wl1", "wl2", "wl3", "wl4"]].mean(axis=1).to_numpy()
+    # numpy weighted mean of the scores
+    assert results["scores"]["weighted"]["workload"]["mean"] == pytest.approx(np.average(score, weights=weights))
+
+
+@pytest.mark.slow  # four whole reports; each command's own unit-weight and scaling tests run in CI
+def test_report_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_path):
+    frame = climate(70, 1.0, seed=14)
+    frame["wr"] = np.random.default_rng(3).uniform(0.3, 3, 70)
+    frame["wr10"] = frame["wr"] * 10
+    data, scales = write(tmp_path, frame)
+    ones, varied, scaled = (_report_results(data, scales, c) for c in ("w", "wr", "wr10"))
+    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = _report_results(data, scales, None)
+    for reference, other in ((plain, ones), (varied, scaled)):
+        for name in ("support", "workload", "all"):
+            for key in ("chi2", "cfi", "rmsea", "srmr"):
+                assert other["confirm"]["models"][name][key] == pytest.approx(
+                    reference["confirm"]["models"][name][key], rel=1e-9), key
+        np.testing.assert_allclose(_loadings(other["structure"]), _loadings(reference["structure"]), atol=1e-8)
+        assert other["structure"]["bartlett"]["chi2"] == pytest.approx(reference["structure"]["bartlett"]["chi2"],
+                                                                       rel=1e-9)
+        assert [r["flags"] for r in other["screen"]["respondents"]] == \
+            [r["flags"] for r in reference["screen"]["respondents"]]
+    support = ones["reliability"]["scales"]["support"]
+    assert support["weighted"]["alpha"] == pytest.approx(plain["reliability"]["scales"]["support"]["alpha"], rel=1e-9)
+    assert ones["shape"]["scales"]["support"]["all"]["weighted"]["mean"] == pytest.approx(
+        plain["shape"]["scales"]["support"]["all"]["mean"], rel=1e-12)
+    for key in ("alpha", "omega_total"):
+        assert scaled["reliability"]["scales"]["support"]["weighted"][key] == pytest.approx(
+            varied["reliability"]["scales"]["support"]["weighted"][key], rel=1e-10)
+    assert "weighted" not in plain

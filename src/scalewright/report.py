@@ -95,6 +95,8 @@ class ReportResults:
     confirm: Any | None = None      # analyses.confirm.ConfirmAnalysis (with invariance when --by is given)
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
+    #: with survey weights: analyses.weighted_report.WeightedReport (structure, confirm, screen weighted in place)
+    weighted: Any | None = None
 
     @property
     def title(self) -> str:
@@ -139,8 +141,42 @@ class ReportResults:
             "confirm": None if self.confirm is None else self.confirm.to_dict(),
             "notes": list(self.notes),
         }
+        if self.weighted is not None:
+            _add_weighted_blocks(body, self.weighted)
         return to_jsonable(envelope("report", self.info, body, options=self.options.to_dict(),
                                     notes=list(self.input_notes)))
+
+
+def _add_weighted_blocks(body: dict[str, Any], weighted: Any) -> None:
+    """The weighted blocks of results.json, where each command puts them (beside the unweighted block)."""
+    body["weighted"] = weighted.design
+    for name, blocks in weighted.reliability.items():
+        record = body["reliability"]["scales"].get(name)
+        if record is None:
+            continue
+        record["weighted"] = blocks["all"]
+        for column, levels in blocks["by"].items():
+            for level, block in levels.items():
+                record.setdefault("by", {}).setdefault(column, {}).setdefault(level, {})["weighted"] = block
+    for name, blocks in weighted.shapes.items():
+        record = body["shape"]["scales"].get(name)
+        if record is None:
+            continue
+        record["all"]["weighted"] = blocks["all"].to_dict()
+        for column, levels in blocks["by"].items():
+            for level, block in levels.items():
+                record["by"][column][level]["weighted"] = block.to_dict()
+    body["scores"]["weighted"] = {name: summary.to_dict() for name, summary in weighted.scores.items()}
+    for name, by_column in weighted.comparisons.items():
+        for column, comparison in by_column.items():
+            body["compare"]["scales"].setdefault(name, {"by": {}})["by"].setdefault(column, {})["weighted"] = \
+                comparison.to_dict()
+    for column, shares in weighted.tallies.items():
+        body["tally"][column]["weighted"] = shares.to_dict()
+    if weighted.structure is not None and body.get("structure") is not None:
+        body["structure"]["weighted"] = weighted.structure
+    if weighted.screen is not None and body.get("screen") is not None:
+        body["screen"]["summary"]["weighted"] = weighted.screen
 
 
 # ------------------------------------------------------------------------------------------------ building
@@ -165,12 +201,24 @@ def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> di
                          scores=scores)["scales"]
 
 
+def _weighted(responses: Any) -> bool:
+    return getattr(responses, "weights", None) is not None
+
+
 def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the confirm command's own analysis: models per scale and of the whole file, invariance by --by columns
     from .analyses.confirm import analyse_confirm
     from .analyses.invariance import analyse_invariance
 
-    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level, missing=options.missing)
+    analysis = analyse_confirm(spec, responses, confidence_level=options.confidence_level, missing=options.missing,
+                               weighted=_weighted(responses))
+    if options.by and _weighted(responses):
+        from dataclasses import replace
+
+        from .notes import note
+
+        # multi-group models are not weighted (as `confirm --by`): no invariance verdicts, said so
+        return replace(analysis, notes=(*analysis.notes, note("invariance-not-weighted", by=tuple(options.by))))
     if options.by:
         # per scale only: the verdicts stand beside each scale's mean comparison (the whole-file multi-group
         # models are for `confirm --by`)
@@ -182,6 +230,11 @@ def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
 def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
     # the structure command's own analysis: each item once, matched to its smallest scale
     from .analyses.structure import analyse_structure_of_file
+
+    if _weighted(responses):
+        from .analyses.weighted_structure import weighted_structure_of_file
+
+        return weighted_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations)
 
     return analyse_structure_of_file(spec, responses, seed=options.seed, iterations=options.iterations,
                                      missing=options.missing)
@@ -241,6 +294,9 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     from .scoring import score_scales
 
     check_columns(responses, options)
+    if _weighted(responses) and options.missing != "listwise":
+        raise UsageError(f"survey weights work with --missing listwise only (the weighted covariance of complete "
+                         f"answers), not {options.missing}")
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 
@@ -265,10 +321,25 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
 
     progress(STEPS[5])
     structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    weighted_structure = None
+    if isinstance(structure, tuple):  # weighted: the result and its weighted-block keys
+        structure, weighted_structure = structure
     confirm = _confirm(spec, responses, options)
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
+    weighted = None
+    if _weighted(responses):
+        from dataclasses import replace
+
+        from .analyses.screen import weighted_screen_summary
+        from .analyses.weighted_report import weighted_report
+
+        weighted = weighted_report(spec, responses, by=options.by, confidence_level=options.confidence_level,
+                                   min_group=options.min_group, min_cell=options.min_cell, score_table=score_table,
+                                   shapes=shapes, group_tallies=group_tallies)
+        weighted = replace(weighted, structure=weighted_structure,
+                           screen=None if screen is None else weighted_screen_summary(screen, responses.weights))
 
     findings = {
         name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name], reliability=reliability[name],
@@ -284,4 +355,4 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
                          input_notes=(*input_notes, responses.missing_texts_note(spec)),
                          score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
-                         notes=tuple(notes), confirm=confirm)
+                         notes=tuple(notes), confirm=confirm, weighted=weighted)

@@ -16,6 +16,7 @@ from .common import (
     resolve_by,
     resolve_missing,
     scales_option,
+    weight_option,
 )
 
 
@@ -78,6 +79,7 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
 @click.option("--single-file", is_flag=True,
               help="Write only DIR/index.html, every figure inside it: one file to send (no other files).")
 @missing_option
+@weight_option
 @input_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,

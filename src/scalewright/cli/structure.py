@@ -13,8 +13,8 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
-    resolve_missing,
     require,
+    resolve_missing,
     scales_option,
     weight_option,
 )

@@ -560,6 +560,8 @@ WEIGHTS: dict[str, str] = {
                        "distance is measured from the weighted means and covariance (weights {weight_column}), "
                        "so its flags can differ from an unweighted screen. The weighted share is the part of the "
                        "sum of weights the flagged respondents carry.",
+    "invariance-not-weighted": "Measurement invariance across {by} is not tested with survey weights (the "
+                               "multi-group models are not weighted yet).",
     "weighted-ci-kish": "Intervals and tests use Kish's effective sample size n_eff = {n_effective} in place of n "
                         "= {n} (design effect of the weights {design_effect}).",
 }

@@ -42,6 +42,8 @@ def build_document(results: Any, *, figures: FigureMap, decimals: int = 2) -> Re
     info = results.info
     facts = (("Data", info.data or "–"), ("Scale file", info.scales or "–"), *respondent_counts(results),
              ("Date", results.created), ("Made with", f"scalewright {__version__}"))
-    return ReportDocument(title=results.title, subtitle="Reliability, structure and score distributions of "
-                          "multi-item rating scales", lead=(), sections=tuple(sections), decimals=decimals,
-                          facts=facts)
+    from .report_weighted import weighted_document
+
+    return weighted_document(ReportDocument(title=results.title, subtitle="Reliability, structure and score "
+                                            "distributions of multi-item rating scales", lead=(),
+                                            sections=tuple(sections), decimals=decimals, facts=facts), results)
