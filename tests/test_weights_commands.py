@@ -431,3 +431,41 @@ def test_report_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_pa
         assert scaled["reliability"]["scales"]["support"]["weighted"][key] == pytest.approx(
             varied["reliability"]["scales"]["support"]["weighted"][key], rel=1e-10)
     assert "weighted" not in plain
+
+
+# ----------------------------------------------------------------------------- rows of weight 0
+
+
+def test_rows_of_weight_zero_are_counted_and_enter_no_estimate(tmp_path, capsys):
+    weights = np.random.default_rng(40).uniform(0.5, 2, 120).round(3)
+    frame = climate(120, weights)
+    extra = climate(6, 0.0, seed=77)
+    extra[ITEMS] = np.array([1, 5, 1, 5, 5, 1, 5, 1])  # answers far from everyone, weight 0
+    extra["staff_id"] = [f"z{i}" for i in range(6)]
+    with_zero = pd.concat([frame, extra], ignore_index=True)
+    data, scales = write(tmp_path, with_zero)
+    without, _ = write(tmp_path, frame, name="without.csv")
+    # the file without those rows is the reference: every estimate must be the same
+    for command in ("structure", "confirm"):
+        zero = run_json(capsys, command, data, "--scales", scales)
+        plain = run_json(capsys, command, without, "--scales", scales)
+        if command == "structure":
+            np.testing.assert_allclose(_loadings(zero), _loadings(plain), rtol=1e-10)
+            assert zero["weighted"]["n_zero_weight"] == 6
+            assert zero["weighted"]["n_effective"] == pytest.approx(plain["weighted"]["n_effective"], rel=1e-12)
+        else:
+            assert zero["models"]["all"]["chi2"] == pytest.approx(plain["models"]["all"]["chi2"], rel=1e-10)
+            assert zero["models"]["all"]["weighted"]["n_zero_weight"] == 6
+    main([str(a) for a in ("score", data, "--scales", scales, "--standardize", "z", "--out", tmp_path / "z.csv")])
+    main([str(a) for a in ("score", without, "--scales", scales, "--standardize", "z", "--out", tmp_path / "p.csv")])
+    capsys.readouterr()
+    zero_scores, plain_scores = pd.read_csv(tmp_path / "z.csv"), pd.read_csv(tmp_path / "p.csv")
+    assert len(zero_scores) == 126  # kept in the scored file, with a z score
+    assert zero_scores["support__z"].notna().all()
+    np.testing.assert_allclose(zero_scores["support__z"][:120], plain_scores["support__z"], rtol=1e-12)
+    screened = run_json(capsys, "screen", data, "--scales", scales)
+    assert len(screened["respondents"]) == 126
+    assert screened["summary"]["weighted"]["n_zero_weight"] == 6
+    reference = run_json(capsys, "screen", without, "--scales", scales)
+    np.testing.assert_allclose([r["mahalanobis_d2"] for r in screened["respondents"][:120]],
+                               [r["mahalanobis_d2"] for r in reference["respondents"]], rtol=1e-9)
