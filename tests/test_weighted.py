@@ -142,3 +142,21 @@ def test_degenerate_inputs_give_nan_not_errors():
     assert math.isnan(s.skewness)
     assert s.notes
     assert s.notes[0].code == "weighted-moments-undefined"
+
+
+@settings(max_examples=30, deadline=None)
+@given(seed=st.integers(0, 10_000), factor=st.floats(1e-3, 1e4))
+def test_pairwise_moments_and_mahalanobis_invariant_to_scaling_the_weights(seed, factor):
+    from scalewright.stats.quality import mahalanobis_distance
+    from scalewright.stats.weighted import weighted_pairwise_moments
+
+    rng = np.random.default_rng(seed)
+    data = rng.integers(1, 6, size=(40, 4)).astype(float) + rng.normal(scale=0.3, size=(40, 4))
+    data[rng.random(data.shape) < 0.1] = np.nan
+    w = rng.uniform(0.1, 3, 40)
+    means, cov = weighted_pairwise_moments(data, w)
+    scaled_means, scaled_cov = weighted_pairwise_moments(data, w * factor)
+    np.testing.assert_allclose(scaled_means, means, rtol=1e-9)
+    np.testing.assert_allclose(scaled_cov, cov, rtol=1e-8)
+    np.testing.assert_allclose(mahalanobis_distance(data, weights=w * factor).d2,
+                               mahalanobis_distance(data, weights=w).d2, rtol=1e-7)

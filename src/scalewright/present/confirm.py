@@ -169,6 +169,17 @@ def confirmatory_summary(model: Any) -> dict[str, Any]:
     return {"omega": document["omega"].get(model.name), **{key: document[key] for key in keys}}
 
 
+def _with_effective_n(table: Table) -> Table:
+    """With survey weights the fit's N is Kish's effective n: its column says so and shows its decimals."""
+    from dataclasses import replace
+
+    position = table.columns.index("n used")
+    columns = (*table.columns[:position], "N (effective)", *table.columns[position + 1:])
+    kinds = {("N (effective)" if key == "n used" else key): kind for key, kind in table.kinds.items()
+             if key != "n used"}
+    return replace(table, columns=columns, kinds=kinds)
+
+
 def confirm_tables(analysis: Any) -> list[Table]:
     """Tables of a :class:`~scalewright.analyses.confirm.ConfirmAnalysis`."""
     from ..notes import note
@@ -180,7 +191,10 @@ def confirm_tables(analysis: Any) -> list[Table]:
     for name, block in getattr(analysis, "weighted_by_model", {}).items():
         extra.append(f"{name}: " + describe(note("weighted-ci-kish", n_effective=block["n_effective"], n=block["n"],
                                                  design_effect=block["design_effect"])))
-    tables = [fit_table(analysis.models, tuple(extra)), loadings_table(analysis.models),
+    fit = fit_table(analysis.models, tuple(extra))
+    if getattr(analysis, "weighted_by_model", {}):
+        fit = _with_effective_n(fit)
+    tables = [fit, loadings_table(analysis.models),
               omega_table(analysis.models)]
     for extra in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),
                   hints_table(analysis.models)):
