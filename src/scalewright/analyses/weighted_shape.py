@@ -30,7 +30,7 @@ def weighted_shapes(spec: Any, responses: Any, reports: Mapping[str, Any], *, by
             values = responses.item(name)
         values = np.asarray(values, dtype=float)
 
-        def describe(rows, summary):
+        def describe(rows, summary, values=values):
             edges = summary.histogram.edges if summary is not None and summary.histogram is not None else None
             return weighted_shape(values[rows], weights.values[rows], percentiles=percentiles, edges=edges,
                                   weight_column=weights.column)
