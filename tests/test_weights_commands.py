@@ -469,3 +469,18 @@ def test_rows_of_weight_zero_are_counted_and_enter_no_estimate(tmp_path, capsys)
     reference = run_json(capsys, "screen", without, "--scales", scales)
     np.testing.assert_allclose([r["mahalanobis_d2"] for r in screened["respondents"][:120]],
                                [r["mahalanobis_d2"] for r in reference["respondents"]], rtol=1e-9)
+
+
+def test_report_with_weights_refuses_pairwise_before_touching_anything(tmp_path, capsys):
+    from .conftest import folder_fingerprint
+
+    data, scales = write(tmp_path, climate(40, 1.0))
+    before = folder_fingerprint(tmp_path)
+    code = main([str(a) for a in ("report", data, "--scales", scales, "--missing", "pairwise", "--out",
+                                  tmp_path / "r", "--quiet")])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.startswith("error: survey weights work with --missing listwise only")
+    assert err.count("\n") == 1
+    assert folder_fingerprint(tmp_path) == before
+    assert not (tmp_path / "r").exists()

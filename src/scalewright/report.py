@@ -251,12 +251,16 @@ def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
 
 def check_columns(responses: Any, options: ReportOptions) -> None:
     """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data, and
-    ``UsageError`` when a subgroup column has more than ``options.max_levels`` levels."""
+    ``UsageError`` when a subgroup column has more than ``options.max_levels`` levels or survey weights come
+    with a missing-answer method other than listwise."""
     from .analyses.subgroup_columns import check_level_counts
 
     for column in (*options.by, *([options.duration_column] if options.duration_column else [])):
         responses.column(column)
     check_level_counts(responses, options.by, max_levels=options.max_levels)
+    if _weighted(responses) and options.missing != "listwise":
+        raise UsageError(f"survey weights work with --missing listwise only (the weighted covariance of complete "
+                         f"answers), not {options.missing}")
 
 
 def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),
@@ -294,9 +298,6 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     from .scoring import score_scales
 
     check_columns(responses, options)
-    if _weighted(responses) and options.missing != "listwise":
-        raise UsageError(f"survey weights work with --missing listwise only (the weighted covariance of complete "
-                         f"answers), not {options.missing}")
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 
