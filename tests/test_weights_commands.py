@@ -484,3 +484,30 @@ def test_report_with_weights_refuses_pairwise_before_touching_anything(tmp_path,
     assert err.count("\n") == 1
     assert folder_fingerprint(tmp_path) == before
     assert not (tmp_path / "r").exists()
+
+
+def test_report_findings_say_the_estimates_are_weighted(tmp_path):
+    from scalewright.analyses.findings import select_findings
+    from scalewright.cli.common import load_inputs
+    from scalewright.present.findings import finding_items
+    from scalewright.report import ReportOptions, build_report
+    from scalewright.weights import read_weights
+
+    weights = np.random.default_rng(50).uniform(0.5, 2, 90)
+    data, scales = write(tmp_path, climate(90, weights))
+    inputs = load_inputs(data, scales)
+    responses = inputs.responses
+    from dataclasses import replace
+
+    responses = replace(responses, weights=read_weights(responses.frame, "w", responses.line_numbers, path="d"))
+    results = build_report(inputs.spec, responses, info=inputs.info, options=ReportOptions(iterations=3))
+    found = select_findings(results)
+    assert found[0].code == "results-weighted"
+    # Kish (1965): n_eff = (sum w)^2 / sum w^2
+    assert found[0].values["n_effective"] == pytest.approx(weights.sum() ** 2 / np.sum(weights**2))
+    sentences = [sentence for sentence, _ in finding_items(found)]
+    assert sentences[0].startswith("Estimates are weighted by w")
+    reliable = next(f for f in found if f.code in ("scales-reliable", "scale-unreliable"))
+    entry = reliable.values["scales"][0] if reliable.code == "scales-reliable" else reliable.values
+    assert entry["alpha_weighted"] == pytest.approx(
+        results.weighted.reliability[entry["scale"]]["all"]["alpha"], rel=1e-12)

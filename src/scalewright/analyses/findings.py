@@ -15,6 +15,10 @@ Each finding is a code with the numbers behind it and the anchor of the section 
 7. Structure: each confirmatory model of the whole file whose fit misses any of the conventional cut-offs of
    Hu & Bentler (1999): CFI >= .95, RMSEA <= .06, SRMR <= .08.
 
+With survey weights a first finding says so (weight column, n_eff, design effect), the reliability findings
+add the weighted alpha and the screen's the weighted share of flagged respondents; the choice of findings
+stays that of the unweighted rules (the subgroup differences are the unweighted, Holm-adjusted tests).
+
 At most :data:`MAX_FINDINGS` findings are kept, in the order above.
 """
 from __future__ import annotations
@@ -61,6 +65,9 @@ def _reliability(results: Any) -> list[Finding]:
         threshold = overall.thresholds.low_alpha
         entry = {"scale": name, "title": findings.scale.title or name, "alpha": overall.alpha,
                  "alpha_ci": tuple(overall.alpha_ci), "threshold": threshold, "n_used": overall.n_used}
+        weighted = getattr(results, "weighted", None)
+        if weighted is not None and name in weighted.reliability:
+            entry["alpha_weighted"] = weighted.reliability[name]["all"]["alpha"]
         (reliable if overall.alpha >= threshold else low).append(entry)
     out = []
     if reliable:
@@ -151,9 +158,12 @@ def _quality(results: Any) -> list[Finding]:
     if results.screen is not None:
         summary = results.screen.summary()
         if summary.get("n"):
-            out.append(Finding("screen-flagged", "quality-screen",
-                               {"n_flagged": summary["n_flagged"], "n": summary["n"],
-                                "share_pct": 100.0 * summary["n_flagged"] / summary["n"]}))
+            values = {"n_flagged": summary["n_flagged"], "n": summary["n"],
+                      "share_pct": 100.0 * summary["n_flagged"] / summary["n"]}
+            weighted = getattr(results, "weighted", None)
+            if weighted is not None and weighted.screen is not None:
+                values["weighted_share_pct"] = weighted.screen["flagged_pct"]
+            out.append(Finding("screen-flagged", "quality-screen", values))
     return out
 
 
@@ -186,6 +196,12 @@ def _structure_fit(results: Any) -> list[Finding]:
 def select_findings(results: Any) -> tuple[Finding, ...]:
     """The report's findings, in the order of the rules above, at most :data:`MAX_FINDINGS`."""
     found: list[Finding] = []
+    weighted = getattr(results, "weighted", None)
+    if weighted is not None:
+        design = weighted.design
+        found.append(Finding("results-weighted", "weights",
+                             {key: design[key] for key in ("weight_column", "n", "n_effective", "design_effect",
+                                                           "n_zero_weight")}))
     if results.n_excluded:
         found.append(Finding("set-aside", "quality", {"n_excluded": results.n_excluded,
                                                       "n_read": results.n_rows + results.n_excluded,

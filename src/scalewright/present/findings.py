@@ -42,6 +42,10 @@ def _difference(values: dict, decimals: int) -> str:
             f"({stats}).")
 
 
+def _weighted_alpha(values: dict, decimals: int) -> str:
+    return f" (weighted {_b(values['alpha_weighted'], decimals)})" if "alpha_weighted" in values else ""
+
+
 def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
     """One finding as one or two plain sentences."""
     v = finding.values
@@ -50,15 +54,22 @@ def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
         source = f" as listed in {v['source']}" if v.get("source") else ""
         return (f"{v['n_excluded']} of {v['n_read']} respondents were set aside{source}; everything below "
                 f"describes the other {v['n_analysed']}.")
+    if code == "results-weighted":
+        zero = f"; {v['n_zero_weight']} with weight 0 left out" if v["n_zero_weight"] else ""
+        return (f"Estimates are weighted by {v['weight_column']} ({v['n']} respondents, effective n "
+                f"{format_value(v['n_effective'], 'num', 1)}, design effect of the weights "
+                f"{format_value(v['design_effect'], 'num', 2)}{zero}); intervals and tests use Kish's effective n, "
+                "an approximation when the sample has strata or clusters.")
     if code == "scales-reliable":
         scales = v["scales"]
-        listed = ", ".join(f"{s['title']} {_b(s['alpha'], decimals)}" for s in scales)
+        listed = ", ".join(f"{s['title']} {_b(s['alpha'], decimals)}" + _weighted_alpha(s, decimals) for s in scales)
         subject = "The scale" if len(scales) == 1 else f"{len(scales)} scales"
         verb = "is" if len(scales) == 1 else "are"
         return (f"{subject} {verb} consistent enough to describe groups (alpha: {listed}; "
                 f"{_b(v['threshold'])} or more by convention).")
     if code == "scale-unreliable":
-        return (f"{v['title']} is not consistent enough in this sample (alpha = {_b(v['alpha'], decimals)}, below "
+        return (f"{v['title']} is not consistent enough in this sample (alpha = {_b(v['alpha'], decimals)}"
+                f"{_weighted_alpha(v, decimals)}, below "
                 f"{_b(v['threshold'])}): read its scores with care.")
     if code == "group-difference":
         return _difference(v, decimals)
@@ -80,8 +91,10 @@ def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
     if code == "bimodal-scores":
         return f"{v['title']} scores form two clusters rather than one peak: one average describes them poorly."
     if code == "screen-flagged":
+        weighted = (f"; {format_value(v['weighted_share_pct'], 'pct')}% of the weight"
+                    if "weighted_share_pct" in v else "")
         return (f"The careless-responding screen flagged {v['n_flagged']} of {v['n']} respondents "
-                f"({format_value(v['share_pct'], 'pct')}%); they are kept in every analysis as records to look at "
+                f"({format_value(v['share_pct'], 'pct')}%{weighted}); they are kept in every analysis as records to look at "
                 "again.")
     if code == "model-fit-misses":
         shape = {"correlated-factors": "with a factor per scale", "bifactor": "with a general factor beside the "
