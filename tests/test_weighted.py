@@ -147,7 +147,7 @@ def test_degenerate_inputs_give_nan_not_errors():
 @settings(max_examples=30, deadline=None)
 @given(seed=st.integers(0, 10_000), factor=st.floats(1e-3, 1e4))
 def test_pairwise_moments_and_mahalanobis_invariant_to_scaling_the_weights(seed, factor):
-    from scalewright.stats.quality import mahalanobis_distance
+    from scalewright.stats.mahalanobis import mahalanobis_distance
     from scalewright.stats.weighted import weighted_pairwise_moments
 
     rng = np.random.default_rng(seed)

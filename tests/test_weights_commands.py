@@ -280,7 +280,7 @@ def test_structure_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp
 def test_weighted_mahalanobis_equals_replicated_rows_against_scipy():
     from scipy.spatial.distance import mahalanobis
 
-    from scalewright.stats.quality import mahalanobis_distance
+    from scalewright.stats.mahalanobis import mahalanobis_distance
 
     weights = np.random.default_rng(21).integers(1, 4, 90)
     x = _keyed(climate(90, weights))
