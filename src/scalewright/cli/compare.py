@@ -8,7 +8,6 @@ import click
 from ..errors import UsageError
 from .common import (
     by_option,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -17,12 +16,13 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .engine_route import StreamedLevels, dataset_argument, engine_options, first_needing_rows, load_summaries
 
 
 @click.command("compare", epilog=("Examples:\n\n\b\n"
                   "  scalewright compare survey.csv --scales survey.yaml --by site\n"
                   "  scalewright compare survey.csv -s survey.yaml --by shift --format md --out compare.md\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @click.option("--student", is_flag=True,
@@ -31,36 +31,56 @@ from .common import (
               help="Groups with fewer respondents are shown as '< N' and left out of the tests.")
 @weight_option
 @input_options
+@engine_options
 @output_options
 def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_cell: int, lenient: bool,
-            exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+            exclude: Path | None, engine: str, scheduler: str | None, workers: int | None, block_size: int | None,
+            fmt: str | None, out: Path | None, decimals: int) -> None:
     """Compare each scale's scores across the levels of a grouping column.
 
     Two levels: Welch's t, Mann-Whitney U, Hedges' g with its confidence interval and the rank-biserial r.
     Three or more: Welch's F, Kruskal-Wallis H, omega- and epsilon-squared, Games-Howell pairs. Levene's
     test is reported as a note; p-values are also given Holm-adjusted across the scales of the run.
     """
-    from ..analyses.compare import analyse_compare
+    from ..engine.plan import plan_for
     from ..present.groups import compare_tables, comparison_record
-    from ..scoring import score_scales
-
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    columns = resolve_by(by, inputs.spec, inputs.responses)
-    if not columns:
-        raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
-    scored = score_scales(inputs.responses, inputs.spec)
-    per_column = analyse_compare(inputs.spec, inputs.responses, by=columns, min_cell=min_cell, student=student,
-                                 scores=scored)
-    # is each scale measuring the same thing in every group? (measurement invariance, see `confirm --by`)
-    from ..analyses.invariance import invariance_by_scale
     from ..present.invariance import invariance_record, invariance_tables
 
-    invariance = invariance_by_scale(inputs.spec, inputs.responses, by=columns)
+    # score value counts per level serve the comparison; listwise cross-products per level the invariance
+    summarised = load_summaries(
+        data, scales, lambda spec: plan_for(spec, cross_products="listwise", answers=False, scores=True,
+                                            by=resolve_by(by, spec)),
+        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
+        needs_rows=first_needing_rows(exclude=exclude is not None))
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
+    if not columns:
+        raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
+    scored = None
+    if summarised:
+        from ..analyses.summarised_groups import compare_from_summaries, invariance_by_scale_from_summaries
+
+        per_column = compare_from_summaries(inputs.spec, summarised.summary, by=columns, min_cell=min_cell,
+                                            student=student)
+        # is each scale measuring the same thing in every group? (measurement invariance, see `confirm --by`)
+        invariance = invariance_by_scale_from_summaries(inputs.spec, summarised.summary, by=columns)
+    else:
+        from ..analyses.compare import analyse_compare
+        from ..analyses.invariance import invariance_by_scale
+        from ..scoring import score_scales
+
+        scored = score_scales(inputs.responses, inputs.spec)
+        per_column = analyse_compare(inputs.spec, inputs.responses, by=columns, min_cell=min_cell, student=student,
+                                     scores=scored)
+        invariance = invariance_by_scale(inputs.spec, inputs.responses, by=columns)
+    names = list(inputs.spec.scales)
     body = {"scales": {name: {"by": {column: {**comparison_record(per_column[column][i], decimals=decimals),
                                               "invariance": invariance_record(invariance[column].get(name))}
                                      for column in columns}}
-                       for i, name in enumerate(scored.scales)}}
-    ordered = [c for i in range(len(scored.scales)) for column in columns for c in (per_column[column][i],)]
+                       for i, name in enumerate(names)}}
+    if summarised:
+        body["engine"] = summarised.engine
+    ordered = [c for i in range(len(names)) for column in columns for c in (per_column[column][i],)]
     tables = [*compare_tables(ordered, decimals=decimals), invariance_tables(invariance)[1]]
     if getattr(inputs.responses, "weights", None) is not None:
         tables = [*tables, *_weighted(body, inputs, scored, columns, min_cell)]

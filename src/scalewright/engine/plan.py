@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 
 from ..stats.missing_patterns import PatternSummary
+from ..stats.pair_tables import PairTables, pair_tables
 from ..summaries import (
     AnswerCounts,
     CategoryCounts,
@@ -56,6 +57,9 @@ class SummaryPlan:
     joint: bool = False
     #: per-missingness-pattern statistics of each scale (the missing-data block: patterns, Little's test)
     patterns: bool = False
+    #: per-pair contingency tables of each scale's codes (polychoric correlations): "listwise" counts the
+    #: rows answering every item of the scale, "pairwise" every row; None: no tables
+    pair_tables: str | None = None
 
     @property
     def columns(self) -> tuple[str, ...]:
@@ -95,12 +99,23 @@ def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
             members["cross_products"] = PairwiseCrossProducts.from_codes(part, span=span)
         if plan.patterns:
             members["patterns"] = PatternSummary.from_codes(part)
+        if plan.pair_tables:
+            members["pair_tables"] = _pair_tables(part, span, listwise=plan.pair_tables == "listwise")
         if plan.scores:
             members["scores"] = ScoreCounts.from_codes(part, low=scale.low, high=scale.high,
                                                        reversed_mask=np.array(scale.reversed_mask),
                                                        method=scale.method, required=scale.required)
         parts[scale.name] = Summary(members)
     return Keyed(parts)
+
+
+def _pair_tables(codes: np.ndarray, span: int, *, listwise: bool) -> PairTables:
+    """The pair tables of these rows (of those answering every item when ``listwise``), span + 1 levels."""
+    from ..answer_codes import MISSING
+
+    if listwise and codes.shape[1]:
+        codes = codes[(codes != MISSING).all(axis=1)]
+    return pair_tables(np.ascontiguousarray(codes), span + 1)
 
 
 def level_keys(values) -> tuple[np.ndarray, list[str]]:

@@ -1,0 +1,280 @@
+"""Comparing a score across the levels of a column from each level's score value counts, without the rows.
+
+The same :class:`~scalewright.stats.groups.Comparison` as :func:`~scalewright.stats.groups.compare_groups`
+(which takes the rows and calls pingouin), from what a file read in blocks or a Dask cluster keeps: per
+level, the distinct scores and how many respondents got each. Every statistic there is a function of the
+levels' sizes, means, variances, medians and midranks, and each of these is exact from value counts
+(scores of rating scales take few distinct values). Hand-written because pingouin and scipy take the rows;
+``tests/test_groups_from_counts.py`` checks every number against pingouin and scipy on the expanded rows.
+"""
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from ..summaries.scores import quantiles_from_counts
+from .groups import Comparison, EffectSize, GroupSummary, PairResult, TestResult, _check_options
+from .rank_counts import kruskal_wallis_from_counts, mann_whitney_from_counts
+
+
+@dataclass(frozen=True)
+class CountedLevel:
+    """One level's scores as value counts: ``values`` ascending and distinct, ``counts`` (int) beside them."""
+
+    values: np.ndarray
+    counts: np.ndarray
+
+    @property
+    def n(self) -> int:
+        return int(self.counts.sum())
+
+    @property
+    def mean(self) -> float:
+        return float(self.counts @ self.values) / self.n
+
+    @property
+    def var(self) -> float:
+        """Variance with n - 1 (two passes over the distinct values)."""
+        if self.n < 2:
+            return math.nan
+        return float(self.counts @ (self.values - self.mean) ** 2) / (self.n - 1)
+
+    @property
+    def constant(self) -> bool:
+        return int(np.count_nonzero(self.counts)) <= 1
+
+    def quantiles(self, probabilities: Any) -> np.ndarray:
+        return quantiles_from_counts(self.values, self.counts, probabilities)
+
+    def expand(self) -> np.ndarray:
+        """The scores themselves (only for the exact Mann-Whitney p-value of small samples without ties)."""
+        return np.repeat(self.values, self.counts)
+
+
+def counted_level(values: np.ndarray, counts: np.ndarray) -> CountedLevel:
+    """A :class:`CountedLevel` of the values with a non-zero count."""
+    values = np.asarray(values, dtype=np.float64)
+    counts = np.asarray(counts, dtype=np.int64)
+    kept = counts > 0
+    return CountedLevel(values=values[kept], counts=counts[kept])
+
+
+def _summary(level: str, x: CountedLevel) -> GroupSummary:
+    q1, median, q3 = x.quantiles([0.25, 0.5, 0.75])
+    return GroupSummary(level=level, n=x.n, mean=x.mean, sd=math.sqrt(x.var) if x.n > 1 else math.nan,
+                        median=float(median), q1=float(q1), q3=float(q3))
+
+
+def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, n_no_group: int,
+                        min_cell: int = 5, student: bool = False, confidence_level: float = 0.95,
+                        column: str = "group", scale: str | None = None) -> Comparison:
+    r""":func:`~scalewright.stats.groups.compare_groups` from each level's score value counts.
+
+    ``levels`` in the column's order (levels without a score may be left out); ``n_no_score`` counts the
+    respondents without a score, ``n_no_group`` those with a score but no level.
+
+    .. math::
+
+        \bar x_g = \frac{\sum_v c_{gv} v}{n_g}, \qquad s_g^2 = \frac{\sum_v c_{gv}(v - \bar x_g)^2}{n_g - 1}
+
+    and the tests of :func:`~scalewright.stats.groups.compare_groups` from these (Welch 1951; Games &
+    Howell 1976; Levene 1960 centred on the median, Brown & Forsythe 1974), the rank tests from midranks
+    of the pooled value counts (:mod:`scalewright.stats.rank_counts`).
+
+    References
+    ----------
+    .. [1] Welch, B. L. (1951). On the comparison of several mean values. Biometrika, 38, 330-336.
+    .. [2] Games, P. A. & Howell, J. F. (1976). Pairwise multiple comparison procedures with unequal n's
+           and/or variances. Journal of Educational Statistics, 1, 113-125.
+    .. [3] Brown, M. B. & Forsythe, A. B. (1974). Robust tests for the equality of variances. Journal of
+           the American Statistical Association, 69, 364-367.
+    """
+    _check_options(min_cell, confidence_level)
+    notes: list[str] = []
+    summaries: list[GroupSummary] = []
+    samples: dict[str, CountedLevel] = {}
+    suppressed: list[str] = []
+    for level, x in levels.items():
+        if x.n == 0:
+            continue
+        if x.n < min_cell:
+            suppressed.append(level)
+            continue
+        summaries.append(_summary(level, x))
+        samples[level] = x
+    # the notes and the order of the checks are compare_groups' own, so both routes read the same
+    if suppressed:
+        notes.append(f"{', '.join(f'{column} = {s}' for s in suppressed)}: fewer than {min_cell} respondents "
+                     "with a score; not shown and left out of the tests")
+    if n_no_score:
+        notes.append(f"{n_no_score} respondent(s) without a score left out")
+    if n_no_group:
+        notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
+    base = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
+                confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
+    testable = {level: x for level, x in samples.items() if x.n >= 2}
+    if len(testable) < len(samples):
+        notes.append("levels with a single score are described but left out of the tests")
+    if len(testable) < 2:
+        notes.append(f"fewer than two levels of {column} with at least {max(min_cell, 2)} scores: no test")
+        return Comparison(**base, notes=tuple(notes))
+    if all(x.constant for x in testable.values()):
+        notes.append("every level has the same score throughout (zero variance): no test")
+        return Comparison(**base, notes=tuple(notes))
+    if any(x.constant for x in testable.values()):
+        notes.append("a level has no spread in its scores; tests that rely on its variance are fragile")
+    if len(testable) == 2:
+        result = _two_groups(testable, student=student, confidence_level=confidence_level)
+    else:
+        result = _many_groups(testable, student=student)
+    extra_notes = result.pop("extra_notes")
+    return Comparison(**base, **result, notes=tuple(notes + extra_notes))
+
+
+def levene_from_counts(samples: Mapping[str, CountedLevel]) -> TestResult:
+    r"""Levene's test centred on the medians (Brown & Forsythe 1974), from value counts.
+
+    .. math::
+
+        W = \frac{N - k}{k - 1}\,\frac{\sum_g n_g (\bar z_g - \bar z)^2}{\sum_g \sum_v c_{gv}(z_{gv} - \bar z_g)^2},
+        \qquad z_{gv} = |v - \tilde x_g|
+
+    p from the F distribution with k - 1 and N - k degrees of freedom (scipy's ``levene(center="median")``).
+    """
+    from scipy import stats
+
+    deviations = [CountedLevel(values=np.abs(x.values - float(x.quantiles(0.5)[0])), counts=x.counts)
+                  for x in samples.values()]
+    sizes = np.array([z.n for z in deviations], dtype=np.float64)
+    means = np.array([z.mean for z in deviations])
+    n, k = float(sizes.sum()), len(deviations)
+    grand = float(sizes @ means) / n
+    within = sum(float(z.counts @ (z.values - m) ** 2) for z, m in zip(deviations, means, strict=True))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        w = (n - k) / (k - 1) * float(sizes @ (means - grand) ** 2) / within
+    return TestResult(name="Levene (median-centred)", statistic=float(w), pvalue=float(stats.f.sf(w, k - 1, n - k)),
+                      df=float(k - 1), df2=float(n - k))
+
+
+def _hedges(x: CountedLevel, y: CountedLevel) -> float:
+    """Hedges' g of x against y: Cohen's d on the pooled SD, with pingouin's small-sample correction."""
+    import pingouin as pg
+
+    dof = x.n + y.n - 2
+    d = (x.mean - y.mean) / math.sqrt(((x.n - 1) * x.var + (y.n - 1) * y.var) / dof)
+    return float(pg.convert_effsize(d, "cohen", "hedges", nx=x.n, ny=y.n))
+
+
+def _two_groups(samples: Mapping[str, CountedLevel], *, student: bool, confidence_level: float) -> dict[str, Any]:
+    import pingouin as pg
+    from scipy import stats
+
+    (name_a, x), (name_b, y) = samples.items()
+    if student:
+        dof = x.n + y.n - 2
+        se = math.sqrt(((x.n - 1) * x.var + (y.n - 1) * y.var) / dof * (1 / x.n + 1 / y.n))
+    else:
+        vx, vy = x.var / x.n, y.var / y.n
+        se = math.sqrt(vx + vy)
+        dof = (vx + vy) ** 2 / (vx**2 / (x.n - 1) + vy**2 / (y.n - 1))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = (x.mean - y.mean) / np.float64(se)
+    u = mann_whitney_from_counts(x.values, x.counts, y.values, y.counts)
+    pvalue_u = u.pvalue
+    if (x.n <= 8 or y.n <= 8) and not np.any(np.concatenate([x.counts, y.counts]) > 1) \
+            and np.intersect1d(x.values, y.values).size == 0:
+        # scipy's automatic choice: the exact distribution for a small sample without ties (the rows are
+        # then as many as the distinct scores, so expanding them costs nothing)
+        pvalue_u = float(stats.mannwhitneyu(x.expand(), y.expand(), alternative="two-sided").pvalue)
+    g = _hedges(x, y)
+    ci = pg.compute_esci(stat=g, nx=x.n, ny=y.n, eftype="hedges", confidence=confidence_level, decimals=15)
+    return {
+        "test": TestResult(name="Student's t" if student else "Welch's t", statistic=float(t), df=float(dof),
+                           pvalue=float(2 * stats.t.sf(abs(t), dof))),
+        "nonparametric": TestResult(name="Mann-Whitney U", statistic=float(u.statistic), pvalue=pvalue_u),
+        "effect_size": EffectSize(name="Hedges' g", value=g, ci=(float(ci[0]), float(ci[1]))),
+        "nonparametric_effect_size": EffectSize(name="rank-biserial r",
+                                                value=1 - 2 * (x.n * y.n - float(u.statistic)) / (x.n * y.n)),
+        "levene": levene_from_counts(samples),
+        "extra_notes": [f"Hedges' g and the rank-biserial r compare {name_a} with {name_b} "
+                        f"(positive: {name_a} scores higher)"],
+    }
+
+
+def _welch_anova(sizes: np.ndarray, means: np.ndarray, variances: np.ndarray) -> tuple[float, float, float]:
+    """Welch's (1951) F, its denominator df and p, as pingouin's ``welch_anova`` computes them."""
+    from scipy import stats
+
+    r = sizes.size
+    with np.errstate(divide="ignore", invalid="ignore"):
+        weights = sizes / variances
+        adjusted = float(weights @ means) / float(weights.sum())
+        between = float(weights @ (means - adjusted) ** 2) / (r - 1)
+        lamb = 3 * float(np.sum((1 / (sizes - 1)) * (1 - weights / weights.sum()) ** 2)) / (r**2 - 1)
+        f = between / (1 + 2 * lamb * (r - 2) / 3)
+        return f, 1 / lamb, float(stats.f.sf(f, r - 1, 1 / lamb))
+
+
+def _many_groups(samples: Mapping[str, CountedLevel], *, student: bool) -> dict[str, Any]:
+    from scipy import stats
+
+    order = list(samples)
+    levels = list(samples.values())
+    sizes = np.array([x.n for x in levels], dtype=np.float64)
+    means = np.array([x.mean for x in levels])
+    variances = np.array([x.var for x in levels])
+    n, k = int(sizes.sum()), len(levels)
+    grand = float(sizes @ means) / n
+    ss_between = float(sizes @ (means - grand) ** 2)
+    ss_within = float((sizes - 1) @ variances)
+    ms_within = ss_within / (n - k)
+    omega_sq = (ss_between - (k - 1) * ms_within) / (ss_between + ss_within + ms_within)
+    h = kruskal_wallis_from_counts([x.values for x in levels], [x.counts for x in levels])
+    if student:
+        f = (ss_between / (k - 1)) / ms_within
+        test = TestResult(name="one-way ANOVA F", statistic=f, df=float(k - 1), df2=float(n - k),
+                          pvalue=float(stats.f.sf(f, k - 1, n - k)))
+        method = "Tukey HSD"
+    else:
+        f, df2, p = _welch_anova(sizes, means, variances)
+        test = TestResult(name="Welch's F", statistic=f, df=float(k - 1), df2=df2, pvalue=p)
+        method = "Games-Howell"
+    pairs = []
+    for a in range(k):
+        for b in range(a + 1, k):
+            if student:  # Tukey (1949): the pooled within-level variance, n - k degrees of freedom
+                se = math.sqrt(ms_within / sizes[a] + ms_within / sizes[b])
+                df = float(n - k)
+            else:  # Games & Howell (1976): each level's own variance, Welch-Satterthwaite df
+                va, vb = variances[a] / sizes[a], variances[b] / sizes[b]
+                se = math.sqrt(va + vb)
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    df = float((va + vb) ** 2 / (va**2 / (sizes[a] - 1) + vb**2 / (sizes[b] - 1)))
+            difference = float(means[a] - means[b])
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t = float(np.float64(difference) / np.float64(se))
+                p = float(np.clip(stats.studentized_range.sf(math.sqrt(2) * abs(t), k, df), 0, 1))
+            pairs.append(PairResult(a=order[a], b=order[b], difference=difference, se=se, statistic=t, df=df,
+                                    pvalue=p, hedges_g=_hedges(levels[a], levels[b])))
+    extra = []
+    if any(not np.isfinite(p.pvalue) for p in pairs):
+        extra.append("some pairs have no spread in either level: no pair test for them")
+    return {
+        "test": test,
+        "nonparametric": TestResult(name="Kruskal-Wallis H", statistic=h.statistic, df=float(h.df),
+                                    pvalue=h.pvalue),
+        "effect_size": EffectSize(name="omega-squared", value=omega_sq),
+        "nonparametric_effect_size": EffectSize(name="epsilon-squared", value=h.statistic * (n + 1) / (n * n - 1)),
+        "pairs": tuple(pairs),
+        "pairs_method": method,
+        "levene": levene_from_counts(samples),
+        "extra_notes": ["omega-squared can fall below zero when the groups differ less than chance would make "
+                        "them; read such values as zero"] if omega_sq < 0 else [],
+    }
+
+
+__all__ = ["CountedLevel", "compare_from_counts", "counted_level", "levene_from_counts"]
