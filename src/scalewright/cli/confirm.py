@@ -7,7 +7,6 @@ import click
 
 from .common import (
     by_option,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -18,12 +17,13 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .engine_route import dataset_argument, engine_options, first_needing_rows, load_summaries
 
 
 @click.command("confirm", epilog=("Examples:\n\n\b\n"
                   "  scalewright confirm survey.csv --scales survey.yaml\n"
                   "  scalewright confirm survey.csv -s survey.yaml --by shift --strict\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @missing_option
@@ -38,10 +38,12 @@ from .common import (
               help="With --by: also test strict invariance (equal residual variances).")
 @weight_option
 @input_options
+@engine_options
 @output_options
 def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, pairwise: bool, ordinal: bool,
             confidence_level: float,
-            min_group: int, with_strict: bool, lenient: bool, exclude: Path | None, fmt: str | None,
+            min_group: int, with_strict: bool, lenient: bool, exclude: Path | None, engine: str,
+            scheduler: str | None, workers: int | None, block_size: int | None, fmt: str | None,
             out: Path | None, decimals: int) -> None:
     """Check that the scale file's structure holds: confirmatory factor models fitted by maximum likelihood.
 
@@ -61,8 +63,15 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
                                               "polychoric correlations come from the answer tables")
     require(not (by and (ordinal or method == "em")), "--by (invariance) fits means and covariances by maximum "
                                                       "likelihood; use it without --ordinal and --missing em")
-    inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    weighted = getattr(inputs.responses, "weights", None) is not None
+    from ..analyses.summarised_confirm import confirm_plan
+
+    # cross-products, per-pattern statistics and pair tables of each scale's codes serve every model
+    summarised = load_summaries(
+        data, scales, lambda spec: confirm_plan(spec, missing=method, ordinal=ordinal, by=by),
+        engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
+        needs_rows=first_needing_rows(exclude=exclude is not None))
+    inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    weighted = getattr(inputs.responses, "weights", None) is not None  # weighted fits read the rows
     if weighted:
         # weighted polychoric tables would need weighted SEs for the DWLS weights too: refused, not guessed
         require(not ordinal, "--ordinal cannot use survey weights yet (the polychoric correlations are of "
@@ -70,15 +79,26 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
         require(method == "listwise", f"survey weights work with --missing listwise only (the weighted covariance "
                                       f"of complete answers), not {method}")
         require(not by, "--by (invariance) does not use survey weights yet; leave out --by or the weight column")
-    analysis = analyse_confirm(inputs.spec, inputs.responses, missing=method, ordinal=ordinal,
-                               confidence_level=confidence_level, weighted=weighted)
     pairwise = method == "pairwise"
-    if by:
-        from ..analyses.invariance import analyse_invariance
+    if summarised:
+        from ..analyses.summarised_confirm import confirm_from_summaries, confirm_invariance_from_summaries
 
-        analysis = analyse_invariance(inputs.spec, inputs.responses, analysis, by=by, min_group=min_group,
-                                      pairwise=pairwise, strict=with_strict)
+        analysis = confirm_from_summaries(inputs.spec, summarised.summary, n_rows=inputs.responses.n,
+                                          missing=method, ordinal=ordinal, confidence_level=confidence_level)
+        if by:
+            analysis = confirm_invariance_from_summaries(inputs.spec, summarised.summary, analysis, by=by,
+                                                         min_group=min_group, strict=with_strict)
+    else:
+        analysis = analyse_confirm(inputs.spec, inputs.responses, missing=method, ordinal=ordinal,
+                                   confidence_level=confidence_level, weighted=weighted)
+        if by:
+            from ..analyses.invariance import analyse_invariance
+
+            analysis = analyse_invariance(inputs.spec, inputs.responses, analysis, by=by, min_group=min_group,
+                                          pairwise=pairwise, strict=with_strict)
     body = {**analysis.to_dict(), "reading": inputs.responses.reading_summary()}
+    if summarised:
+        body["engine"] = summarised.engine
     options = {"by": list(by), "missing": method, "ordinal": ordinal,
                "confidence_level": confidence_level, "min_group": min_group, "strict": with_strict,
                "estimator": analysis.estimator,

@@ -1,0 +1,159 @@
+"""`confirm` from merged summaries: the models of :func:`~scalewright.analyses.confirm.analyse_confirm`.
+
+Each model is fitted to a matrix that is a function of mergeable summaries of its items' answer codes:
+the listwise or pairwise keyed covariance (exact integer cross-products), the EM covariance (per-pattern
+sums, :func:`~scalewright.stats.em.em_means_and_covariance` takes them as they are), or the polychoric
+correlations (per-pair contingency tables). The whole-file model's items are summarised as one more
+"scale" of the plan (:data:`WHOLE_FILE_KEY`), so its listwise rows are those answering all of them, as on
+the whole-file route.
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import replace
+from typing import Any
+
+import numpy as np
+
+from .confirm import WHOLE_FILE, ConfirmAnalysis, ModelInput, _keying, observed_score_correlations
+from .summarised_groups import invariance_from_summaries, keyed_from_cross_products
+
+#: the key of the whole-file model's items among the per-scale summaries (no scale name starts with a space)
+WHOLE_FILE_KEY = " whole file"
+
+
+def whole_file_items(spec: Any, *, missing: str) -> tuple[str, ...]:
+    """The items summarised for the whole-file model: the model's items, or every item of the file for EM."""
+    from ..stats.cfa_model import factor_model, scale_file_structure
+
+    if missing == "em":
+        return tuple(spec.items)
+    membership, orthogonal, _ = scale_file_structure({name: tuple(s.items) for name, s in spec.scales.items()})
+    return tuple(factor_model(membership, orthogonal=orthogonal).items)
+
+
+def confirm_plan(spec: Any, *, missing: str, ordinal: bool, by: Sequence[str] = ()) -> Any:
+    """The summary plan of ``confirm``: per scale (and for the whole-file model's items) the cross-products
+    of the missing-answer method, the per-pattern statistics and, with ``ordinal``, the pair tables."""
+    from ..engine.plan import ScalePlan, plan_for
+
+    plan = plan_for(spec, cross_products="pairwise" if missing == "pairwise" else "listwise", answers=False,
+                    by=tuple(by), patterns=True)
+    if ordinal:
+        plan = replace(plan, pair_tables="pairwise" if missing == "pairwise" else "listwise")
+    if len(spec.scales) < 2:
+        return plan
+    index = {name: position for position, name in enumerate(spec.items)}
+    items = whole_file_items(spec, missing=missing)
+    span = int(max(s.response.max - s.response.min for s in spec.scales.values()))
+    whole = ScalePlan(name=WHOLE_FILE_KEY, positions=tuple(index[item] for item in items), low=0, high=span,
+                      reversed_mask=(False,) * len(items), method="mean", required=len(items))
+    return replace(plan, scales=(*plan.scales, whole))
+
+
+def model_input_from_summary(spec: Any, part: Any, pool: Sequence[str], items: Sequence[str], *, missing: str,
+                             ordinal: bool, scope: str) -> ModelInput:
+    """:func:`~scalewright.analyses.confirm.model_input` from the summary ``part`` of the items ``pool``
+    (``items`` among them), by the same steps."""
+    from ..stats.em import em_means_and_covariance
+    from ..stats.missing import check_method, keyed_estimate, missing_handling
+    from ..stats.polychoric_matrix import polychoric_matrix
+
+    check_method(missing)
+    pool, items = list(pool), list(items)
+    where = [pool.index(item) for item in items]
+    patterns = part["patterns"]
+    if ordinal:
+        _, _, reversed_mask = _keying(spec, items)
+        tables = part["pair_tables"]
+        matrix = polychoric_matrix(tables.take(where) if where != list(range(len(pool))) else tables,
+                                   item_names=items, pairwise=missing == "pairwise").keyed(reversed_mask)
+        weights = np.array(matrix.dwls_weights(), dtype=np.float64)
+        # the unit diagonal's weight, as model_input sets it (see there why any positive weight will do)
+        off = weights[~np.eye(len(items), dtype=bool)]
+        np.fill_diagonal(weights, float(off.max()) if off.size and off.max() > 0 else 1.0)
+        handling = missing_handling(patterns, missing, n_used=matrix.n_used, scope=scope, item_names=tuple(pool))
+        return ModelInput(matrix=matrix.correlation, n=int(matrix.n_used), weights=weights, missing=handling)
+    estimate = None
+    if missing == "em" and patterns.anything_missing:
+        estimate = em_means_and_covariance(patterns)
+        lows, highs, reversed_mask = _keying(spec, pool)
+        _, cov_all = keyed_estimate(estimate, lows=lows, highs=highs, reversed_mask=reversed_mask, from_codes=True)
+        cov, n_used = cov_all[np.ix_(where, where)], patterns.n_used
+    else:
+        stats = keyed_from_cross_products(spec, part["cross_products"], pool)
+        cov, n_used = stats.cov[np.ix_(where, where)], stats.n_used
+        if missing == "em":
+            n_used = patterns.n_used
+    handling = missing_handling(patterns, missing, n_used=n_used, estimate=estimate, scope=scope,
+                                item_names=tuple(pool))
+    return ModelInput(matrix=np.asarray(cov, dtype=np.float64), n=int(n_used), weights=None, missing=handling)
+
+
+def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str = "listwise", ordinal: bool = False,
+                           confidence_level: float = 0.95) -> ConfirmAnalysis:
+    """:func:`~scalewright.analyses.confirm.analyse_confirm` from a summary made by :func:`confirm_plan`."""
+    from ..concurrency import map_in_threads, one_blas_thread
+    from ..notes import note
+    from ..stats.cfa_fit import fit
+    from ..stats.cfa_model import factor_model, scale_file_structure
+    from ..stats.cfa_result import summarize_fit
+
+    names = list(spec.scales)
+    memberships = {name: tuple(spec.scales[name].items) for name in names}
+
+    def fitted_to(given: ModelInput, model: Any) -> Any:
+        if ordinal:
+            return fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights)
+        return fit(given.matrix, given.n, model)
+
+    def one_scale(name: str) -> tuple[Any, Any]:
+        items = memberships[name]
+        given = model_input_from_summary(spec, summary["scales"][name], items, items, missing=missing,
+                                         ordinal=ordinal, scope="confirm-scale")
+        fitted = fitted_to(given, factor_model({name: items}))
+        return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
+
+    with one_blas_thread():
+        done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
+        models = {name: pair[0] for name, pair in done.items()}
+        missing_by_model = {name: pair[1].missing for name, pair in done.items()}
+        observed: dict[str, dict[str, float]] = {}
+        if len(names) >= 2:
+            membership, orthogonal, totals = scale_file_structure(memberships)
+            model = factor_model(membership, orthogonal=orthogonal)
+            given = model_input_from_summary(spec, summary["scales"][WHOLE_FILE_KEY],
+                                             whole_file_items(spec, missing=missing), model.items, missing=missing,
+                                             ordinal=ordinal, scope="confirm-file")
+            fitted = fitted_to(given, model)
+            models[WHOLE_FILE] = summarize_fit(fitted, name=WHOLE_FILE, scales=memberships, totals=totals, hints=True,
+                                               confidence_level=confidence_level)
+            missing_by_model[WHOLE_FILE] = given.missing
+            if not ordinal:
+                observed = observed_score_correlations(given.matrix, model.items, memberships)
+    notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing, n_rows=n_rows,
+                           estimator="dwls" if ordinal else "ml",
+                           correlation_type="polychoric" if ordinal else "covariance",
+                           missing_by_model=missing_by_model, notes=notes)
+
+
+def confirm_invariance_from_summaries(spec: Any, summary: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],
+                                      min_group: int = 30, strict: bool = False,
+                                      confidence_level: float = 0.95) -> ConfirmAnalysis:
+    """``analysis`` with the invariance of every scale and the whole-file model across ``by`` (as
+    :func:`~scalewright.analyses.invariance.analyse_invariance`), from each level's cross-products."""
+    from ..stats.cfa_model import factor_model, scale_file_structure
+
+    memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
+    targets: dict[str, Any] = {name: factor_model({name: items}) for name, items in memberships.items()}
+    if len(memberships) >= 2:
+        membership, orthogonal, _ = scale_file_structure(memberships)
+        targets[WHOLE_FILE] = factor_model(membership, orthogonal=orthogonal)
+
+    def cross_products_of(part: Any, name: str) -> Any:
+        return part[WHOLE_FILE_KEY if name == WHOLE_FILE else name]["cross_products"]
+
+    results = invariance_from_summaries(spec, summary, targets, by=by, min_group=min_group, strict=strict,
+                                        confidence_level=confidence_level, cross_products_of=cross_products_of)
+    return replace(analysis, invariance=results)
