@@ -127,7 +127,12 @@ def _groups(summary: PatternSummary) -> list[_Group]:
                                  sums=summary.sums[mine].astype(np.float64),
                                  cross=np.stack([summary.matrices[p] for p in mine]).astype(np.float64)))
     if summary.rows.size:
-        observed = summary.observed[summary.row_pattern]
+        # rows in a canonical order (pattern, then answers), so the E step's sums are taken in the same
+        # order whatever the order of the rows: the same estimate, to the bit, from a file read whole, read
+        # in blocks or summarised on Dask partitions (the summaries hold the same rows in another order)
+        canonical = np.lexsort((*summary.rows.T[::-1], summary.row_pattern))
+        rows, row_pattern = summary.rows[canonical], summary.row_pattern[canonical]
+        observed = summary.observed[row_pattern]
         n_missing = k - observed.sum(axis=1)
         for m in np.unique(n_missing):
             if m == 0:
@@ -135,7 +140,7 @@ def _groups(summary: PatternSummary) -> list[_Group]:
             mine = n_missing == m
             answered = observed[mine]
             groups.append(_Group(missing=np.nonzero(~answered)[1].reshape(-1, int(m)), answered=answered,
-                                 counts=np.ones(int(mine.sum())), sums=summary.rows[mine], cross=None))
+                                 counts=np.ones(int(mine.sum())), sums=rows[mine], cross=None))
     return groups
 
 

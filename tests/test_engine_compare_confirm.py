@@ -1,0 +1,115 @@
+"""`compare` and `confirm` on the streaming route (a file read in many small blocks) and on a Dask cluster:
+the whole-file route's output, whose statistics come from pingouin, scipy and the project's own fits of
+the rows, is the reference."""
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import pytest
+
+from .engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .test_engine_stream import _with_cells, assert_same_numbers, both_routes, run
+
+
+@pytest.fixture
+def survey(tmp_path: Path) -> tuple[Path, Path]:
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    return write_csv(tmp_path / "survey.csv", survey_rows(1500)), scales
+
+
+def assert_comparison_equal(streamed: dict, whole: dict) -> None:
+    """Equal to 1e-12, except the Games-Howell and Tukey p-values: scipy's studentized range distribution
+    is a numerical integral whose result moves by about 1e-11 when its input moves in the last bit."""
+    for scale in whole["scales"].values():
+        for record in scale["by"].values():
+            for pair in record.get("pairs", []):
+                pair.pop("pvalue", None)
+    pvalues = [(pair, pair.pop("pvalue")) for scale in streamed["scales"].values()
+               for record in scale["by"].values() for pair in record.get("pairs", [])]
+    assert all(0 <= p <= 1 for _, p in pvalues)
+    assert_same_numbers(streamed, whole)
+
+
+@pytest.mark.parametrize("options", [("--by", "shift"), ("--by", "site", "--student"),
+                                     ("--by", "shift", "--student", "--min-cell", "200")])
+def test_compare_streamed_equals_whole_file(survey, options):
+    whole, streamed = both_routes("compare", *survey, *options)
+    assert_comparison_equal(streamed, whole)
+    assert whole["scales"]["workload"]["by"][options[1]]["test"]["pvalue"] is not None  # there was a test
+
+
+def test_compare_pair_pvalues_agree_closely(survey):
+    # reference: pingouin.pairwise_gameshowell on the rows (the whole-file route)
+    whole, streamed = both_routes("compare", *survey, "--by", "shift")
+    for name in ("workload", "climate"):
+        pairs_w = whole["scales"][name]["by"]["shift"]["pairs"]
+        pairs_s = streamed["scales"][name]["by"]["shift"]["pairs"]
+        assert len(pairs_w) == 6
+        for a, b in zip(pairs_s, pairs_w, strict=True):
+            assert a["pvalue"] == pytest.approx(b["pvalue"], rel=1e-9, abs=1e-12)
+
+
+@pytest.mark.parametrize("options", [(), ("--pairwise",), ("--missing", "em"), ("--ordinal",),
+                                     ("--ordinal", "--missing", "pairwise"), ("--by", "site", "--strict")])
+def test_confirm_streamed_equals_whole_file(survey, options):
+    whole, streamed = both_routes("confirm", *survey, *options)
+    assert_same_numbers(streamed, whole)
+    assert set(whole["models"]) == {"workload", "climate", "all"}
+
+
+def test_bad_value_late_in_the_file_is_named_as_whole(survey):
+    data, scales = survey
+    _with_cells(data, {(1400, 5): "6", (1490, 8): "0"})
+    for command in ("compare", "confirm"):
+        whole = run(command, str(data), "-s", str(scales), "--engine", "memory", "--by", "shift")
+        streamed = run(command, str(data), "-s", str(scales), "--engine", "stream", "--block-size", "4096",
+                       "--by", "shift")
+        assert whole[0] == streamed[0] == 4
+        assert streamed[2] == whole[2]
+        assert "row 1400, column wl3" in streamed[2]
+        lenient_whole, lenient_streamed = both_routes(command, data, scales, "--lenient", "--by", "shift")
+        if command == "confirm":
+            assert lenient_whole["reading"]["refused_total"] == 2
+            assert_same_numbers(lenient_streamed, lenient_whole)
+        else:  # compare shows the refused values in its notes on reading
+            assert "2 value(s)" in json.dumps(lenient_whole)
+            assert_comparison_equal(lenient_streamed, lenient_whole)
+
+
+@pytest.fixture(scope="module")
+def cluster():
+    pytest.importorskip("distributed")
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
+        yield local
+
+
+@pytest.mark.parametrize(("command", "options"), [("compare", ("--by", "shift")),
+                                                  ("confirm", ("--missing", "em")),
+                                                  ("confirm", ("--ordinal",))])
+def test_dask_dataset_equals_the_in_memory_run(cluster, tmp_path, command, options):
+    rows = survey_rows(1200, seed=5)
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    folder = tmp_path / "survey"
+    folder.mkdir()
+    for part in range(3):
+        write_parquet(folder / f"part-{part}.parquet", rows[part * 400:(part + 1) * 400], row_group_size=150)
+    whole_file = write_csv(tmp_path / "survey.csv", rows)
+    code_m, out_m, err_m = run(command, str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory",
+                               *options)
+    code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
+                               "--scheduler", cluster.scheduler_address, *options)
+    assert code_m == 0, err_m
+    assert code_d == 0, err_d
+    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    assert on_dask.pop("engine") == {"name": "dask", "scheduler": cluster.scheduler_address, "partitions": 3}
+    in_memory.pop("input")
+    on_dask.pop("input")
+    if command == "compare":
+        assert_comparison_equal(on_dask, in_memory)
+    else:
+        assert_same_numbers(on_dask, in_memory)
