@@ -90,30 +90,42 @@ def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) ->
 
 
 def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: float = 0.95, pairwise: bool = False,
-                                   thresholds: Any = None) -> Any:
+                                   thresholds: Any = None, missing: str | None = None) -> Any:
     """:func:`~scalewright.stats.reliability.scale_reliability` of one scale from its answer counts and
-    cross-products (the same statistics, notes and flags)."""
+    cross-products (the same statistics, notes and flags); under ``missing="em"`` the covariance is the EM
+    estimate from the merged per-pattern statistics (``patterns``, with listwise cross-products)."""
     from ..stats.item_analysis import item_descriptives_from_tally
     from ..stats.reliability import reliability_from_cov
     from ..stats.reliability_flags import ReliabilityThresholds
 
     thresholds = thresholds or ReliabilityThresholds()
+    method = missing or ("pairwise" if pairwise else "listwise")
     low, high = int(scale.response.min), int(scale.response.max)
     reversed_mask = np.array([scale.is_reversed(item) for item in scale.items], dtype=bool)
     stats = part["cross_products"].covariance(low=low, high=high, reversed_mask=reversed_mask)
     answers = part["answers"]
     descriptives = item_descriptives_from_tally(answers.tally, n_rows=answers.n_rows, low=low, high=high,
                                                 reversed_mask=reversed_mask)
+    estimate = None
+    cov, n_used = stats.cov, stats.n_used
+    if method == "em" and part["patterns"].anything_missing:  # as scale_reliability computes it
+        from ..stats.em import em_means_and_covariance
+        from ..stats.missing import keyed_estimate
+
+        estimate = em_means_and_covariance(part["patterns"])
+        k = len(scale.items)
+        _, cov = keyed_estimate(estimate, lows=np.full(k, low), highs=np.full(k, high), reversed_mask=reversed_mask,
+                                from_codes=True)
+        n_used = part["patterns"].n_used
     notes: list[str] = []
-    if pairwise:
+    if method == "pairwise":
         notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
                      f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
                      f"confidence interval uses the smallest count, {stats.n_used}")
-    elif stats.n_rows > stats.n_used:
+    elif method == "listwise" and stats.n_rows > stats.n_used:
         notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
                      f"every item and were set aside")
-    method = "pairwise" if pairwise else "listwise"
-    result = reliability_from_cov(stats.cov, stats.n_used, item_names=tuple(scale.items),
+    result = reliability_from_cov(cov, n_used, item_names=tuple(scale.items),
                                   confidence_level=confidence_level, thresholds=thresholds,
                                   reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
                                   missing_handling=method, bootstrap=None, notes=notes)
@@ -124,18 +136,29 @@ def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: f
     from ..stats.missing import missing_handling
 
     # the missing-data block of the whole-file route (patterns, Little's test) from the merged patterns
-    return replace(result, missing=missing_handling(part["patterns"], method, n_used=stats.n_used,
+    return replace(result, missing=missing_handling(part["patterns"], method, n_used=n_used, estimate=estimate,
                                                     item_names=tuple(scale.items)))
 
 
+def ordinal_from_summary(part: Any, scale: Any, *, pairwise: bool) -> Any:
+    """:func:`~scalewright.analyses.ordinal.scale_ordinal`'s ordinal reliability from the scale's merged
+    pair tables (``pair_tables`` in the plan: listwise or pairwise rows)."""
+    from ..stats.ordinal_reliability import ordinal_reliability
+    from ..stats.polychoric_matrix import polychoric_matrix
+
+    matrix = polychoric_matrix(part["pair_tables"], item_names=list(scale.items), pairwise=pairwise)
+    return ordinal_reliability(matrix.keyed([item in set(scale.reverse) for item in scale.items]))
+
+
 def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
-                               pairwise: bool = False, min_group: int = 10, thresholds: Any = None) -> dict[str, Any]:
+                               pairwise: bool = False, min_group: int = 10, thresholds: Any = None,
+                               missing: str | None = None, ordinal: bool = False) -> dict[str, Any]:
     """:func:`~scalewright.analyses.reliability.analyse_reliability` from merged summaries (no bootstrap:
-    it resamples rows)."""
+    it resamples rows). ``ordinal`` needs pair tables in the plan (pairwise rows under pairwise and em)."""
     from ..stats.ordinal_reliability import ordinal_advice
     from ..stats.reliability_groups import GroupReliability, ScaleReliabilityReport, compare_alphas
 
-    options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds)
+    options = dict(confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds, missing=missing)
     splits = []
     for column in by:
         split, members = subgroup_split(spec, summary, column, min_group=min_group)
@@ -159,8 +182,12 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
         levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
         tallies = np.array([[item.counts.get(level, 0) for level in levels] for item in overall.items.values()])
         advice = ordinal_advice(tallies, len(levels), list(overall.items)) if len(tallies) else ()
+        ordinal_result = None
+        if ordinal:  # under em the pair tables use the pairwise rows, as on the whole-file route
+            pairwise_rows = missing in ("pairwise", "em") if missing is not None else pairwise
+            ordinal_result = ordinal_from_summary(summary["scales"][name], scale, pairwise=pairwise_rows)
         reports[name] = ScaleReliabilityReport(name=name, title=scale.title, overall=overall, groups=tuple(groups),
-                                               ordinal=None, ordinal_advice=advice)
+                                               ordinal=ordinal_result, ordinal_advice=advice)
     return reports
 
 

@@ -77,10 +77,19 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
         raise UsageError("--bootstrap is not available with --missing em: it would rerun EM on every resample; "
                          "the interval under em is Feldt's (see the note)")
     # the summaries serve listwise and pairwise covariances; any other option takes the whole-file route
-    needs_rows = first_needing_rows(bootstrap=bool(n_resamples), exclude=exclude is not None, ordinal=ordinal,
-                                    missing=method not in ("listwise", "pairwise"))
+    needs_rows = first_needing_rows(bootstrap=bool(n_resamples), exclude=exclude is not None)
+
+    def plan(spec):
+        # em: listwise cross-products beside the per-pattern statistics; --ordinal: the pair tables of the
+        # rows the whole-file route uses (pairwise under pairwise and em)
+        from dataclasses import replace
+
+        made = plan_for(spec, cross_products="listwise" if method == "em" else method, by=resolve_by(by, spec),
+                        patterns=True)
+        return replace(made, pair_tables=("listwise" if method == "listwise" else "pairwise") if ordinal else None)
+
     summarised = load_summaries(
-        data, scales, lambda spec: plan_for(spec, cross_products=method, by=resolve_by(by, spec), patterns=True),
+        data, scales, plan,
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
         needs_rows=needs_rows)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
@@ -94,7 +103,8 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
 
         reports = reliability_from_summaries(inputs.spec, summarised.summary, by=columns,
                                              confidence_level=confidence_level, pairwise=method == "pairwise",
-                                             min_group=min_group, thresholds=thresholds)
+                                             min_group=min_group, thresholds=thresholds, missing=method,
+                                             ordinal=ordinal)
         # the confirmatory one-factor model of each scale from the merged covariance (see `confirm`)
         models = one_factor_models_from_summaries(inputs.spec, summarised.summary, pairwise=method == "pairwise")
     else:
