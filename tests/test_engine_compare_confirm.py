@@ -113,3 +113,54 @@ def test_dask_dataset_equals_the_in_memory_run(cluster, tmp_path, command, optio
         assert_comparison_equal(on_dask, in_memory)
     else:
         assert_same_numbers(on_dask, in_memory)
+
+
+@pytest.mark.parametrize("options", [("--missing", "em", "--by", "site"), ("--ordinal",),
+                                     ("--ordinal", "--missing", "em"), ("--ordinal", "--pairwise")])
+def test_reliability_em_and_ordinal_streamed_equal_whole_file(survey, options):
+    # reference: scale_reliability's EM and analyses.ordinal's polychoric matrix on the rows (whole-file route)
+    whole, streamed = both_routes("reliability", *survey, *options)
+    assert streamed == whole
+    block = whole["scales"]["workload"]
+    assert bool(block.get("ordinal")) == ("--ordinal" in options)  # the ordinal block was computed
+
+
+def _coded_survey(tmp_path: Path, bad: str | None = None) -> tuple[Path, Path]:
+    """The survey with shift written as codes the scale file names (2 sometimes as 2.0, as from a float column)."""
+    scales = tmp_path / "coded.yaml"
+    scales.write_text(SCALES.replace("groups: [shift]", "groups: [{shift: {1: day, 2: night, 3: late, 4: weekend}}]"),
+                      encoding="utf-8")
+    rows = survey_rows(1500)
+    codes = {"day": "1", "night": "2.0", "late": "3", "weekend": "4"}
+    for row in rows:
+        row[1] = codes[row[1]]
+    if bad is not None:
+        rows[1300][1] = bad
+    return write_csv(tmp_path / "coded.csv", rows), scales
+
+
+@pytest.mark.parametrize(("command", "options"), [("reliability", ("--by", "shift")), ("compare", ("--by", "shift")),
+                                                  ("tally", ("--columns", "shift")), ("shape", ("--by", "shift")),
+                                                  ("confirm", ("--by", "shift", "--min-group", "100"))])
+def test_group_codes_named_by_the_scale_file_stream(tmp_path, command, options):
+    # reference: data._ordered_levels, the whole-file reader's naming of the codes
+    data, scales = _coded_survey(tmp_path)
+    whole, streamed = both_routes(command, data, scales, *options)
+    if command == "compare":
+        assert_comparison_equal(streamed, whole)
+        assert list(whole["scales"]["workload"]["by"]["shift"]["groups"]) == ["day", "night", "late", "weekend"]
+    else:
+        assert_same_numbers(streamed, whole)
+
+
+def test_an_unlisted_group_code_late_in_the_file_is_named_as_whole(tmp_path):
+    data, scales = _coded_survey(tmp_path, bad="x")
+    whole = run("compare", str(data), "-s", str(scales), "--engine", "memory", "--by", "shift")
+    streamed = run("compare", str(data), "-s", str(scales), "--engine", "stream", "--block-size", "4096",
+                   "--by", "shift")
+    assert whole[0] == streamed[0] == 4
+    assert streamed[2] == whole[2]
+    assert "row 1302, column shift" in streamed[2]
+    assert "1 = day" in streamed[2]
+    lenient_whole, lenient_streamed = both_routes("compare", data, scales, "--by", "shift", "--lenient")
+    assert_comparison_equal(lenient_streamed, lenient_whole)

@@ -240,7 +240,7 @@ def test_no_answer_texts_are_read_as_missing_on_both_routes(survey):
     assert sum(sum(c.values()) for c in whole["reading"]["missing_texts_by_column"].values()) == 4
 
 
-@pytest.mark.parametrize("options", [("--ordinal",), ("--missing", "em"), ("--bootstrap", "50")])
+@pytest.mark.parametrize("options", [("--bootstrap", "50")])
 def test_options_the_summaries_do_not_serve_keep_the_whole_file_route(survey, options):
     data, scales = survey
     code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
@@ -265,18 +265,3 @@ def test_reliability_confirmatory_block_streamed_equals_whole_file(survey):
     for name in ("workload", "climate"):
         assert streamed["scales"][name]["confirmatory"] == whole["scales"][name]["confirmatory"]
         assert whole["scales"][name]["confirmatory"]  # the block is there to compare
-
-
-def test_group_codes_named_by_the_scale_file_take_the_whole_file_route(survey):
-    data, scales = survey
-    scales.write_text(SCALES.replace("groups: [shift]", "groups: [{shift: {1: day, 2: night, 3: late, 4: weekend}}]"),
-                      encoding="utf-8")
-    code, out, err = run("reliability", str(data), "-s", str(scales), "--engine", "stream", "--format", "json",
-                         "--block-size", SMALL_BLOCK)
-    assert code == 0, err
-    assert "read whole" in err
-    assert "shift" in err
-    assert "engine" not in json.loads(out)
-    code, _, err = run("reliability", str(data), "-s", str(scales), "--engine", "dask", "--format", "json")
-    assert code == 2
-    assert "shift" in err

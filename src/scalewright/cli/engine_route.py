@@ -81,14 +81,6 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
                              "the rows (use --engine memory)")
         return None
     plan = make_plan(spec)
-    coded = [column for column in getattr(spec, "group_codes", {}) if column in plan.columns]
-    if coded:  # the block reader does not turn a group's codes into the level names the scale file gives
-        reason = f"group column {coded[0]!r} holds codes the scale file names; only the whole-file route names them"
-        if route == "dask":
-            raise UsageError(f"--engine dask: {reason} (use --engine memory)")
-        if engine == "stream":
-            click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
-        return None
     if route == "dask":
         if scales is None:
             raise UsageError("--engine dask needs the scale file: give --scales FILE")

@@ -226,7 +226,8 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             hashes, id_empty = _id_check(series, (part, first_row, file))
             id_hashes = (hashes,)
         if name in spec.group_levels:
-            series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file))
+            series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file),
+                                          codes=getattr(spec, "group_codes", {}).get(name))
             if found:
                 unknown[name] = found
         wanted[name] = series
@@ -258,15 +259,20 @@ def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
     return hashes, found
 
 
-def _known_levels(values: pd.Series, order: Sequence[str], start: tuple) -> tuple[pd.Series, tuple]:
-    """The group column with levels the scale file does not list made missing, and the first such one."""
-    text = values.astype("string").str.strip()
-    text = text.mask(text == "")
+def _known_levels(values: pd.Series, order: Sequence[str], start: tuple, *,
+                  codes: Any = None) -> tuple[pd.Series, tuple]:
+    """The group column with levels the scale file does not list made missing, and the first such one
+    (codes named and numbers matched first, as the whole-file reader does: :mod:`.group_levels`)."""
+    from .group_levels import named_levels
+
+    raw = values.astype("string")
+    text = raw.str.strip()
+    text = named_levels(text.mask(text == ""), order, codes)
     unknown = (text.notna() & ~text.isin(order)).to_numpy(dtype=bool)
     found = ()
     if unknown.any():
         first = int(np.flatnonzero(unknown)[0])
-        found = (_at(start, first), str(text.iloc[first]), int(unknown.sum()))
+        found = (_at(start, first), str(raw.iloc[first]), int(unknown.sum()))
     return text.where(~unknown), found
 
 

@@ -197,10 +197,13 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
         for column in spec.group_levels:
             if column in counts.unknown_levels:
                 (_, row, file), value, count = counts.unknown_levels[column]
-                order = spec.group_levels[column]
+                from ..errors import quoted
+                from .group_levels import order_text
+
+                listed = order_text(spec.group_levels[column], getattr(spec, "group_codes", {}).get(column))
                 raise DataError(Problem(file=file or path, where=f"row {row}, column {column}",
-                                        message=f"{value!r} is not one of the levels the scale file lists for "
-                                                f"{column} ({', '.join(order)}); {count} such value(s)"))
+                                        message=f"{quoted(value)} is not one of the levels the scale file lists "
+                                                f"for {column} ({listed}); {count} such value(s)"))
     return ReadingOutcome(path=path, counts=counts, item_names=tuple(spec.items),
                           missing_texts=tuple(getattr(spec, "missing_texts", ()) or ()),
                           refused_problems=tuple(p for _, p in sample))
