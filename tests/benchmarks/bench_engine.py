@@ -7,13 +7,14 @@ process; peak memory is its maximum resident set size (``os.wait4`` rusage), tim
 
     python tests/benchmarks/bench_engine.py FOLDER memory [--rows 1000000 4000000 20000000]
     python tests/benchmarks/bench_engine.py FOLDER speed [--rows 1000000] [--repeat 3]
-    python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8]
+    python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8] [--commands compare confirm]
 
 ``memory``: `reliability`, `shape` and `tally --items` with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
---engine dask` on the Parquet folder with a local cluster of 1 and of 2 workers. Results are printed and
+--engine dask` (or the commands named: `compare --by shift`, `confirm`...) on the Parquet folder with a
+local cluster of 1 and of 2 workers, and the same command on the whole CSV file in memory. Results are printed and
 written as JSON beside the data; record them, with ``cat /proc/loadavg``, in docs/performance.md.
 """
 from __future__ import annotations
@@ -127,6 +128,8 @@ def measure(label: str, arguments: list[str], results: list[dict], **fields) -> 
 
 
 COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"]}
+#: the commands the dask measurement can also run (with the options they need on this survey)
+DASK_COMMANDS = {**COMMANDS, "compare": ["--by", "shift"], "confirm": []}
 
 
 def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], names: list[str],
@@ -155,13 +158,22 @@ def speed(folder: Path, scales: Path, rows: int, repeat: int, results: list[dict
         print(f"ratio {streamed['seconds'] / bare['seconds']:.2f}", flush=True)
 
 
-def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict]) -> None:
+def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
+         names: tuple[str, ...] = ("reliability",)) -> None:
     dataset = write_parquet_folder(folder, rows, parts)
-    for workers in (1, 2):
-        measure(f"reliability dask {workers} worker(s)",
-                command("reliability", str(dataset), "--scales", str(scales), "--format", "json",
-                        "--out", str(folder / f"dask_{workers}.json"), "--engine", "dask", "--workers", str(workers)),
-                results, rows=rows, parts=parts, workers=workers)
+    for name in names:
+        extra = DASK_COMMANDS[name]
+        for workers in (1, 2):
+            measure(f"{name} dask {workers} worker(s)",
+                    command(name, str(dataset), "--scales", str(scales), "--format", "json",
+                            "--out", str(folder / f"dask_{name}_{workers}.json"), "--engine", "dask",
+                            "--workers", str(workers), *extra),
+                    results, rows=rows, parts=parts, workers=workers)
+        if name != "reliability":  # the same numbers from the whole file in memory, for scale
+            data = write_csv(folder, rows)
+            measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
+                                              "--out", str(folder / f"memory_{name}.json"), "--engine", "memory",
+                                              *extra), results, rows=rows)
 
 
 def main() -> int:
@@ -171,7 +183,8 @@ def main() -> int:
     parser.add_argument("--rows", type=int, nargs="+", default=None)
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--parts", type=int, default=8)
-    parser.add_argument("--commands", nargs="+", default=list(COMMANDS), choices=list(COMMANDS))
+    parser.add_argument("--commands", nargs="+", default=None, choices=list(DASK_COMMANDS),
+                        help="memory: of reliability, shape, tally (default all three); dask: any (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)
@@ -183,12 +196,13 @@ def main() -> int:
             data = write_csv(options.folder, rows)
             print(f"{data}: {data.stat().st_size / 1e6:.0f} MB in {time.perf_counter() - start:.0f} s", flush=True)
     elif options.what == "memory":
-        memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results, options.commands,
-               whole=not options.no_whole)
+        memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results,
+               [name for name in options.commands or COMMANDS if name in COMMANDS], whole=not options.no_whole)
     elif options.what == "speed":
         speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
     else:
-        dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results)
+        dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results,
+             tuple(options.commands or ("reliability",)))
     if results:
         out = options.folder / f"bench_engine_{options.what}.json"
         out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results}, indent=2), encoding="utf-8")
