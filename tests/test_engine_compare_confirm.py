@@ -164,3 +164,78 @@ def test_an_unlisted_group_code_late_in_the_file_is_named_as_whole(tmp_path):
     assert "1 = day" in streamed[2]
     lenient_whole, lenient_streamed = both_routes("compare", data, scales, "--by", "shift", "--lenient")
     assert_comparison_equal(lenient_streamed, lenient_whole)
+
+
+def _weighted_survey(tmp_path: Path, changes: dict[int, str] | None = None) -> tuple[Path, Path]:
+    """The survey with a column of survey weights (gamma-distributed, 2% zero), some cells changed."""
+    import numpy as np
+
+    from .engine_data import HEADER
+
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    rows = survey_rows(1500)
+    rng = np.random.default_rng(3)
+    weights = np.round(rng.gamma(2.0, 0.5, len(rows)), 3)
+    weights[rng.random(len(rows)) < 0.02] = 0
+    for row, weight in zip(rows, weights, strict=True):
+        row.append(f"{weight:g}")
+    for index, value in (changes or {}).items():
+        rows[index][-1] = value
+    return write_csv(tmp_path / "weighted.csv", rows, header=[*HEADER, "wt"]), scales
+
+
+@pytest.mark.parametrize(("command", "options"), [("reliability", ("--by", "site")), ("compare", ("--by", "site")),
+                                                  ("compare", ("--by", "shift"))])
+def test_weighted_estimates_streamed_equal_whole_file(tmp_path, command, options):
+    # reference: numpy's cov(aweights=...) and average(weights=...) on the rows (analyses.weighted_reliability,
+    # stats.weighted_groups.weighted_compare on the whole-file route)
+    data, scales = _weighted_survey(tmp_path)
+    whole, streamed = both_routes(command, data, scales, "--weight", "wt", *options)
+    assert "weighted" in json.dumps(whole)
+    assert_same_numbers(streamed, whole)
+
+
+def test_a_command_without_weights_streams_and_says_so(tmp_path):
+    data, scales = _weighted_survey(tmp_path)
+    scales.write_text(SCALES.replace("groups: [shift]", "groups: [shift]\nweight: wt"), encoding="utf-8")
+    whole, streamed = both_routes("confirm", data, scales)
+    assert streamed == whole
+    assert any("does not use weights" in text for text in whole["notes"])
+
+
+def test_bad_weights_late_in_the_file_are_named_and_counted_as_whole(tmp_path):
+    data, scales = _weighted_survey(tmp_path, {1300: "abc", 1400: "", 1450: "inf"})
+    whole = run("compare", str(data), "-s", str(scales), "--engine", "memory", "--by", "site", "--weight", "wt")
+    streamed = run("compare", str(data), "-s", str(scales), "--engine", "stream", "--block-size", "4096",
+                   "--by", "site", "--weight", "wt")
+    assert whole[0] == streamed[0] == 4
+    assert streamed[2] == whole[2]
+    assert "row 1302, column wt" in streamed[2]
+    lenient_whole, lenient_streamed = both_routes("reliability", data, scales, "--weight", "wt", "--lenient")
+    assert_same_numbers(lenient_streamed, lenient_whole)
+    assert sum("weight" in text for text in lenient_whole["notes"]) >= 3  # refused kinds counted in notes
+
+
+def test_weighted_compare_on_dask(cluster, tmp_path):
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
+    import pyarrow.parquet as pq
+
+    data, scales = _weighted_survey(tmp_path)
+    table = pacsv.read_csv(data, convert_options=pacsv.ConvertOptions(column_types={"staff_id": pa.string()}))
+    folder = tmp_path / "parts"
+    folder.mkdir()
+    for part in range(3):
+        pq.write_table(table.slice(part * 500, 500), folder / f"part-{part}.parquet", row_group_size=200)
+    code_m, out_m, err_m = run("compare", str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
+                               "--by", "site", "--weight", "wt")
+    code_d, out_d, err_d = run("compare", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
+                               "--scheduler", cluster.scheduler_address, "--by", "site", "--weight", "wt")
+    assert code_m == 0, err_m
+    assert code_d == 0, err_d
+    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    on_dask.pop("engine")
+    in_memory.pop("input")
+    on_dask.pop("input")
+    assert_comparison_equal(on_dask, in_memory)

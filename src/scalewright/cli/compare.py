@@ -51,7 +51,7 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
         data, scales, lambda spec: plan_for(spec, cross_products="listwise", answers=False, scores=True,
                                             by=resolve_by(by, spec)),
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
-        needs_rows=first_needing_rows(exclude=exclude is not None))
+        needs_rows=first_needing_rows(exclude=exclude is not None), weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     if not columns:
@@ -84,6 +84,8 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     tables = [*compare_tables(ordered, decimals=decimals), invariance_tables(invariance)[1]]
     if getattr(inputs.responses, "weights", None) is not None:
         tables = [*tables, *_weighted(body, inputs, scored, columns, min_cell)]
+    elif summarised and summarised.weight:
+        tables = [*tables, *_weighted_from_summaries(body, inputs, summarised, columns, min_cell)]
     emit(command="compare", inputs=inputs, body=body, tables=tables, fmt=fmt,
          out=out, decimals=decimals, options={"by": list(columns), "student": student, "min_cell": min_cell})
 
@@ -101,6 +103,21 @@ def _weighted(body, inputs, scored, columns, min_cell) -> list:
         for name, scale_scores in scored.scales.items():
             result = weighted_compare(scale_scores.scores, split.levels, weights.values, column=column, scale=name,
                                       weight_column=weights.column, min_cell=min_cell)
+            body["scales"][name]["by"][column]["weighted"] = result.to_dict()
+            tables.append(weighted_compare_table(result))
+    return tables
+
+
+def _weighted_from_summaries(body, inputs, summarised, columns, min_cell) -> list:
+    """:func:`_weighted` from the merged weighted score value counts of each level."""
+    from ..analyses.summarised_weighted import weighted_compare_from_summaries
+    from ..present.weighted import weighted_compare_table
+
+    found = weighted_compare_from_summaries(inputs.spec, summarised.summary, by=columns, min_cell=min_cell,
+                                            weight_column=summarised.weight)
+    tables = []
+    for column in columns:
+        for name, result in found[column].items():
             body["scales"][name]["by"][column]["weighted"] = result.to_dict()
             tables.append(weighted_compare_table(result))
     return tables

@@ -39,6 +39,8 @@ class Summarised:
     inputs: Inputs
     summary: Any
     engine: dict[str, Any]
+    #: the survey weight column whose weighted summaries were taken, or None
+    weight: str | None = None
 
 
 def _without_scales() -> Any:
@@ -54,10 +56,11 @@ def _without_scales() -> Any:
 
 def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], Any], *, engine: str,
                    scheduler: str | None, block_size: int | None, lenient: bool, workers: int | None = None,
-                   needs_rows: str | None = None) -> Summarised | None:
+                   needs_rows: str | None = None, weighted: bool = False) -> Summarised | None:
     """The inputs as merged summaries, or None when the command should read the file whole.
 
-    ``make_plan(spec)`` gives the :class:`~scalewright.engine.plan.SummaryPlan`. A file the streaming
+    ``make_plan(spec)`` gives the :class:`~scalewright.engine.plan.SummaryPlan`; ``weighted``: the command
+    computes its weighted estimates from the summaries (survey weights then stream). A file the streaming
     route cannot read (see :class:`~scalewright.engine.blocks.CannotStream`) is left to the whole-file
     route, which names any problem in it.
     """
@@ -75,12 +78,26 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     from .common import chosen_weight
 
     weight = chosen_weight() or getattr(spec, "weight", None)
-    if weight:  # weighted estimates (and the note that a command does not weigh) come from the rows
-        if engine in ("stream", "dask"):
-            raise UsageError(f"--engine {engine} works from summaries; survey weights (column {weight!r}) need "
-                             "the rows (use --engine memory)")
-        return None
+    weight_notes: list[str] = []
+    if weight:
+        ctx = click.get_current_context(silent=True)
+        if ctx is None or "scalewright.weight" not in ctx.meta:  # a command without weighted estimates
+            from ..notes import note
+            from ..present.messages import describe
+
+            weight_notes = [describe(note("weights-not-used", weight_column=weight,
+                                          command=ctx.info_name if ctx else ""))]
+            weight = None
+        elif not weighted:  # this command's weighted estimates come from the rows
+            if engine in ("stream", "dask"):
+                raise UsageError(f"--engine {engine} works from summaries; this command's weighted estimates "
+                                 f"(column {weight!r}) need the rows (use --engine memory)")
+            return None
     plan = make_plan(spec)
+    if weight:
+        from dataclasses import replace
+
+        plan = replace(plan, weight=weight)
     if route == "dask":
         if scales is None:
             raise UsageError("--engine dask needs the scale file: give --scales FILE")
@@ -91,8 +108,9 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
         inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=str(data), data_sha256=info["data_sha256"],
                                                                      scales=str(scales),
                                                                      scales_sha256=InputInfo.from_paths(None, scales).scales_sha256),
-                        excluded=0, notes=tuple(outcome.notes()))
-        return Summarised(inputs=inputs, summary=summary,
+                        excluded=0, notes=(*outcome.notes(), *weight_notes,
+                                           *_weight_checked(str(data), summary, weight, lenient)))
+        return Summarised(inputs=inputs, summary=summary, weight=weight,
                           engine={"name": "dask", "scheduler": info["scheduler"], "partitions": info["partitions"]})
     from concurrent.futures import ThreadPoolExecutor
 
@@ -110,8 +128,17 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
             return None
         info = digests.result()
     inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
-                    notes=tuple(outcome.notes()))
-    return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"})
+                    notes=(*outcome.notes(), *weight_notes, *_weight_checked(str(data), summary, weight, lenient)))
+    return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"}, weight=weight)
+
+
+def _weight_checked(path: str, summary: Any, weight: str | None, lenient: bool) -> list[str]:
+    """The weight column's refusal (as the whole-file route refuses it) or its notes; none unweighted."""
+    if not weight:
+        return []
+    from ..analyses.summarised_weighted import check_weights
+
+    return check_weights(path, summary["weight_reading"], weight, lenient=lenient)
 
 
 def first_needing_rows(**given: Any) -> str | None:

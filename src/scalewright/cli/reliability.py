@@ -91,7 +91,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     summarised = load_summaries(
         data, scales, plan,
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
-        needs_rows=needs_rows)
+        needs_rows=needs_rows, weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
@@ -125,18 +125,26 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
                "thresholds": thresholds.to_dict()}
     tables = [*reliability_tables(reports), reliability_beside_table(models)]
     if getattr(inputs.responses, "weights", None) is not None:
-        tables = [*tables, *_weighted(body, inputs, columns, confidence_level, min_group, thresholds)]
+        from ..analyses.weighted_reliability import weighted_reliability
+
+        found = weighted_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
+                                     min_group=min_group, thresholds=thresholds)
+        tables = [*tables, *_weighted(body, found)]
+    elif summarised and summarised.weight:
+        from ..analyses.summarised_weighted import weighted_reliability_from_summaries
+
+        found = weighted_reliability_from_summaries(inputs.spec, summarised.summary, weight_column=summarised.weight,
+                                                    by=columns, confidence_level=confidence_level,
+                                                    min_group=min_group, thresholds=thresholds)
+        tables = [*tables, *_weighted(body, found)]
     emit(command="reliability", inputs=inputs, body=body, tables=tables, fmt=fmt, out=out,
          decimals=decimals, options=options)
 
 
-def _weighted(body, inputs, columns, confidence_level, min_group, thresholds) -> list:
+def _weighted(body, found) -> list:
     """Weighted reliability beside the unweighted (``scales.<name>.weighted``, ``...by.<col>.<level>.weighted``)."""
-    from ..analyses.weighted_reliability import weighted_reliability
     from ..present.weighted import weighted_reliability_table
 
-    found = weighted_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
-                                 min_group=min_group, thresholds=thresholds)
     tables = []
     for name, blocks in found.items():
         record = body["scales"][name]

@@ -47,6 +47,9 @@ class Block:
     columns: dict[str, pd.Series]
     reading: ReadingCounts
     first_row: int
+    #: the file's position in a dataset and its name (the place of a row is (part, row, file))
+    part: int = 0
+    file: str = ""
 
     @property
     def n(self) -> int:
@@ -234,7 +237,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     reading = ReadingCounts(rows=n, missing_codes=missing_codes, blanks=blanks, texts=texts, refused=refused,
                             refused_first=refused_first, id_hashes=id_hashes, id_empty=id_empty,
                             unknown_levels=unknown, missing_texts=missing_texts, file_columns=tuple(by_name))
-    return Block(codes=codes, columns=wanted, reading=reading, first_row=first_row)
+    return Block(codes=codes, columns=wanted, reading=reading, first_row=first_row, part=part, file=file)
 
 
 def _plain(value: Any) -> Any:

@@ -60,11 +60,14 @@ class SummaryPlan:
     #: per-pair contingency tables of each scale's codes (polychoric correlations): "listwise" counts the
     #: rows answering every item of the scale, "pairwise" every row; None: no tables
     pair_tables: str | None = None
+    #: the survey weight column: weighted cross-products, answer and score counts beside the unweighted
+    weight: str | None = None
 
     @property
     def columns(self) -> tuple[str, ...]:
         """The non-item columns to read: the id (for its checks), the groups and the counted columns."""
         wanted = ([self.id_column] if self.id_column else []) + list(self.extra) + list(self.by) + list(self.categories)
+        wanted += [self.weight] if self.weight else []
         return tuple(dict.fromkeys(wanted))
 
 
@@ -84,8 +87,9 @@ def plan_for(spec: Any, *, cross_products: str | None = "listwise", answers: boo
                        patterns=patterns)
 
 
-def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
-    """Per scale, the summaries the plan asks for of these rows' answer codes."""
+def summarise_codes(codes: np.ndarray, plan: SummaryPlan, weights: np.ndarray | None = None) -> Keyed:
+    """Per scale, the summaries the plan asks for of these rows' answer codes (and of their ``weights``
+    when the plan names a weight column: :func:`.weighted.weighted_members`)."""
     parts = {}
     for scale in plan.scales:
         part = np.asarray(codes[:, list(scale.positions)], order="F")
@@ -105,6 +109,10 @@ def summarise_codes(codes: np.ndarray, plan: SummaryPlan) -> Keyed:
             members["scores"] = ScoreCounts.from_codes(part, low=scale.low, high=scale.high,
                                                        reversed_mask=np.array(scale.reversed_mask),
                                                        method=scale.method, required=scale.required)
+        if plan.weight:
+            from .weighted import weighted_members
+
+            members.update(weighted_members(part, weights, scale, plan))
         parts[scale.name] = Summary(members)
     return Keyed(parts)
 
@@ -131,14 +139,22 @@ def level_keys(values) -> tuple[np.ndarray, list[str]]:
 def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
     """The summary of one block of rows (see the module notes for its members)."""
     by: dict[str, Keyed] = {}
+    weights = weight_reading = None
+    if plan.weight:
+        from ..summaries.weighted import block_weights
+
+        weights, weight_reading = block_weights(block.columns[plan.weight], (block.part, block.first_row, block.file))
     for column in plan.by:
         positions, levels = level_keys(block.columns[column])
-        by[column] = Keyed({level: summarise_codes(block.codes[positions == index], plan)
+        by[column] = Keyed({level: summarise_codes(block.codes[positions == index], plan,
+                                                   None if weights is None else weights[positions == index])
                             for index, level in enumerate(levels)})
     categories = {column: CategoryCounts.from_values(block.columns[column])
                   for column in dict.fromkeys([*plan.by, *plan.categories])}
-    members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan), "by": Keyed(by),
+    members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan, weights), "by": Keyed(by),
                "categories": Keyed(categories)}
+    if weight_reading is not None:
+        members["weight_reading"] = weight_reading
     if plan.joint:
         span = max((scale.high - scale.low for scale in plan.scales), default=1)
         members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)
