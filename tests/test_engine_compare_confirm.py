@@ -186,10 +186,13 @@ def _weighted_survey(tmp_path: Path, changes: dict[int, str] | None = None) -> t
 
 
 @pytest.mark.parametrize(("command", "options"), [("reliability", ("--by", "site")), ("compare", ("--by", "site")),
-                                                  ("compare", ("--by", "shift"))])
+                                                  ("compare", ("--by", "shift")),
+                                                  ("tally", ("--columns", "shift,site", "--items")),
+                                                  ("shape", ("--by", "site", "--items"))])
 def test_weighted_estimates_streamed_equal_whole_file(tmp_path, command, options):
-    # reference: numpy's cov(aweights=...) and average(weights=...) on the rows (analyses.weighted_reliability,
-    # stats.weighted_groups.weighted_compare on the whole-file route)
+    # reference: numpy's cov(aweights=...), average(weights=...) and histogram(weights=...) on the rows
+    # (analyses.weighted_reliability, weighted_shape, stats.weighted_groups and weighted_tally on the whole-file
+    # route)
     data, scales = _weighted_survey(tmp_path)
     whole, streamed = both_routes(command, data, scales, "--weight", "wt", *options)
     assert "weighted" in json.dumps(whole)

@@ -172,3 +172,131 @@ def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str
                                                    sum_of_weights=everyone["v1"], levels=levels,
                                                    not_described=not_described, notes=notes, **fields)
     return out
+
+
+def weighted_tally_from_summaries(spec: Any, summary: Any, unweighted: Any, *, weight_column: str) -> Any:
+    """:func:`~scalewright.stats.weighted_tally.weighted_tally` of a tallied item or column from its merged
+    weighted counts (same categories, order and suppression as ``unweighted``)."""
+    from ..stats.subgroups import level_name
+    from ..stats.weighted_tally import WeightedShare, WeightedTally
+
+    column = unweighted.column
+    if spec is not None and column in spec.items:
+        owner, position = next((name, scale.items.index(column)) for name, scale in spec.scales.items()
+                               if column in scale.items)
+        weighted, answers = summary["scales"][owner]["w_answers"], summary["scales"][owner]["answers"]
+        low = spec.response_for(column).min
+        sums = {level_name(low + code): float(mass) for code, mass in enumerate(weighted.tally[position])}
+        n, rows = int(answers.tally[position].sum()), int(weighted.rows[position])
+        v1, v2, total_all = float(weighted.tally[position].sum()), float(weighted.sum_w2[position]), weighted.total
+    else:
+        counts, weighted = summary["categories"][column], summary["w_categories"][column]
+        members, _ = category_levels(spec, counts, column)
+        sums = {name: float(sum(weighted.sum_w.get(key, 0.0) for key in raw)) for name, raw in members.items()}
+        n, rows = counts.n - counts.missing, int(sum(weighted.rows.values()))
+        v1, v2, total_all = float(sum(weighted.sum_w.values())), float(sum(weighted.sum_w2.values())), weighted.total
+    shares = []
+    for category in unweighted.categories:
+        if category.suppressed:
+            shares.append(WeightedShare(category=category.category, sum_of_weights=None, share_of_answered_pct=None,
+                                        share_of_all_pct=None, suppressed=True))
+            continue
+        mass = sums.get(category.category, 0.0)
+        shares.append(WeightedShare(category=category.category, sum_of_weights=mass,
+                                    share_of_answered_pct=100.0 * mass / v1 if v1 > 0 else None,
+                                    share_of_all_pct=100.0 * mass / total_all if total_all > 0 else None,
+                                    suppressed=False))
+    return WeightedTally(column=column, weight_column=weight_column, n=n, n_zero_weight=n - rows,
+                         n_effective=v1**2 / v2 if rows else math.nan, sum_of_weights=v1,
+                         design_effect=rows * v2 / v1**2 if rows else math.nan, categories=tuple(shares))
+
+
+def _weighted_shape_of_values(values: np.ndarray, sum_w: np.ndarray, *, sum_w2: float, rows: int, n: int,
+                              percentiles: Sequence[float], edges: Any, weight_column: str) -> Any:
+    """:func:`~scalewright.stats.weighted.weighted_shape` of a sample given as distinct values with the sums
+    of their positive weights (``rows`` such rows, ``sum_w2`` their squared weights; ``n`` rows with a value,
+    zero weights included): the same moments, quantiles and histogram."""
+    from ..notes import note
+    from ..stats.weighted import WeightedShape, WeightedSummary, weighted_quantiles
+
+    kept = sum_w > 0
+    x, w = values[kept], sum_w[kept]
+    v1 = float(w.sum())
+    n_eff = v1**2 / sum_w2 if rows else math.nan
+    mean = float(w @ x) / v1 if rows else math.nan
+    sd = math.sqrt(float(w @ (x - mean) ** 2) / (v1 - sum_w2 / v1)) if rows >= 2 else math.nan
+    skew = kurt = math.nan
+    notes = []
+    if rows >= 3 and x.size > 1:  # weighted_summary's adjusted moments with Kish's n in place of n
+        d = x - mean
+        m2, m3, m4 = (float(w @ d**r) / v1 for r in (2, 3, 4))
+        g1, g2 = m3 / m2**1.5, m4 / m2**2 - 3
+        skew = math.sqrt(n_eff * (n_eff - 1)) / (n_eff - 2) * g1 if n_eff > 2 else math.nan
+        kurt = ((n_eff - 1) / ((n_eff - 2) * (n_eff - 3)) * ((n_eff + 1) * g2 + 6)) if n_eff > 3 else math.nan
+    elif rows:
+        notes.append(note("weighted-moments-undefined", n=rows))
+    summary = WeightedSummary(weighted=True, weight_column=weight_column, n=n, n_zero_weight=n - rows,
+                              n_effective=n_eff, sum_of_weights=v1, design_effect=rows * sum_w2 / v1**2 if rows else math.nan,
+                              mean=mean, sd=sd, skewness=skew, kurtosis=kurt, notes=tuple(notes))
+    probabilities = np.array([25.0, 50.0, 75.0, *map(float, percentiles)]) / 100
+    q = weighted_quantiles(x, w, probabilities)
+    heights: tuple[float, ...] = ()
+    if edges is not None and len(edges) > 1:
+        mass, _ = np.histogram(x, bins=np.asarray(edges, dtype=float), weights=w)
+        heights = tuple(float(v) for v in (100.0 * mass / v1 if v1 > 0 else np.full(mass.shape, math.nan)))
+    return WeightedShape(summary=summary, q1=float(q[0]), median=float(q[1]), q3=float(q[2]),
+                         percentiles={f"{p:g}": float(v) for p, v in zip(percentiles, q[3:], strict=True)},
+                         histogram_edges=tuple(map(float, edges)) if edges is not None else (),
+                         histogram_weighted_pct=heights)
+
+
+def weighted_shapes_from_summaries(spec: Any, summary: Any, reports: Any, *, weight_column: str,
+                                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95)) -> dict[str, Any]:
+    """:func:`~scalewright.analyses.weighted_shape.weighted_shapes` from the merged weighted score and answer
+    counts, overall and per level of each subgroup column the reports describe."""
+    level_parts = {}
+    for report in reports.values():
+        for group in report.groups:
+            if group.column not in level_parts:
+                members, _ = category_levels(spec, summary["categories"][group.column], group.column)
+                level_parts[group.column] = level_summaries(summary, group.column, members)
+
+    def describe(parts: Any, report: Any, summary_of_level: Any) -> Any:
+        edges = (summary_of_level.histogram.edges
+                 if summary_of_level is not None and summary_of_level.histogram is not None else None)
+        if report.kind == "scale":
+            scores = parts[report.name]["scores"]
+            values, sum_w, sum_w2, rows = parts[report.name]["w_scores"].values(scores)
+            n, rows_used, v2 = scores.n_rows - scores.n_missing, int(rows.sum()), float(sum_w2.sum())
+        else:
+            owner, position = next((name, scale.items.index(report.name)) for name, scale in spec.scales.items()
+                                   if report.name in scale.items)
+            weighted, answers = parts[owner]["w_answers"], parts[owner]["answers"]
+            sum_w = weighted.tally[position]
+            values = spec.response_for(report.name).min + np.arange(sum_w.size, dtype=np.float64)
+            n, rows_used, v2 = int(answers.tally[position].sum()), int(weighted.rows[position]), \
+                float(weighted.sum_w2[position])
+        return _weighted_shape_of_values(values, np.asarray(sum_w, dtype=np.float64), sum_w2=v2, rows=rows_used, n=n,
+                                         percentiles=percentiles, edges=edges, weight_column=weight_column)
+
+    return {name: {"all": describe(summary["scales"], report, report.overall),
+                   "by": {group.column: {level: describe(level_parts[group.column][level], report, described)
+                                         for level, described in group.levels.items()} for group in report.groups}}
+            for name, report in reports.items()}
+
+
+def weighted_tallies_from_summaries(spec: Any, summary: Any, tallies: Sequence[Any], *, weight_column: str,
+                                    expected: Any = None) -> tuple[Any, ...]:
+    """:func:`~scalewright.analyses.tally.weighted_tallies` from merged weighted counts: the weighted shares
+    of each tally and, for a column with reference proportions, their fit."""
+    from ..stats.weighted_tally import weighted_goodness_of_fit
+    from .tally import WeightedTallyResult
+
+    out = []
+    for result in tallies:
+        shares = weighted_tally_from_summaries(spec, summary, result, weight_column=weight_column)
+        reference = (expected or {}).get(result.column)
+        fit = None if reference is None else weighted_goodness_of_fit(
+            shares, result, reference.proportions, source=reference.path, rows=reference.lines)
+        out.append(WeightedTallyResult(shares=shares, fit=fit))
+    return tuple(out)

@@ -86,7 +86,8 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
     summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None, scores=True,
                                                                     by=resolve_by(by, spec)),
                                 engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
-                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None,
+                                weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     if summarised:
@@ -107,23 +108,30 @@ def shape(data: Path, scales: Path, by: tuple[str, ...], items: bool, percentile
     options = {"by": list(columns), "items": items, "percentiles": list(chosen), "quantile_method": quantile_method,
                "min_group": min_group, "seed": seed}
     reports = [*results["scales"].values(), *results["items"].values()]
-    weighted_tables = _weighted(body, results, inputs, columns, chosen)
+    weighted_tables = _weighted(body, results, inputs, columns, chosen, summarised)
     if figures is not None:
         write_shape_figures(figures, reports, spec=inputs.spec, inputs=[data, scales])
     emit(command="shape", inputs=inputs, body=body, tables=[*shape_tables(reports), *weighted_tables], fmt=fmt, out=out,
          decimals=decimals, options=options)
 
 
-def _weighted(body, results, inputs, columns, chosen) -> list:
+def _weighted(body, results, inputs, columns, chosen, summarised=None) -> list:
     """Weighted descriptions beside the unweighted ones (``...all.weighted``, ``...by.<col>.<level>.weighted``)."""
-    if getattr(inputs.responses, "weights", None) is None:
+    streamed = summarised is not None and summarised.weight is not None
+    if getattr(inputs.responses, "weights", None) is None and not streamed:
         return []
     from ..analyses.weighted_shape import weighted_shapes
     from ..present.weighted import weighted_shape_table
 
     tables = []
     for part in ("scales", "items"):
-        found = weighted_shapes(inputs.spec, inputs.responses, results[part], by=columns, percentiles=chosen)
+        if streamed:  # from the merged weighted score and answer counts
+            from ..analyses.summarised_weighted import weighted_shapes_from_summaries
+
+            found = weighted_shapes_from_summaries(inputs.spec, summarised.summary, results[part],
+                                                   weight_column=summarised.weight, percentiles=chosen)
+        else:
+            found = weighted_shapes(inputs.spec, inputs.responses, results[part], by=columns, percentiles=chosen)
         for name, blocks in found.items():
             record = body[part][name]
             record["all"]["weighted"] = blocks["all"].to_dict()

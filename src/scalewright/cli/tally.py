@@ -106,7 +106,8 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
     summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None,
                                                                     categories=tuple(names)),
                                 engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
-                                workers=workers, needs_rows="--exclude" if exclude is not None else None)
+                                workers=workers, needs_rows="--exclude" if exclude is not None else None,
+                                weighted=True)
     summary = summarised.summary if summarised else None
     if summarised:
         inputs = summarised.inputs
@@ -143,6 +144,11 @@ def tally(data: Path, scales: Path | None, columns: str, items: bool, orders: tu
                    _per_column(expected, names, "--expected").items()}
     analysis = analyse_tally(names, spec=spec, responses=responses, column_of=column_of, summary=summary,
                              orders=order_of, expected=expected_of, min_cell=min_cell)
+    if summarised and summarised.weight:  # the weighted shares from the merged weighted counts
+        from ..analyses.summarised_weighted import weighted_tallies_from_summaries
+
+        analysis = replace(analysis, weighted=weighted_tallies_from_summaries(
+            spec, summary, analysis.tallies, weight_column=summarised.weight, expected=expected_of))
     tallies, fits = list(analysis.tallies), list(analysis.fits)
     body = {"columns": {t.column: tally_record(t, f, decimals=decimals) for t, f in zip(tallies, fits, strict=True)}}
     if summarised:

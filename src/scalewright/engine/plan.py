@@ -154,7 +154,11 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
     members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan, weights), "by": Keyed(by),
                "categories": Keyed(categories)}
     if weight_reading is not None:
+        from ..summaries.weighted import WeightedCategoryCounts
+
         members["weight_reading"] = weight_reading
+        members["w_categories"] = Keyed({column: WeightedCategoryCounts.from_values(block.columns[column], weights)
+                                         for column in dict.fromkeys([*plan.by, *plan.categories])})
     if plan.joint:
         span = max((scale.high - scale.low for scale in plan.scales), default=1)
         members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)

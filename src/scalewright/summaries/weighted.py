@@ -183,3 +183,45 @@ class WeightedScoreCounts:
             return np.bincount(inverse, weights=table[answered, total], minlength=distinct.size)
 
         return distinct, summed(self.sum_w), summed(self.sum_w2), summed(self.rows).astype(np.int64)
+
+
+@dataclass(frozen=True, eq=False)
+class WeightedCategoryCounts:
+    """Per value of a categorical column (as read, text stripped): the sum of the positive weights of its
+    rows, of their squares, how many such rows, and how many of its rows have weight zero."""
+
+    sum_w: dict[str, float] = field(default_factory=dict)
+    sum_w2: dict[str, float] = field(default_factory=dict)
+    rows: dict[str, int] = field(default_factory=dict)
+    zero: dict[str, int] = field(default_factory=dict)
+    total: float = 0.0
+
+    @classmethod
+    def from_values(cls, values: Any, weights: np.ndarray) -> WeightedCategoryCounts:
+        import pandas as pd
+
+        from .categories import level_texts
+
+        series = values.to_pandas() if hasattr(values, "to_pandas") else pd.Series(values)
+        text = level_texts(series.reset_index(drop=True)).to_numpy(dtype=object)
+        present = np.array([value is not None for value in text], dtype=bool)
+        positive = present & (weights > 0)
+        frame = pd.DataFrame({"key": text[positive], "w": weights[positive]})
+        grouped = frame.groupby("key", sort=False)["w"]
+        zero = pd.Series(text[present & (weights == 0)]).value_counts(sort=False)
+        return cls(sum_w={str(k): float(v) for k, v in grouped.sum().items()},
+                   sum_w2={str(k): float(v) for k, v in (frame.assign(w=frame["w"] ** 2).groupby("key", sort=False)["w"]
+                                                         .sum().items())},
+                   rows={str(k): int(v) for k, v in grouped.size().items()},
+                   zero={str(k): int(v) for k, v in zero.items()}, total=float(weights[weights > 0].sum()))
+
+    def merge(self, other: WeightedCategoryCounts) -> WeightedCategoryCounts:
+        def added(a: dict, b: dict) -> dict:
+            out = dict(a)
+            for key, value in b.items():
+                out[key] = out.get(key, 0) + value
+            return out
+
+        return WeightedCategoryCounts(sum_w=added(self.sum_w, other.sum_w), sum_w2=added(self.sum_w2, other.sum_w2),
+                                      rows=added(self.rows, other.rows), zero=added(self.zero, other.zero),
+                                      total=self.total + other.total)
