@@ -54,7 +54,9 @@ def check_weights(path: str, reading: Any, column: str, *, lenient: bool) -> lis
 
 def _weighted_block(part: Any, scale: Any, *, weight_column: str, confidence_level: float, thresholds: Any) -> dict:
     """:func:`~scalewright.analyses.weighted_reliability.weighted_scale_reliability` of one scale's summary."""
-    from ..stats.reliability import ReliabilityThresholds, item_descriptives_from_tally, reliability_from_cov
+    from ..stats.item_analysis import item_descriptives_from_tally
+    from ..stats.reliability import reliability_from_cov
+    from ..stats.reliability_flags import ReliabilityThresholds
 
     low, high = int(scale.response.min), int(scale.response.max)
     reversed_mask = np.array([scale.is_reversed(item) for item in scale.items], dtype=bool)
