@@ -46,7 +46,12 @@ def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *
     def summarise(batch: Any, first: int) -> Summary:
         return summarise_block(convert_batch(batch, spec, plan.columns, first_row=first, file=file, part=part), plan)
 
-    with ThreadPoolExecutor(max_workers=workers) as pool:
+    from ..concurrency import one_blas_thread
+
+    # each block's cross-products are one matrix product per scale (and one of every item together for the
+    # whole-file models); a multi-threaded BLAS inside each pool thread makes the threads fight over the
+    # cores (61 columns x 16,384 rows: 7 ms on one BLAS thread, 280 ms on all of them on a busy machine)
+    with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
         pending: deque = deque()
         for batch in batches:
             pending.append(pool.submit(summarise, batch, row))
