@@ -2,7 +2,8 @@
 
 Two groups: Welch's (or Student's) t, Hedges' g with its interval and Mann-Whitney U with the rank-biserial r;
 more groups: Welch's (or the classic) ANOVA, Kruskal-Wallis, omega- and epsilon-squared and the pairwise
-comparisons; and Levene's test of equal variances. :func:`scalewright.stats.groups.compare_groups` calls them.
+comparisons (pingouin's formulas in :mod:`.range_pairs`, with a faster studentized-range integral); and
+Levene's test of equal variances. :func:`scalewright.stats.groups.compare_groups` calls them.
 """
 from __future__ import annotations
 
@@ -14,6 +15,7 @@ import numpy as np
 import pandas as pd
 
 from .groups import EffectSize, PairResult, TestResult
+from .range_pairs import games_howell_pairs, tukey_pairs
 
 
 @contextlib.contextmanager
@@ -77,30 +79,20 @@ def many_group_tests(samples: dict[str, np.ndarray], *, student: bool) -> dict[s
         test = TestResult(name="one-way ANOVA F", statistic=float(classic["F"].iloc[0]),
                           df=float(classic["DF"].iloc[0]), df2=float(classic["DF"].iloc[1]),
                           pvalue=float(classic["p_unc"].iloc[0]))
-        with quiet_pingouin():
-            pair_table = pg.pairwise_tukey(data, dv="score", between="level", effsize="hedges")
         method = "Tukey HSD"
     else:
         test = TestResult(name="Welch's F", statistic=float(welch["F"]), df=float(welch["ddof1"]),
                           df2=float(welch["ddof2"]), pvalue=float(welch["p_unc"]))
-        with np.errstate(divide="ignore", invalid="ignore"), quiet_pingouin(), warnings.catch_warnings():
-            # a pair of two zero-variance levels has no standard error; its row is NaN and noted below
-            warnings.simplefilter("ignore", RuntimeWarning)
-            pair_table = pg.pairwise_gameshowell(data, dv="score", between="level", effsize="hedges")
         method = "Games-Howell"
-    pvalue_column = "p_tukey" if student else "pval"
+    # the same pairs as pingouin's pairwise_tukey / pairwise_gameshowell, whose studentized-range p-values
+    # integrate one value at a time (seconds per report); a pair of two zero-variance levels is NaN, noted below
+    pair_stats = (tukey_pairs if student else games_howell_pairs)(list(samples.values()))
     order = list(samples)
-    pairs = []
-    for _, row in pair_table.iterrows():
-        a, b = str(row["A"]), str(row["B"])
-        sign = 1.0
-        if order.index(a) > order.index(b):  # keep the column's level order within each pair
-            a, b, sign = b, a, -1.0
-        pairs.append(PairResult(a=a, b=b, difference=sign * float(row["diff"]), se=float(row["se"]),
-                                statistic=sign * float(row["T"]),
-                                df=float(row["df"]) if "df" in row else float(n - k),
-                                pvalue=float(row[pvalue_column]), hedges_g=sign * float(row["hedges"])))
-    pairs.sort(key=lambda p: (order.index(p.a), order.index(p.b)))
+    pairs = [PairResult(a=order[i], b=order[j], difference=float(d), se=float(se), statistic=float(t), df=float(df),
+                        pvalue=float(p), hedges_g=float(g))
+             for i, j, d, se, t, df, p, g in zip(pair_stats.first, pair_stats.second, pair_stats.difference,
+                                                 pair_stats.se, pair_stats.statistic, pair_stats.df,
+                                                 pair_stats.pvalue, pair_stats.hedges_g, strict=True)]
     extra = []
     if any(not np.isfinite(p.pvalue) for p in pairs):
         extra.append("some pairs have no spread in either level: no pair test for them")
