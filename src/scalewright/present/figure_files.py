@@ -5,7 +5,7 @@ import re
 from collections.abc import Iterable
 from pathlib import Path
 
-from ..files import write_atomic_with
+from ..files import write_atomic, write_atomic_with
 
 #: longest stretch of a name kept in a file name (a long name is cut and told apart by its hash)
 NAME_PART_LENGTH = 60
@@ -100,9 +100,71 @@ def _literal_texts(figure) -> None:
                 axis.set_minor_formatter(FuncFormatter(lambda x, pos, f=minor: shown(str(f(x, pos)))))
 
 
+def _short(value: float) -> str:
+    """A number as matplotlib writes it in an SVG header (fixed point, no trailing zeros)."""
+    return f"{value:f}".rstrip("0").rstrip(".")
+
+
+def svg_in_one_draw(figure) -> str:
+    """The SVG text of ``figure`` cropped to its tight bounding box, from a single draw.
+
+    ``savefig(bbox_inches="tight")`` lays the whole figure out to measure it, then lays it out again to draw
+    it (and measures every text again, as matplotlib keeps text sizes per renderer). Here the figure is
+    drawn once on its full canvas, measured with the same renderer while its text sizes are still at hand,
+    and the picture is cropped by the SVG header (size and viewBox) to the box that ``bbox_inches="tight"``
+    gives, padded by ``savefig.pad_inches``: the same picture at the same size.
+    """
+    import io
+
+    import matplotlib
+
+    measured = []
+
+    def measure(event) -> None:
+        # the first draw: the only one, or, with a layout engine, matplotlib's layout pass (same positions,
+        # and the texts already measured by its renderer)
+        if not measured:
+            measured.append(figure.get_tightbbox(event.renderer))
+
+    connection = figure.canvas.mpl_connect("draw_event", measure)
+    buffer = io.StringIO()
+    try:
+        figure.savefig(buffer, format="svg", metadata={"Date": None})
+    finally:
+        figure.canvas.mpl_disconnect(connection)
+    pad = matplotlib.rcParams["savefig.pad_inches"]
+    box = measured[-1].padded(pad)
+    full_width, full_height = (72 * v for v in figure.get_size_inches())
+    width, height = 72 * box.width, 72 * box.height
+    full = f'width="{_short(full_width)}pt" height="{_short(full_height)}pt" ' \
+           f'viewBox="0 0 {_short(full_width)} {_short(full_height)}"'
+    cropped = f'width="{_short(width)}pt" height="{_short(height)}pt" ' \
+              f'viewBox="{_short(72 * box.x0)} {_short(full_height - 72 * box.y1)} {_short(width)} {_short(height)}"'
+    text = buffer.getvalue()
+    head = text.index("<svg ")
+    if text.find(full, head, head + 1000) < 0:
+        raise RuntimeError("unexpected SVG header from matplotlib")
+    text = text.replace(full, cropped, 1)
+    if box.x0 < 0 or box.y0 < 0 or box.x1 > full_width / 72 or box.y1 > full_height / 72:
+        # the padding reaches past the canvas (a figure laid out to its edges): paint the figure's background
+        # there too, as the cropped canvas of bbox_inches="tight" does
+        from matplotlib.colors import to_hex
+
+        colour = figure.get_facecolor()
+        if colour[3] > 0:
+            start = text.index(">", head) + 1
+            text = (text[:start] + f'\n <rect x="{_short(72 * box.x0)}" y="{_short(full_height - 72 * box.y1)}" '
+                    f'width="{_short(width)}" height="{_short(height)}" style="fill: {to_hex(colour)}; '
+                    f'fill-opacity: {colour[3]:g}"/>' + text[start:])
+    return text
+
+
 def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "png"), dpi: int = 150,
                 inputs: Iterable = ()) -> list[Path]:
-    """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure."""
+    """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure.
+
+    Both are cropped to the figure's tight bounding box; the SVG is drawn once (:func:`svg_in_one_draw`).
+    """
     import matplotlib.pyplot as plt
 
     written = []
@@ -112,11 +174,11 @@ def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "p
         for fmt in formats:
             # never Path.with_suffix: a dot in the stem (a scale named 'wb.2') is not a suffix to replace
             target = stem.parent / f"{stem.name}.{fmt}"
-            # svg.hashsalt keeps SVG ids stable, so the same input gives the same file
+            if fmt == "svg":
+                written.append(write_atomic(target, svg_in_one_draw(figure), inputs=inputs))
+                continue
             written.append(write_atomic_with(
-                target,
-                lambda tmp, fmt=fmt: figure.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight",
-                                                    metadata={"Date": None} if fmt == "svg" else None),
+                target, lambda tmp, fmt=fmt: figure.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight"),
                 inputs=inputs))
     finally:
         plt.close(figure)
