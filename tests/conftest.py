@@ -12,7 +12,7 @@ os.environ.setdefault("MPLBACKEND", "Agg")
 
 # property tests draw the same examples on every run: a rare failing case shows up for whoever changed the
 # code, not later in an unrelated CI run
-settings.register_profile("repeatable", derandomize=True)
+settings.register_profile("repeatable", derandomize=True, deadline=None)  # timings vary on a shared machine
 settings.load_profile("repeatable")
 
 BASIC_SCALES = """\

@@ -173,5 +173,35 @@ def render_csv(tables: Sequence[Table]) -> str:
     return buffer.getvalue()
 
 
+#: a list longer than this is written one element per line (each element compact), not one value per line
+LONG_LIST = 50
+
+#: the C encoder (json.dumps with an indent falls back to the pure-Python one, about 20 times slower)
+_compact = json.JSONEncoder(ensure_ascii=False, allow_nan=False, separators=(", ", ": ")).encode
+
+
+def _write_json(value: Any, level: int, out: list[str]) -> None:
+    """Append the text of a JSON-ready ``value``, indented by two spaces a level, as ``json.dumps(indent=2)``
+    writes it except that a list longer than :data:`LONG_LIST` has one compact element per line."""
+    kind = type(value)
+    if (kind is not dict and kind is not list) or not value:
+        out.append(_compact(value))
+        return
+    inner, outer = "\n" + "  " * (level + 1), "\n" + "  " * level
+    if kind is list and len(value) > LONG_LIST:
+        out.append("[" + inner + ("," + inner).join(map(_compact, value)) + outer + "]")
+        return
+    out.append("{" if kind is dict else "[")
+    separator = inner
+    for key, item in value.items() if kind is dict else ((None, v) for v in value):
+        out.append(separator if key is None else f"{separator}{_compact(key)}: ")
+        _write_json(item, level + 1, out)
+        separator = "," + inner
+    out.append(outer + ("}" if kind is dict else "]"))
+
+
 def render_json(document: dict[str, Any]) -> str:
-    return json.dumps(to_jsonable(document), indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    """The document as indented JSON; long lists (rows of respondents) hold one element per line."""
+    out: list[str] = []
+    _write_json(to_jsonable(document), 0, out)
+    return "".join(out) + "\n"
