@@ -83,6 +83,23 @@ def test_json_never_carries_nan():
     assert json.loads(text) == {"alpha": None, "values": [1.0, None]}
 
 
+def test_json_is_the_standard_indented_text_and_long_lists_keep_their_content():
+    import numpy as np
+
+    from scalewright.present.render import LONG_LIST
+
+    short = {"a": [1, 2.5, "x\u00e9"], "b": {"c": None, "d": [], "e": {}}, "f": True}
+    # reference: the standard library's own indented encoding
+    assert render_json(short) == json.dumps(short, indent=2, ensure_ascii=False) + "\n"
+    rows = [{"id": f"p{i}", "d2": float(i) / 7, "flags": ["a"] if i % 3 else [], "r": np.float64("nan")}
+            for i in range(LONG_LIST + 5)]
+    text = render_json({"screen": {"respondents": rows}})
+    expected = [{"id": f"p{i}", "d2": float(i) / 7, "flags": ["a"] if i % 3 else [], "r": None}
+                for i in range(LONG_LIST + 5)]
+    assert json.loads(text) == {"screen": {"respondents": expected}}
+    assert len(text.splitlines()) == len(rows) + 6  # one line per row, not one per value
+
+
 @pytest.mark.parametrize(("value", "cutoff", "kind", "decimals", "shown"), [
     (0.2996, 0.30, "bounded", 2, (".2996", ".30")),   # not "r = .30, below .30"
     (2.96, 3.0, "num", 1, ("2.96", "3.0")),           # not "ratio 3.0 is below 3"
