@@ -240,6 +240,25 @@ def test_screen_flags_planted_records_and_explains_the_contract():
     assert set(doc["summary"]["alpha_change"]) == {"s0", "s1", "s2"}
 
 
+def test_respondent_records_are_the_arrays_as_json():
+    import json
+
+    raw, keyed = _small_survey(13, n=60)
+    raw[4, :3] = np.nan  # a record too short for some indices: NaN inside, null in JSON
+    for block in keyed.values():
+        block[4, :1] = np.nan
+    result = screen_respondents(raw, keyed, ids=[f"p{i}" for i in range(raw.shape[0])])
+    records = json.loads(json.dumps(result.to_dict()["respondents"], allow_nan=False))  # standard library
+    assert len(records) == result.n
+    for key, values in (("irv", result.irv), ("mahalanobis_d2", result.mahalanobis_d2),
+                        ("person_total_r", result.person_total_r), ("missing", result.missing),
+                        ("longstring", result.longstring)):
+        shown = np.array([np.nan if r[key] is None else r[key] for r in records], dtype=float)
+        np.testing.assert_array_equal(shown, np.where(np.isfinite(values), values, np.nan), err_msg=key)
+    assert [r["flags"] for r in records] == [list(f) for f in result.flags]
+    assert result.to_dict() is result.to_dict()  # built once
+
+
 def test_alpha_change_uses_the_reliability_module():
     from scalewright.stats.item_covariance import item_covariance
     from scalewright.stats.reliability_coefficients import cronbach_alpha_from_cov

@@ -9,6 +9,12 @@ from typing import Any, ClassVar
 import numpy as np
 
 
+class JsonRows(list):
+    """A list whose elements are JSON-ready already (str, int, finite float, bool, None, and lists and str-keyed
+    dicts of those), such as a record per respondent built column by column: :func:`to_jsonable` keeps it as
+    it is instead of walking a million values, and ``render_json`` writes one element per line."""
+
+
 def to_jsonable(value: Any) -> Any:
     """Turn numpy scalars/arrays, tuples and nested dataclasses into JSON-ready values.
 
@@ -17,7 +23,7 @@ def to_jsonable(value: Any) -> Any:
     # plain values first, by exact type: a report holds a million of them (a row per respondent), and the
     # general checks below (dataclass, Mapping) cost several times more each; the result is the same
     kind = type(value)
-    if kind is str or value is None or kind is bool or kind is int:
+    if kind is str or value is None or kind is bool or kind is int or kind is JsonRows:
         return value
     if kind is float:
         return value if math.isfinite(value) else None

@@ -10,7 +10,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from ..files import neutralise_formula
-from ..results import to_jsonable
+from ..results import JsonRows, to_jsonable
 from .numbers import format_value
 from .table import Table
 
@@ -182,13 +182,14 @@ _compact = json.JSONEncoder(ensure_ascii=False, allow_nan=False, separators=(", 
 
 def _write_json(value: Any, level: int, out: list[str]) -> None:
     """Append the text of a JSON-ready ``value``, indented by two spaces a level, as ``json.dumps(indent=2)``
-    writes it except that a list longer than :data:`LONG_LIST` has one compact element per line."""
+    writes it except that a list longer than :data:`LONG_LIST` (or any :class:`JsonRows`) has one compact
+    element per line."""
     kind = type(value)
-    if (kind is not dict and kind is not list) or not value:
+    if (kind is not dict and kind is not list and kind is not JsonRows) or not value:
         out.append(_compact(value))
         return
     inner, outer = "\n" + "  " * (level + 1), "\n" + "  " * level
-    if kind is list and len(value) > LONG_LIST:
+    if kind is JsonRows or (kind is list and len(value) > LONG_LIST):
         out.append("[" + inner + ("," + inner).join(map(_compact, value)) + outer + "]")
         return
     out.append("{" if kind is dict else "[")

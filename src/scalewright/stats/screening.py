@@ -5,6 +5,7 @@ applies the rules of :mod:`.screen_rules`; a flag marks a record to look at, not
 """
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field, replace
@@ -14,7 +15,7 @@ import numpy as np
 
 from ..errors import DataError
 from ..notes import Note, note
-from ..results import to_jsonable
+from ..results import JsonRows, to_jsonable
 from .careless_indices import (
     DuplicateResult,
     EvenOddResult,
@@ -124,22 +125,28 @@ class ScreenResult:
             "not_checked": list(self.not_checked),
         }
 
-    def respondent_records(self) -> list[dict[str, Any]]:
+    def respondent_records(self) -> JsonRows:
+        """One JSON-ready record per respondent (NaN as None), built column by column."""
         columns = {
             "id": list(self.ids), "flagged": self.flagged.tolist(), "flags": [list(f) for f in self.flags],
-            "longstring": self.longstring.tolist(), "irv": self.irv.tolist(),
-            "mahalanobis_d2": self.mahalanobis_d2.tolist(), "mahalanobis_pvalue": self.mahalanobis_p.tolist(),
-            "mahalanobis_df": self.mahalanobis_df.tolist(), "even_odd": self.even_odd.tolist(),
-            "person_total_r": self.person_total_r.tolist(), "missing": self.missing.tolist(),
+            "longstring": _plain(self.longstring), "irv": _plain(self.irv),
+            "mahalanobis_d2": _plain(self.mahalanobis_d2), "mahalanobis_pvalue": _plain(self.mahalanobis_p),
+            "mahalanobis_df": _plain(self.mahalanobis_df), "even_odd": _plain(self.even_odd),
+            "person_total_r": _plain(self.person_total_r), "missing": _plain(self.missing),
         }
         if self.duration is not None:
-            columns["duration"] = self.duration.tolist()
+            columns["duration"] = _plain(self.duration)
         names = list(columns)
-        return [dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True)]
+        return JsonRows(dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True))
 
     def to_dict(self) -> dict[str, Any]:
-        return to_jsonable({
-            "respondents": self.respondent_records(),
+        """The JSON contract, built once (the report reads it for its page and again for results.json); treat
+        it as read-only."""
+        return self._document
+
+    @functools.cached_property
+    def _document(self) -> dict[str, Any]:
+        return {"respondents": self.respondent_records(), **to_jsonable({
             "summary": self.summary(),
             "duplicates": {"rows": [[self.ids[i] for i in group] for group in self.duplicates.row_groups],
                            "row_status": list(self.duplicate_status),
@@ -148,7 +155,16 @@ class ScreenResult:
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
             "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
             "notes": list(self.notes),
-        })
+        })}
+
+
+def _plain(values: np.ndarray) -> list[Any]:
+    """``values.tolist()`` with None for NaN and infinities, as :func:`to_jsonable` writes them."""
+    out = values.tolist()
+    if values.dtype.kind == "f":
+        for position in np.flatnonzero(~np.isfinite(values)).tolist():
+            out[position] = None
+    return out
 
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
