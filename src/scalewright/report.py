@@ -301,9 +301,11 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 
-    # the comparisons (pingouin: pure-Python work and a heavy import) run in a second process meanwhile
+    # the comparisons (pingouin: pure-Python work and a heavy import) and the confirmatory models (many small
+    # fits per subgroup) run in processes of their own meanwhile; their results are asked for last
     compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
                                         confidence_level=options.confidence_level, scores=score_table))
+    confirmed = start_in_process(partial(_confirm, spec, responses, options))
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)
@@ -312,10 +314,6 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     shapes = _shape(spec, responses, options, score_table)
 
     progress(STEPS[3])
-    by_column = compared()
-    comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
-                                         for i, name in enumerate(spec.scales)}
-
     progress(STEPS[4])
     answers = answer_distributions(spec, responses=responses, min_cell=options.min_cell)
     group_tallies = tally_columns(options.by, responses=responses, min_cell=options.min_cell)
@@ -325,10 +323,13 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     weighted_structure = None
     if isinstance(structure, tuple):  # weighted: the result and its weighted-block keys
         structure, weighted_structure = structure
-    confirm = _confirm(spec, responses, options)
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
+    by_column = compared()
+    comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
+                                         for i, name in enumerate(spec.scales)}
+    confirm = confirmed()
     weighted = None
     if _weighted(responses):
         from dataclasses import replace
