@@ -36,9 +36,15 @@ def files(tmp_path):
     site = rng.choice(["North", "South", "East"], n, p=[0.5, 0.3, 0.2])
     frame = pd.DataFrame({"staff_id": [f"s{i:03d}" for i in range(n)], "shift": shift, "site": site})
     lean = np.where(shift == "night", 1, 0)
+    # each scale's items share a factor, as real answers do (wl3 is worded the other way), so the confirmatory
+    # fits behind the invariance check settle; independent random items made each run 500 steps
+    workload, support = rng.normal(size=(2, n))
     for j in range(1, 4):
-        frame[f"wl{j}"] = np.clip(rng.integers(1, 5, n) + lean, 1, 5)
-        frame[f"sp{j}"] = rng.integers(1, 6, n)
+        sign = -1 if j == 3 else 1
+        frame[f"wl{j}"] = np.clip(np.rint(3 + sign * (workload + 0.7 * lean) + rng.normal(0, 0.8, n)), 1, 5).astype(int)
+        frame[f"sp{j}"] = np.clip(np.rint(3 + support + rng.normal(0, 0.8, n)), 1, 5).astype(int)
+    # the weekend workload mean is 19/9 (2.1111), a value the other levels' printed summaries do not contain
+    frame.loc[shift == "weekend", ["wl1", "wl2", "wl3"]] = [[1, 2, 2], [1, 2, 2], [1, 1, 3]]
     frame.loc[5, "sp2"] = 9
     data = tmp_path / "climate.csv"
     frame.to_csv(data, index=False)
