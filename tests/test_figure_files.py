@@ -65,3 +65,19 @@ def test_padding_past_the_canvas_is_painted_with_the_figure_background():
                            r'style="fill: #ffffff', svg)
     assert background is not None
     np.testing.assert_allclose([float(v) for v in background.groups()], box)
+
+
+@pytest.mark.parametrize("constrained", [False, True])
+def test_a_png_after_the_svg_has_the_size_of_the_tight_png(tmp_path, constrained):
+    from matplotlib.image import imread
+
+    from scalewright.present.figure_files import save_figure
+
+    save_figure(_figure(constrained), tmp_path / "ours", formats=("svg", "png"), dpi=100)
+    # reference: matplotlib's savefig(bbox_inches="tight") of the same figure
+    _figure(constrained).savefig(tmp_path / "tight.png", dpi=100, bbox_inches="tight")
+    plt.close("all")
+    ours, tight = imread(tmp_path / "ours.png"), imread(tmp_path / "tight.png")
+    # the box was measured with the SVG's text metrics (72 dpi, unhinted) rather than Agg's at 100 dpi: the
+    # edges may differ by a few pixels, well inside the 0.1-inch (10-pixel) padding around the content
+    np.testing.assert_allclose(ours.shape[:2], tight.shape[:2], atol=5)

@@ -4,6 +4,7 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable
 from pathlib import Path
+from typing import Any
 
 from ..files import write_atomic, write_atomic_with
 
@@ -106,13 +107,20 @@ def _short(value: float) -> str:
 
 
 def svg_in_one_draw(figure) -> str:
+    """The SVG text of ``figure`` cropped to its tight bounding box, from a single draw (see
+    :func:`_svg_and_box`)."""
+    return _svg_and_box(figure)[0]
+
+
+def _svg_and_box(figure) -> tuple[str, Any]:
     """The SVG text of ``figure`` cropped to its tight bounding box, from a single draw.
 
     ``savefig(bbox_inches="tight")`` lays the whole figure out to measure it, then lays it out again to draw
     it (and measures every text again, as matplotlib keeps text sizes per renderer). Here the figure is
     drawn once on its full canvas, measured with the same renderer while its text sizes are still at hand,
     and the picture is cropped by the SVG header (size and viewBox) to the box that ``bbox_inches="tight"``
-    gives, padded by ``savefig.pad_inches``: the same picture at the same size.
+    gives, padded by ``savefig.pad_inches``: the same picture at the same size. Returns the text and that box
+    (in inches), which a PNG of the same figure can use instead of measuring again.
     """
     import io
 
@@ -156,29 +164,32 @@ def svg_in_one_draw(figure) -> str:
             text = (text[:start] + f'\n <rect x="{_short(72 * box.x0)}" y="{_short(full_height - 72 * box.y1)}" '
                     f'width="{_short(width)}" height="{_short(height)}" style="fill: {to_hex(colour)}; '
                     f'fill-opacity: {colour[3]:g}"/>' + text[start:])
-    return text
+    return text, box
 
 
 def save_figure(figure, stem: str | Path, *, formats: Iterable[str] = ("svg", "png"), dpi: int = 150,
                 inputs: Iterable = ()) -> list[Path]:
     """Write ``figure`` to ``stem.svg`` / ``stem.png``; returns the paths written. Closes the figure.
 
-    Both are cropped to the figure's tight bounding box; the SVG is drawn once (:func:`svg_in_one_draw`).
+    Both are cropped to the figure's tight bounding box; the SVG is drawn once (:func:`svg_in_one_draw`), and
+    a PNG after it is cropped to the box the SVG's draw measured (one draw instead of two).
     """
     import matplotlib.pyplot as plt
 
     written = []
     stem = Path(stem)
+    box: Any = "tight"
     try:
         _literal_texts(figure)
-        for fmt in formats:
+        for fmt in sorted(formats, key=lambda f: f != "svg"):
             # never Path.with_suffix: a dot in the stem (a scale named 'wb.2') is not a suffix to replace
             target = stem.parent / f"{stem.name}.{fmt}"
             if fmt == "svg":
-                written.append(write_atomic(target, svg_in_one_draw(figure), inputs=inputs))
+                text, box = _svg_and_box(figure)
+                written.append(write_atomic(target, text, inputs=inputs))
                 continue
             written.append(write_atomic_with(
-                target, lambda tmp, fmt=fmt: figure.savefig(tmp, format=fmt, dpi=dpi, bbox_inches="tight"),
+                target, lambda tmp, fmt=fmt, box=box: figure.savefig(tmp, format=fmt, dpi=dpi, bbox_inches=box),
                 inputs=inputs))
     finally:
         plt.close(figure)
