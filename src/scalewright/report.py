@@ -301,11 +301,13 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 
-    # the comparisons (pingouin: pure-Python work and a heavy import) and the confirmatory models (many small
-    # fits per subgroup) run in processes of their own meanwhile; their results are asked for last
+    # the comparisons (pingouin: pure-Python work and a heavy import) and, with subgroup columns, the
+    # confirmatory models (many small invariance fits) run in processes of their own meanwhile; their results
+    # are asked for last. Without subgroups the models are a few fits on large matrix products: in this process
+    confirm_work = partial(_confirm, spec, responses, options)
     compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
                                         confidence_level=options.confidence_level, scores=score_table))
-    confirmed = start_in_process(partial(_confirm, spec, responses, options))
+    confirmed = start_in_process(confirm_work) if options.by else confirm_work
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)
