@@ -150,8 +150,10 @@ def _svg_and_box(figure) -> tuple[str, Any]:
               f'viewBox="{_short(72 * box.x0)} {_short(full_height - 72 * box.y1)} {_short(width)} {_short(height)}"'
     text = buffer.getvalue()
     head = text.index("<svg ")
-    if text.find(full, head, head + 1000) < 0:
-        raise RuntimeError("unexpected SVG header from matplotlib")
+    if text.find(full, head, head + 1000) < 0:  # a header this code does not know: matplotlib's own crop
+        tight = io.StringIO()
+        figure.savefig(tight, format="svg", bbox_inches="tight", metadata={"Date": None})
+        return tight.getvalue(), "tight"
     text = text.replace(full, cropped, 1)
     if box.x0 < 0 or box.y0 < 0 or box.x1 > full_width / 72 or box.y1 > full_height / 72:
         # the padding reaches past the canvas (a figure laid out to its edges): paint the figure's background
