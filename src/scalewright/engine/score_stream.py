@@ -15,7 +15,7 @@ from __future__ import annotations
 from collections import deque
 from collections.abc import Iterable, Iterator
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -28,6 +28,7 @@ from ..data import _ids_as_text, first_row_number
 from ..files import write_atomic_with
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .id_spill import IdHashSpill
 from .reading import ReadingCounts, ReadingOutcome, check_reading
 
 #: scored files that can be written a block at a time
@@ -154,6 +155,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
             first: ScoreTable | None = None
             scored: dict[str, int] = {}
             counts: ReadingCounts | None = None
+            ids = IdHashSpill()
             try:
                 for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes,
                                                      columns=columns, way=way):
@@ -162,17 +164,22 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
                     first = first or table
                     for name, one in table.scales.items():
                         scored[name] = scored.get(name, 0) + one.n_scored
+                    for hashes in reading.id_hashes:  # checked on disk, not held (engine/id_spill.py)
+                        ids.add(hashes)
+                    reading = replace(reading, id_hashes=())
                     counts = reading if counts is None else counts.merge(reading)
+                duplicates = ids.has_duplicates()
             except retry_errors() as error:
                 if number == len(ways):
                     raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
                 continue  # the next way starts the file again
             finally:
+                ids.close()
                 if appender is not None:
                     appender.close()
             if counts is None or first is None or counts.rows == 0:
                 raise CannotStream("no rows")  # the whole-file reader says so
-            if counts.has_duplicate_ids():
+            if duplicates:
                 raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
             found["outcome"] = check_reading(str(path), counts, spec, lenient=lenient)
             found["table"] = _summary_table(first, scored, counts.rows, standardize)
