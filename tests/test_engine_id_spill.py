@@ -39,3 +39,25 @@ def test_spilled_buckets_hold_every_hash_and_are_removed(tmp_path):
         spill.add(hashes[12_345:12_346])  # one repeat, far from the first
         assert spill.has_duplicates()
     assert list(tmp_path.iterdir()) == []
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.one_of(st.none(), st.text(alphabet=st.sampled_from(["a", "b", "é", " ", "\t", "\u3000", "\x1c",
+                                                                          "7", "\u2028"]), max_size=6)),
+                max_size=30), st.integers(min_value=0, max_value=5))
+def test_text_id_hashes_agree_with_python_strip(ids, offset):
+    """Two ids hash alike exactly when Python's ``str.strip`` makes them equal (the whole-file reader's rule);
+    empty means missing or only white space. Reference: Python's own str.strip."""
+    import pyarrow as pa
+
+    from scalewright.engine.id_hash import text_id_hashes
+
+    column = pa.array(["pad"] * offset + ids, type=pa.string()).slice(offset)  # an array that starts mid-buffer
+    hashes, empty = text_id_hashes(column)
+    expected_empty = [value is None or value.strip() == "" for value in ids]
+    assert empty.tolist() == expected_empty
+    kept = [value.strip() for value, gone in zip(ids, expected_empty, strict=True) if not gone]
+    assert len(hashes) == len(kept)
+    for i in range(len(kept)):
+        for j in range(len(kept)):
+            assert (hashes[i] == hashes[j]) == (kept[i] == kept[j])
