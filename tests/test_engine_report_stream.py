@@ -75,6 +75,8 @@ def test_sections_left_out_are_named_in_json_and_pages(reports):
                      "screen": "stream-section-needs-rows"}
     page = (streamed / "index.html").read_text(encoding="utf-8")
     assert page.count("Not in this report") == len(SKIPPED)
+    assert "screen is not in this report" in page
+    assert "there are no respondents" not in page
     assert "not a diagnosis" in page  # the cautions of every report
 
 
