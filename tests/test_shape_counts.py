@@ -9,8 +9,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from scalewright.stats.shape import describe_scores, dip_test_jittered
+from scalewright.stats.shape import describe_scores
 from scalewright.stats.shape_counts import JITTER_STEP, describe_counted_scores, dip_test_from_counts
+from scalewright.stats.shape_rule import dip_test_jittered
 
 
 def _close(a, b, path=""):

@@ -24,7 +24,8 @@ import pandas as pd
 
 from ..answer_codes import ItemAnswers
 from ..concurrency import worker_count
-from ..data import _ids_as_text, first_row_number
+from ..data_columns import ids_as_text
+from ..data_file import first_row_number
 from ..files import write_atomic_with
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
@@ -46,7 +47,7 @@ class _BlockRows:
         if spec.id_column:
             raw = block.columns[spec.id_column]
             # an empty id refuses the whole run when reading is checked; until then it is written as text
-            self.ids = _ids_as_text(raw.fillna("")).rename(spec.id_column).reset_index(drop=True)
+            self.ids = ids_as_text(raw.fillna("")).rename(spec.id_column).reset_index(drop=True)
         else:  # as the whole-file reader numbers rows without an id column
             self.ids = pd.Series(np.arange(block.first_row, block.first_row + block.n).astype(str), name="row")
 

@@ -15,10 +15,12 @@ from __future__ import annotations
 
 import math
 import warnings
+from typing import Any
 
 import numpy as np
 
 from ..errors import UsageError
+from ..notes import note
 from ..seeds import DEFAULT_SEED
 from .descriptives import BoxPlotPoints, UniformFit, bimodality_coefficient, check_quantile_method, uniform_fit
 from .score_grid import histogram_cells, infer_resolution
@@ -26,14 +28,12 @@ from .shape import (
     DEFAULT_PERCENTILES,
     FLOOR_CEILING_SHARE,
     MIN_N_FOR_LABEL,
-    DipResult,
     ShapeSummary,
-    _band_features,
     _cells_per_step,
     _empty_summary,
     _pkey,
-    shape_label,
 )
+from .shape_rule import DipResult, _band_features, shape_label
 
 #: scores jittered per step of the in-place jitter (the random stream is the one the whole-file route draws)
 JITTER_STEP = 1 << 20
@@ -41,7 +41,7 @@ JITTER_STEP = 1 << 20
 
 def dip_test_from_counts(values: np.ndarray, counts: np.ndarray, *, resolution: float,
                          seed: int = DEFAULT_SEED) -> DipResult:
-    """:func:`~scalewright.stats.shape.dip_test_jittered` of the sample given as value counts, with one array
+    """:func:`~scalewright.stats.shape_rule.dip_test_jittered` of the sample given as value counts, with one array
     of the sample's size: built in ascending order, jittered in place by the same seeded draws in
     steps, then sorted in place. The same statistic and p-value as the whole-file route.
 
@@ -121,16 +121,16 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         high = float(grid[-1])
     if low is not None and high is not None and high <= low:
         raise UsageError(f"the score range needs high > low, got {low}..{high}")
-    notes: list[str] = []
+    notes: list[Any] = []
     if n_missing:
-        notes.append(f"{n_missing} missing score(s) left out")
+        notes.append(note("scores-missing", n_missing=n_missing))
     if low is not None and n and (values[0] < low - 1e-9 or (high is not None and values[-1] > high + 1e-9)):
         raise UsageError(f"scores outside the attainable range {low:g}..{high:g} "
                          f"(found {values[0]:g}..{values[-1]:g})")
     if resolution is None:
         resolution = _resolution(values, counts, grid, low, high)
     if n == 0:
-        return _empty_summary(0, n_missing, quantile_method, low, high, resolution, "no scores to describe",
+        return _empty_summary(0, n_missing, quantile_method, low, high, resolution, note("no-scores"),
                               percentiles)
 
     m = moments_from_counts(values, counts)
@@ -155,19 +155,19 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         ceiling_flag = ceiling_pct > 100 * FLOOR_CEILING_SHARE
         for name, share, flag in (("floor", floor_pct, floor_flag), ("ceiling", ceiling_pct, ceiling_flag)):
             if flag:
-                notes.append(f"{name} effect: {share:.1f}% of scores at the {'lowest' if name == 'floor' else 'highest'} "
-                             f"attainable value (more than 15%, Terwee et al. 2007)")
+                notes.append(note(f"{name}-effect", share_pct=share, threshold_pct=100 * FLOOR_CEILING_SHARE))
     else:
-        notes.append("floor and ceiling shares need the attainable range (low, high)")
+        notes.append(note("floor-ceiling-no-range"))
 
-    label, evidence, features = None, "", None
+    label, evidence, features = None, None, None
     spread = float(values[-1] - values[0])
     if not math.isfinite(m.skewness) or spread == 0:
-        evidence = "no shape: every score is the same value" if n >= 3 and spread == 0 else "no shape: too few scores"
-        notes.append("shape label not given: " + evidence.removeprefix("no shape: "))
+        why = "constant" if n >= 3 and spread == 0 else "too-few"
+        evidence = note(f"no-shape-{why}")
+        notes.append(note(f"shape-not-given-{why}"))
     elif n < MIN_N_FOR_LABEL:
-        evidence = f"no shape: {n} scores are too few for a label (at least {MIN_N_FOR_LABEL})"
-        notes.append(f"shape label not given: fewer than {MIN_N_FOR_LABEL} scores")
+        evidence = note("no-shape-below-minimum", n=n, minimum=MIN_N_FOR_LABEL)
+        notes.append(note("shape-not-given-below-minimum", minimum=MIN_N_FOR_LABEL))
     elif cells is not None:
         features = _band_features(cells, n, period=_cells_per_step(cells, lo, hi, resolution, answer_levels))
         label, evidence, rule_notes = shape_label(mean=m.mean, median=median, skewness=m.skewness,
