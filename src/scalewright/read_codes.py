@@ -8,6 +8,7 @@ in :mod:`scalewright.data`, which reads everything and names every problem.
 """
 from __future__ import annotations
 
+import functools
 from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -174,13 +175,21 @@ def rest_as_frame(table, item_raw_names: Sequence[str]):
 
 
 def code_table(fmt: ResponseFormat) -> np.ndarray:
-    """Lookup table from a 16-bit answer (as unsigned bits) to its code, or a mark for the other numbers."""
+    """Lookup table from a 16-bit answer (as unsigned bits) to its code, or a mark for the other numbers
+    (read-only: one table per answer format, shared by every column and block that uses it)."""
+    return _code_table(int(fmt.min), int(fmt.max), tuple(fmt.missing_codes))
+
+
+@functools.lru_cache(maxsize=64)
+def _code_table(low: int, high: int, missing_codes: tuple) -> np.ndarray:
+    # a 64 KiB table built once per format, not once per column of every block of a streamed file
     table = np.full(2**16, NOT_AN_ANSWER, dtype=np.uint8)
-    levels = np.arange(fmt.min, fmt.max + 1, dtype=np.int16)
+    levels = np.arange(low, high + 1, dtype=np.int16)
     table[levels.view(np.uint16)] = np.arange(levels.size, dtype=np.uint8)
-    for code in fmt.missing_codes:
+    for code in missing_codes:
         if float(code).is_integer() and INT16[0] <= code <= INT16[1]:
             table[np.array([int(code)], dtype=np.int16).view(np.uint16)] = NO_ANSWER_CODE
+    table.flags.writeable = False
     return table
 
 

@@ -224,6 +224,16 @@ def _refuse_what_a_cell_cannot_hold(frame: pd.DataFrame, target: Path) -> None:
                             "write .csv or .parquet instead")
 
 
+def scored_frame(table: ScoreTable, suffix: str) -> pd.DataFrame:
+    """The rows of the scored file as written to a file of this suffix (ids neutralised in CSV and XLSX)."""
+    frame = table.to_frame()
+    if suffix in (".csv", ".xlsx"):
+        # the id column's name comes from the scale file: it is neutralised like the ids below it
+        frame[table.id_name] = frame[table.id_name].map(neutralise_formula)
+        frame = frame.rename(columns={table.id_name: neutralise_formula(table.id_name)})
+    return frame
+
+
 def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path] = ()) -> Path:
     """Write the scored file as CSV, XLSX or Parquet (by extension), atomically, never over an input.
 
@@ -233,11 +243,7 @@ def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str 
     suffix = target.suffix.lower()
     if suffix not in SCORE_FILE_TYPES:
         raise UsageError(f"cannot write {target}: the scored file must end in .csv, .xlsx or .parquet")
-    frame = table.to_frame()
-    if suffix in (".csv", ".xlsx"):
-        # the id column's name comes from the scale file: it is neutralised like the ids below it
-        frame[table.id_name] = frame[table.id_name].map(neutralise_formula)
-        frame = frame.rename(columns={table.id_name: neutralise_formula(table.id_name)})
+    frame = scored_frame(table, suffix)
     if suffix == ".csv":
         return write_atomic(target, frame.to_csv(index=False, lineterminator="\n"), inputs=inputs)
     if suffix == ".xlsx":

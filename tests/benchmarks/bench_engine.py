@@ -9,7 +9,8 @@ process; peak memory is its maximum resident set size (``os.wait4`` rusage), tim
     python tests/benchmarks/bench_engine.py FOLDER speed [--rows 1000000] [--repeat 3]
     python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8] [--commands compare confirm]
 
-``memory``: `reliability`, `shape` and `tally --items` with ``--engine stream`` on each size (goal: peak
+``memory``: `reliability`, `shape`, `tally --items` and `score --standardize pomp` (writing the scored
+CSV) with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
@@ -127,9 +128,21 @@ def measure(label: str, arguments: list[str], results: list[dict], **fields) -> 
     return record
 
 
-COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"]}
+COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "score": ["--standardize", "pomp"],
+            "report": ["-q", "--iterations", "20"]}
+#: measured unless --commands names others (the report, with its figures, takes longest)
+DEFAULT_COMMANDS = ["reliability", "shape", "tally", "score"]
 #: the commands the dask measurement can also run (with the options they need on this survey)
-DASK_COMMANDS = {**COMMANDS, "compare": ["--by", "shift"], "confirm": []}
+DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare": ["--by", "shift"], "confirm": []}
+
+
+def output_of(name: str, folder: Path, rows: int, route: str = "stream") -> list[str]:
+    """``score`` writes the scored file (a block at a time on the streaming route); the others their JSON."""
+    if name == "score":
+        return ["--out", str(folder / f"scores_{rows}_{route}.csv"), "--force"]
+    if name == "report":
+        return ["--out", str(folder / f"report_{rows}_{route}"), "--force"]
+    return ["--format", "json", "--out", str(folder / f"{name}_{rows}{'' if route == 'stream' else '_' + route}.json")]
 
 
 def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], names: list[str],
@@ -137,13 +150,13 @@ def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], na
     for rows in sizes:
         data = write_csv(folder, rows)
         for name, extra in ((name, COMMANDS[name]) for name in names):
-            measure(f"{name} stream", command(name, str(data), "--scales", str(scales), "--format", "json",
-                                              "--out", str(folder / f"{name}_{rows}.json"), "--engine", "stream",
-                                              *extra), results, rows=rows, file_mb=round(data.stat().st_size / 1e6))
+            measure(f"{name} stream", command(name, str(data), "--scales", str(scales), *output_of(name, folder, rows),
+                                              "--engine", "stream", *extra), results, rows=rows,
+                    file_mb=round(data.stat().st_size / 1e6))
     data = write_csv(folder, min(sizes))
     for name, extra in ((name, COMMANDS[name]) for name in names if whole):
-        measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
-                                          "--out", str(folder / f"{name}_{min(sizes)}_memory.json"),
+        measure(f"{name} memory", command(name, str(data), "--scales", str(scales),
+                                          *output_of(name, folder, min(sizes), "memory"),
                                           "--engine", "memory", *extra), results, rows=min(sizes))
 
 
@@ -183,8 +196,9 @@ def main() -> int:
     parser.add_argument("--rows", type=int, nargs="+", default=None)
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--parts", type=int, default=8)
-    parser.add_argument("--commands", nargs="+", default=None, choices=list(DASK_COMMANDS),
-                        help="memory: of reliability, shape, tally (default all three); dask: any (default reliability)")
+    parser.add_argument("--commands", nargs="+", default=None, choices=sorted({*COMMANDS, *DASK_COMMANDS}),
+                        help="memory: of reliability, shape, tally, score, report (default all but the report); "
+                             "dask: any of reliability, shape, tally, compare, confirm (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)
@@ -197,7 +211,7 @@ def main() -> int:
             print(f"{data}: {data.stat().st_size / 1e6:.0f} MB in {time.perf_counter() - start:.0f} s", flush=True)
     elif options.what == "memory":
         memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results,
-               [name for name in options.commands or COMMANDS if name in COMMANDS], whole=not options.no_whole)
+               [name for name in options.commands or DEFAULT_COMMANDS if name in COMMANDS], whole=not options.no_whole)
     elif options.what == "speed":
         speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
     else:

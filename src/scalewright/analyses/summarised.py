@@ -191,39 +191,30 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
     return reports
 
 
-def _counted_values(values: np.ndarray, counts: np.ndarray, n_missing: int) -> np.ndarray:
-    """The scores in ascending order, then a NaN per row without one (what the shape statistics take).
-
-    The one place the shape route holds one number per row: the dip test needs the jittered sample.
-    """
-    out = np.empty(int(counts.sum()) + n_missing)
-    out[: out.size - n_missing] = np.repeat(values, counts)
-    out[out.size - n_missing:] = np.nan
-    return out
-
-
-def _score_sample(part: Any, *, scored_only: bool = False) -> Any:
+def _score_counts(part: Any, *, scored_only: bool = False) -> Any:
+    """(distinct scores, their counts, rows without a score) of a scale's merged score counts."""
     counts = part["scores"]
     if scored_only:
         return counts.n_rows - counts.n_missing
     values, tallies = counts.values_and_counts()
-    return _counted_values(values, tallies, counts.n_missing), counts.n_rows - counts.n_missing
+    return values, tallies, counts.n_missing
 
 
-def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
+def _item_counts(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
     answers = part["answers"]
     tallies = answers.tally[position]
     answered = int(tallies.sum())
     if scored_only:
         return answered
-    return _counted_values(low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered), answered
+    return low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered
 
 
 def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), items: bool = False,
                          percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                          min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
     """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
-    from ..stats.shape import ShapeReport, SubgroupShapes, describe_scores
+    from ..stats.shape import ShapeReport, SubgroupShapes
+    from ..stats.shape_counts import describe_counted_scores
     from ..stats.subgroups import SubgroupSplit
     from .shape import score_axis
 
@@ -233,18 +224,18 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
         level_parts[column] = level_summaries(summary, column, members)
 
     def report(name: str, title: str, kind: str, sample, x_label: str, **grid) -> ShapeReport:
-        """``sample(parts)`` gives (the scores with a NaN per unscored row, the scored count) of a Keyed."""
+        """``sample(parts)`` gives (distinct scores, their counts, rows without a score) of a Keyed, or with
+        ``scored_only`` the number of scored rows; every description comes from the counts."""
         options = dict(percentiles=percentiles, quantile_method=quantile_method, seed=seed, **grid)
-        overall_values, overall_scored = sample(summary["scales"])
-        overall = describe_scores(overall_values, **options)
-        unscored = overall_values.size - overall_scored
-        del overall_values  # one sample held at a time
+        values, tallies, unscored = sample(summary["scales"])
+        overall = describe_counted_scores(values, tallies, n_missing=unscored, **options)
+        overall_scored = int(tallies.sum())
         groups = []
         for column, parts in level_parts.items():
             sizes = {level: sample(part, scored_only=True) for level, part in parts.items()}
             sizes = {level: size for level, size in sizes.items() if size}
-            # a level is described on its scored rows only (the scores come first, the NaNs after them)
-            levels = {level: describe_scores(sample(parts[level])[0][:size], **options)
+            # a level is described on its scored rows only
+            levels = {level: describe_counted_scores(*sample(parts[level])[:2], **options)
                       for level, size in sizes.items() if size >= min_group}
             split = SubgroupSplit(column=column, levels={}, too_small={k: v for k, v in sizes.items() if v < min_group},
                                   missing=overall_scored - sum(sizes.values()), min_size=min_group)
@@ -260,7 +251,7 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
         axis = score_axis(scale)
         x_label = axis.pop("x_label")
         scales[name] = report(name, scale.title, "scale",
-                              lambda parts, name=name, **only: _score_sample(parts[name], **only), x_label, **axis)
+                              lambda parts, name=name, **only: _score_counts(parts[name], **only), x_label, **axis)
     item_reports: dict[str, Any] = {}
     if items:
         for item in spec.items:
@@ -270,7 +261,7 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
             owner, position = next((n, s.items.index(item)) for n, s in spec.scales.items() if item in s.items)
             item_reports[item] = report(item, title, "item",
                                         lambda parts, owner=owner, position=position, low=fmt.min, **only:
-                                        _item_sample(parts[owner], position, low, **only),
+                                        _item_counts(parts[owner], position, low, **only),
                                         f"answer to {item} (as given, {fmt.min} to {fmt.max})",
                                         attainable=np.arange(fmt.min, fmt.max + 1, dtype=float), resolution=1.0,
                                         answer_levels=len(fmt.levels))

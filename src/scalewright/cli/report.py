@@ -18,6 +18,7 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .row_route import row_engine_options, row_route, said_read_whole
 
 
 def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
@@ -25,15 +26,30 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
                       seed: int | None = None, iterations: int = 100, confidence_level: float = 0.95,
                       min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
                       duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
-                      missing: str = "listwise", png: bool = False, max_levels: int | None = None) -> Any:
+                      missing: str = "listwise", png: bool = False, max_levels: int | None = None,
+                      engine: str = "memory", block_size: int | None = None) -> Any:
     """Read the inputs, turn the options into ``ReportOptions`` and build the report folder; returns the
-    ``ReportResults`` (:func:`scalewright.report_folder.build_report_folder` does the work)."""
+    ``ReportResults`` (:func:`scalewright.report_folder.build_report_folder` does the work).
+
+    With ``engine`` "stream" (or "auto" on a large file) the file is read in blocks: see
+    :func:`_streamed_report_folder`.
+    """
     from ..present.progress import Progress
     from ..report import DEFAULT_SEED, ReportOptions
     from ..report_folder import build_report_folder, report_folder_steps
 
     progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
+    needs_rows = ("--exclude" if exclude is not None else f"--missing {missing}" if missing != "listwise" else None)
+    if row_route(engine, data, scales, needs_rows=needs_rows) == "stream":
+        streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
+                                           seed=seed, iterations=iterations, confidence_level=confidence_level,
+                                           min_group=min_group, min_cell=min_cell, duration_column=duration_column,
+                                           duration_unit=duration_unit, single_file=single_file, png=png,
+                                           max_levels=max_levels, engine=engine, block_size=block_size,
+                                           progress=progress)
+        if streamed is not None:
+            return streamed
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     options = ReportOptions(by=resolve_by(by, inputs.spec), max_levels=max_levels or chosen_max_levels(),
                             seed=DEFAULT_SEED if seed is None else seed, iterations=iterations,
@@ -43,6 +59,63 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
     results = build_report_folder(inputs, out, options=options, sources=[data, scales, exclude], force=force,
                                   single_file=single_file, png=png, progress=progress.step)
     folder = Path(out)
+    progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
+    return results
+
+
+def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[str, ...], lenient: bool, decimals: int,
+                            force: bool, seed: int | None, iterations: int, confidence_level: float, min_group: int,
+                            min_cell: int, duration_column: str | None, duration_unit: str, single_file: bool,
+                            png: bool, max_levels: int | None, engine: str, block_size: int | None,
+                            progress: Any) -> Any:
+    """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
+    summaries, one that writes ``scores.csv`` a block at a time; None when the file must be read whole."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    from ..analyses.report_streamed import report_plan, streamed_report
+    from ..engine.blocks import CannotStream
+    from ..engine.score_stream import stream_scores
+    from ..engine.stream import stream_summary
+    from ..errors import DataError, Problem
+    from ..present.document import InputInfo
+    from ..present.report_files import prepare_report_folder, write_report_folder, write_single_page
+    from ..report import DEFAULT_SEED, ReportOptions
+    from ..spec import load_spec
+    from .engine_route import StreamedLevels
+
+    spec = load_spec(scales)
+    options = ReportOptions(by=resolve_by(by, spec), max_levels=max_levels or chosen_max_levels(),
+                            seed=DEFAULT_SEED if seed is None else seed, iterations=iterations,
+                            confidence_level=confidence_level, min_group=min_group, min_cell=min_cell, lenient=lenient,
+                            exclude=None, decimals=decimals, duration_column=duration_column,
+                            duration_unit=duration_unit, missing="listwise")
+    with ThreadPoolExecutor(max_workers=1) as pool:  # the provenance digests beside the blocks
+        digests = pool.submit(InputInfo.from_paths, data, scales)
+        try:
+            summary, outcome = stream_summary(data, spec, report_plan(spec, options), lenient=lenient,
+                                              block_bytes=block_size)
+        except CannotStream as reason:
+            said_read_whole(engine, data, reason)
+            return None
+        info = digests.result()
+    # the checks of the whole-file route, before the folder is touched
+    resolve_by(options.by, spec, StreamedLevels(summary), max_levels=options.max_levels)
+    if duration_column and duration_column not in outcome.counts.file_columns:
+        raise DataError(Problem(file=str(data), message=f"no column named {duration_column!r}"))
+    folder = prepare_report_folder(out, force=force, inputs=[data, scales], single_file=single_file)
+    progress.step("scoring")
+    try:
+        scored = stream_scores(data, spec, None if single_file else folder / "scores.csv", lenient=lenient,
+                               block_bytes=block_size, inputs=[data, scales])
+    except CannotStream as reason:  # the first pass read it: only a file changed meanwhile gets here
+        raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
+    results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=scored.table,
+                              input_notes=tuple(outcome.notes()), progress=progress.step)
+    if single_file:
+        write_single_page(results, folder, decimals=decimals, inputs=[data, scales], progress=progress.step)
+    else:
+        write_report_folder(results, folder, decimals=decimals, inputs=[data, scales], progress=progress.step,
+                            png=png, scores_written=True)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
 
@@ -81,18 +154,22 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
 @missing_option
 @weight_option
 @input_options
+@row_engine_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
            duration_unit: str, png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
-           exclude: Path | None) -> None:
+           exclude: Path | None, engine: str, block_size: int | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
     Writes DIR/index.html (one self-contained page: no scripts, nothing from the
     network), DIR/report.md, DIR/results.json (every result at full precision),
     DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
-    only DIR/index.html, with every figure inside it.
+    only DIR/index.html, with every figure inside it. With --engine stream (or auto on
+    a large file) the file is read in blocks: every section computed from summaries,
+    the others named as left out.
     """
     report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                         min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
-                        single_file=single_file, missing=resolve_missing(missing), png=png)
+                        single_file=single_file, missing=resolve_missing(missing), png=png, engine=engine,
+                        block_size=block_size)

@@ -20,6 +20,7 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .row_route import row_engine_options, row_route, said_read_whole
 
 
 @click.command("score", epilog=("Examples:\n\n\b\n"
@@ -34,29 +35,30 @@ from .common import (
 @click.option("--force", is_flag=True, help="Replace --out if it exists (never an input file).")
 @weight_option
 @input_options
+@row_engine_options
 @output_options
 def score(data: Path, scales: Path, standardize: str | None, force: bool, lenient: bool, exclude: Path | None,
-          fmt: str | None, out: Path | None, decimals: int) -> None:
+          engine: str, block_size: int | None, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Write the scored file: id, one column per scale and <scale>__answered.
 
     With --out FILE ending in .csv, .xlsx or .parquet the scores are written there
     (rows in input order); without it a summary of what was scored is shown.
     Numbers are written in full: the shortest text that reads back as the same number.
+    With --engine stream (or auto on a large file) a .csv or .parquet scored file is
+    read, scored and written a block at a time.
     """
     if out is not None:
         refuse_input_overwrite(out, [data, scales, exclude])
         if out.exists() and not force:
             raise UsageError(f"{out} exists; add --force to replace it")
+    writes_scores = out is not None and out.suffix.lower() in SCORE_FILE_TYPES and fmt is None
+    if _streamed(data, scales, standardize=standardize, lenient=lenient, exclude=exclude, engine=engine,
+                 block_size=block_size, fmt=fmt, out=out, decimals=decimals, writes_scores=writes_scores):
+        return
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     weights = getattr(inputs.responses, "weights", None)
     table = score_scales(inputs.responses, inputs.spec, standardize=standardize, weights=weights)
-    summary = Table(
-        title="Scores",
-        columns=("scale", "items", "method", "needs answered", "scored", "not scored"),
-        rows=tuple((name, s.k, s.method, s.required, s.n_scored, s.n_unscored) for name, s in table.scales.items()),
-        kinds={"scale": "text", "method": "text", "items": "int", "needs answered": "int", "scored": "int",
-               "not scored": "int"},
-        key="scores")
+    summary = _scores_table(table)
     if out is not None and out.suffix.lower() in SCORE_FILE_TYPES and fmt is None:
         write_scores(table, out, inputs=[data, scales, exclude])
         click.echo(f"wrote {out} ({inputs.responses.n} rows, {len(table.scales)} scale(s))", err=True)
@@ -81,6 +83,57 @@ def _z_lines(table) -> list[str]:
     if weighted:
         return [describe(note("z-weighted", weight_column=weighted[0]))]
     return [describe(note("z-unweighted"))]
+
+
+def _scores_table(table) -> Table:
+    return Table(
+        title="Scores",
+        columns=("scale", "items", "method", "needs answered", "scored", "not scored"),
+        rows=tuple((name, s.k, s.method, s.required, s.n_scored, s.n_unscored) for name, s in table.scales.items()),
+        kinds={"scale": "text", "method": "text", "items": "int", "needs answered": "int", "scored": "int",
+               "not scored": "int"},
+        key="scores")
+
+
+def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: bool, exclude: Path | None,
+              engine: str, block_size: int | None, fmt: str | None, out: Path | None, decimals: int,
+              writes_scores: bool) -> bool:
+    """Score the file a block at a time when the route says so; False when it is to be read whole."""
+    needs_rows = ("--exclude" if exclude is not None else "--standardize z" if standardize == "z"
+                  else f"--out {out.name}" if writes_scores and out.suffix.lower() == ".xlsx" else None)
+    if row_route(engine, data, scales, needs_rows=needs_rows) != "stream":
+        return False
+    from concurrent.futures import ThreadPoolExecutor
+
+    from ..engine.blocks import CannotStream
+    from ..engine.score_stream import stream_scores
+    from ..present.document import InputInfo
+    from ..spec import load_spec
+    from .common import Inputs
+
+    spec = load_spec(scales)
+    with ThreadPoolExecutor(max_workers=1) as pool:  # the provenance digests beside the blocks
+        digests = pool.submit(InputInfo.from_paths, data, scales)
+        try:
+            found = stream_scores(data, spec, out if writes_scores else None, standardize=standardize,
+                                  lenient=lenient, block_bytes=block_size, inputs=[data, scales])
+        except CannotStream as reason:
+            said_read_whole(engine, data, reason)
+            return False
+        info = digests.result()
+    notes = tuple(found.outcome.notes())
+    if writes_scores:
+        click.echo(f"wrote {out} ({found.n} rows, {len(found.table.scales)} scale(s))", err=True)
+        for note in notes:
+            click.echo(f"note: {visible_controls(note)}", err=True)
+        return True
+    table = found.table
+    summary = _scores_table(table)
+    body = {"scores": table.to_dict(), "reading": found.outcome.reading_summary(), "engine": {"name": "stream"}}
+    inputs = Inputs(spec=spec, responses=found.outcome, info=info, excluded=0, notes=notes)
+    emit(command="score", inputs=inputs, body=body, tables=[summary], fmt=choose_format(fmt, out), out=out,
+         decimals=decimals, options={"standardize": standardize})
+    return True
 
 
 def _weighted(body, inputs, table) -> list:

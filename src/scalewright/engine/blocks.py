@@ -24,6 +24,8 @@ from ..data_columns import ids_as_text
 from ..data_file import delimited_header
 from ..read_codes import BLANK_TEXTS, convert_codes, fits
 from ..text_cells import clear_missing_texts
+from .id_hash import text_id_hashes
+from .parallel_csv import can_cut
 from .reading import ReadingCounts
 
 #: bytes of CSV text per parsed block (pyarrow's default). pyarrow's streaming reader parses blocks ahead
@@ -89,11 +91,14 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
     if missing:
         raise CannotStream(f"column {missing[0]!r} is absent")  # the whole-file reader names every one
     whole_numbers = all(fits(spec.response_for(name)) for name in spec.items)
-    ways = [(True, False)] if whole_numbers else []
-    ways += [(False, False), (False, True)]
-    return [lambda as_int16=as_int16, quote_aware=quote_aware: _csv_batches(
-                path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16, quote_aware=quote_aware)
-            for as_int16, quote_aware in ways]
+    # the quick way (items as 16-bit integers) parses blocks side by side when the rows can be cut at line
+    # feeds (engine/parallel_csv.py), else one block at a time; the text ways read one block at a time
+    ways = [(True, False, can_cut(path))] if whole_numbers else []
+    ways += [(False, False, False), (False, True, False)]
+    return [lambda as_int16=as_int16, quote_aware=quote_aware, parallel=parallel: _csv_batches(
+                path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16, quote_aware=quote_aware,
+                parallel=parallel)
+            for as_int16, quote_aware, parallel in ways]
 
 
 class Retry(Exception):
@@ -108,7 +113,7 @@ def retry_errors() -> tuple[type, ...]:
 
 
 def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str], *, block_bytes: int,
-                 as_int16: bool, quote_aware: bool) -> Iterator[Any]:
+                 as_int16: bool, quote_aware: bool, parallel: bool = False) -> Iterator[Any]:
     """Arrow record batches of the file (item columns int16 or text, the rest text)."""
     import pyarrow as pa
     import pyarrow.compute as pc
@@ -116,13 +121,21 @@ def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence
 
     wanted = set(items)
     types = {raw: (pa.int16() if as_int16 and raw.strip() in wanted else pa.string()) for raw in raw_names}
-    reader = pacsv.open_csv(
-        path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
-        parse_options=pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False, newlines_in_values=quote_aware),
-        convert_options=pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS),
-                                             strings_can_be_null=True))
-    if len(reader.schema.names) != len(raw_names):
-        raise CannotStream("the parser saw the header differently")
+    parse_options = pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False, newlines_in_values=quote_aware)
+    convert_options = pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS), strings_can_be_null=True)
+    if parallel:
+        from ..concurrency import worker_count
+        from .parallel_csv import parallel_batches
+
+        # a block_size given on the command line is kept as the streaming reader's; the parallel reader
+        # takes its own larger blocks (their count in memory is bounded by the threads, not by a queue)
+        reader = parallel_batches(path, raw_names, parse_options=parse_options, convert_options=convert_options,
+                                  workers=worker_count(), block_bytes=block_bytes if block_bytes != BLOCK_BYTES else None)
+    else:
+        reader = pacsv.open_csv(path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
+                                parse_options=parse_options, convert_options=convert_options)
+        if len(reader.schema.names) != len(raw_names):
+            raise CannotStream("the parser saw the header differently")
     for batch in reader:
         if batch.num_rows and all(column.null_count for column in batch.columns):
             blank = pc.and_(*[pc.is_null(c) for c in batch.columns[:2]]) if batch.num_columns > 1 else \
@@ -226,7 +239,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     for name in dict.fromkeys(columns):
         series = others[name]
         if name == spec.id_column:
-            hashes, id_empty = _id_check(series, (part, first_row, file))
+            hashes, id_empty = _id_check(series, (part, first_row, file), arrow=batch.column(by_name[name]))
             id_hashes = (hashes,)
         if name in spec.group_levels:
             series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file),
@@ -250,7 +263,13 @@ def _at(start: tuple, offset: int) -> tuple:
     return (start[0], start[1] + offset, start[2])
 
 
-def _id_check(raw: pd.Series, start: tuple) -> tuple[np.ndarray, tuple]:
+def _id_check(raw: pd.Series, start: tuple, *, arrow: Any = None) -> tuple[np.ndarray, tuple]:
+    """The ids' hashes and the first empty id with their count; ids read as text are hashed from Arrow."""
+    fast = text_id_hashes(arrow) if arrow is not None else None
+    if fast is not None:
+        hashes, empty = fast
+        found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),) if empty.any() else ()
+        return hashes, found
     empty = raw.isna().to_numpy().copy()
     if raw.dtype == object or pd.api.types.is_string_dtype(raw.dtype):
         empty |= (raw.astype("string").str.strip() == "").fillna(True).to_numpy()

@@ -54,6 +54,8 @@ class ReadingCounts:
     missing_texts: dict[str, dict[str, int]] = field(default_factory=dict)
     #: the file's column names in order (to list the other columns as the whole-file reader lists them)
     file_columns: tuple[str, ...] = ()
+    #: a duplicate among hashes already checked and dropped (:mod:`~scalewright.engine.id_spill`)
+    duplicate_ids: bool = False
 
     def merge(self, other: ReadingCounts) -> ReadingCounts:
         refused_first = {column: _first(self.refused_first.get(column, ()), other.refused_first.get(column, ()),
@@ -81,9 +83,12 @@ class ReadingCounts:
                              missing_texts={column: _add(self.missing_texts.get(column, {}),
                                                          other.missing_texts.get(column, {}))
                                             for column in dict.fromkeys([*self.missing_texts, *other.missing_texts])},
-                             file_columns=self.file_columns or other.file_columns)
+                             file_columns=self.file_columns or other.file_columns,
+                             duplicate_ids=self.duplicate_ids or other.duplicate_ids)
 
     def has_duplicate_ids(self) -> bool:
+        if self.duplicate_ids:
+            return True
         if not self.id_hashes:
             return False
         joined = np.concatenate(self.id_hashes)

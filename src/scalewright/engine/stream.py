@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from collections import deque
 from concurrent.futures import ThreadPoolExecutor
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -12,17 +13,20 @@ from ..concurrency import worker_count
 from ..data_file import first_row_number
 from ..summaries import Summary
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .id_spill import IdHashSpill
 from .plan import SummaryPlan, summarise_block
 from .reading import ReadingOutcome, check_reading
 
 
 def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_bytes: int | None = None,
                    batch_rows: int | None = None, source: Any = None, first_row: int | None = None,
-                   file: str = "", part: int = 0) -> Summary:
+                   file: str = "", part: int = 0, spill_ids: bool = False) -> Summary:
     """The merged summary of every block of the file (reading not yet checked: see :func:`stream_summary`).
 
     ``first_row`` is the row number of the file's first data row (default: 2 below a header, 1 in Parquet);
     ``file`` and ``part`` name the file and its position when it is one partition of a dataset.
+    ``spill_ids``: check the ids for duplicates here, on disk (:mod:`~scalewright.engine.id_spill`), and
+    keep no hash in the summary (a single file; a dataset's partitions keep theirs to check them together).
     Raises :class:`~scalewright.engine.blocks.CannotStream` for a file only the whole-file reader reads.
     """
     path = Path(path)
@@ -30,7 +34,7 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
     start = first_row_number(path) if first_row is None else first_row
     for number, batches in enumerate(ways, start=1):
         try:
-            return _summarise_batches(batches(), spec, plan, start, file=file, part=part)
+            return _summarise_batches(batches(), spec, plan, start, file=file, part=part, spill_ids=spill_ids)
         except retry_errors() as error:
             if number == len(ways):
                 raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
@@ -38,9 +42,8 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
 
 
 def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *, file: str = "",
-                       part: int = 0) -> Summary:
+                       part: int = 0, spill_ids: bool = False) -> Summary:
     workers = worker_count()
-    total: Summary | None = None
     row = start
 
     def summarise(batch: Any, first: int) -> Summary:
@@ -51,27 +54,62 @@ def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *
     # each block's cross-products are one matrix product per scale (and one of every item together for the
     # whole-file models); a multi-threaded BLAS inside each pool thread makes the threads fight over the
     # cores (61 columns x 16,384 rows: 7 ms on one BLAS thread, 280 ms on all of them on a busy machine)
-    with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
+    with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool, IdHashSpill() as ids:
+        def take(done: Summary) -> Summary:
+            if not spill_ids:
+                return done
+            reading = done["reading"]
+            for hashes in reading.id_hashes:
+                ids.add(hashes)
+            return Summary({**done.members, "reading": replace(reading, id_hashes=())})
+
         pending: deque = deque()
+        merged = _TreeMerge()
         for batch in batches:
             pending.append(pool.submit(summarise, batch, row))
             row += batch.num_rows
             del batch
             while len(pending) > workers:  # at most this many blocks held at once
-                done = pending.popleft().result()
-                total = done if total is None else total.merge(done)
+                merged.add(take(pending.popleft().result()))
         while pending:
-            done = pending.popleft().result()
-            total = done if total is None else total.merge(done)
+            merged.add(take(pending.popleft().result()))
+        total = merged.result()
+        if total is not None and spill_ids and ids.has_duplicates():
+            total = Summary({**total.members, "reading": replace(total["reading"], duplicate_ids=True)})
     if total is None or total["reading"].rows == 0:
         raise CannotStream("no rows")  # the whole-file reader says so
     return total
 
 
+class _TreeMerge:
+    """Summaries merged as they arrive, in a balanced tree (as a binary counter carries): two summaries of
+    equal weight are merged at once, so at most log2(blocks) are held and each row's summary takes part
+    in log2(blocks) merges. Merging every block into one running total instead costs a merge of the
+    whole total per block, which dominated the time of summaries that grow with the data (per-pattern
+    sums: 5.6 s of 17 s on 1,000,000 rows)."""
+
+    def __init__(self) -> None:
+        self._stack: list[tuple[int, Summary]] = []
+
+    def add(self, summary: Summary) -> None:
+        weight = 1
+        while self._stack and self._stack[-1][0] == weight:
+            _, earlier = self._stack.pop()
+            summary = earlier.merge(summary)
+            weight *= 2
+        self._stack.append((weight, summary))
+
+    def result(self) -> Summary | None:
+        total = None
+        for _, summary in reversed(self._stack):  # the latest rows first, each merged after the earlier ones
+            total = summary if total is None else summary.merge(total)
+        return total
+
+
 def stream_summary(path: str | Path, spec: Any, plan: SummaryPlan, *, lenient: bool = False,
                    block_bytes: int | None = None, batch_rows: int | None = None) -> tuple[Summary, ReadingOutcome]:
     """The summary of the file and its checked reading (errors raised as the whole-file reader raises them)."""
-    summary = summarise_file(path, spec, plan, block_bytes=block_bytes, batch_rows=batch_rows)
+    summary = summarise_file(path, spec, plan, block_bytes=block_bytes, batch_rows=batch_rows, spill_ids=True)
     return summary, checked(str(path), summary, spec, lenient=lenient)
 
 

@@ -179,7 +179,8 @@ def write_single_page(results: Any, folder: str | Path, *, decimals: int = 2, in
 
 
 def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
-                        progress: Callable[[str], None] = lambda step: None, png: bool = False) -> list[Path]:
+                        progress: Callable[[str], None] = lambda step: None, png: bool = False,
+                        scores_written: bool = False) -> list[Path]:
     """Write every file of the report into ``folder`` (already prepared); return the paths written.
 
     Figures are SVG files; ``png`` writes a PNG of each as well.
@@ -199,6 +200,8 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     written = [write_atomic(folder / "index.html", render_html(document, folder=folder), inputs=inputs),
                write_atomic(folder / "report.md", render_report_markdown(document), inputs=inputs),
                write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs),
+               # a streamed report has written its scored file block by block already
+               folder / "scores.csv" if scores_written else
                write_scores(results.score_table, folder / "scores.csv", inputs=inputs)]
     for figure in figures.values():
         written += [folder / f"{figure.stem}.svg", *([folder / f"{figure.stem}.png"] if figure.png else [])]

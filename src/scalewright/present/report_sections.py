@@ -47,9 +47,12 @@ def _scored_table(results: Any) -> Table:
                                    "not scored": "int"}, key="scored")
 
 
-def _screen_blocks(screen: Any, decimals: int) -> list[Any]:
+def _screen_blocks(screen: Any, decimals: int, *, n_rows: int = 0) -> list[Any]:
     from .quality import screen_tables
 
+    if screen is None and n_rows:  # a report of a file read in blocks leaves the screen out
+        return [Paragraph("The careless-responding screen is not in this report: the data file was read in "
+                          "blocks, and the screen judges every respondent's row (see the notes above).", tone="note")]
     if screen is None:
         return [Paragraph("The careless-responding screen was not run: there are no respondents.", tone="note")]
     document = screen.to_dict()
@@ -86,7 +89,7 @@ def quality_section(results: Any, decimals: int) -> Section:
         blocks.append(Bullets(tuple(results.input_notes), tone="note"))
     blocks.append(TableBlock(_scored_table(results)))
     subsections = [Section(anchor="quality-screen", title="Careless responding",
-                           blocks=tuple(_screen_blocks(results.screen, decimals)))]
+                           blocks=tuple(_screen_blocks(results.screen, decimals, n_rows=results.n_rows)))]
     if results.group_tallies:
         subsections.append(Section(anchor="quality-groups", title="Who answered", blocks=(
             Details("Respondents by each grouping column", tuple(

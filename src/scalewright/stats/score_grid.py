@@ -47,18 +47,22 @@ def score_resolution(low: int, high: int, k: int, *, method: str = "mean") -> fl
 
 
 def infer_resolution(values: np.ndarray, origin: float, span: float, *, coverage: float = 0.8,
-                     max_divisions: int = 1000) -> float:
+                     max_divisions: int = 1000, counts: np.ndarray | None = None) -> float:
     """Spacing of the coarsest regular grid from ``origin`` that holds ``coverage`` of the values; 0 if none.
 
-    Hand-written: no library finds the lattice of tied scores.  Divisions of ``span`` are tried from 1 up.
+    ``counts``: how many times each value occurs (the values are then distinct scores, as value counts
+    give them), else once each. Hand-written: no library finds the lattice of tied scores.  Divisions of
+    ``span`` are tried from 1 up.
     """
     if span <= 0 or values.size == 0:
         return 0.0
     offsets = (values - origin) / span
+    total = None if counts is None else int(np.sum(counts))
     for divisions in range(1, max_divisions + 1):
         scaled = offsets * divisions
         on_grid = np.abs(scaled - np.round(scaled)) < 1e-6 * divisions
-        if on_grid.mean() >= coverage:
+        share = on_grid.mean() if counts is None else int(np.sum(counts[on_grid])) / total
+        if share >= coverage:
             return span / divisions
     return 0.0
 
@@ -92,24 +96,32 @@ def _trim(value: float, decimals: int) -> str:
 
 
 def histogram_cells(values: np.ndarray, *, low: float, high: float, resolution: float,
-                    max_bars: int = MAX_VALUE_BARS, continuous_bins: int | None = None) -> HistogramCells:
+                    max_bars: int = MAX_VALUE_BARS, continuous_bins: int | None = None,
+                    tallies: np.ndarray | None = None) -> HistogramCells:
     """Count ``values`` in cells of the main grid (one per value) or in equal groups of grid cells.
 
     With ``resolution`` 0 the data are treated as continuous: equal-width bins between ``low`` and ``high``.
+    ``tallies``: how many times each value occurs (distinct scores from value counts), else once each.
     """
     values = np.asarray(values, dtype=float)
+    weights = None if tallies is None else np.asarray(tallies, dtype=np.int64)
+    size = values.size if weights is None else int(weights.sum())
     notes: list[str] = []
     if resolution <= 0:
-        n_bins = continuous_bins or int(np.clip(np.ceil(np.log2(max(values.size, 1)) + 1), 5, 30))
+        n_bins = continuous_bins or int(np.clip(np.ceil(np.log2(max(size, 1)) + 1), 5, 30))
         edges = np.linspace(low, high, n_bins + 1)
-        counts, _ = np.histogram(values, bins=edges)  # numpy closes the last bin at high
+        if weights is None:
+            counts, _ = np.histogram(values, bins=edges)  # numpy closes the last bin at high
+        else:
+            counts = np.histogram(values, bins=edges, weights=weights)[0].round().astype(np.int64)
         notes.append(f"the last interval [{_trim(edges[-2], 3)}, {_trim(edges[-1], 3)}] includes its upper end")
         return HistogramCells(edges=tuple(map(float, edges)), counts=tuple(int(c) for c in counts),
                               centers=tuple(map(float, (edges[:-1] + edges[1:]) / 2)),
                               grid_values=tuple([0] * n_bins), per_value=False, resolution=0.0, notes=tuple(notes))
     n_values = int(round((high - low) / resolution)) + 1
     cell = np.clip(np.round((values - low) / resolution).astype(int), 0, n_values - 1)
-    value_counts = np.bincount(cell, minlength=n_values)
+    value_counts = np.bincount(cell, minlength=n_values) if weights is None else \
+        np.bincount(cell, weights=weights, minlength=n_values).round().astype(np.int64)
     grid = low + resolution * np.arange(n_values)
     if n_values <= max_bars:
         edges = np.append(grid - resolution / 2, grid[-1] + resolution / 2)

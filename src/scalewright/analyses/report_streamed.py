@@ -1,0 +1,108 @@
+"""The report of a file read in blocks: every section the mergeable summaries serve, the rest named as skipped.
+
+:func:`streamed_report` gives the :class:`~scalewright.report.ReportResults` that
+:func:`~scalewright.report.build_report` gives for the whole file, from one merged
+:class:`~scalewright.summaries.Summary` (see :func:`report_plan`): reliability, score shapes (with their
+histograms and box plots, drawn from the score value counts), answer distributions (from the answer
+counts), subgroup tallies and the structure are computed by the same functions as the streamed
+``reliability``, ``shape``, ``tally`` and ``structure`` commands. The sections that need the rows, or a
+streaming route that does not exist yet, are left out, each with a note code in ``notes``
+(``stream-section-not-streamed`` or ``stream-section-needs-rows``) and a sentence among the reading notes:
+
+- ``compare`` (subgroup comparisons): not yet computed from summaries on this route;
+- ``confirm`` (the confirmatory models of the whole file and their invariance): not yet from summaries;
+- ``screen`` (careless responding): a judgement of every row, with a second pass over the file for the
+  Mahalanobis distances; not yet streamed.
+
+The scored file (``scores.csv``) is written block by block (:mod:`scalewright.engine.score_stream`).
+"""
+from __future__ import annotations
+
+import datetime as _dt
+from collections.abc import Callable
+from typing import Any
+
+from ..notes import Note, note
+
+#: the sections of the report a streamed run leaves out: (note code, what the section is)
+SKIPPED_SECTIONS = {"compare": ("stream-section-not-streamed", "subgroup comparisons"),
+                    "confirm": ("stream-section-not-streamed", "confirmatory factor models"),
+                    "screen": ("stream-section-needs-rows", "careless-responding screen")}
+
+
+def report_plan(spec: Any, options: Any) -> Any:
+    """The summaries one pass over the file must gather for :func:`streamed_report`."""
+    from ..engine.plan import plan_for
+
+    return plan_for(spec, cross_products=options.missing, scores=True, by=tuple(options.by),
+                    categories=tuple(options.by), joint=len(spec.items) >= 2, patterns=True)
+
+
+def answer_distribution_from_counts(scale: Any, answers: Any, *, min_cell: int = 5) -> Any:
+    """:func:`~scalewright.stats.tally.answer_distribution` of a scale's items from their answer counts
+    (``AnswerCounts``: rows per item and answer code), as its counting route builds it."""
+    from ..stats.tally import AnswerDistribution, tally_from_counts
+
+    levels = [int(v) for v in scale.response.levels]
+    label_map = {int(k): str(v) for k, v in (scale.response.labels or {}).items()}
+    level_labels = {str(v): label_map.get(v, str(v)) for v in levels}
+    tallies = tuple(tally_from_counts({str(v): int(answers.tally[j, i]) for i, v in enumerate(levels)},
+                                      n_total=answers.n_rows, n_missing=int(answers.n_rows - answers.tally[j].sum()),
+                                      column=name, ordered=True, labels=level_labels, min_cell=min_cell)
+                    for j, name in enumerate(scale.items))
+    return AnswerDistribution(items=tallies, levels=tuple(str(v) for v in levels),
+                              labels=tuple(label_map.get(v, str(v)) for v in levels))
+
+
+def skipped_notes() -> tuple[Note, ...]:
+    return tuple(note(code, section=section, title=title) for section, (code, title) in SKIPPED_SECTIONS.items())
+
+
+def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options: Any, score_table: Any,
+                    input_notes: tuple[str, ...] = (), progress: Callable[[str], None] | None = None,
+                    today: _dt.date | None = None) -> Any:
+    """The report's results from merged summaries (``outcome``: the checked reading of the file;
+    ``score_table``: the counts of the scored file already written)."""
+    from ..present.messages import describe
+    from ..report import STEPS, ReportResults, ScaleFindings
+    from .summarised import reliability_from_summaries, shape_from_summaries, structure_from_summaries, tally_of_column
+
+    step = progress or (lambda _: None)
+    step(STEPS[1])
+    reliability = reliability_from_summaries(spec, summary, by=options.by, confidence_level=options.confidence_level,
+                                             pairwise=options.missing == "pairwise", min_group=options.min_group)
+    step(STEPS[2])
+    shapes = shape_from_summaries(spec, summary, by=options.by, min_group=options.min_group, seed=options.seed)["scales"]
+    step(STEPS[4])
+    answers = {name: answer_distribution_from_counts(scale, summary["scales"][name]["answers"],
+                                                     min_cell=options.min_cell)
+               for name, scale in spec.scales.items()}
+    group_tallies = tuple(tally_of_column(spec, summary, column, min_cell=options.min_cell) for column in options.by)
+    step(STEPS[5])
+    structure = (structure_from_summaries(spec, summary, seed=options.seed, iterations=options.iterations)
+                 if len(spec.items) >= 2 else None)
+    findings = {name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name],
+                                    reliability=reliability[name], shape=shapes[name], comparisons=(),
+                                    answers=answers[name])
+                for name, scale in spec.scales.items()}
+    skipped = skipped_notes()
+    notes: list[Any] = list(skipped)
+    if structure is None:
+        notes.append("the structure needs at least two items; it was not analysed")
+    missing_texts = _missing_texts_note(spec)
+    return ReportResults(spec=spec, info=info, options=options, n_rows=outcome.n, n_excluded=0,
+                         reading=outcome.reading_summary(),
+                         input_notes=(*input_notes, missing_texts, *(describe(n) for n in skipped)),
+                         score_table=score_table, scales=findings, structure=structure, screen=None,
+                         group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
+                         notes=tuple(notes), confirm=None)
+
+
+def _missing_texts_note(spec: Any) -> str:
+    """The whole-file reader's note on which texts were read as "no answer" (``Responses.missing_texts_note``)."""
+    from ..data import Responses
+
+    return Responses.missing_texts_note(None, spec)  # type: ignore[arg-type]  # it reads the scale file only
+
+
+__all__ = ["SKIPPED_SECTIONS", "answer_distribution_from_counts", "report_plan", "skipped_notes", "streamed_report"]

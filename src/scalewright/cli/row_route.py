@@ -1,0 +1,45 @@
+"""The engine options of the commands that write one row per respondent (``score``), and their route."""
+from __future__ import annotations
+
+from collections.abc import Callable
+from pathlib import Path
+
+import click
+
+from ..errors import UsageError
+
+
+def row_engine_options(fn: Callable) -> Callable:
+    fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
+                      help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
+    fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream"]), default="auto", show_default=True,
+                      help="memory: read the file whole; stream: read, score and write it a block at a time, with "
+                           "memory that does not grow with the rows; auto: stream files of 64 MiB or more.")(fn)
+    return fn
+
+
+def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | None) -> str:
+    """"memory" or "stream": the route of a command that writes rows (``needs_rows`` names an option that
+    needs the whole file first, or None); survey weights keep the whole-file route."""
+    from ..engine.choose import choose_route
+    from .common import chosen_weight
+
+    route = choose_route(engine, data, needs_rows=needs_rows)
+    if route != "stream":
+        return route
+    weight = chosen_weight()
+    if weight is None:
+        from ..spec import load_spec
+
+        weight = getattr(load_spec(spec_path), "weight", None)
+    if weight:
+        if engine == "stream":
+            raise UsageError(f"--engine stream: survey weights (column {weight!r}) need the rows (use --engine memory)")
+        return "memory"
+    return "stream"
+
+
+def said_read_whole(engine: str, data: Path, reason: object) -> None:
+    """With ``--engine stream``, say on stderr why the file is read whole after all."""
+    if engine == "stream":
+        click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)

@@ -1,0 +1,193 @@
+"""The scored file written block by block: each block of the data file is read, scored and appended.
+
+Memory holds a few blocks whatever the number of rows. Each block is scored by
+:func:`scalewright.scoring.score_scales`, the code of the whole-file route, on the block's answers (the
+same float64 values: whole answers, keyed as ``low + high - x``), so every score, POMP value and answered
+count is the whole-file route's to the last bit; the CSV rows are the text ``pandas`` writes for them.
+What reading found is merged over the blocks and checked at the end, exactly as the whole-file reader
+checks it: a refused value (without ``--lenient``), an empty id or a group level the scale file does not
+list refuses the run, and the file being written is removed (written to a temporary file and renamed only
+when complete, as every output). Standard scores in the sample (``z``) need the sample's mean and SD
+first; they keep the whole-file route.
+"""
+from __future__ import annotations
+
+from collections import deque
+from collections.abc import Iterable, Iterator
+from concurrent.futures import ThreadPoolExecutor
+from dataclasses import dataclass, replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from ..answer_codes import ItemAnswers
+from ..concurrency import worker_count
+from ..data_columns import ids_as_text
+from ..data_file import first_row_number
+from ..files import write_atomic_with
+from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
+from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .id_spill import IdHashSpill
+from .reading import ReadingCounts, ReadingOutcome, check_reading
+
+#: scored files that can be written a block at a time
+STREAMED_SCORE_FILES = (".csv", ".parquet")
+
+
+class _BlockRows:
+    """One block as :func:`~scalewright.scoring.score_scales` reads responses: ``n``, ``ids``, ``matrix``."""
+
+    def __init__(self, block: Any, spec: Any) -> None:
+        self.n = block.n
+        self._index = {name: position for position, name in enumerate(spec.items)}
+        formats = [spec.response_for(name) for name in spec.items]
+        self._answers = ItemAnswers.from_codes(block.codes, [f.min for f in formats], [f.max for f in formats])
+        if spec.id_column:
+            raw = block.columns[spec.id_column]
+            # an empty id refuses the whole run when reading is checked; until then it is written as text
+            self.ids = ids_as_text(raw.fillna("")).rename(spec.id_column).reset_index(drop=True)
+        else:  # as the whole-file reader numbers rows without an id column
+            self.ids = pd.Series(np.arange(block.first_row, block.first_row + block.n).astype(str), name="row")
+
+    def matrix(self, names: Iterable[str]) -> np.ndarray:
+        return self._answers.values[:, [self._index[name] for name in names]]
+
+
+@dataclass(frozen=True)
+class StreamedScores:
+    """What was written: rows, per scale the counts of the JSON summary (``ScoreTable.to_dict``), the reading."""
+
+    table: ScoreTable
+    outcome: ReadingOutcome
+
+    @property
+    def n(self) -> int:
+        return self.outcome.n
+
+
+def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_bytes: int | None,
+                   columns: tuple[str, ...], way: Any) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
+    """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads."""
+    start = first_row_number(path)
+    workers = worker_count()
+
+    def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts]:
+        block = convert_batch(batch, spec, columns, first_row=first)
+        return score_scales(_BlockRows(block, spec), spec, standardize=standardize), block.reading
+
+    with ThreadPoolExecutor(max_workers=workers) as pool:
+        pending: deque = deque()
+        row = start
+        for batch in way():
+            pending.append(pool.submit(score, batch, row))
+            row += batch.num_rows
+            del batch
+            while len(pending) > workers:
+                yield pending.popleft().result()
+        while pending:
+            yield pending.popleft().result()
+
+
+class _Appender:
+    """Appends scored blocks to a CSV or Parquet file (header or schema from the first block)."""
+
+    def __init__(self, target: Path, suffix: str) -> None:
+        self.target, self.suffix = target, suffix
+        self._handle: Any = None
+        self._writer: Any = None
+
+    def append(self, table: ScoreTable) -> None:
+        frame = scored_frame(table, self.suffix)
+        if self.suffix == ".csv":
+            if self._handle is None:
+                self._handle = open(self.target, "w", encoding="utf-8", newline="")  # noqa: SIM115 (closed in close())
+                self._handle.write(frame.to_csv(index=False, lineterminator="\n"))
+            else:
+                self._handle.write(frame.to_csv(index=False, header=False, lineterminator="\n"))
+            return
+        import pyarrow as pa
+        import pyarrow.parquet as pq
+
+        arrow = pa.Table.from_pandas(frame, preserve_index=False)
+        if self._writer is None:
+            self._writer = pq.ParquetWriter(self.target, arrow.schema)
+        self._writer.write_table(arrow.cast(self._writer.schema))
+
+    def close(self) -> None:
+        if self._handle is not None:
+            self._handle.close()
+        if self._writer is not None:
+            self._writer.close()
+
+
+def _summary_table(first: ScoreTable, scored: dict[str, int], n: int, standardize: str | None) -> ScoreTable:
+    """The JSON summary of every block: per scale its counts (the rows themselves were written out)."""
+    scales = {name: ScaleScores(scale=name, scores=np.empty(0), answered=np.empty(0, dtype=np.int64),
+                                required=one.required, k=one.k, method=one.method, n_scored=scored[name],
+                                n_unscored=n - scored[name])
+              for name, one in first.scales.items()}
+    return ScoreTable(ids=pd.Series([], dtype=object), id_name=first.id_name, scales=scales, standardize=standardize)
+
+
+def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, standardize: str | None = None,
+                  lenient: bool = False, block_bytes: int | None = None,
+                  inputs: Iterable[Any] = ()) -> StreamedScores:
+    """Score the file block by block; with ``target`` (``.csv`` or ``.parquet``) append each block to it.
+
+    Raises :class:`~scalewright.engine.blocks.CannotStream` when the file (or the option) needs the
+    whole-file route; the target is then untouched. Reading errors are raised as the whole-file reader
+    raises them, after the last block, and the target is untouched too.
+    """
+    path = Path(path)
+    if standardize == "z":
+        raise CannotStream("standard scores need the sample's mean and SD first")
+    suffix = Path(target).suffix.lower() if target is not None else ""
+    if target is not None and suffix not in STREAMED_SCORE_FILES:
+        raise CannotStream(f"a {suffix or 'scored'} file is written whole")
+    columns = (spec.id_column,) if spec.id_column else ()
+    ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
+    found: dict[str, Any] = {}
+
+    def write_all(temp: Path | None) -> None:
+        for number, way in enumerate(ways, start=1):
+            appender = _Appender(temp, suffix) if temp is not None else None
+            first: ScoreTable | None = None
+            scored: dict[str, int] = {}
+            counts: ReadingCounts | None = None
+            ids = IdHashSpill()
+            try:
+                for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes,
+                                                     columns=columns, way=way):
+                    if appender is not None:
+                        appender.append(table)
+                    first = first or table
+                    for name, one in table.scales.items():
+                        scored[name] = scored.get(name, 0) + one.n_scored
+                    for hashes in reading.id_hashes:  # checked on disk, not held (engine/id_spill.py)
+                        ids.add(hashes)
+                    reading = replace(reading, id_hashes=())
+                    counts = reading if counts is None else counts.merge(reading)
+                duplicates = ids.has_duplicates()
+            except retry_errors() as error:
+                if number == len(ways):
+                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                continue  # the next way starts the file again
+            finally:
+                ids.close()
+                if appender is not None:
+                    appender.close()
+            if counts is None or first is None or counts.rows == 0:
+                raise CannotStream("no rows")  # the whole-file reader says so
+            if duplicates:
+                raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
+            found["outcome"] = check_reading(str(path), counts, spec, lenient=lenient)
+            found["table"] = _summary_table(first, scored, counts.rows, standardize)
+            return
+
+    if target is None:
+        write_all(None)
+    else:
+        write_atomic_with(target, write_all, inputs=inputs)
+    return StreamedScores(table=found["table"], outcome=found["outcome"])

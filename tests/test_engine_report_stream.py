@@ -1,0 +1,123 @@
+"""`report --engine stream`: the report of a file read in blocks equals the whole-file report section by
+section, and names the sections it leaves out.
+
+The reference is the whole-file report (``--engine memory``) of the same file: its statistics are held to
+outside references in the tests of each analysis; here only the route differs.
+"""
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+
+from .engine_data import SCALES, survey_rows, write_csv
+from .test_engine_stream import SMALL_BLOCK, run
+
+SKIPPED = {"compare", "confirm", "screen"}
+
+
+def _same(a, b, path=""):
+    if isinstance(a, dict):
+        assert a.keys() == b.keys(), path
+        for key in a:
+            _same(a[key], b[key], f"{path}.{key}")
+    elif isinstance(a, list):
+        assert len(a) == len(b), path
+        for i, (x, y) in enumerate(zip(a, b, strict=True)):
+            _same(x, y, f"{path}[{i}]")
+    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
+        # sums over distinct score values instead of over rows: equal to rounding
+        assert a == pytest.approx(b, rel=1e-9, abs=1e-12), path
+    else:
+        assert a == b, path
+
+
+@pytest.fixture(scope="module")
+def reports(tmp_path_factory) -> tuple[Path, Path, str]:
+    folder = tmp_path_factory.mktemp("streamed-report")
+    scales = folder / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    data = write_csv(folder / "survey.csv", survey_rows(1200))
+    code_m, _, err_m = run("report", str(data), "-s", str(scales), "--out", str(folder / "whole"), "--engine",
+                           "memory", "-q", "--by", "shift", "--iterations", "5")
+    code_s, _, err_s = run("report", str(data), "-s", str(scales), "--out", str(folder / "streamed"), "--engine",
+                           "stream", "--block-size", SMALL_BLOCK, "-q", "--by", "shift", "--iterations", "5")
+    assert code_m == 0, err_m
+    assert code_s == 0, err_s
+    assert "read whole" not in err_s
+    return folder / "whole", folder / "streamed", err_s
+
+
+@pytest.mark.slow  # two full reports with figures: about 10 s of CPU
+def test_every_streamed_section_equals_the_whole_file_report(reports):
+    whole, streamed, _ = reports
+    a = json.loads((whole / "results.json").read_text(encoding="utf-8"))
+    b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
+    for section in ("reading", "scores", "shape", "answers", "structure", "tally", "title"):
+        _same(b[section], a[section], section)
+    for name, record in a["reliability"]["scales"].items():
+        record.pop("confirmatory")  # the confirmatory models are one of the sections left out
+        _same(b["reliability"]["scales"][name], record, f"reliability.{name}")
+    assert (streamed / "scores.csv").read_bytes() == (whole / "scores.csv").read_bytes()
+
+
+@pytest.mark.slow
+def test_sections_left_out_are_named_in_json_and_pages(reports):
+    _, streamed, _ = reports
+    b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
+    assert b["compare"] == {"scales": {}}
+    assert b["confirm"] is None
+    assert b["screen"] is None
+    codes = {note["section"]: note["code"] for note in b["notes"] if isinstance(note, dict)}
+    assert codes == {"compare": "stream-section-not-streamed", "confirm": "stream-section-not-streamed",
+                     "screen": "stream-section-needs-rows"}
+    page = (streamed / "index.html").read_text(encoding="utf-8")
+    assert page.count("Not in this report") == len(SKIPPED)
+    assert "screen is not in this report" in page
+    assert "there are no respondents" not in page
+    assert "not a diagnosis" in page  # the cautions of every report
+
+
+@pytest.mark.slow
+def test_figures_drawn_from_the_summaries(reports):
+    whole, streamed, _ = reports
+    drawn = {p.name for p in (streamed / "figures").iterdir()}
+    assert drawn  # histograms, box plots and answer bars from the counts
+    assert drawn <= {p.name for p in (whole / "figures").iterdir()}
+    assert not any(name.startswith("confirm") for name in drawn)
+
+
+def test_options_that_need_the_rows_keep_the_whole_file_route(tmp_path):
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    data = write_csv(tmp_path / "survey.csv", survey_rows(60))
+    code, _, err = run("report", str(data), "-s", str(scales), "--out", str(tmp_path / "r"), "--engine", "stream",
+                       "--missing", "pairwise")
+    assert code == 2
+    assert "--missing pairwise" in err
+    assert not (tmp_path / "r").exists()
+
+
+def test_answer_distributions_from_answer_counts_equal_the_matrix_route(tmp_path):
+    """Reference: ``stats.tally.answer_distribution`` of the answer matrix (held to pandas' value counts in
+    tests/test_tally.py), against the same distributions from the merged answer counts of many blocks."""
+    import numpy as np
+
+    from scalewright.analyses.report_streamed import answer_distribution_from_counts
+    from scalewright.spec import load_spec
+    from scalewright.stats.tally import answer_distribution
+    from scalewright.summaries import AnswerCounts, merge_all
+
+    (tmp_path / "scales.yaml").write_text(SCALES, encoding="utf-8")
+    spec = load_spec(tmp_path / "scales.yaml")
+    scale = spec.scales["workload"]
+    rng = np.random.default_rng(4)
+    codes = rng.integers(0, 5, size=(700, scale.k)).astype(np.uint8)
+    codes[rng.random(codes.shape) < 0.1] = 255  # missing
+    merged = merge_all([AnswerCounts.from_codes(block, 5) for block in np.array_split(codes, 9)])
+    values = np.where(codes == 255, np.nan, codes + 1.0)
+    expected = answer_distribution(values, scale.response.levels, scale.response.labels, item_names=scale.items,
+                                   min_cell=5)
+    assert answer_distribution_from_counts(scale, merged, min_cell=5).to_dict() == expected.to_dict()
