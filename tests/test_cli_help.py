@@ -41,7 +41,8 @@ def test_every_help_ends_with_examples_that_parse(name):
     assert code == 0
     tail = [line.strip() for line in out.rstrip().splitlines()[-3:]]
     examples = [line for line in tail if line.startswith(f"scalewright {name}")]
-    assert 1 <= len(examples) <= 2 and tail[-1] == examples[-1], out
+    assert 1 <= len(examples) <= 2, out
+    assert tail[-1] == examples[-1], out
     command = cli.get_command(click.Context(cli), name)
     for example in examples:  # every option of the example exists and takes its value
         args = shlex.split(example)[2:]

@@ -123,7 +123,9 @@ def test_structure_writes_out_atomically_and_refuses_bad_options(tmp_path, capsy
     for bad in (["--factors", "two"], ["--factors", "0"], ["--rotation", "spin"], ["--factors", "15"]):
         code = main(["structure", str(data), "--scales", str(scales), "--iterations", "5", *bad])
         err = capsys.readouterr().err
-        assert code != 0 and err.startswith("error: ") and len(err.strip().splitlines()) == 1, err
+        assert code != 0
+        assert err.startswith("error: "), err
+        assert len(err.strip().splitlines()) == 1, err
     assert data.read_bytes() == before
 
 

@@ -11,6 +11,7 @@ import argparse
 import statistics
 import time
 import warnings
+from functools import partial
 
 import numpy as np
 
@@ -48,8 +49,8 @@ def main() -> None:
         random_eigenvalues(50, 5, iterations=2, sampler=sampler)  # scipy.stats is imported on first use
 
     for sampler in ("wishart", "data"):
-        best, median = timed(args.repeat, lambda: random_eigenvalues(n, p, iterations=args.iterations, seed=1,
-                                                                     sampler=sampler))
+        best, median = timed(args.repeat, partial(random_eigenvalues, n, p, iterations=args.iterations, seed=1,
+                                                  sampler=sampler))
         print(f"parallel analysis {n} x {p}, {args.iterations} iterations, {sampler} draws: "
               f"min {best:.2f} s, median {median:.2f} s")
     best, median = timed(args.repeat, lambda: analyse_structure(data, item_names=names, item_scale=item_scale,

@@ -352,7 +352,8 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
     value = problem.value(theta)
     converged, iterations = False, 0
     gradient, hessian = problem.derivatives(theta)
-    for iterations in range(1, max_iter + 1):
+    while iterations < max_iter:
+        iterations += 1
         if np.max(np.abs(gradient)) < tolerance:
             converged = True
             break
@@ -371,8 +372,6 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
             break
         theta, value = candidate, new_value
         gradient, hessian = problem.derivatives(theta)
-    else:
-        iterations = max_iter
     if np.max(np.abs(gradient)) < tolerance:
         converged = True
     notes: list[Note] = []
