@@ -55,7 +55,8 @@ def _finite(value: Any) -> bool:
 
 
 def _reliability(results: Any) -> list[Finding]:
-    reliable, low = [], []
+    reliable: list[dict[str, Any]] = []
+    low: list[dict[str, Any]] = []
     for name, findings in results.scales.items():
         if findings.reliability is None:
             continue

@@ -2,10 +2,14 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..data import Responses
+    from ..spec import ScaleSpec
 
 
-def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
+def analyse_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (), confidence_level: float = 0.95,
                         pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
                         seed: int | None = None, thresholds: Any = None, ordinal: bool = False,
                         missing: str | None = None) -> dict[str, Any]:

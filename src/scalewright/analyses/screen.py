@@ -1,15 +1,19 @@
 """Careless-responding and data-quality indices of every respondent."""
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..data import Responses
+    from ..spec import ScaleSpec
 
 
-def questionnaire_order(responses: Any) -> list[int]:
+def questionnaire_order(responses: Responses) -> list[int]:
     """Positions of the item columns in the order they stand in the data file (the order shown)."""
     return [responses.item_names.index(name) for name in responses.items_in_file_order()]
 
 
-def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
+def analyse_screen(spec: ScaleSpec, responses: Responses, *, duration_column: str | None = None, thresholds: Any = None,
                    duration_unit: str = "s") -> Any:
     """:class:`~scalewright.stats.screening.ScreenResult` of the responses (plain function; the report uses it)."""
     import numpy as np

@@ -7,15 +7,18 @@ integers, so everything computed from them is identical.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 from ..notes import note
 from ..summaries import Keyed, merge_all
 
+if TYPE_CHECKING:
+    from ..spec import ScaleSpec
 
-def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
+
+def category_levels(spec: ScaleSpec, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
     """The levels of a counted column in their natural order, each with the values as read that name it
     (``01`` and ``1`` both name level ``1``), and whether the column is numeric.
 
@@ -37,7 +40,7 @@ def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list
     return {key: [key] for key in sorted(keys, key=natural_key)}, False
 
 
-def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+def subgroup_split(spec: ScaleSpec, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
     """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
     the levels as read that make up each level (see :func:`category_levels`)."""
     from ..stats.subgroups import SubgroupSplit
@@ -53,7 +56,7 @@ def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> t
     return split, members
 
 
-def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | None = None,
+def tally_of_column(spec: ScaleSpec, summary: Any, column: str, *, order: Sequence | None = None,
                     min_cell: int = 5) -> Any:
     """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
     from ..stats.tally import tally_from_category_counts
@@ -66,7 +69,7 @@ def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | N
                              ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
 
 
-def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
+def tally_of_item(spec: ScaleSpec, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
                   min_cell: int = 5) -> Any:
     """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
     from ..stats.subgroups import level_name
@@ -219,7 +222,7 @@ def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = Fals
     return _counted_values(low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered), answered
 
 
-def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), items: bool = False,
+def shape_from_summaries(spec: ScaleSpec, summary: Any, *, by: Sequence[str] = (), items: bool = False,
                          percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                          min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
     """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
@@ -277,13 +280,13 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
     return {"scales": scales, "items": item_reports}
 
 
-def structure_from_summaries(spec: Any, summary: Any, **options: Any) -> Any:
+def structure_from_summaries(spec: ScaleSpec, summary: Any, **options: Any) -> Any:
     """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
     cross-products of every item (``joint`` in the plan)."""
     return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
 
 
-def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
+def structure_from_cross_products(spec: ScaleSpec, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
     """The factor structure from the listwise cross-products of the codes of every item of the scale file
     (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
     :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
@@ -312,7 +315,7 @@ def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None
     return replace(result, notes=(*notes, *result.notes)) if notes else result
 
 
-def one_factor_models_from_summaries(spec: Any, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
+def one_factor_models_from_summaries(spec: ScaleSpec, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
     """:func:`~scalewright.analyses.confirm.one_factor_models` from each scale's merged cross-products.
 
     The fit is a function of the covariance matrix and n only (:func:`~scalewright.stats.cfa_fit.fit`);

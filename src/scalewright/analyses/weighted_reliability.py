@@ -9,9 +9,13 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..data import Responses
+    from ..spec import ScaleSpec
 
 
 def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight_column: str,
@@ -61,7 +65,7 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
     return block
 
 
-def weighted_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
+def weighted_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (), confidence_level: float = 0.95,
                          min_group: int = 10, thresholds: Any = None) -> dict[str, dict[str, Any]]:
     """``{scale: {"all": block, "by": {column: {level: block}}}}`` for every scale of ``spec``."""
     from ..scoring import keyed_items
