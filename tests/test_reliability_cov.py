@@ -42,7 +42,7 @@ def rating_items() -> np.ndarray:
 
 
 def test_alpha_and_feldt_ci_match_pingouin_on_complete_data(rating_items):
-    # reference: pingouin.cronbach_alpha computed live (complete data only; REFERENCES.md known bug)
+    # reference: pingouin.cronbach_alpha computed live (complete data only; docs/references.md known bug)
     import pingouin
 
     stats = item_covariance(rating_items)

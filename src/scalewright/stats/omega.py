@@ -12,7 +12,7 @@ from ..results import ResultMixin
 from .item_covariance import correlation_from_cov, is_invertible
 
 #: factor_analyzer bounds uniquenesses (of standardized items) below at this value; a fit that ends there is
-#: a Heywood case it clipped silently (REFERENCES.md, known problems)
+#: a Heywood case it clipped silently (docs/references.md, known problems)
 FACTOR_ANALYZER_UNIQUENESS_FLOOR = 0.005
 HEYWOOD_TOLERANCE = 1e-3
 
