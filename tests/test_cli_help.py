@@ -85,7 +85,7 @@ def test_compare_tables_show_df_and_u_whole(tmp_path):
     data, scales = write_demo_inputs(tmp_path, seed=2, n=80)
     code, out, _ = _run(["compare", str(data), "-s", str(scales), "--by", "shift", "--format", "md"])
     assert code == 0
-    assert "Mann-Whitney" in out or "Kruskal" in out
+    assert "Kruskal" in out  # the demo's shift column has three levels
     for line in out.splitlines():
         if line.startswith("| Mann-Whitney U") or line.startswith("| Kruskal"):
             cells = [c.strip() for c in line.strip("|").split("|")]
