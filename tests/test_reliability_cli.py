@@ -3,58 +3,35 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 
 import numpy as np
 import pytest
 
 from scalewright.cli import main
 
-SCALES = """\
-version: 1
-title: Staff climate survey
-id_column: staff_id
-response: {min: 1, max: 5, missing_codes: [9]}
-scales:
-  workload:
-    title: Workload strain
-    items: [wl1, wl2, wl3, wl4]
-    reverse: [wl4]
-  climate:
-    title: Team climate
-    items: [cl1, cl2, cl3, cl4, cl5]
-"""
+from .survey_files import answers_csv, climate_scales, item_columns, rated_answers, run_json
+
+SCALES = climate_scales(high=5, missing_code=9)
 
 
 def make_rows(n: int, rng: np.random.Generator, *, miskey_cl3: bool = False) -> tuple[str, np.ndarray, np.ndarray]:
     factor = rng.standard_normal((n, 2))
-
-    def items(column: int, k: int) -> np.ndarray:
-        latent = 0.75 * factor[:, [column]] + 0.66 * rng.standard_normal((n, k))
-        return 1 + (latent[:, :, None] > np.array([-1.3, -0.4, 0.4, 1.3])).sum(axis=2)
-
-    workload = items(0, 4)
+    cuts = [-1.3, -0.4, 0.4, 1.3]
+    workload = rated_answers(factor[:, 0], 4, rng, loading=0.75, unique=0.66, cuts=cuts)
     workload[:, 3] = 6 - workload[:, 3]  # worded the other way, declared under `reverse`
-    climate = items(1, 5)
+    climate = rated_answers(factor[:, 1], 5, rng, loading=0.75, unique=0.66, cuts=cuts)
     if miskey_cl3:
         climate[:, 2] = 6 - climate[:, 2]  # worded the other way but not declared
     shift = np.where(np.arange(n) % 2 == 0, "day", "night").astype(object)
     shift[:4] = "on-call"
-    lines = ["staff_id,shift,wl1,wl2,wl3,wl4,cl1,cl2,cl3,cl4,cl5"]
-    for i in range(n):
-        lines.append(",".join([f"s{i:04d}", shift[i], *map(str, workload[i]), *map(str, climate[i])]))
-    return "\n".join(lines) + "\n", workload.astype(float), climate.astype(float)
+    columns = {"shift": shift, **item_columns("wl", workload), **item_columns("cl", climate)}
+    return answers_csv([f"s{i:04d}" for i in range(n)], columns), workload.astype(float), climate.astype(float)
 
 
 @pytest.fixture
 def files(write_file):
     text, workload, climate = make_rows(240, np.random.default_rng(77), miskey_cl3=True)
     return write_file("climate.csv", text), write_file("climate.yaml", SCALES), workload, climate
-
-
-def run_json(capsys, *args) -> dict:
-    assert main(list(args)) == 0
-    return json.loads(capsys.readouterr().out)
 
 
 def test_json_contract_and_values(files, capsys):
