@@ -50,7 +50,9 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
             ceiling[j] = 100 * w[answered][given == high].sum() / w[answered].sum()
         missing[j] = 100 * (total - w[answered].sum()) / total if total > 0 else np.nan
     described = replace(described, mean=mean, sd=sd, floor_pct=floor, ceiling_pct=ceiling, missing_pct=missing)
-    result = reliability_from_cov(cov, n_eff if np.isfinite(n_eff) else 0, item_names=item_names,
+    # Feldt's interval on Kish's effective n, which is fractional: the one caller passing a float n
+    result = reliability_from_cov(cov, n_eff if np.isfinite(n_eff) else 0,  # type: ignore[arg-type]
+                                  item_names=item_names,
                                   confidence_level=confidence_level,
                                   thresholds=thresholds or ReliabilityThresholds(), reversed_items=reversed_items,
                                   descriptives=described, n_rows=keyed.shape[0])
