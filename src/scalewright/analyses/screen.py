@@ -1,11 +1,13 @@
 """Careless-responding and data-quality indices of every respondent."""
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
     from ..data import Responses
     from ..spec import ScaleSpec
+    from ..stats.screen_rules import ScreenThresholds
+    from ..stats.screening import ScreenResult
 
 
 def questionnaire_order(responses: Responses) -> list[int]:
@@ -13,8 +15,8 @@ def questionnaire_order(responses: Responses) -> list[int]:
     return [responses.item_names.index(name) for name in responses.items_in_file_order()]
 
 
-def analyse_screen(spec: ScaleSpec, responses: Responses, *, duration_column: str | None = None, thresholds: Any = None,
-                   duration_unit: str = "s") -> Any:
+def analyse_screen(spec: ScaleSpec, responses: Responses, *, duration_column: str | None = None,
+                   thresholds: ScreenThresholds | None = None, duration_unit: str = "s") -> ScreenResult:
     """:class:`~scalewright.stats.screening.ScreenResult` of the responses (plain function; the report uses it)."""
     import numpy as np
 

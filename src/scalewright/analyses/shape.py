@@ -8,7 +8,9 @@ from ..seeds import DEFAULT_SEED
 
 if TYPE_CHECKING:
     from ..data import Responses
+    from ..scoring import ScoreTable
     from ..spec import Scale, ScaleSpec
+    from ..stats.shape import ShapeReport
 
 
 def score_axis(scale: Scale) -> dict[str, Any]:
@@ -33,7 +35,8 @@ def score_axis(scale: Scale) -> dict[str, Any]:
 
 def analyse_shape(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (), items: bool = False,
                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
-                  min_group: int = 10, seed: int = DEFAULT_SEED, scores: Any = None) -> dict[str, dict[str, Any]]:
+                  min_group: int = 10, seed: int = DEFAULT_SEED,
+                  scores: ScoreTable | None = None) -> dict[str, dict[str, ShapeReport]]:
     """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
 
     Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.

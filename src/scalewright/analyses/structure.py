@@ -9,6 +9,7 @@ import numpy as np
 if TYPE_CHECKING:
     from ..data import Responses
     from ..spec import ScaleSpec
+    from ..stats.structure import StructureResult
 
 
 @dataclass(frozen=True)
@@ -46,7 +47,8 @@ def joint_keyed_items(responses: Responses, spec: ScaleSpec) -> JointItems:
                       notes=tuple(notes))
 
 
-def analyse_structure_of_file(spec: ScaleSpec, responses: Responses, *, ordinal: bool = False, **options: Any) -> Any:
+def analyse_structure_of_file(spec: ScaleSpec, responses: Responses, *, ordinal: bool = False,
+                              **options: Any) -> StructureResult:
     """:func:`~scalewright.stats.structure.analyse_structure` of the joint item matrix of every scale.
 
     The joint matrix's notes (an item keyed one way in one scale and the other way in another) come first

@@ -6,7 +6,7 @@ integers, so everything computed from them is identical.
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -18,7 +18,7 @@ if TYPE_CHECKING:
     from ..spec import ScaleSpec
 
 
-def category_levels(spec: ScaleSpec, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
+def category_levels(spec: ScaleSpec | None, counts: CategoryCounts, column: str) -> tuple[dict[str, list[str]], bool]:
     """The levels of a counted column in their natural order, each with the values as read that name it
     (``01`` and ``1`` both name level ``1``), and whether the column is numeric.
 
@@ -40,7 +40,8 @@ def category_levels(spec: ScaleSpec, counts: Any, column: str) -> tuple[dict[str
     return {key: [key] for key in sorted(keys, key=natural_key)}, False
 
 
-def subgroup_split(spec: ScaleSpec, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+def subgroup_split(spec: ScaleSpec | None, summary: Summary, column: str, *,
+                   min_group: int) -> tuple[SubgroupSplit, dict[str, list[str]]]:
     """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
     the levels as read that make up each level (see :func:`category_levels`)."""
     from ..stats.subgroups import SubgroupSplit
@@ -56,8 +57,8 @@ def subgroup_split(spec: ScaleSpec, summary: Any, column: str, *, min_group: int
     return split, members
 
 
-def tally_of_column(spec: ScaleSpec, summary: Any, column: str, *, order: Sequence | None = None,
-                    min_cell: int = 5) -> Any:
+def tally_of_column(spec: ScaleSpec | None, summary: Summary, column: str, *, order: Sequence | None = None,
+                    min_cell: int = 5) -> Tally:
     """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
     from ..stats.tally import tally_from_category_counts
 
@@ -69,8 +70,8 @@ def tally_of_column(spec: ScaleSpec, summary: Any, column: str, *, order: Sequen
                              ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
 
 
-def tally_of_item(spec: ScaleSpec, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
-                  min_cell: int = 5) -> Any:
+def tally_of_item(spec: ScaleSpec, summary: Summary, item: str, *, order: Sequence | None = None,
+                  labels: Mapping | None = None, min_cell: int = 5) -> Tally:
     """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
     from ..stats.subgroups import level_name
     from ..stats.tally import tally_from_category_counts
@@ -86,7 +87,7 @@ def tally_of_item(spec: ScaleSpec, summary: Any, item: str, *, order: Sequence |
                              column=item)
 
 
-def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
+def level_summaries(summary: Summary, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
     """Per level name, the per-scale summaries of its rows (merged over the levels as read)."""
     by_level = summary["by"][column]
     return {name: merge_all([by_level[key] for key in raw]) for name, raw in members.items()}
@@ -205,7 +206,7 @@ def _counted_values(values: np.ndarray, counts: np.ndarray, n_missing: int) -> n
     return out
 
 
-def _score_sample(part: Any, *, scored_only: bool = False) -> Any:
+def _score_sample(part: Summary, *, scored_only: bool = False) -> Any:
     counts = part["scores"]
     if scored_only:
         return counts.n_rows - counts.n_missing
@@ -213,7 +214,7 @@ def _score_sample(part: Any, *, scored_only: bool = False) -> Any:
     return _counted_values(values, tallies, counts.n_missing), counts.n_rows - counts.n_missing
 
 
-def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
+def _item_sample(part: Summary, position: int, low: int, *, scored_only: bool = False) -> Any:
     answers = part["answers"]
     tallies = answers.tally[position]
     answered = int(tallies.sum())
@@ -222,7 +223,7 @@ def _item_sample(part: Any, position: int, low: int, *, scored_only: bool = Fals
     return _counted_values(low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered), answered
 
 
-def shape_from_summaries(spec: ScaleSpec, summary: Any, *, by: Sequence[str] = (), items: bool = False,
+def shape_from_summaries(spec: ScaleSpec, summary: Summary, *, by: Sequence[str] = (), items: bool = False,
                          percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                          min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
     """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
@@ -280,13 +281,14 @@ def shape_from_summaries(spec: ScaleSpec, summary: Any, *, by: Sequence[str] = (
     return {"scales": scales, "items": item_reports}
 
 
-def structure_from_summaries(spec: ScaleSpec, summary: Any, **options: Any) -> Any:
+def structure_from_summaries(spec: ScaleSpec, summary: Summary, **options: Any) -> StructureResult:
     """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
     cross-products of every item (``joint`` in the plan)."""
     return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
 
 
-def structure_from_cross_products(spec: ScaleSpec, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
+def structure_from_cross_products(spec: ScaleSpec, joint: ListwiseCrossProducts, *,
+                                  patterns: PatternSummary | None = None, **options: Any) -> StructureResult:
     """The factor structure from the listwise cross-products of the codes of every item of the scale file
     (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
     :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""

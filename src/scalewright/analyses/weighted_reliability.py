@@ -16,11 +16,13 @@ import numpy as np
 if TYPE_CHECKING:
     from ..data import Responses
     from ..spec import ScaleSpec
+    from ..stats.reliability_flags import ReliabilityThresholds
 
 
 def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight_column: str,
                                item_names: Sequence[str], low: float, high: float, confidence_level: float = 0.95,
-                               thresholds: Any = None, reversed_items: Sequence[str] = ()) -> dict[str, Any]:
+                               thresholds: ReliabilityThresholds | None = None,
+                               reversed_items: Sequence[str] = ()) -> dict[str, Any]:
     """The ``scales.<name>`` reliability block, weighted, with the weighted-block keys of the JSON contract."""
     from ..stats.item_analysis import item_descriptives
     from ..stats.reliability import reliability_from_cov
@@ -67,8 +69,9 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
     return block
 
 
-def weighted_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (), confidence_level: float = 0.95,
-                         min_group: int = 10, thresholds: Any = None) -> dict[str, dict[str, Any]]:
+def weighted_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (),
+                         confidence_level: float = 0.95, min_group: int = 10,
+                         thresholds: ReliabilityThresholds | None = None) -> dict[str, dict[str, Any]]:
     """``{scale: {"all": block, "by": {column: {level: block}}}}`` for every scale of ``spec``."""
     from ..scoring import keyed_items
     from ..stats.subgroups import split_by
