@@ -9,6 +9,15 @@ import numpy as np
 
 from scalewright.cli import main
 
+#: the 1-5 agreement answer format of the scale files of several tests (the ``response:`` block)
+AGREEMENT_1_TO_5 = """\
+response:
+  min: 1
+  max: 5
+  labels: {1: Strongly disagree, 2: Disagree, 3: Neither, 4: Agree, 5: Strongly agree}
+  missing_codes: [9]
+"""
+
 
 def climate_scales(*, high: int, missing_code: int, climate_items: int = 5, more: str = "") -> str:
     """A scale file of workload strain (wl1-wl4, wl4 reverse-keyed) and team climate (cl1, cl2, ...) on 1-``high``.
