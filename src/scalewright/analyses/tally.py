@@ -9,11 +9,13 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 from ..errors import UsageError
 
 if TYPE_CHECKING:
+    import pandas as pd
+
     from ..data import Responses
     from ..expected_file import ReferenceProportions
     from ..spec import ScaleSpec
@@ -23,7 +25,7 @@ if TYPE_CHECKING:
     from ..summaries import Summary
 
 #: the values of one column of the data file, by its name
-ColumnValues = Callable[[str], Any]
+ColumnValues = Callable[[str], "pd.Series"]
 
 
 @dataclass(frozen=True)
@@ -160,7 +162,8 @@ def answer_distributions(spec: ScaleSpec, *, responses: Responses | None = None,
     return out
 
 
-def _count_item_codes(spec: Any, responses: Any, names: Sequence[str], *, min_cell: int) -> dict[str, Any]:
+def _count_item_codes(spec: ScaleSpec | None, responses: Responses | None, names: Sequence[str], *,
+                      min_cell: int) -> dict[str, Tally]:
     """The tallies of the items among ``names``, every answer code of every item counted in one pass.
 
     Empty when there are no such items or their answers are not all held as codes (then each column is
@@ -171,8 +174,10 @@ def _count_item_codes(spec: Any, responses: Any, names: Sequence[str], *, min_ce
     from ..stats.coded import code_counts
     from ..stats.tally import tally_from_counts
 
-    items = [name for name in names if spec is not None and name in spec.items]
-    codes = responses.codes(items) if items and responses is not None else None
+    if spec is None or responses is None:
+        return {}
+    items = [name for name in names if name in spec.items]
+    codes = responses.codes(items) if items else None
     if codes is None:
         return {}
     counts = code_counts(codes)
