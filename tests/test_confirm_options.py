@@ -221,6 +221,7 @@ def test_finding_for_a_whole_file_model_that_misses_the_cutoffs(tmp_path, cross_
     assert found[0].anchor == "confirm"
     assert found[0].values["model"] == "all"
     whole = analysis.models["all"].indices
-    assert whole.cfi < 0.95 or whole.rmsea > 0.06 or whole.srmr > 0.08
+    # Hu & Bentler's (1999) RMSEA cut-off, .06: the miss the finding names
+    assert whole.rmsea > 0.06
     assert "RMSEA" in found[0].values["missed"]
     assert "Hu & Bentler 1999" in finding_sentence(found[0])
