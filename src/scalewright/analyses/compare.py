@@ -5,9 +5,9 @@ from collections.abc import Sequence
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from ..data import Responses
+    from ..responses import Responses
     from ..scoring import ScoreTable
-    from ..spec import ScaleSpec
+    from ..spec_model import ScaleSpec
     from ..stats.groups import Comparison
 
 

@@ -11,9 +11,9 @@ import numpy as np
 from ..concurrency import one_blas_thread
 
 if TYPE_CHECKING:
-    from ..data import Responses
     from ..notes import Note
-    from ..spec import Scale, ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import Scale, ScaleSpec
     from ..stats.cfa_fit import CfaFit
     from ..stats.cfa_model import CfaModel
     from ..stats.cfa_result import ConfirmedModel

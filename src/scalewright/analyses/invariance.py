@@ -11,8 +11,8 @@ from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
 if TYPE_CHECKING:
     import numpy as np
 
-    from ..data import Responses
-    from ..spec import ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
     from ..stats.cfa_model import CfaModel
     from ..stats.invariance import InvarianceResult
     from ..stats.subgroups import SubgroupSplit

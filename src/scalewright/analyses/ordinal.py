@@ -7,9 +7,9 @@ from typing import TYPE_CHECKING
 import numpy as np
 
 if TYPE_CHECKING:
-    from ..data import Responses
     from ..notes import Note
-    from ..spec import Scale, ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import Scale, ScaleSpec
     from ..stats.ordinal_reliability import OrdinalReliability
     from ..stats.polychoric_matrix import PolychoricMatrix
     from ..stats.reliability import ScaleReliability

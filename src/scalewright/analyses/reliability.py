@@ -5,8 +5,8 @@ from collections.abc import Sequence
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
-    from ..data import Responses
-    from ..spec import ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
     from ..stats.reliability_flags import ReliabilityThresholds
     from ..stats.reliability_groups import ScaleReliabilityReport
 

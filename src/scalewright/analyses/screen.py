@@ -4,8 +4,8 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:
-    from ..data import Responses
-    from ..spec import ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
     from ..stats.screen_rules import ScreenThresholds
     from ..stats.screening import ScreenResult
 

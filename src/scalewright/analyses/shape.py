@@ -7,9 +7,9 @@ from typing import TYPE_CHECKING, Any
 from ..seeds import DEFAULT_SEED
 
 if TYPE_CHECKING:
-    from ..data import Responses
+    from ..responses import Responses
     from ..scoring import ScoreTable
-    from ..spec import Scale, ScaleSpec
+    from ..spec_model import Scale, ScaleSpec
     from ..stats.shape import ShapeReport
 
 

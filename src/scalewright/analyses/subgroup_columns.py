@@ -16,7 +16,7 @@ from ..errors import UsageError
 from ..results import ResultMixin
 
 if TYPE_CHECKING:
-    from ..data import Responses
+    from ..responses import Responses
 
 #: the most levels a subgroup column may have unless ``--max-levels`` says otherwise (our own choice: beyond
 #: about twenty groups the tables and the pairwise tests stop being readable)

@@ -11,7 +11,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..notes import note
+from ..notes import Note, note
 from ..summaries import Keyed, merge_all
 
 if TYPE_CHECKING:
@@ -252,11 +252,11 @@ def shape_from_summaries(spec: ScaleSpec, summary: Summary, *, by: Sequence[str]
                       for level, size in sizes.items() if size >= min_group}
             split = SubgroupSplit(column=column, levels={}, too_small={k: v for k, v in sizes.items() if v < min_group},
                                   missing=overall_scored - sum(sizes.values()), min_size=min_group)
-            notes = list(split.notes())
+            split_notes: list[str | Note] = list(split.notes())
             if unscored:
-                notes.append(note("subgroup-unscored", unscored=unscored, column=column))
+                split_notes.append(note("subgroup-unscored", unscored=unscored, column=column))
             groups.append(SubgroupShapes(column=column, levels=levels, too_small=dict(split.too_small),
-                                         missing=split.missing, min_group=min_group, notes=tuple(notes)))
+                                         missing=split.missing, min_group=min_group, notes=tuple(split_notes)))
         return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=tuple(groups), x_label=x_label)
 
     scales: dict[str, Any] = {}

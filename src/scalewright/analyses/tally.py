@@ -16,9 +16,9 @@ from ..errors import UsageError
 if TYPE_CHECKING:
     import pandas as pd
 
-    from ..data import Responses
     from ..expected_file import ReferenceProportions
-    from ..spec import ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
     from ..stats.tally import AnswerDistribution, Tally
     from ..stats.tally_fit import FitResult
     from ..stats.weighted_tally import WeightedFit, WeightedTally

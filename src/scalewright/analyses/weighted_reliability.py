@@ -14,8 +14,8 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 if TYPE_CHECKING:
-    from ..data import Responses
-    from ..spec import ScaleSpec
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
     from ..stats.reliability_flags import ReliabilityThresholds
 
 
