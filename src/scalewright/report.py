@@ -21,6 +21,7 @@ from .seeds import DEFAULT_SEED  # one default for every command and the report
 
 if TYPE_CHECKING:
     from .analyses.confirm import ConfirmAnalysis
+    from .analyses.weighted_report import WeightedReport
     from .responses import Responses
     from .scoring import ScaleScores, ScoreTable
     from .spec_model import Scale, ScaleSpec
@@ -108,7 +109,7 @@ class ReportResults:
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
     #: with survey weights: analyses.weighted_report.WeightedReport (structure, confirm, screen weighted in place)
-    weighted: Any | None = None
+    weighted: WeightedReport | None = None
 
     @property
     def title(self) -> str:
@@ -159,7 +160,7 @@ class ReportResults:
                                     notes=list(self.input_notes)))
 
 
-def _add_weighted_blocks(body: dict[str, Any], weighted: Any) -> None:
+def _add_weighted_blocks(body: dict[str, Any], weighted: WeightedReport) -> None:
     """The weighted blocks of results.json, where each command puts them (beside the unweighted block)."""
     body["weighted"] = weighted.design
     for name, blocks in weighted.reliability.items():
@@ -240,7 +241,8 @@ def _confirm(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> C
     return analysis
 
 
-def _structure(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> StructureResult:
+def _structure(spec: ScaleSpec, responses: Responses, options: ReportOptions) \
+        -> StructureResult | tuple[StructureResult, dict[str, Any]]:
     # the structure command's own analysis: each item once, matched to its smallest scale
     from .analyses.structure import analyse_structure_of_file
 
@@ -334,10 +336,13 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     group_tallies = tally_columns(options.by, responses=responses, min_cell=options.min_cell)
 
     progress(STEPS[5])
-    structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    analysed = _structure(spec, responses, options) if len(spec.items) >= 2 else None
     weighted_structure = None
-    if isinstance(structure, tuple):  # weighted: the result and its weighted-block keys
-        structure, weighted_structure = structure
+    structure: StructureResult | None
+    if isinstance(analysed, tuple):  # weighted: the result and its weighted-block keys
+        structure, weighted_structure = analysed
+    else:
+        structure = analysed
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
@@ -364,7 +369,7 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
                             answers=answers[name])
         for name, scale in spec.scales.items()
     }
-    notes = []
+    notes: list[str] = []
     if structure is None:
         notes.append("the structure needs at least two items; it was not analysed")
     return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,

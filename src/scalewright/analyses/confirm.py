@@ -259,7 +259,7 @@ def analyse_confirm(spec: ScaleSpec, responses: Responses, *, pairwise: bool = F
                                 names=list(scales or spec.scales), whole_file=whole_file, weighted=weighted)
 
 
-def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, confidence_level: float,
+def _analyse_confirm(spec: ScaleSpec, responses: Responses, *, missing: str, ordinal: bool, confidence_level: float,
                      names: list[str], whole_file: bool, weighted: bool = False) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
     from ..notes import note
@@ -301,7 +301,7 @@ def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, 
             weighted_by_model[WHOLE_FILE] = given.weighted
         if not ordinal:  # observed score correlations need the covariances, not the polychoric correlations
             observed = observed_score_correlations(given.matrix, model.items, memberships)
-    notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    notes: tuple[Note, ...] = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
     if weighted:
         notes += (note("confirm-weighted", weight_column=responses.weights.column),)
     return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing,

@@ -1,13 +1,14 @@
 """Careless-responding and data-quality indices of every respondent."""
 from __future__ import annotations
 
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:
     from ..responses import Responses
     from ..spec_model import ScaleSpec
     from ..stats.screen_rules import ScreenThresholds
     from ..stats.screening import ScreenResult
+    from ..weights import SurveyWeights
 
 
 def questionnaire_order(responses: Responses) -> list[int]:
@@ -46,7 +47,7 @@ def analyse_screen(spec: ScaleSpec, responses: Responses, *, duration_column: st
                               duration_unit=duration_unit, weights=None if weights is None else weights.values)
 
 
-def weighted_screen_summary(result: Any, weights: Any) -> dict[str, Any]:
+def weighted_screen_summary(result: ScreenResult, weights: SurveyWeights) -> dict[str, Any]:
     """The shares of flagged respondents weighted (percent of the sum of weights) beside the unweighted counts.
 
     Flags are a respondent's own and do not depend on their weight; the weighted share says how much of the
