@@ -15,7 +15,12 @@ from ..notes import Note, note
 from ..summaries import Keyed, merge_all
 
 if TYPE_CHECKING:
-    from ..spec import ScaleSpec
+    from ..spec_model import ScaleSpec
+    from ..stats.missing_patterns import PatternSummary
+    from ..stats.structure import StructureResult
+    from ..stats.subgroups import SubgroupSplit
+    from ..stats.tally import Tally
+    from ..summaries import CategoryCounts, ListwiseCrossProducts, Summary
 
 
 def category_levels(spec: ScaleSpec | None, counts: CategoryCounts, column: str) -> tuple[dict[str, list[str]], bool]:
@@ -183,9 +188,10 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
                                            comparisons=compare_alphas(levels) if len(levels) >= 2 else (),
                                            notes=tuple(notes)))
         # the note on whether the answers call for --ordinal, from the answer counts (as analyses.ordinal does)
-        levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
-        tallies = np.array([[item.counts.get(level, 0) for level in levels] for item in overall.items.values()])
-        advice = ordinal_advice(tallies, len(levels), list(overall.items)) if len(tallies) else ()
+        answer_levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
+        tallies = np.array([[item.counts.get(level, 0) for level in answer_levels]
+                            for item in overall.items.values()])
+        advice = ordinal_advice(tallies, len(answer_levels), list(overall.items)) if len(tallies) else ()
         ordinal_result = None
         if ordinal:  # under em the pair tables use the pairwise rows, as on the whole-file route
             pairwise_rows = missing in ("pairwise", "em") if missing is not None else pairwise
