@@ -347,7 +347,7 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
     by_column = compared()
-    comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
+    comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
                                          for i, name in enumerate(spec.scales)}
     confirm = confirmed()
     weighted = None
