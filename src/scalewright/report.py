@@ -348,7 +348,7 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     screen = _screen(spec, responses, options) if responses.n else None
     by_column = compared()
     comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
-                                         for i, name in enumerate(spec.scales)}
+                                                for i, name in enumerate(spec.scales)}
     confirm = confirmed()
     weighted = None
     if _weighted(responses):
