@@ -5,17 +5,14 @@ from pathlib import Path
 
 import numpy as np
 
+from .survey_files import AGREEMENT_1_TO_5
+
 SCALES = """\
 version: 1
 title: Staff climate survey
 id_column: staff_id
 groups: [shift]
-response:
-  min: 1
-  max: 5
-  labels: {1: Strongly disagree, 2: Disagree, 3: Neither, 4: Agree, 5: Strongly agree}
-  missing_codes: [9]
-scales:
+""" + AGREEMENT_1_TO_5 + """scales:
   workload:
     title: Workload strain
     items: [wl1, wl2, wl3, wl4]

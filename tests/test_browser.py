@@ -68,7 +68,9 @@ def test_page_in_headless_chromium(report_folder, tmp_path):
             })""")
             assert len(drawn) == len(figure_files) >= 4
             for figure in drawn:
-                assert figure["w"] > 100 and figure["h"] > 50 and figure["shapes"] > 5, figure
+                assert figure["w"] > 100, figure
+                assert figure["h"] > 50, figure
+                assert figure["shapes"] > 5, figure
                 assert figure["label"]
                 assert figure["title"]
 

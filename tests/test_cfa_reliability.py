@@ -25,15 +25,20 @@ def test_omega_recovers_the_population_value():
     assert model_omega(result, range(6)).omega_total == pytest.approx(truth, abs=0.003)
 
 
-def test_omega_equals_the_reliability_commands_omega():
-    # reference: stats.omega (the one-factor omega that `reliability` reports; factor_analyzer-style ML fit)
-    from scalewright.stats.omega import omega_total_from_cov
+def test_omega_equals_omega_of_scikit_learns_ml_fit():
+    # reference: scikit-learn's FactorAnalysis (one-factor maximum likelihood) live on the same answers, omega =
+    # (sum lambda)^2 / ((sum lambda)^2 + sum theta) (McDonald 1999); omega does not change with the covariance
+    # divisor (n in scikit-learn, n - 1 here), which scales lambda^2 and theta alike
+    from sklearn.decomposition import FactorAnalysis
 
     rng = np.random.default_rng(2)
     loadings, phi, residuals = standardized_structure([6], [.8, .7, .6, .5, .6, .4], np.eye(1))
-    cov = np.cov(simulate(population_cov(loadings, phi, residuals), 600, rng), rowvar=False)
-    result = fit(cov, 600, factor_model({"f": ITEMS}))
-    assert model_omega(result, range(6)).omega_total == pytest.approx(omega_total_from_cov(cov), abs=1e-6)
+    x = simulate(population_cov(loadings, phi, residuals), 600, rng)
+    result = fit(np.cov(x, rowvar=False), 600, factor_model({"f": ITEMS}))
+    reference = FactorAnalysis(n_components=1, tol=1e-12, max_iter=20_000).fit(x)
+    common = reference.components_.sum() ** 2
+    assert model_omega(result, range(6)).omega_total == pytest.approx(
+        common / (common + reference.noise_variance_.sum()), abs=1e-6)
 
 
 def test_delta_method_standard_error_matches_the_monte_carlo_spread():

@@ -41,7 +41,8 @@ def test_every_help_ends_with_examples_that_parse(name):
     assert code == 0
     tail = [line.strip() for line in out.rstrip().splitlines()[-3:]]
     examples = [line for line in tail if line.startswith(f"scalewright {name}")]
-    assert 1 <= len(examples) <= 2 and tail[-1] == examples[-1], out
+    assert 1 <= len(examples) <= 2, out
+    assert tail[-1] == examples[-1], out
     command = cli.get_command(click.Context(cli), name)
     for example in examples:  # every option of the example exists and takes its value
         args = shlex.split(example)[2:]
@@ -84,7 +85,7 @@ def test_compare_tables_show_df_and_u_whole(tmp_path):
     data, scales = write_demo_inputs(tmp_path, seed=2, n=80)
     code, out, _ = _run(["compare", str(data), "-s", str(scales), "--by", "shift", "--format", "md"])
     assert code == 0
-    assert "Mann-Whitney" in out or "Kruskal" in out
+    assert "Kruskal" in out  # the demo's shift column has three levels
     for line in out.splitlines():
         if line.startswith("| Mann-Whitney U") or line.startswith("| Kruskal"):
             cells = [c.strip() for c in line.strip("|").split("|")]

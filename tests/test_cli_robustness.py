@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import json
+from functools import partial
 from importlib.resources import files
 
 import pytest
@@ -41,6 +42,10 @@ def degenerate(frame, case: str):
     return frame
 
 
+def _refuse_constant(command: str, name: str):
+    pytest.fail(f"{command}: {name} in JSON")
+
+
 @pytest.fixture(scope="module")
 def survey():
     frame, _ = demo_data.generate_staff_climate(seed=11, n=60)
@@ -61,4 +66,4 @@ def test_every_command_survives_degenerate_data(survey, case, tmp_path, capsys):
         assert "internal error" not in captured.err
         assert "Traceback" not in captured.err
         # the contract never carries NaN: strict JSON parsing refuses it
-        json.loads(captured.out, parse_constant=lambda name: pytest.fail(f"{command}: {name} in JSON"))
+        json.loads(captured.out, parse_constant=partial(_refuse_constant, command))

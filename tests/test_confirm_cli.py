@@ -9,63 +9,35 @@ import pytest
 from scalewright.cli import main
 
 from .conftest import folder_fingerprint
+from .survey_files import climate_scales, item_columns, rated_answers, run_confirm, write_answers
 
-SCALES = """\
-version: 1
-title: Staff climate survey
-id_column: staff_id
-response: {min: 1, max: 7, missing_codes: [99]}
-scales:
-  workload:
-    title: Workload strain
-    items: [wl1, wl2, wl3, wl4]
-    reverse: [wl4]
-  climate:
-    title: Team climate
-    items: [cl1, cl2, cl3, cl4, cl5]
-  pair:
-    title: Two items only
-    items: [pa1, pa2]
-"""
+SCALES = climate_scales(high=7, missing_code=99, more="  pair:\n    title: Two items only\n    items: [pa1, pa2]\n")
+#: 4 + 1.3 x rounded and kept within 1-7, as cut points of x
+CUTS = (np.arange(1.5, 7.0) - 4) / 1.3
 
 
 def write_survey(folder, n: int = 900, seed: int = 1, *, small_level: int = 0):
     """Answers on 1-7 from two correlated factors (and a pair of items), a shift column with three levels."""
     rng = np.random.default_rng(seed)
     factors = rng.multivariate_normal([0, 0, 0], [[1, .4, .3], [.4, 1, .3], [.3, .3, 1]], size=n)
-
-    def answers(column: int, k: int) -> np.ndarray:
-        latent = 0.8 * factors[:, [column]] + 0.6 * rng.standard_normal((n, k))
-        return np.clip(np.round(4 + 1.3 * latent), 1, 7).astype(int)
-
-    workload, climate, pair = answers(0, 4), answers(1, 5), answers(2, 2)
+    workload, climate, pair = [rated_answers(factors[:, column], k, rng, loading=0.8, unique=0.6, cuts=CUTS)
+                               for column, k in ((0, 4), (1, 5), (2, 2))]
     workload[:, 3] = 8 - workload[:, 3]
     shifts = np.array(["day", "night", "late"], dtype=object)[np.arange(n) % 3]
     if small_level:
         shifts[:small_level] = "weekend"
-    lines = ["staff_id,shift," + ",".join([f"wl{i}" for i in range(1, 5)] + [f"cl{i}" for i in range(1, 6)]
-                                           + ["pa1", "pa2"])]
-    for row in range(n):
-        values = [*workload[row], *climate[row], *pair[row]]
-        lines.append(f"s{row},{shifts[row]}," + ",".join(str(v) for v in values))
-    data = folder / "survey.csv"
-    data.write_text("\n".join(lines) + "\n")
+    columns = {"shift": shifts, **item_columns("wl", workload), **item_columns("cl", climate),
+               **item_columns("pa", pair)}
+    data = write_answers(folder / "survey.csv", [f"s{row}" for row in range(n)], columns)
     scales = folder / "scales.yaml"
     scales.write_text(SCALES)
     return data, scales
 
 
-def run_json(capsys, *args: str) -> dict:
-    code = main(["confirm", *args, "--format", "json"])
-    captured = capsys.readouterr()
-    assert code == 0, captured.err
-    return json.loads(captured.out)
-
-
 def test_confirm_json_contract(tmp_path, capsys):
     # reference: the keys of the JSON contract (issue text); values are checked in tests/test_cfa_*.py
     data, scales = write_survey(tmp_path)
-    document = run_json(capsys, str(data), "--scales", str(scales))
+    document = run_confirm(capsys, str(data), "--scales", str(scales))
     models = document["models"]
     assert set(models) == {"workload", "climate", "pair", "all"}
     workload = models["workload"]
@@ -98,7 +70,7 @@ def test_confirm_json_contract(tmp_path, capsys):
 def test_confirm_by_column_names_levels_left_out(tmp_path, capsys):
     # reference: issue text: levels below --min-group are named and left out; JSON keys of invariance
     data, scales = write_survey(tmp_path, small_level=20)
-    document = run_json(capsys, str(data), "--scales", str(scales), "--by", "shift", "--min-group", "50")
+    document = run_confirm(capsys, str(data), "--scales", str(scales), "--by", "shift", "--min-group", "50")
     workload = document["invariance"]["shift"]["workload"]
     assert workload["left_out"] == {"weekend": 20}
     assert set(workload) >= {"configural", "metric", "scalar", "steps", "level", "freed", "partial_scalar",

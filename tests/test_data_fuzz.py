@@ -51,9 +51,10 @@ def test_fuzzed_files_are_read_alike_or_refused_in_one_line(spec, tmp_path_facto
             try:
                 outcomes.append(read_responses(path, spec, lenient=True))
             except DataError as error:
-                assert "\n" not in str(error)
-                assert len(str(error)) < 2000
                 outcomes.append(str(error))
+        if isinstance(outcomes[-1], str):
+            assert "\n" not in outcomes[-1]
+            assert len(outcomes[-1]) < 2000
     quick, general = outcomes
     if isinstance(quick, str) or isinstance(general, str):
         assert quick == general

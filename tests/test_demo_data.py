@@ -172,7 +172,7 @@ def test_scores_track_the_true_latent_traits(scored, seed):
 
 @pytest.mark.parametrize("seed", SEEDS)
 def test_sample_alpha_agrees_with_the_population_reliability(scored, spec, seed):
-    # reference: pingouin.cronbach_alpha computed live on complete rows (REFERENCES.md: its listwise CI is off,
+    # reference: pingouin.cronbach_alpha computed live on complete rows (docs/references.md: its listwise CI is off,
     # so only complete rows are passed); sampling band from the Feldt, Woodruff & Salih (1987) F interval
     import pingouin
     from scipy import stats

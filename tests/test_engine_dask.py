@@ -59,7 +59,8 @@ def test_dask_dataset_equals_the_in_memory_run(cluster, dataset, options):
                                "--engine", "memory", *options)
     code_d, out_d, err_d = run("reliability", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
                                "--scheduler", cluster.scheduler_address, *options)
-    assert code_m == 0 and code_d == 0, (err_m, err_d)
+    assert code_m == 0, err_m
+    assert code_d == 0, err_d
     in_memory, on_dask = json.loads(out_m), json.loads(out_d)
     assert on_dask["engine"] == {"name": "dask", "scheduler": cluster.scheduler_address, "partitions": 4}
     assert without_provenance(on_dask) == without_provenance(in_memory)

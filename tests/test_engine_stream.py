@@ -31,7 +31,8 @@ def both_routes(command: str, data: Path, scales: Path, *options: str) -> tuple[
                                *options)
     code_s, out_s, err_s = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "stream",
                                "--block-size", SMALL_BLOCK, *options)
-    assert code_m == 0 and code_s == 0, (err_m, err_s)
+    assert code_m == 0, err_m
+    assert code_s == 0, err_s
     assert "read whole" not in err_s  # the streaming route was taken
     streamed = json.loads(out_s)
     assert streamed.pop("engine") == {"name": "stream"}
@@ -200,11 +201,13 @@ def test_tally_without_a_scale_file_and_numeric_columns(tmp_path):
 def assert_same_numbers(streamed, whole, path="$"):
     """Equal structure and texts, counts exactly; other numbers to 1e-12 (sums taken in another order)."""
     if isinstance(whole, dict):
-        assert isinstance(streamed, dict) and list(streamed) == list(whole), path
+        assert isinstance(streamed, dict), path
+        assert list(streamed) == list(whole), path
         for key in whole:
             assert_same_numbers(streamed[key], whole[key], f"{path}.{key}")
     elif isinstance(whole, list):
-        assert isinstance(streamed, list) and len(streamed) == len(whole), path
+        assert isinstance(streamed, list), path
+        assert len(streamed) == len(whole), path
         for index, (a, b) in enumerate(zip(streamed, whole, strict=True)):
             assert_same_numbers(a, b, f"{path}[{index}]")
     elif isinstance(whole, float) and not isinstance(whole, bool):

@@ -73,7 +73,8 @@ def test_broken_code_names_are_scale_file_problems(tmp_path, groups, message):
     scales = tmp_path / "s.yaml"
     scales.write_text(SCALE_FILE.replace(SCALE_FILE.splitlines()[2], f"groups: {groups}"), encoding="utf-8")
     spec, problems = check_spec(scales)
-    assert spec is None and any(message in str(p) for p in problems), problems
+    assert spec is None
+    assert any(message in str(p) for p in problems), problems
 
 
 def test_tables_and_sentences_use_the_names(tmp_path):
@@ -83,5 +84,7 @@ def test_tables_and_sentences_use_the_names(tmp_path):
         with contextlib.redirect_stdout(out):
             assert main([command[0], str(data), "-s", str(scales), *command[1:], "--format", "md"]) == 0
         text = out.getvalue()
-        assert "woman" in text and "man" in text, command
-        assert "gender = 1" not in text and not re.search(r"^\| [12] \|", text, re.M), command
+        assert "woman" in text, command
+        assert re.search(r"\bman\b", text), command
+        assert "gender = 1" not in text, command
+        assert not re.search(r"^\| [12] \|", text, re.M), command

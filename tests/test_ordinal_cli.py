@@ -1,12 +1,12 @@
 """`--ordinal` on reliability and structure, end to end on generated files."""
 from __future__ import annotations
 
-import json
-
 import numpy as np
 import pytest
 
 from scalewright.cli import main
+
+from .survey_files import answers_csv, item_columns, rated_answers, run_json
 
 SCALES = """\
 version: 1
@@ -30,17 +30,12 @@ def make_data(n: int, rng: np.random.Generator) -> str:
     columns: dict[str, np.ndarray] = {}
     for name, loadings in LOADINGS.items():
         factor = rng.standard_normal(n)
-        latent = factor[:, None] * loadings + rng.standard_normal((n, loadings.size)) * np.sqrt(1 - loadings**2)
-        answers = 1 + np.searchsorted(CUTS, latent)
-        prefix = "m" if name == "morale" else "v"
-        for j in range(loadings.size):
-            columns[f"{prefix}{j + 1}"] = answers[:, j]
+        answers = rated_answers(factor, loadings.size, rng, loading=loadings, unique=np.sqrt(1 - loadings**2),
+                                cuts=CUTS)
+        columns.update(item_columns("m" if name == "morale" else "v", answers))
     columns["m4"] = 5 - columns["m4"]  # worded the other way, declared under `reverse`
     columns["v2"][:40] = 9  # no answer
-    lines = ["staff_id," + ",".join(columns)]
-    for i in range(n):
-        lines.append(",".join([f"s{i:05d}", *(str(columns[c][i]) for c in columns)]))
-    return "\n".join(lines) + "\n"
+    return answers_csv([f"s{i:05d}" for i in range(n)], columns)
 
 
 @pytest.fixture(scope="module")
@@ -50,11 +45,6 @@ def files(tmp_path_factory):
     data.write_text(make_data(2000, np.random.default_rng(31)), encoding="utf-8")
     scales.write_text(SCALES, encoding="utf-8")
     return data, scales
-
-
-def run_json(capsys, *args) -> dict:
-    assert main(list(args)) == 0
-    return json.loads(capsys.readouterr().out)
 
 
 def test_reliability_ordinal_block_and_population_values(files, capsys) -> None:

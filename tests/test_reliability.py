@@ -13,7 +13,7 @@ from scalewright.results import to_jsonable
 from scalewright.stats.bootstrap import bootstrap_alpha
 from scalewright.stats.omega import fit_one_factor, omega_total_from_cov
 from scalewright.stats.reliability import reliability_from_cov, scale_reliability
-from scalewright.stats.reliability_coefficients import alpha_difference_test, cronbach_alpha_from_cov
+from scalewright.stats.reliability_coefficients import alpha_difference_test
 from scalewright.stats.reliability_flags import ReliabilityThresholds
 from scalewright.stats.reliability_groups import ScaleReliabilityReport, compare_alphas, reliability_by_group
 from scalewright.stats.subgroups import split_by
@@ -56,7 +56,7 @@ def test_omega_matches_congeneric_population_value(item_sd):
 
 def test_omega_three_items_closed_form_on_holzinger_swineford():
     # reference: semopy's bundled Holzinger & Swineford (1939) data; for three items the one-factor model is
-    # just identified: lambda_1 = sqrt(s12 s13 / s23) (cyclic), omega = (sum lambda)^2 / sum(S) (REFERENCES.md)
+    # just identified: lambda_1 = sqrt(s12 s13 / s23) (cyclic), omega = (sum lambda)^2 / sum(S) (docs/references.md)
     from semopy.examples import holzinger39
 
     data = holzinger39.get_data()[["x1", "x2", "x3"]].to_numpy(dtype=np.float64)
@@ -147,7 +147,10 @@ def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas(a
 
 
 def test_listwise_and_pairwise_missing_handling():
-    # reference: pandas dropna (listwise) and pandas.DataFrame.cov (pairwise)
+    # reference: pingouin.cronbach_alpha computed live, on the rows pandas dropna keeps (listwise) and with its
+    # nan_policy="pairwise" (alpha of pandas' pairwise DataFrame.cov)
+    import pingouin
+
     rng = np.random.default_rng(8)
     x = rating_scale(400, 5, rng)
     x[rng.random(x.shape) < 0.08] = np.nan
@@ -156,11 +159,12 @@ def test_listwise_and_pairwise_missing_handling():
     complete = pd.DataFrame(x).dropna()
     assert listwise.n_used == len(complete)
     assert listwise.n_set_aside == 400 - len(complete)
-    assert listwise.alpha == pytest.approx(cronbach_alpha_from_cov(complete.cov().to_numpy()), rel=1e-12)
+    assert listwise.alpha == pytest.approx(pingouin.cronbach_alpha(complete)[0], rel=1e-12)
     assert any("listwise" in note for note in listwise.notes)
     pairwise = scale_reliability(x, item_names=names, low=1, high=5, pairwise=True)
     assert pairwise.missing_handling == "pairwise"
-    assert pairwise.alpha == pytest.approx(cronbach_alpha_from_cov(pd.DataFrame(x).cov().to_numpy()), rel=1e-12)
+    assert pairwise.alpha == pytest.approx(pingouin.cronbach_alpha(pd.DataFrame(x), nan_policy="pairwise")[0],
+                                           rel=1e-12)
     assert any("pairwise" in note for note in pairwise.notes)
     assert pairwise.items["a"].missing_pct == pytest.approx(100 * np.isnan(x[:, 0]).mean(), rel=1e-12)
 
@@ -185,7 +189,7 @@ def test_miskeyed_item_is_flagged_and_clean_scale_is_not():
 
 def test_miskey_flag_on_pingouin_cronbach_alpha_data():
     # reference: pingouin's bundled `cronbach_alpha` data; its Q5 and Q6 have negative item-rest r
-    # (REFERENCES.md); pingouin's docstring alpha 0.5917 is checked live here
+    # (docs/references.md); pingouin's docstring alpha 0.5917 is checked live here
     import pingouin
 
     long = pingouin.read_dataset("cronbach_alpha")
@@ -250,12 +254,17 @@ def test_feldt_two_alpha_test_against_f_distribution():
     w, p = alpha_difference_test(0.70, 120, 0.85, 200)
     assert w == pytest.approx(0.30 / 0.15, rel=1e-12)
     assert p == pytest.approx(2 * f.sf(2.0, 119, 199), rel=1e-12)
-    # under the null, p-values are uniform: a size check on simulated equal-alpha groups
+    # under the null, p-values are uniform: a size check on simulated equal-alpha groups, each alpha by
+    # Cronbach's (1951) formula k/(k-1) (1 - sum s_j^2 / s_X^2) in numpy
+    def alpha(x):
+        k = x.shape[1]
+        return k / (k - 1) * (1 - x.var(axis=0, ddof=1).sum() / x.sum(axis=1).var(ddof=1))
+
     rng = np.random.default_rng(12)
     p_values = []
     for _ in range(200):
-        a = cronbach_alpha_from_cov(np.cov(rating_scale(60, 5, rng), rowvar=False))
-        b = cronbach_alpha_from_cov(np.cov(rating_scale(90, 5, rng), rowvar=False))
+        a = alpha(rating_scale(60, 5, rng))
+        b = alpha(rating_scale(90, 5, rng))
         p_values.append(alpha_difference_test(a, 60, b, 90)[1])
     assert 0.01 <= np.mean(np.array(p_values) < 0.05) <= 0.11  # nominal .05, Monte Carlo spread
 

@@ -3,48 +3,29 @@ from __future__ import annotations
 
 import csv
 import io
-import json
 
 import numpy as np
 import pytest
 
 from scalewright.cli import main
-from scalewright.stats.reliability_coefficients import cronbach_alpha_from_cov
 
-SCALES = """\
-version: 1
-title: Staff climate survey
-id_column: staff_id
-response: {min: 1, max: 5, missing_codes: [9]}
-scales:
-  workload:
-    title: Workload strain
-    items: [wl1, wl2, wl3, wl4]
-    reverse: [wl4]
-  climate:
-    title: Team climate
-    items: [cl1, cl2, cl3, cl4, cl5]
-"""
+from .survey_files import answers_csv, climate_scales, item_columns, rated_answers, run_json
+
+SCALES = climate_scales(high=5, missing_code=9)
 
 
 def make_rows(n: int, rng: np.random.Generator, *, miskey_cl3: bool = False) -> tuple[str, np.ndarray, np.ndarray]:
     factor = rng.standard_normal((n, 2))
-
-    def items(column: int, k: int) -> np.ndarray:
-        latent = 0.75 * factor[:, [column]] + 0.66 * rng.standard_normal((n, k))
-        return 1 + (latent[:, :, None] > np.array([-1.3, -0.4, 0.4, 1.3])).sum(axis=2)
-
-    workload = items(0, 4)
+    cuts = [-1.3, -0.4, 0.4, 1.3]
+    workload = rated_answers(factor[:, 0], 4, rng, loading=0.75, unique=0.66, cuts=cuts)
     workload[:, 3] = 6 - workload[:, 3]  # worded the other way, declared under `reverse`
-    climate = items(1, 5)
+    climate = rated_answers(factor[:, 1], 5, rng, loading=0.75, unique=0.66, cuts=cuts)
     if miskey_cl3:
         climate[:, 2] = 6 - climate[:, 2]  # worded the other way but not declared
     shift = np.where(np.arange(n) % 2 == 0, "day", "night").astype(object)
     shift[:4] = "on-call"
-    lines = ["staff_id,shift,wl1,wl2,wl3,wl4,cl1,cl2,cl3,cl4,cl5"]
-    for i in range(n):
-        lines.append(",".join([f"s{i:04d}", shift[i], *map(str, workload[i]), *map(str, climate[i])]))
-    return "\n".join(lines) + "\n", workload.astype(float), climate.astype(float)
+    columns = {"shift": shift, **item_columns("wl", workload), **item_columns("cl", climate)}
+    return answers_csv([f"s{i:04d}" for i in range(n)], columns), workload.astype(float), climate.astype(float)
 
 
 @pytest.fixture
@@ -53,13 +34,11 @@ def files(write_file):
     return write_file("climate.csv", text), write_file("climate.yaml", SCALES), workload, climate
 
 
-def run_json(capsys, *args) -> dict:
-    assert main(list(args)) == 0
-    return json.loads(capsys.readouterr().out)
-
-
 def test_json_contract_and_values(files, capsys):
-    # reference: numpy covariance of the keyed items (wl4 reversed as 6 - x) for alpha; the contract of DESIGN.md
+    # reference: pingouin.cronbach_alpha live on the keyed items (wl4 reversed as 6 - x); the contract of DESIGN.md
+    import pandas as pd
+    import pingouin
+
     data, scales, workload, climate = files
     document = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json")
     assert document["tool"]["name"] == "scalewright"
@@ -70,7 +49,7 @@ def test_json_contract_and_values(files, capsys):
         assert key in block
     keyed = workload.copy()
     keyed[:, 3] = 6 - keyed[:, 3]
-    assert block["alpha"] == pytest.approx(cronbach_alpha_from_cov(np.cov(keyed, rowvar=False)), rel=1e-12)
+    assert block["alpha"] == pytest.approx(pingouin.cronbach_alpha(pd.DataFrame(keyed))[0], rel=1e-12)
     assert block["n_used"] == 240
     assert block["k"] == 4
     for key in ("mean", "sd", "item_rest_r", "alpha_if_deleted", "omega_if_deleted", "missing_pct", "floor_pct",

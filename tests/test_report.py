@@ -234,7 +234,8 @@ def test_summary_table_uses_apa_numbers_and_decimals(built, tmp_path):
         assert f"{alpha[1:]} [{low[1:]}, {high[1:]}]" in summary  # bounded: no leading zero
         assert alpha not in summary
     html = (built.folder / "index.html").read_text(encoding="utf-8")
-    assert "&lt; .001" in html or "< .001" not in html  # p-values: never "0.000"
+    assert "&lt; .001" in html  # p-values: never "0.000"
+    assert "< .001" not in html
     assert ">0.000<" not in html
 
 

@@ -11,17 +11,14 @@ import pytest
 
 from scalewright.cli import main
 
+from .survey_files import AGREEMENT_1_TO_5
+
 SCALE_FILE = """\
 version: 1
 title: Staff climate survey (fictional hospital network)
 id_column: staff_id
 groups: [site]
-response:
-  min: 1
-  max: 5
-  labels: {1: Strongly disagree, 2: Disagree, 3: Neither, 4: Agree, 5: Strongly agree}
-  missing_codes: [9]
-scales:
+""" + AGREEMENT_1_TO_5 + """scales:
   support:
     title: Team support
     items: [ts1, ts2, ts3, ts4]

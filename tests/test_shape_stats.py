@@ -54,7 +54,7 @@ def _pairs(centre, low, high):
     return np.r_[centre, np.tile([low, high], 500)]
 
 
-# NIST StRD univariate summary statistics, certified values (as listed in REFERENCES.md)
+# NIST StRD univariate summary statistics, certified values (as listed in docs/references.md)
 @pytest.mark.parametrize(("values", "mean", "sd", "rtol"), [
     (np.array([10000001.0, 10000003.0, 10000002.0]), 10000002.0, 1.0, 1e-13),
     (_pairs(1.2, 1.1, 1.3), 1.2, 0.1, 1e-13),
@@ -130,13 +130,13 @@ def test_bimodality_coefficient_of_reference_distributions():
 
 
 def test_dip_of_two_equal_point_masses_is_a_quarter():
-    # Hartigan & Hartigan (1985); REFERENCES.md: 50 zeros and 50 ones give dip 0.25
+    # Hartigan & Hartigan (1985); docs/references.md: 50 zeros and 50 ones give dip 0.25
     x = np.r_[np.zeros(50), np.ones(50)]
     assert dip_test_jittered(x, resolution=0.0).dip == pytest.approx(0.25, abs=1e-12)
 
 
 def test_jittered_dip_test_does_not_reject_unimodal_tied_data():
-    # REFERENCES.md (known problem): the plain dip test gives p ~ 0 for unimodal rating data
+    # docs/references.md (known problem): the plain dip test gives p ~ 0 for unimodal rating data
     import diptest
 
     rng = np.random.default_rng(5)

@@ -226,9 +226,9 @@ def test_loadings_match_factor_analyzer_run_directly(two_factor_data, rotation):
 
     x = two_factor_data[0][:1000]
     ours = fit_factors(correlation_of(x), 2, method="minres", rotation=rotation)
-    reference = FactorAnalyzer(n_factors=2, rotation=rotation, method="minres", use_smc=True,
-                               is_corr_matrix=False, bounds=(0.005, 1), impute="drop",
-                               svd_method="lapack", rotation_kwargs={}).fit(x)  # factor_analyzer, live
+    # reference: factor_analyzer 0.5.1 live on the raw answers, with its documented defaults for everything
+    # but the method and rotation asked for (its own rotation step, ordering and options; complete data)
+    reference = FactorAnalyzer(n_factors=2, rotation=rotation, method="minres").fit(x)
     order, signs = match_columns(ours.loadings, reference.loadings_)
     np.testing.assert_allclose(reference.loadings_[:, order] * signs, ours.loadings, atol=1e-4)
     if rotation != "varimax":
@@ -237,6 +237,48 @@ def test_loadings_match_factor_analyzer_run_directly(two_factor_data, rotation):
                                    ours.factor_correlations, atol=1e-4)
     else:
         np.testing.assert_array_equal(ours.factor_correlations, np.eye(2))
+
+
+@pytest.mark.parametrize("rotation", ["oblimin", "varimax"])
+def test_minres_common_part_matches_a_fit_written_here(two_factor_data, rotation):
+    # reference independent of factor_analyzer: minimum residuals (Harman & Jones 1966) written here, numpy's
+    # eigen-decomposition of R with 1 - psi on the diagonal and scipy.optimize.minimize over the uniquenesses
+    # psi. A rotation leaves the common part Lambda Phi Lambda' unchanged, so that is compared.
+    from scipy.optimize import minimize
+
+    x = two_factor_data[0][:1000]
+    r = np.corrcoef(x, rowvar=False)
+
+    def loadings_at(psi):
+        values, vectors = np.linalg.eigh(r - np.diag(psi))
+        return vectors[:, -2:] * np.sqrt(np.clip(values[-2:], 0, None))
+
+    def off_diagonal_residuals(psi):
+        residual = r - loadings_at(psi) @ loadings_at(psi).T
+        np.fill_diagonal(residual, 0)
+        return float((residual**2).sum())
+
+    start = 1 / np.diag(np.linalg.inv(r))  # 1 - squared multiple correlation
+    best = minimize(off_diagonal_residuals, start, method="L-BFGS-B", bounds=[(0.005, 1)] * len(r),
+                    options={"ftol": 1e-15, "gtol": 1e-10})
+    common = loadings_at(best.x) @ loadings_at(best.x).T
+    ours = fit_factors(correlation_of(x), 2, method="minres", rotation=rotation)
+    np.testing.assert_allclose(ours.loadings @ ours.factor_correlations @ ours.loadings.T, common, atol=1e-5)
+    np.testing.assert_allclose(ours.communalities, np.diag(common), atol=1e-5)
+
+
+def test_ml_common_part_matches_scikit_learn(two_factor_data):
+    # reference: scikit-learn's FactorAnalysis (maximum likelihood, its own SVD-based algorithm) live on the
+    # standardized answers; ML is scale-free, so its common part is that of the correlation matrix
+    from sklearn.decomposition import FactorAnalysis
+
+    x = two_factor_data[0][:1000]
+    z = (x - x.mean(axis=0)) / x.std(axis=0)
+    reference = FactorAnalysis(n_components=2, tol=1e-10, max_iter=20_000).fit(z)
+    ours = fit_factors(correlation_of(x), 2, method="ml", rotation="oblimin")
+    np.testing.assert_allclose(ours.loadings @ ours.factor_correlations @ ours.loadings.T,
+                               reference.components_.T @ reference.components_, atol=1e-5)
+    np.testing.assert_allclose(ours.uniquenesses, reference.noise_variance_, atol=1e-5)
 
 
 @pytest.mark.parametrize("rotation", ["oblimin", "promax"])
@@ -256,10 +298,9 @@ def test_factor_correlations_follow_the_loadings_with_three_or_more_factors(rota
     recovered = ours.factor_correlations[np.ix_(order, order)] * np.outer(signs, signs)
     if rotation == "oblimin":
         np.testing.assert_allclose(recovered, phi, atol=0.04)
-    # factor_analyzer's structure matrix (loadings @ phi) IS reordered with its loadings, so it checks ours
-    reference = FactorAnalyzer(n_factors=3, rotation=rotation, method="minres", use_smc=True,
-                               is_corr_matrix=False, bounds=(0.005, 1), impute="drop",
-                               svd_method="lapack", rotation_kwargs={}).fit(x)
+    # factor_analyzer's structure matrix (loadings @ phi) IS reordered with its loadings, so it checks ours;
+    # factor_analyzer 0.5.1 live with its documented defaults but for the method and rotation
+    reference = FactorAnalyzer(n_factors=3, rotation=rotation, method="minres").fit(x)
     ref_order, ref_signs = match_columns(ours.loadings, reference.loadings_)
     np.testing.assert_allclose(reference.structure_[:, ref_order] * ref_signs,
                                ours.loadings @ ours.factor_correlations, atol=1e-4)
@@ -412,7 +453,7 @@ def test_unidimensionality_closed_forms():
     assert summary.eigen_ratio == pytest.approx((1 + (k - 1) * r) / (1 - r), rel=1e-10)
     # one-factor loadings of equicorrelated items are sqrt(r): variance explained r (closed form)
     assert summary.variance_one_factor == pytest.approx(r, abs=1e-4)
-    # three items: the model is just identified, lambda_1 = sqrt(r12 r13 / r23) (REFERENCES.md, McDonald 1999)
+    # three items: the model is just identified, lambda_1 = sqrt(r12 r13 / r23) (docs/references.md, McDonald 1999)
     r12, r13, r23 = 0.5, 0.4, 0.3
     corr3 = np.array([[1, r12, r13], [r12, 1, r23], [r13, r23, 1]])
     expected = np.array([r12 * r13 / r23, r12 * r23 / r13, r13 * r23 / r12])
@@ -472,10 +513,12 @@ def test_degenerate_inputs_do_not_crash_and_json_has_no_nan():
     x = rng.standard_normal((30, 3))
     cases.append(np.column_stack([x, x[:, 0]]))                        # duplicated item: singular matrix
     cases.append(rng.standard_normal((4, 4)))                          # no more respondents than items
-    for data in cases:
+    without_variance = [set(), {"b1"}, {"a1", "a2", "a3"}, {"a1", "a2", "a3", "b1"}, set(), set()]
+    for data, silent in zip(cases, without_variance, strict=True):
         result = analyse_structure(data, item_names=names, item_scale=scales, iterations=5)
         text = json.dumps(result.to_dict(), allow_nan=False)
-        assert result.notes or result.flags, text
+        assert result.notes, text  # every degenerate case says what it could not do
+        assert {f.item for f in result.flags if f.code == "no-variance"} == silent, text
     no_variance = analyse_structure(cases[1], item_names=names, item_scale=scales, iterations=5)
     assert ("b1", "no-variance") in {(f.item, f.code) for f in no_variance.flags}
     assert no_variance.items == ("a1", "a2", "a3")

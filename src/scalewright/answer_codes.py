@@ -33,7 +33,7 @@ class ItemAnswers:
     gives ``None``).
     """
 
-    def __init__(self, lows: Sequence[int], highs: Sequence[int]) -> None:
+    def __init__(self, lows: Sequence[int] | np.ndarray, highs: Sequence[int] | np.ndarray) -> None:
         self.lows = np.asarray(lows, dtype=np.int64)
         self.highs = np.asarray(highs, dtype=np.int64)
         self._values: np.ndarray | None = None
@@ -41,33 +41,46 @@ class ItemAnswers:
         self._lock = threading.Lock()  # analyses of several scales may ask for the same form at once
 
     @classmethod
-    def from_values(cls, values: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> ItemAnswers:
+    def from_values(cls, values: np.ndarray, lows: Sequence[int] | np.ndarray,
+                    highs: Sequence[int] | np.ndarray) -> ItemAnswers:
         answers = cls(lows, highs)
         answers._values = _read_only(values)
         return answers
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, lows: Sequence[int], highs: Sequence[int]) -> ItemAnswers:
+    def from_codes(cls, codes: np.ndarray, lows: Sequence[int] | np.ndarray,
+                   highs: Sequence[int] | np.ndarray) -> ItemAnswers:
         answers = cls(lows, highs)
         answers._codes = (_read_only(codes), np.ones(codes.shape[1], dtype=bool))
         return answers
 
     @property
     def n(self) -> int:
-        return int((self._values if self._values is not None else self._codes[0]).shape[0])
+        return int((self._values if self._values is not None else self._built_codes()).shape[0])
+
+    # built by from_values or from_codes, it holds at least one of the two forms
+    def _built_codes(self) -> np.ndarray:
+        if self._codes is None:
+            raise RuntimeError("answers built without values or codes")
+        return self._codes[0]
+
+    def _built_values(self) -> np.ndarray:
+        if self._values is None:
+            raise RuntimeError("answers built without values or codes")
+        return self._values
 
     @property
     def values(self) -> np.ndarray:
         """Answers as float64 (n x k, column-major), NaN where missing."""
         with self._lock:
             if self._values is None:
-                self._values = _read_only(_values_from_codes(self._codes[0], self.lows))
+                self._values = _read_only(_values_from_codes(self._built_codes(), self.lows))
             return self._values
 
     def _codes_and_usable(self) -> tuple[np.ndarray, np.ndarray]:
         with self._lock:
             if self._codes is None:
-                codes, usable = _codes_from_values(self._values, self.lows, self.highs)
+                codes, usable = _codes_from_values(self._built_values(), self.lows, self.highs)
                 self._codes = (_read_only(codes), usable)
             return self._codes
 

@@ -7,7 +7,7 @@ import warnings
 from collections.abc import Callable, Iterable, Iterator
 from concurrent.futures import ThreadPoolExecutor
 from contextlib import contextmanager
-from typing import TypeVar
+from typing import TypeVar, cast
 
 #: the warnings filters are process-wide: code that records warnings takes turns under this lock, since the
 #: analyses of several scales run in threads
@@ -92,7 +92,7 @@ def start_in_process(work: Callable[[], Result]) -> Callable[[], Result]:
 
     def result() -> Result:
         try:
-            return future.result()
+            return cast(Result, future.result())  # what work() returned, pickled back
         finally:
             pool.shutdown()
 

@@ -91,8 +91,9 @@ def ids_as_text(raw: pd.Series, path_text: str = "", line_numbers: np.ndarray | 
         values = raw.to_numpy(dtype=np.float64)
         too_long = np.abs(values) >= 2.0**53  # beyond this a float no longer holds every whole number
         if too_long.any():
-            raise DataError(Problem(file=path_text, where=f"row {line_numbers[np.flatnonzero(too_long)[0]]}, column "
-                                                          f"{raw.name}",
+            first = int(np.flatnonzero(too_long)[0])
+            row = f"row {line_numbers[first]}, " if line_numbers is not None else ""
+            raise DataError(Problem(file=path_text, where=f"{row}column {raw.name}",
                                     message=f"the id {values[too_long][0]:.17g} is a number too long to be held "
                                             "exactly (the file stores it as a number); store the ids as text"))
         if np.all(np.mod(values, 1) == 0):

@@ -55,9 +55,9 @@ def _pick_column(header: list[str], id_column: str | None) -> int:
     for wanted in (id_column, "id"):
         if wanted is None:
             continue
-        for matcher in (lambda name: name == wanted, lambda name: name.casefold() == wanted.casefold()):
+        for fold in (False, True):
             for position, name in enumerate(stripped):
-                if matcher(name):
+                if (name.casefold() == wanted.casefold()) if fold else (name == wanted):
                     return position
     return 0
 

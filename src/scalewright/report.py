@@ -10,7 +10,7 @@ import datetime as _dt
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from functools import partial
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from . import __version__
 from .analyses.subgroup_columns import DEFAULT_MAX_LEVELS
@@ -18,6 +18,19 @@ from .errors import UsageError
 from .present.document import InputInfo, envelope
 from .results import to_jsonable
 from .seeds import DEFAULT_SEED  # one default for every command and the report
+
+if TYPE_CHECKING:
+    from .analyses.confirm import ConfirmAnalysis
+    from .analyses.weighted_report import WeightedReport
+    from .responses import Responses
+    from .scoring import ScaleScores, ScoreTable
+    from .spec_model import Scale, ScaleSpec
+    from .stats.groups import Comparison
+    from .stats.reliability_groups import ScaleReliabilityReport
+    from .stats.screening import ScreenResult
+    from .stats.shape import ShapeReport
+    from .stats.structure import StructureResult
+    from .stats.tally import AnswerDistribution, Tally
 
 #: steps :func:`build_report` announces to its progress callback
 STEPS = ("scoring", "reliability", "score shapes", "subgroup comparisons", "answer distributions",
@@ -66,12 +79,12 @@ class ScaleFindings:
     """Every result about one scale. A result is None when its analysis could not be run (see ``notes``)."""
 
     name: str
-    scale: Any                      # spec_model.Scale
-    scores: Any                     # scoring.ScaleScores
-    reliability: Any | None         # stats.reliability_groups.ScaleReliabilityReport
-    shape: Any | None               # stats.shape.ShapeReport (overall and one SubgroupShapes per --by column)
-    comparisons: tuple[Any, ...]    # stats.groups.Comparison, one per --by column (Holm across scales)
-    answers: Any | None             # stats.tally.AnswerDistribution of the answer codes as given
+    scale: Scale
+    scores: ScaleScores
+    reliability: ScaleReliabilityReport | None
+    shape: ShapeReport | None               # overall and one SubgroupShapes per --by column
+    comparisons: tuple[Comparison, ...]     # one per --by column (Holm across scales)
+    answers: AnswerDistribution | None      # of the answer codes as given
     notes: tuple[str, ...] = ()
 
 
@@ -79,24 +92,24 @@ class ScaleFindings:
 class ReportResults:
     """One finished set of results: what :func:`build_report` returns and every renderer reads."""
 
-    spec: Any
+    spec: ScaleSpec
     info: InputInfo
     options: ReportOptions
     n_rows: int
     n_excluded: int
     reading: dict[str, Any]
     input_notes: tuple[str, ...]
-    score_table: Any
+    score_table: ScoreTable
     scales: Mapping[str, ScaleFindings]
-    structure: Any | None
-    screen: Any | None
-    group_tallies: tuple[Any, ...]
+    structure: StructureResult | None
+    screen: ScreenResult | None
+    group_tallies: tuple[Tally, ...]
     created: str
-    confirm: Any | None = None      # analyses.confirm.ConfirmAnalysis (with invariance when --by is given)
+    confirm: ConfirmAnalysis | None = None  # with invariance when --by is given
     version: str = __version__
     notes: tuple[str, ...] = field(default=())
     #: with survey weights: analyses.weighted_report.WeightedReport (structure, confirm, screen weighted in place)
-    weighted: Any | None = None
+    weighted: WeightedReport | None = None
 
     @property
     def title(self) -> str:
@@ -147,7 +160,7 @@ class ReportResults:
                                     notes=list(self.input_notes)))
 
 
-def _add_weighted_blocks(body: dict[str, Any], weighted: Any) -> None:
+def _add_weighted_blocks(body: dict[str, Any], weighted: WeightedReport) -> None:
     """The weighted blocks of results.json, where each command puts them (beside the unweighted block)."""
     body["weighted"] = weighted.design
     for name, blocks in weighted.reliability.items():
@@ -185,7 +198,7 @@ def _no_progress(step: str) -> None:
     return None
 
 
-def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str, Any]:
+def _reliability(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> dict[str, ScaleReliabilityReport]:
     # the reliability command's own (click-free) analysis function, so both give the same numbers
     from .analyses.reliability import analyse_reliability
 
@@ -193,7 +206,8 @@ def _reliability(spec: Any, responses: Any, options: ReportOptions) -> dict[str,
                                min_group=options.min_group, missing=options.missing)
 
 
-def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> dict[str, Any]:
+def _shape(spec: ScaleSpec, responses: Responses, options: ReportOptions,
+           scores: ScoreTable) -> dict[str, ShapeReport]:
     # the shape command's own (click-free) analysis function, on the scores already made
     from .analyses.shape import analyse_shape
 
@@ -201,11 +215,11 @@ def _shape(spec: Any, responses: Any, options: ReportOptions, scores: Any) -> di
                          scores=scores)["scales"]
 
 
-def _weighted(responses: Any) -> bool:
+def _weighted(responses: Responses) -> bool:
     return getattr(responses, "weights", None) is not None
 
 
-def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
+def _confirm(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> ConfirmAnalysis:
     # the confirm command's own analysis: models per scale and of the whole file, invariance by --by columns
     from .analyses.confirm import analyse_confirm
     from .analyses.invariance import analyse_invariance
@@ -227,7 +241,8 @@ def _confirm(spec: Any, responses: Any, options: ReportOptions) -> Any:
     return analysis
 
 
-def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
+def _structure(spec: ScaleSpec, responses: Responses, options: ReportOptions) \
+        -> StructureResult | tuple[StructureResult, dict[str, Any]]:
     # the structure command's own analysis: each item once, matched to its smallest scale
     from .analyses.structure import analyse_structure_of_file
 
@@ -240,7 +255,7 @@ def _structure(spec: Any, responses: Any, options: ReportOptions) -> Any:
                                      missing=options.missing)
 
 
-def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
+def _screen(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> ScreenResult:
     # the screen command's own analysis function: items in questionnaire order, durations if named
 
     from .analyses.screen import analyse_screen
@@ -249,7 +264,7 @@ def _screen(spec: Any, responses: Any, options: ReportOptions) -> Any:
                           duration_unit=options.duration_unit)
 
 
-def check_columns(responses: Any, options: ReportOptions) -> None:
+def check_columns(responses: Responses, options: ReportOptions) -> None:
     """Raise ``DataError`` (naming the closest column) when a subgroup or duration column is not in the data, and
     ``UsageError`` when a subgroup column has more than ``options.max_levels`` levels or survey weights come
     with a missing-answer method other than listwise."""
@@ -263,7 +278,7 @@ def check_columns(responses: Any, options: ReportOptions) -> None:
                          f"answers), not {options.missing}")
 
 
-def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportOptions = ReportOptions(),
+def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, options: ReportOptions = ReportOptions(),
                  input_notes: Sequence[str] = (), n_excluded: int = 0,
                  progress: Callable[[str], None] = _no_progress,
                  today: _dt.date | None = None) -> ReportResults:
@@ -321,16 +336,19 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
     group_tallies = tally_columns(options.by, responses=responses, min_cell=options.min_cell)
 
     progress(STEPS[5])
-    structure = _structure(spec, responses, options) if len(spec.items) >= 2 else None
+    analysed = _structure(spec, responses, options) if len(spec.items) >= 2 else None
     weighted_structure = None
-    if isinstance(structure, tuple):  # weighted: the result and its weighted-block keys
-        structure, weighted_structure = structure
+    structure: StructureResult | None
+    if isinstance(analysed, tuple):  # weighted: the result and its weighted-block keys
+        structure, weighted_structure = analysed
+    else:
+        structure = analysed
 
     progress(STEPS[6])
     screen = _screen(spec, responses, options) if responses.n else None
     by_column = compared()
-    comparisons: dict[str, list[Any]] = {name: [by_column[column][i] for column in options.by]
-                                         for i, name in enumerate(spec.scales)}
+    comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
+                                                for i, name in enumerate(spec.scales)}
     confirm = confirmed()
     weighted = None
     if _weighted(responses):
@@ -351,7 +369,7 @@ def build_report(spec: Any, responses: Any, *, info: InputInfo, options: ReportO
                             answers=answers[name])
         for name, scale in spec.scales.items()
     }
-    notes = []
+    notes: list[str] = []
     if structure is None:
         notes.append("the structure needs at least two items; it was not analysed")
     return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,

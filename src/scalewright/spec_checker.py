@@ -42,9 +42,9 @@ class SpecChecker(NodeReader):
             if base is None:
                 self.problem(node, where, "the answer format needs at least `min` and `max`")
             return base
-        low = self.number(keys["min"][1], f"{where}.min", integer=True) if "min" in keys else \
+        low = self.whole_number(keys["min"][1], f"{where}.min") if "min" in keys else \
             (base.min if base else None)
-        high = self.number(keys["max"][1], f"{where}.max", integer=True) if "max" in keys else \
+        high = self.whole_number(keys["max"][1], f"{where}.max") if "max" in keys else \
             (base.max if base else None)
         for name in ("min", "max"):
             if name not in keys and base is None:
@@ -72,7 +72,7 @@ class SpecChecker(NodeReader):
             seen_texts: dict[str, int] = {}
             for code_text, (code_node, text_node) in (label_map or {}).items():
                 here = f"{where}.labels.{code_text}"
-                code = self.number(code_node, here, integer=True)
+                code = self.whole_number(code_node, here)
                 text = self.text(text_node, here)
                 if code is None or text is None:
                     continue
@@ -92,21 +92,22 @@ class SpecChecker(NodeReader):
             codes_node = keys["missing_codes"][1]
             if isinstance(codes_node, yaml.SequenceNode):
                 for index, child in enumerate(codes_node.value):
-                    code = self.number(child, f"{where}.missing_codes[{index}]")
-                    if code is not None and abs(code) > MAX_MISSING_CODE:
+                    missing_code = self.number(child, f"{where}.missing_codes[{index}]")
+                    if missing_code is not None and abs(missing_code) > MAX_MISSING_CODE:
                         self.problem(child, f"{where}.missing_codes[{index}]",
-                                     f"missing code {code:g} is larger than {MAX_MISSING_CODE:.0e} (see docs/limits.md)")
-                    elif code is not None:
-                        missing.append(code)
+                                     f"missing code {missing_code:g} is larger than {MAX_MISSING_CODE:.0e} "
+                                     "(see docs/limits.md)")
+                    elif missing_code is not None:
+                        missing.append(missing_code)
             elif not (isinstance(codes_node, yaml.ScalarNode) and self.scalar(codes_node) is None):
                 self.problem(codes_node, f"{where}.missing_codes", "expected a list of codes, e.g. [9, 99]")
         elif base is not None:
             missing = list(base.missing_codes)
-        for code in missing:
-            if low <= code <= high:
+        for missing_code in missing:
+            if low <= missing_code <= high:
                 at = keys["missing_codes"][1] if "missing_codes" in keys else node
                 self.problem(at, f"{where}.missing_codes",
-                             f"missing code {code:g} lies inside the answer range {low}..{high}; "
+                             f"missing code {missing_code:g} lies inside the answer range {low}..{high}; "
                              "it would be confused with an answer")
         for code, text in labels.items():
             # a label that reads as another code's number would be that code in one column and this one in
@@ -135,7 +136,7 @@ class SpecChecker(NodeReader):
                 texts.append(text)
         return tuple(texts)
 
-    def missing_texts(self, node: yaml.Node, keys: dict, where: str, base: ResponseFormat | None,
+    def missing_texts(self, node: yaml.Node | None, keys: dict, where: str, base: ResponseFormat | None,
                       labels: Mapping[int, str]) -> tuple[str, ...]:
         """This format's "no answer" texts: its own list, else its base format's, else the top-level list,
         else the default. A text the scale file lists that is also an answer label is an error; a default

@@ -49,9 +49,10 @@ def read_groups(checker: NodeReader, node: yaml.Node,
                 continue
             levels[column] = tuple(ordered)
         else:
-            column = checker.text(child, where)
-            if column is None:
+            named = checker.text(child, where)
+            if named is None:
                 continue
+            column = named
         if column in groups:
             checker.problem(child, where, f"group column {column!r} is listed twice")
         else:

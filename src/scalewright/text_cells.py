@@ -86,8 +86,9 @@ def _clear_column(column: pd.Series, listed: dict[str, str]) -> tuple[pd.Series,
     counts = np.bincount(positions[positions >= 0], minlength=len(uniques))
     texts: dict[str, int] = {}
     for index in np.flatnonzero(clear):
-        if forms[index]:
-            text = listed[forms[index]]
+        form = forms[index]
+        if form:
+            text = listed[form]
             texts[text] = texts.get(text, 0) + int(counts[index])
     kept_uniques = [value for value, cleared in zip(uniques, clear, strict=True) if not cleared]
     cleared_positions = np.where(clear[np.maximum(positions, 0)] | (positions < 0), -1, positions)

@@ -8,6 +8,8 @@ once, each alias adding it) and the aliases that point into an unfinished node, 
 """
 from __future__ import annotations
 
+from typing import cast
+
 import yaml
 
 from .limits import MAX_YAML_DEPTH, MAX_YAML_NODES
@@ -33,7 +35,7 @@ def check_yaml_shape(text: str) -> None:
     anchor_size: dict[str, int] = {}
     total = 0
 
-    def add(size: int, mark) -> None:
+    def add(size: int, mark: yaml.Mark) -> None:
         nonlocal total
         total += size
         if open_sizes:
@@ -43,7 +45,7 @@ def check_yaml_shape(text: str) -> None:
                                "expanded (see docs/limits.md)", mark.line + 1)
 
     for event in yaml.parse(text, Loader=yaml.SafeLoader):
-        mark = event.start_mark
+        mark = cast(yaml.Mark, event.start_mark)  # the parser's events always carry their place
         if isinstance(event, (yaml.SequenceStartEvent, yaml.MappingStartEvent)):
             if len(open_sizes) >= MAX_YAML_DEPTH:
                 raise ShapeProblem(f"lists and mappings are nested more than {MAX_YAML_DEPTH} deep "
@@ -64,4 +66,4 @@ def check_yaml_shape(text: str) -> None:
             if event.anchor in open_anchors:
                 raise ShapeProblem(f"the alias *{event.anchor} refers to a list or mapping that contains it",
                                    mark.line + 1)
-            add(anchor_size.get(event.anchor, 1), mark)
+            add(anchor_size.get(event.anchor, 1) if event.anchor is not None else 1, mark)

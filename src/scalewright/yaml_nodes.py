@@ -125,6 +125,11 @@ class NodeReader:
             return None
         return int(value) if integer or isinstance(value, int) else float(value)
 
+    def whole_number(self, node: yaml.Node, where: str) -> int | None:
+        """:meth:`number` of a value that must be a whole number."""
+        value = self.number(node, where, integer=True)
+        return None if value is None else int(value)
+
     def text_list(self, node: yaml.Node, where: str) -> list[tuple[str, yaml.Node]] | None:
         if isinstance(node, yaml.ScalarNode) and self.scalar(node) is None:
             return []

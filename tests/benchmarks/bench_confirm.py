@@ -15,25 +15,16 @@ Goal (issue 17): 2 + 3 + 4 at most 1 s.
 """
 from __future__ import annotations
 
-import argparse
 import json
-import sys
-import tempfile
-import time
-from pathlib import Path
+from functools import partial
+
+from bench_common import clocked, folder_options, load
+from bench_reliability import write_inputs
 
 
 def main() -> None:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("folder", nargs="?", type=Path)
-    parser.add_argument("--rows", type=int, default=1_000_000)
-    parser.add_argument("--repeat", type=int, default=3)
-    options = parser.parse_args()
-    folder = options.folder or Path(tempfile.mkdtemp(prefix="scalewright-bench-"))
-    folder.mkdir(parents=True, exist_ok=True)
-    sys.path.insert(0, str(Path(__file__).parent))
-    from bench_reliability import write_inputs
-
+    options = folder_options(__doc__.splitlines()[0], repeat=3)
+    folder = options.folder
     from scalewright.analyses.confirm import analyse_confirm, keyed_covariance, one_blas_thread
     from scalewright.data import read_responses
     from scalewright.spec import load_spec
@@ -45,31 +36,25 @@ def main() -> None:
     spec = load_spec(scales)
     timings: dict[str, list[float]] = {"read": [], "covariance": [], "fit": [], "summary": [], "analyse_confirm": []}
     for _ in range(options.repeat):
-        start = time.perf_counter()
-        responses = read_responses(data, spec)
-        timings["read"].append(time.perf_counter() - start)
+        responses, seconds = clocked(partial(read_responses, data, spec))
+        timings["read"].append(seconds)
         memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
         membership, orthogonal, totals = scale_file_structure(memberships)
         model = factor_model(membership, orthogonal=orthogonal)
         with one_blas_thread():
-            start = time.perf_counter()
-            cov = keyed_covariance(spec, responses, model.items)
-            timings["covariance"].append(time.perf_counter() - start)
-            start = time.perf_counter()
-            fitted = fit(cov.cov, cov.n_used, model)
-            timings["fit"].append(time.perf_counter() - start)
-            start = time.perf_counter()
-            summarize_fit(fitted, name="all", scales=memberships, totals=totals, hints=True)
-            timings["summary"].append(time.perf_counter() - start)
-        start = time.perf_counter()
-        analyse_confirm(spec, responses)
-        timings["analyse_confirm"].append(time.perf_counter() - start)
+            cov, seconds = clocked(partial(keyed_covariance, spec, responses, model.items))
+            timings["covariance"].append(seconds)
+            fitted, seconds = clocked(partial(fit, cov.cov, cov.n_used, model))
+            timings["fit"].append(seconds)
+            _, seconds = clocked(partial(summarize_fit, fitted, name="all", scales=memberships, totals=totals,
+                                         hints=True))
+            timings["summary"].append(seconds)
+        _, seconds = clocked(partial(analyse_confirm, spec, responses))
+        timings["analyse_confirm"].append(seconds)
         print(f"iterations {fitted.iterations}, converged {fitted.converged}, n {cov.n_used}", flush=True)
     best = {stage: min(values) for stage, values in timings.items()}
     best["beyond_reading"] = best["covariance"] + best["fit"] + best["summary"]
-    with open("/proc/loadavg") as handle:
-        load = handle.read().split()[:3]
-    report = {"rows": options.rows, "best_seconds": best, "all_seconds": timings, "loadavg": load}
+    report = {"rows": options.rows, "best_seconds": best, "all_seconds": timings, "loadavg": load()}
     print(json.dumps(report, indent=2))
     (folder / "bench_confirm.json").write_text(json.dumps(report, indent=2))
 

@@ -14,27 +14,18 @@ the load average is printed beside the figures.
 """
 from __future__ import annotations
 
-import argparse
 import json
 import os
 import sys
-import tempfile
-import time
-from pathlib import Path
+from functools import partial
 
-sys.path.insert(0, str(Path(__file__).resolve().parent))
-
-from bench_reliability import write_inputs  # noqa: E402  (the same generated file)
+from bench_common import clocked, folder_options
+from bench_reliability import write_inputs  # the same generated file
 
 
 def main() -> int:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("folder", nargs="?", type=Path, default=None)
-    parser.add_argument("--rows", type=int, default=1_000_000)
-    parser.add_argument("--repeat", type=int, default=3)
-    options = parser.parse_args()
-    folder = options.folder or Path(tempfile.mkdtemp(prefix="scalewright-bench-"))
-    folder.mkdir(parents=True, exist_ok=True)
+    options = folder_options(__doc__.splitlines()[0], repeat=3)
+    folder = options.folder
     data, scales = write_inputs(folder, options.rows)
 
     from scalewright.data import read_responses
@@ -46,19 +37,12 @@ def main() -> int:
     runs = []
     for _ in range(options.repeat):
         load_before = os.getloadavg()[0]
-        start = time.perf_counter()
-        responses = read_responses(data, spec)
-        codes = responses.codes(spec.items)
-        read_s = time.perf_counter() - start
-        start = time.perf_counter()
-        summary = PatternSummary.from_codes(codes)
-        summary_s = time.perf_counter() - start
-        start = time.perf_counter()
-        estimate = em_means_and_covariance(summary)
-        em_s = time.perf_counter() - start
-        start = time.perf_counter()
-        test = little_mcar_test(summary, estimate)
-        mcar_s = time.perf_counter() - start
+        responses, read_s = clocked(partial(read_responses, data, spec))
+        codes, codes_s = clocked(partial(responses.codes, spec.items))
+        read_s += codes_s
+        summary, summary_s = clocked(partial(PatternSummary.from_codes, codes))
+        estimate, em_s = clocked(partial(em_means_and_covariance, summary))
+        test, mcar_s = clocked(partial(little_mcar_test, summary, estimate))
         runs.append({"read_s": read_s, "summary_s": summary_s, "em_s": em_s, "mcar_s": mcar_s,
                      "beyond_reading_s": summary_s + em_s + mcar_s, "iterations": estimate.iterations,
                      "patterns": int(summary.counts.size), "held_as_rows": int(summary.rows.shape[0]),

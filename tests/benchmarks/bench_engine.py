@@ -23,47 +23,22 @@ from __future__ import annotations
 import argparse
 import json
 import os
-import subprocess
 import sys
 import time
 from pathlib import Path
 
 import numpy as np
+from bench_common import load, run_child, survey_table
+from bench_common import scalewright_command as command
+from bench_reliability import ITEMS_PER_SCALE, N_SCALES, REVERSED_ITEMS, SHIFTS, write_scales
 
-N_SCALES = 10
-ITEMS_PER_SCALE = 6
 CHUNK_ROWS = 500_000
-
-
-def write_scales(folder: Path) -> Path:
-    scales = folder / "climate.yaml"
-    lines = ["version: 1", "title: Staff climate survey (benchmark)", "id_column: staff_id",
-             "groups: []", "response: {min: 1, max: 5, missing_codes: [9]}", "scales:"]
-    for s in range(N_SCALES):
-        names = [f"s{s}_{j}" for j in range(1, ITEMS_PER_SCALE + 1)]
-        lines += [f"  scale{s}:", f"    title: Scale {s}", f"    items: [{', '.join(names)}]",
-                  f"    reverse: [{names[2]}, {names[5]}]"]
-    scales.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    return scales
 
 
 def chunk_table(start: int, rows: int, seed: int):
     """Rows ``start`` .. ``start + rows`` of the survey as an Arrow table (seeded per chunk)."""
-    import pyarrow as pa
-
-    rng = np.random.default_rng([seed, start])
-    columns = {"staff_id": pa.array(np.char.add("p", np.arange(start, start + rows).astype(str))),
-               "shift": pa.array(rng.choice(np.array(["day", "night", "rotating"]), rows))}
-    cuts = np.array([-1.3, -0.4, 0.4, 1.3])
-    for s in range(N_SCALES):
-        factor = rng.standard_normal(rows).astype(np.float32)
-        for j in range(1, ITEMS_PER_SCALE + 1):
-            answer = 0.7 * factor + 0.71 * rng.standard_normal(rows).astype(np.float32)
-            if j in (3, 6):
-                answer = -answer
-            codes = (1 + np.searchsorted(cuts, answer)).astype(np.int8)
-            columns[f"s{s}_{j}"] = pa.array(codes, mask=rng.random(rows) < 0.01)
-    return pa.table(columns)
+    return survey_table(np.random.default_rng([seed, start]), rows, scales=N_SCALES, items=ITEMS_PER_SCALE,
+                        reversed_items=REVERSED_ITEMS, groups={"shift": np.array(SHIFTS)}, start=start)
 
 
 def write_csv(folder: Path, rows: int, seed: int = 2026) -> Path:
@@ -98,30 +73,10 @@ def write_parquet_folder(folder: Path, rows: int, parts: int, seed: int = 2026) 
     return target
 
 
-def run_child(arguments: list[str]) -> tuple[float, float, int]:
-    """Wall seconds, peak RSS in MB and exit status of one child process."""
-    start = time.perf_counter()
-    process = subprocess.Popen(arguments, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE)
-    _, status, usage = os.wait4(process.pid, 0)
-    elapsed = time.perf_counter() - start
-    code = os.waitstatus_to_exitcode(status)
-    if code:
-        sys.stderr.write(process.stderr.read().decode())
-    return elapsed, usage.ru_maxrss / 1024, code  # Linux reports kilobytes
-
-
-def command(*arguments: str) -> list[str]:
-    return [sys.executable, "-c", "import sys; from scalewright.cli import main; sys.exit(main(sys.argv[1:]))",
-            *arguments]
-
-
-def load() -> str:
-    return Path("/proc/loadavg").read_text().strip() if Path("/proc/loadavg").exists() else "unknown"
-
-
 def measure(label: str, arguments: list[str], results: list[dict], **fields) -> dict:
-    seconds, peak, code = run_child(arguments)
-    record = {"what": label, "seconds": round(seconds, 2), "peak_mb": round(peak), "exit": code,
+    run = run_child(arguments)
+    sys.stderr.write(run.error if run.code else "")
+    record = {"what": label, "seconds": round(run.wall_s, 2), "peak_mb": round(run.peak_mb), "exit": run.code,
               "load": load(), **fields}
     print(json.dumps(record), flush=True)
     results.append(record)

@@ -38,6 +38,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+from bench_common import load, run_child, scale_file_text, survey_table
 
 REPO = Path(__file__).resolve().parents[2]
 STARTUP = [sys.executable, "-c", "import pandas, scipy.stats, matplotlib"]
@@ -66,33 +67,17 @@ def write_survey(folder: Path, name: str, *, rows: int, scales: int, items: int,
                  seed: int) -> tuple[Path, Path]:
     """A fictional staff climate survey: ``scales`` x ``items`` congeneric 1-5 items, two reverse-keyed per
     scale, about 1% blanks, and subgroup columns with the given numbers of levels. Reused if present."""
-    import pyarrow as pa
     import pyarrow.csv as pacsv
 
     data, scale_file = folder / f"{name}.csv", folder / f"{name}.yaml"
-    lines = ["version: 1", f"title: Staff climate survey ({name}, benchmark)", "id_column: staff_id",
-             f"groups: [{', '.join(groups)}]", "response: {min: 1, max: 5, missing_codes: [9]}", "scales:"]
-    for s in range(scales):
-        names = [f"s{s}_{j}" for j in range(1, items + 1)]
-        lines += [f"  scale{s}:", f"    title: Scale {s}", f"    items: [{', '.join(names)}]",
-                  f"    reverse: [{names[1]}, {names[-1]}]"]
-    scale_file.write_text("\n".join(lines) + "\n", encoding="utf-8")
-    if data.exists():
-        return data, scale_file
-    rng = np.random.default_rng(seed)
-    columns = {"staff_id": pa.array(np.char.add("p", np.arange(rows).astype(str)))}
-    for column, levels in groups.items():
-        columns[column] = pa.array(rng.choice(np.array([f"{column}-{i + 1}" for i in range(levels)]), rows))
-    cuts = np.array([-1.3, -0.4, 0.4, 1.3])
-    for s in range(scales):
-        factor = rng.standard_normal(rows).astype(np.float32)
-        for j in range(1, items + 1):
-            answer = 0.7 * factor + 0.71 * rng.standard_normal(rows).astype(np.float32)
-            if j in (2, items):
-                answer = -answer
-            codes = (1 + np.searchsorted(cuts, answer)).astype(np.int8)
-            columns[f"s{s}_{j}"] = pa.array(codes, mask=rng.random(rows) < 0.01)
-    pacsv.write_csv(pa.table(columns), data)
+    reversed_items = (2, items)
+    scale_file.write_text(scale_file_text(f"Staff climate survey ({name}, benchmark)", scales=scales, items=items,
+                                          reversed_items=reversed_items, groups=list(groups)), encoding="utf-8")
+    if not data.exists():
+        levels = {column: np.array([f"{column}-{i + 1}" for i in range(count)]) for column, count in groups.items()}
+        table = survey_table(np.random.default_rng(seed), rows, scales=scales, items=items,
+                             reversed_items=reversed_items, groups=levels)
+        pacsv.write_csv(table, data)
     return data, scale_file
 
 
@@ -132,23 +117,10 @@ def prepare(folder: Path, names: set[str]) -> dict[str, list[str]]:
 
 def timed(arguments: list[str], env: dict[str, str]) -> tuple[float, float]:
     """Wall seconds and CPU seconds (user + system, the child and the processes it waited for)."""
-    start = time.perf_counter()
-    process = subprocess.Popen(arguments, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE, env=env)
-    error = process.stderr.read()
-    _, status, usage = os.wait4(process.pid, 0)
-    elapsed = time.perf_counter() - start
-    code = os.waitstatus_to_exitcode(status)
-    process.returncode = code
-    if code:
-        raise SystemExit(f"command failed ({code}): {' '.join(arguments)}\n{error.decode()}")
-    return elapsed, usage.ru_utime + usage.ru_stime
-
-
-def load() -> str:
-    try:
-        return " ".join(Path("/proc/loadavg").read_text().split()[:3])
-    except OSError:
-        return "n/a"
+    run = run_child(arguments, env)
+    if run.code:
+        raise SystemExit(f"command failed ({run.code}): {' '.join(arguments)}\n{run.error}")
+    return run.wall_s, run.cpu_s
 
 
 def run_case(case: Case, arguments: list[str], repeat: int) -> dict:

@@ -16,34 +16,19 @@ in one thread, so on an idle machine their wall time is close to their CPU time)
 """
 from __future__ import annotations
 
-import argparse
 import json
 import os
 import sys
-import tempfile
 import time
-from pathlib import Path
 
 import numpy as np
-
-sys.path.insert(0, str(Path(__file__).resolve().parent))
-from bench_reliability import write_inputs  # noqa: E402
-
-
-def load() -> str:
-    """The 1-minute load average: the machine is shared, so every figure is read beside it."""
-    path = Path("/proc/loadavg")
-    return path.read_text().split()[0] if path.exists() else "?"
+from bench_common import folder_options, load
+from bench_reliability import write_inputs
 
 
 def main() -> int:
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("folder", nargs="?", type=Path, default=None)
-    parser.add_argument("--rows", type=int, default=1_000_000)
-    parser.add_argument("--repeat", type=int, default=3)
-    options = parser.parse_args()
-    folder = options.folder or Path(tempfile.mkdtemp(prefix="scalewright-bench-"))
-    folder.mkdir(parents=True, exist_ok=True)
+    options = folder_options(__doc__.splitlines()[0], repeat=3)
+    folder = options.folder
     data, scales = write_inputs(folder, options.rows)
 
     from scalewright.analyses.ordinal import polychoric_of_items

@@ -8,20 +8,11 @@ Prints the minimum and median wall time of each step (the minimum is the least d
 from __future__ import annotations
 
 import argparse
-import statistics
-import time
 import warnings
+from functools import partial
 
 import numpy as np
-
-
-def timed(repeat: int, call) -> tuple[float, float]:
-    times = []
-    for _ in range(repeat):
-        start = time.perf_counter()
-        call()
-        times.append(time.perf_counter() - start)
-    return min(times), statistics.median(times)
+from bench_common import load, timed
 
 
 def main() -> None:
@@ -48,13 +39,14 @@ def main() -> None:
         random_eigenvalues(50, 5, iterations=2, sampler=sampler)  # scipy.stats is imported on first use
 
     for sampler in ("wishart", "data"):
-        best, median = timed(args.repeat, lambda: random_eigenvalues(n, p, iterations=args.iterations, seed=1,
-                                                                     sampler=sampler))
+        best, median = timed(args.repeat, partial(random_eigenvalues, n, p, iterations=args.iterations, seed=1,
+                                                  sampler=sampler))
         print(f"parallel analysis {n} x {p}, {args.iterations} iterations, {sampler} draws: "
-              f"min {best:.2f} s, median {median:.2f} s")
+              f"min {best:.2f} s, median {median:.2f} s (load {load()})")
     best, median = timed(args.repeat, lambda: analyse_structure(data, item_names=names, item_scale=item_scale,
                                                                 iterations=args.iterations))
-    print(f"whole analysis {n} x {p} (4 factors, minres, oblimin): min {best:.2f} s, median {median:.2f} s")
+    print(f"whole analysis {n} x {p} (4 factors, minres, oblimin): min {best:.2f} s, median {median:.2f} s "
+          f"(load {load()})")
 
 
 if __name__ == "__main__":

@@ -1,21 +1,33 @@
 """Confirmatory factor models of a scale file: one per scale, one of the whole file, and invariance by subgroup."""
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
 # the fits multiply many small matrices, where waking BLAS threads costs more than it gives
 from ..concurrency import one_blas_thread
 
+if TYPE_CHECKING:
+    from ..notes import Note
+    from ..responses import Responses
+    from ..spec_model import Scale, ScaleSpec
+    from ..stats.cfa_fit import CfaFit
+    from ..stats.cfa_model import CfaModel
+    from ..stats.cfa_result import ConfirmedModel
+    from ..stats.invariance import InvarianceResult
+    from ..stats.item_covariance import ItemCovariance
+    from ..stats.missing import MissingHandling
+    from ..stats.missing_patterns import PatternSummary
+
 WHOLE_FILE = "all"
 
 
-def _keying(spec: Any, items: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+def _keying(spec: ScaleSpec, items: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Lows, highs and reverse mask of ``items``, each keyed as the first scale listing it."""
-    owner = {}
+    owner: dict[str, Scale] = {}
     for scale in spec.scales.values():
         for item in scale.items:
             owner.setdefault(item, scale)
@@ -25,8 +37,8 @@ def _keying(spec: Any, items: Sequence[str]) -> tuple[np.ndarray, np.ndarray, np
     return lows, highs, reversed_mask
 
 
-def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwise: bool = False,
-                     rows: np.ndarray | None = None) -> Any:
+def keyed_covariance(spec: ScaleSpec, responses: Responses, items: Sequence[str], *, pairwise: bool = False,
+                     rows: np.ndarray | None = None) -> ItemCovariance:
     """Means and covariances of the keyed ``items`` (each keyed as the first scale listing it), as
     :class:`~scalewright.stats.item_covariance.ItemCovariance`.
 
@@ -50,7 +62,8 @@ def keyed_covariance(spec: Any, responses: Any, items: Sequence[str], *, pairwis
     return item_covariance(_keyed_matrix(spec, responses, items, rows), pairwise=pairwise)
 
 
-def _keyed_matrix(spec: Any, responses: Any, items: Sequence[str], rows: np.ndarray | None = None) -> np.ndarray:
+def _keyed_matrix(spec: ScaleSpec, responses: Responses, items: Sequence[str],
+                  rows: np.ndarray | None = None) -> np.ndarray:
     from ..scoring import reverse_key
 
     lows, highs, reversed_mask = _keying(spec, items)
@@ -62,7 +75,7 @@ def _keyed_matrix(spec: Any, responses: Any, items: Sequence[str], rows: np.ndar
     return matrix
 
 
-def pattern_summary(spec: Any, responses: Any, items: Sequence[str]) -> tuple[Any, bool]:
+def pattern_summary(spec: ScaleSpec, responses: Responses, items: Sequence[str]) -> tuple[PatternSummary, bool]:
     """:class:`~scalewright.stats.missing_patterns.PatternSummary` of ``items`` (of the one-byte codes when
     there are codes, else of the keyed answers) and whether it is of the codes."""
     from ..stats.missing_patterns import PatternSummary
@@ -80,12 +93,12 @@ class ModelInput:
     matrix: np.ndarray
     n: float  # a count, or Kish's effective n with survey weights
     weights: np.ndarray | None
-    missing: Any
+    missing: MissingHandling
     #: with survey weights: the weighted-block keys of the JSON contract
     weighted: dict[str, Any] | None = None
 
 
-def weighted_model_input(spec: Any, responses: Any, items: Sequence[str], *, scope: str = "scale") -> ModelInput:
+def weighted_model_input(spec: ScaleSpec, responses: Responses, items: Sequence[str], *, scope: str = "scale") -> ModelInput:
     """The weighted covariance matrix of the keyed ``items`` (listwise: every item answered, positive weight;
     divisor sum(w) - sum(w^2)/sum(w)) with Kish's effective sample size as n.
 
@@ -110,7 +123,7 @@ def weighted_model_input(spec: Any, responses: Any, items: Sequence[str], *, sco
     return ModelInput(matrix=weighted_covariance(matrix, w), n=n_eff, weights=None, missing=handling, weighted=block)
 
 
-def model_input(spec: Any, responses: Any, items: Sequence[str], *, missing: str = "listwise",
+def model_input(spec: ScaleSpec, responses: Responses, items: Sequence[str], *, missing: str = "listwise",
                 ordinal: bool = False, em_items: Sequence[str] | None = None, scope: str = "scale") -> ModelInput:
     """The matrix a model of ``items`` is fitted to, by the missing-answer method.
 
@@ -168,15 +181,15 @@ def model_input(spec: Any, responses: Any, items: Sequence[str], *, missing: str
 class ConfirmAnalysis:
     """Every model of one run: ``models`` (per scale and ``all``), latent and observed score correlations."""
 
-    models: dict[str, Any]
+    models: dict[str, ConfirmedModel]
     observed_correlations: dict[str, dict[str, float]]
     missing_handling: str
     n_rows: int
-    invariance: dict[str, Any] = field(default_factory=dict)
+    invariance: dict[str, dict[str, InvarianceResult]] = field(default_factory=dict)
     estimator: str = "ml"
     correlation_type: str = "covariance"
-    missing_by_model: dict[str, Any] = field(default_factory=dict)
-    notes: tuple[Any, ...] = ()
+    missing_by_model: dict[str, MissingHandling] = field(default_factory=dict)
+    notes: tuple[Note, ...] = ()
     #: with survey weights: per model the weighted-block keys (``weighted``, ``weight_column``, ``n``, ...)
     weighted_by_model: dict[str, Any] = field(default_factory=dict)
 
@@ -204,7 +217,7 @@ class ConfirmAnalysis:
         return out
 
 
-def observed_score_correlations(cov: np.ndarray, items: Sequence[str], scales: dict[str, Sequence[str]]) \
+def observed_score_correlations(cov: np.ndarray, items: Sequence[str], scales: Mapping[str, Sequence[str]]) \
         -> dict[str, dict[str, float]]:
     """Correlations of the raw composites (unweighted sums of keyed items) from the same covariance matrix."""
     position = {item: i for i, item in enumerate(items)}
@@ -220,12 +233,12 @@ def observed_score_correlations(cov: np.ndarray, items: Sequence[str], scales: d
     return out
 
 
-def one_factor_models(spec: Any, responses: Any, *, pairwise: bool = False) -> dict[str, Any]:
+def one_factor_models(spec: ScaleSpec, responses: Responses, *, pairwise: bool = False) -> dict[str, Any]:
     """The confirmatory one-factor model of each scale (what ``reliability`` shows beside its own numbers)."""
     return analyse_confirm(spec, responses, pairwise=pairwise, whole_file=False).models
 
 
-def analyse_confirm(spec: Any, responses: Any, *, pairwise: bool = False, confidence_level: float = 0.95,
+def analyse_confirm(spec: ScaleSpec, responses: Responses, *, pairwise: bool = False, confidence_level: float = 0.95,
                     scales: Sequence[str] | None = None, whole_file: bool = True, missing: str | None = None,
                     ordinal: bool = False, weighted: bool = False) -> ConfirmAnalysis:
     """Fit the one-factor model of each scale and the whole-file model (correlated factors or bifactor).
@@ -246,7 +259,7 @@ def analyse_confirm(spec: Any, responses: Any, *, pairwise: bool = False, confid
                                 names=list(scales or spec.scales), whole_file=whole_file, weighted=weighted)
 
 
-def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, confidence_level: float,
+def _analyse_confirm(spec: ScaleSpec, responses: Responses, *, missing: str, ordinal: bool, confidence_level: float,
                      names: list[str], whole_file: bool, weighted: bool = False) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
     from ..notes import note
@@ -257,12 +270,12 @@ def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, 
     memberships = {name: tuple(spec.scales[name].items) for name in names}
     estimator = "dwls" if ordinal else "ml"
 
-    def fitted_to(given: ModelInput, model: Any) -> Any:
+    def fitted_to(given: ModelInput, model: CfaModel) -> CfaFit:
         if ordinal:
             return fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights)
         return fit(given.matrix, given.n, model)
 
-    def one_scale(name: str) -> tuple[Any, Any]:
+    def one_scale(name: str) -> tuple[ConfirmedModel, ModelInput]:
         items = memberships[name]
         given = (weighted_model_input(spec, responses, items, scope="confirm-scale") if weighted else
                  model_input(spec, responses, items, missing=missing, ordinal=ordinal, scope="confirm-scale"))
@@ -288,7 +301,7 @@ def _analyse_confirm(spec: Any, responses: Any, *, missing: str, ordinal: bool, 
             weighted_by_model[WHOLE_FILE] = given.weighted
         if not ordinal:  # observed score correlations need the covariances, not the polychoric correlations
             observed = observed_score_correlations(given.matrix, model.items, memberships)
-    notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    notes: tuple[Note, ...] = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
     if weighted:
         notes += (note("confirm-weighted", weight_column=responses.weights.column),)
     return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing,

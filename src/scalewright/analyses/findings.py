@@ -25,9 +25,13 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..stats.effect_benchmarks import BENCHMARKS, MAGNITUDES, effect_magnitude
+
+if TYPE_CHECKING:
+    from ..report import ReportResults
+    from ..stats.groups import EffectSize
 
 #: conventional significance level for the findings (common practice, no source)
 SIGNIFICANCE_LEVEL = 0.05
@@ -50,12 +54,13 @@ class Finding:
         return {"code": self.code, "anchor": self.anchor, **self.values}
 
 
-def _finite(value: Any) -> bool:
+def _finite(value: object) -> bool:
     return isinstance(value, (int, float)) and math.isfinite(value)
 
 
-def _reliability(results: Any) -> list[Finding]:
-    reliable, low = [], []
+def _reliability(results: ReportResults) -> list[Finding]:
+    reliable: list[dict[str, Any]] = []
+    low: list[dict[str, Any]] = []
     for name, findings in results.scales.items():
         if findings.reliability is None:
             continue
@@ -77,12 +82,12 @@ def _reliability(results: Any) -> list[Finding]:
     return out
 
 
-def _effect_rank(effect: Any) -> float:
+def _effect_rank(effect: EffectSize) -> float:
     """Effects of different kinds made comparable: the value in units of its own 'small' benchmark."""
     return abs(effect.value) / BENCHMARKS[effect.name][0]
 
 
-def _differences(results: Any) -> list[Finding]:
+def _differences(results: ReportResults) -> list[Finding]:
     candidates: list[tuple[float, Finding]] = []
     ran = 0
     smallest = MAGNITUDES.index(SMALLEST_MAGNITUDE)
@@ -122,7 +127,7 @@ def _differences(results: Any) -> list[Finding]:
     return chosen
 
 
-def _items(results: Any) -> list[Finding]:
+def _items(results: ReportResults) -> list[Finding]:
     out = []
     for name, findings in results.scales.items():
         if findings.reliability is None:
@@ -135,7 +140,7 @@ def _items(results: Any) -> list[Finding]:
     return out
 
 
-def _shape(results: Any) -> list[Finding]:
+def _shape(results: ReportResults) -> list[Finding]:
     out = []
     for name, findings in results.scales.items():
         shape = findings.shape.overall if findings.shape is not None else None
@@ -153,7 +158,7 @@ def _shape(results: Any) -> list[Finding]:
     return out
 
 
-def _quality(results: Any) -> list[Finding]:
+def _quality(results: ReportResults) -> list[Finding]:
     out = []
     if results.screen is not None:
         summary = results.screen.summary()
@@ -167,7 +172,7 @@ def _quality(results: Any) -> list[Finding]:
     return out
 
 
-def _structure_fit(results: Any) -> list[Finding]:
+def _structure_fit(results: ReportResults) -> list[Finding]:
     from ..stats.cfa_result import CUTOFFS
     from .confirm import WHOLE_FILE
 
@@ -193,7 +198,7 @@ def _structure_fit(results: Any) -> list[Finding]:
     return out
 
 
-def select_findings(results: Any) -> tuple[Finding, ...]:
+def select_findings(results: ReportResults) -> tuple[Finding, ...]:
     """The report's findings, in the order of the rules above, at most :data:`MAX_FINDINGS`."""
     found: list[Finding] = []
     weighted = getattr(results, "weighted", None)

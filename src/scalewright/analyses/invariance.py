@@ -3,13 +3,22 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import replace
-from typing import Any
+from typing import TYPE_CHECKING
 
 from ..concurrency import one_blas_thread
 from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
 
+if TYPE_CHECKING:
+    import numpy as np
 
-def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.cfa_model import CfaModel
+    from ..stats.invariance import InvarianceResult
+    from ..stats.subgroups import SubgroupSplit
+
+
+def analyse_invariance(spec: ScaleSpec, responses: Responses, analysis: ConfirmAnalysis, *, by: Sequence[str],
                        min_group: int = 30, pairwise: bool = False, strict: bool = False,
                        confidence_level: float = 0.95, whole_file: bool = True) -> ConfirmAnalysis:
     """``analysis`` with ``invariance.<column>.<scale>`` filled in.
@@ -23,19 +32,22 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
     from ..stats.subgroups import split_by
 
     memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
-    targets: dict[str, Any] = {name: factor_model({name: items}) for name, items in memberships.items()}
+    targets: dict[str, CfaModel] = {name: factor_model({name: items}) for name, items in memberships.items()}
     if whole_file and len(memberships) >= 2:
         membership, orthogonal, _ = scale_file_structure(memberships)
         targets[WHOLE_FILE] = factor_model(membership, orthogonal=orthogonal)
-    results: dict[str, dict[str, Any]] = {}
+    results: dict[str, dict[str, InvarianceResult]] = {}
     for column in by:
         split = split_by(responses.column(column), min_size=min_group, column=column)
 
-        def one(name: str, split: Any = split, column: str = column) -> Any:
+        def one(name: str, split: SubgroupSplit = split, column: str = column) -> InvarianceResult:
             base = targets[name]
             p = len(base.items)
             per_group = base.n_parameters + p  # loadings, covariances, residuals + intercepts
-            covs, ns, means, names = [], [], [], []
+            covs: list[np.ndarray] = []
+            ns: list[int] = []
+            means: list[np.ndarray] = []
+            names: list[str] = []
             left_out = dict(split.too_small)
             for level, rows in split.levels.items():
                 cov = keyed_covariance(spec, responses, base.items, pairwise=pairwise, rows=rows)
@@ -57,7 +69,8 @@ def analyse_invariance(spec: Any, responses: Any, analysis: ConfirmAnalysis, *, 
     return replace(analysis, invariance=results)
 
 
-def invariance_by_scale(spec: Any, responses: Any, *, by: Sequence[str], min_group: int = 30) -> dict[str, Any]:
+def invariance_by_scale(spec: ScaleSpec, responses: Responses, *, by: Sequence[str],
+                        min_group: int = 30) -> dict[str, dict[str, InvarianceResult]]:
     """``column -> scale -> InvarianceResult`` of each scale's one-factor model (what ``compare`` shows)."""
     empty = ConfirmAnalysis(models={}, observed_correlations={}, missing_handling="listwise", n_rows=responses.n)
     return analyse_invariance(spec, responses, empty, by=by, min_group=min_group, whole_file=False).invariance

@@ -2,13 +2,21 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 
+if TYPE_CHECKING:
+    from ..notes import Note
+    from ..responses import Responses
+    from ..spec_model import Scale, ScaleSpec
+    from ..stats.ordinal_reliability import OrdinalReliability
+    from ..stats.polychoric_matrix import PolychoricMatrix
+    from ..stats.reliability import ScaleReliability
 
-def polychoric_of_items(responses: Any, items: Sequence[str], reversed_items: Sequence[str] = (), *,
-                        pairwise: bool = False) -> Any:
+
+def polychoric_of_items(responses: Responses, items: Sequence[str], reversed_items: Sequence[str] = (), *,
+                        pairwise: bool = False) -> PolychoricMatrix:
     """:class:`~scalewright.stats.polychoric_matrix.PolychoricMatrix` of ``items``, keyed (reverse items turned).
 
     Listwise (rows answering every item) unless ``pairwise``. Built from the one-byte answer codes; items
@@ -31,8 +39,8 @@ def polychoric_of_items(responses: Any, items: Sequence[str], reversed_items: Se
     return matrix.keyed([item in set(reversed_items) for item in items])
 
 
-def dwls_inputs(responses: Any, items: Sequence[str], reversed_items: Sequence[str] = (), *,
-                pairwise: bool = False) -> tuple[np.ndarray, np.ndarray, int, Any]:
+def dwls_inputs(responses: Responses, items: Sequence[str], reversed_items: Sequence[str] = (), *,
+                pairwise: bool = False) -> tuple[np.ndarray, np.ndarray, int, PolychoricMatrix]:
     """What a DWLS fit of a confirmatory model needs, in one call (for ``confirm --ordinal``).
 
     Returns the keyed polychoric correlation matrix (k x k, smoothed if it was not positive definite), the
@@ -45,7 +53,8 @@ def dwls_inputs(responses: Any, items: Sequence[str], reversed_items: Sequence[s
     return matrix.correlation, matrix.dwls_weights(), matrix.n_used, matrix
 
 
-def scale_ordinal(responses: Any, scale: Any, overall: Any, *, pairwise: bool, estimate: bool) -> tuple[Any, Any]:
+def scale_ordinal(responses: Responses, scale: Scale, overall: ScaleReliability, *, pairwise: bool,
+                  estimate: bool) -> tuple[OrdinalReliability | None, tuple[Note, ...]]:
     """Ordinal reliability of one scale (when ``estimate``) and the advice notes on whether it is called for.
 
     The advice uses the answer counts already in ``overall`` (the scale's :class:`ScaleReliability`).
@@ -61,7 +70,7 @@ def scale_ordinal(responses: Any, scale: Any, overall: Any, *, pairwise: bool, e
     return ordinal_reliability(matrix), advice
 
 
-def joint_polychoric(responses: Any, spec: Any) -> Any:
+def joint_polychoric(responses: Responses, spec: ScaleSpec) -> PolychoricMatrix:
     """Polychoric matrix of every item of the scale file once, keyed as its smallest scale keys it
     (as :func:`scalewright.analyses.structure.joint_keyed_items` does), over the rows answering every item."""
     reversed_items = []

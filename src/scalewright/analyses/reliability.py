@@ -2,13 +2,20 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.reliability_flags import ReliabilityThresholds
+    from ..stats.reliability_groups import ScaleReliabilityReport
 
 
-def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
-                        pairwise: bool = False, min_group: int = 10, n_resamples: int = 0,
-                        seed: int | None = None, thresholds: Any = None, ordinal: bool = False,
-                        missing: str | None = None) -> dict[str, Any]:
+def analyse_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (),
+                        confidence_level: float = 0.95, pairwise: bool = False, min_group: int = 10,
+                        n_resamples: int = 0, seed: int | None = None,
+                        thresholds: ReliabilityThresholds | None = None, ordinal: bool = False,
+                        missing: str | None = None) -> dict[str, ScaleReliabilityReport]:
     """:class:`~scalewright.stats.reliability_groups.ScaleReliabilityReport` of every scale of ``spec``.
 
     Plain library function (no click): the report builds on it. ``by`` names subgroup columns; ``missing``
@@ -34,10 +41,10 @@ def analyse_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), co
         codes = responses.codes(scale.items)
         # one-byte codes are keyed inside the statistics; only answers off the whole levels need floats
         keyed = CodedAnswers(codes) if codes is not None else keyed_items(responses, scale)
-        options = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
-                       confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
-                       reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed,
-                       missing=missing)
+        options: dict[str, Any] = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
+                                       confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
+                                       reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed,
+                                       missing=missing)
         overall = scale_reliability(keyed, **options)
         groups = tuple(reliability_by_group(keyed, split, **options) for split in splits)
         ordinal_result, advice = scale_ordinal(responses, scale, overall, pairwise=pairwise_rows, estimate=ordinal)

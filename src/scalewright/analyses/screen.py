@@ -1,16 +1,23 @@
 """Careless-responding and data-quality indices of every respondent."""
 from __future__ import annotations
 
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.screen_rules import ScreenThresholds
+    from ..stats.screening import ScreenResult
+    from ..weights import SurveyWeights
 
 
-def questionnaire_order(responses: Any) -> list[int]:
+def questionnaire_order(responses: Responses) -> list[int]:
     """Positions of the item columns in the order they stand in the data file (the order shown)."""
     return [responses.item_names.index(name) for name in responses.items_in_file_order()]
 
 
-def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = None, thresholds: Any = None,
-                   duration_unit: str = "s") -> Any:
+def analyse_screen(spec: ScaleSpec, responses: Responses, *, duration_column: str | None = None,
+                   thresholds: ScreenThresholds | None = None, duration_unit: str = "s") -> ScreenResult:
     """:class:`~scalewright.stats.screening.ScreenResult` of the responses (plain function; the report uses it)."""
     import numpy as np
 
@@ -40,7 +47,7 @@ def analyse_screen(spec: Any, responses: Any, *, duration_column: str | None = N
                               duration_unit=duration_unit, weights=None if weights is None else weights.values)
 
 
-def weighted_screen_summary(result: Any, weights: Any) -> dict[str, Any]:
+def weighted_screen_summary(result: ScreenResult, weights: SurveyWeights) -> dict[str, Any]:
     """The shares of flagged respondents weighted (percent of the sum of weights) beside the unweighted counts.
 
     Flags are a respondent's own and do not depend on their weight; the weighted share says how much of the

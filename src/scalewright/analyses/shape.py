@@ -2,12 +2,18 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from ..seeds import DEFAULT_SEED
 
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..scoring import ScoreTable
+    from ..spec_model import Scale, ScaleSpec
+    from ..stats.shape import ShapeReport
 
-def score_axis(scale: Any) -> dict[str, Any]:
+
+def score_axis(scale: Scale) -> dict[str, Any]:
     """What the shape statistics of a scale score need to know of its axis: the attainable scores, the ends of
     the possible range, the resolution and the axis label. One place, for the whole-file and the streamed
     routes alike."""
@@ -27,9 +33,10 @@ def score_axis(scale: Any) -> dict[str, Any]:
     }
 
 
-def analyse_shape(spec: Any, responses: Any, *, by: Sequence[str] = (), items: bool = False,
+def analyse_shape(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (), items: bool = False,
                   percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
-                  min_group: int = 10, seed: int = DEFAULT_SEED, scores: Any = None) -> dict[str, dict[str, Any]]:
+                  min_group: int = 10, seed: int = DEFAULT_SEED,
+                  scores: ScoreTable | None = None) -> dict[str, dict[str, ShapeReport]]:
     """:class:`~scalewright.stats.shape.ShapeReport` of every scale score (and, with ``items``, every item).
 
     Plain library function (no click): the report builds on it. Returns ``{"scales": {...}, "items": {...}}``.

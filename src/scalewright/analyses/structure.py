@@ -2,9 +2,14 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.structure import StructureResult
 
 
 @dataclass(frozen=True)
@@ -18,7 +23,7 @@ class JointItems:
     notes: tuple[str, ...]
 
 
-def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
+def joint_keyed_items(responses: Responses, spec: ScaleSpec) -> JointItems:
     """One keyed column per item, even when an item belongs to several scales (a total and a subscale).
 
     Each item is matched against the smallest scale containing it (its subscale rather than the total)
@@ -42,7 +47,8 @@ def joint_keyed_items(responses: Any, spec: Any) -> JointItems:
                       notes=tuple(notes))
 
 
-def analyse_structure_of_file(spec: Any, responses: Any, *, ordinal: bool = False, **options: Any) -> Any:
+def analyse_structure_of_file(spec: ScaleSpec, responses: Responses, *, ordinal: bool = False,
+                              **options: Any) -> StructureResult:
     """:func:`~scalewright.stats.structure.analyse_structure` of the joint item matrix of every scale.
 
     The joint matrix's notes (an item keyed one way in one scale and the other way in another) come first

@@ -7,13 +7,16 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
 from ..errors import UsageError
 from ..results import ResultMixin
+
+if TYPE_CHECKING:
+    from ..responses import Responses
 
 #: the most levels a subgroup column may have unless ``--max-levels`` says otherwise (our own choice: beyond
 #: about twenty groups the tables and the pairwise tests stop being readable)
@@ -46,11 +49,11 @@ def count_levels(values: pd.Series, *, column: str) -> LevelCount:
     numbers = pd.to_numeric(pd.Series(uniques, dtype=object), errors="coerce")
     if len(uniques) == 0 or numbers.isna().any():
         return LevelCount(column=column, levels=len(uniques), numeric=False)
-    numbers = np.unique(numbers.to_numpy(dtype=float))  # '3' and '3.0' are one number
-    low, high = float(numbers.min()), float(numbers.max())
-    whole = bool(np.all(np.mod(numbers, 1) == 0))
-    dense = whole and len(numbers) >= 0.5 * (high - low + 1)
-    return LevelCount(column=column, levels=len(numbers), numeric=True, low=low, high=high,
+    distinct = np.unique(numbers.to_numpy(dtype=float))  # '3' and '3.0' are one number
+    low, high = float(distinct.min()), float(distinct.max())
+    whole = bool(np.all(np.mod(distinct, 1) == 0))
+    dense = whole and len(distinct) >= 0.5 * (high - low + 1)
+    return LevelCount(column=column, levels=len(distinct), numeric=True, low=low, high=high,
                       looks_continuous=(not whole) or dense)
 
 
@@ -58,7 +61,7 @@ def _number(value: float | None) -> str:
     return "" if value is None else f"{value:g}"
 
 
-def check_level_counts(responses: Any, columns: Sequence[str], *, max_levels: int = DEFAULT_MAX_LEVELS) -> None:
+def check_level_counts(responses: Responses, columns: Sequence[str], *, max_levels: int = DEFAULT_MAX_LEVELS) -> None:
     """Raise ``UsageError`` for the first subgroup column with more than ``max_levels`` levels.
 
     The message suggests binning the column, and says so when its values look like a continuous number.

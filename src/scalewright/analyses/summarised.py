@@ -6,16 +6,24 @@ integers, so everything computed from them is identical.
 """
 from __future__ import annotations
 
-from collections.abc import Sequence
-from typing import Any
+from collections.abc import Mapping, Sequence
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..notes import note
+from ..notes import Note, note
 from ..summaries import Keyed, merge_all
 
+if TYPE_CHECKING:
+    from ..spec_model import ScaleSpec
+    from ..stats.missing_patterns import PatternSummary
+    from ..stats.structure import StructureResult
+    from ..stats.subgroups import SubgroupSplit
+    from ..stats.tally import Tally
+    from ..summaries import CategoryCounts, ListwiseCrossProducts, Summary
 
-def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list[str]], bool]:
+
+def category_levels(spec: ScaleSpec | None, counts: CategoryCounts, column: str) -> tuple[dict[str, list[str]], bool]:
     """The levels of a counted column in their natural order, each with the values as read that name it
     (``01`` and ``1`` both name level ``1``), and whether the column is numeric.
 
@@ -37,7 +45,8 @@ def category_levels(spec: Any, counts: Any, column: str) -> tuple[dict[str, list
     return {key: [key] for key in sorted(keys, key=natural_key)}, False
 
 
-def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> tuple[Any, dict[str, list[str]]]:
+def subgroup_split(spec: ScaleSpec | None, summary: Summary, column: str, *,
+                   min_group: int) -> tuple[SubgroupSplit, dict[str, list[str]]]:
     """The :class:`~scalewright.stats.subgroups.SubgroupSplit` of ``column`` from its category counts, and
     the levels as read that make up each level (see :func:`category_levels`)."""
     from ..stats.subgroups import SubgroupSplit
@@ -53,8 +62,8 @@ def subgroup_split(spec: Any, summary: Any, column: str, *, min_group: int) -> t
     return split, members
 
 
-def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | None = None,
-                    min_cell: int = 5) -> Any:
+def tally_of_column(spec: ScaleSpec | None, summary: Summary, column: str, *, order: Sequence | None = None,
+                    min_cell: int = 5) -> Tally:
     """:func:`~scalewright.stats.tally.tally` of a counted (non-item) column from its category counts."""
     from ..stats.tally import tally_from_category_counts
 
@@ -66,8 +75,8 @@ def tally_of_column(spec: Any, summary: Any, column: str, *, order: Sequence | N
                              ordered=order is not None or numeric or listed, min_cell=min_cell, column=column)
 
 
-def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None = None, labels: Any = None,
-                  min_cell: int = 5) -> Any:
+def tally_of_item(spec: ScaleSpec, summary: Summary, item: str, *, order: Sequence | None = None,
+                  labels: Mapping | None = None, min_cell: int = 5) -> Tally:
     """:func:`~scalewright.stats.tally.tally` of an item's answers (as given) from its answer counts."""
     from ..stats.subgroups import level_name
     from ..stats.tally import tally_from_category_counts
@@ -83,7 +92,7 @@ def tally_of_item(spec: Any, summary: Any, item: str, *, order: Sequence | None 
                              column=item)
 
 
-def level_summaries(summary: Any, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
+def level_summaries(summary: Summary, column: str, members: dict[str, list[str]]) -> dict[str, Keyed]:
     """Per level name, the per-scale summaries of its rows (merged over the levels as read)."""
     by_level = summary["by"][column]
     return {name: merge_all([by_level[key] for key in raw]) for name, raw in members.items()}
@@ -179,9 +188,10 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
                                            comparisons=compare_alphas(levels) if len(levels) >= 2 else (),
                                            notes=tuple(notes)))
         # the note on whether the answers call for --ordinal, from the answer counts (as analyses.ordinal does)
-        levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
-        tallies = np.array([[item.counts.get(level, 0) for level in levels] for item in overall.items.values()])
-        advice = ordinal_advice(tallies, len(levels), list(overall.items)) if len(tallies) else ()
+        answer_levels = [str(level) for level in range(scale.response.min, scale.response.max + 1)]
+        tallies = np.array([[item.counts.get(level, 0) for level in answer_levels]
+                            for item in overall.items.values()])
+        advice = ordinal_advice(tallies, len(answer_levels), list(overall.items)) if len(tallies) else ()
         ordinal_result = None
         if ordinal:  # under em the pair tables use the pairwise rows, as on the whole-file route
             pairwise_rows = missing in ("pairwise", "em") if missing is not None else pairwise
@@ -191,7 +201,7 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
     return reports
 
 
-def _score_counts(part: Any, *, scored_only: bool = False) -> Any:
+def _score_counts(part: Summary, *, scored_only: bool = False) -> Any:
     """(distinct scores, their counts, rows without a score) of a scale's merged score counts."""
     counts = part["scores"]
     if scored_only:
@@ -200,7 +210,7 @@ def _score_counts(part: Any, *, scored_only: bool = False) -> Any:
     return values, tallies, counts.n_missing
 
 
-def _item_counts(part: Any, position: int, low: int, *, scored_only: bool = False) -> Any:
+def _item_counts(part: Summary, position: int, low: int, *, scored_only: bool = False) -> Any:
     answers = part["answers"]
     tallies = answers.tally[position]
     answered = int(tallies.sum())
@@ -209,7 +219,7 @@ def _item_counts(part: Any, position: int, low: int, *, scored_only: bool = Fals
     return low + np.arange(tallies.size, dtype=np.float64), tallies, answers.n_rows - answered
 
 
-def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), items: bool = False,
+def shape_from_summaries(spec: ScaleSpec, summary: Summary, *, by: Sequence[str] = (), items: bool = False,
                          percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95), quantile_method: str = "linear",
                          min_group: int = 10, seed: int = 0) -> dict[str, dict[str, Any]]:
     """:func:`~scalewright.analyses.shape.analyse_shape` from merged score and answer counts."""
@@ -239,11 +249,11 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
                       for level, size in sizes.items() if size >= min_group}
             split = SubgroupSplit(column=column, levels={}, too_small={k: v for k, v in sizes.items() if v < min_group},
                                   missing=overall_scored - sum(sizes.values()), min_size=min_group)
-            notes = list(split.notes())
+            split_notes: list[str | Note] = list(split.notes())
             if unscored:
-                notes.append(note("subgroup-unscored", unscored=unscored, column=column))
+                split_notes.append(note("subgroup-unscored", unscored=unscored, column=column))
             groups.append(SubgroupShapes(column=column, levels=levels, too_small=dict(split.too_small),
-                                         missing=split.missing, min_group=min_group, notes=tuple(notes)))
+                                         missing=split.missing, min_group=min_group, notes=tuple(split_notes)))
         return ShapeReport(name=name, title=title, kind=kind, overall=overall, groups=tuple(groups), x_label=x_label)
 
     scales: dict[str, Any] = {}
@@ -268,13 +278,14 @@ def shape_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (), ite
     return {"scales": scales, "items": item_reports}
 
 
-def structure_from_summaries(spec: Any, summary: Any, **options: Any) -> Any:
+def structure_from_summaries(spec: ScaleSpec, summary: Summary, **options: Any) -> StructureResult:
     """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
     cross-products of every item (``joint`` in the plan)."""
     return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
 
 
-def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None, **options: Any) -> Any:
+def structure_from_cross_products(spec: ScaleSpec, joint: ListwiseCrossProducts, *,
+                                  patterns: PatternSummary | None = None, **options: Any) -> StructureResult:
     """The factor structure from the listwise cross-products of the codes of every item of the scale file
     (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
     :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
@@ -303,7 +314,7 @@ def structure_from_cross_products(spec: Any, joint: Any, *, patterns: Any = None
     return replace(result, notes=(*notes, *result.notes)) if notes else result
 
 
-def one_factor_models_from_summaries(spec: Any, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
+def one_factor_models_from_summaries(spec: ScaleSpec, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:
     """:func:`~scalewright.analyses.confirm.one_factor_models` from each scale's merged cross-products.
 
     The fit is a function of the covariance matrix and n only (:func:`~scalewright.stats.cfa_fit.fit`);

@@ -9,20 +9,31 @@ from __future__ import annotations
 
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING
 
 from ..errors import UsageError
 
+if TYPE_CHECKING:
+    import pandas as pd
+
+    from ..expected_file import ReferenceProportions
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.tally import AnswerDistribution, Tally
+    from ..stats.tally_fit import FitResult
+    from ..stats.weighted_tally import WeightedFit, WeightedTally
+    from ..summaries import Summary
+
 #: the values of one column of the data file, by its name
-ColumnValues = Callable[[str], Any]
+ColumnValues = Callable[[str], "pd.Series"]
 
 
 @dataclass(frozen=True)
 class WeightedTallyResult:
     """The weighted shares beside one unweighted tally, and their fit to the reference proportions if any."""
 
-    shares: Any                     # stats.weighted_tally.WeightedTally
-    fit: Any | None = None          # stats.weighted_tally.WeightedFit
+    shares: WeightedTally
+    fit: WeightedFit | None = None
 
 
 @dataclass(frozen=True)
@@ -30,14 +41,15 @@ class TallyAnalysis:
     """The tallies of the asked columns in order, the fit of each (None without reference proportions) and,
     with survey weights, the weighted shares of each."""
 
-    tallies: tuple[Any, ...]                            # stats.tally.Tally
-    fits: tuple[Any | None, ...]                        # stats.tally_fit.FitResult
+    tallies: tuple[Tally, ...]
+    fits: tuple[FitResult | None, ...]
     weighted: tuple[WeightedTallyResult, ...] = ()
 
 
-def analyse_tally(names: Sequence[str], *, spec: Any = None, responses: Any = None,
-                  column_of: ColumnValues | None = None, summary: Any = None,
-                  orders: Mapping[str, Sequence[str]] | None = None, expected: Mapping[str, Any] | None = None,
+def analyse_tally(names: Sequence[str], *, spec: ScaleSpec | None = None, responses: Responses | None = None,
+                  column_of: ColumnValues | None = None, summary: Summary | None = None,
+                  orders: Mapping[str, Sequence[str]] | None = None,
+                  expected: Mapping[str, ReferenceProportions] | None = None,
                   min_cell: int = 5) -> TallyAnalysis:
     """Tally every column of ``names`` and test those with reference proportions (``expected``: column ->
     :class:`~scalewright.expected_file.ReferenceProportions`); weighted shares too when ``responses`` carries
@@ -49,9 +61,9 @@ def analyse_tally(names: Sequence[str], *, spec: Any = None, responses: Any = No
     return TallyAnalysis(tallies=tallies, fits=fits, weighted=weighted)
 
 
-def tally_columns(names: Sequence[str], *, spec: Any = None, responses: Any = None,
-                  column_of: ColumnValues | None = None, summary: Any = None,
-                  orders: Mapping[str, Sequence[str]] | None = None, min_cell: int = 5) -> tuple[Any, ...]:
+def tally_columns(names: Sequence[str], *, spec: ScaleSpec | None = None, responses: Responses | None = None,
+                  column_of: ColumnValues | None = None, summary: Summary | None = None,
+                  orders: Mapping[str, Sequence[str]] | None = None, min_cell: int = 5) -> tuple[Tally, ...]:
     """:func:`~scalewright.stats.tally.tally` of every column of ``names``, in order.
 
     Items of the scale file are counted in their answer order with their answer labels (``orders`` overrides
@@ -68,10 +80,11 @@ def tally_columns(names: Sequence[str], *, spec: Any = None, responses: Any = No
         spec, responses, [name for name in names if name not in orders], min_cell=min_cell)
     tallies = []
     for name in names:
-        is_item = spec is not None and name in spec.items
-        labels = order = None
-        if is_item:
-            response = spec.response_for(name)
+        item_spec = spec if spec is not None and name in spec.items else None
+        labels: dict[int, str] | None = None
+        order: list | None = None
+        if item_spec is not None:
+            response = item_spec.response_for(name)
             order = list(response.levels)
             labels = {level: response.label(level) for level in response.levels}
         if name in orders:
@@ -83,15 +96,16 @@ def tally_columns(names: Sequence[str], *, spec: Any = None, responses: Any = No
                 if column_of is None:
                     raise UsageError(f"column {name!r}: no data to tally (give column_of, responses or summary)")
                 result = tally(column_of(name), order=order, labels=labels, min_cell=min_cell, column=name)
-        elif is_item:
-            result = tally_of_item(spec, summary, name, order=order, labels=labels, min_cell=min_cell)
+        elif item_spec is not None:
+            result = tally_of_item(item_spec, summary, name, order=order, labels=labels, min_cell=min_cell)
         else:
             result = tally_of_column(spec, summary, name, order=order, min_cell=min_cell)
         tallies.append(result)
     return tuple(tallies)
 
 
-def fit_to_expected(tallies: Sequence[Any], expected: Mapping[str, Any]) -> tuple[Any | None, ...]:
+def fit_to_expected(tallies: Sequence[Tally], expected: Mapping[str, ReferenceProportions]) \
+        -> tuple[FitResult | None, ...]:
     """:func:`~scalewright.stats.tally_fit.goodness_of_fit` of each tally whose column has reference proportions."""
     from ..stats.tally_fit import goodness_of_fit
 
@@ -103,11 +117,12 @@ def fit_to_expected(tallies: Sequence[Any], expected: Mapping[str, Any]) -> tupl
     return tuple(fits)
 
 
-def weighted_tallies(tallies: Sequence[Any], fits: Sequence[Any | None], *, column_of: ColumnValues | None,
-                     responses: Any, expected: Mapping[str, Any]) -> tuple[WeightedTallyResult, ...]:
+def weighted_tallies(tallies: Sequence[Tally], fits: Sequence[FitResult | None], *, column_of: ColumnValues | None,
+                     responses: Responses | None,
+                     expected: Mapping[str, ReferenceProportions]) -> tuple[WeightedTallyResult, ...]:
     """Weighted shares (and their fit to the reference) beside each unweighted tally; empty without weights."""
     weights = getattr(responses, "weights", None)
-    if weights is None:
+    if weights is None or responses is None:
         return ()
     from ..stats.weighted_tally import weighted_goodness_of_fit, weighted_tally
 
@@ -122,8 +137,8 @@ def weighted_tallies(tallies: Sequence[Any], fits: Sequence[Any | None], *, colu
     return tuple(out)
 
 
-def answer_distributions(spec: Any, *, responses: Any = None, summary: Any = None,
-                         min_cell: int = 5) -> dict[str, Any]:
+def answer_distributions(spec: ScaleSpec, *, responses: Responses | None = None, summary: Summary | None = None,
+                         min_cell: int = 5) -> dict[str, AnswerDistribution]:
     """:class:`~scalewright.stats.tally.AnswerDistribution` of the answers (as given) of every scale's items,
     from the whole file (``responses``) or from the answer counts (``summary``)."""
     from ..stats.tally import AnswerDistribution, answer_distribution
@@ -134,6 +149,8 @@ def answer_distributions(spec: Any, *, responses: Any = None, summary: Any = Non
         response = scale.response
         labels = {level: response.label(level) for level in response.levels}
         if summary is None:
+            if responses is None:
+                raise UsageError("answer distributions need the responses or their summary")
             out[scale_name] = answer_distribution(responses.matrix(scale.items), response.levels, labels,
                                                   item_names=scale.items, min_cell=min_cell)
         else:
@@ -145,7 +162,8 @@ def answer_distributions(spec: Any, *, responses: Any = None, summary: Any = Non
     return out
 
 
-def _count_item_codes(spec: Any, responses: Any, names: Sequence[str], *, min_cell: int) -> dict[str, Any]:
+def _count_item_codes(spec: ScaleSpec | None, responses: Responses | None, names: Sequence[str], *,
+                      min_cell: int) -> dict[str, Tally]:
     """The tallies of the items among ``names``, every answer code of every item counted in one pass.
 
     Empty when there are no such items or their answers are not all held as codes (then each column is
@@ -156,8 +174,10 @@ def _count_item_codes(spec: Any, responses: Any, names: Sequence[str], *, min_ce
     from ..stats.coded import code_counts
     from ..stats.tally import tally_from_counts
 
-    items = [name for name in names if spec is not None and name in spec.items]
-    codes = responses.codes(items) if items and responses is not None else None
+    if spec is None or responses is None:
+        return {}
+    items = [name for name in names if name in spec.items]
+    codes = responses.codes(items) if items else None
     if codes is None:
         return {}
     counts = code_counts(codes)

@@ -9,14 +9,20 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
+
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.reliability_flags import ReliabilityThresholds
 
 
 def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight_column: str,
                                item_names: Sequence[str], low: float, high: float, confidence_level: float = 0.95,
-                               thresholds: Any = None, reversed_items: Sequence[str] = ()) -> dict[str, Any]:
+                               thresholds: ReliabilityThresholds | None = None,
+                               reversed_items: Sequence[str] = ()) -> dict[str, Any]:
     """The ``scales.<name>`` reliability block, weighted, with the weighted-block keys of the JSON contract."""
     from ..stats.item_analysis import item_descriptives
     from ..stats.reliability import reliability_from_cov
@@ -46,7 +52,9 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
             ceiling[j] = 100 * w[answered][given == high].sum() / w[answered].sum()
         missing[j] = 100 * (total - w[answered].sum()) / total if total > 0 else np.nan
     described = replace(described, mean=mean, sd=sd, floor_pct=floor, ceiling_pct=ceiling, missing_pct=missing)
-    result = reliability_from_cov(cov, n_eff if np.isfinite(n_eff) else 0, item_names=item_names,
+    # Feldt's interval on Kish's effective n, which is fractional: the one caller passing a float n
+    result = reliability_from_cov(cov, n_eff if np.isfinite(n_eff) else 0,  # type: ignore[arg-type]
+                                  item_names=item_names,
                                   confidence_level=confidence_level,
                                   thresholds=thresholds or ReliabilityThresholds(), reversed_items=reversed_items,
                                   descriptives=described, n_rows=keyed.shape[0])
@@ -61,8 +69,9 @@ def weighted_scale_reliability(keyed: np.ndarray, weights: np.ndarray, *, weight
     return block
 
 
-def weighted_reliability(spec: Any, responses: Any, *, by: Sequence[str] = (), confidence_level: float = 0.95,
-                         min_group: int = 10, thresholds: Any = None) -> dict[str, dict[str, Any]]:
+def weighted_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[str] = (),
+                         confidence_level: float = 0.95, min_group: int = 10,
+                         thresholds: ReliabilityThresholds | None = None) -> dict[str, dict[str, Any]]:
     """``{scale: {"all": block, "by": {column: {level: block}}}}`` for every scale of ``spec``."""
     from ..scoring import keyed_items
     from ..stats.subgroups import split_by

@@ -8,7 +8,15 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..scoring import ScoreTable
+    from ..spec_model import ScaleSpec
+    from ..stats.shape import ShapeReport
+    from ..stats.tally import Tally
+    from ..weights import SurveyWeights
 
 
 @dataclass(frozen=True, eq=False)
@@ -26,7 +34,7 @@ class WeightedReport:
     notes: tuple[Any, ...] = field(default=())
 
 
-def weights_design(weights: Any) -> dict[str, Any]:
+def weights_design(weights: SurveyWeights) -> dict[str, Any]:
     """The weighted-block keys of the whole file: column, n, rows of weight 0, refused weights, n_eff, sum,
     design effect (Kish 1965)."""
     from ..stats.weighted import design_effect, kish_effective_n
@@ -37,9 +45,9 @@ def weights_design(weights: Any) -> dict[str, Any]:
             "sum_of_weights": float(used.sum()), "design_effect": design_effect(used)}
 
 
-def weighted_report(spec: Any, responses: Any, *, by: Sequence[str], confidence_level: float, min_group: int,
-                    min_cell: int, score_table: Any, shapes: Mapping[str, Any], group_tallies: Sequence[Any]) \
-        -> WeightedReport:
+def weighted_report(spec: ScaleSpec, responses: Responses, *, by: Sequence[str], confidence_level: float,
+                    min_group: int, min_cell: int, score_table: ScoreTable, shapes: Mapping[str, ShapeReport],
+                    group_tallies: Sequence[Tally]) -> WeightedReport:
     """Every weighted block beside the report's unweighted results (the responses carry the weights)."""
     from ..stats.subgroups import split_by
     from ..stats.weighted import weighted_summary

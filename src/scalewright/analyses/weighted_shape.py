@@ -2,12 +2,16 @@
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
 
-def weighted_shapes(spec: Any, responses: Any, reports: Mapping[str, Any], *, by: Sequence[str] = (),
+
+def weighted_shapes(spec: ScaleSpec, responses: Responses, reports: Mapping[str, Any], *, by: Sequence[str] = (),
                     percentiles: Sequence[float] = (5, 10, 25, 50, 75, 90, 95)) -> dict[str, dict[str, Any]]:
     """``{name: {"all": WeightedShape, "by": {column: {level: WeightedShape}}}}`` for scale and item reports.
 

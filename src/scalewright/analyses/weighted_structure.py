@@ -9,12 +9,18 @@ analysis rounded to whole rows), which is approximate unless the weights are the
 from __future__ import annotations
 
 from dataclasses import replace
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+if TYPE_CHECKING:
+    from ..responses import Responses
+    from ..spec_model import ScaleSpec
+    from ..stats.structure import StructureResult
 
-def weighted_structure_of_file(spec: Any, responses: Any, **options: Any) -> tuple[Any, dict[str, Any]]:
+
+def weighted_structure_of_file(spec: ScaleSpec, responses: Responses, **options: Any) \
+        -> tuple[StructureResult, dict[str, Any]]:
     """:func:`~scalewright.stats.structure.analyse_structure` of the weighted covariance of every item, and
     the weighted-block keys of the JSON contract (``weighted``, ``weight_column``, ``n``, ``n_effective``,
     ``sum_of_weights``, ``design_effect``, ``n_zero_weight``). ``options`` go to ``analyse_structure``
@@ -36,7 +42,9 @@ def weighted_structure_of_file(spec: Any, responses: Any, **options: Any) -> tup
     n_eff = kish_effective_n(w[used]) if n_used else 0.0
     p = joint.matrix.shape[1]
     means = (np.average(joint.matrix[used], axis=0, weights=w[used]) if n_used else np.full(p, np.nan))
-    covariance = ItemCovariance(cov=weighted_covariance(joint.matrix, w), means=means, n_used=n_eff,
+    # Kish's effective n is fractional: the one place an ItemCovariance rests on a weighted n
+    covariance = ItemCovariance(cov=weighted_covariance(joint.matrix, w), means=means,
+                                n_used=n_eff,  # type: ignore[arg-type]
                                 n_rows=int(joint.matrix.shape[0]), n_complete=n_used,
                                 pair_counts=np.full((p, p), n_used), pairwise=False)
     options = {key: value for key, value in options.items() if key != "missing"}

@@ -109,7 +109,7 @@ def summarise_codes(codes: np.ndarray, plan: SummaryPlan, weights: np.ndarray | 
             members["scores"] = ScoreCounts.from_codes(part, low=scale.low, high=scale.high,
                                                        reversed_mask=np.array(scale.reversed_mask),
                                                        method=scale.method, required=scale.required)
-        if plan.weight:
+        if plan.weight and weights is not None:
             from .weighted import weighted_members
 
             members.update(weighted_members(part, weights, scale, plan))
@@ -153,7 +153,7 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
                   for column in dict.fromkeys([*plan.by, *plan.categories])}
     members = {"reading": block.reading, "scales": summarise_codes(block.codes, plan, weights), "by": Keyed(by),
                "categories": Keyed(categories)}
-    if weight_reading is not None:
+    if weight_reading is not None and weights is not None:
         from ..summaries.weighted import WeightedCategoryCounts
 
         members["weight_reading"] = weight_reading

@@ -109,7 +109,7 @@ def correlation_matrix(analysis: Any) -> Table | None:
     names = list(whole.factor_correlations)
     rows = []
     for x, a in enumerate(names):
-        cells = []
+        cells: list[float | None] = []
         for y, b in enumerate(names):
             if x == y:
                 cells.append(None)
@@ -196,10 +196,10 @@ def confirm_tables(analysis: Any) -> list[Table]:
         fit = _with_effective_n(fit)
     tables = [fit, loadings_table(analysis.models),
               omega_table(analysis.models)]
-    for extra in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),
+    for table in (correlation_matrix(analysis), correlation_table(analysis), residual_table(analysis.models),
                   hints_table(analysis.models)):
-        if extra is not None:
-            tables.append(extra)
+        if table is not None:
+            tables.append(table)
     if analysis.invariance:
         from .invariance import invariance_tables
 

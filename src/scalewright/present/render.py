@@ -51,6 +51,14 @@ def _is_numeric_column(table: Table, column: str) -> bool:
 TEXT_CELL_WIDTH = 60
 
 
+def _aligned_line(table: Table, widths: Sequence[int], values: Sequence[str]) -> str:
+    """One terminal line of ``table``: numbers right-aligned, text left-aligned, each padded to its width."""
+    parts = []
+    for column, value, width in zip(table.columns, values, widths, strict=True):
+        parts.append(value.rjust(width) if _is_numeric_column(table, column) else value.ljust(width))
+    return "  ".join(parts).rstrip()
+
+
 def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence[str] = (),
                 text_width: int = TEXT_CELL_WIDTH) -> str:
     """Plain aligned columns for a terminal: text left-aligned (long text wrapped), numbers right-aligned."""
@@ -74,18 +82,13 @@ def render_text(tables: Sequence[Table], *, decimals: int = 2, preface: Sequence
         out.append(table.title)
         out.append("=" * max(len(table.title), 1))
 
-        def line(values: Sequence[str]) -> str:
-            parts = []
-            for column, value, width in zip(table.columns, values, widths, strict=True):
-                parts.append(value.rjust(width) if _is_numeric_column(table, column) else value.ljust(width))
-            return "  ".join(parts).rstrip()
-
         if table.columns:
-            out.append(line(table.columns))
+            out.append(_aligned_line(table, widths, table.columns))
             out.append("  ".join("-" * w for w in widths))
             for row in wrapped:
                 for depth in range(max(len(parts) for parts in row)):
-                    out.append(line([parts[depth] if depth < len(parts) else "" for parts in row]))
+                    out.append(_aligned_line(table, widths, [parts[depth] if depth < len(parts) else ""
+                                                             for parts in row]))
         for note in table.notes:
             out.append(f"  note: {note}")
         out.append("")

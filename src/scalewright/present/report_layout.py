@@ -6,7 +6,6 @@ Text here is plain (never markup): each renderer escapes it for its own format.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Union
 
 from .table import Table
 
@@ -66,7 +65,7 @@ class Details:
     blocks: tuple[Block, ...]
 
 
-Block = Union[Paragraph, Bullets, TableBlock, FigureBlock, FigureRow, Findings, Details]
+Block = Paragraph | Bullets | TableBlock | FigureBlock | FigureRow | Findings | Details
 
 
 @dataclass(frozen=True)

@@ -168,7 +168,8 @@ def bootstrap_alpha(keyed: np.ndarray, *, n_resamples: int = 2000, confidence_le
         return AlphaBootstrap(n_resamples, seed, confidence_level, nan_pair, nan_pair, math.nan, pairwise,
                               tuple(notes))
     tail = (1 - confidence_level) / 2
-    percentile = tuple(float(v) for v in np.quantile(finite, [tail, 1 - tail]))
+    low, high = np.quantile(finite, [tail, 1 - tail])
+    percentile = (float(low), float(high))
 
     # proportion below the estimate, ties counted half (as scipy.stats.bootstrap does)
     below = (np.count_nonzero(finite < observed) + np.count_nonzero(finite <= observed)) / (2 * len(finite))
@@ -181,7 +182,8 @@ def bootstrap_alpha(keyed: np.ndarray, *, n_resamples: int = 2000, confidence_le
         acceleration = float((deviations**3).sum()) / (6 * spread**1.5) if spread > 0 else 0.0
         z = ndtri(np.array([tail, 1 - tail]))
         adjusted = ndtr(z0 + (z0 + z) / (1 - acceleration * (z0 + z)))
-        bca = tuple(float(v) for v in np.quantile(finite, adjusted))
+        low, high = np.quantile(finite, adjusted)
+        bca = (float(low), float(high))
     else:
         notes.append("BCa interval undefined: every resample fell on one side of the estimate")
     return AlphaBootstrap(n_resamples=n_resamples, seed=seed, confidence_level=confidence_level,

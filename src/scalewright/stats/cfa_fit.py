@@ -33,7 +33,7 @@ import numpy as np
 
 from ..errors import UsageError
 from ..notes import Note, note
-from .cfa_model import CfaModel
+from .cfa_model import CfaModel, ModelMatrices
 
 ESTIMATORS = ("ml", "uls", "dwls")
 
@@ -75,7 +75,7 @@ class CfaFit:
         with np.errstate(invalid="ignore"):
             return np.sqrt(np.diag(self.vcov))
 
-    def matrices(self, group: int = 0) -> tuple[Any, ...]:
+    def matrices(self, group: int = 0) -> ModelMatrices:
         return self.model.matrices(self.theta, group)
 
     def implied(self, group: int = 0) -> tuple[np.ndarray, np.ndarray | None]:
@@ -113,7 +113,7 @@ def _elements(model: CfaModel, group: int) -> _Elements:
                              0, 0, 0))
     for i in np.flatnonzero(pattern.residual_index >= 0):
         rows.append((int(pattern.residual_index[i]), int(i), int(i), 0.5, 0, 0, 0))
-    if mean:
+    if pattern.intercept_index is not None and pattern.factor_mean_index is not None:
         for i in np.flatnonzero(pattern.intercept_index >= 0):
             rows.append((int(pattern.intercept_index[i]), 0, 0, 0.0, int(i), 1, 0))
         for j in np.flatnonzero(pattern.factor_mean_index >= 0):
@@ -157,8 +157,12 @@ class _Problem:
         if estimator == "ml":
             self.logdet_s = [np.linalg.slogdet(s)[1] for s in covs]
         else:
-            base = [np.ones((self.p, self.p)) if estimator == "uls" else np.asarray(w, dtype=np.float64)
-                    for w in (weights or [None] * model.n_groups)]
+            if estimator == "uls":
+                base = [np.ones((self.p, self.p)) for _ in range(model.n_groups)]
+            elif weights is None:
+                raise UsageError("estimator 'dwls' needs weights (a p x p array of weights of the s_ij)")
+            else:
+                base = [np.asarray(w, dtype=np.float64) for w in weights]
             # F = sum_{i<=j} w_ij r_ij^2 = 1/2 sum_ij w~_ij r_ij^2 with the diagonal weight doubled
             self.full_weights = [w + np.diag(np.diag(w)) for w in base]
 
@@ -235,22 +239,23 @@ def _start_values(model: CfaModel, covs: Sequence[np.ndarray], means: Sequence[n
         for i in range(free.shape[0]):
             columns = np.flatnonzero(free[i])
             shares = size[columns] / size[columns].sum() if len(columns) else []
-            for j, share in zip(columns, shares, strict=True):
+            for column, share in zip(columns, shares, strict=True):
                 value = np.sqrt(smc[i] * variances[i] * share)
-                index = pattern.loading_index[i, j]
+                index = pattern.loading_index[i, column]
                 if not seen[index]:
                     theta[index], seen[index] = value, True
         for i, index in enumerate(pattern.residual_index):
             if index >= 0 and not seen[index]:
                 theta[index], seen[index] = variances[i] * (1.0 - 0.5 * smc[i]), True
         for j in range(len(model.factors)):
-            index = pattern.factor_cov_index[j, j]
-            if index >= 0 and not seen[index]:
-                theta[index], seen[index] = 1.0, True
-        if pattern.intercept_index is not None and means[g] is not None:
+            variance_index = pattern.factor_cov_index[j, j]
+            if variance_index >= 0 and not seen[variance_index]:
+                theta[variance_index], seen[variance_index] = 1.0, True
+        group_means = means[g]
+        if pattern.intercept_index is not None and group_means is not None:
             for i, index in enumerate(pattern.intercept_index):
                 if index >= 0 and not seen[index]:
-                    theta[index], seen[index] = means[g][i], True
+                    theta[index], seen[index] = group_means[i], True
     return theta
 
 
@@ -337,22 +342,25 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
     if estimator == "ml" and usable:
         covs = [c * (n_g - ddof) / n_g for c, n_g in zip(covs, ns, strict=True)]
     q = model.n_parameters
-    nan_fit = dict(model=model, estimator=estimator, theta=np.full(q, np.nan), vcov=np.full((q, q), np.nan),
-                   discrepancy=np.nan, iterations=0, n=tuple(ns), sample_cov=tuple(covs),
-                   sample_means=tuple(mean_list))
+
+    def not_fitted(identified: bool, why: Note) -> CfaFit:
+        return CfaFit(model=model, estimator=estimator, theta=np.full(q, np.nan), vcov=np.full((q, q), np.nan),
+                      discrepancy=np.nan, converged=False, identified=identified, iterations=0, n=tuple(ns),
+                      sample_cov=tuple(covs), sample_means=tuple(mean_list), notes=(why,))
+
     if model.df < 0:
-        return CfaFit(converged=False, identified=False, **nan_fit,
-                      notes=(note("not-identified", parameters=q, moments=model.n_moments),))
+        return not_fitted(False, note("not-identified", parameters=q, moments=model.n_moments))
     if not usable or any(v is not None and not np.isfinite(v).all() for v in mean_list):
-        return CfaFit(converged=False, identified=True, **nan_fit, notes=(note("no-usable-covariance"),))
+        return not_fitted(True, note("no-usable-covariance"))
     if estimator == "ml" and any(np.linalg.eigvalsh(c)[0] <= 0 for c in covs):
-        return CfaFit(converged=False, identified=True, **nan_fit, notes=(note("covariance-not-positive-definite"),))
+        return not_fitted(True, note("covariance-not-positive-definite"))
     problem = _Problem(model, covs, ns, mean_list, estimator, weight_list)
     theta = _start_values(model, covs, mean_list) if start is None else np.asarray(start, dtype=np.float64).copy()
     value = problem.value(theta)
     converged, iterations = False, 0
     gradient, hessian = problem.derivatives(theta)
-    for iterations in range(1, max_iter + 1):
+    while iterations < max_iter:
+        iterations += 1
         if np.max(np.abs(gradient)) < tolerance:
             converged = True
             break
@@ -371,8 +379,6 @@ def fit(cov: Any, n: Any, model: CfaModel, means: Any = None, estimator: str = "
             break
         theta, value = candidate, new_value
         gradient, hessian = problem.derivatives(theta)
-    else:
-        iterations = max_iter
     if np.max(np.abs(gradient)) < tolerance:
         converged = True
     notes: list[Note] = []

@@ -24,7 +24,7 @@ RMSEA_CLOSE = 0.05
 class FitIndices(ResultMixin):
     """Fit of one model; NaN (``null`` in JSON) where it cannot be computed (e.g. least-squares fits)."""
 
-    n_used: int
+    n_used: float  # respondents; with survey weights Kish's effective n, which may be fractional
     estimator: str
     chi2: float
     df: int
@@ -54,7 +54,7 @@ def baseline_chi2(fit_result: CfaFit) -> tuple[float, int]:
     return total * float(value), fit_result.model.n_groups * p * (p - 1) // 2
 
 
-def rmsea_from_chi2(chi2: float, df: int, n: int, n_groups: int = 1) -> float:
+def rmsea_from_chi2(chi2: float, df: int, n: float, n_groups: int = 1) -> float:
     """Root mean square error of approximation (Steiger & Lind 1980), multi-group form of Steiger (1998).
 
     .. math:: \\mathrm{RMSEA} = \\sqrt{G} \\sqrt{\\max(\\chi^2 - df, 0) / (df\\, N)}
@@ -71,7 +71,7 @@ def _noncentrality_bound(chi2: float, df: int, probability: float) -> float:
     return float(special.chndtrinc(chi2, df, probability))
 
 
-def rmsea_interval(chi2: float, df: int, n: int, n_groups: int = 1, *,
+def rmsea_interval(chi2: float, df: int, n: float, n_groups: int = 1, *,
                    confidence_level: float = 0.90) -> tuple[float, float]:
     """Confidence interval of RMSEA by inverting the noncentral chi-square (Browne & Cudeck 1993).
 
@@ -86,7 +86,7 @@ def rmsea_interval(chi2: float, df: int, n: int, n_groups: int = 1, *,
     return (math.sqrt(n_groups * low / (df * n)), math.sqrt(n_groups * high / (df * n)))
 
 
-def rmsea_pclose(chi2: float, df: int, n: int, n_groups: int = 1, *, close: float = RMSEA_CLOSE) -> float:
+def rmsea_pclose(chi2: float, df: int, n: float, n_groups: int = 1, *, close: float = RMSEA_CLOSE) -> float:
     """P-value of the test of close fit, H0: RMSEA <= .05 (Browne & Cudeck 1993)."""
     if df <= 0 or not math.isfinite(chi2):
         return math.nan

@@ -16,6 +16,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
@@ -46,6 +47,16 @@ class GroupPattern:
     intercept_value: np.ndarray | None = None
     factor_mean_index: np.ndarray | None = None
     factor_mean_value: np.ndarray | None = None
+
+
+class ModelMatrices(NamedTuple):
+    """The matrices of one group at one parameter vector; the mean parts are ``None`` without a mean structure."""
+
+    loadings: np.ndarray
+    factor_cov: np.ndarray
+    residuals: np.ndarray
+    intercepts: np.ndarray | None
+    factor_means: np.ndarray | None
 
 
 @dataclass(frozen=True)
@@ -89,21 +100,22 @@ class CfaModel:
     def df(self) -> int:
         return self.n_moments - self.n_parameters
 
-    def matrices(self, theta: np.ndarray, group: int = 0) -> tuple[np.ndarray, ...]:
+    def matrices(self, theta: np.ndarray, group: int = 0) -> ModelMatrices:
         """(loadings, factor covariances, residual variances, intercepts, factor means) of one group."""
         pattern = self.groups[group]
         theta = np.asarray(theta, dtype=np.float64)
 
-        def fill(index: np.ndarray | None, value: np.ndarray | None) -> np.ndarray | None:
-            if index is None or value is None:
-                return None
+        def fill(index: np.ndarray, value: np.ndarray) -> np.ndarray:
             return np.where(index >= 0, theta[np.maximum(index, 0)], value)
 
-        return (fill(pattern.loading_index, pattern.loading_value),
-                fill(pattern.factor_cov_index, pattern.factor_cov_value),
-                fill(pattern.residual_index, pattern.residual_value),
-                fill(pattern.intercept_index, pattern.intercept_value),
-                fill(pattern.factor_mean_index, pattern.factor_mean_value))
+        def fill_mean(index: np.ndarray | None, value: np.ndarray | None) -> np.ndarray | None:
+            return None if index is None or value is None else fill(index, value)
+
+        return ModelMatrices(fill(pattern.loading_index, pattern.loading_value),
+                             fill(pattern.factor_cov_index, pattern.factor_cov_value),
+                             fill(pattern.residual_index, pattern.residual_value),
+                             fill_mean(pattern.intercept_index, pattern.intercept_value),
+                             fill_mean(pattern.factor_mean_index, pattern.factor_mean_value))
 
     def implied(self, theta: np.ndarray, group: int = 0) -> tuple[np.ndarray, np.ndarray | None]:
         """Model-implied covariance matrix and mean vector (``None`` without a mean structure) of one group."""

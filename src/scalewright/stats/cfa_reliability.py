@@ -66,12 +66,12 @@ def model_omega(fit_result: CfaFit, members: Sequence[int], *, factors: Sequence
     nan = (math.nan, math.nan)
     if not fit_result.fitted or fit_result.model.n_groups != 1:
         return ModelOmega(omega_total=math.nan, omega_ci=nan, omega_se=math.nan)
-    members = np.asarray(members, dtype=int)
-    common, common_gradient = _composite_common_variance(fit_result, fit_result.theta, members, factors)
-    total, total_gradient = _composite_common_variance(fit_result, fit_result.theta, members, None)
+    positions = np.asarray(members, dtype=int)
+    common, common_gradient = _composite_common_variance(fit_result, fit_result.theta, positions, factors)
+    total, total_gradient = _composite_common_variance(fit_result, fit_result.theta, positions, None)
     residuals = fit_result.matrices(0)[2]
-    denominator = total + float(residuals[members].sum())
-    member_set = set(int(i) for i in members)
+    denominator = total + float(residuals[positions].sum())
+    member_set = set(int(i) for i in positions)
     for index, parameter in enumerate(fit_result.model.parameters):
         if parameter.kind == "residual" and parameter.row in member_set:
             total_gradient[index] += 1.0

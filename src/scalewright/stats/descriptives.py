@@ -6,8 +6,10 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Literal, cast
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from ..errors import UsageError
 from ..results import ResultMixin
@@ -19,13 +21,17 @@ QUANTILE_METHODS = {
 }
 
 
-def check_quantile_method(method: str) -> str:
+QuantileMethod = Literal["inverted_cdf", "averaged_inverted_cdf", "closest_observation", "interpolated_inverted_cdf",
+                         "hazen", "weibull", "linear", "median_unbiased", "normal_unbiased"]
+
+
+def check_quantile_method(method: str) -> QuantileMethod:
     if method not in QUANTILE_METHODS:
         raise UsageError(f"unknown quantile method {method!r}; choose one of {', '.join(QUANTILE_METHODS)}")
-    return method
+    return cast(QuantileMethod, method)
 
 
-def quantiles(values: np.ndarray, probabilities, *, method: str = "linear") -> np.ndarray:
+def quantiles(values: np.ndarray, probabilities: ArrayLike, *, method: str = "linear") -> np.ndarray:
     """Sample quantiles of Hyndman & Fan's type named by ``method`` (numpy's names).
 
     References
@@ -33,8 +39,7 @@ def quantiles(values: np.ndarray, probabilities, *, method: str = "linear") -> n
     .. [1] Hyndman, R. J., & Fan, Y. (1996). Sample quantiles in statistical packages.
        The American Statistician, 50(4), 361-365.
     """
-    check_quantile_method(method)
-    return np.quantile(values, np.asarray(probabilities, dtype=float), method=method)
+    return np.quantile(values, np.asarray(probabilities, dtype=float), method=check_quantile_method(method))
 
 
 def skewness_se(n: int) -> float:

@@ -244,18 +244,21 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
         notes.append(f"{n_no_score} respondent(s) without a score left out")
     if n_no_group:
         notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
-    base = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
-                confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
+
+    def comparison(**tests: Any) -> Comparison:
+        return Comparison(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
+                          confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group,
+                          scale=scale, notes=tuple(notes), **tests)
 
     testable = {level: x for level, x in samples.items() if len(x) >= 2}
     if len(testable) < len(samples):
         notes.append("levels with a single score are described but left out of the tests")
     if len(testable) < 2:
         notes.append(f"fewer than two levels of {column} with at least {max(min_cell, 2)} scores: no test")
-        return Comparison(**base, notes=tuple(notes))
+        return comparison()
     if all(np.ptp(x) == 0 for x in testable.values()):
         notes.append("every level has the same score throughout (zero variance): no test")
-        return Comparison(**base, notes=tuple(notes))
+        return comparison()
     if any(np.ptp(x) == 0 for x in testable.values()):
         notes.append("a level has no spread in its scores; tests that rely on its variance are fragile")
     from .group_tests import many_group_tests, two_group_tests
@@ -264,8 +267,8 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
         result = two_group_tests(testable, student=student, confidence_level=confidence_level)
     else:
         result = many_group_tests(testable, student=student)
-    extra_notes = result.pop("extra_notes")
-    return Comparison(**base, **result, notes=tuple(notes + extra_notes))
+    notes.extend(result.pop("extra_notes"))
+    return comparison(**result)
 
 
 def holm(pvalues: Sequence[float | None]) -> list[float | None]:

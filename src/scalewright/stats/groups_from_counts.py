@@ -114,7 +114,7 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
         notes.append(f"{n_no_score} respondent(s) without a score left out")
     if n_no_group:
         notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
-    base = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
+    base: dict[str, Any] = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
                 confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
     testable = {level: x for level, x in samples.items() if x.n >= 2}
     if len(testable) < len(samples):
@@ -175,7 +175,7 @@ def _two_groups(samples: Mapping[str, CountedLevel], *, student: bool, confidenc
 
     (name_a, x), (name_b, y) = samples.items()
     if student:
-        dof = x.n + y.n - 2
+        dof: float = x.n + y.n - 2
         se = math.sqrt(((x.n - 1) * x.var + (y.n - 1) * y.var) / dof * (1 / x.n + 1 / y.n))
     else:
         vx, vy = x.var / x.n, y.var / y.n
@@ -265,7 +265,8 @@ def _many_groups(samples: Mapping[str, CountedLevel], *, student: bool) -> dict[
         extra.append("some pairs have no spread in either level: no pair test for them")
     return {
         "test": test,
-        "nonparametric": TestResult(name="Kruskal-Wallis H", statistic=h.statistic, df=float(h.df),
+        "nonparametric": TestResult(name="Kruskal-Wallis H", statistic=h.statistic,
+                                    df=math.nan if h.df is None else float(h.df),
                                     pvalue=h.pvalue),
         "effect_size": EffectSize(name="omega-squared", value=omega_sq),
         "nonparametric_effect_size": EffectSize(name="epsilon-squared", value=h.statistic * (n + 1) / (n * n - 1)),

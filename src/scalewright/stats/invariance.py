@@ -17,6 +17,7 @@ from typing import Any
 import numpy as np
 from scipy import special
 
+from ..errors import UsageError
 from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
 from .cfa_fit import CfaFit, fit
@@ -130,6 +131,8 @@ def _latent_means(result: CfaFit, level_names: Sequence[str], confidence_level: 
     se = result.standard_errors
     for g in range(1, result.model.n_groups):
         index = result.model.groups[g].factor_mean_index
+        if index is None:
+            raise UsageError("latent means need a model with a mean structure")
         out[level_names[g]] = {}
         for j, factor in enumerate(result.model.factors):
             value, error = result.theta[index[j]], se[index[j]]
@@ -167,11 +170,12 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
     """
     notes: list[Note] = []
     left_out = dict(left_out or {})
-    empty = dict(name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns), strict=True)), left_out=left_out,
-                 freed=[], latent_mean_differences={}, observed_differences={})
+    levels = dict(zip(level_names, (int(n) for n in ns), strict=True))
     if len(covs) < 2:
-        return InvarianceResult(steps={}, changes={}, level=None, partial_scalar=None,
-                                notes=(note("too-few-levels", model=name, column=column, levels=len(covs)),), **empty)
+        return InvarianceResult(name=name, column=column, levels=levels, left_out=left_out, steps={}, changes={},
+                                level=None, freed=[], partial_scalar=None, latent_mean_differences={},
+                                observed_differences={},
+                                notes=(note("too-few-levels", model=name, column=column, levels=len(covs)),))
     data = (list(covs), list(ns), list(means))
     order = ["configural", "metric", "scalar"] + (["strict"] if strict else [])
     fits: dict[str, tuple[CfaFit, FitIndices]] = {step: _fit_level(base, data, step) for step in order}
@@ -207,7 +211,7 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
                 break
     latent = _latent_means(mean_model, level_names, confidence_level) if mean_model is not None else {}
     return InvarianceResult(
-        name=name, column=column, levels=dict(zip(level_names, (int(n) for n in ns), strict=True)), left_out=left_out,
+        name=name, column=column, levels=levels, left_out=left_out,
         steps=steps, changes=changes, level=level, freed=freed, partial_scalar=partial,
         latent_mean_differences=latent, observed_differences=observed_differences(base, covs, means, level_names),
         notes=tuple([verdict_note(name, column, level, partial, freed), *notes]))

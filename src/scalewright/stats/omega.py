@@ -12,7 +12,7 @@ from ..results import ResultMixin
 from .item_covariance import correlation_from_cov, is_invertible
 
 #: factor_analyzer bounds uniquenesses (of standardized items) below at this value; a fit that ends there is
-#: a Heywood case it clipped silently (REFERENCES.md, known problems)
+#: a Heywood case it clipped silently (docs/references.md, known problems)
 FACTOR_ANALYZER_UNIQUENESS_FLOOR = 0.005
 HEYWOOD_TOLERANCE = 1e-3
 
@@ -118,9 +118,9 @@ def _fixed_point_ml_stack(corr: np.ndarray, start: np.ndarray, *, max_iter: int 
     return settled, uniqueness
 
 
-def _fixed_point_ml(corr: np.ndarray, start: np.ndarray, **options: float) -> tuple[bool, np.ndarray]:
+def _fixed_point_ml(corr: np.ndarray, start: np.ndarray) -> tuple[bool, np.ndarray]:
     """:func:`_fixed_point_ml_stack` of one problem."""
-    settled, uniqueness = _fixed_point_ml_stack(corr[None], np.asarray(start)[None], **options)
+    settled, uniqueness = _fixed_point_ml_stack(corr[None], np.asarray(start)[None])
     return bool(settled[0]), uniqueness[0]
 
 
@@ -271,7 +271,7 @@ def omega_if_deleted_from_cov(cov: np.ndarray, *, start: np.ndarray | None = Non
         settled, uniqueness = _fixed_point_ml_stack(
             corr, np.clip(starts, FACTOR_ANALYZER_UNIQUENESS_FLOOR, 1.0))
     except (np.linalg.LinAlgError, ValueError):
-        settled, uniqueness = np.zeros(k, dtype=bool), None
+        settled, uniqueness = np.zeros(k, dtype=bool), np.full((k, corr.shape[1]), np.nan)
     for j in range(k):
         if settled[j]:
             standardized = _ml_loadings(uniqueness[j], corr[j])[0]

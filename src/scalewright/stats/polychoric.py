@@ -1,7 +1,7 @@
 """Polychoric (and tetrachoric) correlations by Olsson's two-step method, with standard errors.
 
 Hand-written because the general libraries lack a correct estimator (semopy's breaks with current scipy,
-REFERENCES.md): the one here is vectorised over every pair of items at once, from the pair tables of
+docs/references.md): the one here is vectorised over every pair of items at once, from the pair tables of
 :mod:`scalewright.stats.pair_tables`, so a 60-item matrix is a few array passes per iteration.
 """
 from __future__ import annotations

@@ -289,7 +289,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         if matrix.shape[1] != len(names):
             raise DataError(f"{len(names)} item name(s) given for {matrix.shape[1]} column(s)")
         descriptives = item_descriptives(matrix, low=low, high=high, reversed_mask=reversed_mask)
-    if summary is None:  # the answers as given (offsets from low), as the codes route sees them: same numbers
+        # the answers as given (offsets from low), as the codes route sees them: same numbers
         summary = PatternSummary.from_values(np.where(reversed_mask, high - matrix, matrix - low))
     estimate = None
     cov, n_used = stats.cov, stats.n_used
@@ -313,7 +313,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         notes.append(f"{descriptives.off_level} answer(s) are not whole answer codes from {low:g} to {high:g}; "
                      "they are left out of the answer counts")
     boot = None
-    if n_resamples:
+    if n_resamples and matrix is not None:  # resampling always takes the float route, which sets the matrix
         boot = bootstrap_alpha(matrix, n_resamples=n_resamples, confidence_level=confidence_level, seed=seed,
                                pairwise=pairwise)
     result = reliability_from_cov(cov, n_used, item_names=names, confidence_level=confidence_level,

@@ -57,11 +57,12 @@ def infer_resolution(values: np.ndarray, origin: float, span: float, *, coverage
     if span <= 0 or values.size == 0:
         return 0.0
     offsets = (values - origin) / span
-    total = None if counts is None else int(np.sum(counts))
+    weights = np.ones(values.size, dtype=np.int64) if counts is None else np.asarray(counts)
+    total = int(np.sum(weights))
     for divisions in range(1, max_divisions + 1):
         scaled = offsets * divisions
         on_grid = np.abs(scaled - np.round(scaled)) < 1e-6 * divisions
-        share = on_grid.mean() if counts is None else int(np.sum(counts[on_grid])) / total
+        share = int(np.sum(weights[on_grid])) / total
         if share >= coverage:
             return span / divisions
     return 0.0

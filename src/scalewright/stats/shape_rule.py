@@ -134,7 +134,7 @@ def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEviden
     window_density = window_sums / window_sizes
     centres = np.asarray(cells.centers)
     total = float(counts.sum())
-    best = (math.inf, math.nan, math.nan, ())
+    best: tuple[float, float, float, tuple[float, ...]] = (math.inf, math.nan, math.nan, ())
     for j in range(width, window_sums.size - width):
         left = int(np.argmax(window_density[: j - width + 1]))
         right = j + width + int(np.argmax(window_density[j + width:]))

@@ -8,7 +8,7 @@ project; the factor model comes from factor_analyzer through :mod:`scalewright.s
 from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -40,6 +40,9 @@ from .structure_results import (
 )
 from .unidimensionality import unidimensionality_of_correlation
 
+if TYPE_CHECKING:
+    from .item_covariance import ItemCovariance
+
 __all__ = ["StructureResult", "analyse_structure"]
 
 
@@ -67,14 +70,14 @@ def _validate_names(keyed: np.ndarray, item_names: Sequence[str], item_scale: Ma
         raise DataError(f"item(s) {', '.join(unknown)} have no scale in item_scale")
 
 
-def analyse_structure(keyed_matrix: np.ndarray, *, item_names: Sequence[str], item_scale: Mapping[str, str],
+def analyse_structure(keyed_matrix: np.ndarray | None, *, item_names: Sequence[str], item_scale: Mapping[str, str],
                       scale_items: Mapping[str, Sequence[str]] | None = None,
                       n_factors: int | str | None = None, rotation: str = "oblimin", method: str = "minres",
                       seed: int | np.random.Generator | None = DEFAULT_SEED, iterations: int = 100,
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
                       max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
                       correlation_type: str = "pearson", correlation_notes: Sequence[Any] = (),
-                      missing: str = "listwise", covariance: Any = None) -> StructureResult:
+                      missing: str = "listwise", covariance: ItemCovariance | None = None) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
