@@ -1,0 +1,5 @@
+"""Sentences of subgroups, compare and tally."""
+from __future__ import annotations
+
+GROUPS: dict[str, str] = {
+}
