@@ -123,12 +123,12 @@ def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas(a
     # reference: pingouin.cronbach_alpha on complete data; pandas describe/value_counts for item descriptives
     import pingouin
 
-    from scalewright.stats.coded import CodedAnswers
+    from scalewright.answer_codes import ItemAnswers
 
     rng = np.random.default_rng(44)
     x = rating_scale(250, 6, rng)
     names = [f"q{j}" for j in range(1, 7)]
-    data = CodedAnswers(np.asfortranarray((x - 1).astype(np.uint8))) if as_codes else x
+    data = ItemAnswers.from_codes(np.asfortranarray((x - 1).astype(np.uint8)), 1, 5) if as_codes else x
     result = scale_reliability(data, item_names=names, low=1, high=5)
     alpha, ci = pingouin.cronbach_alpha(pd.DataFrame(x))
     assert result.alpha == pytest.approx(alpha, rel=1e-10)

@@ -16,10 +16,10 @@ from typing import Any
 
 import numpy as np
 
+from ..answer_codes import ItemAnswers
 from ..errors import DataError
 from ..results import ResultMixin
 from .bootstrap import AlphaBootstrap
-from .coded import CodedAnswers
 from .item_analysis import (
     ItemDescriptives,
     ItemStatistics,
@@ -193,7 +193,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes))
 
 
-def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[str], low: float, high: float,
+def scale_reliability(keyed: np.ndarray | ItemAnswers, *, item_names: Sequence[str], low: float, high: float,
                       confidence_level: float = 0.95, pairwise: bool = False,
                       thresholds: ReliabilityThresholds = DEFAULT_THRESHOLDS,
                       reversed_items: Sequence[str] = (), n_resamples: int = 0,
@@ -202,9 +202,9 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
 
     Parameters
     ----------
-    keyed : (n, k) array or CodedAnswers
+    keyed : (n, k) array or ItemAnswers
         Answers after reverse keying, NaN for missing; or the answers as given, as one-byte codes
-        (:class:`~scalewright.stats.coded.CodedAnswers`), which this function keys itself. Codes make the
+        (:class:`~scalewright.answer_codes.ItemAnswers`), which this function keys itself. Codes make the
         statistics several times cheaper on large samples; the results are the same up to rounding.
     item_names : sequence of str
         The k item names, in column order.
@@ -259,9 +259,9 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                          "every resample; the interval under em is Feldt's (see the note)")
 
     names = tuple(item_names)
-    if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
+    if isinstance(keyed, ItemAnswers) and keyed.shape[1] != len(names):
         raise DataError(f"{len(names)} item name(s) given for {keyed.shape[1]} column(s)")
-    if isinstance(keyed, CodedAnswers) and not (float(low).is_integer() and float(high).is_integer()):
+    if isinstance(keyed, ItemAnswers) and not (float(low).is_integer() and float(high).is_integer()):
         raise DataError(f"answer codes need a whole-number answer range, got {low} to {high}")
     unknown = set(reversed_items) - set(names)
     if unknown:
@@ -272,7 +272,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
     summary = None
-    if isinstance(keyed, CodedAnswers) and not n_resamples:
+    if isinstance(keyed, ItemAnswers) and not n_resamples:
         summary = PatternSummary.from_codes(keyed.codes)
         if pairwise:
             stats = pairwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
@@ -282,7 +282,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
     else:
-        if isinstance(keyed, CodedAnswers):  # the bootstrap resamples the keyed values
+        if isinstance(keyed, ItemAnswers):  # the bootstrap resamples the keyed values
             keyed = keyed.keyed_values(low=int(low), high=int(high), reversed_mask=reversed_mask)
         stats = item_covariance(keyed, pairwise=pairwise)  # validates the matrix
         matrix = np.asarray(keyed, dtype=np.float64)

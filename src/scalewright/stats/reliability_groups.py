@@ -6,8 +6,8 @@ from typing import Any
 
 import numpy as np
 
+from ..answer_codes import ItemAnswers
 from ..results import ResultMixin
-from .coded import CodedAnswers
 from .reliability import ScaleReliability, scale_reliability
 from .reliability_coefficients import alpha_difference_test
 from .subgroups import SubgroupSplit
@@ -76,17 +76,17 @@ class GroupReliability(ResultMixin):
                 "comparisons": [c.to_dict() for c in self.comparisons], "notes": list(self.notes)}
 
 
-def _rows(data: np.ndarray | CodedAnswers, positions: np.ndarray) -> np.ndarray | CodedAnswers:
-    return data.rows(positions) if isinstance(data, CodedAnswers) else data[positions]
+def _rows(data: np.ndarray | ItemAnswers, positions: np.ndarray) -> np.ndarray | ItemAnswers:
+    return data.subset(positions) if isinstance(data, ItemAnswers) else data[positions]
 
 
-def reliability_by_group(keyed: np.ndarray | CodedAnswers, split: SubgroupSplit, **options: Any) -> GroupReliability:
+def reliability_by_group(keyed: np.ndarray | ItemAnswers, split: SubgroupSplit, **options: Any) -> GroupReliability:
     """:func:`scale_reliability` for each analysable level of ``split`` and Feldt tests between them.
 
     ``split`` comes from :func:`scalewright.stats.subgroups.split_by`; its levels below the minimum size
     are named in ``too_small`` but not analysed. ``options`` are passed to :func:`scale_reliability`.
     """
-    data = keyed if isinstance(keyed, CodedAnswers) else np.asarray(keyed, dtype=np.float64)
+    data = keyed if isinstance(keyed, ItemAnswers) else np.asarray(keyed, dtype=np.float64)
     levels = {level: scale_reliability(_rows(data, positions), **options) for level, positions in split.levels.items()}
     notes = list(split.notes())
     if len(levels) < 2:
