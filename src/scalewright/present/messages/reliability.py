@@ -24,6 +24,44 @@ RELIABILITY: dict[str, str] = {
                            "may do."),
 }
 
+#: notes of one scale's reliability (what could not be computed, how missing answers were handled)
+RELIABILITY_NOTES: dict[str, str] = {
+    "reliability-one-item": "only one item: alpha, omega and the other consistency statistics need at least 2 items",
+    "reliability-too-few-rows": "only {n_used} usable row(s): the statistics need at least {needed}",
+    "covariance-incomplete": "some item pairs have fewer than 2 rows in common: the covariance matrix is incomplete",
+    "items-no-variance": "no variance among the rows used for {items}: item-rest r, standardized alpha, inter-item "
+                         "correlations, lambda6 and omega are undefined",
+    "total-no-variance": "the scale's total has no variance among the rows used: alpha is undefined",
+    "covariance-singular": "the item covariance matrix is singular (an item is an exact linear combination of "
+                           "others): lambda6 and omega are undefined",
+    "pairwise-not-positive-semidefinite": "the pairwise covariance matrix is not positive semi-definite: treat the "
+                                          "results with caution",
+    "omega-needs-three-items": "omega needs at least 3 items for a one-factor model",
+    "omega-if-deleted-needs-four-items": "omega if deleted needs at least 4 items (a one-factor model needs 3)",
+    "omega-not-fitted": "the one-factor model could not be fitted: omega is undefined",
+    "omega-ml-not-converged": "maximum-likelihood one-factor fit did not converge; minres used instead",
+    "omega-minres-not-converged": "minres one-factor fit did not converge either; omega is uncertain",
+    "omega-heywood": "improper one-factor solution (Heywood case): the uniqueness of {items} reached the fitting "
+                     "bound of .005; omega may be overstated",
+    "pairwise-deletion": "pairwise deletion: each covariance uses the rows that answered both items ({n_min} to "
+                         "{n_max} rows); the confidence interval uses the smallest count, {n_min}",
+    "reliability-listwise-set-aside": "listwise deletion: {set_aside} of {n_rows} row(s) did not answer every item "
+                                      "and were set aside",
+    "off-level-answers": "{count} answer(s) are not whole answer codes from {low} to {high}; they are left out of "
+                         "the answer counts",
+    "alphas-not-compared": "{column}: fewer than two levels with at least {min_size} respondents; no comparison of "
+                           "alphas",
+}
+
+
+def reliability_note_message(code: str, values: Mapping[str, Any]) -> str:
+    """The sentence of one reliability note from its values (the answer range as written: 1, 0.5)."""
+    from .values import _plain
+
+    shown = {key: (f"{value:g}" if key in ("low", "high") and isinstance(value, (int, float)) else _plain(value))
+             for key, value in values.items()}
+    return RELIABILITY_NOTES[code].format(**shown)
+
 
 def reliability_flag_message(code: str, values: Mapping[str, Any]) -> str:
     """The sentence of one reliability flag (``miskey-suspect``, ``weak-item``, ...) from its values.

@@ -12,7 +12,7 @@ from .groups import GROUPS
 from .missing import MISSING
 from .ordinal import ORDINAL
 from .reading import READING
-from .reliability import RELIABILITY, reliability_flag_message
+from .reliability import RELIABILITY, RELIABILITY_NOTES, reliability_flag_message, reliability_note_message
 from .screening import SCREENING
 from .shape import SHAPE, shape_message
 from .structure import STRUCTURE, STRUCTURE_FLAGS, structure_message
@@ -54,6 +54,9 @@ def word_document(document: Any) -> Any:
         elif document.get("message") == "" and isinstance(document.get("values"), dict) and "code" in document:
             document["message"] = (reliability_flag_message(code, document["values"]) if code in RELIABILITY
                                    else describe(Note(code=code, values=document["values"])))
+        elif document.get("message") == "" and code in _all_templates():  # any other note: values beside its code
+            document["message"] = describe(Note(code=code, values={k: v for k, v in document.items()
+                                                                  if k not in ("code", "message")}))
         for value in document.values():
             word_document(value)
     elif isinstance(document, list):
@@ -64,7 +67,7 @@ def word_document(document: Any) -> Any:
 
 def _all_templates() -> dict[str, str]:
     merged: dict[str, str] = {}
-    for block in (READING, RELIABILITY, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
+    for block in (READING, RELIABILITY, RELIABILITY_NOTES, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
                   WEIGHTS, ENGINE, DRAFTING):
         clash = merged.keys() & block.keys()
         if clash:
@@ -84,6 +87,8 @@ def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> st
         return structure_message(note.code, note.values)
     if note.code in SHAPE and not formatted:
         return shape_message(note.code, note.values)
+    if note.code in RELIABILITY_NOTES and not formatted:
+        return reliability_note_message(note.code, note.values)
     template = _all_templates().get(note.code)
     values = {key: _plain(value) for key, value in note.values.items()}
     values.update(formatted or {})
