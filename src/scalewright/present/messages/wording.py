@@ -8,7 +8,7 @@ from ...notes import Note
 from .confirm import CONFIRM
 from .drafting import DRAFTING
 from .engine import ENGINE
-from .groups import GROUPS
+from .groups import GROUPS, groups_note_message
 from .missing import MISSING
 from .ordinal import ORDINAL
 from .reading import READING
@@ -87,6 +87,8 @@ def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> st
         return structure_message(note.code, note.values)
     if note.code in SHAPE and not formatted:
         return shape_message(note.code, note.values)
+    if note.code in GROUPS and not formatted:
+        return groups_note_message(note.code, note.values)
     if note.code in RELIABILITY_NOTES and not formatted:
         return reliability_note_message(note.code, note.values)
     template = _all_templates().get(note.code)
