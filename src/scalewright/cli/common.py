@@ -18,6 +18,23 @@ from ..present.table import Table
 FORMATS = ("table", "json", "md", "csv")
 
 
+#: the option that carries each library setting an error can name (``ScalewrightError.setting``), with its hint
+OPTION_HINTS = {
+    "lenient": "--lenient reads such values as missing (counted)",
+    "sheet": "--sheet is for workbooks only",
+    "standardize": "--standardize takes pomp or z",
+}
+
+
+def error_line(error: Exception) -> str:
+    """The one-line error text, with the option that gets past it when the library names a setting."""
+    from ..errors import one_line
+
+    text = one_line(str(error))
+    hint = OPTION_HINTS.get(getattr(error, "setting", ""))
+    return f"{text}; {hint}" if hint else text
+
+
 def data_argument(fn: Callable) -> Callable:
     return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(fn)
 
