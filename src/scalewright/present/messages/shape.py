@@ -38,6 +38,12 @@ SHAPE: dict[str, str] = {
     "shape-not-given-constant": "shape label not given: every score is the same value",
     "shape-not-given-too-few": "shape label not given: too few scores",
     "shape-not-given-below-minimum": "shape label not given: fewer than {minimum} scores",
+    # notes of the moments and of the histogram cells
+    "moments-too-few": "only {n} score(s): skewness and kurtosis need at least 3 (kurtosis 4)",
+    "moments-constant": "every score is the same value: skewness and kurtosis are undefined",
+    "kurtosis-too-few": "kurtosis needs at least 4 scores",
+    "last-interval-closed": "the last interval [{low}, {high}] includes its upper end",
+    "last-interval-size": "the last interval holds {size} score value(s), the others {others}",
     "subgroup-unscored": "{unscored} respondent(s) without a score left out of the {column} subgroups",
 }
 
@@ -115,4 +121,11 @@ def shape_message(code: str, values: Mapping[str, Any]) -> str:
     if code in ("floor-effect", "ceiling-effect"):
         return SHAPE[code].format(share_pct=format_value(v.get("share_pct"), "pct"),
                                   threshold_pct=f"{v.get('threshold_pct', 15):g}")
+    if code == "last-interval-closed":  # the edges as the interval labels show them: up to 3 decimals, trimmed
+        return SHAPE[code].format(**{key: _trimmed(v[key]) for key in ("low", "high")})
     return SHAPE[code].format(**{key: _plain(value) for key, value in v.items()})
+
+
+def _trimmed(value: float, decimals: int = 3) -> str:
+    text = f"{value:.{decimals}f}"
+    return text.rstrip("0").rstrip(".") if "." in text else text
