@@ -37,6 +37,17 @@ STRUCTURE: dict[str, str] = {
                             "respondents than items): no factor analysis",
     "scales-without-factor": "fewer factors ({n_factors}) than scales ({n_scales}): no factor of its own for "
                              "{scales}; its items are not checked against a factor",
+    # notes of the factor extraction and rotation, and of Bartlett's test
+    "extraction-not-converged": "the {method} extraction did not converge ({detail}); treat the loadings as "
+                                "provisional",
+    "rotation-not-settled": "the {rotation} rotation did not settle within {iterations} iteration(s); treat the "
+                            "loadings as provisional",
+    "factor-heywood": "{count} item(s) reached the lowest allowed uniqueness ({floor}), a Heywood case: the model "
+                      "explains them almost entirely, often a sign of too many factors, too few respondents or "
+                      "near-duplicate items",
+    "bartlett-too-few-items": "Bartlett's test needs at least two items",
+    "bartlett-too-few-respondents": "Bartlett's test needs more respondents than (2p + 11)/6 = {needed} for {p} "
+                                    "items; {n} were used",
     "factors-without-scale": "factor(s) {factors} belong to no scale: a dimension the scale file does not name, or a "
                              "method factor (e.g. the reverse-worded items)",
 }
@@ -94,6 +105,10 @@ def structure_message(code: str, values: Mapping[str, Any], *, flag: bool = Fals
     if code == "low-kmo-overall":
         values["kmo"], values["cutoff"] = _size_against(values["kmo"], values["cutoff"])
         return STRUCTURE[code].format(**values)
+    if code == "factor-heywood":  # the bound as set, not rounded
+        return STRUCTURE[code].format(count=values["count"], floor=f"{values['floor']:g}")
+    if code == "bartlett-too-few-respondents":
+        return STRUCTURE[code].format(needed=f"{values['needed']:.1f}", p=values["p"], n=values["n"])
     if code == "bartlett-not-rejected":
         from ..numbers import format_value
 
