@@ -159,7 +159,9 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
         digests = pool.submit(InputInfo.from_paths, data, scales)
         responses = read_responses(data, spec, lenient=lenient, sheet=chosen_sheet())
         info = digests.result()
-    notes: list[str] = list(responses.notes())
+    from ..present.messages import describe
+
+    notes: list[str] = [describe(n) for n in responses.notes()]
     exclusion = None
     if exclude is not None:
         from ..exclusion import exclude_respondents, read_exclusion_list

@@ -11,7 +11,7 @@ from .engine import ENGINE
 from .groups import GROUPS, groups_note_message
 from .missing import MISSING
 from .ordinal import ORDINAL
-from .reading import READING
+from .reading import READING, reading_message
 from .reliability import RELIABILITY, RELIABILITY_NOTES, reliability_flag_message, reliability_note_message
 from .screening import SCREENING
 from .shape import SHAPE, shape_message
@@ -87,6 +87,8 @@ def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> st
         return structure_message(note.code, note.values)
     if note.code in SHAPE and not formatted:
         return shape_message(note.code, note.values)
+    if note.code in ("values-read-as-missing", "missing-texts-read") and not formatted:
+        return reading_message(note.code, note.values)
     if note.code in GROUPS and not formatted:
         return groups_note_message(note.code, note.values)
     if note.code in RELIABILITY_NOTES and not formatted:
