@@ -87,6 +87,17 @@ class ScaleReliability(ResultMixin):
         return {(flag.item, flag.code) for flag in self.flags}
 
 
+def deletion_notes(stats: Any, method: str) -> list[Note]:
+    """How missing answers were handled, as notes: the pair counts under pairwise deletion, or the rows set
+    aside listwise (``stats`` an :class:`~scalewright.stats.item_covariance.ItemCovariance`)."""
+    if method == "pairwise":
+        return [note("pairwise-deletion", n_min=int(stats.n_used), n_max=int(stats.pair_counts.max()) if stats.k else 0)]
+    if method == "listwise" and stats.n_rows > stats.n_used:
+        return [note("reliability-listwise-set-aside", set_aside=int(stats.n_rows - stats.n_used),
+                     n_rows=int(stats.n_rows))]
+    return []
+
+
 def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[str],
                          confidence_level: float = 0.95,
                          thresholds: ReliabilityThresholds = DEFAULT_THRESHOLDS,
@@ -298,13 +309,7 @@ def scale_reliability(keyed: np.ndarray | ItemAnswers, *, item_names: Sequence[s
     # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
     # divisor cancels in every statistic here), so em and listwise agree exactly
     handling = missing_handling(summary, method, n_used=n_used, estimate=estimate, item_names=names)
-    notes: list[Note | str] = []
-    if pairwise:
-        notes.append(note("pairwise-deletion", n_min=int(stats.n_used),
-                          n_max=int(stats.pair_counts.max()) if stats.k else 0))
-    elif method == "listwise" and stats.n_rows > stats.n_used:
-        notes.append(note("reliability-listwise-set-aside", set_aside=int(stats.n_rows - stats.n_used),
-                          n_rows=int(stats.n_rows)))
+    notes: list[Note | str] = list(deletion_notes(stats, method))
     if descriptives.off_level:
         notes.append(note("off-level-answers", count=int(descriptives.off_level), low=float(low), high=float(high)))
     boot = None
