@@ -2,10 +2,12 @@
 from __future__ import annotations
 
 import numpy as np
+import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from scalewright.answer_codes import MISSING, ItemAnswers
+from scalewright.errors import DataError
 
 NAN = np.nan
 
@@ -44,3 +46,23 @@ def test_a_subset_keeps_codes_and_the_row_order():
     assert part.n == 2
     assert part.codes_of([0, 1]).tolist() == [[2, 3], [0, 4]]
     np.testing.assert_array_equal(part.values, [[3.0, 3.0], [1.0, 4.0]])
+
+
+def test_one_scale_read_as_codes_and_keyed_values():
+    # one scale of range 1-5 given as codes (one number for every item's range), keyed by hand:
+    # reversed item -> high - code, others -> low + code (common practice, no source)
+    codes = np.array([[0, 4, 2], [MISSING, 1, 3], [4, MISSING, 0]], dtype=np.uint8)
+    answers = ItemAnswers.from_codes(codes, 1, 5)
+    assert answers.shape == (3, 3)
+    assert not answers.codes.flags.writeable
+    reversed_mask = np.array([False, True, False])
+    expected = np.array([[1.0, 1.0, 3.0], [NAN, 4.0, 4.0], [5.0, NAN, 1.0]])
+    np.testing.assert_array_equal(answers.keyed_values(low=1, high=5, reversed_mask=reversed_mask), expected)
+
+
+def test_answers_off_the_levels_have_no_codes_matrix():
+    answers = ItemAnswers.from_values(np.array([[1.0, 2.5], [2.0, 3.0]]), lows=[1, 1], highs=[5, 5])
+    with pytest.raises(DataError, match="item 2 are not whole levels"):
+        _ = answers.codes
+    with pytest.raises(DataError, match="uint8"):
+        ItemAnswers.from_codes(np.zeros((2, 2), dtype=np.int64), 1, 5)

@@ -8,10 +8,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scalewright.answer_codes import MISSING
+from scalewright.answer_codes import MISSING, ItemAnswers
 from scalewright.errors import DataError
 from scalewright.results import to_jsonable
-from scalewright.stats.coded import CodedAnswers, answer_tally, listwise_covariance, pairwise_covariance
+from scalewright.stats.coded import answer_tally, listwise_covariance, pairwise_covariance
 from scalewright.stats.reliability import scale_reliability
 from scalewright.stats.reliability_groups import reliability_by_group
 from scalewright.stats.subgroups import split_by
@@ -56,7 +56,7 @@ def test_listwise_covariance_equals_numpy_on_the_complete_keyed_rows(span, missi
     codes = coded_scale(rng, 3000, 5, span, missing)
     low = -2
     reversed_mask = np.array([False, True, False, False, True])
-    result = listwise_covariance(CodedAnswers(codes), low=low, high=low + span, reversed_mask=reversed_mask)
+    result = listwise_covariance(ItemAnswers.from_codes(codes, low, low + span), low=low, high=low + span, reversed_mask=reversed_mask)
     values = keyed_floats(codes, low, low + span, reversed_mask)
     complete = values[~np.isnan(values).any(axis=1)]
     # reference: numpy.cov (ddof 1) and mean on the rows that answered every item
@@ -71,7 +71,7 @@ def test_cross_products_stay_exact_over_several_full_blocks(span):
     rng = np.random.default_rng(span)
     codes = np.asfortranarray(rng.integers(span - 2, span + 1, (40_000, 3)).astype(np.uint8))  # near the top
     codes[::97, 1] = MISSING
-    result = listwise_covariance(CodedAnswers(codes), low=0, high=span, reversed_mask=np.zeros(3, dtype=bool))
+    result = listwise_covariance(ItemAnswers.from_codes(codes, 0, span), low=0, high=span, reversed_mask=np.zeros(3, dtype=bool))
     complete = codes[codes[:, 1] != MISSING].astype(np.float64)
     # reference: numpy.cov and mean on the complete rows, in float64
     np.testing.assert_allclose(result.cov, np.cov(complete, rowvar=False), rtol=1e-11)
@@ -92,7 +92,7 @@ def test_float_and_code_routes_of_pairwise_covariance_agree_with_pandas():
     codes[:1, 4] = 2  # the last item answered once: no pair with it has 2 rows, so its covariances are NaN
     reversed_mask = np.array([False, True, False, False, False])
     values = keyed_floats(codes, 1, 5, reversed_mask)
-    from_codes = pairwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
+    from_codes = pairwise_covariance(ItemAnswers.from_codes(codes, 1, 5), low=1, high=5, reversed_mask=reversed_mask)
     from_floats = item_covariance(values, pairwise=True)
     # reference: pandas DataFrame.cov(min_periods=2), pairwise complete observations, NaN below 2 rows
     expected = pd.DataFrame(values).cov(min_periods=2).to_numpy()
@@ -110,7 +110,7 @@ def test_pairwise_covariance_equals_pandas(span, missing):
     rng = np.random.default_rng(20 + span)
     codes = coded_scale(rng, 2500, 4, span, missing)
     reversed_mask = np.array([True, False, False, True])
-    result = pairwise_covariance(CodedAnswers(codes), low=0, high=span, reversed_mask=reversed_mask)
+    result = pairwise_covariance(ItemAnswers.from_codes(codes, 0, span), low=0, high=span, reversed_mask=reversed_mask)
     values = pd.DataFrame(keyed_floats(codes, 0, span, reversed_mask))
     # reference: pandas DataFrame.cov, which uses the rows where both items are answered
     np.testing.assert_allclose(result.cov, values.cov().to_numpy(), rtol=1e-12, atol=1e-13)
@@ -124,7 +124,7 @@ def test_answer_tally_equals_numpy_bincount_on_both_counting_paths():
     rng = np.random.default_rng(3)
     for span in (4, 20):  # few levels: one comparison per level; many: a histogram
         codes = coded_scale(rng, 2000, 3, span, 0.05)
-        tally = answer_tally(CodedAnswers(codes), span + 1)
+        tally = answer_tally(ItemAnswers.from_codes(codes, 0, span), span + 1)
         for j in range(3):
             answered = codes[:, j][codes[:, j] != MISSING]
             np.testing.assert_array_equal(tally[j], np.bincount(answered, minlength=span + 1))
@@ -133,11 +133,11 @@ def test_answer_tally_equals_numpy_bincount_on_both_counting_paths():
 def test_codes_beyond_the_answer_levels_are_refused():
     codes = np.array([[0, 1], [7, 2], [1, MISSING]], dtype=np.uint8)
     with pytest.raises(DataError, match="beyond the 5 answer levels"):
-        answer_tally(CodedAnswers(codes), 5)
+        answer_tally(ItemAnswers.from_codes(codes, 0, 4), 5)
     with pytest.raises(DataError, match="uint8"):
-        CodedAnswers(codes.astype(np.int64))
+        ItemAnswers.from_codes(codes.astype(np.int64), 0, 4)
     with pytest.raises(DataError, match="whole-number answer range"):
-        scale_reliability(CodedAnswers(codes), item_names=["a", "b"], low=0.5, high=4.5)
+        scale_reliability(ItemAnswers.from_codes(codes, 0, 4), item_names=["a", "b"], low=0.5, high=4.5)
 
 
 def without_the_factor_fit(result: dict) -> dict:
@@ -159,7 +159,7 @@ def test_scale_reliability_from_codes_equals_the_float_route(seed, n, k, span, m
     reversed_items = [name for name in names if rng.random() < 0.4]
     mask = np.array([name in reversed_items for name in names])
     options = dict(item_names=names, low=1, high=1 + span, reversed_items=reversed_items)
-    from_codes = to_jsonable(scale_reliability(CodedAnswers(codes), **options).to_dict())
+    from_codes = to_jsonable(scale_reliability(ItemAnswers.from_codes(codes, 1, 1 + span), **options).to_dict())
     from_floats = to_jsonable(scale_reliability(keyed_floats(codes, 1, 1 + span, mask), **options).to_dict())
     if from_codes["heywood_items"] or from_floats["heywood_items"]:
         # an improper (Heywood) solution need not be unique: with items alike, any one of them may take the
@@ -174,7 +174,7 @@ def test_pairwise_and_bootstrap_from_codes_equal_the_float_route(options):
     codes = coded_scale(np.random.default_rng(9), 400, 4, 4, 0.08)
     mask = np.array([False, False, True, False])
     common = dict(item_names=list("abcd"), low=1, high=5, reversed_items=["c"], **options)
-    from_codes = scale_reliability(CodedAnswers(codes), **common).to_dict()
+    from_codes = scale_reliability(ItemAnswers.from_codes(codes, 1, 5), **common).to_dict()
     from_floats = scale_reliability(keyed_floats(codes, 1, 5, mask), **common).to_dict()
     assert nearly_equal(to_jsonable(from_codes), to_jsonable(from_floats))
 
@@ -187,7 +187,7 @@ def test_subgroups_from_codes_equal_the_float_route():
     split = split_by(pd.Series(rng.choice(["a", "b", "c"], 900)), min_size=10, column="site")
     options = dict(item_names=list("vwxyz"), low=1, high=5, reversed_items=["x"])
     mask = np.array([False, False, True, False, False])
-    from_codes = reliability_by_group(CodedAnswers(codes), split, **options).to_dict()
+    from_codes = reliability_by_group(ItemAnswers.from_codes(codes, 1, 5), split, **options).to_dict()
     from_floats = reliability_by_group(keyed_floats(codes, 1, 5, mask), split, **options).to_dict()
     assert nearly_equal(to_jsonable(from_codes), to_jsonable(from_floats))
 

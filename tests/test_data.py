@@ -112,7 +112,12 @@ def test_lenient_turns_bad_values_into_counted_missing_values(write_file, spec):
     assert np.isnan(responses.items[2, 2])
     assert responses.refused_total == 2
     assert responses.refused_by_column == {"wl1": 1, "wl3": 1}
-    assert any("2 value(s) were neither an answer nor a missing code" in n for n in responses.notes())
+    refused = [n for n in responses.notes() if n.code == "values-read-as-missing"]
+    assert len(refused) == 1
+    assert refused[0].values["count"] == 2
+    from scalewright.present.messages import describe
+
+    assert describe(refused[0]).endswith("treated as missing (--lenient): wl1 1, wl3 1")
 
 
 @pytest.mark.parametrize(("content", "expected"), [

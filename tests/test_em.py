@@ -77,11 +77,11 @@ def test_nothing_missing_em_reliability_equals_listwise_exactly():
     rng = np.random.default_rng(4)
     latent = rng.standard_normal((300, 1))
     codes = np.clip(np.round(2 + latent + rng.standard_normal((300, 5))), 0, 4).astype(np.uint8)
-    from scalewright.stats.coded import CodedAnswers
+    from scalewright.answer_codes import ItemAnswers
 
     options = dict(item_names=[f"i{j}" for j in range(5)], low=1, high=5, reversed_items=["i2"])
-    listwise = scale_reliability(CodedAnswers(codes), **options).to_dict()
-    em = scale_reliability(CodedAnswers(codes), missing="em", **options).to_dict()
+    listwise = scale_reliability(ItemAnswers.from_codes(codes, 1, 5), **options).to_dict()
+    em = scale_reliability(ItemAnswers.from_codes(codes, 1, 5), missing="em", **options).to_dict()
     for key in ("alpha", "alpha_ci", "omega_total", "lambda2", "lambda6", "alpha_standardized", "n_used", "items"):
         assert em[key] == listwise[key], key
     assert em["missing_method"] == "em"
@@ -274,14 +274,15 @@ def test_listwise_from_the_summary_equals_the_complete_rows(block):
     # Outside reference: numpy's mean and cov (ddof 1) of the rows with every item answered, keyed by hand
     # (reversed item: high - code; others: low + code); and, to the last bit, the project's own listwise
     # route from the codes, since reliability now takes the listwise matrix from the summary.
-    from scalewright.stats.coded import CodedAnswers, listwise_covariance
+    from scalewright.answer_codes import ItemAnswers
+    from scalewright.stats.coded import listwise_covariance
     from scalewright.stats.missing import listwise_from_summary
 
     codes, _ = block
     k = codes.shape[1]
     reversed_mask = np.arange(k) % 2 == 1
     ours = listwise_from_summary(PatternSummary.from_codes(codes), low=1, high=5, reversed_mask=reversed_mask)
-    theirs = listwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
+    theirs = listwise_covariance(ItemAnswers.from_codes(codes, 1, 5), low=1, high=5, reversed_mask=reversed_mask)
     np.testing.assert_array_equal(ours.cov, theirs.cov)
     np.testing.assert_array_equal(ours.means, theirs.means)
     assert (ours.n_used, ours.n_rows) == (theirs.n_used, theirs.n_rows)

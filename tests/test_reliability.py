@@ -82,7 +82,7 @@ def test_omega_signs_are_aligned_and_heywood_case_noted():
     corr = np.array([[1.0, 0.9, 0.9, 0.9], [0.9, 1.0, 0.7, 0.7], [0.9, 0.7, 1.0, 0.95], [0.9, 0.7, 0.95, 1.0]])
     result = reliability_from_cov(corr, 500, item_names=["a", "b", "c", "d"])
     assert result.heywood_items
-    assert any("Heywood" in note for note in result.notes)
+    assert "omega-heywood" in {note.code for note in result.notes}
 
 
 # ---------------------------------------------------------------------------------------------- bootstrap
@@ -123,12 +123,12 @@ def test_scale_reliability_matches_pingouin_and_item_descriptives_match_pandas(a
     # reference: pingouin.cronbach_alpha on complete data; pandas describe/value_counts for item descriptives
     import pingouin
 
-    from scalewright.stats.coded import CodedAnswers
+    from scalewright.answer_codes import ItemAnswers
 
     rng = np.random.default_rng(44)
     x = rating_scale(250, 6, rng)
     names = [f"q{j}" for j in range(1, 7)]
-    data = CodedAnswers(np.asfortranarray((x - 1).astype(np.uint8))) if as_codes else x
+    data = ItemAnswers.from_codes(np.asfortranarray((x - 1).astype(np.uint8)), 1, 5) if as_codes else x
     result = scale_reliability(data, item_names=names, low=1, high=5)
     alpha, ci = pingouin.cronbach_alpha(pd.DataFrame(x))
     assert result.alpha == pytest.approx(alpha, rel=1e-10)
@@ -160,12 +160,12 @@ def test_listwise_and_pairwise_missing_handling():
     assert listwise.n_used == len(complete)
     assert listwise.n_set_aside == 400 - len(complete)
     assert listwise.alpha == pytest.approx(pingouin.cronbach_alpha(complete)[0], rel=1e-12)
-    assert any("listwise" in note for note in listwise.notes)
+    assert "reliability-listwise-set-aside" in {note.code for note in listwise.notes}
     pairwise = scale_reliability(x, item_names=names, low=1, high=5, pairwise=True)
     assert pairwise.missing_handling == "pairwise"
     assert pairwise.alpha == pytest.approx(pingouin.cronbach_alpha(pd.DataFrame(x), nan_policy="pairwise")[0],
                                            rel=1e-12)
-    assert any("pairwise" in note for note in pairwise.notes)
+    assert "pairwise-deletion" in {note.code for note in pairwise.notes}
     assert pairwise.items["a"].missing_pct == pytest.approx(100 * np.isnan(x[:, 0]).mean(), rel=1e-12)
 
 
@@ -225,10 +225,10 @@ def test_degenerate_inputs_give_nulls_and_notes():
     # common practice, no source: undefined statistics are null, with a reason
     one_item = scale_reliability(np.arange(10.0)[:, None], item_names=["a"], low=0, high=9)
     assert math.isnan(one_item.alpha)
-    assert any("one item" in n for n in one_item.notes)
+    assert "reliability-one-item" in {n.code for n in one_item.notes}
     two_rows = scale_reliability(np.array([[1.0, 2, 3], [2, 3, 4]]), item_names=list("abc"), low=1, high=5)
     assert math.isnan(two_rows.alpha)
-    assert any("at least 3" in n for n in two_rows.notes)
+    assert {"code": "reliability-too-few-rows", "n_used": 2, "needed": 3} in [n.to_dict() for n in two_rows.notes]
     rng = np.random.default_rng(1)
     x = rating_scale(100, 4, rng)
     x[:, 1] = 3.0
@@ -236,11 +236,11 @@ def test_degenerate_inputs_give_nulls_and_notes():
     assert math.isfinite(constant.alpha)
     assert math.isnan(constant.omega_total)
     assert math.isnan(constant.items["b"].item_rest_r)
-    assert any("no variance" in n for n in constant.notes)
+    assert "items-no-variance" in {n.code for n in constant.notes}
     y = rating_scale(100, 3, rng)
     singular = scale_reliability(np.column_stack([y, y.sum(1)]), item_names=list("abcd"), low=1, high=15)
     assert math.isnan(singular.lambda6)
-    assert any("singular" in n for n in singular.notes)
+    assert "covariance-singular" in {n.code for n in singular.notes}
     for result in (one_item, two_rows, constant, singular):
         json.dumps(to_jsonable(result.to_dict()), allow_nan=False)
 
@@ -388,3 +388,16 @@ def test_weak_item_message_near_the_cutoff_reads_true():
 
     sentence = reliability_flag_message("weak-item", {"item": "x1", "item_rest_r": 0.2996, "cutoff": 0.30})
     assert "item-rest r = .2996, below .30" in sentence
+
+
+def test_reliability_notes_are_worded_in_present():
+    # each note code has its own sentence (not the fallback "code: values"); the range is written as given
+    from scalewright.notes import note
+    from scalewright.present.messages import describe
+
+    assert describe(note("reliability-too-few-rows", n_used=2, needed=3)) == (
+        "only 2 usable row(s): the statistics need at least 3")
+    assert describe(note("off-level-answers", count=4, low=1.0, high=5.0)).startswith(
+        "4 answer(s) are not whole answer codes from 1 to 5;")
+    assert describe(note("omega-heywood", items=("a", "b"))).startswith(
+        "improper one-factor solution (Heywood case): the uniqueness of a, b reached")

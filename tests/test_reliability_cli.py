@@ -88,7 +88,9 @@ def test_pairwise_is_said_in_output(write_file, capsys):
     assert listwise["scales"]["climate"]["n_set_aside"] == 1
     pairwise = run_json(capsys, "reliability", str(data), "--scales", str(scales), "-f", "json", "--pairwise")
     assert pairwise["scales"]["climate"]["missing_handling"] == "pairwise"
-    assert any("pairwise" in note for note in pairwise["scales"]["climate"]["notes"])
+    deletion = [n for n in pairwise["scales"]["climate"]["notes"] if n.get("code") == "pairwise-deletion"]
+    assert len(deletion) == 1
+    assert deletion[0]["message"].startswith("pairwise deletion: each covariance uses the rows")
 
 
 @pytest.mark.parametrize("fmt", ["table", "md", "csv"])

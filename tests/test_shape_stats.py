@@ -422,3 +422,17 @@ def test_dip_test_on_more_scores_than_diptest_tabulates_warns_nobody():
     values = np.random.default_rng(4).integers(1, 6, size=80_000).astype(float)
     result = dip_test_jittered(values, resolution=1.0)
     assert 0 <= result.p <= 1
+
+
+def test_moment_and_interval_notes_are_codes_worded_in_present():
+    from scalewright.present.messages import describe
+    from scalewright.stats.descriptives import moments
+    from scalewright.stats.score_grid import histogram_cells
+
+    assert [n.to_dict() for n in moments(np.array([1.0, 2.0])).notes] == [{"code": "moments-too-few", "n": 2}]
+    assert [n.code for n in moments(np.full(5, 3.0)).notes] == ["moments-constant"]
+    assert [n.code for n in moments(np.array([1.0, 2.0, 4.0])).notes] == ["kurtosis-too-few"]
+    cells = histogram_cells(np.linspace(1, 5, 40), low=1, high=5, resolution=0, continuous_bins=5)
+    edges = np.linspace(1, 5, 6)  # reference: numpy's bins, the last closed at the top (numpy.histogram docs)
+    assert cells.notes[0].values == {"low": pytest.approx(edges[-2]), "high": pytest.approx(edges[-1])}
+    assert describe(cells.notes[0]) == "the last interval [4.2, 5] includes its upper end"

@@ -324,7 +324,8 @@ def test_heywood_case_is_detected_and_noted():
     r = np.array([[1, .9, .9], [.9, 1, .5], [.9, .5, 1]])
     solution = fit_factors(r, 1, method="minres", rotation="none")
     assert 0 in solution.heywood_items
-    assert any("Heywood" in note for note in solution.notes)
+    assert {"code": "factor-heywood", "count": len(solution.heywood_items), "floor": 0.005} in [
+        n.to_dict() for n in solution.notes]
 
 
 def test_non_convergence_becomes_a_note(monkeypatch, two_factor_data):
@@ -343,7 +344,9 @@ def test_non_convergence_becomes_a_note(monkeypatch, two_factor_data):
         warnings.simplefilter("error")
         solution = fit_factors(correlation_of(two_factor_data[0][:300]), 2)
     assert not solution.converged
-    assert any("did not converge" in note and "simulated stop" in note for note in solution.notes)
+    extraction = [n for n in solution.notes if n.code == "extraction-not-converged"]
+    assert len(extraction) == 1
+    assert "simulated stop" in extraction[0].values["detail"]
 
 
 def test_a_rotation_stopped_at_its_iteration_limit_becomes_a_note(monkeypatch, two_factor_data):
@@ -354,7 +357,8 @@ def test_a_rotation_stopped_at_its_iteration_limit_becomes_a_note(monkeypatch, t
     monkeypatch.setattr(factoring, "ROTATION_MAX_ITER", 1)  # far too few steps to converge
     solution = fit_factors(r, 2)
     assert not solution.converged
-    assert any("did not settle within 1 iteration(s)" in note for note in solution.notes)
+    expected = {"code": "rotation-not-settled", "rotation": solution.rotation, "iterations": 1}
+    assert expected in [n.to_dict() for n in solution.notes]
 
 
 def test_fit_factors_rejects_bad_options():

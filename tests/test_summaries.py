@@ -7,8 +7,8 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scalewright.answer_codes import MISSING
-from scalewright.stats.coded import CodedAnswers, listwise_covariance, pairwise_covariance
+from scalewright.answer_codes import MISSING, ItemAnswers
+from scalewright.stats.coded import listwise_covariance, pairwise_covariance
 from scalewright.summaries import (
     AnswerCounts,
     CategoryCounts,
@@ -89,8 +89,8 @@ def test_merged_cross_products_give_the_whole_files_covariance_bit_for_bit():
     pieces = [codes[i:i + 700] for i in range(0, 5000, 700)]
     listwise = merge_all([ListwiseCrossProducts.from_codes(p, span=4) for p in pieces])
     pairwise = merge_all([PairwiseCrossProducts.from_codes(p, span=4) for p in pieces])
-    whole_l = listwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
-    whole_p = pairwise_covariance(CodedAnswers(codes), low=1, high=5, reversed_mask=reversed_mask)
+    whole_l = listwise_covariance(ItemAnswers.from_codes(codes, 1, 5), low=1, high=5, reversed_mask=reversed_mask)
+    whole_p = pairwise_covariance(ItemAnswers.from_codes(codes, 1, 5), low=1, high=5, reversed_mask=reversed_mask)
     merged_l = listwise.covariance(low=1, high=5, reversed_mask=reversed_mask)
     merged_p = pairwise.covariance(low=1, high=5, reversed_mask=reversed_mask)
     assert np.array_equal(merged_l.cov, whole_l.cov)
@@ -98,7 +98,7 @@ def test_merged_cross_products_give_the_whole_files_covariance_bit_for_bit():
     assert np.array_equal(merged_p.cov, whole_p.cov)
     assert np.array_equal(merged_p.pair_counts, whole_p.pair_counts)
     # reference: pandas' own covariance of the keyed float answers (pairwise = DataFrame.cov's definition)
-    keyed = CodedAnswers(codes).keyed_values(low=1, high=5, reversed_mask=reversed_mask)
+    keyed = ItemAnswers.from_codes(codes, 1, 5).keyed_values(low=1, high=5, reversed_mask=reversed_mask)
     np.testing.assert_allclose(merged_p.cov, pd.DataFrame(keyed).cov().to_numpy(), rtol=1e-12)
     complete = keyed[~np.isnan(keyed).any(axis=1)]
     np.testing.assert_allclose(merged_l.cov, np.cov(complete, rowvar=False), rtol=1e-12)  # reference: numpy
@@ -117,7 +117,7 @@ def test_answer_counts_are_the_counts_of_each_level():
 
 def _scores_by_composite(codes: np.ndarray, method: str, required: int) -> np.ndarray:
     from scalewright.scoring import composite
-    keyed = CodedAnswers(codes).keyed_values(low=LOW, high=HIGH, reversed_mask=REVERSED)
+    keyed = ItemAnswers.from_codes(codes, LOW, HIGH).keyed_values(low=LOW, high=HIGH, reversed_mask=REVERSED)
     return composite(keyed, method=method, required=required)[0]
 
 

@@ -3,7 +3,9 @@
 A rating answer is one of a few whole levels, so it fits in one byte as its offset from the item's lowest
 answer (``answer - min``), with :data:`MISSING` for no answer. Reliability on a million respondents is
 limited by memory traffic, and a byte is an eighth of a float64. Each form is built from the other on
-first use, so a command pays only for the form it reads.
+first use, so a command pays only for the form it reads. :class:`ItemAnswers` is the one container of
+answers: the whole file's (``Responses.answers``) and one scale's, as the statistics of
+:mod:`scalewright.stats.coded` read them.
 """
 from __future__ import annotations
 
@@ -11,6 +13,8 @@ import threading
 from collections.abc import Sequence
 
 import numpy as np
+
+from .errors import DataError
 
 MISSING = 255
 #: widest answer range (max - min) held as codes; 251-254 stay free as marks while reading
@@ -48,15 +52,25 @@ class ItemAnswers:
         return answers
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray, lows: Sequence[int] | np.ndarray,
-                   highs: Sequence[int] | np.ndarray) -> ItemAnswers:
-        answers = cls(lows, highs)
-        answers._codes = (_read_only(codes), np.ones(codes.shape[1], dtype=bool))
+    def from_codes(cls, codes: np.ndarray, lows: Sequence[int] | np.ndarray | int,
+                   highs: Sequence[int] | np.ndarray | int) -> ItemAnswers:
+        """Answers from one-byte codes; ``lows`` and ``highs`` may be one number for every item."""
+        if not isinstance(codes, np.ndarray) or codes.dtype != np.uint8 or codes.ndim != 2:
+            raise DataError("answer codes must be a respondents x items matrix of uint8")
+        k = codes.shape[1]
+        answers = cls(np.broadcast_to(np.asarray(lows), (k,)), np.broadcast_to(np.asarray(highs), (k,)))
+        answers._codes = (_read_only(codes), np.ones(k, dtype=bool))
         return answers
 
     @property
     def n(self) -> int:
-        return int((self._values if self._values is not None else self._built_codes()).shape[0])
+        return self.shape[0]
+
+    @property
+    def shape(self) -> tuple[int, int]:
+        """(respondents, items)."""
+        held = self._values if self._values is not None else self._built_codes()
+        return int(held.shape[0]), int(held.shape[1])
 
     # built by from_values or from_codes, it holds at least one of the two forms
     def _built_codes(self) -> np.ndarray:
@@ -91,6 +105,23 @@ class ItemAnswers:
         if not usable[positions].all():
             return None
         return codes[:, positions]
+
+    @property
+    def codes(self) -> np.ndarray:
+        """Codes of every item (n x k, read-only); ``DataError`` if an item's answers are not whole levels."""
+        codes, usable = self._codes_and_usable()
+        if not usable.all():
+            first = int(np.flatnonzero(~usable)[0])
+            raise DataError(f"the answers of item {first + 1} are not whole levels of its range: no codes")
+        return codes
+
+    def keyed_values(self, *, low: int, high: int, reversed_mask: np.ndarray) -> np.ndarray:
+        """The answers as float64 from the codes, reverse-keyed items turned (``low + high - x``), NaN where
+        missing; ``low`` and ``high`` are the scale's answer range."""
+        codes = self.codes
+        values = codes.astype(np.float64)
+        values[codes == MISSING] = np.nan
+        return np.where(np.asarray(reversed_mask)[None, :], high - values, low + values)
 
     def subset(self, rows: np.ndarray) -> ItemAnswers:
         """The answers of the rows at ``rows`` (positions), in that order."""

@@ -186,7 +186,8 @@ def read_table(path: str | Path, *, delimiter: str | None = None, text_columns: 
         raise DataError(Problem(file=str(path), message=f"cannot read {suffix or 'files without an extension'}; "
                                                         "use .csv, .tsv, .xlsx or .parquet"))
     if sheet is not None and suffix != ".xlsx":
-        raise UsageError(f"--sheet is for workbooks (.xlsx); {quoted(path.name)} is not one")
+        raise UsageError(f"a sheet can be chosen only in a workbook (.xlsx); {quoted(path.name)} is not one"
+                         ).with_setting("sheet")
     if suffix in (".csv", ".txt"):
         frame = _read_delimited(path, delimiter, text_columns)
     elif suffix == ".tsv":

@@ -53,9 +53,18 @@ class Problem:
 
 
 class ScalewrightError(Exception):
-    """Base class of every error the tool reports to a user."""
+    """Base class of every error the tool reports to a user.
+
+    ``setting`` names the library setting that gets past the error (``"lenient"``, ``"sheet"``,
+    ``"standardize"``), if any; the command line words it as its option (the library names no options).
+    """
 
     exit_code = 1
+    setting = ""
+
+    def with_setting(self, setting: str) -> ScalewrightError:
+        self.setting = setting
+        return self
 
 
 class UsageError(ScalewrightError):

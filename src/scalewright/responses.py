@@ -10,6 +10,7 @@ import pandas as pd
 
 from .answer_codes import ItemAnswers
 from .errors import DataError, Problem, did_you_mean, quoted
+from .notes import Note, note
 from .spec_model import ScaleSpec
 
 
@@ -95,24 +96,22 @@ class Responses:
         rank = {name: position for position, name in enumerate(self.file_columns)}
         return tuple(sorted(self.item_names, key=lambda item: rank.get(item, len(rank))))
 
-    def notes(self) -> list[str]:
-        """Plain-language notes about what reading the data changed."""
+    def notes(self) -> list[Note]:
+        """What reading the data changed, as codes with values (worded by ``present/messages``)."""
         out = []
         if self.refused_total:
-            detail = ", ".join(f"{c} {n}" for c, n in self.refused_by_column.items())
-            out.append(f"{self.refused_total} value(s) were neither an answer nor a missing code and were "
-                       f"treated as missing (--lenient): {detail}")
+            out.append(note("values-read-as-missing", count=int(self.refused_total),
+                            by_column={str(c): int(n) for c, n in self.refused_by_column.items()}))
         codes = sum(self.missing_code_by_column.values())
         if codes:
-            out.append(f"{codes} 'no answer' code(s) were read as missing")
+            out.append(note("missing-codes-read", count=int(codes)))
         texts = sum(sum(counts.values()) for counts in self.missing_texts_by_column.values())
         if texts:
             by_text: dict[str, int] = {}
             for counts in self.missing_texts_by_column.values():
                 for text, count in counts.items():
                     by_text[text] = by_text.get(text, 0) + count
-            detail = ", ".join(f"{quoted(t)} {n}" for t, n in by_text.items())
-            out.append(f"{texts} cell(s) holding a 'no answer' text were read as missing: {detail}")
+            out.append(note("missing-texts-read", count=int(texts), by_text=by_text))
         return out
 
     def missing_texts_note(self, spec: ScaleSpec) -> str:

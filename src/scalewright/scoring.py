@@ -179,7 +179,7 @@ def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | No
     mean and sd; ``pomp`` does not depend on the sample, so weights do not change it.
     """
     if standardize not in (None, *STANDARDIZE):
-        raise UsageError(f"--standardize must be pomp or z, not {standardize!r}")
+        raise UsageError(f"standardize must be pomp or z, not {standardize!r}").with_setting("standardize")
     names = list(scales) if scales is not None else list(spec.scales)
     results: dict[str, ScaleScores] = {}
     for name in names:

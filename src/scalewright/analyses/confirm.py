@@ -45,13 +45,14 @@ def keyed_covariance(spec: ScaleSpec, responses: Responses, items: Sequence[str]
     Integer answers go through the exact one-byte route (reverse keying only flips the sign of an item's
     covariances and turns its mean), others through the float route.
     """
-    from ..stats.coded import CodedAnswers, listwise_covariance, pairwise_covariance
+    from ..answer_codes import ItemAnswers
+    from ..stats.coded import listwise_covariance, pairwise_covariance
     from ..stats.item_covariance import ItemCovariance, item_covariance
 
     lows, highs, reversed_mask = _keying(spec, items)
     codes = responses.codes(list(items))
     if codes is not None:
-        coded = CodedAnswers(codes if rows is None else codes[rows])
+        coded = ItemAnswers.from_codes(codes if rows is None else codes[rows], lows, highs)
         route = pairwise_covariance if pairwise else listwise_covariance
         raw = route(coded, low=0, high=0, reversed_mask=np.zeros(len(items), dtype=bool))
         sign = np.where(reversed_mask, -1.0, 1.0)

@@ -24,9 +24,9 @@ def analyse_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[s
     """
     # polychoric pair tables know listwise and pairwise rows; under em they use the pairwise ones
     pairwise_rows = missing in ("pairwise", "em") if missing is not None else pairwise
+    from ..answer_codes import ItemAnswers
     from ..concurrency import map_in_threads
     from ..scoring import keyed_items
-    from ..stats.coded import CodedAnswers
     from ..stats.reliability import scale_reliability
     from ..stats.reliability_flags import ReliabilityThresholds
     from ..stats.reliability_groups import ScaleReliabilityReport, reliability_by_group
@@ -40,7 +40,8 @@ def analyse_reliability(spec: ScaleSpec, responses: Responses, *, by: Sequence[s
         scale = spec.scales[name]
         codes = responses.codes(scale.items)
         # one-byte codes are keyed inside the statistics; only answers off the whole levels need floats
-        keyed = CodedAnswers(codes) if codes is not None else keyed_items(responses, scale)
+        keyed = (ItemAnswers.from_codes(codes, scale.response.min, scale.response.max) if codes is not None
+                 else keyed_items(responses, scale))
         options: dict[str, Any] = dict(item_names=scale.items, low=scale.response.min, high=scale.response.max,
                                        confidence_level=confidence_level, pairwise=pairwise, thresholds=thresholds,
                                        reversed_items=scale.reverse, n_resamples=n_resamples, seed=seed,

@@ -104,7 +104,7 @@ def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: f
     cross-products (the same statistics, notes and flags); under ``missing="em"`` the covariance is the EM
     estimate from the merged per-pattern statistics (``patterns``, with listwise cross-products)."""
     from ..stats.item_analysis import item_descriptives_from_tally
-    from ..stats.reliability import reliability_from_cov
+    from ..stats.reliability import deletion_notes, reliability_from_cov
     from ..stats.reliability_flags import ReliabilityThresholds
 
     thresholds = thresholds or ReliabilityThresholds()
@@ -126,14 +126,7 @@ def scale_reliability_from_summary(part: Any, scale: Any, *, confidence_level: f
         _, cov = keyed_estimate(estimate, lows=np.full(k, low), highs=np.full(k, high), reversed_mask=reversed_mask,
                                 from_codes=True)
         n_used = part["patterns"].n_used
-    notes: list[str] = []
-    if method == "pairwise":
-        notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
-                     f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
-                     f"confidence interval uses the smallest count, {stats.n_used}")
-    elif method == "listwise" and stats.n_rows > stats.n_used:
-        notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
-                     f"every item and were set aside")
+    notes = deletion_notes(stats, method)
     result = reliability_from_cov(cov, n_used, item_names=tuple(scale.items),
                                   confidence_level=confidence_level, thresholds=thresholds,
                                   reversed_items=scale.reverse, descriptives=descriptives, n_rows=stats.n_rows,
@@ -179,10 +172,9 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
         for split, parts in splits:
             levels = {level: scale_reliability_from_summary(parts[level][name], scale, **options)
                       for level in split.levels}
-            notes = list(split.notes())
+            notes: list[Note | str] = list(split.notes())
             if len(levels) < 2:
-                notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "
-                             "no comparison of alphas")
+                notes.append(note("alphas-not-compared", column=split.column, min_size=int(split.min_size)))
             groups.append(GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),
                                            missing=split.missing, min_group=split.min_size,
                                            comparisons=compare_alphas(levels) if len(levels) >= 2 else (),

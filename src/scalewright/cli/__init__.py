@@ -89,7 +89,9 @@ def main(argv: list[str] | None = None) -> int:
     try:
         returned = cli.main(args=argv, prog_name="scalewright", standalone_mode=False)
     except ScalewrightError as error:
-        click.echo(f"error: {one_line(str(error))}", err=True)
+        from .common import error_line
+
+        click.echo(f"error: {error_line(error)}", err=True)
         return error.exit_code
     except click.exceptions.Abort:
         click.echo("error: interrupted", err=True)

@@ -18,6 +18,23 @@ from ..present.table import Table
 FORMATS = ("table", "json", "md", "csv")
 
 
+#: the option that carries each library setting an error can name (``ScalewrightError.setting``), with its hint
+OPTION_HINTS = {
+    "lenient": "--lenient reads such values as missing (counted)",
+    "sheet": "--sheet is for workbooks only",
+    "standardize": "--standardize takes pomp or z",
+}
+
+
+def error_line(error: Exception) -> str:
+    """The one-line error text, with the option that gets past it when the library names a setting."""
+    from ..errors import one_line
+
+    text = one_line(str(error))
+    hint = OPTION_HINTS.get(getattr(error, "setting", ""))
+    return f"{text}; {hint}" if hint else text
+
+
 def data_argument(fn: Callable) -> Callable:
     return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(fn)
 
@@ -142,7 +159,9 @@ def load_inputs(data: Path, scales: Path, *, lenient: bool = False, exclude: Pat
         digests = pool.submit(InputInfo.from_paths, data, scales)
         responses = read_responses(data, spec, lenient=lenient, sheet=chosen_sheet())
         info = digests.result()
-    notes: list[str] = list(responses.notes())
+    from ..present.messages import describe
+
+    notes: list[str] = [describe(n) for n in responses.notes()]
     exclusion = None
     if exclude is not None:
         from ..exclusion import exclude_respondents, read_exclusion_list

@@ -66,7 +66,7 @@ def check_files(data: Path | None, scales: Path, exclude: Path | None, *,
             data_problems = list(error.problems)
         else:
             findings.append(f"{data}: {responses.n} respondent(s), {len(responses.item_names)} item(s) read")
-            findings.extend(f"note: {line}" for line in responses.notes())
+            findings.extend(f"note: {describe(line)}" for line in responses.notes())
             data_problems = _weight_problems(spec, responses, findings)
             if exclude is not None:
                 try:

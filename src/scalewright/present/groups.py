@@ -6,6 +6,7 @@ from typing import Any
 
 from ..stats.effect_benchmarks import effect_magnitude
 from ..stats.groups import Comparison, TestResult, suppressed_text
+from .messages import describe
 from .numbers import format_value
 from .table import Table
 
@@ -61,7 +62,7 @@ def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = F
     bracket after it (never nested), then the means and the follow-up pairs (left out with ``lead_only``)."""
     subject = c.scale or "The score"
     if c.test is None:
-        reason = c.notes[-1] if c.notes else "no test was possible"
+        reason = describe(c.notes[-1]) if c.notes else "no test was possible"
         return f"{subject} by {c.column}: not compared ({reason})."
     significant = c.test.pvalue < 0.05 if c.test.pvalue_holm is None else c.test.pvalue_holm < 0.05
     size = effect_label(c.effect_size.name, c.effect_size.value) if c.effect_size else "unknown"
@@ -137,7 +138,7 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                             rows=tuple(test_rows),
                             kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text",
                                    "statistic": "whole", "df": "whole", "df2": "whole"},
-                            notes=(comparison_sentence(c, decimals=decimals), *c.notes)))
+                            notes=(comparison_sentence(c, decimals=decimals), *(describe(n) for n in c.notes))))
         if c.pairs:
             tables.append(Table(title=f"{c.pairs_method} pairs: {label}", key=f"pairs.{key}",
                                 columns=("a", "b", "difference", "se", "statistic", "df", "p", "Hedges' g"),

@@ -9,7 +9,7 @@ from collections.abc import Iterable, Mapping
 
 from ..stats.reliability import ScaleReliability
 from ..stats.reliability_groups import ScaleReliabilityReport
-from .messages import flag_message
+from .messages import describe, flag_message
 from .missing import missing_lines
 from .ordinal import ordinal_reliability_table, ordinal_sentences
 from .table import Table
@@ -62,10 +62,10 @@ def reliability_tables(reports: Mapping[str, ScaleReliabilityReport] | Iterable[
         kinds = {**SUMMARY_KINDS, **{c: "bounded" for c in BOOTSTRAP_COLUMNS}}
         notes = [f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
                  f"{overall.missing_handling}"]
-        notes += list(overall.notes)
+        notes += [describe(n) for n in overall.notes]
         notes += missing_lines(overall.missing)
         for group in report.groups:
-            notes += list(group.notes)
+            notes += [describe(n) for n in group.notes]
         notes += ordinal_sentences(report.ordinal_advice)
         tables.append(Table(
             title=f"{report.title} ({name}): reliability", columns=columns,

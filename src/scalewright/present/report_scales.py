@@ -4,6 +4,7 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
+from .messages import describe
 from .numbers import format_value
 from .report_layout import (
     Bullets,
@@ -133,7 +134,7 @@ def reliability_table(findings: Any) -> Table | None:
     from .missing import missing_lines
 
     notes = (f"CI: Feldt {100 * overall.confidence_level:g}% interval; missing answers handled "
-             f"{overall.missing_handling}", *overall.notes, *missing_lines(overall.missing))
+             f"{overall.missing_handling}", *(describe(n) for n in overall.notes), *missing_lines(overall.missing))
     table = _without(Table(title=f"Reliability of {scale_label(findings)}", columns=summary.columns,
                            rows=tuple(row for row in summary.rows if row[1] == "all"), kinds=summary.kinds,
                            notes=tuple(notes), key=summary.key), "scale")
@@ -165,7 +166,7 @@ def narrative(findings: Any, results: Any, decimals: int) -> list[str]:
         overall = findings.reliability.overall
         level = f"{100 * overall.confidence_level:g}%"
         if _n(overall.alpha) == "–":
-            sentences.append("Alpha could not be computed: " + ("; ".join(overall.notes) or "no usable rows") + ".")
+            sentences.append("Alpha could not be computed: " + ("; ".join(describe(n) for n in overall.notes) or "no usable rows") + ".")
         else:
             text = (f"Internal consistency: alpha = {_n(overall.alpha, 'bounded', decimals)}, {level} CI "
                     f"[{_n(overall.alpha_ci[0], 'bounded', decimals)}, {_n(overall.alpha_ci[1], 'bounded', decimals)}]"

@@ -103,7 +103,7 @@ def shape_tables(reports: Mapping[str, ShapeReport] | Iterable[ShapeReport], *, 
             interval_notes = ["each interval is half-open [a, b); a single value v stands for [v - h/2, v + h/2) "
                               f"with h = {cells.resolution:g}; scores between grid values (fewer items answered) count in the "
                               "nearest cell" if cells.per_value else
-                              "each interval is half-open [a, b)", *cells.notes]
+                              "each interval is half-open [a, b)", *(describe(n) for n in cells.notes)]
             tables.append(Table(
                 title=f"{report.title} ({report.name}): counts per score interval",
                 columns=("score", "interval", "from", "to", "count", "%"),

@@ -7,6 +7,7 @@ from typing import Any
 from ..stats.groups import suppressed_text
 from ..stats.tally import Tally
 from ..stats.tally_fit import FitResult
+from .messages import describe
 from .numbers import format_value
 from .table import Table
 
@@ -47,7 +48,7 @@ def unanswered_sentence(t: Tally) -> str:
 def fit_sentence(fit: FitResult, *, decimals: int = 2) -> str:
     """The verdict on representativeness, with the chi-square test in APA style."""
     if fit.verdict is None:
-        reason = fit.notes[-1] if fit.notes else "no test was possible"
+        reason = describe(fit.notes[-1]) if fit.notes else "no test was possible"
         return f"{fit.column}: not compared with the reference proportions ({reason})."
     stats = (f"χ²({fit.df}, N = {fit.n}) = {format_value(fit.chi2, 'num', decimals)}, {_p(fit.pvalue)}, "
              f"w = {format_value(fit.w, 'bounded', decimals)}")
@@ -97,7 +98,7 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
         kinds = {"category": "text", "label": "text", "count": "int", share: "bar", running: "pct"}
         tables.append(Table(title=f"Answers: {t.column}", key=f"tally.{t.column}", columns=tuple(columns),
                             rows=tuple(rows), kinds=kinds,
-                            notes=(unanswered_sentence(t), tally_sentence(t), *t.notes)))
+                            notes=(unanswered_sentence(t), tally_sentence(t), *(describe(n) for n in t.notes))))
         if fit is not None:
             tables.append(Table(
                 title=f"Against the reference proportions: {t.column}", key=f"fit.{t.column}",
@@ -105,7 +106,7 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
                 rows=tuple((c.category, c.observed, c.expected_proportion, c.expected, c.standardized_residual)
                            for c in fit.categories),
                 kinds={"category": "text", "observed": "int", "reference proportion": "bounded"},
-                notes=(fit_sentence(fit, decimals=decimals), *fit.notes,
+                notes=(fit_sentence(fit, decimals=decimals), *(describe(n) for n in fit.notes),
                        "standardized residuals beyond ±1.96 mark categories with more (+) or fewer (-) "
                        "respondents than the reference implies")))
     return tables

@@ -11,6 +11,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note
 from ..results import ResultMixin, to_jsonable
 
 
@@ -20,7 +21,7 @@ class KMOResult(ResultMixin):
 
     overall: float | None
     per_item: np.ndarray
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note | str, ...] = ()  # codes with values (worded by present/messages) or older texts
 
 
 @dataclass(frozen=True)
@@ -31,7 +32,7 @@ class BartlettResult(ResultMixin):
     df: int
     p: float | None
     n: int
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note | str, ...] = ()  # codes with values (worded by present/messages) or older texts
 
     def to_dict(self) -> dict[str, Any]:
         return {"chi2": to_jsonable(self.chi2), "df": self.df, "pvalue": to_jsonable(self.p)}
@@ -151,11 +152,11 @@ def bartlett_sphericity(correlation: np.ndarray, n: int) -> BartlettResult:
     p = correlation.shape[0]
     df = p * (p - 1) // 2
     if p < 2:
-        return BartlettResult(None, df, None, n, ("Bartlett's test needs at least two items",))
+        return BartlettResult(None, df, None, n, (note("bartlett-too-few-items"),))
     multiplier = n - 1 - (2 * p + 5) / 6
     if multiplier <= 0:
-        return BartlettResult(None, df, None, n, (f"Bartlett's test needs more respondents than (2p + 11)/6 = "
-                                                   f"{(2 * p + 11) / 6:.1f} for {p} items; {n} were used",))
+        return BartlettResult(None, df, None, n, (note("bartlett-too-few-respondents", needed=(2 * p + 11) / 6, p=p,
+                                                        n=n),))
     logdet = log_determinant(correlation)
     if logdet is None:
         return BartlettResult(None, df, None, n, ("Bartlett's test is undefined: the item correlation matrix is singular",))

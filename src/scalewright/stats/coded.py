@@ -1,4 +1,4 @@
-"""Sufficient statistics of one scale straight from one-byte answer codes.
+"""Sufficient statistics of one scale straight from one-byte answer codes (:class:`~scalewright.answer_codes.ItemAnswers`).
 
 Hand-written because no library computes covariances from byte codes: numpy's ``cov`` wants float rows
 and a copy of the complete ones. Here the incomplete rows are zeroed while the codes are widened, so
@@ -7,12 +7,11 @@ integers; the covariance then comes from exact integer arithmetic with one round
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import reduce
 
 import numpy as np
 
-from ..answer_codes import MISSING
+from ..answer_codes import MISSING, ItemAnswers
 from ..errors import DataError
 from .item_covariance import ItemCovariance
 
@@ -38,31 +37,7 @@ def _cross_products(design: np.ndarray) -> np.ndarray:
     return np.einsum("ij,ik->jk", design, design).astype(np.float64)
 
 
-@dataclass(frozen=True, eq=False)
-class CodedAnswers:
-    """One scale's answers as given (not reverse-keyed): ``codes[i, j] = answer - low``, 255 = missing."""
-
-    codes: np.ndarray
-
-    def __post_init__(self) -> None:
-        if not isinstance(self.codes, np.ndarray) or self.codes.dtype != np.uint8 or self.codes.ndim != 2:
-            raise DataError("answer codes must be a respondents x items matrix of uint8")
-
-    @property
-    def shape(self) -> tuple[int, int]:
-        return self.codes.shape
-
-    def rows(self, positions: np.ndarray) -> CodedAnswers:
-        return CodedAnswers(self.codes[positions])
-
-    def keyed_values(self, *, low: int, high: int, reversed_mask: np.ndarray) -> np.ndarray:
-        """The answers as float64, reverse-keyed items turned (``low + high - x``), NaN where missing."""
-        values = self.codes.astype(np.float64)
-        values[self.codes == MISSING] = np.nan
-        return np.where(reversed_mask[None, :], high - values, low + values)
-
-
-def answer_tally(coded: CodedAnswers, n_levels: int) -> np.ndarray:
+def answer_tally(coded: ItemAnswers, n_levels: int) -> np.ndarray:
     """(k, n_levels) counts of each code per item; raises ``DataError`` for a code beyond the levels."""
     codes = coded.codes
     k = codes.shape[1]
@@ -155,7 +130,7 @@ def covariance_from_listwise_gram(gram: np.ndarray, *, n_rows: int, low: int, hi
                           n_used=n, n_rows=n_rows, n_complete=n, pair_counts=counts, pairwise=False)
 
 
-def listwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+def listwise_covariance(coded: ItemAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
     """Means and covariance matrix (ddof 1) of the keyed items over the rows that answered every item.
 
     With ``x`` the codes of the complete rows (zero elsewhere) and a leading column of ones,
@@ -219,7 +194,7 @@ def covariance_from_pairwise_gram(gram: np.ndarray, *, n_rows: int, n_complete: 
                           pair_counts=counts.astype(np.int64), pairwise=True)
 
 
-def pairwise_covariance(coded: CodedAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
+def pairwise_covariance(coded: ItemAnswers, *, low: int, high: int, reversed_mask: np.ndarray) -> ItemCovariance:
     """Covariances of the keyed items, each over the rows that answered both (pairwise deletion).
 
     With ``a`` the answered indicators and ``z`` the codes (zero where missing), ``G = [a z]' [a z]``

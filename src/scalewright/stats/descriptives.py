@@ -12,6 +12,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..errors import UsageError
+from ..notes import Note, note
 from ..results import ResultMixin
 
 #: Hyndman & Fan's (1996) nine sample-quantile types, by numpy's names (numpy's default 'linear' is type 7)
@@ -101,7 +102,7 @@ class Moments(ResultMixin):
     skewness_se: float
     kurtosis: float
     kurtosis_se: float
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages
 
 
 def moments(values: np.ndarray) -> Moments:
@@ -121,14 +122,14 @@ def moments(values: np.ndarray) -> Moments:
     """
     x = np.asarray(values, dtype=float)
     n = int(x.size)
-    notes: list[str] = []
+    notes: list[Note] = []
     mean = float(np.mean(x)) if n else math.nan
     sd = float(np.std(x, ddof=1)) if n >= 2 else math.nan
     skew = kurt = math.nan
     if n < 3:
-        notes.append(f"only {n} score(s): skewness and kurtosis need at least 3 (kurtosis 4)")
+        notes.append(note("moments-too-few", n=n))
     elif np.ptp(x) == 0:
-        notes.append("every score is the same value: skewness and kurtosis are undefined")
+        notes.append(note("moments-constant"))
     else:
         # the formulas above written out in numpy, as scipy.stats.skew / kurtosis (bias=False) compute them
         # (tests/test_shape_stats.py holds them equal): scipy's wrappers cost milliseconds a call, and a
@@ -142,7 +143,7 @@ def moments(values: np.ndarray) -> Moments:
             g2 = m4 / m2**2 - 3.0
             kurt = (n - 1) / ((n - 2) * (n - 3)) * ((n + 1) * g2 + 6.0)
         else:
-            notes.append("kurtosis needs at least 4 scores")
+            notes.append(note("kurtosis-too-few"))
     return Moments(n=n, mean=mean, sd=sd, skewness=skew, skewness_se=skewness_se(n), kurtosis=kurt,
                    kurtosis_se=kurtosis_se(n), notes=tuple(notes))
 

@@ -14,6 +14,7 @@ import numpy as np
 
 from ..concurrency import RECORDING_WARNINGS
 from ..errors import UsageError
+from ..notes import Note, note
 from ..results import ResultMixin
 
 EXTRACTION_METHODS = ("minres", "ml")
@@ -44,7 +45,7 @@ class FactorSolution(ResultMixin):
     rotation: str
     converged: bool
     heywood_items: tuple[int, ...]
-    notes: tuple[str, ...]
+    notes: tuple[Note, ...]  # codes with values, worded by present/messages
 
     @property
     def n_factors(self) -> int:
@@ -62,7 +63,7 @@ def _check_options(n_factors: int, p: int, method: str, rotation: str) -> None:
         raise UsageError(f"{n_factors} factor(s) cannot be extracted from {p} item(s); ask for fewer than {p}")
 
 
-def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.ndarray, list[str]]:
+def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.ndarray, list[Note]]:
     """Unrotated loadings from factor_analyzer, with its convergence warning turned into a note."""
     from factor_analyzer import FactorAnalyzer
 
@@ -77,15 +78,14 @@ def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.n
         svd_method="lapack",
         rotation_kwargs={},
     )
-    notes: list[str] = []
+    notes: list[Note] = []
     with RECORDING_WARNINGS, warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         analyser.fit(correlation)
     for warning in caught:
         text = str(warning.message)
         if text.startswith("Failed to converge"):
-            notes.append(f"the {method} extraction did not converge ({text.split(':', 1)[-1].strip()}); "
-                         "treat the loadings as provisional")
+            notes.append(note("extraction-not-converged", method=method, detail=text.split(":", 1)[-1].strip()))
         elif issubclass(warning.category, FutureWarning) and "force_all_finite" in text:
             continue  # scikit-learn renamed an argument factor_analyzer 0.5.1 still passes; harmless below 1.8
         else:
@@ -93,7 +93,7 @@ def _extract(correlation: np.ndarray, n_factors: int, method: str) -> tuple[np.n
     return np.asarray(analyser.loadings_, dtype=float), notes
 
 
-def _rotate(unrotated: np.ndarray, rotation: str) -> tuple[np.ndarray, list[str]]:
+def _rotate(unrotated: np.ndarray, rotation: str) -> tuple[np.ndarray, list[Note]]:
     """Rotated loadings (pattern matrix) from factor_analyzer's Rotator with every option explicit.
 
     The Rotator stops silently at its iteration limit. Its iterations are deterministic and end early once
@@ -109,8 +109,7 @@ def _rotate(unrotated: np.ndarray, rotation: str) -> tuple[np.ndarray, list[str]
 
     rotated = run(ROTATION_MAX_ITER)
     settled = np.allclose(rotated, run(2 * ROTATION_MAX_ITER), atol=1e-8)
-    return rotated, [] if settled else [
-        f"the {rotation} rotation did not settle within {ROTATION_MAX_ITER} iteration(s); treat the loadings as provisional"]
+    return rotated, [] if settled else [note("rotation-not-settled", rotation=rotation, iterations=ROTATION_MAX_ITER)]
 
 
 def factor_correlations_from_transform(transform: np.ndarray) -> np.ndarray:
@@ -197,11 +196,9 @@ def fit_factors(correlation: np.ndarray, n_factors: int, *, method: str = "minre
     uniquenesses = 1.0 - communalities
     heywood = tuple(int(i) for i in np.flatnonzero(uniquenesses <= UNIQUENESS_FLOOR + 1e-6))
     if heywood:
-        notes.append(f"{len(heywood)} item(s) reached the lowest allowed uniqueness ({UNIQUENESS_FLOOR}), a "
-                     "Heywood case: the model explains them almost entirely, often a sign of too many factors, "
-                     "too few respondents or near-duplicate items")
+        notes.append(note("factor-heywood", count=len(heywood), floor=UNIQUENESS_FLOOR))
     return FactorSolution(
         loadings=rotated, factor_correlations=phi, communalities=communalities, uniquenesses=uniquenesses,
         variance_explained=(rotated ** 2).sum(axis=0) / p, method=method, rotation=rotation,
-        converged=not any("did not converge" in n or "did not settle" in n for n in notes),
+        converged=not any(n.code in ("extraction-not-converged", "rotation-not-settled") for n in notes),
         heywood_items=heywood, notes=tuple(notes))

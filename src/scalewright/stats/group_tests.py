@@ -14,6 +14,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from ..notes import note
 from .groups import EffectSize, PairResult, TestResult
 from .range_pairs import games_howell_pairs, tukey_pairs
 
@@ -58,8 +59,7 @@ def two_group_tests(samples: dict[str, np.ndarray], *, student: bool, confidence
         "effect_size": EffectSize(name="Hedges' g", value=g, ci=(float(ci[0]), float(ci[1]))),
         "nonparametric_effect_size": EffectSize(name="rank-biserial r", value=float(u["RBC"])),
         "levene": levene_test(long_form(samples)),
-        "extra_notes": [f"Hedges' g and the rank-biserial r compare {name_a} with {name_b} "
-                        f"(positive: {name_a} scores higher)"],
+        "extra_notes": [note("effect-direction", first=str(name_a), second=str(name_b))],
     }
 
 
@@ -105,6 +105,5 @@ def many_group_tests(samples: dict[str, np.ndarray], *, student: bool) -> dict[s
         "pairs": tuple(pairs),
         "pairs_method": method,
         "levene": levene_test(data),
-        "extra_notes": ["omega-squared can fall below zero when the groups differ less than chance would make "
-                        "them; read such values as zero"] if omega_sq < 0 else [],
+        "extra_notes": [note("omega-squared-negative")] if omega_sq < 0 else [],
     }

@@ -16,6 +16,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import UsageError
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
 from .subgroups import split_by
 
@@ -102,7 +103,7 @@ class Comparison(ResultMixin):
     pairs: tuple[PairResult, ...] = ()
     pairs_method: str | None = None
     levene: TestResult | None = None
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note | str, ...] = ()
     scale: str | None = None
 
     @property
@@ -137,7 +138,7 @@ class Comparison(ResultMixin):
             "pairs_method": self.pairs_method,
             "pairs": [p.to_dict() for p in self.pairs],
             "levene": optional(self.levene),
-            "notes": list(self.notes),
+            "notes": notes_to_json(self.notes),
         })
 
 
@@ -222,7 +223,7 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
     column = column or (str(groups.name) if groups.name is not None else "group")
     has_score = np.isfinite(scores)
     split = split_by(groups, min_size=0, column=column)
-    notes: list[str] = []
+    notes: list[Note | str] = []
     summaries: list[GroupSummary] = []
     samples: dict[str, np.ndarray] = {}
     suppressed: list[str] = []
@@ -237,13 +238,13 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
         summaries.append(_summary(level, x))
         samples[level] = x
     if suppressed:
-        notes.append(f"{', '.join(f'{column} = {s}' for s in suppressed)}: fewer than {min_cell} respondents "
-                     "with a score; not shown and left out of the tests")
+        notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
+                          min_cell=int(min_cell)))
     n_no_score = int((~has_score).sum())
     if n_no_score:
-        notes.append(f"{n_no_score} respondent(s) without a score left out")
+        notes.append(note("unscored-left-out", n=n_no_score))
     if n_no_group:
-        notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
+        notes.append(note("no-group-value-left-out", n=n_no_group, column=column))
 
     def comparison(**tests: Any) -> Comparison:
         return Comparison(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
@@ -252,15 +253,15 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
 
     testable = {level: x for level, x in samples.items() if len(x) >= 2}
     if len(testable) < len(samples):
-        notes.append("levels with a single score are described but left out of the tests")
+        notes.append(note("single-score-levels-untested"))
     if len(testable) < 2:
-        notes.append(f"fewer than two levels of {column} with at least {max(min_cell, 2)} scores: no test")
+        notes.append(note("compare-too-few-levels", column=column, min_size=max(int(min_cell), 2)))
         return comparison()
     if all(np.ptp(x) == 0 for x in testable.values()):
-        notes.append("every level has the same score throughout (zero variance): no test")
+        notes.append(note("zero-variance-no-test"))
         return comparison()
     if any(np.ptp(x) == 0 for x in testable.values()):
-        notes.append("a level has no spread in its scores; tests that rely on its variance are fragile")
+        notes.append(note("level-without-spread"))
     from .group_tests import many_group_tests, two_group_tests
 
     if len(testable) == 2:

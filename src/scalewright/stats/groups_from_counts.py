@@ -16,6 +16,7 @@ from typing import Any
 
 import numpy as np
 
+from ..notes import Note, note
 from ..summaries.scores import quantiles_from_counts
 from .groups import Comparison, EffectSize, GroupSummary, PairResult, TestResult, _check_options
 from .rank_counts import kruskal_wallis_from_counts, mann_whitney_from_counts
@@ -94,7 +95,7 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
            the American Statistical Association, 69, 364-367.
     """
     _check_options(min_cell, confidence_level)
-    notes: list[str] = []
+    notes: list[Note | str] = []
     summaries: list[GroupSummary] = []
     samples: dict[str, CountedLevel] = {}
     suppressed: list[str] = []
@@ -108,25 +109,25 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
         samples[level] = x
     # the notes and the order of the checks are compare_groups' own, so both routes read the same
     if suppressed:
-        notes.append(f"{', '.join(f'{column} = {s}' for s in suppressed)}: fewer than {min_cell} respondents "
-                     "with a score; not shown and left out of the tests")
+        notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
+                          min_cell=int(min_cell)))
     if n_no_score:
-        notes.append(f"{n_no_score} respondent(s) without a score left out")
+        notes.append(note("unscored-left-out", n=n_no_score))
     if n_no_group:
-        notes.append(f"{n_no_group} respondent(s) with a score but no {column} value left out")
+        notes.append(note("no-group-value-left-out", n=n_no_group, column=column))
     base: dict[str, Any] = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
                 confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
     testable = {level: x for level, x in samples.items() if x.n >= 2}
     if len(testable) < len(samples):
-        notes.append("levels with a single score are described but left out of the tests")
+        notes.append(note("single-score-levels-untested"))
     if len(testable) < 2:
-        notes.append(f"fewer than two levels of {column} with at least {max(min_cell, 2)} scores: no test")
+        notes.append(note("compare-too-few-levels", column=column, min_size=max(int(min_cell), 2)))
         return Comparison(**base, notes=tuple(notes))
     if all(x.constant for x in testable.values()):
-        notes.append("every level has the same score throughout (zero variance): no test")
+        notes.append(note("zero-variance-no-test"))
         return Comparison(**base, notes=tuple(notes))
     if any(x.constant for x in testable.values()):
-        notes.append("a level has no spread in its scores; tests that rely on its variance are fragile")
+        notes.append(note("level-without-spread"))
     if len(testable) == 2:
         result = _two_groups(testable, student=student, confidence_level=confidence_level)
     else:
@@ -200,8 +201,7 @@ def _two_groups(samples: Mapping[str, CountedLevel], *, student: bool, confidenc
         "nonparametric_effect_size": EffectSize(name="rank-biserial r",
                                                 value=1 - 2 * (x.n * y.n - float(u.statistic)) / (x.n * y.n)),
         "levene": levene_from_counts(samples),
-        "extra_notes": [f"Hedges' g and the rank-biserial r compare {name_a} with {name_b} "
-                        f"(positive: {name_a} scores higher)"],
+        "extra_notes": [note("effect-direction", first=str(name_a), second=str(name_b))],
     }
 
 
@@ -273,8 +273,7 @@ def _many_groups(samples: Mapping[str, CountedLevel], *, student: bool) -> dict[
         "pairs": tuple(pairs),
         "pairs_method": method,
         "levene": levene_from_counts(samples),
-        "extra_notes": ["omega-squared can fall below zero when the groups differ less than chance would make "
-                        "them; read such values as zero"] if omega_sq < 0 else [],
+        "extra_notes": [note("omega-squared-negative")] if omega_sq < 0 else [],
     }
 
 

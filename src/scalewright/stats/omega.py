@@ -8,6 +8,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..concurrency import RECORDING_WARNINGS
+from ..notes import Note, note
 from ..results import ResultMixin
 from .item_covariance import correlation_from_cov, is_invertible
 
@@ -31,7 +32,7 @@ class OneFactorFit(ResultMixin):
     method: str
     converged: bool
     heywood_items: tuple[int, ...]
-    notes: tuple[str, ...] = field(default=())
+    notes: tuple[Note, ...] = field(default=())
 
 
 def _ml_loadings(uniqueness: np.ndarray, corr: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -183,14 +184,14 @@ def fit_one_factor(cov: np.ndarray, *, start: np.ndarray | None = None) -> OneFa
     if k < 3 or not np.isfinite(cov).all() or not (np.diag(cov) > 0).all() or not is_invertible(cov):
         return None
     corr = correlation_from_cov(cov)
-    notes: list[str] = []
+    notes: list[Note] = []
     try:
         standardized, converged = _fit_ml(corr, start)
         method = "ml"
     except (np.linalg.LinAlgError, ValueError):
         standardized, converged = np.full(k, np.nan), False
     if not converged or not np.isfinite(standardized).all():
-        notes.append("maximum-likelihood one-factor fit did not converge; minres used instead")
+        notes.append(note("omega-ml-not-converged"))
         try:
             standardized, converged = _fit_minres(corr)
             method = "minres"
@@ -199,12 +200,12 @@ def fit_one_factor(cov: np.ndarray, *, start: np.ndarray | None = None) -> OneFa
         if not np.isfinite(standardized).all():
             return None
         if not converged:
-            notes.append("minres one-factor fit did not converge either; omega is uncertain")
+            notes.append(note("omega-minres-not-converged"))
     return _one_factor_fit(standardized, np.sqrt(np.diag(cov)), method=method, converged=converged, notes=notes)
 
 
 def _one_factor_fit(standardized: np.ndarray, sd: np.ndarray, *, method: str, converged: bool,
-                    notes: list[str]) -> OneFactorFit:
+                    notes: list[Note]) -> OneFactorFit:
     if standardized.sum() < 0:
         standardized = -standardized
     standardized_uniqueness = 1.0 - standardized**2

@@ -16,10 +16,11 @@ from typing import Any
 
 import numpy as np
 
+from ..answer_codes import ItemAnswers
 from ..errors import DataError
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin
 from .bootstrap import AlphaBootstrap
-from .coded import CodedAnswers
 from .item_analysis import (
     ItemDescriptives,
     ItemStatistics,
@@ -69,13 +70,14 @@ class ScaleReliability(ResultMixin):
     flags: tuple[ReliabilityFlag, ...]
     thresholds: ReliabilityThresholds
     bootstrap: AlphaBootstrap | None
-    notes: tuple[str, ...]
+    notes: tuple[Note | str, ...]  # codes with values, worded by present/messages
     missing: MissingHandling | None = None
 
     def to_dict(self) -> dict[str, Any]:
         out = super().to_dict()
         out["items"] = {name: item.to_dict() for name, item in self.items.items()}
         out.pop("missing")
+        out["notes"] = notes_to_json(self.notes)
         if self.missing is not None:
             out.update(self.missing.to_dict())
             out["notes"] = [*out["notes"], *self.missing.note_dicts]
@@ -85,6 +87,17 @@ class ScaleReliability(ResultMixin):
         return {(flag.item, flag.code) for flag in self.flags}
 
 
+def deletion_notes(stats: Any, method: str) -> list[Note]:
+    """How missing answers were handled, as notes: the pair counts under pairwise deletion, or the rows set
+    aside listwise (``stats`` an :class:`~scalewright.stats.item_covariance.ItemCovariance`)."""
+    if method == "pairwise":
+        return [note("pairwise-deletion", n_min=int(stats.n_used), n_max=int(stats.pair_counts.max()) if stats.k else 0)]
+    if method == "listwise" and stats.n_rows > stats.n_used:
+        return [note("reliability-listwise-set-aside", set_aside=int(stats.n_rows - stats.n_used),
+                     n_rows=int(stats.n_rows))]
+    return []
+
+
 def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[str],
                          confidence_level: float = 0.95,
                          thresholds: ReliabilityThresholds = DEFAULT_THRESHOLDS,
@@ -92,7 +105,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
                          descriptives: ItemDescriptives | None = None,
                          n_rows: int | None = None, missing_handling: str = "listwise",
                          bootstrap: AlphaBootstrap | None = None,
-                         notes: Sequence[str] = ()) -> ScaleReliability:
+                         notes: Sequence[Note | str] = ()) -> ScaleReliability:
     """Every reliability statistic of one scale from its sufficient statistics (n and covariance matrix).
 
     This is the function to call with a covariance matrix accumulated elsewhere (chunks of a large file,
@@ -107,15 +120,15 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         raise DataError(f"{len(names)} item name(s) given for a {k} x {k} covariance matrix")
     if len(set(names)) != k:
         raise DataError(f"item names must be unique: {', '.join(names)}")
-    out_notes: list[str] = list(notes)
+    out_notes: list[Note | str] = list(notes)
     nan2 = (math.nan, math.nan)
     usable = k >= 2 and n_used >= 3 and np.isfinite(cov).all()
     if k < 2:
-        out_notes.append("only one item: alpha, omega and the other consistency statistics need at least 2 items")
+        out_notes.append(note("reliability-one-item"))
     elif n_used < 3:
-        out_notes.append(f"only {n_used} usable row(s): the statistics need at least 3")
+        out_notes.append(note("reliability-too-few-rows", n_used=int(n_used), needed=3))
     elif not np.isfinite(cov).all():
-        out_notes.append("some item pairs have fewer than 2 rows in common: the covariance matrix is incomplete")
+        out_notes.append(note("covariance-incomplete"))
     if not usable:
         cov_used = np.full((k, k), np.nan)
     else:
@@ -123,31 +136,26 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
     variances = np.diag(cov_used)
     constant = [names[j] for j in range(k) if usable and not variances[j] > 0]
     if constant:
-        out_notes.append(f"no variance among the rows used for {', '.join(constant)}: item-rest r, standardized "
-                         "alpha, inter-item correlations, lambda6 and omega are undefined")
+        out_notes.append(note("items-no-variance", items=tuple(constant)))
     alpha = cronbach_alpha_from_cov(cov_used) if usable else math.nan
     if usable and not math.isfinite(alpha):
-        out_notes.append("the scale's total has no variance among the rows used: alpha is undefined")
+        out_notes.append(note("total-no-variance"))
     singular = usable and not constant and not is_invertible(cov_used)
     if singular:
-        out_notes.append("the item covariance matrix is singular (an item is an exact linear combination of "
-                         "others): lambda6 and omega are undefined")
+        out_notes.append(note("covariance-singular"))
     if usable and missing_handling == "pairwise" and np.linalg.eigvalsh(cov_used).min() < -1e-10 * abs(cov_used).max():
-        out_notes.append("the pairwise covariance matrix is not positive semi-definite: treat the results "
-                         "with caution")
+        out_notes.append(note("pairwise-not-positive-semidefinite"))
     fit = fit_one_factor(cov_used) if usable and not constant and not singular and k >= 3 else None
     if usable and k == 2:
-        out_notes.append("omega needs at least 3 items for a one-factor model")
+        out_notes.append(note("omega-needs-three-items"))
     elif fit is not None and k == 3:
-        out_notes.append("omega if deleted needs at least 4 items (a one-factor model needs 3)")
+        out_notes.append(note("omega-if-deleted-needs-four-items"))
     elif usable and not constant and not singular and k >= 3 and fit is None:
-        out_notes.append("the one-factor model could not be fitted: omega is undefined")
+        out_notes.append(note("omega-not-fitted"))
     if fit is not None:
         out_notes.extend(fit.notes)
         if fit.heywood_items:
-            listed = ", ".join(names[j] for j in fit.heywood_items)
-            out_notes.append(f"improper one-factor solution (Heywood case): the uniqueness of {listed} reached "
-                             "the fitting bound of .005; omega may be overstated")
+            out_notes.append(note("omega-heywood", items=tuple(names[j] for j in fit.heywood_items)))
     corr = correlation_from_cov(cov_used)
     mean_r, min_r, max_r = inter_item_correlations(cov_used) if usable else (math.nan,) * 3
     item_rest_r = item_rest_correlations_from_cov(cov_used) if usable else np.full(k, np.nan)
@@ -193,7 +201,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes))
 
 
-def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[str], low: float, high: float,
+def scale_reliability(keyed: np.ndarray | ItemAnswers, *, item_names: Sequence[str], low: float, high: float,
                       confidence_level: float = 0.95, pairwise: bool = False,
                       thresholds: ReliabilityThresholds = DEFAULT_THRESHOLDS,
                       reversed_items: Sequence[str] = (), n_resamples: int = 0,
@@ -202,9 +210,9 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
 
     Parameters
     ----------
-    keyed : (n, k) array or CodedAnswers
+    keyed : (n, k) array or ItemAnswers
         Answers after reverse keying, NaN for missing; or the answers as given, as one-byte codes
-        (:class:`~scalewright.stats.coded.CodedAnswers`), which this function keys itself. Codes make the
+        (:class:`~scalewright.answer_codes.ItemAnswers`), which this function keys itself. Codes make the
         statistics several times cheaper on large samples; the results are the same up to rounding.
     item_names : sequence of str
         The k item names, in column order.
@@ -259,9 +267,9 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                          "every resample; the interval under em is Feldt's (see the note)")
 
     names = tuple(item_names)
-    if isinstance(keyed, CodedAnswers) and keyed.shape[1] != len(names):
+    if isinstance(keyed, ItemAnswers) and keyed.shape[1] != len(names):
         raise DataError(f"{len(names)} item name(s) given for {keyed.shape[1]} column(s)")
-    if isinstance(keyed, CodedAnswers) and not (float(low).is_integer() and float(high).is_integer()):
+    if isinstance(keyed, ItemAnswers) and not (float(low).is_integer() and float(high).is_integer()):
         raise DataError(f"answer codes need a whole-number answer range, got {low} to {high}")
     unknown = set(reversed_items) - set(names)
     if unknown:
@@ -272,7 +280,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     reversed_mask = np.array([name in set(reversed_items) for name in names], dtype=bool)
     summary = None
-    if isinstance(keyed, CodedAnswers) and not n_resamples:
+    if isinstance(keyed, ItemAnswers) and not n_resamples:
         summary = PatternSummary.from_codes(keyed.codes)
         if pairwise:
             stats = pairwise_covariance(keyed, low=int(low), high=int(high), reversed_mask=reversed_mask)
@@ -282,7 +290,7 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
                                                     low=low, high=high, reversed_mask=reversed_mask)
         matrix = None
     else:
-        if isinstance(keyed, CodedAnswers):  # the bootstrap resamples the keyed values
+        if isinstance(keyed, ItemAnswers):  # the bootstrap resamples the keyed values
             keyed = keyed.keyed_values(low=int(low), high=int(high), reversed_mask=reversed_mask)
         stats = item_covariance(keyed, pairwise=pairwise)  # validates the matrix
         matrix = np.asarray(keyed, dtype=np.float64)
@@ -301,17 +309,9 @@ def scale_reliability(keyed: np.ndarray | CodedAnswers, *, item_names: Sequence[
     # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
     # divisor cancels in every statistic here), so em and listwise agree exactly
     handling = missing_handling(summary, method, n_used=n_used, estimate=estimate, item_names=names)
-    notes: list[str] = []
-    if pairwise:
-        notes.append(f"pairwise deletion: each covariance uses the rows that answered both items "
-                     f"({stats.n_used} to {int(stats.pair_counts.max()) if stats.k else 0} rows); the "
-                     f"confidence interval uses the smallest count, {stats.n_used}")
-    elif method == "listwise" and stats.n_rows > stats.n_used:
-        notes.append(f"listwise deletion: {stats.n_rows - stats.n_used} of {stats.n_rows} row(s) did not answer "
-                     f"every item and were set aside")
+    notes: list[Note | str] = list(deletion_notes(stats, method))
     if descriptives.off_level:
-        notes.append(f"{descriptives.off_level} answer(s) are not whole answer codes from {low:g} to {high:g}; "
-                     "they are left out of the answer counts")
+        notes.append(note("off-level-answers", count=int(descriptives.off_level), low=float(low), high=float(high)))
     boot = None
     if n_resamples and matrix is not None:  # resampling always takes the float route, which sets the matrix
         boot = bootstrap_alpha(matrix, n_resamples=n_resamples, confidence_level=confidence_level, seed=seed,

@@ -6,8 +6,9 @@ from typing import Any
 
 import numpy as np
 
+from ..answer_codes import ItemAnswers
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin
-from .coded import CodedAnswers
 from .reliability import ScaleReliability, scale_reliability
 from .reliability_coefficients import alpha_difference_test
 from .subgroups import SubgroupSplit
@@ -68,30 +69,29 @@ class GroupReliability(ResultMixin):
     missing: int
     min_group: int
     comparisons: tuple[AlphaComparison, ...]
-    notes: tuple[str, ...]
+    notes: tuple[Note | str, ...]
 
     def to_dict(self) -> dict[str, Any]:
         return {"column": self.column, "levels": {k: v.to_dict() for k, v in self.levels.items()},
                 "too_small": dict(self.too_small), "missing": self.missing, "min_group": self.min_group,
-                "comparisons": [c.to_dict() for c in self.comparisons], "notes": list(self.notes)}
+                "comparisons": [c.to_dict() for c in self.comparisons], "notes": notes_to_json(self.notes)}
 
 
-def _rows(data: np.ndarray | CodedAnswers, positions: np.ndarray) -> np.ndarray | CodedAnswers:
-    return data.rows(positions) if isinstance(data, CodedAnswers) else data[positions]
+def _rows(data: np.ndarray | ItemAnswers, positions: np.ndarray) -> np.ndarray | ItemAnswers:
+    return data.subset(positions) if isinstance(data, ItemAnswers) else data[positions]
 
 
-def reliability_by_group(keyed: np.ndarray | CodedAnswers, split: SubgroupSplit, **options: Any) -> GroupReliability:
+def reliability_by_group(keyed: np.ndarray | ItemAnswers, split: SubgroupSplit, **options: Any) -> GroupReliability:
     """:func:`scale_reliability` for each analysable level of ``split`` and Feldt tests between them.
 
     ``split`` comes from :func:`scalewright.stats.subgroups.split_by`; its levels below the minimum size
     are named in ``too_small`` but not analysed. ``options`` are passed to :func:`scale_reliability`.
     """
-    data = keyed if isinstance(keyed, CodedAnswers) else np.asarray(keyed, dtype=np.float64)
+    data = keyed if isinstance(keyed, ItemAnswers) else np.asarray(keyed, dtype=np.float64)
     levels = {level: scale_reliability(_rows(data, positions), **options) for level, positions in split.levels.items()}
-    notes = list(split.notes())
+    notes: list[Note | str] = list(split.notes())
     if len(levels) < 2:
-        notes.append(f"{split.column}: fewer than two levels with at least {split.min_size} respondents; "
-                     "no comparison of alphas")
+        notes.append(note("alphas-not-compared", column=split.column, min_size=int(split.min_size)))
     return GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),
                             missing=split.missing, min_group=split.min_size,
                             comparisons=compare_alphas(levels) if len(levels) >= 2 else (), notes=tuple(notes))
@@ -124,5 +124,5 @@ class ScaleReliabilityReport(ResultMixin):
             out["alpha_comparisons"] = {g.column: [c.to_dict() for c in g.comparisons] for g in self.groups}
             out["groups_not_analysed"] = {g.column: {**g.too_small, **({"(no value)": g.missing} if g.missing else {})}
                                           for g in self.groups}
-            out["notes"] = [*out["notes"], *(note for g in self.groups for note in g.notes)]
+            out["notes"] = [*out["notes"], *notes_to_json(n for g in self.groups for n in g.notes)]
         return out

@@ -13,6 +13,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import UsageError
+from ..notes import Note, note
 from ..results import ResultMixin
 
 #: one bar per score value up to this many values (61 covers a 10-item mean on 1..7)
@@ -82,7 +83,7 @@ class HistogramCells(ResultMixin):
     grid_values: tuple[int, ...]
     per_value: bool
     resolution: float
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages
 
     def labels(self, decimals: int = 2) -> list[str]:
         """Half-open interval labels, ``[a, b)``; the value itself when a cell holds one value."""
@@ -107,7 +108,7 @@ def histogram_cells(values: np.ndarray, *, low: float, high: float, resolution: 
     values = np.asarray(values, dtype=float)
     weights = None if tallies is None else np.asarray(tallies, dtype=np.int64)
     size = values.size if weights is None else int(weights.sum())
-    notes: list[str] = []
+    notes: list[Note] = []
     if resolution <= 0:
         n_bins = continuous_bins or int(np.clip(np.ceil(np.log2(max(size, 1)) + 1), 5, 30))
         edges = np.linspace(low, high, n_bins + 1)
@@ -115,7 +116,7 @@ def histogram_cells(values: np.ndarray, *, low: float, high: float, resolution: 
             counts, _ = np.histogram(values, bins=edges)  # numpy closes the last bin at high
         else:
             counts = np.histogram(values, bins=edges, weights=weights)[0].round().astype(np.int64)
-        notes.append(f"the last interval [{_trim(edges[-2], 3)}, {_trim(edges[-1], 3)}] includes its upper end")
+        notes.append(note("last-interval-closed", low=float(edges[-2]), high=float(edges[-1])))
         return HistogramCells(edges=tuple(map(float, edges)), counts=tuple(int(c) for c in counts),
                               centers=tuple(map(float, (edges[:-1] + edges[1:]) / 2)),
                               grid_values=tuple([0] * n_bins), per_value=False, resolution=0.0, notes=tuple(notes))
@@ -135,7 +136,7 @@ def histogram_cells(values: np.ndarray, *, low: float, high: float, resolution: 
     sizes = np.diff(np.append(starts, n_values))
     edges = np.append(grid[starts] - resolution / 2, grid[-1] + resolution / 2)
     if sizes[-1] != group:
-        notes.append(f"the last interval holds {sizes[-1]} score value(s), the others {group}")
+        notes.append(note("last-interval-size", size=int(sizes[-1]), others=int(group)))
     return HistogramCells(edges=tuple(map(float, edges)), counts=tuple(int(c) for c in counts),
                           centers=tuple(map(float, (edges[:-1] + edges[1:]) / 2)),
                           grid_values=tuple(int(s) for s in sizes), per_value=False,

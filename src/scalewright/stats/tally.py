@@ -17,6 +17,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import UsageError
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
 from .groups import suppressed_text
 from .subgroups import blank_as_missing, level_name, level_order
@@ -56,7 +57,7 @@ class Tally(ResultMixin):
     n_total: int
     n_missing: int
     min_cell: int
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note | str, ...] = ()  # codes with values, worded by present/messages
 
     @property
     def n_valid(self) -> int:
@@ -78,7 +79,7 @@ class Tally(ResultMixin):
             "missing": {"count": self.n_missing,
                         "share_of_all_pct": 100.0 * self.n_missing / self.n_total if self.n_total else None},
             "min_cell": self.min_cell, "suppressed_shown_as": suppressed_text(self.min_cell),
-            "categories": [c.to_dict() for c in self.categories], "notes": list(self.notes)})
+            "categories": [c.to_dict() for c in self.categories], "notes": notes_to_json(self.notes)})
 
 
 def tally(values: pd.Series, *, order: Sequence | None = None, labels: Mapping | None = None,
@@ -189,28 +190,27 @@ def tally_from_counts(exact: Mapping[str, int], *, n_total: int, n_missing: int,
             valid_percent=100.0 * exact[c] / n_valid if n_valid else None,
             cumulative_percent=100.0 * running / n_valid if cumulative_safe and n_valid else None))
     if ordered and hidden and any(r.cumulative_percent is None for r in rows):
-        notes.append("cumulative percentages that would reveal a suppressed count are withheld")
+        notes.append(note("cumulative-withheld"))
     if n_total == 0:
-        notes.append(f"{column} has no rows")
+        notes.append(note("column-no-rows", column=column))
     elif n_valid == 0:
-        notes.append(f"nobody answered {column}")
+        notes.append(note("column-unanswered", column=column))
     return Tally(column=column, ordered=bool(ordered), categories=tuple(rows), n_total=n_total,
                  n_missing=n_missing, min_cell=min_cell, notes=tuple(notes))
 
 
-def _suppression(exact: dict[str, int], min_cell: int, column: str) -> tuple[set[str], list[str]]:
+def _suppression(exact: dict[str, int], min_cell: int, column: str) -> tuple[set[str], list[Note | str]]:
     primary = {c for c, n in exact.items() if 0 < n < min_cell}
-    notes = []
+    notes: list[Note | str] = []
     hidden = set(primary)
     if len(primary) == 1:
         candidates = sorted((n, i, c) for i, (c, n) in enumerate(exact.items()) if n > 0 and c not in primary)
         if candidates:
             hidden.add(candidates[0][2])
     if primary:
-        notes.append(f"{column}: {len(primary)} categor{'y' if len(primary) == 1 else 'ies'} with fewer than "
-                     f"{min_cell} respondents shown as {suppressed_text(min_cell)}")
+        notes.append(note("categories-suppressed", column=column, count=len(primary), min_cell=int(min_cell)))
     if len(hidden) > len(primary):
-        notes.append(f"{column}: one more category withheld so the small one cannot be worked out from the total")
+        notes.append(note("complementary-suppression", column=column))
     return hidden, notes
 
 

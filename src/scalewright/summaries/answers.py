@@ -10,9 +10,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..answer_codes import ItemAnswers
 from ..errors import DataError
 from ..stats.coded import (
-    CodedAnswers,
     answer_tally,
     complete_rows,
     covariance_from_listwise_gram,
@@ -37,7 +37,7 @@ class AnswerCounts:
 
     @classmethod
     def from_codes(cls, codes: np.ndarray, n_levels: int) -> AnswerCounts:
-        return cls(tally=answer_tally(CodedAnswers(codes), n_levels), n_rows=int(codes.shape[0]))
+        return cls(tally=answer_tally(ItemAnswers.from_codes(codes, 0, n_levels - 1), n_levels), n_rows=int(codes.shape[0]))
 
     def merge(self, other: AnswerCounts) -> AnswerCounts:
         _same_shape(self.tally, other.tally, "answer counts")

@@ -15,6 +15,7 @@ import numpy as np
 
 from ..answer_codes import MISSING
 from ..errors import DataError, UsageError
+from ..notes import Note, note
 from ..stats.descriptives import Moments, check_quantile_method, kurtosis_se, skewness_se
 
 
@@ -166,16 +167,16 @@ def moments_from_counts(values: np.ndarray, counts: np.ndarray) -> Moments:
     values = np.asarray(values, dtype=np.float64)
     weights = np.asarray(counts, dtype=np.float64)
     n = int(np.asarray(counts).sum())
-    notes: list[str] = []
+    notes: list[Note] = []
     mean = float(weights @ values / n) if n else math.nan
     deviations = values - mean
     m2 = float(weights @ deviations**2) / n if n else math.nan
     sd = math.sqrt(m2 * n / (n - 1)) if n >= 2 else math.nan
     skew = kurt = math.nan
     if n < 3:
-        notes.append(f"only {n} score(s): skewness and kurtosis need at least 3 (kurtosis 4)")
+        notes.append(note("moments-too-few", n=n))
     elif np.count_nonzero(np.asarray(counts)) < 2:
-        notes.append("every score is the same value: skewness and kurtosis are undefined")
+        notes.append(note("moments-constant"))
     else:
         m3 = float(weights @ deviations**3) / n
         skew = math.sqrt(n * (n - 1)) / (n - 2) * m3 / m2**1.5
@@ -183,6 +184,6 @@ def moments_from_counts(values: np.ndarray, counts: np.ndarray) -> Moments:
             m4 = float(weights @ deviations**4) / n
             kurt = (n - 1) / ((n - 2) * (n - 3)) * ((n + 1) * (m4 / m2**2 - 3) + 6)
         else:
-            notes.append("kurtosis needs at least 4 scores")
+            notes.append(note("kurtosis-too-few"))
     return Moments(n=n, mean=mean, sd=sd, skewness=skew, skewness_se=skewness_se(n), kurtosis=kurt,
                    kurtosis_se=kurtosis_se(n), notes=tuple(notes))

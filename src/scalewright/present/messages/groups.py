@@ -1,0 +1,43 @@
+"""Sentences of subgroups, compare and tally."""
+from __future__ import annotations
+
+from collections.abc import Mapping
+from typing import Any
+
+GROUPS: dict[str, str] = {
+    # notes of a comparison of one score across the levels of a column
+    "levels-too-small": "{levels}: fewer than {min_cell} respondents with a score; not shown and left out of the "
+                        "tests",
+    "unscored-left-out": "{n} respondent(s) without a score left out",
+    "no-group-value-left-out": "{n} respondent(s) with a score but no {column} value left out",
+    "single-score-levels-untested": "levels with a single score are described but left out of the tests",
+    "compare-too-few-levels": "fewer than two levels of {column} with at least {min_size} scores: no test",
+    "zero-variance-no-test": "every level has the same score throughout (zero variance): no test",
+    "level-without-spread": "a level has no spread in its scores; tests that rely on its variance are fragile",
+    "effect-direction": "Hedges' g and the rank-biserial r compare {first} with {second} (positive: {first} scores "
+                        "higher)",
+    # notes of a tally
+    "cumulative-withheld": "cumulative percentages that would reveal a suppressed count are withheld",
+    "column-no-rows": "{column} has no rows",
+    "column-unanswered": "nobody answered {column}",
+    "categories-suppressed": "{column}: {count} {categories} with fewer than {min_cell} respondents shown as {shown}",
+    "complementary-suppression": "{column}: one more category withheld so the small one cannot be worked out from "
+                                 "the total",
+    "omega-squared-negative": "omega-squared can fall below zero when the groups differ less than chance would "
+                              "make them; read such values as zero",
+}
+
+
+def groups_note_message(code: str, values: Mapping[str, Any]) -> str:
+    """The sentence of one subgroup, compare or tally note from its values."""
+    from .values import _plain
+
+    shown = {key: _plain(value) for key, value in values.items()}
+    if code == "levels-too-small":
+        shown["levels"] = ", ".join(f"{values['column']} = {level}" for level in values["levels"])
+    if code == "categories-suppressed":
+        from ...stats.groups import suppressed_text
+
+        shown["categories"] = "category" if values["count"] == 1 else "categories"
+        shown["shown"] = suppressed_text(int(values["min_cell"]))
+    return GROUPS[code].format(**shown)
