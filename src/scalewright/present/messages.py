@@ -114,6 +114,9 @@ def word_document(document: Any) -> Any:
         elif document.get("message") == "" and code in SHAPE:  # a shape note or evidence: values beside its code
             document["message"] = shape_message(code, {k: v for k, v in document.items()
                                                        if k not in ("code", "message")})
+        elif code == "not-computable" and not document.get("message"):  # why a statistic is null: its sentence
+            document["message"] = describe(Note(code=code, values={k: v for k, v in document.items()
+                                                                   if k not in ("code", "message")}))
         elif document.get("message") == "" and isinstance(document.get("values"), dict) and "code" in document:
             document["message"] = (reliability_flag_message(code, document["values"]) if code in RELIABILITY
                                    else describe(Note(code=code, values=document["values"])))
@@ -580,11 +583,45 @@ DRAFTING: dict[str, str] = {
 ENGINE: dict[str, str] = {
 }
 
+# -- the JSON vocabulary: statistics that cannot be computed -------------------------------------------------
+VOCABULARY: dict[str, str] = {
+    "not-computable": "{statistic} could not be computed: {reason}",
+}
+
+#: the words of each ``reason`` of a ``not-computable`` note
+NOT_COMPUTABLE_REASONS: dict[str, str] = {
+    "model-not-fitted": "the model was not fitted",
+    "least-squares-estimator": "a least-squares fit has no likelihood, so no chi-square test",
+    "no-degrees-of-freedom": "the model has no degrees of freedom (it reproduces the covariances exactly)",
+    "not-finite": "the computation gave no finite value",
+    "not-two-levels": "it compares exactly two levels",
+    "fewer-than-2-levels": "fewer than two levels are described",
+    "no-variance": "the scores do not vary",
+    "fewer-than-2-items": "it needs at least 2 items",
+    "fewer-than-3-items": "a one-factor model needs at least 3 items",
+    "fewer-than-4-items": "without one item, fewer than the 3 items a one-factor model needs would be left",
+    "fewer-than-3-rows": "it needs at least 3 usable rows",
+    "incomplete-covariance": "some item pairs have fewer than 2 rows in common",
+    "singular-covariance": "the item covariance matrix is singular",
+    "one-factor-fit-failed": "the one-factor model could not be fitted",
+    "fewer-than-2-answers": "it needs at least 2 answers",
+    "item-answers-not-given": "only the covariance matrix was given, not the answers",
+    "mahalanobis-not-computable": "too few answered items or respondents for the distance (see the notes)",
+    "fewer-than-3-scales-with-both-halves-or-no-spread": ("fewer than three scales with both halves answered, "
+                                                          "or half means that do not vary"),
+    "fewer-than-3-answers-or-no-spread": "fewer than three answered items, or answers that do not vary",
+    "no-completion-time": "no completion time was given",
+    "nothing-missing": "no answer is missing",
+    "fewer-than-3-bands": "the scores fill fewer than three bands",
+    "no-valley": "no band lies lower than a peak on each side of it",
+    "mcar-test-not-computable": "the EM estimates did not converge, no item varies, or no degrees of freedom remain",
+}
+
 
 def _all_templates() -> dict[str, str]:
     merged: dict[str, str] = {}
     for block in (READING, RELIABILITY, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
-                  WEIGHTS, ENGINE, DRAFTING):
+                  WEIGHTS, ENGINE, DRAFTING, VOCABULARY):
         clash = merged.keys() & block.keys()
         if clash:
             raise RuntimeError(f"message codes defined twice: {sorted(clash)}")
@@ -616,6 +653,8 @@ def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> st
     template = _all_templates().get(note.code)
     values = {key: _plain(value) for key, value in note.values.items()}
     values.update(formatted or {})
+    if note.code == "not-computable":
+        values["reason"] = NOT_COMPUTABLE_REASONS.get(values.get("reason"), values.get("reason"))
     if template is None:
         detail = ", ".join(f"{key} {value}" for key, value in values.items())
         return f"{note.code}: {detail}" if detail else note.code

@@ -109,6 +109,13 @@ class ScreenThresholds(ResultMixin):
             raise UsageError(f"screen threshold duplicate_min_items must be a whole number >= 1, "
                              f"got {self.duplicate_min_items!r}")
 
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form: shares in percent with ``_pct`` in the key, p-value cut-offs as ``pvalue``."""
+        return {"long_run_pct": 100 * self.long_run_share, "mahalanobis_pvalue": self.mahalanobis_p,
+                "mahalanobis_pvalue_weak": self.mahalanobis_p_weak, "person_total_min": self.person_total_min,
+                "even_odd_min": self.even_odd_min, "missing_pct_max": 100 * self.missing_share_max,
+                "speed_pct": 100 * self.speed_share, "duplicate_min_items": self.duplicate_min_items}
+
     def long_run_items(self, n_items: int) -> int:
         """The run length that raises ``long-run`` on a questionnaire of ``n_items`` items (at least 2)."""
         return max(2, math.ceil(self.long_run_share * n_items - 1e-9))

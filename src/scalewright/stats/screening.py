@@ -13,7 +13,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from ..results import to_jsonable
 from .careless_indices import (
     DuplicateResult,
@@ -113,7 +113,7 @@ class ScreenResult:
         return {
             "n": self.n,
             "n_flagged": n_flagged,
-            "flagged_share": n_flagged / self.n if self.n else None,
+            "flagged_pct": 100 * n_flagged / self.n if self.n else None,
             "counts": self.flag_counts(),
             "overlap": self.flag_overlap(),
             "alpha_change": self.alpha_change,
@@ -130,7 +130,7 @@ class ScreenResult:
             "longstring": self.longstring.tolist(), "irv": self.irv.tolist(),
             "mahalanobis_d2": self.mahalanobis_d2.tolist(), "mahalanobis_pvalue": self.mahalanobis_p.tolist(),
             "mahalanobis_df": self.mahalanobis_df.tolist(), "even_odd": self.even_odd.tolist(),
-            "person_total_r": self.person_total_r.tolist(), "missing": self.missing.tolist(),
+            "person_total_r": self.person_total_r.tolist(), "missing_pct": (100 * self.missing).tolist(),
         }
         if self.duration is not None:
             columns["duration"] = self.duration.tolist()
@@ -147,8 +147,20 @@ class ScreenResult:
             "thresholds": self.thresholds.to_dict(),
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
             "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
-            "notes": list(self.notes),
+            "notes": [*self.notes, *self.not_computable_notes()],
         })
+
+    def not_computable_notes(self) -> list[Note]:
+        """A ``not-computable`` note for each per-respondent index that some respondents lack, with their count."""
+        indices = {"irv": (self.irv, "fewer-than-2-answers"),
+                   "mahalanobis_d2": (self.mahalanobis_d2, "mahalanobis-not-computable"),
+                   "mahalanobis_pvalue": (self.mahalanobis_p, "mahalanobis-not-computable"),
+                   "even_odd": (self.even_odd, "fewer-than-3-scales-with-both-halves-or-no-spread"),
+                   "person_total_r": (self.person_total_r, "fewer-than-3-answers-or-no-spread")}
+        if self.duration is not None:
+            indices["duration"] = (self.duration, "no-completion-time")
+        return [not_computable(key, reason, respondents=int(np.isnan(values).sum()))
+                for key, (values, reason) in indices.items() if np.isnan(values).any()]
 
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
