@@ -56,6 +56,9 @@ def documents(tmp_path_factory):
     runs = {
         "reliability": ["reliability", *common, "--by", "shift"],
         "reliability weighted": ["reliability", *common, "--by", "shift", "--weight", "w"],
+        "reliability streamed": ["reliability", *common, "--by", "shift", "--engine", "stream"],
+        "shape streamed": ["shape", *common, "--by", "shift", "--engine", "stream"],
+        "tally streamed": ["tally", *common, "--columns", "site,shift", "--items", "--engine", "stream"],
         "shape": ["shape", *common, "--by", "shift", "--items"],
         "shape weighted": ["shape", *common, "--by", "shift", "--weight", "w"],
         "compare": ["compare", *common, "--by", "shift"],
@@ -126,6 +129,9 @@ def test_subgroups_sit_in_the_one_container(documents):
         assert "on-call" in block["too_small"]["shift"]
         assert isinstance(block["group_notes"]["shift"], list)
     assert reliability["too_small"]["shift"]["on-call"] == 4
+    streamed = _parsed(documents["reliability streamed"])["scales"]["workload"]
+    assert streamed["too_small"] == reliability["too_small"]  # the file read in blocks nests them the same way
+    assert set(streamed["by"]["shift"]) == set(reliability["by"]["shift"])
     assert compare["too_small"]["shift"] == {"on-call": "< 5"}  # min_cell hides the count
     assert compare["comparisons"]["shift"]["test"]["name"] == "Welch's F"
     weighted = _parsed(documents["compare weighted"])["scales"]["workload"]
