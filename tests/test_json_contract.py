@@ -30,11 +30,13 @@ NULL_MEANS_ABSENT = {
     "partial_scalar",       # the partial-invariance search runs only when scalar fails after metric
     "level",                # invariance: no verdict for fewer than two levels (a too-few-levels note)
     "item",                 # a reliability flag about the whole scale, not one item
+    "pairs_method",         # post-hoc pairs are for three or more levels
+    "omega_method", "omega_converged",  # how omega was fitted: null with omega_total, whose note says why
     "running_share_pct",    # an unordered column has no running share
     "median_duration", "duration_unit", "duration_column",  # no column of completion times
 }
 #: subtrees whose values are settings or pointers, not statistics
-NOT_STATISTICS = {"options", "input", "tool"}
+NOT_STATISTICS = {"options", "input", "tool", "values"}  # "values": the numbers a flag's sentence quotes
 OLD_KEY = re.compile(r"(_share|_p|p_holm)$")
 
 
@@ -84,12 +86,60 @@ def documents(tmp_path_factory):
     return texts
 
 
+DEGENERATE_SCALES = """\
+version: 1
+id_column: pid
+groups: [team]
+response: {min: 1, max: 5}
+scales:
+  three: {items: [x1, x2, x3], score: mean, min_answered: 2}
+  flat: {items: [c1, c2, c3, c4], score: mean, min_answered: 3}
+  pair: {items: [p1, p2], score: mean, min_answered: 2}
+"""
+
+
+@pytest.fixture(scope="module")
+def degenerate(tmp_path_factory):
+    """Documents of a file built to leave statistics out: a constant item, a two-item scale, one team of 4."""
+    folder = tmp_path_factory.mktemp("degenerate")
+    rng = np.random.default_rng(5)
+    n = 30
+    frame = pd.DataFrame({"pid": [f"p{i}" for i in range(n)], "team": ["a"] * 26 + ["b"] * 4,
+                          **{item: rng.integers(1, 6, n) for item in ("x1", "x2", "x3", "c2", "c3", "c4", "p1", "p2")},
+                          "c1": 3})
+    frame["x1"] = frame["x1"].astype(float)
+    frame.loc[0, "x1"] = np.nan
+    data, scales = folder / "d.csv", folder / "d.yaml"
+    frame.to_csv(data, index=False)
+    scales.write_text(DEGENERATE_SCALES)
+    common = [str(data), "--scales", str(scales)]
+    runs = {"reliability": ["reliability", *common, "--by", "team", "--min-group", "3"],
+            "shape": ["shape", *common, "--by", "team"], "compare": ["compare", *common, "--by", "team"],
+            "structure": ["structure", *common, "--iterations", "2"], "screen": ["screen", *common],
+            "confirm": ["confirm", *common, "--by", "team", "--min-group", "3"], "tally": ["tally", *common, "--items"]}
+    texts = {}
+    for name, args in runs.items():
+        buffer = io.StringIO()
+        with contextlib.redirect_stdout(buffer):
+            code = main([*args, "--format", "json"])
+        assert code == 0, name
+        texts[name] = buffer.getvalue()
+    return texts
+
+
 def _parsed(text: str) -> dict:
     return json.loads(text, parse_constant=_refuse)
 
 
+#: what sits per subgroup column beside ``group_notes``, whose notes speak for it
+PER_COLUMN = ("by", "too_small", "comparisons", "alpha_comparisons")
+
+
 def _walk(value, path=(), notes=()):
-    """Every (path, key, value, notes in force) of a document; ``notes`` are those of the nearest holder."""
+    """Every (path, key, value, notes in force) of a document; ``notes`` are those of the nearest holder.
+
+    Within ``by.<column>`` (and the other per-column keys) the column's ``group_notes`` are in force too.
+    """
     if isinstance(value, dict):
         held = [note for key in ("notes", "missing_notes") if isinstance(value.get(key), list)
                 for note in value[key]]
@@ -97,6 +147,12 @@ def _walk(value, path=(), notes=()):
             notes = held
         for key, inner in value.items():
             yield path, key, inner, notes, value
+            if key in PER_COLUMN and isinstance(inner, dict) and isinstance(value.get("group_notes"), dict):
+                for column, per_column in inner.items():
+                    in_force = [*notes, *value["group_notes"].get(column, [])]
+                    yield (*path, key), column, per_column, in_force, inner
+                    yield from _walk(per_column, (*path, key, column), in_force)
+                continue
             yield from _walk(inner, (*path, key), notes)
     elif isinstance(value, list):
         for inner in value:
@@ -141,9 +197,10 @@ def test_subgroups_sit_in_the_one_container(documents):
     assert report["compare"]["scales"]["workload"]["too_small"]["shift"] == {"on-call": "< 5"}
 
 
-def test_every_null_statistic_has_a_note_with_its_reason(documents):
+@pytest.mark.parametrize("which", ["documents", "degenerate"])
+def test_every_null_statistic_has_a_note_with_its_reason(which, request):
     # reference: CHANGES.md, "null with a reason": the note is {"code": "not-computable", "statistic": key, ...}
-    for name, text in documents.items():
+    for name, text in request.getfixturevalue(which).items():
         document = _parsed(text)
         # a screen check that could not run: its count is null and the check is listed in not_checked
         not_checked = {code for _, key, value, _, _ in _walk(document) if key == "not_checked" for code in value}
@@ -169,6 +226,23 @@ def _reason(notes, statistic):
              and n.get("statistic") == statistic]
     assert len(found) == 1, (statistic, notes)
     return found[0]
+
+
+def test_degenerate_reasons(degenerate):
+    # reference: a two-item one-factor model is not identified (three-indicator rule, Bollen 1989, recalled
+    # from memory), so it has no omega; a constant item has no correlation (Pearson's r divides by its sd);
+    # team b (4 respondents) is hidden below compare's min_cell 5, leaving one level: no test across levels
+    pair = _parsed(degenerate["reliability"])["scales"]["pair"]
+    assert pair["omega_total"] is None
+    assert _reason(pair["notes"], "omega_total") == "fewer-than-3-items"
+    flat = _parsed(degenerate["reliability"])["scales"]["flat"]
+    assert flat["alpha_standardized"] is None
+    assert _reason(flat["notes"], "alpha_standardized") == "no-variance"
+    compare = _parsed(degenerate["compare"])["scales"]["three"]
+    assert compare["comparisons"]["team"]["test"] is None
+    assert _reason(compare["group_notes"]["team"], "test") == "fewer-than-2-levels"
+    unidimensionality = _parsed(degenerate["structure"])["unidimensionality"]["pair"]
+    assert _reason(unidimensionality["notes"], "variance_one_factor") == "fewer-than-3-items"
 
 
 def test_reasons_follow_the_published_identification_rules(documents):

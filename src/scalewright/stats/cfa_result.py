@@ -165,4 +165,5 @@ def summarize_fit(fit_result: CfaFit, *, name: str, scales: Mapping[str, Sequenc
         converged=fit_result.converged, identified=fit_result.identified, verdict=fit_verdict(indices, name),
         notes=tuple(n if n.values.get("model") else Note(n.code, {"model": name, **n.values}) for n in notes),
         unavailable=tuple(Note(n.code, {**n.values, "model": name})
-                          for n in fit_indices_not_computable(indices, fitted=fit_result.fitted)))
+                          for n in (*fit_indices_not_computable(indices, fitted=fit_result.fitted),
+                                    *([] if fit_result.fitted else [not_computable("omega", "model-not-fitted")]))))

@@ -7,7 +7,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
+from ..notes import not_computable
 from ..results import ResultMixin
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -53,6 +55,17 @@ class WeakIndexUse(ResultMixin):
     points: int
     cutoff: float
     expected_below: float
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form: the expected share in percent (``expected_below_pct``), and why a value is null."""
+        out = super().to_dict()
+        below = out.pop("expected_below")
+        out["expected_below_pct"] = None if below is None else 100 * below
+        reasons = {"typical": "not-finite",
+                   "expected_below_pct": "fewer-than-4-points" if self.points < 4 else "not-finite"}
+        out["notes"] = [not_computable(key, reason, points=self.points).to_dict()
+                        for key, reason in reasons.items() if out[key] is None]
+        return out
 
 
 def expected_share_below(typical: float, cutoff: float, points: int) -> float:

@@ -109,6 +109,16 @@ def subgroup_blocks(groups: Iterable[Any]) -> dict[str, dict[str, Any]]:
             "group_notes": {g.column: to_jsonable(notes_to_json(g.notes)) for g in groups}}
 
 
+def _tests_not_computable(comparison: Any) -> list[Any]:
+    """A ``not-computable`` note for each test or effect size a comparison could not give."""
+    from ..notes import not_computable
+
+    reason = "fewer-than-2-levels" if len(comparison.groups) < 2 else "not-finite"
+    return [not_computable(key, reason, levels=len(comparison.groups))
+            for key in ("test", "nonparametric", "effect_size", "nonparametric_effect_size", "levene")
+            if getattr(comparison, key) is None]
+
+
 @dataclass(frozen=True)
 class _ColumnLevels:
     column: str
@@ -128,7 +138,8 @@ def comparison_blocks(comparisons: Iterable[Any],
     """
     comparisons = list(comparisons)
     columns = [_ColumnLevels(column=c.column, levels={g.level: g for g in c.groups},
-                             too_small=c.to_dict()["suppressed"], notes=tuple(c.notes)) for c in comparisons]
+                             too_small=c.to_dict()["suppressed"], notes=(*c.notes, *_tests_not_computable(c)))
+               for c in comparisons]
     tests = {}
     for c in comparisons:
         record = c.to_dict()
