@@ -43,7 +43,6 @@ from .reliability_coefficients import (
 )
 from .reliability_flags import DEFAULT_THRESHOLDS, ReliabilityFlag, ReliabilityThresholds, reliability_flags
 
-
 #: the scale-level statistics of :class:`ScaleReliability` that a not-computable note may name
 _STATISTICS = ("alpha", "alpha_ci", "alpha_standardized", "omega_total", "lambda2", "lambda6", "mean_inter_item_r",
                "min_inter_item_r", "max_inter_item_r")
