@@ -242,7 +242,7 @@ def test_degenerate_reasons(degenerate):
     assert compare["comparisons"]["team"]["test"] is None
     assert _reason(compare["group_notes"]["team"], "test") == "fewer-than-2-levels"
     unidimensionality = _parsed(degenerate["structure"])["unidimensionality"]["pair"]
-    assert _reason(unidimensionality["notes"], "variance_one_factor") == "fewer-than-3-items"
+    assert _reason(unidimensionality["notes"], "variance_one_factor_pct") == "fewer-than-3-items"
 
 
 def test_reasons_follow_the_published_identification_rules(documents):
