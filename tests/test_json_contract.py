@@ -54,6 +54,9 @@ def documents(tmp_path_factory):
     frame.loc[:3, "shift"] = "on-call"  # four respondents: a level below min_group (10) and min_cell (5) alike
     frame["w"] = np.random.default_rng(1).uniform(0.5, 2.0, len(frame))
     frame.to_csv(data, index=False)
+    sites = sorted(frame["site"].unique())
+    census = folder / "census.csv"
+    census.write_text("category,proportion\n" + "".join(f"{site},{1 / len(sites)!r}\n" for site in sites))
     common = [str(data), "--scales", str(scales)]
     runs = {
         "reliability": ["reliability", *common, "--by", "shift"],
@@ -67,7 +70,7 @@ def documents(tmp_path_factory):
         "compare weighted": ["compare", *common, "--by", "shift", "--weight", "w"],
         "structure": ["structure", *common, "--iterations", "2"],
         "screen": ["screen", *common, "--duration-column", "duration_s"],
-        "tally": ["tally", *common, "--columns", "site,shift", "--items"],
+        "tally": ["tally", *common, "--columns", "site,shift", "--items", "--expected", f"site={census}"],
         "confirm": ["confirm", *common, "--by", "shift"],
         "score": ["score", *common],
         "lint": ["lint", *common],
