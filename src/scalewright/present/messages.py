@@ -596,7 +596,7 @@ NOT_COMPUTABLE_REASONS: dict[str, str] = {
     "not-finite": "the computation gave no finite value",
     "not-two-levels": "it compares exactly two levels",
     "fewer-than-2-levels": "fewer than two levels are described",
-    "no-variance": "the scores do not vary",
+    "no-variance": "the answers or scores it rests on do not vary",
     "fewer-than-2-items": "it needs at least 2 items",
     "fewer-than-3-items": "a one-factor model needs at least 3 items",
     "fewer-than-4-items": "without one item, fewer than the 3 items a one-factor model needs would be left",
