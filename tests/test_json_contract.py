@@ -68,6 +68,7 @@ def documents(tmp_path_factory):
         "shape weighted": ["shape", *common, "--by", "shift", "--weight", "w"],
         "compare": ["compare", *common, "--by", "shift"],
         "compare weighted": ["compare", *common, "--by", "shift", "--weight", "w"],
+        "compare streamed": ["compare", *common, "--by", "shift", "--engine", "stream"],
         "structure": ["structure", *common, "--iterations", "2"],
         "structure weighted": ["structure", *common, "--iterations", "2", "--weight", "w"],
         "screen": ["screen", *common, "--duration-column", "duration_s"],
