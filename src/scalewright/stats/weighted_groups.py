@@ -48,8 +48,15 @@ class WeightedComparison(ResultMixin):
     hedges_g_ci: tuple[float, float] = (math.nan, math.nan)
     eta_squared: float = math.nan
     notes: tuple[Note, ...] = field(default_factory=tuple)
-    #: not-computable notes of the statistics left NaN: in the JSON's ``notes``, not in the tables' (a dash says it)
-    unavailable: tuple[Note, ...] = field(default_factory=tuple)
+
+    def unavailable(self) -> list[Note]:
+        """Not-computable notes of the statistics left NaN: in the JSON's ``notes`` (the tables show a dash)."""
+        described = len(self.levels)
+        reason = {"eta_squared": "fewer-than-2-levels" if described < 2 else "no-variance"}
+        reason.update(dict.fromkeys(("mean_difference", "t", "df", "pvalue", "hedges_g", "hedges_g_ci"),
+                                    "not-two-levels" if described != 2 else "no-variance"))
+        return [not_computable(key, why, levels=described) for key, why in reason.items()
+                if not np.all(np.isfinite(getattr(self, key)))]
 
     def to_dict(self) -> dict[str, Any]:
         out = {key: getattr(self, key) for key in ("column", "scale", "weight_column", "n", "n_effective",
@@ -57,7 +64,7 @@ class WeightedComparison(ResultMixin):
                                                     "hedges_g", "hedges_g_ci", "eta_squared")}
         out["levels"] = {lv.level: {k: v for k, v in lv.to_dict().items() if k != "level"} for lv in self.levels}
         out["not_described"] = dict(self.not_described)
-        out["notes"] = [n.to_dict() for n in (*self.notes, *self.unavailable)]
+        out["notes"] = [n.to_dict() for n in (*self.notes, *self.unavailable())]
         return {"weighted": True, **to_jsonable(out)}
 
 
@@ -123,12 +130,6 @@ def weighted_compare(scores: np.ndarray, levels: Mapping[str, np.ndarray], weigh
         fields.update(mean_difference=diff, t=t, df=df,
                       pvalue=float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else math.nan,
                       hedges_g=g, hedges_g_ci=(g - z * se, g + z * se))
-    two_level = ("mean_difference", "t", "df", "pvalue", "hedges_g", "hedges_g_ci")
-    reason = {"eta_squared": "fewer-than-2-levels" if len(summaries) < 2 else "no-variance"}
-    reason.update(dict.fromkeys(two_level, "not-two-levels" if len(summaries) != 2 else "no-variance"))
-    unavailable = tuple(not_computable(key, why, levels=len(summaries)) for key, why in reason.items()
-                        if not np.all(np.isfinite(fields.get(key, math.nan))))
     return WeightedComparison(column=column, scale=scale, weight_column=weight_column, n=int(every.size),
                               n_effective=everyone.n_effective, sum_of_weights=everyone.sum_of_weights,
-                              levels=out_levels, not_described=not_described, notes=tuple(notes),
-                              unavailable=unavailable, **fields)
+                              levels=out_levels, not_described=not_described, notes=tuple(notes), **fields)
