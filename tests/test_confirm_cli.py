@@ -72,7 +72,7 @@ def test_confirm_by_column_names_levels_left_out(tmp_path, capsys):
     data, scales = write_survey(tmp_path, small_level=20)
     document = run_confirm(capsys, str(data), "--scales", str(scales), "--by", "shift", "--min-group", "50")
     workload = document["invariance"]["shift"]["workload"]
-    assert workload["left_out"] == {"weekend": 20}
+    assert workload["too_small"] == {"weekend": 20}
     assert set(workload) >= {"configural", "metric", "scalar", "steps", "level", "freed", "partial_scalar",
                              "latent_mean_differences"}
     assert set(workload["configural"]) >= {"chi2", "df", "cfi", "rmsea", "srmr"}
@@ -123,6 +123,6 @@ def test_compare_mentions_the_invariance_verdict(tmp_path, capsys):
     data, scales = write_survey(tmp_path, n=600)
     assert main(["compare", str(data), "--scales", str(scales), "--by", "shift", "--format", "json"]) == 0
     document = json.loads(capsys.readouterr().out)
-    record = document["scales"]["climate"]["by"]["shift"]["invariance"]
+    record = document["scales"]["climate"]["comparisons"]["shift"]["invariance"]
     assert record["level"] in ("scalar", "strict")
     assert "means can be compared" in record["sentence"]

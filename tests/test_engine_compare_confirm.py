@@ -23,11 +23,11 @@ def assert_comparison_equal(streamed: dict, whole: dict) -> None:
     """Equal to 1e-12, except the Games-Howell and Tukey p-values: scipy's studentized range distribution
     is a numerical integral whose result moves by about 1e-11 when its input moves in the last bit."""
     for scale in whole["scales"].values():
-        for record in scale["by"].values():
+        for record in scale["comparisons"].values():
             for pair in record.get("pairs", []):
                 pair.pop("pvalue", None)
     pvalues = [(pair, pair.pop("pvalue")) for scale in streamed["scales"].values()
-               for record in scale["by"].values() for pair in record.get("pairs", [])]
+               for record in scale["comparisons"].values() for pair in record.get("pairs", [])]
     assert all(0 <= p <= 1 for _, p in pvalues)
     assert_same_numbers(streamed, whole)
 
@@ -37,15 +37,15 @@ def assert_comparison_equal(streamed: dict, whole: dict) -> None:
 def test_compare_streamed_equals_whole_file(survey, options):
     whole, streamed = both_routes("compare", *survey, *options)
     assert_comparison_equal(streamed, whole)
-    assert whole["scales"]["workload"]["by"][options[1]]["test"]["pvalue"] is not None  # there was a test
+    assert whole["scales"]["workload"]["comparisons"][options[1]]["test"]["pvalue"] is not None  # there was a test
 
 
 def test_compare_pair_pvalues_agree_closely(survey):
     # reference: pingouin.pairwise_gameshowell on the rows (the whole-file route)
     whole, streamed = both_routes("compare", *survey, "--by", "shift")
     for name in ("workload", "climate"):
-        pairs_w = whole["scales"][name]["by"]["shift"]["pairs"]
-        pairs_s = streamed["scales"][name]["by"]["shift"]["pairs"]
+        pairs_w = whole["scales"][name]["comparisons"]["shift"]["pairs"]
+        pairs_s = streamed["scales"][name]["comparisons"]["shift"]["pairs"]
         assert len(pairs_w) == 6
         for a, b in zip(pairs_s, pairs_w, strict=True):
             assert a["pvalue"] == pytest.approx(b["pvalue"], rel=1e-9, abs=1e-12)
@@ -148,7 +148,7 @@ def test_group_codes_named_by_the_scale_file_stream(tmp_path, command, options):
     whole, streamed = both_routes(command, data, scales, *options)
     if command == "compare":
         assert_comparison_equal(streamed, whole)
-        assert list(whole["scales"]["workload"]["by"]["shift"]["groups"]) == ["day", "night", "late", "weekend"]
+        assert list(whole["scales"]["workload"]["by"]["shift"]) == ["day", "night", "late", "weekend"]
     else:
         assert_same_numbers(streamed, whole)
 

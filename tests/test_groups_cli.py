@@ -63,9 +63,10 @@ def test_compare_json_contract_and_scipy(files, capsys):
     code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "shift", "--format", "json")
     assert code == 0, err
     document = json.loads(out)
-    record = document["scales"]["workload"]["by"]["shift"]
-    assert set(record["groups"]) == {"day", "night", "evening"}
-    assert record["suppressed"] == {"weekend": "< 5"}
+    workload = document["scales"]["workload"]
+    record = workload["comparisons"]["shift"]
+    assert set(workload["by"]["shift"]) == {"day", "night", "evening"}
+    assert workload["too_small"]["shift"] == {"weekend": "< 5"}
     assert record["test"]["name"] == "Welch's F"
     # reference: scipy's Kruskal-Wallis on the workload mean score (wl3 reverse-keyed: 6 - x), weekend left out
     score = (frame["wl1"] + frame["wl2"] + (6 - frame["wl3"])) / 3
@@ -97,9 +98,10 @@ def test_compare_two_groups_and_student(files, capsys):
     code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "site", "--student",
                          "--min-cell", "40", "--format", "json")
     assert code == 0, err
-    record = json.loads(out)["scales"]["workload"]["by"]["site"]
-    assert "East" in record["suppressed"]
-    assert set(record["groups"]) == {"North", "South"}
+    workload = json.loads(out)["scales"]["workload"]
+    record = workload["comparisons"]["site"]
+    assert "East" in workload["too_small"]["site"]
+    assert set(workload["by"]["site"]) == {"North", "South"}
     # reference: scipy's Student t on the workload mean score (no missing answers), North vs South
     score = (frame["wl1"] + frame["wl2"] + (6 - frame["wl3"])) / 3
     north, south = (score[frame["site"] == s] for s in ("North", "South"))

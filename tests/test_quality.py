@@ -228,7 +228,7 @@ def test_screen_flags_planted_records_and_explains_the_contract():
     doc = result.to_dict()
     first = doc["respondents"][0]
     assert {"id", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_pvalue", "even_odd", "person_total_r",
-            "missing"} <= set(first)
+            "missing_pct"} <= set(first)
     assert "long-run" in first["flags"]
     assert first["flagged"]
     assert "duplicate-answers" in doc["respondents"][1]["flags"]

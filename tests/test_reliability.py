@@ -291,7 +291,7 @@ def test_reliability_by_group_with_holm_across_pairs():
     overall = scale_reliability(x, item_names=list("abcde"), low=1, high=5)
     block = to_jsonable(ScaleReliabilityReport("s", "S", overall, (groups,)).to_dict())
     assert set(block["by"]["shift"]) == {"day", "night", "rotating"}
-    assert block["groups_not_analysed"]["shift"] == {"on-call": 6}
+    assert block["too_small"]["shift"] == {"on-call": 6}
     assert compare_alphas({}) == ()
 
 

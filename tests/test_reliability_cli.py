@@ -70,11 +70,11 @@ def test_by_subgroup_and_small_level_named(files, capsys):
                         "--bootstrap", "50", "--seed", "3")
     block = document["scales"]["workload"]
     assert set(block["by"]["shift"]) == {"day", "night"}
-    assert block["groups_not_analysed"]["shift"] == {"on-call": 4}
+    assert block["too_small"]["shift"] == {"on-call": 4}
     assert len(block["alpha_comparisons"]["shift"]) == 1
     assert block["bootstrap"]["n_resamples"] == 50
     assert document["options"]["seed"] == 3
-    assert any("on-call" in note for note in block["notes"])
+    assert any("on-call" in note for note in block["group_notes"]["shift"])
 
 
 def test_pairwise_is_said_in_output(write_file, capsys):

@@ -215,7 +215,7 @@ def test_results_json_carries_the_contract_keys(hostile_report):
     shape = document["shape"]["scales"]["voice"]
     assert shape["all"]["shape"] in ("symmetric", "left-skewed", "right-skewed", "uniform", "bimodal")
     assert set(shape["by"]["team"]) == {"north", HOSTILE, "south & co"}
-    assert document["compare"]["scales"]["morale"]["by"]["team"]["test"] is not None
+    assert document["compare"]["scales"]["morale"]["comparisons"]["team"]["test"] is not None
     assert document["structure"]["parallel"]["iterations"] == 5
     assert document["screen"]["summary"]["n"] == 150
     assert document["options"]["by"] == ["team"]

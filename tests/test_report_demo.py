@@ -61,9 +61,12 @@ def test_shape_and_compare_equal_their_commands(demo_run):
     _close(shape["scales"], results["shape"]["scales"], "shape")
     compare = _command_json(folder, "compare", [str(data), "--scales", str(scales), "--by", "shift"])
     for name, entry in compare["scales"].items():
-        record = dict(entry["by"]["shift"])
+        record = dict(entry["comparisons"]["shift"])
         record.pop("sentence")  # a rendering, not a result; the report shows it in the page
-        _close(record, results["compare"]["scales"][name]["by"]["shift"], f"compare.{name}")
+        reported = results["compare"]["scales"][name]
+        _close(record, reported["comparisons"]["shift"], f"compare.{name}")
+        for key in ("by", "too_small", "group_notes"):
+            _close(entry[key]["shift"], reported[key]["shift"], f"compare.{name}.{key}")
 
 
 def test_structure_and_screen_equal_their_commands(demo_run):

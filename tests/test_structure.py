@@ -554,5 +554,5 @@ def test_to_dict_carries_the_contract_keys():
     assert {"suggested_factors", "observed", "random", "random_mean", "criterion"} <= set(document["parallel"])
     assert set(document["loadings"]) == set(names)
     assert len(document["loadings"]["wl1"]) == document["n_factors"]
-    assert {"eigen_ratio", "variance_one_factor"} <= set(document["unidimensionality"]["wl"])
+    assert {"eigen_ratio", "variance_one_factor_pct"} <= set(document["unidimensionality"]["wl"])
     json.dumps(document, allow_nan=False)

@@ -392,7 +392,7 @@ def _compare_json(capsys, data, scales, *extra):
 
     code, out, err = run(capsys, "compare", data, "--scales", scales, "--by", "site", "--format", "json", *extra)
     assert code == 0, err
-    return json.loads(out)["scales"]["workload"]["by"]["site"]
+    return json.loads(out)["scales"]["workload"]
 
 
 def test_compare_unit_weights_equal_scipy_and_pingouin(tmp_path, capsys):
@@ -400,7 +400,7 @@ def test_compare_unit_weights_equal_scipy_and_pingouin(tmp_path, capsys):
     from scipy import stats
 
     data, scales, frame = make_files(tmp_path, weights=np.ones(80), n=80)
-    block = _compare_json(capsys, data, scales)["weighted"]
+    block = _compare_json(capsys, data, scales)["comparisons"]["site"]["weighted"]
     score = frame[["wl1", "wl2", "wl3"]].mean(axis=1).to_numpy()
     north, south = score[frame["site"] == "North"], score[frame["site"] == "South"]
     # scipy's Welch t test and pingouin's Hedges' g with its interval, computed live
@@ -423,19 +423,21 @@ def test_compare_unit_weights_equal_scipy_and_pingouin(tmp_path, capsys):
 def test_compare_integer_weights_equal_replicated_means(tmp_path, capsys):
     weights = np.random.default_rng(13).integers(1, 5, 60)
     data, scales, frame = make_files(tmp_path, weights=weights, n=60)
-    block = _compare_json(capsys, data, scales)["weighted"]
+    workload = _compare_json(capsys, data, scales)
+    block = workload["comparisons"]["site"]["weighted"]
+    levels = {level: workload["by"]["site"][level]["weighted"] for level in ("North", "South")}
     repeated = frame.loc[frame.index.repeat(weights)]
     score = repeated[["wl1", "wl2", "wl3"]].mean(axis=1)
     # pandas group means of the rows repeated w times; eta-squared is a ratio of sums of squares (numpy)
     for level in ("North", "South"):
-        assert block["levels"][level]["mean"] == pytest.approx(score[repeated["site"] == level].mean(), rel=1e-12)
+        assert levels[level]["mean"] == pytest.approx(score[repeated["site"] == level].mean(), rel=1e-12)
     grand = score.mean()
     between = sum((repeated["site"] == lv).sum() * (score[repeated["site"] == lv].mean() - grand) ** 2
                   for lv in ("North", "South"))
     assert block["eta_squared"] == pytest.approx(between / np.sum((score - grand) ** 2), rel=1e-10)
     n_eff = {lv: weights[frame["site"] == lv].sum() ** 2 / np.sum(weights[frame["site"] == lv] ** 2)
              for lv in ("North", "South")}  # Kish (1965)
-    assert block["levels"]["North"]["n_effective"] == pytest.approx(n_eff["North"])
+    assert levels["North"]["n_effective"] == pytest.approx(n_eff["North"])
 
 
 def test_lint_lists_bad_weights(tmp_path, capsys):

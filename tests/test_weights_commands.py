@@ -342,7 +342,7 @@ def test_screen_unit_weights_equal_unweighted_scaling_changes_nothing_zero_weigh
     assert block["flag_pct"]["long-run"] == pytest.approx(100 * w[runs].sum() / w.sum(), rel=1e-12)
     assert block["weighted"] is True
     assert block["n_effective"] == pytest.approx(w.sum() ** 2 / np.sum(w**2))  # Kish (1965)
-    assert ones["summary"]["weighted"]["flagged_pct"] == pytest.approx(100 * plain["summary"]["flagged_share"])
+    assert ones["summary"]["weighted"]["flagged_pct"] == pytest.approx(plain["summary"]["flagged_pct"])
     assert "weighted" not in plain["summary"]
 
 

@@ -37,3 +37,17 @@ def notes_to_json(notes: Iterable[Any]) -> list[Any]:
     """Notes for JSON: each note's code and values with an empty ``message``, which the presentation layer
     fills in (:func:`scalewright.present.messages.word_document`); a plain text stays as it is."""
     return [{**n.to_dict(), "message": ""} if isinstance(n, Note) else n for n in notes]
+
+
+#: the code of every note that says why a statistic is ``null`` in the JSON (NaN in the result)
+NOT_COMPUTABLE = "not-computable"
+
+
+def not_computable(statistic: str, reason: str, **values: Any) -> Note:
+    """The note beside a statistic that cannot be computed: NaN in the result, ``null`` in the JSON.
+
+    ``statistic`` is the statistic's JSON key, ``reason`` a kebab-case code (``fewer-than-3-items``,
+    ``no-degrees-of-freedom``, ...) that ``present/messages.py`` words; ``values`` make it specific. The note
+    sits in the ``notes`` of the nearest result that holds the statistic (CHANGES.md, "null with a reason").
+    """
+    return Note(code=NOT_COMPUTABLE, values={"statistic": statistic, "reason": reason, **values})

@@ -131,12 +131,13 @@ class ReportResults:
 
     def compare_block(self) -> dict[str, Any]:
         from .present.invariance import invariance_record
+        from .stats.subgroups import comparison_blocks
 
         # as the compare command: each scale's invariance verdict beside its mean comparison
         invariance = self.confirm.invariance if self.confirm is not None else {}
-        return {"scales": {name: {"by": {c.column: {**c.to_dict(), **({"invariance": invariance_record(
-            invariance[c.column].get(name))} if c.column in invariance else {})} for c in f.comparisons}}
-                           for name, f in self.scales.items() if f.comparisons}}
+        return {"scales": {name: comparison_blocks(f.comparisons, {
+            c.column: {"invariance": invariance_record(invariance[c.column].get(name))}
+            for c in f.comparisons if c.column in invariance}) for name, f in self.scales.items() if f.comparisons}}
 
     def to_dict(self) -> dict[str, Any]:
         body: dict[str, Any] = {

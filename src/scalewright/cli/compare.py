@@ -43,8 +43,9 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     test is reported as a note; p-values are also given Holm-adjusted across the scales of the run.
     """
     from ..engine.plan import plan_for
-    from ..present.groups import compare_tables, comparison_record
+    from ..present.groups import compare_tables, comparison_sentence
     from ..present.invariance import invariance_record, invariance_tables
+    from ..stats.subgroups import comparison_blocks
 
     # score value counts per level serve the comparison; listwise cross-products per level the invariance
     summarised = load_summaries(
@@ -74,10 +75,11 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
                                      scores=scored)
         invariance = invariance_by_scale(inputs.spec, inputs.responses, by=columns)
     names = list(inputs.spec.scales)
-    body = {"scales": {name: {"by": {column: {**comparison_record(per_column[column][i], decimals=decimals),
-                                              "invariance": invariance_record(invariance[column].get(name))}
-                                     for column in columns}}
-                       for i, name in enumerate(names)}}
+    body = {"scales": {name: comparison_blocks(
+        [per_column[column][i] for column in columns],
+        {column: {"sentence": comparison_sentence(per_column[column][i], decimals=decimals),
+                  "invariance": invariance_record(invariance[column].get(name))} for column in columns})
+        for i, name in enumerate(names)}}
     if summarised:
         body["engine"] = summarised.engine
     ordered = [c for i in range(len(names)) for column in columns for c in (per_column[column][i],)]
@@ -91,7 +93,7 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
 
 
 def _weighted(body, inputs, scored, columns, min_cell) -> list:
-    """Weighted level means and effect sizes beside the unweighted comparison (``...by.<column>.weighted``)."""
+    """Weighted level means and effect sizes beside the unweighted comparison (see :func:`_place_weighted`)."""
     from ..present.weighted import weighted_compare_table
     from ..stats.subgroups import split_by
     from ..stats.weighted_groups import weighted_compare
@@ -103,7 +105,7 @@ def _weighted(body, inputs, scored, columns, min_cell) -> list:
         for name, scale_scores in scored.scales.items():
             result = weighted_compare(scale_scores.scores, split.levels, weights.values, column=column, scale=name,
                                       weight_column=weights.column, min_cell=min_cell)
-            body["scales"][name]["by"][column]["weighted"] = result.to_dict()
+            _place_weighted(body["scales"][name], column, result.to_dict(), min_cell)
             tables.append(weighted_compare_table(result))
     return tables
 
@@ -118,6 +120,17 @@ def _weighted_from_summaries(body, inputs, summarised, columns, min_cell) -> lis
     tables = []
     for column in columns:
         for name, result in found[column].items():
-            body["scales"][name]["by"][column]["weighted"] = result.to_dict()
+            _place_weighted(body["scales"][name], column, result.to_dict(), min_cell)
             tables.append(weighted_compare_table(result))
     return tables
+
+
+def _place_weighted(record: dict, column: str, weighted: dict, min_cell: int) -> None:
+    """Each level's weighted estimates beside its other numbers (``by.<column>.<level>.weighted``); the test
+    across the levels beside the tests (``comparisons.<column>.weighted``), levels hidden below min_cell as "< N"."""
+    from ..stats.groups import suppressed_text
+
+    for level, estimates in weighted.pop("levels").items():
+        record["by"][column].setdefault(level, {})["weighted"] = estimates
+    weighted["not_described"] = {level: suppressed_text(min_cell) for level in weighted["not_described"]}
+    record["comparisons"][column]["weighted"] = weighted

@@ -30,7 +30,7 @@ FLAG_MEANINGS = {
 NOT_CHECKED = "not checked"
 
 RESPONDENT_COLUMNS = ("id", "flagged", "flags", "longstring", "irv", "mahalanobis_d2", "mahalanobis_df",
-                      "mahalanobis_pvalue", "even_odd", "person_total_r", "missing", "duration", "explanation")
+                      "mahalanobis_pvalue", "even_odd", "person_total_r", "missing_pct", "duration", "explanation")
 
 
 def _num(value: Any, kind: str = "num", decimals: int = 2) -> str:
@@ -48,6 +48,8 @@ def screen_notes(document: dict[str, Any]) -> list[str]:
 
     out = []
     for item in document.get("notes", ()):
+        if isinstance(item, dict) and item.get("code") == "not-computable":
+            continue  # the JSON's reason for a null index; the respondent table shows a dash
         if isinstance(item, dict) and "code" in item:
             values = {k: tuple(v) if isinstance(v, list) else v for k, v in item.items() if k != "code"}
             item = Note(code=item["code"], values=values)
@@ -89,7 +91,7 @@ def explain_flags(record: dict[str, Any], *, thresholds: dict[str, Any], n_items
             parts.append(f"gave the same answer to {record['longstring']} items in a row "
                          f"(limit {long_run_items} of {n_items})")
         elif code in ("far-from-sample", "somewhat-far"):
-            limit = thresholds["mahalanobis_p" if code == "far-from-sample" else "mahalanobis_p_weak"]
+            limit = thresholds["mahalanobis_pvalue" if code == "far-from-sample" else "mahalanobis_pvalue_weak"]
             parts.append(f"answer pattern {'far' if code == 'far-from-sample' else 'somewhat far'} from the "
                          f"sample's (D² = {_num(record['mahalanobis_d2'], decimals=1)} on "
                          f"{record['mahalanobis_df']} items, p {_p_phrase(record['mahalanobis_pvalue'])}; "
@@ -106,10 +108,10 @@ def explain_flags(record: dict[str, Any], *, thresholds: dict[str, Any], n_items
             median = (f" against a median of {_num(median_duration, decimals=0)}{unit}"
                       if _is_number(median_duration) else "")
             parts.append(f"took {_num(record.get('duration'), decimals=0)}{unit}{median} "
-                         f"(limit {_num(thresholds['speed_share'], 'bounded')} of the median)")
+                         f"(limit {_num(thresholds['speed_pct'] / 100, 'bounded')} of the median)")
         elif code == "many-missing":
-            parts.append(f"left {_num(100 * record['missing'], 'pct')}% of the items unanswered "
-                         f"(listed only; limit {_num(100 * thresholds['missing_share_max'], 'pct')}%)")
+            parts.append(f"left {_num(record['missing_pct'], 'pct')}% of the items unanswered "
+                         f"(listed only; limit {_num(thresholds['missing_pct_max'], 'pct')}%)")
         elif code == "duplicate-answers":
             parts.append("answers identical to another respondent's, item for item")
         elif code == "duplicate-id":
@@ -193,7 +195,7 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
         title="Flagged respondents" if flagged_only else "Respondents",
         columns=("id", "flags", "longest run", "IRV", "D²", "p", "even-odd", "person-total r", "missing %", "why"),
         rows=tuple((r["id"], r["flags"], r["longstring"], r["irv"], r["mahalanobis_d2"], r["mahalanobis_pvalue"],
-                    r["even_odd"], r["person_total_r"], None if r["missing"] is None else 100 * r["missing"],
+                    r["even_odd"], r["person_total_r"], r["missing_pct"],
                     r["explanation"]) for r in rows),
         kinds={"id": "text", "flags": "text", "longest run": "int", "p": "p", "even-odd": "bounded",
                "person-total r": "bounded", "missing %": "pct", "why": "text"},

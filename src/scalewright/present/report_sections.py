@@ -57,10 +57,10 @@ def _screen_blocks(screen: Any, decimals: int, *, n_rows: int = 0) -> list[Any]:
         return [Paragraph("The careless-responding screen was not run: there are no respondents.", tone="note")]
     document = screen.to_dict()
     summary = document["summary"]
-    share = summary["flagged_share"]
+    share = summary["flagged_pct"]
     blocks: list[Any] = [Paragraph(
         f"The careless-responding screen flagged {summary['n_flagged']} of {summary['n']} respondents "
-        f"({format_value(None if share is None else 100 * share, 'pct')}%). Flagged respondents are kept in every "
+        f"({format_value(share, 'pct')}%). Flagged respondents are kept in every "
         "analysis of this report: a flag marks a record to look at, not a verdict. results.json lists every "
         "respondent with every index.")]
     tables = tuple(TableBlock(t) for t in screen_tables(document, flagged_only=True, max_rows=MAX_RESPONDENT_ROWS))

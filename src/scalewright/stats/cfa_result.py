@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from ..results import to_jsonable
 from .cfa_fit import CfaFit
 from .cfa_fit_indices import FitIndices, fit_indices
@@ -62,6 +62,8 @@ class ConfirmedModel:
     identified: bool
     verdict: Note | None = None
     notes: tuple[Note, ...] = field(default=())
+    #: not-computable notes of the fit indices left NaN: in the JSON's ``notes``, not in the tables' (a dash says it)
+    unavailable: tuple[Note, ...] = field(default=())
 
     @property
     def fitted(self) -> bool:
@@ -85,8 +87,25 @@ class ConfirmedModel:
         if self.bifactor is not None:
             out.update(self.bifactor.to_dict())
         out["verdict"] = self.verdict.to_dict() if self.verdict else None
-        out["notes"] = [n.to_dict() for n in self.notes]
+        out["notes"] = [n.to_dict() for n in (*self.notes, *self.unavailable)]
         return out
+
+
+def fit_indices_not_computable(indices: FitIndices, *, fitted: bool) -> list[Note]:
+    """A ``not-computable`` note for each fit index that is NaN, with the reason it is.
+
+    A model with no degrees of freedom reproduces the covariances exactly, so the test and the indices built on
+    it (p-value, TLI, RMSEA and its interval) do not exist; a least-squares fit (ULS, DWLS) has no likelihood,
+    so no chi-square test; a model that was not fitted has no indices at all.
+    """
+    reason = ("model-not-fitted" if not fitted else "least-squares-estimator" if indices.estimator != "ml"
+              else "no-degrees-of-freedom" if indices.df <= 0 else "not-finite")
+    found = []
+    for key, value in indices.to_dict().items():
+        empty = value is None or (isinstance(value, list) and any(v is None for v in value))
+        if empty:
+            found.append(not_computable(key, reason, df=indices.df))
+    return found
 
 
 def summarize_fit(fit_result: CfaFit, *, name: str, scales: Mapping[str, Sequence[str]],
@@ -144,4 +163,7 @@ def summarize_fit(fit_result: CfaFit, *, name: str, scales: Mapping[str, Sequenc
         factor_correlation_ci=correlation_ci, residual_correlations=largest_residual_correlations(fit_result),
         modification_hints=modification_hints(fit_result) if hints else [], omega=omega, bifactor=bifactor,
         converged=fit_result.converged, identified=fit_result.identified, verdict=fit_verdict(indices, name),
-        notes=tuple(n if n.values.get("model") else Note(n.code, {"model": name, **n.values}) for n in notes))
+        notes=tuple(n if n.values.get("model") else Note(n.code, {"model": name, **n.values}) for n in notes),
+        unavailable=tuple(Note(n.code, {**n.values, "model": name})
+                          for n in (*fit_indices_not_computable(indices, fitted=fit_result.fitted),
+                                    *([] if fit_result.fitted else [not_computable("omega", "model-not-fitted")]))))

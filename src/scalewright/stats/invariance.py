@@ -23,7 +23,7 @@ from ..results import ResultMixin, to_jsonable
 from .cfa_fit import CfaFit, fit
 from .cfa_fit_indices import FitIndices, fit_indices
 from .cfa_model import CfaModel, multigroup_model
-from .cfa_result import CUTOFFS
+from .cfa_result import CUTOFFS, fit_indices_not_computable
 
 #: Chen (2007): the largest drop of CFI and rise of RMSEA for a step to hold (conventions, not tests)
 DELTA_CFI_MIN = -0.010
@@ -75,11 +75,13 @@ class InvarianceResult:
     latent_mean_differences: dict[str, dict[str, dict[str, Any]]]
     observed_differences: dict[str, dict[str, float]]
     notes: tuple[Note, ...] = field(default=())
+    #: not-computable notes of the steps' fit indices left NaN: in the JSON only (a dash says it in the tables)
+    unavailable: tuple[Note, ...] = field(default=())
 
     def to_dict(self) -> dict[str, Any]:
         out: dict[str, Any] = {step: value.to_dict() for step, value in self.steps.items()}
         out.update({
-            "levels": dict(self.levels), "left_out": dict(self.left_out),
+            "levels": dict(self.levels), "too_small": dict(self.left_out),
             "steps": {step: change.to_dict() for step, change in self.changes.items()},
             "level": self.level, "freed": list(self.freed), "partial_scalar": self.partial_scalar,
             "latent_mean_differences": to_jsonable(self.latent_mean_differences),
@@ -87,7 +89,7 @@ class InvarianceResult:
             "identification": {step: IDENTIFICATION[step] for step in self.steps},
             "conventions": {"delta_cfi_min": DELTA_CFI_MIN, "delta_rmsea_max": DELTA_RMSEA_MAX,
                             "rmsea": "multi-group RMSEA multiplied by sqrt(number of groups) (Steiger 1998)"},
-            "notes": [n.to_dict() for n in self.notes]})
+            "notes": [n.to_dict() for n in (*self.notes, *self.unavailable)]})
         return out
 
 
@@ -210,11 +212,15 @@ def measurement_invariance(base: CfaModel, covs: Sequence[np.ndarray], ns: Seque
                 steps["partial_scalar"] = _step(indices, result)
                 break
     latent = _latent_means(mean_model, level_names, confidence_level) if mean_model is not None else {}
+    unavailable = tuple(Note(n.code, {**n.values, "model": name, "step": step})
+                        for step, (result, indices) in fits.items()
+                        for n in fit_indices_not_computable(indices, fitted=result.fitted)
+                        if n.values["statistic"] in ("chi2", "cfi", "rmsea", "srmr"))
     return InvarianceResult(
         name=name, column=column, levels=levels, left_out=left_out,
         steps=steps, changes=changes, level=level, freed=freed, partial_scalar=partial,
         latent_mean_differences=latent, observed_differences=observed_differences(base, covs, means, level_names),
-        notes=tuple([verdict_note(name, column, level, partial, freed), *notes]))
+        notes=tuple([verdict_note(name, column, level, partial, freed), *notes]), unavailable=unavailable)
 
 
 def verdict_note(name: str, column: str, level: str | None, partial: bool | None, freed: list[dict[str, str]]) \

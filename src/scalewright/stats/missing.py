@@ -12,7 +12,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import UsageError
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from .em import EMEstimate, MCARTest, em_means_and_covariance, little_mcar_test
 from .missing_patterns import PatternSummary
 
@@ -46,6 +46,8 @@ class MissingHandling:
     mcar_test: MCARTest | None
     em_iterations: int | None
     notes: tuple[Note, ...]
+    #: why ``mcar_test`` is None (a reason code of a not-computable note), None when it was computed
+    mcar_unavailable: str | None = None
 
     def to_dict(self) -> dict[str, Any]:
         return {"missing_method": self.method,
@@ -55,7 +57,10 @@ class MissingHandling:
 
     @property
     def note_dicts(self) -> list[dict[str, Any]]:
-        return [n.to_dict() for n in self.notes]
+        """The notes in the JSON, with the not-computable note of a missing ``mcar_test`` (JSON only: a table
+        says nothing of a test that does not apply)."""
+        unavailable = [not_computable("mcar_test", self.mcar_unavailable)] if self.mcar_unavailable else []
+        return [n.to_dict() for n in (*self.notes, *unavailable)]
 
 
 def missing_handling(summary: PatternSummary, method: str, *, n_used: int | None = None,
@@ -94,6 +99,7 @@ def missing_handling(summary: PatternSummary, method: str, *, n_used: int | None
         if mcar is not None:
             code = "mcar-test-rejects" if mcar.pvalue < MCAR_ALPHA else "mcar-test-consistent"
             notes.append(note(code, chi2=mcar.chi2, df=mcar.df, pvalue=mcar.pvalue, level=MCAR_ALPHA))
+
     set_aside = n_rows - n_complete
     if method == "listwise" and n_rows and 100.0 * set_aside / n_rows > LISTWISE_WARNING_PCT:
         notes.append(note("listwise-many-set-aside", set_aside=set_aside, n_rows=n_rows,
@@ -110,7 +116,10 @@ def missing_handling(summary: PatternSummary, method: str, *, n_used: int | None
     return MissingHandling(method=method, n_rows=n_rows, n_used=int(n_used), n_complete=n_complete,
                            patterns=summary.missing_counts(), mcar_test=mcar,
                            em_iterations=None if method != "em" or estimate is None else estimate.iterations,
-                           notes=tuple(notes))
+                           notes=tuple(notes),
+                           # EM did not converge, no item varies, or the patterns leave no degrees of freedom
+                           mcar_unavailable=None if mcar is not None else
+                           "mcar-test-not-computable" if summary.anything_missing else "nothing-missing")
 
 
 def keyed_estimate(estimate: EMEstimate, *, lows: np.ndarray, highs: np.ndarray,

@@ -10,15 +10,15 @@ engine. :func:`scale_reliability` is the one entry point that starts from the ke
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
-from dataclasses import dataclass, replace
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
 
 from ..answer_codes import ItemAnswers
 from ..errors import DataError
-from ..notes import Note, note, notes_to_json
+from ..notes import Note, not_computable, note, notes_to_json
 from ..results import ResultMixin
 from .bootstrap import AlphaBootstrap
 from .item_analysis import (
@@ -42,6 +42,37 @@ from .reliability_coefficients import (
     standardized_alpha_from_cov,
 )
 from .reliability_flags import DEFAULT_THRESHOLDS, ReliabilityFlag, ReliabilityThresholds, reliability_flags
+
+#: the scale-level statistics of :class:`ScaleReliability` that a not-computable note may name
+_STATISTICS = ("alpha", "alpha_ci", "alpha_standardized", "omega_total", "lambda2", "lambda6", "mean_inter_item_r",
+               "min_inter_item_r", "max_inter_item_r")
+
+
+def _unavailable_reasons(*, k: int, n_used: int, complete: bool, constant: bool, alpha: float, singular: bool,
+                         fitted: bool, has_descriptives: bool) -> dict[str, str]:
+    """Why each statistic of :func:`reliability_from_cov` would be NaN, as a reason code by its JSON key."""
+    everything = (*_STATISTICS, "item_rest_r", "alpha_if_deleted", "omega_if_deleted", "loading")
+    if k < 2:
+        return dict.fromkeys(everything, "fewer-than-2-items")
+    if n_used < 3:
+        return dict.fromkeys(everything, "fewer-than-3-rows")
+    if not complete:
+        return dict.fromkeys(everything, "incomplete-covariance")
+    reasons = dict.fromkeys(("sd", "mean", "missing_pct", "floor_pct", "ceiling_pct"),
+                            "fewer-than-2-answers" if has_descriptives else "item-answers-not-given")
+    if not math.isfinite(alpha):
+        reasons.update(dict.fromkeys(("alpha", "alpha_ci"), "no-variance"))
+    if constant:
+        reasons.update(dict.fromkeys(("item_rest_r", "alpha_standardized", "mean_inter_item_r", "min_inter_item_r",
+                                      "max_inter_item_r", "lambda6"), "no-variance"))
+    factor_reason = ("fewer-than-3-items" if k < 3 else "no-variance" if constant else
+                     "singular-covariance" if singular else "" if fitted else "one-factor-fit-failed")
+    if singular:
+        reasons["lambda6"] = "singular-covariance"
+    if factor_reason:
+        reasons.update(dict.fromkeys(("omega_total", "loading"), factor_reason))
+    reasons["omega_if_deleted"] = factor_reason or ("fewer-than-4-items" if k < 4 else "one-factor-fit-failed")
+    return reasons
 
 
 @dataclass(frozen=True)
@@ -72,16 +103,33 @@ class ScaleReliability(ResultMixin):
     bootstrap: AlphaBootstrap | None
     notes: tuple[Note | str, ...]  # codes with values, worded by present/messages
     missing: MissingHandling | None = None
+    #: why a statistic is NaN, by its JSON key (see :func:`_unavailable_reasons`); "" when it is not
+    unavailable: Mapping[str, str] = field(default_factory=dict)
 
     def to_dict(self) -> dict[str, Any]:
         out = super().to_dict()
         out["items"] = {name: item.to_dict() for name, item in self.items.items()}
         out.pop("missing")
         out["notes"] = notes_to_json(self.notes)
+        out.pop("unavailable")
         if self.missing is not None:
             out.update(self.missing.to_dict())
             out["notes"] = [*out["notes"], *self.missing.note_dicts]
+        out["notes"] = [*out["notes"], *(n.to_dict() for n in self.not_computable_notes(out))]
         return out
+
+    def not_computable_notes(self, out: Mapping[str, Any]) -> list[Note]:
+        """A ``not-computable`` note for each statistic that is null in ``out``, naming the items it concerns."""
+        found: dict[str, list[str]] = {}
+        for key, value in out.items():
+            if key in _STATISTICS and (value is None or (isinstance(value, list) and None in value)):
+                found.setdefault(key, [])
+        for item, record in out["items"].items():
+            for key, value in record.items():
+                if value is None:
+                    found.setdefault(key, []).append(item)
+        return [not_computable(key, self.unavailable.get(key) or "not-finite",
+                               **({"items": tuple(items)} if items else {})) for key, items in found.items()]
 
     def flag_codes(self) -> set[tuple[str | None, str]]:
         return {(flag.item, flag.code) for flag in self.flags}
@@ -198,7 +246,10 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         lambda2=guttman_lambda2_from_cov(cov_used) if usable else math.nan,
         lambda6=guttman_lambda6_from_cov(cov_used) if usable and not constant else math.nan,
         mean_inter_item_r=mean_r, min_inter_item_r=min_r, max_inter_item_r=max_r,
-        items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes))
+        items=items, flags=flags, thresholds=thresholds, bootstrap=bootstrap, notes=tuple(out_notes),
+        unavailable=_unavailable_reasons(k=k, n_used=n_used, complete=bool(np.isfinite(cov).all()),
+                                         constant=bool(constant), alpha=alpha, singular=bool(singular),
+                                         fitted=fit is not None, has_descriptives=descriptives is not None))
 
 
 def scale_reliability(keyed: np.ndarray | ItemAnswers, *, item_names: Sequence[str], low: float, high: float,

@@ -11,7 +11,7 @@ from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin
 from .reliability import ScaleReliability, scale_reliability
 from .reliability_coefficients import alpha_difference_test
-from .subgroups import SubgroupSplit
+from .subgroups import SubgroupSplit, subgroup_blocks
 
 
 @dataclass(frozen=True)
@@ -101,8 +101,9 @@ def reliability_by_group(keyed: np.ndarray | ItemAnswers, split: SubgroupSplit, 
 class ScaleReliabilityReport(ResultMixin):
     """One scale: the whole sample and its subgroups. ``to_dict`` is the contract block ``scales.<name>``.
 
-    ``by.<column>.<level>`` holds the statistics of that subgroup; ``alpha_comparisons.<column>`` the Feldt
-    tests; ``groups_not_analysed.<column>`` the levels too small to analyse, with their row counts.
+    ``by.<column>.<level>`` holds the statistics of that subgroup, ``too_small.<column>`` the levels too small
+    to analyse with their row counts, ``group_notes.<column>`` the column's notes (see
+    :func:`scalewright.stats.subgroups.subgroup_blocks`); ``alpha_comparisons.<column>`` the Feldt tests.
     """
 
     name: str
@@ -120,9 +121,6 @@ class ScaleReliabilityReport(ResultMixin):
         if self.ordinal_advice:
             out["ordinal_advice"] = [advice.to_dict() for advice in self.ordinal_advice]
         if self.groups:
-            out["by"] = {g.column: {level: r.to_dict() for level, r in g.levels.items()} for g in self.groups}
+            out.update(subgroup_blocks(self.groups))
             out["alpha_comparisons"] = {g.column: [c.to_dict() for c in g.comparisons] for g in self.groups}
-            out["groups_not_analysed"] = {g.column: {**g.too_small, **({"(no value)": g.missing} if g.missing else {})}
-                                          for g in self.groups}
-            out["notes"] = [*out["notes"], *notes_to_json(n for g in self.groups for n in g.notes)]
         return out

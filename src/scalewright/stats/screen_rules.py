@@ -7,7 +7,9 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
+from ..notes import not_computable
 from ..results import ResultMixin
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -53,6 +55,17 @@ class WeakIndexUse(ResultMixin):
     points: int
     cutoff: float
     expected_below: float
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form: the expected share in percent (``expected_below_pct``), and why a value is null."""
+        out = super().to_dict()
+        below = out.pop("expected_below")
+        out["expected_below_pct"] = None if below is None else 100 * below
+        reasons = {"typical": "not-finite",
+                   "expected_below_pct": "fewer-than-4-points" if self.points < 4 else "not-finite"}
+        out["notes"] = [not_computable(key, reason, points=self.points).to_dict()
+                        for key, reason in reasons.items() if out[key] is None]
+        return out
 
 
 def expected_share_below(typical: float, cutoff: float, points: int) -> float:
@@ -108,6 +121,13 @@ class ScreenThresholds(ResultMixin):
         if int(self.duplicate_min_items) != self.duplicate_min_items or self.duplicate_min_items < 1:
             raise UsageError(f"screen threshold duplicate_min_items must be a whole number >= 1, "
                              f"got {self.duplicate_min_items!r}")
+
+    def to_dict(self) -> dict[str, Any]:
+        """The JSON form: shares in percent with ``_pct`` in the key, p-value cut-offs as ``pvalue``."""
+        return {"long_run_pct": 100 * self.long_run_share, "mahalanobis_pvalue": self.mahalanobis_p,
+                "mahalanobis_pvalue_weak": self.mahalanobis_p_weak, "person_total_min": self.person_total_min,
+                "even_odd_min": self.even_odd_min, "missing_pct_max": 100 * self.missing_share_max,
+                "speed_pct": 100 * self.speed_share, "duplicate_min_items": self.duplicate_min_items}
 
     def long_run_items(self, n_items: int) -> int:
         """The run length that raises ``long-run`` on a questionnaire of ``n_items`` items (at least 2)."""

@@ -14,7 +14,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from ..results import JsonRows, to_jsonable
 from .careless_indices import (
     DuplicateResult,
@@ -114,7 +114,7 @@ class ScreenResult:
         return {
             "n": self.n,
             "n_flagged": n_flagged,
-            "flagged_share": n_flagged / self.n if self.n else None,
+            "flagged_pct": 100 * n_flagged / self.n if self.n else None,
             "counts": self.flag_counts(),
             "overlap": self.flag_overlap(),
             "alpha_change": self.alpha_change,
@@ -132,7 +132,7 @@ class ScreenResult:
             "longstring": _plain(self.longstring), "irv": _plain(self.irv),
             "mahalanobis_d2": _plain(self.mahalanobis_d2), "mahalanobis_pvalue": _plain(self.mahalanobis_p),
             "mahalanobis_df": _plain(self.mahalanobis_df), "even_odd": _plain(self.even_odd),
-            "person_total_r": _plain(self.person_total_r), "missing": _plain(self.missing),
+            "person_total_r": _plain(self.person_total_r), "missing_pct": _plain(100 * self.missing),
         }
         if self.duration is not None:
             columns["duration"] = _plain(self.duration)
@@ -154,17 +154,20 @@ class ScreenResult:
             "thresholds": self.thresholds.to_dict(),
             "flag_codes": {"strong": list(STRONG_FLAGS), "weak": list(WEAK_FLAGS), "listed_only": list(INFO_FLAGS)},
             "weak_indices": {use.index: use.to_dict() for use in self.weak_indices},
-            "notes": list(self.notes),
+            "notes": [*self.notes, *self.not_computable_notes()],
         })}
 
-
-def _plain(values: np.ndarray) -> list[Any]:
-    """``values.tolist()`` with None for NaN and infinities, as :func:`to_jsonable` writes them."""
-    out = values.tolist()
-    if values.dtype.kind == "f":
-        for position in np.flatnonzero(~np.isfinite(values)).tolist():
-            out[position] = None
-    return out
+    def not_computable_notes(self) -> list[Note]:
+        """A ``not-computable`` note for each per-respondent index that some respondents lack, with their count."""
+        indices = {"irv": (self.irv, "fewer-than-2-answers"),
+                   "mahalanobis_d2": (self.mahalanobis_d2, "mahalanobis-not-computable"),
+                   "mahalanobis_pvalue": (self.mahalanobis_p, "mahalanobis-not-computable"),
+                   "even_odd": (self.even_odd, "fewer-than-3-scales-with-both-halves-or-no-spread"),
+                   "person_total_r": (self.person_total_r, "fewer-than-3-answers-or-no-spread")}
+        if self.duration is not None:
+            indices["duration"] = (self.duration, "no-completion-time")
+        return [not_computable(key, reason, respondents=int(np.isnan(values).sum()))
+                for key, (values, reason) in indices.items() if np.isnan(values).any()]
 
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
@@ -369,3 +372,12 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
         not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
         weak_indices=(halves_use, total_use))
+
+
+def _plain(values: np.ndarray) -> list[Any]:
+    """``values.tolist()`` with None for NaN and infinities, as :func:`to_jsonable` writes them."""
+    out = values.tolist()
+    if values.dtype.kind == "f":
+        for position in np.flatnonzero(~np.isfinite(values)).tolist():
+            out[position] = None
+    return out

@@ -33,7 +33,7 @@ from .shape_rule import (
     dip_test_jittered,
     shape_label,
 )
-from .subgroups import split_by
+from .subgroups import split_by, subgroup_blocks
 
 DEFAULT_PERCENTILES = (5, 10, 25, 50, 75, 90, 95)
 #: share at the lowest / highest attainable score above which a floor / ceiling effect is flagged (Terwee et al. 2007)
@@ -312,6 +312,4 @@ class ShapeReport(ResultMixin):
 
     def to_dict(self) -> dict[str, Any]:
         return {"title": self.title, "kind": self.kind, "x_label": self.x_label, "all": self.overall.to_dict(),
-                "by": {g.column: {level: s.to_dict() for level, s in g.levels.items()} for g in self.groups},
-                "too_small": {g.column: dict(g.too_small) for g in self.groups},
-                "group_notes": {g.column: notes_to_json(g.notes) for g in self.groups}}
+                **subgroup_blocks(self.groups)}

@@ -19,10 +19,11 @@ from __future__ import annotations
 import math
 import warnings
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from ..results import ResultMixin
 from ..seeds import DEFAULT_SEED
 from .descriptives import (
@@ -109,6 +110,17 @@ class ShapeEvidence(ResultMixin):
     valley_at: float
     peaks_at: tuple[float, ...]
     window_cells: int
+
+    def to_dict(self) -> dict[str, Any]:
+        """The contract's ``rule`` block, with a not-computable note for each statistic it could not give."""
+        out = super().to_dict()
+        notes = []
+        if not math.isfinite(self.flat_w):
+            notes.append(not_computable("flat_w", "fewer-than-3-bands", bands=len(self.band_counts)))
+        if not math.isfinite(self.valley_p):  # no window lower than a peak on either side of it
+            notes += [not_computable(key, "no-valley") for key in ("valley_ratio", "valley_pvalue", "valley_at")]
+        out["notes"] = [n.to_dict() for n in notes]
+        return out
 
 
 def _band_features(cells: HistogramCells, n: int, *, period: int) -> ShapeEvidence:

@@ -7,7 +7,7 @@ from typing import Any
 
 import numpy as np
 
-from ..notes import notes_to_json
+from ..notes import not_computable, notes_to_json
 from ..results import ResultMixin, to_jsonable
 from .adequacy import (
     BartlettResult,
@@ -48,10 +48,26 @@ class UnidimensionalityResult(ResultMixin):
     notes: tuple[Any, ...] = ()
 
     def to_dict(self) -> dict[str, Any]:
-        return {"k": self.k, "n_used": self.n_used, "n_set_aside": self.n_set_aside,
-                "eigen_ratio": to_jsonable(self.eigen_ratio),
-                "variance_one_factor": to_jsonable(self.variance_one_factor),
-                "eigenvalues": to_jsonable(self.eigenvalues), "notes": notes_to_json(self.notes)}
+        out = {"k": self.k, "n_used": self.n_used, "n_set_aside": self.n_set_aside,
+               "eigen_ratio": to_jsonable(self.eigen_ratio),
+               "variance_one_factor_pct": to_jsonable(None if self.variance_one_factor is None
+                                                      else 100 * self.variance_one_factor),
+               "eigenvalues": to_jsonable(self.eigenvalues)}
+        unavailable = [not_computable(key, self._reason(key)) for key in ("eigen_ratio", "variance_one_factor_pct")
+                       if out[key] is None]
+        return {**out, "notes": [*notes_to_json(self.notes), *(n.to_dict() for n in unavailable)]}
+
+    def _reason(self, key: str) -> str:
+        """Why ``key`` is None, from what the result holds (the order of the checks that set it so)."""
+        if self.k < 2:
+            return "fewer-than-2-items"
+        if self.n_used < 3:
+            return "fewer-than-3-rows"
+        if not np.isfinite(np.asarray(self.eigenvalues, dtype=float)).all():
+            return "no-variance"
+        if key == "eigen_ratio":
+            return "zero-second-eigenvalue"
+        return "fewer-than-3-items" if self.k < 3 else "one-factor-fit-failed"
 
 
 @dataclass(frozen=True)
@@ -124,7 +140,7 @@ class StructureResult(ResultMixin):
             {item: to_jsonable(row) for item, row in zip(self.items, solution.loadings, strict=True)},
             "communalities": {} if solution is None else
             {item: to_jsonable(v) for item, v in zip(self.items, solution.communalities, strict=True)},
-            "variance_explained": [] if solution is None else to_jsonable(solution.variance_explained),
+            "variance_explained_pct": [] if solution is None else to_jsonable(100 * solution.variance_explained),
             "factor_correlations": [] if solution is None else to_jsonable(solution.factor_correlations),
             "factor_for_scale": {scale: (None if j is None else names[j]) for scale, j in self.factor_for_scale.items()},
             "unidimensionality": {scale: u.to_dict() for scale, u in self.unidimensionality.items()},

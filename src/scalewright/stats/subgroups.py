@@ -2,12 +2,15 @@
 from __future__ import annotations
 
 import re
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from ..results import ResultMixin
+from ..notes import notes_to_json
+from ..results import ResultMixin, to_jsonable
 
 
 @dataclass(frozen=True)
@@ -26,7 +29,7 @@ class SubgroupSplit(ResultMixin):
 
     def to_dict(self) -> dict:
         return {"column": self.column, "levels": {k: int(len(v)) for k, v in self.levels.items()},
-                "too_small": dict(self.too_small), "missing": self.missing, "min_size": self.min_size}
+                "too_small": dict(self.too_small), "missing": self.missing, "min_group": self.min_size}
 
     def notes(self) -> list[str]:
         out = []
@@ -84,3 +87,63 @@ def split_by(values: pd.Series, *, min_size: int = 10, column: str | None = None
             levels[name] = positions
     return SubgroupSplit(column=column or str(values.name), levels=levels, too_small=too_small,
                          missing=int(missing_mask.sum()), min_size=min_size)
+
+
+def subgroup_blocks(groups: Iterable[Any]) -> dict[str, dict[str, Any]]:
+    """The one subgroup container of the JSON contract, for any analysis given per subgroup level.
+
+    Each of ``groups`` describes one subgroup column by its attributes ``column``, ``levels`` (level ->
+    result, with ``to_dict`` or already plain), ``too_small`` (level -> its number of respondents, or the
+    text ``"< N"`` where counts below ``min_cell`` are hidden) and ``notes``. Returns
+
+    ``{"by": {column: {level: result}}, "too_small": {column: {level: n}}, "group_notes": {column: [note]}}``
+
+    so every analysis nests its subgroups the same way; what compares the levels of a column (a test
+    across them) sits beside this under a key of its own, keyed by column.
+    """
+    groups = list(groups)
+    return {"by": {g.column: {str(level): to_jsonable(result) for level, result in g.levels.items()}
+                   for g in groups},
+            "too_small": {g.column: {str(level): to_jsonable(n) for level, n in g.too_small.items()}
+                          for g in groups},
+            "group_notes": {g.column: to_jsonable(notes_to_json(g.notes)) for g in groups}}
+
+
+def _tests_not_computable(comparison: Any) -> list[Any]:
+    """A ``not-computable`` note for each test or effect size a comparison could not give."""
+    from ..notes import not_computable
+
+    reason = "fewer-than-2-levels" if len(comparison.groups) < 2 else "not-finite"
+    return [not_computable(key, reason, levels=len(comparison.groups))
+            for key in ("test", "nonparametric", "effect_size", "nonparametric_effect_size", "levene")
+            if getattr(comparison, key) is None]
+
+
+@dataclass(frozen=True)
+class _ColumnLevels:
+    column: str
+    levels: dict[str, Any]
+    too_small: dict[str, Any]
+    notes: tuple[Any, ...]
+
+
+def comparison_blocks(comparisons: Iterable[Any],
+                      extra: Mapping[str, Mapping[str, Any]] | None = None) -> dict[str, dict[str, Any]]:
+    """One scale's subgroup comparisons (:class:`scalewright.stats.groups.Comparison`) in the one container.
+
+    Each level's summary sits at ``by.<column>.<level>``; the levels hidden below ``min_cell`` at
+    ``too_small.<column>`` (shown as ``"< N"``, their size never given); the comparison's notes at
+    ``group_notes.<column>``; the tests across the levels at ``comparisons.<column>``, with ``extra[column]``
+    (a sentence, an invariance verdict, weighted estimates) added to them.
+    """
+    comparisons = list(comparisons)
+    columns = [_ColumnLevels(column=c.column, levels={g.level: g for g in c.groups},
+                             too_small=c.to_dict()["suppressed"], notes=(*c.notes, *_tests_not_computable(c)))
+               for c in comparisons]
+    tests = {}
+    for c in comparisons:
+        record = c.to_dict()
+        for key in ("groups", "suppressed", "notes", "column", "scale"):
+            record.pop(key, None)
+        tests[c.column] = {**record, **(extra or {}).get(c.column, {})}
+    return {**subgroup_blocks(columns), "comparisons": tests}

@@ -56,7 +56,10 @@ class FitResult(ResultMixin):
     def to_dict(self) -> dict[str, Any]:
         return to_jsonable({"column": self.column, "chi2": self.chi2, "df": self.df, "pvalue": self.pvalue,
                             "w": self.w, "n": self.n, "verdict": self.verdict, "alpha": self.alpha,
-                            "categories": {c.category: {k: v for k, v in c.to_dict().items() if k != "category"}
+                            # the reference share in percent, as every share of the JSON (CHANGES.md)
+                            "categories": {c.category: {("expected_pct" if k == "expected_proportion" else k):
+                                                        (100 * v if k == "expected_proportion" else v)
+                                                        for k, v in c.to_dict().items() if k != "category"}
                                            for c in self.categories},
                             "over_represented": list(self.over_represented),
                             "under_represented": list(self.under_represented),

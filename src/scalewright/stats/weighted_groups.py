@@ -13,7 +13,7 @@ from typing import Any
 
 import numpy as np
 
-from ..notes import Note, note
+from ..notes import Note, not_computable, note
 from ..results import ResultMixin, to_jsonable
 from .weighted import weighted_summary
 
@@ -49,13 +49,22 @@ class WeightedComparison(ResultMixin):
     eta_squared: float = math.nan
     notes: tuple[Note, ...] = field(default_factory=tuple)
 
+    def unavailable(self) -> list[Note]:
+        """Not-computable notes of the statistics left NaN: in the JSON's ``notes`` (the tables show a dash)."""
+        described = len(self.levels)
+        reason = {"eta_squared": "fewer-than-2-levels" if described < 2 else "no-variance"}
+        reason.update(dict.fromkeys(("mean_difference", "t", "df", "pvalue", "hedges_g", "hedges_g_ci"),
+                                    "not-two-levels" if described != 2 else "no-variance"))
+        return [not_computable(key, why, levels=described) for key, why in reason.items()
+                if not np.all(np.isfinite(getattr(self, key)))]
+
     def to_dict(self) -> dict[str, Any]:
         out = {key: getattr(self, key) for key in ("column", "scale", "weight_column", "n", "n_effective",
                                                     "sum_of_weights", "mean_difference", "t", "df", "pvalue",
                                                     "hedges_g", "hedges_g_ci", "eta_squared")}
         out["levels"] = {lv.level: {k: v for k, v in lv.to_dict().items() if k != "level"} for lv in self.levels}
         out["not_described"] = dict(self.not_described)
-        out["notes"] = [n.to_dict() for n in self.notes]
+        out["notes"] = [n.to_dict() for n in (*self.notes, *self.unavailable())]
         return {"weighted": True, **to_jsonable(out)}
 
 

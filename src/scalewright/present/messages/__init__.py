@@ -6,7 +6,8 @@ by :mod:`scalewright.present.numbers` before they are put in (``{name:bounded}``
 template's fields are pre-formatted by :func:`describe`).
 
 Each area keeps its templates in its own module (``reading``, ``reliability``, ``structure``, ``shape``,
-``groups``, ``screening``, ``confirm``, ``ordinal``, ``missing``, ``weights``, ``drafting``, ``engine``), so work
+``groups``, ``screening``, ``confirm``, ``ordinal``, ``missing``, ``weights``, ``drafting``, ``engine``,
+``vocabulary``), so work
 on one area does not touch another's lines; :mod:`.wording` finds a code's template. Callers import from
 ``scalewright.present.messages``: the names below are the public path.
 """
@@ -23,11 +24,12 @@ from .reliability import RELIABILITY, reliability_flag_message
 from .screening import SCREENING, weak_index_sentence
 from .shape import SHAPE, shape_message
 from .structure import STRUCTURE, STRUCTURE_FLAGS, structure_message
+from .vocabulary import NOT_COMPUTABLE_REASONS, VOCABULARY
 from .weights import WEIGHTS
 from .wording import describe, flag_message, word_document
 
 __all__ = [
     "CONFIRM", "DRAFTING", "ENGINE", "GROUPS", "MISSING", "ORDINAL", "READING", "RELIABILITY", "SCREENING",
-    "SHAPE", "STRUCTURE", "STRUCTURE_FLAGS", "WEIGHTS", "describe", "flag_message", "reliability_flag_message",
+    "SHAPE", "STRUCTURE", "STRUCTURE_FLAGS", "VOCABULARY", "NOT_COMPUTABLE_REASONS", "WEIGHTS", "describe", "flag_message", "reliability_flag_message",
     "shape_message", "structure_message", "weak_index_sentence", "word_document",
 ]

@@ -56,7 +56,7 @@ def weak_index_sentence(use: Mapping[str, Any]) -> str:
 
     index = use["index"]
     what = "person-total r" if index == "against-sample" else "even-odd half correlation"
-    typical, below = use.get("typical"), use.get("expected_below")
+    typical, below = use.get("typical"), use.get("expected_below_pct")
     if typical is None or below is None:
         reason = ("fewer than 4 scales with at least two items give each respondent's even-odd correlation too "
                   "few points" if index == "uneven-halves" else "too few items or respondents to judge it")
@@ -64,7 +64,7 @@ def weak_index_sentence(use: Mapping[str, Any]) -> str:
     reason = "; the item means differ too little" if index == "against-sample" else \
         f"; it rests on {use['points']} scales per respondent"
     values = dict(index=index, what=what, typical=format_value(typical, "bounded"),
-                  below=format_value(100 * below, "pct"), cutoff=format_value(use["cutoff"], "bounded"))
+                  below=format_value(below, "pct"), cutoff=format_value(use["cutoff"], "bounded"))
     if use["used"]:
         return SCREENING["weak-index-used"].format(**values)
     return SCREENING["weak-index-set-aside"].format(**values, reason=reason)

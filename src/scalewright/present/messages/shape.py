@@ -84,7 +84,8 @@ def shape_message(code: str, values: Mapping[str, Any]) -> str:
 
     v = dict(values)
     if code in ("shape-bimodal", "shape-uniform", "shape-skewed", "shape-symmetric"):
-        skewness, cutoff = v.get("skewness"), v.get("skew_cutoff")
+        skewness: Any = v.get("skewness")  # JSON values: a number, or None where it could not be computed
+        cutoff: Any = v.get("skew_cutoff")
         skew_text = SHAPE["shape-skew-text"].format(skewness=_signed_against(skewness, cutoff),
                                                     skewness_se=_fixed(v.get("skewness_se")))
         if code == "shape-bimodal":
@@ -99,7 +100,8 @@ def shape_message(code: str, values: Mapping[str, Any]) -> str:
             return SHAPE[code].format(flat_w=_signed_against(v.get("flat_w"), v["flat_cutoff"]), bands=v["bands"],
                                       flat_cutoff=f"{v['flat_cutoff']:g}", skew_text=skew_text,
                                       bimodality=_fixed(v.get("bimodality")))
-        mean, median = v.get("mean"), v.get("median")
+        mean: Any = v.get("mean")
+        median: Any = v.get("median")
         if _fixed(mean) == _fixed(median):
             centre = SHAPE["shape-centre-same"].format(median=_fixed(median))
         else:

@@ -17,6 +17,7 @@ from .screening import SCREENING
 from .shape import SHAPE, shape_message
 from .structure import STRUCTURE, STRUCTURE_FLAGS, structure_message
 from .values import _plain
+from .vocabulary import NOT_COMPUTABLE_REASONS, VOCABULARY
 from .weights import WEIGHTS
 
 
@@ -41,7 +42,7 @@ def word_document(document: Any) -> Any:
     JSON and the report's results.json carry the same words as their tables.
     """
     if isinstance(document, dict):
-        code = document.get("code")
+        code: Any = document.get("code")  # a JSON value: text where the document is a flag or a note
         if document.get("message") == "" and code in STRUCTURE_FLAGS and "scale" in document:
             document["message"] = structure_message(code, {**document.get("values", {}), "scale": document["scale"]},
                                                     flag=True)
@@ -51,6 +52,9 @@ def word_document(document: Any) -> Any:
         elif document.get("message") == "" and code in SHAPE:  # a shape note or evidence: values beside its code
             document["message"] = shape_message(code, {k: v for k, v in document.items()
                                                        if k not in ("code", "message")})
+        elif code == "not-computable" and not document.get("message"):  # why a statistic is null: its sentence
+            document["message"] = describe(Note(code=code, values={k: v for k, v in document.items()
+                                                                   if k not in ("code", "message")}))
         elif document.get("message") == "" and isinstance(document.get("values"), dict) and "code" in document:
             document["message"] = (reliability_flag_message(code, document["values"]) if code in RELIABILITY
                                    else describe(Note(code=code, values=document["values"])))
@@ -68,7 +72,7 @@ def word_document(document: Any) -> Any:
 def _all_templates() -> dict[str, str]:
     merged: dict[str, str] = {}
     for block in (READING, RELIABILITY, RELIABILITY_NOTES, STRUCTURE, SHAPE, GROUPS, SCREENING, CONFIRM, ORDINAL, MISSING,
-                  WEIGHTS, ENGINE, DRAFTING):
+                  WEIGHTS, ENGINE, DRAFTING, VOCABULARY):
         clash = merged.keys() & block.keys()
         if clash:
             raise RuntimeError(f"message codes defined twice: {sorted(clash)}")
@@ -96,6 +100,8 @@ def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> st
     template = _all_templates().get(note.code)
     values = {key: _plain(value) for key, value in note.values.items()}
     values.update(formatted or {})
+    if note.code == "not-computable":
+        values["reason"] = NOT_COMPUTABLE_REASONS.get(str(values.get("reason")), values.get("reason"))
     if template is None:
         detail = ", ".join(f"{key} {value}" for key, value in values.items())
         return f"{note.code}: {detail}" if detail else note.code
