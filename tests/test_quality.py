@@ -255,7 +255,7 @@ def test_respondent_records_are_the_arrays_as_json():
     records = json.loads(json.dumps(result.to_dict()["respondents"], allow_nan=False))  # standard library
     assert len(records) == result.n
     for key, values in (("irv", result.irv), ("mahalanobis_d2", result.mahalanobis_d2),
-                        ("person_total_r", result.person_total_r), ("missing", result.missing),
+                        ("person_total_r", result.person_total_r), ("missing_pct", 100 * result.missing),
                         ("longstring", result.longstring)):
         shown = np.array([np.nan if r[key] is None else r[key] for r in records], dtype=float)
         np.testing.assert_array_equal(shown, np.where(np.isfinite(values), values, np.nan), err_msg=key)
