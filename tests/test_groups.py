@@ -271,3 +271,22 @@ def test_effect_sizes_invariant_to_linear_rescaling(seed, scale, offset):
     moved = compare_groups(scores * scale + offset, groups)
     np.testing.assert_allclose(moved.effect_size.value, base.effect_size.value, rtol=1e-7, atol=1e-10)
     np.testing.assert_allclose(moved.nonparametric.statistic, base.nonparametric.statistic, rtol=1e-9)
+
+
+def test_a_level_without_spread_leaves_welch_f_undefined_and_the_other_tests_standing():
+    # Welch's (1951) weights n/s^2 are infinite for a level of equal scores, so F has no value; pingouin's
+    # welch_anova raises there. Kruskal-Wallis and the classic ANOVA still exist: scipy is the reference.
+    rng = np.random.default_rng(5)
+    samples = [np.full(12, 3.0), rng.integers(1, 6, 15).astype(float), rng.integers(1, 6, 14).astype(float)]
+    scores = np.concatenate(samples)
+    groups = pd.Series(np.repeat(["a", "b", "c"], [len(s) for s in samples]))
+    c = compare_groups(scores, groups)
+    assert c.test.name == "Welch's F"
+    assert np.isnan(c.test.statistic)
+    assert np.isnan(c.test.pvalue)
+    assert "level-without-spread" in {getattr(n, "code", None) for n in c.notes}
+    h = stats.kruskal(*samples)
+    np.testing.assert_allclose([c.nonparametric.statistic, c.nonparametric.pvalue], [h.statistic, h.pvalue], **TOL)
+    student = compare_groups(scores, groups, student=True)
+    f = stats.f_oneway(*samples)
+    np.testing.assert_allclose([student.test.statistic, student.test.pvalue], [f.statistic, f.pvalue], **TOL)

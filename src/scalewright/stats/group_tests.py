@@ -68,9 +68,11 @@ def many_group_tests(samples: dict[str, np.ndarray], *, student: bool) -> dict[s
 
     data = long_form(samples)
     n, k = len(data), len(samples)
+    # a level without spread gets an infinite Welch weight n/s^2: F is undefined (pingouin raises), so NaN
+    welch_defined = all(np.ptp(x) > 0 for x in samples.values())
     with quiet_pingouin():
         classic = pg.anova(data, dv="score", between="level", detailed=True)
-        welch = pg.welch_anova(data, dv="score", between="level").iloc[0]
+        welch = pg.welch_anova(data, dv="score", between="level").iloc[0] if welch_defined else None
         h = pg.kruskal(data, dv="score", between="level").iloc[0]
     ss_between, ss_within = (float(v) for v in classic["SS"].iloc[:2])
     ms_within = float(classic["MS"].iloc[1])
@@ -81,8 +83,9 @@ def many_group_tests(samples: dict[str, np.ndarray], *, student: bool) -> dict[s
                           pvalue=float(classic["p_unc"].iloc[0]))
         method = "Tukey HSD"
     else:
-        test = TestResult(name="Welch's F", statistic=float(welch["F"]), df=float(welch["ddof1"]),
-                          df2=float(welch["ddof2"]), pvalue=float(welch["p_unc"]))
+        test = (TestResult(name="Welch's F", statistic=float(welch["F"]), df=float(welch["ddof1"]),
+                           df2=float(welch["ddof2"]), pvalue=float(welch["p_unc"])) if welch is not None else
+                TestResult(name="Welch's F", statistic=np.nan, df=float(k - 1), df2=np.nan, pvalue=np.nan))
         method = "Games-Howell"
     # the same pairs as pingouin's pairwise_tukey / pairwise_gameshowell, whose studentized-range p-values
     # integrate one value at a time (seconds per report); a pair of two zero-variance levels is NaN, noted below
