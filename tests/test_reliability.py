@@ -116,6 +116,18 @@ def test_bootstrap_pairwise_on_complete_data_equals_listwise_and_is_reproducible
     assert bootstrap_alpha(x, n_resamples=300, seed=4).percentile_ci == a.percentile_ci
 
 
+def test_bootstrap_notes_are_codes_with_values():
+    tiny = bootstrap_alpha(np.array([[1.0, 2.0], [2.0, 3.0]]), n_resamples=20, seed=1)
+    assert [n.code for n in tiny.notes] == ["bootstrap-too-small"]
+    assert np.isnan(tiny.standard_error)
+    # three rows, two of them identical: some resamples draw one row pattern only and have no variance
+    few = bootstrap_alpha(np.array([[1.0, 1.0], [1.0, 1.0], [2.0, 3.0]]), n_resamples=200, seed=3)
+    without = [n for n in few.notes if n.code == "bootstrap-resamples-without-alpha"]
+    assert len(without) == 1
+    assert without[0].values["count"] > 0
+    assert few.to_dict()["notes"][0]["code"] == "bootstrap-resamples-without-alpha"
+
+
 # --------------------------------------------------------------------------------------- scale_reliability
 
 @pytest.mark.parametrize("as_codes", [False, True], ids=["float-values", "one-byte-codes"])

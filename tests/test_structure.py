@@ -104,11 +104,13 @@ def test_kmo_and_bartlett_on_a_singular_matrix_give_none_with_a_reason():
     x = np.column_stack([x, x[:, 0] + x[:, 1]])
     r = correlation_of(x)
     assert kmo(r).overall is None
-    assert kmo(r).notes
+    assert [n.code for n in kmo(r).notes] == ["kmo-singular"]
     result = bartlett_sphericity(r, 50)
     assert result.chi2 is None
     assert result.p is None
-    assert "singular" in result.notes[0]
+    assert [n.code for n in result.notes] == ["bartlett-singular"]
+    assert [n.code for n in kmo(np.eye(1)).notes] == ["kmo-too-few-items"]
+    assert [n.code for n in kmo(np.eye(3)).notes] == ["kmo-zero-correlations"]
 
 
 def test_bartlett_with_too_few_respondents_gives_none():

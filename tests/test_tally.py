@@ -141,6 +141,21 @@ def test_goodness_of_fit_leaves_suppressed_cells_out():
     np.testing.assert_allclose([fit.chi2, fit.pvalue], [ref.statistic, ref.pvalue], **TOL)
     assert all(c.category not in ("c", "d") for c in fit.categories)
     assert '"c": {' not in json.dumps(fit.to_dict()["categories"])
+    assert [n.code for n in fit.notes] == ["fit-suppressed-left-out"]
+    assert fit.notes[0].values["categories"] == ("c", "d")
+
+
+def test_goodness_of_fit_notes_are_codes_for_zero_references_and_small_expected_counts():
+    t = tally(repeated({"a": 40, "b": 3, "c": 6}), min_cell=1)
+    fit = goodness_of_fit(t, {"a": 0.9, "b": 0.05, "c": 0.05})
+    # reference: scipy's chi-square; an expected count below 5 is the rule of Cochran (1954)
+    ref = stats.chisquare([40, 3, 6], np.array([0.9, 0.05, 0.05]) * 49)
+    np.testing.assert_allclose(fit.chi2, ref.statistic, **TOL)
+    assert [n.code for n in fit.notes] == ["fit-small-expected"]
+    impossible = goodness_of_fit(t, {"a": 0.5, "b": 0.5, "c": 0.0})
+    assert impossible.chi2 is None
+    assert [n.code for n in impossible.notes] == ["fit-reference-zero-observed"]
+    assert impossible.notes[0].values["categories"] == ("c",)
 
 
 def test_expected_proportions_are_validated():

@@ -21,7 +21,7 @@ class KMOResult(ResultMixin):
 
     overall: float | None
     per_item: np.ndarray
-    notes: tuple[Note | str, ...] = ()  # codes with values (worded by present/messages) or older texts
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages
 
 
 @dataclass(frozen=True)
@@ -32,7 +32,7 @@ class BartlettResult(ResultMixin):
     df: int
     p: float | None
     n: int
-    notes: tuple[Note | str, ...] = ()  # codes with values (worded by present/messages) or older texts
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages
 
     def to_dict(self) -> dict[str, Any]:
         return {"chi2": to_jsonable(self.chi2), "df": self.df, "pvalue": to_jsonable(self.p)}
@@ -101,10 +101,9 @@ def kmo(correlation: np.ndarray) -> KMOResult:
     p = correlation.shape[0]
     undefined = np.full(p, np.nan)
     if p < 2:
-        return KMOResult(None, undefined, ("KMO needs at least two items",))
+        return KMOResult(None, undefined, (note("kmo-too-few-items"),))
     if log_determinant(correlation) is None:
-        return KMOResult(None, undefined, ("KMO is undefined: the item correlation matrix is singular "
-                                           "(an item is a linear combination of others, or fewer respondents than items)",))
+        return KMOResult(None, undefined, (note("kmo-singular"),))
     inverse = np.linalg.inv(correlation)
     scale = np.sqrt(np.diag(inverse))
     partial = -inverse / np.outer(scale, scale)
@@ -116,7 +115,7 @@ def kmo(correlation: np.ndarray) -> KMOResult:
     with np.errstate(invalid="ignore", divide="ignore"):
         per_item = r_sum / (r_sum + q_sum)
     overall = float(r_sum.sum() / (r_sum.sum() + q_sum.sum())) if (r_sum.sum() + q_sum.sum()) > 0 else None
-    return KMOResult(overall, per_item, () if overall is not None else ("KMO is undefined: all correlations are zero",))
+    return KMOResult(overall, per_item, () if overall is not None else (note("kmo-zero-correlations"),))
 
 
 def bartlett_sphericity(correlation: np.ndarray, n: int) -> BartlettResult:
@@ -159,6 +158,6 @@ def bartlett_sphericity(correlation: np.ndarray, n: int) -> BartlettResult:
                                                         n=n),))
     logdet = log_determinant(correlation)
     if logdet is None:
-        return BartlettResult(None, df, None, n, ("Bartlett's test is undefined: the item correlation matrix is singular",))
+        return BartlettResult(None, df, None, n, (note("bartlett-singular"),))
     chi2 = -multiplier * logdet
     return BartlettResult(float(chi2), df, float(stats.chi2.sf(chi2, df)), n)

@@ -8,10 +8,12 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
 from ..errors import DataError
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin
 
 _BATCH_CELLS = 4_000_000  # resamples x rows held at once (about 32 MB of counts)
@@ -28,7 +30,12 @@ class AlphaBootstrap(ResultMixin):
     bca_ci: tuple[float, float]
     standard_error: float
     pairwise: bool
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()
+
+    def to_dict(self) -> dict[str, Any]:
+        out = super().to_dict()
+        out["notes"] = notes_to_json(self.notes)
+        return out
 
 
 def _pair_columns(matrix: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -123,13 +130,13 @@ def bootstrap_alpha(keyed: np.ndarray, *, n_resamples: int = 2000, confidence_le
         raise DataError(f"confidence_level must lie strictly between 0 and 1, got {confidence_level}")
     matrix = np.asarray(keyed, dtype=np.float64)
     k = matrix.shape[1]
-    notes: list[str] = []
+    notes: list[Note] = []
     if not pairwise:
         matrix = matrix[~np.isnan(matrix).any(axis=1)]
     n = matrix.shape[0]
     nan_pair = (math.nan, math.nan)
     if n < 3 or k < 2:
-        notes.append("bootstrap needs at least 3 rows and 2 items")
+        notes.append(note("bootstrap-too-small", n=int(n), k=int(k)))
         return AlphaBootstrap(n_resamples, seed, confidence_level, nan_pair, nan_pair, math.nan, pairwise,
                               tuple(notes))
 
@@ -162,9 +169,9 @@ def bootstrap_alpha(keyed: np.ndarray, *, n_resamples: int = 2000, confidence_le
     jackknife = statistic(totals - terms, np.full(n, n - 1))
     finite = estimates[np.isfinite(estimates)]
     if len(finite) < n_resamples:
-        notes.append(f"{n_resamples - len(finite)} resample(s) gave no alpha (no variance) and were left out")
+        notes.append(note("bootstrap-resamples-without-alpha", count=int(n_resamples - len(finite))))
     if len(finite) < 2 or not math.isfinite(observed):
-        notes.append("too few usable resamples for a bootstrap interval")
+        notes.append(note("bootstrap-too-few-usable", usable=int(len(finite))))
         return AlphaBootstrap(n_resamples, seed, confidence_level, nan_pair, nan_pair, math.nan, pairwise,
                               tuple(notes))
     tail = (1 - confidence_level) / 2
@@ -185,7 +192,7 @@ def bootstrap_alpha(keyed: np.ndarray, *, n_resamples: int = 2000, confidence_le
         low, high = np.quantile(finite, adjusted)
         bca = (float(low), float(high))
     else:
-        notes.append("BCa interval undefined: every resample fell on one side of the estimate")
+        notes.append(note("bootstrap-bca-undefined"))
     return AlphaBootstrap(n_resamples=n_resamples, seed=seed, confidence_level=confidence_level,
                           percentile_ci=percentile, bca_ci=bca, standard_error=float(np.std(finite, ddof=1)),
                           pairwise=pairwise, notes=tuple(notes))

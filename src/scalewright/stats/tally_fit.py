@@ -10,6 +10,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DataError, Problem
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
 from .subgroups import level_name
 from .tally import Tally
@@ -43,7 +44,7 @@ class FitResult(ResultMixin):
     excluded: tuple[str, ...]
     verdict: str | None
     alpha: float
-    notes: tuple[str, ...] = ()
+    notes: tuple[Note, ...] = ()
 
     @property
     def over_represented(self) -> tuple[str, ...]:
@@ -63,7 +64,7 @@ class FitResult(ResultMixin):
                                            for c in self.categories},
                             "over_represented": list(self.over_represented),
                             "under_represented": list(self.under_represented),
-                            "excluded": list(self.excluded), "notes": list(self.notes)})
+                            "excluded": list(self.excluded), "notes": notes_to_json(self.notes)})
 
 
 #: how far the proportions may sum away from 1 (rounded census figures) before they are refused
@@ -149,20 +150,18 @@ def goodness_of_fit(tally_result: Tally, expected: Mapping[str, float], *, alpha
     from scipy import stats
 
     proportions = check_expected(tally_result, expected, source=source, rows=rows)
-    notes: list[str] = []
+    notes: list[Note] = []
     shown = [c for c in tally_result.categories if not c.suppressed]
     excluded = tuple(c.category for c in tally_result.categories if c.suppressed)
     if excluded:
-        notes.append(f"suppressed categories ({', '.join(excluded)}) left out of the test; the other reference "
-                     "proportions rescaled to sum to 1")
+        notes.append(note("fit-suppressed-left-out", categories=excluded))
     kept = [c for c in shown if proportions[c.category] > 0]
     impossible = [c.category for c in shown if proportions[c.category] == 0 and c.count]
     if impossible:
-        notes.append(f"the reference gives proportion 0 to {', '.join(impossible)}, which occur(s) in the data: "
-                     "the sample cannot match it")
+        notes.append(note("fit-reference-zero-observed", categories=tuple(impossible)))
     zero_reference = [c.category for c in shown if proportions[c.category] == 0 and not c.count]
     if zero_reference:
-        notes.append(f"{', '.join(zero_reference)}: proportion 0 and nobody in the data; left out of the test")
+        notes.append(note("fit-reference-zero-empty", categories=tuple(zero_reference)))
     observed = np.array([c.count for c in kept], dtype=float)
     n = int(observed.sum())
     mass = sum(proportions[c.category] for c in kept)
@@ -170,17 +169,16 @@ def goodness_of_fit(tally_result: Tally, expected: Mapping[str, float], *, alpha
                       excluded=excluded, verdict=None, alpha=alpha)
     if len(kept) < 2 or n == 0 or mass == 0 or impossible:
         if len(kept) < 2 and not impossible:
-            notes.append("fewer than two categories left to compare: no test")
+            notes.append(note("fit-too-few-categories"))
         if n == 0 and not impossible:
-            notes.append("no answers to compare: no test")
+            notes.append(note("fit-no-answers"))
         return FitResult(**{**empty.__dict__, "notes": tuple(notes)})
     p = np.array([proportions[c.category] for c in kept]) / mass
     expected_counts = n * p
     result = stats.chisquare(observed, expected_counts)
     chi2, pvalue = float(result.statistic), float(result.pvalue)
     if (expected_counts < 5).any():
-        notes.append("some expected counts are below 5, where the chi-square approximation is rough "
-                     "(Cochran 1954)")
+        notes.append(note("fit-small-expected"))
     rows_out = tuple(CategoryFit(category=c.category, observed=int(o), expected_proportion=float(pj),
                                  expected=float(e), pearson_residual=float((o - e) / np.sqrt(e)),
                                  standardized_residual=float((o - e) / np.sqrt(e * (1 - pj))) if pj < 1 else float("nan"))

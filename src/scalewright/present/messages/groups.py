@@ -23,6 +23,16 @@ GROUPS: dict[str, str] = {
     "categories-suppressed": "{column}: {count} {categories} with fewer than {min_cell} respondents shown as {shown}",
     "complementary-suppression": "{column}: one more category withheld so the small one cannot be worked out from "
                                  "the total",
+    # notes of a tally's fit to reference proportions
+    "fit-suppressed-left-out": "suppressed categories ({categories}) left out of the test; the other reference "
+                               "proportions rescaled to sum to 1",
+    "fit-reference-zero-observed": "the reference gives proportion 0 to {categories}, which occur(s) in the data: "
+                                   "the sample cannot match it",
+    "fit-reference-zero-empty": "{categories}: proportion 0 and nobody in the data; left out of the test",
+    "fit-too-few-categories": "fewer than two categories left to compare: no test",
+    "fit-no-answers": "no answers to compare: no test",
+    "fit-small-expected": "some expected counts are below 5, where the chi-square approximation is rough "
+                          "(Cochran 1954)",
     "omega-squared-negative": "omega-squared can fall below zero when the groups differ less than chance would "
                               "make them; read such values as zero",
 }

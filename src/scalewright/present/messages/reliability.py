@@ -26,6 +26,10 @@ RELIABILITY: dict[str, str] = {
 
 #: notes of one scale's reliability (what could not be computed, how missing answers were handled)
 RELIABILITY_NOTES: dict[str, str] = {
+    "bootstrap-too-small": "bootstrap needs at least 3 rows and 2 items",
+    "bootstrap-resamples-without-alpha": "{count} resample(s) gave no alpha (no variance) and were left out",
+    "bootstrap-too-few-usable": "too few usable resamples for a bootstrap interval",
+    "bootstrap-bca-undefined": "BCa interval undefined: every resample fell on one side of the estimate",
     "reliability-one-item": "only one item: alpha, omega and the other consistency statistics need at least 2 items",
     "reliability-too-few-rows": "only {n_used} usable row(s): the statistics need at least {needed}",
     "covariance-incomplete": "some item pairs have fewer than 2 rows in common: the covariance matrix is incomplete",

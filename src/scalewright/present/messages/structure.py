@@ -45,6 +45,11 @@ STRUCTURE: dict[str, str] = {
     "factor-heywood": "{count} item(s) reached the lowest allowed uniqueness ({floor}), a Heywood case: the model "
                       "explains them almost entirely, often a sign of too many factors, too few respondents or "
                       "near-duplicate items",
+    "kmo-too-few-items": "KMO needs at least two items",
+    "kmo-singular": "KMO is undefined: the item correlation matrix is singular (an item is a linear combination of "
+                    "others, or fewer respondents than items)",
+    "kmo-zero-correlations": "KMO is undefined: all correlations are zero",
+    "bartlett-singular": "Bartlett's test is undefined: the item correlation matrix is singular",
     "bartlett-too-few-items": "Bartlett's test needs at least two items",
     "bartlett-too-few-respondents": "Bartlett's test needs more respondents than (2p + 11)/6 = {needed} for {p} "
                                     "items; {n} were used",
