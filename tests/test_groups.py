@@ -290,3 +290,22 @@ def test_a_level_without_spread_leaves_welch_f_undefined_and_the_other_tests_sta
     student = compare_groups(scores, groups, student=True)
     f = stats.f_oneway(*samples)
     np.testing.assert_allclose([student.test.statistic, student.test.pvalue], [f.statistic, f.pvalue], **TOL)
+
+
+def test_the_verdict_follows_the_confidence_level_not_a_fixed_05():
+    # the statistics decide at 1 - confidence level; the sentence only words the decision
+    rng = np.random.default_rng(14)
+    a, b = rng.normal(0, 1, 40), rng.normal(0.5, 1, 40)
+    reference = stats.ttest_ind(a, b, equal_var=False).pvalue  # scipy: Welch's t, p = .036
+    assert 0.01 < reference < 0.05
+    scores = np.concatenate([a, b])
+    groups = pd.Series(np.repeat(["first", "second"], 40))
+    at_95 = compare_groups(scores, groups, confidence_level=0.95)
+    at_99 = compare_groups(scores, groups, confidence_level=0.99)
+    np.testing.assert_allclose(at_95.test.pvalue, reference, **TOL)
+    assert at_95.significance_level == 0.05
+    assert at_95.differs
+    assert at_99.significance_level == 0.01
+    assert not at_99.differs
+    assert "scored higher" in comparison_sentence(at_95)
+    assert "could be due to chance" in comparison_sentence(at_99)

@@ -57,6 +57,11 @@ def _test_plain(test: TestResult, decimals: int) -> str:
     return text
 
 
+def _level(level: float) -> str:
+    """A significance level as written in APA style: .05, .01."""
+    return f"{level:g}".removeprefix("0")
+
+
 def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = False) -> str:
     """What a manager reads first: who scored higher and how big the difference is, the statistics in one
     bracket after it (never nested), then the means and the follow-up pairs (left out with ``lead_only``)."""
@@ -64,7 +69,7 @@ def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = F
     if c.test is None:
         reason = describe(c.notes[-1]) if c.notes else "no test was possible"
         return f"{subject} by {c.column}: not compared ({reason})."
-    significant = c.test.pvalue < 0.05 if c.test.pvalue_holm is None else c.test.pvalue_holm < 0.05
+    significant = c.differs
     size = effect_label(c.effect_size.name, c.effect_size.value) if c.effect_size else "unknown"
     ordered = sorted(c.groups, key=lambda g: g.mean, reverse=True)
     high, low = ordered[0], ordered[-1]
@@ -91,13 +96,13 @@ def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = F
         sentence += (f" The rank-based check: {_test_plain(c.nonparametric, decimals)}"
                      + (f", {effect}" if effect else "") + ".")
     if c.pairs:
-        differing = [p for p in c.pairs if p.pvalue == p.pvalue and p.pvalue < 0.05]
+        differing = c.differing_pairs
         if differing:
             listed = "; ".join(f"{p.a} vs {p.b}, {_p(p.pvalue)}" for p in differing)
             sentence += f" {c.pairs_method} pairs that differ: {listed}."
         else:
-            sentence += f" No {c.pairs_method} pair differed at p < .05."
-    if c.levene is not None and c.levene.pvalue < 0.05:
+            sentence += f" No {c.pairs_method} pair differed at p < {_level(c.significance_level)}."
+    if c.spread_differs:
         sentence += (f" The spread differs between levels ({_test_plain(c.levene, decimals)}), so the Welch "
                      "version of the test is the safer reading.")
     if c.suppressed:

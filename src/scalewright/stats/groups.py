@@ -110,6 +110,29 @@ class Comparison(ResultMixin):
     def n_used(self) -> int:
         return sum(g.n for g in self.groups)
 
+    @property
+    def significance_level(self) -> float:
+        """The tests' level, the complement of the intervals' confidence level (0.05 beside 95% intervals)."""
+        return round(1.0 - self.confidence_level, 10)
+
+    @property
+    def differs(self) -> bool:
+        """The main test rejects equal means at :attr:`significance_level` (Holm-adjusted p when it is set)."""
+        if self.test is None:
+            return False
+        p = self.test.pvalue if self.test.pvalue_holm is None else self.test.pvalue_holm
+        return bool(p < self.significance_level)
+
+    @property
+    def differing_pairs(self) -> tuple[PairResult, ...]:
+        """The follow-up pairs whose p falls below :attr:`significance_level` (an undefined p never does)."""
+        return tuple(p for p in self.pairs if p.pvalue < self.significance_level)
+
+    @property
+    def spread_differs(self) -> bool:
+        """Levene's test rejects equal spreads at :attr:`significance_level`."""
+        return self.levene is not None and bool(self.levene.pvalue < self.significance_level)
+
     def group(self, level: str) -> GroupSummary:
         for summary in self.groups:
             if summary.level == level:
