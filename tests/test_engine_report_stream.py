@@ -1,5 +1,5 @@
 """`report --engine stream`: the report of a file read in blocks equals the whole-file report section by
-section, and names the sections it leaves out.
+section, and names the section it leaves out (the screen).
 
 The reference is the whole-file report (``--engine memory``) of the same file: its statistics are held to
 outside references in the tests of each analysis; here only the route differs.
@@ -15,7 +15,7 @@ import pytest
 from .engine_data import SCALES, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
 
-SKIPPED = {"compare", "confirm", "screen"}
+SKIPPED = {"screen"}
 
 
 def _same(a, b, path=""):
@@ -55,11 +55,9 @@ def test_every_streamed_section_equals_the_whole_file_report(reports):
     whole, streamed, _ = reports
     a = json.loads((whole / "results.json").read_text(encoding="utf-8"))
     b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
-    for section in ("reading", "scores", "shape", "answers", "structure", "tally", "title"):
+    for section in ("reading", "scores", "shape", "answers", "structure", "tally", "title", "compare", "confirm",
+                    "reliability"):
         _same(b[section], a[section], section)
-    for name, record in a["reliability"]["scales"].items():
-        record.pop("confirmatory")  # the confirmatory models are one of the sections left out
-        _same(b["reliability"]["scales"][name], record, f"reliability.{name}")
     assert (streamed / "scores.csv").read_bytes() == (whole / "scores.csv").read_bytes()
 
 
@@ -67,12 +65,9 @@ def test_every_streamed_section_equals_the_whole_file_report(reports):
 def test_sections_left_out_are_named_in_json_and_pages(reports):
     _, streamed, _ = reports
     b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
-    assert b["compare"] == {"scales": {}}
-    assert b["confirm"] is None
     assert b["screen"] is None
     codes = {note["section"]: note["code"] for note in b["notes"] if isinstance(note, dict)}
-    assert codes == {"compare": "stream-section-not-streamed", "confirm": "stream-section-not-streamed",
-                     "screen": "stream-section-needs-rows"}
+    assert codes == {"screen": "stream-section-needs-rows"}
     page = (streamed / "index.html").read_text(encoding="utf-8")
     assert page.count("Not in this report") == len(SKIPPED)
     assert "screen is not in this report" in page
@@ -85,8 +80,55 @@ def test_figures_drawn_from_the_summaries(reports):
     whole, streamed, _ = reports
     drawn = {p.name for p in (streamed / "figures").iterdir()}
     assert drawn  # histograms, box plots and answer bars from the counts
-    assert drawn <= {p.name for p in (whole / "figures").iterdir()}
-    assert not any(name.startswith("confirm") for name in drawn)
+    assert drawn == {p.name for p in (whole / "figures").iterdir()}
+
+
+def _blocks(spec, comparisons: dict, confirm) -> dict:
+    """results.json's ``compare`` and ``confirm`` blocks and the ``confirmatory`` records beside reliability,
+    built by the report's own code (``ReportResults.compare_block``) from these results."""
+    from types import SimpleNamespace
+
+    from scalewright.present.confirm import confirmatory_summary
+    from scalewright.report import ReportResults
+    from scalewright.results import to_jsonable
+
+    scales = {name: SimpleNamespace(comparisons=tuple(comparisons[column][i] for column in comparisons))
+              for i, name in enumerate(spec.scales)}
+    holder = SimpleNamespace(scales=scales, confirm=confirm)
+    body = {"compare": ReportResults.compare_block(holder),  # type: ignore[arg-type]
+            "confirm": confirm.to_dict(),
+            "confirmatory": {name: confirmatory_summary(model) for name, model in confirm.models.items()}}
+    return json.loads(json.dumps(to_jsonable(body)))
+
+
+def test_streamed_compare_and_confirm_blocks_equal_the_whole_file_report(tmp_path):
+    """The report's comparisons (with each scale's invariance by shift) and confirmatory models from the
+    merged summaries of a file read in blocks of 4 KiB, against the whole-file report's own functions on the
+    rows (``analyse_compare``: pingouin and scipy; the models: semopy-checked in tests/test_confirm.py)."""
+    from scalewright.analyses.compare import analyse_compare
+    from scalewright.analyses.confirm import WHOLE_FILE
+    from scalewright.analyses.report_streamed import confirm_for_report, report_plan
+    from scalewright.analyses.summarised_groups import compare_from_summaries
+    from scalewright.cli.common import load_inputs
+    from scalewright.engine.stream import stream_summary
+    from scalewright.report import ReportOptions
+    from scalewright.report import _confirm as whole_file_confirm
+
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    data = write_csv(tmp_path / "survey.csv", survey_rows(500))
+    inputs = load_inputs(data, scales)
+    options = ReportOptions(by=("shift",))
+    whole = _blocks(inputs.spec, analyse_compare(inputs.spec, inputs.responses, by=options.by),
+                    whole_file_confirm(inputs.spec, inputs.responses, options))
+    summary, outcome = stream_summary(data, inputs.spec, report_plan(inputs.spec, options),
+                                      block_bytes=int(SMALL_BLOCK))
+    streamed = _blocks(inputs.spec, compare_from_summaries(inputs.spec, summary, by=options.by),
+                       confirm_for_report(inputs.spec, summary, outcome.n, options))
+    assert whole["compare"]["scales"]  # both scales compared across the shifts
+    assert set(whole["confirm"]["invariance"]["shift"]) == set(inputs.spec.scales)
+    assert set(whole["confirmatory"]) == {*inputs.spec.scales, WHOLE_FILE}  # the whole-file model fitted too
+    _same(streamed, whole)
 
 
 def test_options_that_need_the_rows_keep_the_whole_file_route(tmp_path):

@@ -4,13 +4,13 @@
 :func:`~scalewright.report.build_report` gives for the whole file, from one merged
 :class:`~scalewright.summaries.Summary` (see :func:`report_plan`): reliability, score shapes (with their
 histograms and box plots, drawn from the score value counts), answer distributions (from the answer
-counts), subgroup tallies and the structure are computed by the same functions as the streamed
-``reliability``, ``shape``, ``tally`` and ``structure`` commands. The sections that need the rows, or a
-streaming route that does not exist yet, are left out, each with a note code in ``notes``
-(``stream-section-not-streamed`` or ``stream-section-needs-rows``) and a sentence among the reading notes:
+counts), subgroup tallies, the structure, the subgroup comparisons (from each level's score value counts)
+and the confirmatory models (from the merged cross-products; with subgroup columns each scale's invariance
+from each level's cross-products) are computed by the same functions as the streamed ``reliability``,
+``shape``, ``tally``, ``structure``, ``compare`` and ``confirm`` commands. The one section that needs the
+rows is left out, with the note code ``stream-section-needs-rows`` in ``notes`` and a sentence among the
+reading notes:
 
-- ``compare`` (subgroup comparisons): not yet computed from summaries on this route;
-- ``confirm`` (the confirmatory models of the whole file and their invariance): not yet from summaries;
 - ``screen`` (careless responding): a judgement of every row, with a second pass over the file for the
   Mahalanobis distances; not yet streamed.
 
@@ -25,17 +25,18 @@ from typing import Any
 from ..notes import Note, note
 
 #: the sections of the report a streamed run leaves out: (note code, what the section is)
-SKIPPED_SECTIONS = {"compare": ("stream-section-not-streamed", "subgroup comparisons"),
-                    "confirm": ("stream-section-not-streamed", "confirmatory factor models"),
-                    "screen": ("stream-section-needs-rows", "careless-responding screen")}
+SKIPPED_SECTIONS = {"screen": ("stream-section-needs-rows", "careless-responding screen")}
 
 
 def report_plan(spec: Any, options: Any) -> Any:
     """The summaries one pass over the file must gather for :func:`streamed_report`."""
     from ..engine.plan import plan_for
+    from .summarised_confirm import with_whole_file_items
 
-    return plan_for(spec, cross_products=options.missing, scores=True, by=tuple(options.by),
+    # the per-level cross-products serve each scale's invariance; the whole-file model's items, its fit
+    plan = plan_for(spec, cross_products=options.missing, scores=True, by=tuple(options.by),
                     categories=tuple(options.by), joint=len(spec.items) >= 2, patterns=True)
+    return with_whole_file_items(plan, spec, missing=options.missing)
 
 
 def answer_distribution_from_counts(scale: Any, answers: Any, *, min_cell: int = 5) -> Any:
@@ -66,6 +67,7 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
     from ..present.messages import describe
     from ..report import STEPS, ReportResults, ScaleFindings
     from .summarised import reliability_from_summaries, shape_from_summaries, structure_from_summaries, tally_of_column
+    from .summarised_groups import compare_from_summaries
 
     step = progress or (lambda _: None)
     step(STEPS[1])
@@ -81,10 +83,15 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
     step(STEPS[5])
     structure = (structure_from_summaries(spec, summary, seed=options.seed, iterations=options.iterations)
                  if len(spec.items) >= 2 else None)
+    step(STEPS[3])
+    by_column = compare_from_summaries(spec, summary, by=options.by, min_cell=options.min_cell,
+                                       confidence_level=options.confidence_level)
+    confirm = confirm_for_report(spec, summary, outcome.n, options)
     findings = {name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name],
-                                    reliability=reliability[name], shape=shapes[name], comparisons=(),
+                                    reliability=reliability[name], shape=shapes[name],
+                                    comparisons=tuple(by_column[column][i] for column in options.by),
                                     answers=answers[name])
-                for name, scale in spec.scales.items()}
+                for i, (name, scale) in enumerate(spec.scales.items())}
     skipped = skipped_notes()
     notes: list[Any] = list(skipped)
     if structure is None:
@@ -95,7 +102,23 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
                          input_notes=(*input_notes, missing_texts, *(describe(n) for n in skipped)),
                          score_table=score_table, scales=findings, structure=structure, screen=None,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
-                         notes=tuple(notes), confirm=None)
+                         notes=tuple(notes), confirm=confirm)
+
+
+def confirm_for_report(spec: Any, summary: Any, n_rows: int, options: Any) -> Any:
+    """The whole-file report's ``_confirm`` from summaries: the models per scale and of the whole file, and with
+    subgroup columns each scale's invariance (not the whole-file model's: that is for ``confirm --by``)."""
+    from dataclasses import replace
+
+    from .summarised_confirm import confirm_from_summaries
+    from .summarised_groups import invariance_by_scale_from_summaries
+
+    analysis = confirm_from_summaries(spec, summary, n_rows=n_rows, missing=options.missing,
+                                      confidence_level=options.confidence_level)
+    if not options.by:
+        return analysis
+    invariance = invariance_by_scale_from_summaries(spec, summary, by=options.by, min_group=max(options.min_group, 30))
+    return replace(analysis, invariance=invariance)
 
 
 def _missing_texts_note(spec: Any) -> str:
@@ -105,4 +128,4 @@ def _missing_texts_note(spec: Any) -> str:
     return Responses.missing_texts_note(None, spec)  # type: ignore[arg-type]  # it reads the scale file only
 
 
-__all__ = ["SKIPPED_SECTIONS", "answer_distribution_from_counts", "report_plan", "skipped_notes", "streamed_report"]
+__all__ = ["SKIPPED_SECTIONS", "answer_distribution_from_counts", "confirm_for_report", "report_plan", "skipped_notes", "streamed_report"]

@@ -35,12 +35,20 @@ def whole_file_items(spec: Any, *, missing: str) -> tuple[str, ...]:
 def confirm_plan(spec: Any, *, missing: str, ordinal: bool, by: Sequence[str] = ()) -> Any:
     """The summary plan of ``confirm``: per scale (and for the whole-file model's items) the cross-products
     of the missing-answer method, the per-pattern statistics and, with ``ordinal``, the pair tables."""
-    from ..engine.plan import ScalePlan, plan_for
+    from ..engine.plan import plan_for
 
     plan = plan_for(spec, cross_products="pairwise" if missing == "pairwise" else "listwise", answers=False,
                     by=tuple(by), patterns=True)
     if ordinal:
         plan = replace(plan, pair_tables="pairwise" if missing == "pairwise" else "listwise")
+    return with_whole_file_items(plan, spec, missing=missing)
+
+
+def with_whole_file_items(plan: Any, spec: Any, *, missing: str) -> Any:
+    """``plan`` with the whole-file model's items as one more "scale" (:data:`WHOLE_FILE_KEY`), when the
+    scale file has two scales or more (otherwise there is no whole-file model)."""
+    from ..engine.plan import ScalePlan
+
     if len(spec.scales) < 2:
         return plan
     index = {name: position for position, name in enumerate(spec.items)}

@@ -2,9 +2,6 @@
 from __future__ import annotations
 
 ENGINE: dict[str, str] = {
-    "stream-section-not-streamed": "Not in this report: the {title}. The data file was read in blocks, and this "
-                                   "section is not yet computed from block summaries; build the report with "
-                                   "--engine memory to include it.",
     "stream-section-needs-rows": "Not in this report: the {title}. It judges every respondent's row, which the "
                                  "block-by-block route does not do yet; run `scalewright screen` on the file, or "
                                  "build the report with --engine memory.",
