@@ -15,6 +15,7 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
+    require,
     resolve_by,
     resolve_missing,
     scales_option,
@@ -93,6 +94,10 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
         needs_rows=needs_rows, weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    weighted = getattr(inputs.responses, "weights", None) is not None or bool(summarised and summarised.weight)
+    # as in `confirm`: a half-weighted ordinal block would pass for a weighted one, so it is refused
+    require(not (ordinal and weighted), "--ordinal cannot use survey weights yet (the polychoric correlations are of "
+                                        "unweighted answer tables); leave out --ordinal or the weight column")
     columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
