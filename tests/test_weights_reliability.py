@@ -38,3 +38,67 @@ def test_reliability_ordinal_without_weights_still_runs(tmp_path, capsys):
     code = main([str(a) for a in ("reliability", data, "--scales", scales, "--ordinal", "--format", "json")])
     captured = capsys.readouterr()
     assert code == 0, captured.err
+
+
+def _confirmatory(capsys, *args) -> dict:
+    import json
+
+    code = main([str(a) for a in ("reliability", *args, "--format", "json")])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    return {name: record["confirmatory"] for name, record in json.loads(captured.out)["scales"].items()}
+
+
+CONFIRMATORY_NUMBERS = ("chi2", "df", "pvalue", "cfi", "tli", "rmsea", "srmr")
+
+
+@pytest.mark.parametrize("engine", ["memory", "stream"])
+def test_reliability_confirmatory_unit_weights_equal_unweighted(tmp_path, capsys, engine):
+    frame = climate(120, 1.0)
+    data, scales = write(tmp_path, frame)
+    ones = _confirmatory(capsys, data, "--scales", scales, "--engine", engine)
+    scales.write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = _confirmatory(capsys, data, "--scales", scales, "--engine", engine)
+    for name in ("support", "workload"):
+        # all weights 1: np.cov(aweights=1) is np.cov and Kish's n_eff is n, so the unweighted fit exactly
+        for key in CONFIRMATORY_NUMBERS:
+            assert ones[name][key] == pytest.approx(plain[name][key], rel=1e-9, abs=1e-12), key
+        assert ones[name]["omega"]["omega_total"] == pytest.approx(plain[name]["omega"]["omega_total"], rel=1e-9)
+        assert ones[name]["weighted"]["n_effective"] == pytest.approx(120, rel=1e-12)
+        assert ones[name]["weighted"]["fit_n"] == "n_effective"
+        assert "weighted" not in plain[name]
+
+
+@pytest.mark.parametrize("engine", ["memory", "stream"])
+def test_reliability_confirmatory_integer_weights_equal_replicated_rows_against_semopy(tmp_path, capsys, engine):
+    import logging
+
+    import numpy as np
+
+    from .test_weights_commands import replicated
+
+    semopy = pytest.importorskip("semopy")
+    weights = np.random.default_rng(21).integers(1, 4, 150)
+    frame = climate(150, weights)
+    data, scales = write(tmp_path, frame)
+    weighted = _confirmatory(capsys, data, "--scales", scales, "--engine", engine)["support"]
+    copies = replicated(frame, weights)
+    # semopy (test reference only), computed live on the rows repeated w times, sp4 reverse-keyed as the tool does
+    keyed = copies[["sp1", "sp2", "sp3", "sp4"]].assign(sp4=6 - copies["sp4"]).astype(float)
+    logging.getLogger().setLevel(logging.ERROR)
+    reference = semopy.Model("support =~ sp1 + sp2 + sp3 + sp4")
+    reference.fit(keyed, options={"ftol": 1e-14, "maxiter": 20000})
+    estimates = reference.inspect()
+    loadings = estimates[(estimates.op == "~") & (estimates.rval == "support")]["Estimate"].to_numpy(float)
+    factor_variance = estimates[(estimates.op == "~~") & (estimates.lval == "support")]["Estimate"].to_numpy(float)
+    residuals = estimates[(estimates.op == "~~") & (estimates.lval.isin(["sp1", "sp2", "sp3", "sp4"]))
+                          & (estimates.lval == estimates.rval)]["Estimate"].to_numpy(float)
+    # McDonald's omega of the one-factor model: (sum lambda)^2 var(F) / ((sum lambda)^2 var(F) + sum theta)
+    common = loadings.sum() ** 2 * (factor_variance[0] if len(factor_variance) else 1.0)
+    assert weighted["omega"]["omega_total"] == pytest.approx(common / (common + residuals.sum()), abs=1e-3)
+    # the chi-square differs by design: semopy's is N_rep x F_ML, ours n_eff x F_ML (Kish 1965)
+    n_eff = weights.sum() ** 2 / np.sum(weights**2)
+    theirs = semopy.calc_stats(reference).T["Value"]
+    assert weighted["chi2"] == pytest.approx(theirs["chi2"] * n_eff / weights.sum(), rel=1e-3)
+    assert weighted["weighted"]["n_effective"] == pytest.approx(n_eff, rel=1e-12)
+    assert weighted["weighted"]["n"] == 150
