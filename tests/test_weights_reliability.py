@@ -102,3 +102,71 @@ def test_reliability_confirmatory_integer_weights_equal_replicated_rows_against_
     assert weighted["chi2"] == pytest.approx(theirs["chi2"] * n_eff / weights.sum(), rel=1e-3)
     assert weighted["weighted"]["n_effective"] == pytest.approx(n_eff, rel=1e-12)
     assert weighted["weighted"]["n"] == 150
+
+
+# ----------------------------------------------------------------------------- screen: alpha without the flagged
+
+
+def _screen(capsys, *args) -> dict:
+    import json
+
+    code = main([str(a) for a in ("screen", *args, "--format", "json")])
+    captured = capsys.readouterr()
+    assert code == 0, captured.err
+    return json.loads(captured.out)
+
+
+def _flagged_frame(n: int, weights, seed: int = 9):
+    from .test_weights_commands import ITEMS
+
+    frame = climate(n, weights, seed=seed)
+    frame.loc[:6, ITEMS] = 3  # a few long runs, so something is flagged
+    return frame
+
+
+def test_screen_alpha_change_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_path, capsys):
+    import numpy as np
+
+    frame = _flagged_frame(150, 1.0)
+    frame["wr"] = np.random.default_rng(8).uniform(0.2, 4, 150)
+    frame["wr5"] = frame["wr"] * 5
+    data, scales = write(tmp_path, frame)
+    ones = _screen(capsys, data, "--scales", scales)["summary"]["alpha_change"]
+    varied = _screen(capsys, data, "--scales", scales, "--weight", "wr")["summary"]["alpha_change"]
+    scaled = _screen(capsys, data, "--scales", scales, "--weight", "wr5")["summary"]["alpha_change"]
+    scales.write_text(TWO_SCALES.replace("weight: w\n", ""))
+    plain = _screen(capsys, data, "--scales", scales)["summary"]["alpha_change"]
+    for name in ("support", "workload"):
+        # all weights 1: np.cov(aweights=1) is np.cov, so the unweighted alphas exactly
+        for key in ("alpha_all", "n_all", "alpha_without_flagged", "n_without_flagged", "change"):
+            assert ones[name][key] == pytest.approx(plain[name][key], rel=1e-9, abs=1e-12), key
+            assert scaled[name][key] == pytest.approx(varied[name][key], rel=1e-9, abs=1e-12), key
+        assert ones[name]["weighted"] is True
+        assert ones[name]["n_effective_all"] == pytest.approx(150, rel=1e-12)
+        assert "weighted" not in plain[name]
+        assert varied[name]["alpha_all"] != pytest.approx(plain[name]["alpha_all"], rel=1e-6)
+
+
+def test_screen_alpha_change_integer_weights_equal_replicated_rows_against_pingouin(tmp_path, capsys):
+    import numpy as np
+    import pingouin
+
+    weights = np.random.default_rng(5).integers(0, 4, 160)  # weight 0 included: left out of both alphas
+    frame = _flagged_frame(160, weights)
+    data, scales = write(tmp_path, frame)
+    found = _screen(capsys, data, "--scales", scales)
+    flagged = np.array([r["flagged"] for r in found["respondents"]])
+    assert flagged.any()
+    keyed = {"support": frame[["sp1", "sp2", "sp3", "sp4"]].assign(sp4=6 - frame["sp4"]).astype(float),
+             "workload": frame[["wl1", "wl2", "wl3", "wl4"]].astype(float)}
+    for name, items in keyed.items():
+        block = found["summary"]["alpha_change"][name]
+        # pingouin (computed live) on the rows repeated w times: Cronbach's alpha does not depend on the divisor
+        everyone = items.loc[items.index.repeat(weights)]
+        kept = items[~flagged].loc[items[~flagged].index.repeat(weights[~flagged])]
+        assert block["alpha_all"] == pytest.approx(pingouin.cronbach_alpha(everyone)[0], rel=1e-9)
+        assert block["alpha_without_flagged"] == pytest.approx(pingouin.cronbach_alpha(kept)[0], rel=1e-9)
+        assert block["n_all"] == int(np.count_nonzero(weights))
+        assert block["n_without_flagged"] == int(np.count_nonzero(weights[~flagged]))
+        used = weights[weights > 0]
+        assert block["n_effective_all"] == pytest.approx(used.sum() ** 2 / np.sum(used**2), rel=1e-12)  # Kish 1965
