@@ -163,7 +163,7 @@ class ReportResults:
 
 def _add_weighted_blocks(body: dict[str, Any], weighted: WeightedReport) -> None:
     """The weighted blocks of results.json, where each command puts them (beside the unweighted block)."""
-    body["weighted"] = weighted.design
+    body["weighted"] = {**weighted.design, "notes": list(weighted.notes)}
     for name, blocks in weighted.reliability.items():
         record = body["reliability"]["scales"].get(name)
         if record is None:

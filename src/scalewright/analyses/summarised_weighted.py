@@ -302,3 +302,34 @@ def weighted_tallies_from_summaries(spec: Any, summary: Any, tallies: Sequence[A
             shares, result, reference.proportions, source=reference.path, rows=reference.lines)
         out.append(WeightedTallyResult(shares=shares, fit=fit))
     return tuple(out)
+
+
+def weighted_one_factor_models_from_summaries(spec: Any, summary: Any, *,
+                                              weight_column: str) -> tuple[dict[str, Any], dict[str, dict]]:
+    """Each scale's one-factor model fitted by ML to its weighted covariance (complete answers, positive
+    weight) with Kish's n_eff as N, as ``confirm`` fits it from the rows
+    (:func:`~scalewright.analyses.confirm.weighted_model_input`); with the weighted block of each fit."""
+    from ..concurrency import one_blas_thread
+    from ..stats.cfa_fit import fit
+    from ..stats.cfa_model import factor_model
+    from ..stats.cfa_result import summarize_fit
+
+    owner: dict[str, Any] = {}
+    for scale in spec.scales.values():
+        for item in scale.items:
+            owner.setdefault(item, scale)
+    models, blocks = {}, {}
+    with one_blas_thread():
+        for name, scale in spec.scales.items():
+            items = tuple(scale.items)
+            cross = summary["scales"][name]["w_cross_products"]
+            reversed_mask = np.array([owner[item].is_reversed(item) for item in items], dtype=bool)
+            v1, v2, n_used = cross.sum_w, cross.sum_w2, cross.n_used
+            n_eff = v1**2 / v2 if n_used else 0.0
+            fitted = fit(cross.covariance(reversed_mask), n_eff, factor_model({name: items}))
+            models[name] = summarize_fit(fitted, name=name, scales={name: items})
+            blocks[name] = {"weighted": True, "weight_column": weight_column, "n": n_used,
+                            "n_zero_weight": cross.n_zero_weight, "n_effective": n_eff,
+                            "sum_of_weights": v1 if n_used else 0.0,
+                            "design_effect": n_used * v2 / v1**2 if n_used else math.nan, "fit_n": "n_effective"}
+    return models, blocks

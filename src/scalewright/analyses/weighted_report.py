@@ -71,5 +71,9 @@ def weighted_report(spec: ScaleSpec, responses: Responses, *, by: Sequence[str],
                                                          min_cell=min_cell)
     tallies = {t.column: weighted_tally(responses.column(t.column), weights.values, t, weight_column=weights.column)
                for t in group_tallies}
+    from ..notes import note
+
+    # the findings keep the unweighted selection rules (Holm across all tests) and the item figures count answers
+    unweighted = note("report-parts-unweighted", parts=("findings-group-differences", "item-answer-bars"))
     return WeightedReport(design=weights_design(weights), reliability=reliability, scores=scores, shapes=described,
-                          comparisons=comparisons, tallies=tallies)
+                          comparisons=comparisons, tallies=tallies, notes=(unweighted,))

@@ -15,6 +15,7 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
+    require,
     resolve_by,
     resolve_missing,
     scales_option,
@@ -93,11 +94,16 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
         needs_rows=needs_rows, weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
+    weighted = getattr(inputs.responses, "weights", None) is not None or bool(summarised and summarised.weight)
+    # as in `confirm`: a half-weighted ordinal block would pass for a weighted one, so it is refused
+    require(not (ordinal and weighted), "--ordinal cannot use survey weights yet (the polychoric correlations are of "
+                                        "unweighted answer tables); leave out --ordinal or the weight column")
     columns = resolve_by(by, inputs.spec, StreamedLevels(summarised.summary) if summarised else inputs.responses)
     thresholds = ReliabilityThresholds(weak_item_rest_r=weak_item_r, redundant_r=redundant_r,
                                        low_alpha=low_alpha, excess_alpha=excess_alpha)
     from ..present.confirm import confirmatory_summary, reliability_beside_table
 
+    fit_blocks: dict[str, dict] = {}
     if summarised:
         from ..analyses.summarised import one_factor_models_from_summaries, reliability_from_summaries
 
@@ -106,24 +112,47 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
                                              min_group=min_group, thresholds=thresholds, missing=method,
                                              ordinal=ordinal)
         # the confirmatory one-factor model of each scale from the merged covariance (see `confirm`)
-        models = one_factor_models_from_summaries(inputs.spec, summarised.summary, pairwise=method == "pairwise")
+        if summarised.weight:
+            from ..analyses.summarised_weighted import weighted_one_factor_models_from_summaries
+
+            models, fit_blocks = weighted_one_factor_models_from_summaries(inputs.spec, summarised.summary,
+                                                                           weight_column=summarised.weight)
+        else:
+            models = one_factor_models_from_summaries(inputs.spec, summarised.summary,
+                                                      pairwise=method == "pairwise")
     else:
         reports = analyse_reliability(inputs.spec, inputs.responses, by=columns, confidence_level=confidence_level,
                                       missing=method, min_group=min_group, n_resamples=n_resamples, seed=seed,
                                       thresholds=thresholds, ordinal=ordinal)
-        from ..analyses.confirm import one_factor_models
+        from ..analyses.confirm import analyse_confirm, one_factor_models
 
-        # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`)
-        models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
+        # the confirmatory one-factor model of each scale, beside the numbers above (see `confirm`); with weights
+        # fitted to the weighted covariance of complete answers with Kish's n_eff as N, as `confirm` fits it
+        if weighted:
+            fitted = analyse_confirm(inputs.spec, inputs.responses, whole_file=False, weighted=True)
+            models, fit_blocks = fitted.models, fitted.weighted_by_model
+        else:
+            models = one_factor_models(inputs.spec, inputs.responses, pairwise=method == "pairwise")
     body = {"scales": {name: {**report.to_dict(), "confirmatory": confirmatory_summary(models[name])}
                        for name, report in reports.items()},
             "reading": inputs.responses.reading_summary()}
+    beside = reliability_beside_table(models)
+    if weighted:
+        from dataclasses import replace
+
+        from ..notes import note
+        from ..present.messages import describe
+
+        for name in reports:
+            body["scales"][name]["confirmatory"]["weighted"] = fit_blocks[name]
+        weight_column = next(iter(fit_blocks.values()))["weight_column"] if fit_blocks else ""
+        beside = replace(beside, notes=(*beside.notes, describe(note("confirm-weighted", weight_column=weight_column))))
     if summarised:
         body["engine"] = summarised.engine
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
                "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
-    tables = [*reliability_tables(reports), reliability_beside_table(models)]
+    tables = [*reliability_tables(reports), beside]
     if getattr(inputs.responses, "weights", None) is not None:
         from ..analyses.weighted_reliability import weighted_reliability
 

@@ -203,6 +203,9 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
 
     alpha = summary.get("alpha_change") or {}
     if alpha:
+        from ..notes import note
+        from .messages import describe
+
         tables.append(Table(
             title="Cronbach's alpha without the flagged respondents",
             columns=("scale", "alpha", "n", "alpha without flagged", "n without", "change"),
@@ -210,7 +213,10 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
                         a["change"]) for name, a in alpha.items()),
             kinds={"scale": "text", "alpha": "bounded", "n": "int", "alpha without flagged": "bounded",
                    "n without": "int", "change": "num"},
-            notes=("complete answers only (listwise) in both columns",), key="alpha_change"))
+            notes=("complete answers only (listwise) in both columns",
+                   *((describe(note("screen-alpha-weighted")),)
+                     if any(a.get("weighted") for a in alpha.values()) else ())),
+            key="alpha_change"))
 
     duplicates = document["duplicates"]
     status = duplicates.get("row_status") or [None] * len(duplicates["rows"])

@@ -28,9 +28,12 @@ def weights_lead(design: dict[str, Any]) -> str:
     return text
 
 
-def weights_section(design: dict[str, Any]) -> Section:
+def weights_section(design: dict[str, Any], notes: tuple[Any, ...] = ()) -> Section:
+    from .messages import describe
+
     return Section(anchor=WEIGHTS_ANCHOR, title="Survey weights", blocks=(
         Paragraph(weights_lead(design)),
+        *(Paragraph(describe(n)) for n in notes),
         Paragraph("Reliability, score descriptions, subgroup comparisons and the shares of answers are shown "
                   "weighted beside the unweighted numbers (tables marked weighted). The structure and the "
                   "confirmatory models are fitted to the weighted covariance matrix; the careless-responding flags "
@@ -104,9 +107,9 @@ def weighted_document(document: ReportDocument, results: Any) -> ReportDocument:
             section = _with_blocks(section, [TableBlock(weighted_summary_table(weighted))])
         sections.append(section)
         if section.anchor == "findings":
-            sections.append(weights_section(weighted.design))
+            sections.append(weights_section(weighted.design, weighted.notes))
     if not any(s.anchor == WEIGHTS_ANCHOR for s in sections):
-        sections.insert(0, weights_section(weighted.design))
+        sections.insert(0, weights_section(weighted.design, weighted.notes))
     design = weighted.design
     facts = (*document.facts, ("Weighted by", f"{design['weight_column']} (effective n "
                                               f"{format_value(design['n_effective'], 'num', 1)})"))

@@ -170,19 +170,35 @@ class ScreenResult:
                 for key, (values, reason) in indices.items() if np.isnan(values).any()]
 
 
-def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray) -> dict[str, dict[str, Any]]:
+def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray,
+                  weights: np.ndarray | None = None) -> dict[str, dict[str, Any]]:
+    """Alpha of the complete answers with and without the flagged respondents; with survey weights both from
+    the weighted covariance (rows of weight 0 left out; ``n_*`` count the respondents used, ``n_effective_*``
+    is Kish's n_eff of their weights)."""
     from .item_covariance import item_covariance
     from .reliability_coefficients import cronbach_alpha_from_cov
+    from .weighted import kish_effective_n, weighted_covariance
 
+    def alpha_of(keyed: np.ndarray, w: np.ndarray | None) -> tuple[float, int, float]:
+        if w is None:
+            found = item_covariance(keyed)
+            return (cronbach_alpha_from_cov(found.cov) if found.n_used >= 2 else math.nan), found.n_used, math.nan
+        used = np.isfinite(keyed).all(axis=1) & (w > 0)
+        n_used = int(used.sum())
+        alpha = cronbach_alpha_from_cov(weighted_covariance(keyed, w)) if n_used >= 2 else math.nan
+        return alpha, n_used, kish_effective_n(w[used])
+
+    w = None if weights is None else np.asarray(weights, dtype=float)
     out = {}
     for name, keyed in keyed_by_scale.items():
-        everyone = item_covariance(keyed)
-        kept = item_covariance(keyed[~flagged])
-        alpha_all = cronbach_alpha_from_cov(everyone.cov) if everyone.n_used >= 2 else math.nan
-        alpha_kept = cronbach_alpha_from_cov(kept.cov) if kept.n_used >= 2 else math.nan
-        out[name] = {"alpha_all": alpha_all, "n_all": everyone.n_used,
-                     "alpha_without_flagged": alpha_kept, "n_without_flagged": kept.n_used,
+        alpha_all, n_all, n_eff_all = alpha_of(keyed, w)
+        alpha_kept, n_kept, n_eff_kept = alpha_of(keyed[~flagged], None if w is None else w[~flagged])
+        out[name] = {"alpha_all": alpha_all, "n_all": n_all,
+                     "alpha_without_flagged": alpha_kept, "n_without_flagged": n_kept,
                      "change": alpha_kept - alpha_all}
+        if w is not None:
+            out[name].update({"weighted": True, "n_effective_all": n_eff_all,
+                              "n_effective_without_flagged": n_eff_kept})
     return out
 
 
@@ -226,8 +242,9 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     duration_unit : str
         Unit of ``durations``, kept for display.
     weights : array_like, shape (n,), optional
-        Survey weights: the Mahalanobis distance is measured from the weighted means and covariance. Every
-        other index is a respondent's own; no one's weight changes their own flags.
+        Survey weights: the Mahalanobis distance is measured from the weighted means and covariance, and the
+        alpha with and without the flagged respondents is the weighted alpha. Every other index is a
+        respondent's own; no one's weight changes their own flags.
 
     Returns
     -------
@@ -363,7 +380,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     matrix = np.column_stack([fired[c] for c in FLAG_ORDER])
     flags = tuple(tuple(codes[row]) for row in matrix)  # per-respondent lists of codes for the output
 
-    alpha_change = _alpha_change(scales, flagged) if scales else {}
+    alpha_change = _alpha_change(scales, flagged, weights) if scales else {}
     return ScreenResult(
         ids=tuple(str(i) for i in ids), longstring=runs, irv=irv, mahalanobis_d2=distance.d2,
         mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,

@@ -23,6 +23,12 @@ WEIGHTS: dict[str, str] = {
                   "with the divisor sum(w) - sum(w^2)/sum(w)); rows of weight 0 get a z score but do not enter "
                   "the mean and sd.",
     "z-unweighted": "z scores are taken from the unweighted mean and sd of each score in this file (sd with n - 1).",
+    "report-parts-unweighted": "Two parts of this report are not weighted: the subgroup differences named in the "
+                               "findings (chosen from the unweighted, Holm-adjusted tests; each scale's section "
+                               "shows the weighted comparisons) and the bars of the answers to each item (counts "
+                               "of respondents).",
+    "screen-alpha-weighted": "Both alphas are weighted: from the weighted covariance matrix of the complete "
+                             "answers (rows of weight 0 left out); n counts the respondents used.",
     "confirm-weighted": "Every model is fitted by maximum likelihood to the weighted covariance matrix (weights "
                         "{weight_column}; complete answers). The chi-square, the fit indices that use N and the "
                         "standard errors take Kish's effective sample size as N: this inference is approximate "
