@@ -275,7 +275,9 @@ def _cells_per_step(cells: HistogramCells, low: float, high: float, resolution: 
     return max(1, int(round(step / cell_width)))
 
 
-def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high) -> float:
+def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high, counts: np.ndarray | None = None) -> float:
+    """The attainable grid's spacing when regular, else inferred from the scores (``counts[i]`` equal to
+    ``x[i]``; None: one score per value)."""
     if grid is not None and grid.size >= 2:
         gaps = np.diff(grid)
         if np.allclose(gaps, gaps[0], rtol=1e-6, atol=1e-9):
@@ -284,7 +286,7 @@ def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high) -> float:
         return 0.0
     origin = low if low is not None else float(x.min())
     top = high if high is not None else float(x.max())
-    return infer_resolution(x, origin, top - origin)
+    return infer_resolution(x, origin, top - origin, counts=counts)
 
 
 @dataclass(frozen=True)

@@ -23,7 +23,7 @@ from ..errors import UsageError
 from ..notes import note
 from ..seeds import DEFAULT_SEED
 from .descriptives import BoxPlotPoints, UniformFit, bimodality_coefficient, check_quantile_method, uniform_fit
-from .score_grid import histogram_cells, infer_resolution
+from .score_grid import histogram_cells
 from .shape import (
     DEFAULT_PERCENTILES,
     ShapeSummary,
@@ -31,6 +31,7 @@ from .shape import (
     _empty_summary,
     _floor_ceiling,
     _pkey,
+    _resolution,
     _shape_verdict,
 )
 from .shape_rule import DipResult
@@ -120,7 +121,7 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         raise UsageError(f"scores outside the attainable range {low:g}..{high:g} "
                          f"(found {values[0]:g}..{values[-1]:g})")
     if resolution is None:
-        resolution = _resolution(values, counts, grid, low, high)
+        resolution = _resolution(values, grid, low, high, counts=counts)
     if n == 0:
         return _empty_summary(0, n_missing, quantile_method, low, high, resolution, note("no-scores"),
                               percentiles)
@@ -150,16 +151,3 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         floor_pct=floor_pct, ceiling_pct=ceiling_pct, floor_effect=floor_flag, ceiling_effect=ceiling_flag,
         shape=label, evidence=evidence, quantile_method=quantile_method, low=low, high=high,
         resolution=float(resolution), histogram=cells, box_plot=box, rule=features, notes=tuple(notes))
-
-
-def _resolution(values: np.ndarray, counts: np.ndarray, grid: np.ndarray | None, low, high) -> float:
-    """As ``stats.shape._resolution``: the attainable grid's spacing when regular, else inferred from the counts."""
-    if grid is not None and grid.size >= 2:
-        gaps = np.diff(grid)
-        if np.allclose(gaps, gaps[0], rtol=1e-6, atol=1e-9):
-            return float(gaps[0])
-    if values.size == 0:
-        return 0.0
-    origin = low if low is not None else float(values[0])
-    top = high if high is not None else float(values[-1])
-    return infer_resolution(values, origin, top - origin, counts=counts)
