@@ -60,3 +60,16 @@ def write_parquet(path: Path, rows: list[list[str]], *, row_group_size: int = 10
         columns[item] = pa.array([int(r[3 + j]) if r[3 + j] else None for r in rows], type=pa.int64())
     pq.write_table(pa.table(columns), path, row_group_size=row_group_size)
     return path
+
+
+def write_dataset(folder: Path, rows: list[list[str]], *, parts: int, row_group_size: int) -> tuple[Path, Path, Path]:
+    """The same rows as one CSV file, as a folder of ``parts`` equal Parquet files, and the scale file."""
+    scales = folder / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    dataset = folder / "survey"
+    dataset.mkdir()
+    size = len(rows) // parts
+    for part in range(parts):
+        write_parquet(dataset / f"part-{part}.parquet", rows[part * size:(part + 1) * size],
+                      row_group_size=row_group_size)
+    return write_csv(folder / "survey.csv", rows), dataset, scales

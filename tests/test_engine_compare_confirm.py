@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .engine_data import SCALES, survey_rows, write_csv, write_dataset
 from .test_engine_stream import _with_cells, assert_same_numbers, both_routes, run
 
 
@@ -91,14 +91,7 @@ def cluster():
                                                   ("confirm", ("--missing", "em")),
                                                   ("confirm", ("--ordinal",))])
 def test_dask_dataset_equals_the_in_memory_run(cluster, tmp_path, command, options):
-    rows = survey_rows(1200, seed=5)
-    scales = tmp_path / "scales.yaml"
-    scales.write_text(SCALES, encoding="utf-8")
-    folder = tmp_path / "survey"
-    folder.mkdir()
-    for part in range(3):
-        write_parquet(folder / f"part-{part}.parquet", rows[part * 400:(part + 1) * 400], row_group_size=150)
-    whole_file = write_csv(tmp_path / "survey.csv", rows)
+    whole_file, folder, scales = write_dataset(tmp_path, survey_rows(1200, seed=5), parts=3, row_group_size=150)
     code_m, out_m, err_m = run(command, str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory",
                                *options)
     code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",

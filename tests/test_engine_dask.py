@@ -11,7 +11,7 @@ import pytest
 
 from scalewright.cli import main
 
-from .engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .engine_data import survey_rows, write_csv, write_dataset
 
 pytest.importorskip("distributed")
 
@@ -42,14 +42,7 @@ def cluster():
 @pytest.fixture
 def dataset(tmp_path: Path) -> tuple[Path, Path, Path]:
     """The same 2,400 rows as one CSV file and as a folder of four Parquet files."""
-    rows = survey_rows(2400, seed=5)
-    scales = tmp_path / "scales.yaml"
-    scales.write_text(SCALES, encoding="utf-8")
-    folder = tmp_path / "survey"
-    folder.mkdir()
-    for part in range(4):
-        write_parquet(folder / f"part-{part}.parquet", rows[part * 600:(part + 1) * 600], row_group_size=250)
-    return write_csv(tmp_path / "survey.csv", rows), folder, scales
+    return write_dataset(tmp_path, survey_rows(2400, seed=5), parts=4, row_group_size=250)
 
 
 @pytest.mark.parametrize("options", [("--by", "shift"), ("--pairwise", "--by", "site")])

@@ -44,6 +44,18 @@ def _refuse(token: str) -> None:
     raise ValueError(f"{token} in the JSON")
 
 
+def json_outputs(runs: dict[str, list[str]]) -> dict[str, str]:
+    """The JSON each command line of ``runs`` prints; every run must succeed."""
+    texts = {}
+    for name, args in runs.items():
+        buffer = io.StringIO()
+        with contextlib.redirect_stdout(buffer):
+            code = main([*args, "--format", "json"])
+        assert code == 0, name
+        texts[name] = buffer.getvalue()
+    return texts
+
+
 @pytest.fixture(scope="module")
 def documents(tmp_path_factory):
     from scalewright.cli.demo import write_demo_inputs
@@ -79,13 +91,7 @@ def documents(tmp_path_factory):
         "score": ["score", *common],
         "lint": ["lint", *common],
     }
-    texts = {}
-    for name, args in runs.items():
-        buffer = io.StringIO()
-        with contextlib.redirect_stdout(buffer):
-            code = main([*args, "--format", "json"])
-        assert code == 0, name
-        texts[name] = buffer.getvalue()
+    texts = json_outputs(runs)
     report = folder / "report"
     assert main(["report", *common, "--out", str(report), "--by", "shift", "--iterations", "2", "--quiet",
                  "--duration-column", "duration_s"]) == 0
@@ -128,14 +134,7 @@ def degenerate(tmp_path_factory):
             "shape": ["shape", *common, "--by", "team"], "compare": ["compare", *common, "--by", "team"],
             "structure": ["structure", *common, "--iterations", "2"], "screen": ["screen", *common],
             "confirm": ["confirm", *common, "--by", "team", "--min-group", "3"], "tally": ["tally", *common, "--items"]}
-    texts = {}
-    for name, args in runs.items():
-        buffer = io.StringIO()
-        with contextlib.redirect_stdout(buffer):
-            code = main([*args, "--format", "json"])
-        assert code == 0, name
-        texts[name] = buffer.getvalue()
-    return texts
+    return json_outputs(runs)
 
 
 def _parsed(text: str) -> dict:

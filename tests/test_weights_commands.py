@@ -56,6 +56,15 @@ def run_json(capsys, *args) -> dict:
     return json.loads(captured.out)
 
 
+def runs_by_weight(capsys, command: str, data, scales, *weights: str) -> list[dict]:
+    """The JSON of ``command`` weighted by the scale file's ``w``, by each column of ``weights``, and (last)
+    with the scale file's weight line removed: the unweighted run."""
+    runs = [run_json(capsys, command, data, "--scales", scales)]
+    runs += [run_json(capsys, command, data, "--scales", scales, "--weight", w) for w in weights]
+    scales.write_text(TWO_SCALES.replace("weight: w\n", ""))
+    return [*runs, run_json(capsys, command, data, "--scales", scales)]
+
+
 # ----------------------------------------------------------------------------- score --standardize z
 
 
@@ -166,12 +175,8 @@ def test_confirm_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp_p
     frame["wr"] = np.random.default_rng(4).uniform(0.5, 2, 120)
     frame["wr10"] = frame["wr"] * 10
     data, scales = write(tmp_path, frame)
-    ones = run_json(capsys, "confirm", data, "--scales", scales)["models"]
-    threes = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "w3")["models"]
-    varied = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "wr")["models"]
-    scaled = run_json(capsys, "confirm", data, "--scales", scales, "--weight", "wr10")["models"]
-    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
-    plain = run_json(capsys, "confirm", data, "--scales", scales)["models"]
+    ones, threes, varied, scaled, plain = (run["models"] for run in runs_by_weight(capsys, "confirm", data, scales,
+                                                                                   "w3", "wr", "wr10"))
     for name in ("support", "workload", "all"):
         # with all weights 1 np.cov(aweights=1) is np.cov, and Kish's n_eff is n: the unweighted fit exactly
         for key, value in _model_numbers(plain[name]).items():
@@ -253,11 +258,7 @@ def test_structure_unit_weights_equal_unweighted_and_scaling_changes_nothing(tmp
     frame["wr100"] = frame["wr"] * 100
     frame.loc[:4, ["wr", "wr100"]] = 0.0  # rows of weight 0 are left out of the estimates
     data, scales = write(tmp_path, frame)
-    ones = run_json(capsys, "structure", data, "--scales", scales)
-    varied = run_json(capsys, "structure", data, "--scales", scales, "--weight", "wr")
-    scaled = run_json(capsys, "structure", data, "--scales", scales, "--weight", "wr100")
-    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
-    plain = run_json(capsys, "structure", data, "--scales", scales)
+    ones, varied, scaled, plain = runs_by_weight(capsys, "structure", data, scales, "wr", "wr100")
     for reference, other in ((plain, ones), (varied, scaled)):
         # the unweighted route sums exact integer cross-products, the weighted one calls np.cov: the last bits of
         # the correlations differ, and the iterative factoring carries them to about 1e-9 in the loadings
@@ -321,11 +322,7 @@ def test_screen_unit_weights_equal_unweighted_scaling_changes_nothing_zero_weigh
     frame.loc[10:12, "wr"] = 0.0
     frame["wr5"] = frame["wr"] * 5
     data, scales = write(tmp_path, frame)
-    ones = run_json(capsys, "screen", data, "--scales", scales)
-    varied = run_json(capsys, "screen", data, "--scales", scales, "--weight", "wr")
-    scaled = run_json(capsys, "screen", data, "--scales", scales, "--weight", "wr5")
-    (tmp_path / "s.yaml").write_text(TWO_SCALES.replace("weight: w\n", ""))
-    plain = run_json(capsys, "screen", data, "--scales", scales)
+    ones, varied, scaled, plain = runs_by_weight(capsys, "screen", data, scales, "wr", "wr5")
     for reference, other in ((plain, ones), (varied, scaled)):
         assert [r["flags"] for r in other["respondents"]] == [r["flags"] for r in reference["respondents"]]
         np.testing.assert_allclose([r["mahalanobis_d2"] for r in other["respondents"]],

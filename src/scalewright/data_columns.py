@@ -26,6 +26,32 @@ def check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) -
         raise DataError(problems)
 
 
+def named_levels(text: pd.Series, order: Sequence[str], codes: Mapping[str, str] | None = None) -> pd.Series:
+    """``text`` (stripped, blanks already missing) with codes named and numeric levels matched.
+
+    Shared by the whole-file reader and the block reader, so both routes see the same levels.
+    """
+    if codes:
+        whole = text.str.replace(r"^(-?\d+)\.0+$", r"\1", regex=True)  # 1.0 as read from a float column is 1
+        text = whole.map(lambda value: codes.get(value, value) if isinstance(value, str) else value,
+                         na_action="ignore").astype("string")
+    numeric_levels = {float(level): level for level in order if is_plain_number(level)}
+    if numeric_levels:
+        distinct = text.dropna().unique()
+        renamed = {value: numeric_levels[float(value)] for value in distinct
+                   if value not in order and is_plain_number(value) and float(value) in numeric_levels}
+        if renamed:
+            text = text.replace(renamed)
+    return text
+
+
+def order_text(order: Sequence[str], codes: Mapping[str, str] | None = None) -> str:
+    """The listed levels as an error message names them (``1 = woman, 2 = man`` for named codes)."""
+    if codes:
+        return ", ".join(f"{code} = {name}" for code, name in codes.items())
+    return ", ".join(order)
+
+
 def ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str, ...],
                     line_numbers: np.ndarray, *, lenient: bool, codes: Mapping[str, str] | None = None) -> pd.Series:
     """A group column as an ordered categorical in the scale file's order; unknown levels are refused.
@@ -36,26 +62,13 @@ def ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str,
     """
     text = values.astype("string").str.strip()
     text = text.mask(text == "")
-    if codes:
-        whole = text.str.replace(r"^(-?\d+)\.0+$", r"\1", regex=True)  # 1.0 as read from a float column is 1
-        text = whole.map(lambda value: codes.get(value, value) if isinstance(value, str) else value,
-                         na_action="ignore").astype("string")
-        order_text = f"{', '.join(f'{code} = {name}' for code, name in codes.items())}"
-    else:
-        order_text = ", ".join(order)
-    numeric_levels = {float(level): level for level in order if is_plain_number(level)}
-    if numeric_levels:
-        distinct = text.dropna().unique()
-        renamed = {value: numeric_levels[float(value)] for value in distinct
-                   if value not in order and is_plain_number(value) and float(value) in numeric_levels}
-        if renamed:
-            text = text.replace(renamed)
+    text = named_levels(text, order, codes)
     unknown = text.notna() & ~text.isin(order)
     if unknown.any() and not lenient:
         first = int(np.flatnonzero(unknown.to_numpy())[0])
         raise DataError(Problem(file=str(path), where=f"row {line_numbers[first]}, column {column}",
                                 message=f"{quoted(values.astype('string').iloc[first])} is not one of the levels "
-                                        f"the scale file lists for {column} ({order_text}); {int(unknown.sum())} "
+                                        f"the scale file lists for {column} ({order_text(order, codes)}); {int(unknown.sum())} "
                                         "such value(s)"))
     return pd.Series(pd.Categorical(text.where(~unknown), categories=list(order), ordered=True), name=column)
 

@@ -260,28 +260,34 @@ def analyse_confirm(spec: ScaleSpec, responses: Responses, *, pairwise: bool = F
                                 names=list(scales or spec.scales), whole_file=whole_file, weighted=weighted)
 
 
+def confirmed_model(given: ModelInput, model: CfaModel, *, ordinal: bool, name: str,
+                    scales: Mapping[str, Sequence[str]], totals: Mapping[str, Sequence[str]] | None = None,
+                    hints: bool = False, confidence_level: float = 0.95) -> ConfirmedModel:
+    """``model`` fitted to ``given`` (DWLS on polychoric correlations when ``ordinal``, else ML) and summarised."""
+    from ..stats.cfa_fit import fit
+    from ..stats.cfa_result import summarize_fit
+
+    fitted: CfaFit = (fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights) if ordinal else
+                      fit(given.matrix, given.n, model))
+    return summarize_fit(fitted, name=name, scales=scales, totals=totals, hints=hints,
+                         confidence_level=confidence_level)
+
+
 def _analyse_confirm(spec: ScaleSpec, responses: Responses, *, missing: str, ordinal: bool, confidence_level: float,
                      names: list[str], whole_file: bool, weighted: bool = False) -> ConfirmAnalysis:
     from ..concurrency import map_in_threads
     from ..notes import note
-    from ..stats.cfa_fit import fit
     from ..stats.cfa_model import factor_model, scale_file_structure
-    from ..stats.cfa_result import summarize_fit
 
     memberships = {name: tuple(spec.scales[name].items) for name in names}
     estimator = "dwls" if ordinal else "ml"
-
-    def fitted_to(given: ModelInput, model: CfaModel) -> CfaFit:
-        if ordinal:
-            return fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights)
-        return fit(given.matrix, given.n, model)
 
     def one_scale(name: str) -> tuple[ConfirmedModel, ModelInput]:
         items = memberships[name]
         given = (weighted_model_input(spec, responses, items, scope="confirm-scale") if weighted else
                  model_input(spec, responses, items, missing=missing, ordinal=ordinal, scope="confirm-scale"))
-        fitted = fitted_to(given, factor_model({name: items}))
-        return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
+        return confirmed_model(given, factor_model({name: items}), ordinal=ordinal, name=name,
+                               scales={name: items}, confidence_level=confidence_level), given
 
     done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
     models = {name: pair[0] for name, pair in done.items()}
@@ -294,9 +300,8 @@ def _analyse_confirm(spec: ScaleSpec, responses: Responses, *, missing: str, ord
         given = (weighted_model_input(spec, responses, model.items, scope="confirm-file") if weighted else
                  model_input(spec, responses, model.items, missing=missing, ordinal=ordinal, scope="confirm-file",
                              em_items=list(spec.items) if missing == "em" else None))
-        fitted = fitted_to(given, model)
-        models[WHOLE_FILE] = summarize_fit(fitted, name=WHOLE_FILE, scales=memberships, totals=totals, hints=True,
-                                           confidence_level=confidence_level)
+        models[WHOLE_FILE] = confirmed_model(given, model, ordinal=ordinal, name=WHOLE_FILE, scales=memberships,
+                                             totals=totals, hints=True, confidence_level=confidence_level)
         missing_by_model[WHOLE_FILE] = given.missing
         if given.weighted:
             weighted_by_model[WHOLE_FILE] = given.weighted

@@ -1,9 +1,9 @@
 """Measurement invariance of every scale (and the whole file) across the levels of subgroup columns."""
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import replace
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 from ..concurrency import one_blas_thread
 from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
@@ -28,7 +28,6 @@ def analyse_invariance(spec: ScaleSpec, responses: Responses, analysis: ConfirmA
     """
     from ..concurrency import map_in_threads
     from ..stats.cfa_model import factor_model, scale_file_structure
-    from ..stats.invariance import measurement_invariance
     from ..stats.subgroups import split_by
 
     memberships = {name: tuple(scale.items) for name, scale in spec.scales.items()}
@@ -42,31 +41,46 @@ def analyse_invariance(spec: ScaleSpec, responses: Responses, analysis: ConfirmA
 
         def one(name: str, split: SubgroupSplit = split, column: str = column) -> InvarianceResult:
             base = targets[name]
-            p = len(base.items)
-            per_group = base.n_parameters + p  # loadings, covariances, residuals + intercepts
-            covs: list[np.ndarray] = []
-            ns: list[int] = []
-            means: list[np.ndarray] = []
-            names: list[str] = []
-            left_out = dict(split.too_small)
-            for level, rows in split.levels.items():
-                cov = keyed_covariance(spec, responses, base.items, pairwise=pairwise, rows=rows)
-                if cov.n_used < max(min_group, per_group):
-                    left_out[level] = int(cov.n_used)
-                    continue
-                covs.append(cov.cov)
-                ns.append(cov.n_used)
-                means.append(cov.means)
-                names.append(level)
-            # the search for partial invariance refits the model once per item and round: per scale only
-            return measurement_invariance(base, covs, ns, means, names, name=name, column=column, strict=strict,
-                                          left_out=left_out, confidence_level=confidence_level,
-                                          partial_search=name != WHOLE_FILE)
+            level_covariances = ((level, keyed_covariance(spec, responses, base.items, pairwise=pairwise, rows=rows))
+                                 for level, rows in split.levels.items())
+            return invariance_across_levels(base, level_covariances, too_small=split.too_small,
+                                            min_group=min_group, name=name, column=column, strict=strict,
+                                            confidence_level=confidence_level)
 
         names = list(targets)
         with one_blas_thread():
             results[column] = dict(zip(names, map_in_threads(one, names), strict=True))
     return replace(analysis, invariance=results)
+
+
+def invariance_across_levels(base: CfaModel, level_covariances: Iterable[tuple[str, Any]], *,
+                             too_small: dict[str, int], min_group: int, name: str, column: str,
+                             strict: bool = False, confidence_level: float = 0.95) -> InvarianceResult:
+    """Invariance of ``base`` across the levels given as ``(level, keyed covariance)`` pairs.
+
+    A level is left out (and named with its usable rows, beside ``too_small``) when it has fewer usable rows
+    than ``min_group`` or than the free parameters of one group's configural model.
+    """
+    from ..stats.invariance import measurement_invariance
+
+    per_group = base.n_parameters + len(base.items)  # loadings, covariances, residuals + intercepts
+    covs: list[np.ndarray] = []
+    ns: list[int] = []
+    means: list[np.ndarray] = []
+    names: list[str] = []
+    left_out = dict(too_small)
+    for level, cov in level_covariances:
+        if cov.n_used < max(min_group, per_group):
+            left_out[level] = int(cov.n_used)
+            continue
+        covs.append(cov.cov)
+        ns.append(cov.n_used)
+        means.append(cov.means)
+        names.append(level)
+    # the search for partial invariance refits the model once per item and round: per scale only
+    return measurement_invariance(base, covs, ns, means, names, name=name, column=column, strict=strict,
+                                  left_out=left_out, confidence_level=confidence_level,
+                                  partial_search=name != WHOLE_FILE)
 
 
 def invariance_by_scale(spec: ScaleSpec, responses: Responses, *, by: Sequence[str],

@@ -15,7 +15,14 @@ from typing import Any
 
 import numpy as np
 
-from .confirm import WHOLE_FILE, ConfirmAnalysis, ModelInput, _keying, observed_score_correlations
+from .confirm import (
+    WHOLE_FILE,
+    ConfirmAnalysis,
+    ModelInput,
+    _keying,
+    confirmed_model,
+    observed_score_correlations,
+)
 from .summarised_groups import invariance_from_summaries, keyed_from_cross_products
 
 #: the key of the whole-file model's items among the per-scale summaries (no scale name starts with a space)
@@ -103,24 +110,17 @@ def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str
     """:func:`~scalewright.analyses.confirm.analyse_confirm` from a summary made by :func:`confirm_plan`."""
     from ..concurrency import map_in_threads, one_blas_thread
     from ..notes import note
-    from ..stats.cfa_fit import fit
     from ..stats.cfa_model import factor_model, scale_file_structure
-    from ..stats.cfa_result import summarize_fit
 
     names = list(spec.scales)
     memberships = {name: tuple(spec.scales[name].items) for name in names}
-
-    def fitted_to(given: ModelInput, model: Any) -> Any:
-        if ordinal:
-            return fit(given.matrix, given.n, model, estimator="dwls", weights=given.weights)
-        return fit(given.matrix, given.n, model)
 
     def one_scale(name: str) -> tuple[Any, Any]:
         items = memberships[name]
         given = model_input_from_summary(spec, summary["scales"][name], items, items, missing=missing,
                                          ordinal=ordinal, scope="confirm-scale")
-        fitted = fitted_to(given, factor_model({name: items}))
-        return summarize_fit(fitted, name=name, scales={name: items}, confidence_level=confidence_level), given
+        return confirmed_model(given, factor_model({name: items}), ordinal=ordinal, name=name,
+                               scales={name: items}, confidence_level=confidence_level), given
 
     with one_blas_thread():
         done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
@@ -133,9 +133,8 @@ def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str
             given = model_input_from_summary(spec, summary["scales"][WHOLE_FILE_KEY],
                                              whole_file_items(spec, missing=missing), model.items, missing=missing,
                                              ordinal=ordinal, scope="confirm-file")
-            fitted = fitted_to(given, model)
-            models[WHOLE_FILE] = summarize_fit(fitted, name=WHOLE_FILE, scales=memberships, totals=totals, hints=True,
-                                               confidence_level=confidence_level)
+            models[WHOLE_FILE] = confirmed_model(given, model, ordinal=ordinal, name=WHOLE_FILE, scales=memberships,
+                                                 totals=totals, hints=True, confidence_level=confidence_level)
             missing_by_model[WHOLE_FILE] = given.missing
             if not ordinal:
                 observed = observed_score_correlations(given.matrix, model.items, memberships)

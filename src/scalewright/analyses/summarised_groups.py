@@ -64,8 +64,7 @@ def invariance_from_summaries(spec: Any, summary: Any, targets: dict[str, Any], 
     per-scale summaries (default: the scale of that name).
     """
     from ..concurrency import map_in_threads, one_blas_thread
-    from ..stats.invariance import measurement_invariance
-    from .confirm import WHOLE_FILE
+    from .invariance import invariance_across_levels
 
     cross_products_of = cross_products_of or (lambda part, name: part[name]["cross_products"])
     results: dict[str, Any] = {}
@@ -75,21 +74,12 @@ def invariance_from_summaries(spec: Any, summary: Any, targets: dict[str, Any], 
 
         def one(name: str, split: Any = split, parts: Any = parts, column: str = column) -> Any:
             base = targets[name]
-            per_group = base.n_parameters + len(base.items)  # loadings, covariances, residuals + intercepts
-            covs, ns, means, names = [], [], [], []
-            left_out = dict(split.too_small)
-            for level in split.levels:
-                cov = keyed_from_cross_products(spec, cross_products_of(parts[level], name), base.items)
-                if cov.n_used < max(min_group, per_group):
-                    left_out[level] = int(cov.n_used)
-                    continue
-                covs.append(cov.cov)
-                ns.append(cov.n_used)
-                means.append(cov.means)
-                names.append(level)
-            return measurement_invariance(base, covs, ns, means, names, name=name, column=column, strict=strict,
-                                          left_out=left_out, confidence_level=confidence_level,
-                                          partial_search=name != WHOLE_FILE)
+            level_covariances = ((level, keyed_from_cross_products(spec, cross_products_of(parts[level], name),
+                                                                   base.items))
+                                 for level in split.levels)
+            return invariance_across_levels(base, level_covariances, too_small=split.too_small,
+                                            min_group=min_group, name=name, column=column, strict=strict,
+                                            confidence_level=confidence_level)
 
         names = list(targets)
         with one_blas_thread():

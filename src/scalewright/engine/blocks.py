@@ -284,8 +284,9 @@ def _id_check(raw: pd.Series, start: tuple, *, arrow: Any = None) -> tuple[np.nd
 def _known_levels(values: pd.Series, order: Sequence[str], start: tuple, *,
                   codes: Any = None) -> tuple[pd.Series, tuple]:
     """The group column with levels the scale file does not list made missing, and the first such one
-    (codes named and numbers matched first, as the whole-file reader does: :mod:`.group_levels`)."""
-    from .group_levels import named_levels
+    (codes named and numbers matched first, as the whole-file reader does:
+    :func:`scalewright.data_columns.named_levels`)."""
+    from ..data_columns import named_levels
 
     raw = values.astype("string")
     text = raw.str.strip()

@@ -202,8 +202,8 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
         for column in spec.group_levels:
             if column in counts.unknown_levels:
                 (_, row, file), value, count = counts.unknown_levels[column]
+                from ..data_columns import order_text
                 from ..errors import quoted
-                from .group_levels import order_text
 
                 listed = order_text(spec.group_levels[column], getattr(spec, "group_codes", {}).get(column))
                 raise DataError(Problem(file=file or path, where=f"row {row}, column {column}",

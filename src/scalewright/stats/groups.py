@@ -179,6 +179,20 @@ def _check_options(min_cell: int, confidence_level: float) -> None:
         raise UsageError(f"confidence_level must lie between 0 and 1, got {confidence_level!r}")
 
 
+def _left_out_notes(column: str | None, suppressed: list[str], min_cell: int, n_no_score: int,
+                    n_no_group: int) -> list[Note | str]:
+    """Notes naming what a comparison left out: levels below ``min_cell``, rows without a score or a level."""
+    notes: list[Note | str] = []
+    if suppressed:
+        notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
+                          min_cell=int(min_cell)))
+    if n_no_score:
+        notes.append(note("unscored-left-out", n=n_no_score))
+    if n_no_group:
+        notes.append(note("no-group-value-left-out", n=n_no_group, column=column))
+    return notes
+
+
 def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, student: bool = False,
                    confidence_level: float = 0.95, column: str | None = None,
                    scale: str | None = None) -> Comparison:
@@ -260,14 +274,8 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
             continue
         summaries.append(_summary(level, x))
         samples[level] = x
-    if suppressed:
-        notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
-                          min_cell=int(min_cell)))
     n_no_score = int((~has_score).sum())
-    if n_no_score:
-        notes.append(note("unscored-left-out", n=n_no_score))
-    if n_no_group:
-        notes.append(note("no-group-value-left-out", n=n_no_group, column=column))
+    notes.extend(_left_out_notes(column, suppressed, min_cell, n_no_score, n_no_group))
 
     def comparison(**tests: Any) -> Comparison:
         return Comparison(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,

@@ -18,7 +18,7 @@ import numpy as np
 
 from ..notes import Note, note
 from ..summaries.scores import quantiles_from_counts
-from .groups import Comparison, EffectSize, GroupSummary, PairResult, TestResult, _check_options
+from .groups import Comparison, EffectSize, GroupSummary, PairResult, TestResult, _check_options, _left_out_notes
 from .rank_counts import kruskal_wallis_from_counts, mann_whitney_from_counts
 
 
@@ -108,13 +108,7 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
         summaries.append(_summary(level, x))
         samples[level] = x
     # the notes and the order of the checks are compare_groups' own, so both routes read the same
-    if suppressed:
-        notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
-                          min_cell=int(min_cell)))
-    if n_no_score:
-        notes.append(note("unscored-left-out", n=n_no_score))
-    if n_no_group:
-        notes.append(note("no-group-value-left-out", n=n_no_group, column=column))
+    notes.extend(_left_out_notes(column, suppressed, min_cell, n_no_score, n_no_group))
     base: dict[str, Any] = dict(column=column, groups=tuple(summaries), suppressed=tuple(suppressed), min_cell=min_cell,
                 confidence_level=confidence_level, n_no_score=n_no_score, n_no_group=n_no_group, scale=scale)
     testable = {level: x for level, x in samples.items() if x.n >= 2}

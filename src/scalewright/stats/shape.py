@@ -28,6 +28,7 @@ from .descriptives import (
 )
 from .score_grid import HistogramCells, histogram_cells, infer_resolution
 from .shape_rule import (
+    DipResult,
     ShapeEvidence,
     _band_features,
     dip_test_jittered,
@@ -153,15 +154,7 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
     finite = np.isfinite(x_all)
     x = x_all[finite]
     n, n_missing = int(x.size), int((~finite).sum())
-    grid = None if attainable is None else np.unique(np.asarray(attainable, dtype=float))
-    if grid is not None and grid.size == 0:
-        raise UsageError("attainable score values are empty")
-    if low is None and grid is not None:
-        low = float(grid[0])
-    if high is None and grid is not None:
-        high = float(grid[-1])
-    if low is not None and high is not None and high <= low:
-        raise UsageError(f"the score range needs high > low, got {low}..{high}")
+    grid, low, high = _attainable_range(attainable, low, high)
     notes: list[Any] = []
     if n_missing:
         notes.append(note("scores-missing", n_missing=n_missing))
@@ -186,23 +179,72 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
     cells = histogram_cells(x, low=lo, high=hi, resolution=resolution) if hi > lo else None
     fit = uniform_fit(cells.counts, cells.grid_values if resolution > 0 else None) if cells else \
         UniformFit(chi2=math.nan, df=0, p=math.nan, w=math.nan)
-    floor_pct = ceiling_pct = math.nan
-    floor_flag = ceiling_flag = None
-    if low is not None and high is not None:
-        tol = max(resolution, 1e-9) / 2 if resolution > 0 else 1e-9
-        floor_pct = 100.0 * float(np.mean(x <= low + min(tol, 1e-6)))
-        ceiling_pct = 100.0 * float(np.mean(x >= high - min(tol, 1e-6)))
-        floor_flag = floor_pct > 100 * FLOOR_CEILING_SHARE
-        ceiling_flag = ceiling_pct > 100 * FLOOR_CEILING_SHARE
-        for name, share, flag in (("floor", floor_pct, floor_flag), ("ceiling", ceiling_pct, ceiling_flag)):
-            if flag:
-                notes.append(note(f"{name}-effect", share_pct=share, threshold_pct=100 * FLOOR_CEILING_SHARE))
-    else:
-        notes.append(note("floor-ceiling-no-range"))
+    floor_pct, ceiling_pct, floor_flag, ceiling_flag = _floor_ceiling(x, None, low, high, resolution, notes)
+    label, evidence, features = _shape_verdict(m, n, float(np.ptp(x)) == 0, median, bc, dip, cells, lo, hi,
+                                               resolution, answer_levels, notes)
+    box = box_plot_points(x, q1=q1, median=median, q3=q3)
+    return ShapeSummary(
+        n=n, n_missing=n_missing, mean=m.mean, sd=m.sd, median=median, q1=q1, q3=q3, min=float(x.min()),
+        max=float(x.max()), iqr=q3 - q1, skewness=m.skewness, skewness_se=m.skewness_se, kurtosis=m.kurtosis,
+        kurtosis_se=m.kurtosis_se, bimodality_coefficient=bc, dip=dip.dip, dip_p=dip.p,
+        percentiles={_pkey(p): float(v) for p, v in zip(percentiles, pct, strict=True)}, modes=modes(x), uniform_gof=fit,
+        floor_pct=floor_pct, ceiling_pct=ceiling_pct, floor_effect=floor_flag, ceiling_effect=ceiling_flag,
+        shape=label, evidence=evidence, quantile_method=quantile_method, low=low, high=high,
+        resolution=float(resolution), histogram=cells, box_plot=box, rule=features, notes=tuple(notes))
 
+
+def _attainable_range(attainable, low, high) -> tuple[np.ndarray | None, Any, Any]:
+    """The attainable grid (sorted, distinct) and the floor and ceiling it sets when they are not given."""
+    grid = None if attainable is None else np.unique(np.asarray(attainable, dtype=float))
+    if grid is not None and grid.size == 0:
+        raise UsageError("attainable score values are empty")
+    if low is None and grid is not None:
+        low = float(grid[0])
+    if high is None and grid is not None:
+        high = float(grid[-1])
+    if low is not None and high is not None and high <= low:
+        raise UsageError(f"the score range needs high > low, got {low}..{high}")
+    return grid, low, high
+
+
+def _floor_ceiling(values: np.ndarray, counts: np.ndarray | None, low, high, resolution: float,
+                   notes: list[Any]) -> tuple[float, float, bool | None, bool | None]:
+    """Percent of scores at the floor and at the ceiling and whether each passes ``FLOOR_CEILING_SHARE``.
+
+    ``counts`` holds how many scores equal each of ``values`` (None: one score per value); effect and
+    no-range notes are appended to ``notes``.
+    """
+    if low is None or high is None:
+        notes.append(note("floor-ceiling-no-range"))
+        return math.nan, math.nan, None, None
+    tol = max(resolution, 1e-9) / 2 if resolution > 0 else 1e-9
+    at_floor = values <= low + min(tol, 1e-6)
+    at_ceiling = values >= high - min(tol, 1e-6)
+    if counts is None:
+        floor_pct = 100.0 * float(np.mean(at_floor))
+        ceiling_pct = 100.0 * float(np.mean(at_ceiling))
+    else:
+        n = int(counts.sum())
+        floor_pct = 100.0 * (int(counts[at_floor].sum()) / n)
+        ceiling_pct = 100.0 * (int(counts[at_ceiling].sum()) / n)
+    floor_flag = floor_pct > 100 * FLOOR_CEILING_SHARE
+    ceiling_flag = ceiling_pct > 100 * FLOOR_CEILING_SHARE
+    for name, share, flag in (("floor", floor_pct, floor_flag), ("ceiling", ceiling_pct, ceiling_flag)):
+        if flag:
+            notes.append(note(f"{name}-effect", share_pct=share, threshold_pct=100 * FLOOR_CEILING_SHARE))
+    return floor_pct, ceiling_pct, floor_flag, ceiling_flag
+
+
+def _shape_verdict(m, n: int, constant: bool, median: float, bc: float, dip: DipResult,
+                   cells: HistogramCells | None, lo: float, hi: float, resolution: float,
+                   answer_levels: int | None, notes: list[Any]) -> tuple[Any, Any, Any]:
+    """The shape label, its evidence and the rule's band features, or why no label is given.
+
+    ``m`` holds the moments, ``constant`` says every score is equal; notes are appended to ``notes``.
+    """
     label, evidence, features = None, None, None
-    if not math.isfinite(m.skewness) or np.ptp(x) == 0:
-        why = "constant" if n >= 3 and np.ptp(x) == 0 else "too-few"
+    if not math.isfinite(m.skewness) or constant:
+        why = "constant" if n >= 3 and constant else "too-few"
         evidence = note(f"no-shape-{why}")
         notes.append(note(f"shape-not-given-{why}"))
     elif n < MIN_N_FOR_LABEL:
@@ -216,15 +258,7 @@ def describe_scores(values, *, attainable: np.ndarray | None = None, low: float 
         notes.extend(rule_notes)
     if cells is not None:
         notes.extend(cells.notes)
-    box = box_plot_points(x, q1=q1, median=median, q3=q3)
-    return ShapeSummary(
-        n=n, n_missing=n_missing, mean=m.mean, sd=m.sd, median=median, q1=q1, q3=q3, min=float(x.min()),
-        max=float(x.max()), iqr=q3 - q1, skewness=m.skewness, skewness_se=m.skewness_se, kurtosis=m.kurtosis,
-        kurtosis_se=m.kurtosis_se, bimodality_coefficient=bc, dip=dip.dip, dip_p=dip.p,
-        percentiles={_pkey(p): float(v) for p, v in zip(percentiles, pct, strict=True)}, modes=modes(x), uniform_gof=fit,
-        floor_pct=floor_pct, ceiling_pct=ceiling_pct, floor_effect=floor_flag, ceiling_effect=ceiling_flag,
-        shape=label, evidence=evidence, quantile_method=quantile_method, low=low, high=high,
-        resolution=float(resolution), histogram=cells, box_plot=box, rule=features, notes=tuple(notes))
+    return label, evidence, features
 
 
 def _cells_per_step(cells: HistogramCells, low: float, high: float, resolution: float,
@@ -241,7 +275,9 @@ def _cells_per_step(cells: HistogramCells, low: float, high: float, resolution: 
     return max(1, int(round(step / cell_width)))
 
 
-def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high) -> float:
+def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high, counts: np.ndarray | None = None) -> float:
+    """The attainable grid's spacing when regular, else inferred from the scores (``counts[i]`` equal to
+    ``x[i]``; None: one score per value)."""
     if grid is not None and grid.size >= 2:
         gaps = np.diff(grid)
         if np.allclose(gaps, gaps[0], rtol=1e-6, atol=1e-9):
@@ -250,7 +286,7 @@ def _resolution(x: np.ndarray, grid: np.ndarray | None, low, high) -> float:
         return 0.0
     origin = low if low is not None else float(x.min())
     top = high if high is not None else float(x.max())
-    return infer_resolution(x, origin, top - origin)
+    return infer_resolution(x, origin, top - origin, counts=counts)
 
 
 @dataclass(frozen=True)

@@ -23,17 +23,18 @@ from ..errors import UsageError
 from ..notes import note
 from ..seeds import DEFAULT_SEED
 from .descriptives import BoxPlotPoints, UniformFit, bimodality_coefficient, check_quantile_method, uniform_fit
-from .score_grid import histogram_cells, infer_resolution
+from .score_grid import histogram_cells
 from .shape import (
     DEFAULT_PERCENTILES,
-    FLOOR_CEILING_SHARE,
-    MIN_N_FOR_LABEL,
     ShapeSummary,
-    _cells_per_step,
+    _attainable_range,
     _empty_summary,
+    _floor_ceiling,
     _pkey,
+    _resolution,
+    _shape_verdict,
 )
-from .shape_rule import DipResult, _band_features, shape_label
+from .shape_rule import DipResult
 
 #: scores jittered per step of the in-place jitter (the random stream is the one the whole-file route draws)
 JITTER_STEP = 1 << 20
@@ -112,15 +113,7 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
     if values.size > 1 and np.any(np.diff(values) <= 0):
         raise UsageError("score values given with counts must be distinct and ascending")
     n, n_missing = int(counts.sum()), int(n_missing)
-    grid = None if attainable is None else np.unique(np.asarray(attainable, dtype=float))
-    if grid is not None and grid.size == 0:
-        raise UsageError("attainable score values are empty")
-    if low is None and grid is not None:
-        low = float(grid[0])
-    if high is None and grid is not None:
-        high = float(grid[-1])
-    if low is not None and high is not None and high <= low:
-        raise UsageError(f"the score range needs high > low, got {low}..{high}")
+    grid, low, high = _attainable_range(attainable, low, high)
     notes: list[Any] = []
     if n_missing:
         notes.append(note("scores-missing", n_missing=n_missing))
@@ -128,7 +121,7 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         raise UsageError(f"scores outside the attainable range {low:g}..{high:g} "
                          f"(found {values[0]:g}..{values[-1]:g})")
     if resolution is None:
-        resolution = _resolution(values, counts, grid, low, high)
+        resolution = _resolution(values, grid, low, high, counts=counts)
     if n == 0:
         return _empty_summary(0, n_missing, quantile_method, low, high, resolution, note("no-scores"),
                               percentiles)
@@ -145,37 +138,9 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
     cells = histogram_cells(values, low=lo, high=hi, resolution=resolution, tallies=counts) if hi > lo else None
     fit = uniform_fit(cells.counts, cells.grid_values if resolution > 0 else None) if cells else \
         UniformFit(chi2=math.nan, df=0, p=math.nan, w=math.nan)
-    floor_pct = ceiling_pct = math.nan
-    floor_flag = ceiling_flag = None
-    if low is not None and high is not None:
-        tol = max(resolution, 1e-9) / 2 if resolution > 0 else 1e-9
-        floor_pct = 100.0 * (int(counts[values <= low + min(tol, 1e-6)].sum()) / n)
-        ceiling_pct = 100.0 * (int(counts[values >= high - min(tol, 1e-6)].sum()) / n)
-        floor_flag = floor_pct > 100 * FLOOR_CEILING_SHARE
-        ceiling_flag = ceiling_pct > 100 * FLOOR_CEILING_SHARE
-        for name, share, flag in (("floor", floor_pct, floor_flag), ("ceiling", ceiling_pct, ceiling_flag)):
-            if flag:
-                notes.append(note(f"{name}-effect", share_pct=share, threshold_pct=100 * FLOOR_CEILING_SHARE))
-    else:
-        notes.append(note("floor-ceiling-no-range"))
-
-    label, evidence, features = None, None, None
-    spread = float(values[-1] - values[0])
-    if not math.isfinite(m.skewness) or spread == 0:
-        why = "constant" if n >= 3 and spread == 0 else "too-few"
-        evidence = note(f"no-shape-{why}")
-        notes.append(note(f"shape-not-given-{why}"))
-    elif n < MIN_N_FOR_LABEL:
-        evidence = note("no-shape-below-minimum", n=n, minimum=MIN_N_FOR_LABEL)
-        notes.append(note("shape-not-given-below-minimum", minimum=MIN_N_FOR_LABEL))
-    elif cells is not None:
-        features = _band_features(cells, n, period=_cells_per_step(cells, lo, hi, resolution, answer_levels))
-        label, evidence, rule_notes = shape_label(mean=m.mean, median=median, skewness=m.skewness,
-                                                  skewness_se=m.skewness_se, bimodality=bc, dip_p=dip.p,
-                                                  features=features)
-        notes.extend(rule_notes)
-    if cells is not None:
-        notes.extend(cells.notes)
+    floor_pct, ceiling_pct, floor_flag, ceiling_flag = _floor_ceiling(values, counts, low, high, resolution, notes)
+    label, evidence, features = _shape_verdict(m, n, float(values[-1] - values[0]) == 0, median, bc, dip, cells,
+                                               lo, hi, resolution, answer_levels, notes)
     box = _box_plot_from_counts(values, counts, q1=q1, median=median, q3=q3)
     return ShapeSummary(
         n=n, n_missing=n_missing, mean=m.mean, sd=m.sd, median=median, q1=q1, q3=q3, min=float(values[0]),
@@ -186,16 +151,3 @@ def describe_counted_scores(values, counts, *, n_missing: int = 0, attainable: n
         floor_pct=floor_pct, ceiling_pct=ceiling_pct, floor_effect=floor_flag, ceiling_effect=ceiling_flag,
         shape=label, evidence=evidence, quantile_method=quantile_method, low=low, high=high,
         resolution=float(resolution), histogram=cells, box_plot=box, rule=features, notes=tuple(notes))
-
-
-def _resolution(values: np.ndarray, counts: np.ndarray, grid: np.ndarray | None, low, high) -> float:
-    """As ``stats.shape._resolution``: the attainable grid's spacing when regular, else inferred from the counts."""
-    if grid is not None and grid.size >= 2:
-        gaps = np.diff(grid)
-        if np.allclose(gaps, gaps[0], rtol=1e-6, atol=1e-9):
-            return float(gaps[0])
-    if values.size == 0:
-        return 0.0
-    origin = low if low is not None else float(values[0])
-    top = high if high is not None else float(values[-1])
-    return infer_resolution(values, origin, top - origin, counts=counts)

@@ -46,19 +46,10 @@ class ScoreCounts:
     def from_codes(cls, codes: np.ndarray, *, low: int, high: int, reversed_mask: np.ndarray,
                    method: str = "mean", required: int | None = None) -> ScoreCounts:
         """The table of a block of answer codes as given (n x k uint8, 255 missing); keyed here."""
-        n, k = codes.shape
+        k = codes.shape[1]
         span = int(high - low)
-        reversed_mask = np.asarray(reversed_mask, dtype=bool)
-        answered = np.zeros(n, dtype=np.int64)
-        total = np.zeros(n, dtype=np.int64)
-        for j in range(k):
-            column = codes[:, j]
-            given = column != MISSING
-            answered += given
-            keyed = (span - column.astype(np.int64)) if reversed_mask[j] else column.astype(np.int64)
-            total += np.where(given, keyed, 0)
         width = k * span + 1
-        table = np.bincount(answered * width + total, minlength=(k + 1) * width).reshape(k + 1, width)
+        table = np.bincount(score_cells(codes, span, reversed_mask), minlength=(k + 1) * width).reshape(k + 1, width)
         return cls(table=table.astype(np.int64), low=int(low), span=span, k=k, method=method, required=required)
 
     def merge(self, other: ScoreCounts) -> ScoreCounts:
@@ -102,6 +93,24 @@ class ScoreCounts:
         """Every score, ascending (n floats: only for what truly needs the rows, e.g. the dip test)."""
         values, counts = self.values_and_counts()
         return np.repeat(values, counts)
+
+
+def score_cells(codes: np.ndarray, span: int, reversed_mask: np.ndarray) -> np.ndarray:
+    """Each row's cell of the score table: ``answered * (k * span + 1) + keyed offset sum``.
+
+    ``codes`` are answer codes as given (n x k uint8, 255 missing); reversed items are keyed here.
+    """
+    n, k = codes.shape
+    reversed_mask = np.asarray(reversed_mask, dtype=bool)
+    answered = np.zeros(n, dtype=np.int64)
+    total = np.zeros(n, dtype=np.int64)
+    for j in range(k):
+        column = codes[:, j]
+        given = column != MISSING
+        answered += given
+        keyed = (span - column.astype(np.int64)) if reversed_mask[j] else column.astype(np.int64)
+        total += np.where(given, keyed, 0)
+    return answered * (k * span + 1) + total
 
 
 def quantiles_from_counts(values: np.ndarray, counts: np.ndarray, probabilities, *, method: str = "linear") -> np.ndarray:

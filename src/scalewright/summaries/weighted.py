@@ -16,6 +16,7 @@ import numpy as np
 
 from ..answer_codes import MISSING
 from ..weights import BAD_KINDS, SHOW_FIRST
+from .scores import score_cells
 
 
 @dataclass(frozen=True, eq=False)
@@ -147,18 +148,10 @@ class WeightedScoreCounts:
     @classmethod
     def from_codes(cls, codes: np.ndarray, weights: np.ndarray, *, low: int, high: int,
                    reversed_mask: np.ndarray) -> WeightedScoreCounts:
-        n, k = codes.shape
+        k = codes.shape[1]
         span = int(high - low)
-        answered = np.zeros(n, dtype=np.int64)
-        total = np.zeros(n, dtype=np.int64)
-        for j in range(k):
-            column = codes[:, j]
-            given = column != MISSING
-            answered += given
-            keyed = (span - column.astype(np.int64)) if reversed_mask[j] else column.astype(np.int64)
-            total += np.where(given, keyed, 0)
         width = k * span + 1
-        cell = (answered * width + total)[weights > 0]
+        cell = score_cells(codes, span, reversed_mask)[weights > 0]
         w = weights[weights > 0]
         size = (k + 1) * width
         return cls(sum_w=np.bincount(cell, weights=w, minlength=size).reshape(k + 1, width),
