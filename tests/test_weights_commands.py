@@ -384,6 +384,10 @@ def test_report_with_weights_says_so_and_carries_the_weighted_blocks(tmp_path, c
     design = results["weighted"]
     assert design["n_effective"] == pytest.approx(used.sum() ** 2 / np.sum(used**2))  # Kish (1965)
     assert design["n_zero_weight"] == 2
+    # the parts still unweighted are named on the page and in the JSON
+    assert "Two parts of this report are not weighted" in page
+    assert design["notes"] == [{"code": "report-parts-unweighted",
+                                "parts": ["findings-group-differences", "item-answer-bars"]}]
     blocks = [results["reliability"]["scales"]["support"]["weighted"], results["shape"]["scales"]["support"]["all"]["weighted"],
               results["compare"]["scales"]["support"]["by"]["site"]["weighted"], results["scores"]["weighted"]["support"],
               results["tally"]["site"]["weighted"], results["structure"]["weighted"],

@@ -170,23 +170,3 @@ def test_screen_alpha_change_integer_weights_equal_replicated_rows_against_pingo
         assert block["n_without_flagged"] == int(np.count_nonzero(weights[~flagged]))
         used = weights[weights > 0]
         assert block["n_effective_all"] == pytest.approx(used.sum() ** 2 / np.sum(used**2), rel=1e-12)  # Kish 1965
-
-
-# ----------------------------------------------------------------------------- report: what stays unweighted
-
-
-def test_report_with_weights_names_its_unweighted_parts(tmp_path, capsys):
-    import json
-
-    import numpy as np
-
-    frame = climate(60, np.random.default_rng(31).uniform(0.3, 3, 60).round(3))
-    data, scales = write(tmp_path, frame)
-    code = main([str(a) for a in ("report", data, "--scales", scales, "--by", "site", "--out", tmp_path / "r",
-                                  "--iterations", "5", "--quiet")])
-    assert code == 0, capsys.readouterr().err
-    page = (tmp_path / "r" / "index.html").read_text(encoding="utf-8")
-    assert "Two parts of this report are not weighted" in page
-    results = json.loads((tmp_path / "r" / "results.json").read_text(encoding="utf-8"))
-    assert results["weighted"]["notes"] == [{"code": "report-parts-unweighted",
-                                             "parts": ["findings-group-differences", "item-answer-bars"]}]
