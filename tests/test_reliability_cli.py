@@ -74,7 +74,8 @@ def test_by_subgroup_and_small_level_named(files, capsys):
     assert len(block["alpha_comparisons"]["shift"]) == 1
     assert block["bootstrap"]["n_resamples"] == 50
     assert document["options"]["seed"] == 3
-    assert any("on-call" in note for note in block["group_notes"]["shift"])
+    too_small = [n for n in block["group_notes"]["shift"] if n["code"] == "subgroup-too-small"]
+    assert [(n["level"], n["n"]) for n in too_small] == [("on-call", 4)]
 
 
 def test_pairwise_is_said_in_output(write_file, capsys):

@@ -285,7 +285,8 @@ def test_by_subgroup_names_small_levels_without_describing_them():
     assert result.too_small == {"weekend": 5}
     assert result.levels["day"].n == 30
     assert result.levels["night"].mean == pytest.approx(x[30:55].mean())
-    assert any("weekend" in note for note in result.notes)
+    assert [(n.code, n.values["level"]) for n in result.notes if n.code == "subgroup-too-small"] == [
+        ("subgroup-too-small", "weekend")]
 
 
 @settings(max_examples=30, deadline=None)

@@ -14,7 +14,9 @@ def test_small_levels_are_named_not_analysed_and_missing_is_counted():
     assert split.too_small == {"b": 3}
     assert split.missing == 2
     np.testing.assert_array_equal(split.levels["c"], np.arange(17, 27))
-    assert any("unit = b: 3 respondent(s), fewer than 10" in n for n in split.notes())
+    assert [(n.code, n.values) for n in split.notes()] == [
+        ("subgroup-too-small", {"column": "unit", "level": "b", "n": 3, "min_size": 10}),
+        ("subgroup-no-value", {"column": "unit", "n": 2})]
 
 
 def test_levels_keep_a_natural_order():

@@ -246,7 +246,7 @@ def _subgroup_sections(findings: Any, results: Any, figures: FigureMap, decimals
             table = _without(Table(title=f"Reliability by {column}", columns=summary.columns, rows=rows,
                                    kinds=summary.kinds, key=summary.key), "scale")
             group = next((g for g in findings.reliability.groups if g.column == column), None)
-            notes = tuple(group.notes) if group is not None else ()
+            notes = tuple(describe(n) for n in group.notes) if group is not None else ()
             detail.append(TableBlock(Table(title=table.title, columns=table.columns, rows=table.rows,
                                            kinds=table.kinds, notes=notes, key=table.key)))
         tests = reliability_tables_by_key.get("reliability_comparisons")

@@ -9,7 +9,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from ..notes import notes_to_json
+from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
 
 
@@ -31,12 +31,12 @@ class SubgroupSplit(ResultMixin):
         return {"column": self.column, "levels": {k: int(len(v)) for k, v in self.levels.items()},
                 "too_small": dict(self.too_small), "missing": self.missing, "min_group": self.min_size}
 
-    def notes(self) -> list[str]:
-        out = []
-        for level, n in self.too_small.items():
-            out.append(f"{self.column} = {level}: {n} respondent(s), fewer than {self.min_size}; not analysed")
+    def notes(self) -> list[Note]:
+        """The levels not analysed and the rows without a value, as codes with values."""
+        out = [note("subgroup-too-small", column=self.column, level=level, n=int(n), min_size=int(self.min_size))
+               for level, n in self.too_small.items()]
         if self.missing:
-            out.append(f"{self.column}: {self.missing} respondent(s) with no value; left out of the subgroups")
+            out.append(note("subgroup-no-value", column=self.column, n=int(self.missing)))
         return out
 
 

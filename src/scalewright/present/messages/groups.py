@@ -5,6 +5,9 @@ from collections.abc import Mapping
 from typing import Any
 
 GROUPS: dict[str, str] = {
+    # notes of a split into subgroup levels
+    "subgroup-too-small": "{column} = {level}: {n} respondent(s), fewer than {min_size}; not analysed",
+    "subgroup-no-value": "{column}: {n} respondent(s) with no value; left out of the subgroups",
     # notes of a comparison of one score across the levels of a column
     "levels-too-small": "{levels}: fewer than {min_cell} respondents with a score; not shown and left out of the "
                         "tests",
