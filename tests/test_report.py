@@ -363,3 +363,21 @@ def test_png_versions_only_on_request(built, tmp_path):
     assert all((tmp_path / "figures" / f"{stem}.png").read_bytes()[:8] == b"\x89PNG\r\n\x1a\n" for stem in pngs)
     markdown = render_report_markdown(build_document(built.results, figures=figures, decimals=2))
     assert all(f"(PNG version: `figures/{stem}.png`)" in markdown for stem in pngs)
+
+
+def test_a_column_with_one_analysable_level_is_said_not_a_crash(tmp_path):
+    # 150 rows in three teams of about 50: with a minimum of 60 no team is analysed on its own, so the report's
+    # reliability-by-team table carries only notes (codes with values), which the page words
+    from scalewright.cli.common import load_inputs
+    from scalewright.present.report_content import build_document
+    from scalewright.present.report_md import render_report_markdown
+    from scalewright.report import ReportOptions, build_report
+
+    data, scales = hostile_inputs(tmp_path)
+    inputs = load_inputs(data, scales)
+    results = build_report(inputs.spec, inputs.responses, info=inputs.info,
+                           options=ReportOptions(iterations=3, by=("team",), min_group=60))
+    text = render_report_markdown(build_document(results, figures={}))
+    assert "fewer than 60; not analysed" in text
+    codes = {n["code"] for n in results.to_dict()["reliability"]["scales"]["voice"]["group_notes"]["team"]}
+    assert "subgroup-too-small" in codes
