@@ -126,6 +126,11 @@ def missing_option(fn: Callable) -> Callable:
                              "means and covariances by maximum likelihood (EM) from everyone who answered.")(fn)
 
 
+def pairwise_flag(fn: Callable) -> Callable:
+    """``--pairwise``, the older spelling of ``--missing pairwise`` (resolved by :func:`resolve_missing`)."""
+    return click.option("--pairwise", is_flag=True, help="Same as --missing pairwise (kept for existing scripts).")(fn)
+
+
 def resolve_missing(missing: str | None, pairwise: bool = False) -> str:
     """The method of ``--missing``, with ``--pairwise`` kept as a synonym of ``--missing pairwise``."""
     if pairwise and missing not in (None, "pairwise"):

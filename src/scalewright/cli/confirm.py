@@ -12,6 +12,7 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
+    pairwise_flag,
     require,
     resolve_missing,
     scales_option,
@@ -27,7 +28,7 @@ from .engine_route import dataset_argument, engine_options, first_needing_rows, 
 @scales_option
 @by_option
 @missing_option
-@click.option("--pairwise", is_flag=True, help="Same as --missing pairwise (kept for existing scripts).")
+@pairwise_flag
 @click.option("--ordinal", is_flag=True,
               help="Treat answers as ordered categories: fit by DWLS on the polychoric correlations.")
 @click.option("--confidence-level", type=click.FloatRange(0, 1, min_open=True, max_open=True), default=0.95,

@@ -15,6 +15,7 @@ from .common import (
     load_inputs,
     missing_option,
     output_options,
+    pairwise_flag,
     require,
     resolve_by,
     resolve_missing,
@@ -37,8 +38,7 @@ from .engine_route import StreamedLevels, dataset_argument, engine_options, firs
 @click.option("--seed", type=click.IntRange(min=0), default=DEFAULT_SEED, show_default=True,
               help="Seed of the bootstrap (the same default in every command and the report).")
 @missing_option
-@click.option("--pairwise", is_flag=True,
-              help="Same as --missing pairwise (kept for existing scripts).")
+@pairwise_flag
 @click.option("--ordinal", is_flag=True,
               help="Also treat the answers as ordered categories: ordinal alpha, ordinal omega and the sum "
                    "score's reliability from polychoric correlations.")
