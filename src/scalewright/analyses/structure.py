@@ -61,17 +61,18 @@ def analyse_structure_of_file(spec: ScaleSpec, responses: Responses, *, ordinal:
     from ..stats.structure import analyse_structure
 
     codes = responses.codes(spec.items)
-    if codes is not None and not ordinal and options.get("missing", "listwise") == "listwise":
-        # whole answer levels, listwise Pearson correlations: from exact integer cross-products of the codes,
-        # as the streaming and Dask routes compute them, so every route gives the same structure (the
-        # iterative factoring would carry a last-bit difference in the correlations into the loadings)
-        from ..stats.missing_patterns import PatternSummary
-        from ..summaries import ListwiseCrossProducts
-        from .summarised import structure_from_cross_products
+    if codes is not None:
+        # whole answer levels: from the summaries of the codes that the streaming and Dask routes merge (exact
+        # integer cross-products, per-pattern statistics, pair tables), so every route gives the same structure
+        # (the iterative factoring would carry a last-bit difference in the correlations into the loadings)
+        from ..engine.plan import joint_members
+        from .summarised_structure import joint_keying, structure_from_joint
 
-        span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
-        return structure_from_cross_products(spec, ListwiseCrossProducts.from_codes(codes, span=span),
-                                             patterns=PatternSummary.from_codes(codes), **options)
+        missing = options.pop("missing", "listwise")
+        members = joint_members(np.asarray(codes), span=joint_keying(spec)[3],
+                                cross_products="pairwise" if missing == "pairwise" else "listwise",
+                                pair_tables=ordinal)
+        return structure_from_joint(spec, members, missing=missing, ordinal=ordinal, **options)
     joint = joint_keyed_items(responses, spec)
     if ordinal:
         from .ordinal import joint_polychoric

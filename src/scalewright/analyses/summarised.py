@@ -270,40 +270,22 @@ def shape_from_summaries(spec: ScaleSpec, summary: Summary, *, by: Sequence[str]
     return {"scales": scales, "items": item_reports}
 
 
-def structure_from_summaries(spec: ScaleSpec, summary: Summary, **options: Any) -> StructureResult:
-    """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged listwise
-    cross-products of every item (``joint`` in the plan)."""
-    return structure_from_cross_products(spec, summary["joint"], patterns=summary["joint_patterns"], **options)
+def structure_from_summaries(spec: ScaleSpec, summary: Summary, *, missing: str = "listwise", ordinal: bool = False,
+                             **options: Any) -> StructureResult:
+    """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the merged summaries of every
+    item (``joint`` in the plan: see :mod:`scalewright.analyses.summarised_structure`)."""
+    from .summarised_structure import structure_from_joint
+
+    return structure_from_joint(spec, summary, missing=missing, ordinal=ordinal, **options)
 
 
 def structure_from_cross_products(spec: ScaleSpec, joint: ListwiseCrossProducts, *,
-                                  patterns: PatternSummary | None = None, **options: Any) -> StructureResult:
-    """The factor structure from the listwise cross-products of the codes of every item of the scale file
-    (a :class:`~scalewright.summaries.ListwiseCrossProducts`): the homes, keying and notes of
-    :func:`~scalewright.analyses.structure.joint_keyed_items`, the correlations from exact integers."""
-    from dataclasses import replace
+                                  patterns: PatternSummary, **options: Any) -> StructureResult:
+    """The listwise factor structure from the cross-products of the codes of every item of the scale file
+    and their per-pattern statistics."""
+    from .summarised_structure import structure_from_joint
 
-    from ..stats.structure import analyse_structure
-
-    item_scale, notes, reversed_mask = {}, [], []
-    for item in spec.items:  # as analyses.structure.joint_keyed_items chooses each item's home scale
-        homes = [s for s in spec.scales.values() if item in s.items]
-        home = min(homes, key=lambda s: s.k)
-        item_scale[item] = home.name
-        reversed_mask.append(home.is_reversed(item))
-        if len({s.is_reversed(item) for s in homes}) > 1:
-            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
-    span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
-    covariance = joint.covariance(low=0, high=span, reversed_mask=np.array(reversed_mask, dtype=bool))
-    result = analyse_structure(None, covariance=covariance, item_names=tuple(spec.items), item_scale=item_scale,
-                               scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
-                               **options)
-    if patterns is not None:  # the missing-data block of the whole-file route, from the merged patterns
-        from ..stats.missing import missing_handling
-
-        result = replace(result, missing=missing_handling(patterns, "listwise", n_used=covariance.n_used,
-                                                          scope="file", item_names=tuple(spec.items)))
-    return replace(result, notes=(*notes, *result.notes)) if notes else result
+    return structure_from_joint(spec, {"joint": joint, "joint_patterns": patterns}, **options)
 
 
 def one_factor_models_from_summaries(spec: ScaleSpec, summary: Any, *, pairwise: bool = False) -> dict[str, Any]:

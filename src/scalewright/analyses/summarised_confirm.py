@@ -67,9 +67,11 @@ def with_whole_file_items(plan: Any, spec: Any, *, missing: str) -> Any:
 
 
 def model_input_from_summary(spec: Any, part: Any, pool: Sequence[str], items: Sequence[str], *, missing: str,
-                             ordinal: bool, scope: str) -> ModelInput:
+                             ordinal: bool, scope: str, weight_column: str | None = None) -> ModelInput:
     """:func:`~scalewright.analyses.confirm.model_input` from the summary ``part`` of the items ``pool``
-    (``items`` among them), by the same steps."""
+    (``items`` among them), by the same steps; with ``weight_column``
+    :func:`~scalewright.analyses.confirm.weighted_model_input` (listwise, not ordinal) from the weighted
+    cross-products ``w_cross_products``."""
     from ..stats.em import em_means_and_covariance
     from ..stats.missing import check_method, keyed_estimate, missing_handling
     from ..stats.polychoric_matrix import polychoric_matrix
@@ -78,6 +80,8 @@ def model_input_from_summary(spec: Any, part: Any, pool: Sequence[str], items: S
     pool, items = list(pool), list(items)
     where = [pool.index(item) for item in items]
     patterns = part["patterns"]
+    if weight_column is not None:
+        return _weighted_model_input(spec, part, pool, where, scope=scope, weight_column=weight_column)
     if ordinal:
         _, _, reversed_mask = _keying(spec, items)
         tables = part["pair_tables"]
@@ -105,9 +109,31 @@ def model_input_from_summary(spec: Any, part: Any, pool: Sequence[str], items: S
     return ModelInput(matrix=np.asarray(cov, dtype=np.float64), n=int(n_used), weights=None, missing=handling)
 
 
+def _weighted_model_input(spec: Any, part: Any, pool: list[str], where: list[int], *, scope: str,
+                          weight_column: str) -> ModelInput:
+    """The weighted covariance of the keyed items (complete answers, positive weight; divisor
+    sum(w) - sum(w^2)/sum(w)) with Kish's n_eff as n, and the weighted block, as ``weighted_model_input``."""
+    import math
+
+    from ..stats.missing import missing_handling
+
+    cross = part["w_cross_products"]
+    _, _, reversed_mask = _keying(spec, pool)
+    n_used, v1, v2 = cross.n_used, cross.sum_w, cross.sum_w2
+    n_eff = v1**2 / v2 if n_used else 0.0
+    cov = cross.covariance(reversed_mask)[np.ix_(where, where)]
+    handling = missing_handling(part["patterns"], "listwise", n_used=n_used, scope=scope, item_names=tuple(pool))
+    block = {"weighted": True, "weight_column": weight_column, "n": n_used, "n_zero_weight": cross.n_zero_weight,
+             "n_effective": n_eff, "sum_of_weights": v1 if n_used else 0.0,
+             "design_effect": n_used * v2 / v1**2 if n_used else math.nan, "fit_n": "n_effective"}
+    return ModelInput(matrix=cov, n=n_eff, weights=None, missing=handling, weighted=block)
+
+
 def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str = "listwise", ordinal: bool = False,
-                           confidence_level: float = 0.95) -> ConfirmAnalysis:
-    """:func:`~scalewright.analyses.confirm.analyse_confirm` from a summary made by :func:`confirm_plan`."""
+                           confidence_level: float = 0.95, weight_column: str | None = None) -> ConfirmAnalysis:
+    """:func:`~scalewright.analyses.confirm.analyse_confirm` from a summary made by :func:`confirm_plan`;
+    with ``weight_column`` (the plan's weight; listwise, not ordinal) the weighted fits of
+    ``analyse_confirm(weighted=True)``."""
     from ..concurrency import map_in_threads, one_blas_thread
     from ..notes import note
     from ..stats.cfa_model import factor_model, scale_file_structure
@@ -118,7 +144,7 @@ def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str
     def one_scale(name: str) -> tuple[Any, Any]:
         items = memberships[name]
         given = model_input_from_summary(spec, summary["scales"][name], items, items, missing=missing,
-                                         ordinal=ordinal, scope="confirm-scale")
+                                         ordinal=ordinal, scope="confirm-scale", weight_column=weight_column)
         return confirmed_model(given, factor_model({name: items}), ordinal=ordinal, name=name,
                                scales={name: items}, confidence_level=confidence_level), given
 
@@ -126,23 +152,28 @@ def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str
         done = dict(zip(names, map_in_threads(one_scale, names), strict=True))
         models = {name: pair[0] for name, pair in done.items()}
         missing_by_model = {name: pair[1].missing for name, pair in done.items()}
+        weighted_by_model = {name: pair[1].weighted for name, pair in done.items() if pair[1].weighted}
         observed: dict[str, dict[str, float]] = {}
         if len(names) >= 2:
             membership, orthogonal, totals = scale_file_structure(memberships)
             model = factor_model(membership, orthogonal=orthogonal)
             given = model_input_from_summary(spec, summary["scales"][WHOLE_FILE_KEY],
                                              whole_file_items(spec, missing=missing), model.items, missing=missing,
-                                             ordinal=ordinal, scope="confirm-file")
+                                             ordinal=ordinal, scope="confirm-file", weight_column=weight_column)
             models[WHOLE_FILE] = confirmed_model(given, model, ordinal=ordinal, name=WHOLE_FILE, scales=memberships,
                                                  totals=totals, hints=True, confidence_level=confidence_level)
             missing_by_model[WHOLE_FILE] = given.missing
+            if given.weighted:
+                weighted_by_model[WHOLE_FILE] = given.weighted
             if not ordinal:
                 observed = observed_score_correlations(given.matrix, model.items, memberships)
     notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    if weight_column is not None:
+        notes += (note("confirm-weighted", weight_column=weight_column),)
     return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing, n_rows=n_rows,
                            estimator="dwls" if ordinal else "ml",
                            correlation_type="polychoric" if ordinal else "covariance",
-                           missing_by_model=missing_by_model, notes=notes)
+                           missing_by_model=missing_by_model, notes=notes, weighted_by_model=weighted_by_model)
 
 
 def confirm_invariance_from_summaries(spec: Any, summary: Any, analysis: ConfirmAnalysis, *, by: Sequence[str],

@@ -25,11 +25,9 @@ def weighted_structure_of_file(spec: ScaleSpec, responses: Responses, **options:
     the weighted-block keys of the JSON contract (``weighted``, ``weight_column``, ``n``, ``n_effective``,
     ``sum_of_weights``, ``design_effect``, ``n_zero_weight``). ``options`` go to ``analyse_structure``
     (listwise Pearson correlations only)."""
-    from ..notes import note
     from ..stats.item_covariance import ItemCovariance
     from ..stats.missing import missing_handling
     from ..stats.missing_patterns import PatternSummary
-    from ..stats.structure import analyse_structure
     from ..stats.weighted import design_effect, kish_effective_n, weighted_covariance
     from .structure import joint_keyed_items
 
@@ -47,9 +45,6 @@ def weighted_structure_of_file(spec: ScaleSpec, responses: Responses, **options:
                                 n_used=n_eff,  # type: ignore[arg-type]
                                 n_rows=int(joint.matrix.shape[0]), n_complete=n_used,
                                 pair_counts=np.full((p, p), n_used), pairwise=False)
-    options = {key: value for key, value in options.items() if key != "missing"}
-    result = analyse_structure(None, item_names=joint.item_names, item_scale=joint.item_scale,
-                               scale_items=joint.scale_items, covariance=covariance, **options)
     block = {"weighted": True, "weight_column": weights.column, "n": n_used,
              "n_zero_weight": int(np.count_nonzero(complete & (w == 0))), "n_effective": n_eff,
              "sum_of_weights": float(w[used].sum()), "design_effect": design_effect(w[used]),
@@ -57,10 +52,28 @@ def weighted_structure_of_file(spec: ScaleSpec, responses: Responses, **options:
     # the rows behind the estimates are counted as respondents; Bartlett and parallel analysis used n_eff
     handling = missing_handling(PatternSummary.from_values(joint.matrix), "listwise", n_used=n_used, scope="file",
                                 item_names=tuple(joint.item_names))
-    weighted_note = note("structure-weighted", weight_column=weights.column, n_effective=n_eff, n=n_used,
+    result = finish_weighted_structure(covariance, handling, item_names=joint.item_names, item_scale=joint.item_scale,
+                                       scale_items=joint.scale_items, notes=joint.notes, weight_column=weights.column,
+                                       **options)
+    return result, block
+
+
+def finish_weighted_structure(covariance: Any, handling: Any, *, item_names: Any, item_scale: Any, scale_items: Any,
+                              notes: tuple, weight_column: str, **options: Any) -> StructureResult:
+    """``analyse_structure`` of a weighted covariance (``n_used`` Kish's n_eff, ``n_complete`` the rows used),
+    with the rows counted as respondents and the note that Bartlett and parallel analysis used n_eff; shared
+    by the whole-file route and the merged summaries
+    (:func:`~scalewright.analyses.summarised_structure.weighted_structure_from_summaries`)."""
+    from ..notes import note
+    from ..stats.structure import analyse_structure
+
+    options = {key: value for key, value in options.items() if key != "missing"}
+    result = analyse_structure(None, item_names=item_names, item_scale=item_scale, scale_items=scale_items,
+                               covariance=covariance, **options)
+    n_used, n_eff = int(covariance.n_complete), covariance.n_used
+    weighted_note = note("structure-weighted", weight_column=weight_column, n_effective=n_eff, n=n_used,
                          parallel_n=int(round(n_eff)))
     per_scale = {name: replace(summary, n_used=n_used) for name, summary in result.unidimensionality.items()}
-    result = replace(result, n_used=n_used, unidimensionality=per_scale, n_set_aside=int(joint.matrix.shape[0] - n_used), missing=handling,
-                     notes=(*joint.notes, *result.notes),
-                     correlation_notes=(*result.correlation_notes, weighted_note))
-    return result, block
+    return replace(result, n_used=n_used, unidimensionality=per_scale,
+                   n_set_aside=int(covariance.n_rows - n_used), missing=handling, notes=(*notes, *result.notes),
+                   correlation_notes=(*result.correlation_notes, weighted_note))

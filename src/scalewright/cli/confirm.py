@@ -70,9 +70,10 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
     summarised = load_summaries(
         data, scales, lambda spec: confirm_plan(spec, missing=method, ordinal=ordinal, by=by),
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
-        needs_rows=first_needing_rows(exclude=exclude is not None))
+        needs_rows=first_needing_rows(exclude=exclude is not None), weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
-    weighted = getattr(inputs.responses, "weights", None) is not None  # weighted fits read the rows
+    # weighted fits from the rows, or from the merged weighted cross-products
+    weighted = getattr(inputs.responses, "weights", None) is not None or bool(summarised and summarised.weight)
     if weighted:
         # weighted polychoric tables would need weighted SEs for the DWLS weights too: refused, not guessed
         require(not ordinal, "--ordinal cannot use survey weights yet (the polychoric correlations are of "
@@ -85,7 +86,8 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
         from ..analyses.summarised_confirm import confirm_from_summaries, confirm_invariance_from_summaries
 
         analysis = confirm_from_summaries(inputs.spec, summarised.summary, n_rows=inputs.responses.n,
-                                          missing=method, ordinal=ordinal, confidence_level=confidence_level)
+                                          missing=method, ordinal=ordinal, confidence_level=confidence_level,
+                                          weight_column=summarised.weight)
         if by:
             analysis = confirm_invariance_from_summaries(inputs.spec, summarised.summary, analysis, by=by,
                                                          min_group=min_group, strict=with_strict)
@@ -103,6 +105,6 @@ def confirm(data: Path, scales: Path, by: tuple[str, ...], missing: str | None, 
     options = {"by": list(by), "missing": method, "ordinal": ordinal,
                "confidence_level": confidence_level, "min_group": min_group, "strict": with_strict,
                "estimator": analysis.estimator,
-               "weight": inputs.responses.weights.column if weighted else None}
+               "weight": (summarised.weight if summarised else inputs.responses.weights.column) if weighted else None}
     emit(command="confirm", inputs=inputs, body=body, tables=confirm_tables(analysis), fmt=fmt, out=out,
          decimals=decimals, options=options)

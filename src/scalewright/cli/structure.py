@@ -1,6 +1,7 @@
 """`scalewright structure`: KMO, Bartlett, parallel analysis and factor loadings against the intended scales."""
 from __future__ import annotations
 
+from dataclasses import replace
 from pathlib import Path
 
 import click
@@ -80,30 +81,38 @@ def structure(data: Path, scales: Path, factors: str | None, rotation: str, meth
 
     n_factors = parse_factors(factors)
     missing_method = resolve_missing(missing)
+    from ..analyses.summarised_structure import structure_plan_options
     from ..engine.plan import plan_for
 
-    # the summaries serve listwise Pearson correlations; any other option takes the whole-file route
-    needs_rows = first_needing_rows(exclude=exclude is not None, ordinal=ordinal,
-                                    missing=missing_method != "listwise")
-    summarised = load_summaries(data, scales, lambda spec: plan_for(spec, cross_products=None, answers=False,
-                                                                    joint=True),
+    # the summaries serve every missing-data method, --ordinal and survey weights; --exclude needs the rows
+    plan_options = structure_plan_options(missing_method, ordinal)
+    summarised = load_summaries(data, scales, lambda spec: replace(plan_for(spec, cross_products=None, answers=False),
+                                                                   **plan_options),
                                 engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient,
-                                workers=workers, needs_rows=needs_rows)
+                                workers=workers, needs_rows=first_needing_rows(exclude=exclude is not None),
+                                weighted=True)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     options = dict(n_factors=n_factors, rotation=rotation, method=method, seed=seed, iterations=iterations,
                    min_loading=min_loading, max_cross_loading=cross_loading)
     weighted_block = None
-    if summarised:
-        from ..analyses.summarised import structure_from_summaries
-
-        result = structure_from_summaries(inputs.spec, summarised.summary, **options)
-    elif getattr(inputs.responses, "weights", None) is not None:
-        from ..analyses.weighted_structure import weighted_structure_of_file
-
+    if getattr(inputs.responses, "weights", None) is not None or (summarised and summarised.weight):
         require(not ordinal, "--ordinal cannot use survey weights yet (the polychoric correlations are of "
                              "unweighted answer tables); leave out --ordinal or the weight column")
         require(missing_method == "listwise", f"survey weights work with --missing listwise only (the weighted "
                                               f"covariance of complete answers), not {missing_method}")
+    if summarised and summarised.weight:
+        from ..analyses.summarised_structure import weighted_structure_from_summaries
+
+        result, weighted_block = weighted_structure_from_summaries(inputs.spec, summarised.summary,
+                                                                   weight_column=summarised.weight, **options)
+    elif summarised:
+        from ..analyses.summarised import structure_from_summaries
+
+        result = structure_from_summaries(inputs.spec, summarised.summary, missing=missing_method, ordinal=ordinal,
+                                          **options)
+    elif getattr(inputs.responses, "weights", None) is not None:
+        from ..analyses.weighted_structure import weighted_structure_of_file
+
         result, weighted_block = weighted_structure_of_file(inputs.spec, inputs.responses, **options)
     else:
         result = analyse_structure_of_file(inputs.spec, inputs.responses, ordinal=ordinal, missing=missing_method,

@@ -53,8 +53,13 @@ class SummaryPlan:
     categories: tuple[str, ...] = ()
     id_column: str | None = None
     extra: tuple[str, ...] = field(default=())
-    #: listwise cross-products of every item of the scale file together (for the factor structure)
+    #: cross-products of every item of the scale file together (for the factor structure), with their
+    #: per-pattern statistics (the missing-data block, EM)
     joint: bool = False
+    #: the joint cross-products: "listwise" (complete rows) or "pairwise" (each pair on the rows answering both)
+    joint_cross_products: str = "listwise"
+    #: per-pair contingency tables of every item together, over the rows answering every item (polychoric)
+    joint_pair_tables: bool = False
     #: per-missingness-pattern statistics of each scale (the missing-data block: patterns, Little's test)
     patterns: bool = False
     #: per-pair contingency tables of each scale's codes (polychoric correlations): "listwise" counts the
@@ -161,7 +166,25 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
                                          for column in dict.fromkeys([*plan.by, *plan.categories])})
     if plan.joint:
         span = max((scale.high - scale.low for scale in plan.scales), default=1)
-        members["joint"] = ListwiseCrossProducts.from_codes(block.codes, span=span)
-        # per-pattern statistics for the missing-data block (pattern counts, Little's test)
-        members["joint_patterns"] = PatternSummary.from_codes(block.codes)
+        members.update(joint_members(block.codes, span=span, cross_products=plan.joint_cross_products,
+                                     pair_tables=plan.joint_pair_tables))
+        if weights is not None:
+            from ..summaries.weighted import WeightedCrossProducts
+
+            members["w_joint"] = WeightedCrossProducts.from_codes(block.codes, weights)
     return Summary(members)
+
+
+def joint_members(codes: np.ndarray, *, span: int, cross_products: str = "listwise",
+                  pair_tables: bool = False) -> dict[str, Any]:
+    """The summaries of every item together (the factor structure) of these rows' codes: ``joint`` (listwise
+    or pairwise cross-products), ``joint_patterns`` (per-pattern statistics: the missing-data block, Little's
+    test, EM) and, with ``pair_tables``, ``joint_pair_tables`` (rows answering every item). The whole-file
+    route makes them of all its rows at once, so both routes analyse the same integers."""
+    members: dict[str, Any] = {
+        "joint": (PairwiseCrossProducts if cross_products == "pairwise" else ListwiseCrossProducts).from_codes(
+            codes, span=span),
+        "joint_patterns": PatternSummary.from_codes(codes)}
+    if pair_tables:
+        members["joint_pair_tables"] = _pair_tables(codes, span, listwise=True)
+    return members

@@ -77,7 +77,8 @@ def analyse_structure(keyed_matrix: np.ndarray | None, *, item_names: Sequence[s
                       percentile: float = 95.0, min_loading: float = MIN_LOADING,
                       max_cross_loading: float = MAX_CROSS_LOADING, correlation: np.ndarray | None = None,
                       correlation_type: str = "pearson", correlation_notes: Sequence[Any] = (),
-                      missing: str = "listwise", covariance: ItemCovariance | None = None) -> StructureResult:
+                      missing: str = "listwise", covariance: ItemCovariance | None = None,
+                      missing_block: Any = None) -> StructureResult:
     """KMO, Bartlett, parallel analysis, an EFA and the loadings laid against the intended scales.
 
     Parameters
@@ -107,10 +108,14 @@ def analyse_structure(keyed_matrix: np.ndarray | None, *, item_names: Sequence[s
     missing : {"listwise", "pairwise", "em"}
         How missing answers are handled (see Notes).
     covariance : ItemCovariance, optional
-        The listwise covariance of the keyed items (from merged summaries, see ``scalewright.summaries``)
-        in place of ``keyed_matrix`` (then None): every statistic here is a function of it and n. Only
-        with ``missing="listwise"`` and no ``correlation``; the result then has no missing-data block
-        (Little's test needs the per-pattern statistics, which the summaries do not carry).
+        The covariance of the keyed items by the ``missing`` method (from merged summaries, see
+        ``scalewright.summaries``: listwise or pairwise cross-products, or the EM estimate with n the
+        respondents answering at least one item) in place of ``keyed_matrix`` (then None): every statistic
+        here is a function of it, n and the rows counted. With ``correlation`` (polychoric), the covariance
+        gives n and the items without variance, as the rows would.
+    missing_block : MissingHandling, optional
+        With ``covariance``: the missing-data block of the result (made by the caller from the merged
+        per-pattern statistics); None leaves the result without one.
 
     Returns
     -------
@@ -124,9 +129,10 @@ def analyse_structure(keyed_matrix: np.ndarray | None, *, item_names: Sequence[s
     (:func:`scalewright.stats.em.em_means_and_covariance`); n is the number of respondents who answered at
     least one item. Items with no variance among the rows used are left out and flagged.
     """
-    if covariance is not None:  # listwise sufficient statistics (merged summaries) instead of the rows
-        if missing != "listwise" or correlation is not None:
-            raise UsageError("a covariance from summaries is analysed listwise, with Pearson correlations only")
+    if covariance is not None:  # sufficient statistics (merged summaries) instead of the rows
+        from .missing import check_method
+
+        check_method(missing)
         keyed_matrix = np.empty((0, covariance.k))
     keyed = np.asarray(keyed_matrix, dtype=float)
     supplied = None if correlation is None else np.asarray(correlation, dtype=float)
@@ -148,11 +154,18 @@ def analyse_structure(keyed_matrix: np.ndarray | None, *, item_names: Sequence[s
         n, set_aside, correlation_all, constant, handling = _correlation_by_method(keyed, missing, item_names)
         n_rows = keyed.shape[0]
     else:
-        n, n_rows = covariance.n_used, covariance.n_rows
-        # n_used may be Kish's effective n (survey weights); the rows set aside are counted rows
-        set_aside, handling = n_rows - covariance.n_complete, None
-        constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
-        correlation_all = _correlation_of_covariance(covariance.cov, constant)
+        n, n_rows, handling = covariance.n_used, covariance.n_rows, missing_block
+        if missing == "listwise":
+            # n_used may be Kish's effective n (survey weights); the rows set aside are counted rows
+            set_aside = n_rows - covariance.n_complete
+            constant = ~(np.diag(covariance.cov) > 0) if n >= 2 else np.ones(len(item_names), dtype=bool)
+            correlation_all = _correlation_of_covariance(covariance.cov, constant)
+        else:  # as _correlation_by_method: pairwise sets no one aside, EM those without any answer
+            from .item_covariance import correlation_from_cov
+
+            set_aside = n_rows - n if missing == "em" else 0
+            constant = ~(np.diag(covariance.cov) > 0)
+            correlation_all = correlation_from_cov(covariance.cov)
     if set_aside and missing == "listwise":
         notes.append(note("listwise-set-aside", set_aside=int(set_aside), n_rows=int(n_rows)))
     dropped = [name for name, c in zip(item_names, constant, strict=True) if c]
