@@ -192,19 +192,6 @@ def test_weighted_estimates_streamed_equal_whole_file(tmp_path, command, options
     assert_same_numbers(streamed, whole)
 
 
-def test_weighted_confirm_and_structure_keep_the_whole_file_route(tmp_path):
-    # their weighted fits read the rows: the whole-file route under auto, refused with --engine stream
-    data, scales = _weighted_survey(tmp_path)
-    scales.write_text(SCALES.replace("groups: [shift]", "groups: [shift]\nweight: wt"), encoding="utf-8")
-    for command in ("confirm", "structure"):
-        code, _, err = run(command, str(data), "-s", str(scales), "--engine", "stream", "--format", "json")
-        assert code == 2
-        assert "'wt'" in err
-        code, out, err = run(command, str(data), "-s", str(scales), "--format", "json")
-        assert code == 0, err
-        assert "engine" not in json.loads(out)
-
-
 def test_bad_weights_late_in_the_file_are_named_and_counted_as_whole(tmp_path):
     data, scales = _weighted_survey(tmp_path, {1300: "abc", 1400: "", 1450: "inf"})
     whole = run("compare", str(data), "-s", str(scales), "--engine", "memory", "--by", "site", "--weight", "wt")

@@ -255,13 +255,6 @@ def test_options_the_summaries_do_not_serve_keep_the_whole_file_route(survey, op
     assert "engine" not in json.loads(out)
 
 
-def test_structure_with_pairwise_missing_keeps_the_whole_file_route(survey):
-    data, scales = survey
-    code, _, err = run("structure", str(data), "-s", str(scales), "--engine", "stream", "--missing", "pairwise")
-    assert code == 2
-    assert "--missing" in err
-
-
 def test_reliability_confirmatory_block_streamed_equals_whole_file(survey):
     # reference: the whole-file route's one-factor fits (analyses.confirm.one_factor_models on the rows)
     whole, streamed = both_routes("reliability", *survey)

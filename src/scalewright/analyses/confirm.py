@@ -117,11 +117,20 @@ def weighted_model_input(spec: ScaleSpec, responses: Responses, items: Sequence[
     summary, _ = pattern_summary(spec, responses, items)
     handling = missing_handling(summary, "listwise", n_used=int(used.sum()), scope=scope, item_names=tuple(items))
     n_eff = kish_effective_n(w[used]) if used.any() else 0.0
+    cov = weighted_covariance(matrix, w)
+    codes = responses.codes(items)
+    if codes is not None:
+        # whole answer levels: the exact weighted sums the streaming and Dask routes merge, so the fits are the
+        # same on every route (the iterative fit would carry a last-bit difference into its results)
+        from ..summaries.exact_weighted import ExactWeightedCrossProducts
+
+        cross = ExactWeightedCrossProducts.from_codes(np.asarray(codes), np.asarray(w, dtype=np.float64))
+        cov, n_eff = cross.covariance(_keying(spec, items)[2]), cross.effective_n
     block = {"weighted": True, "weight_column": responses.weights.column, "n": int(used.sum()),
              "n_zero_weight": int(np.count_nonzero(np.isfinite(matrix).all(axis=1) & (w == 0))),
              "n_effective": n_eff, "sum_of_weights": float(w[used].sum()), "design_effect": design_effect(w[used]),
              "fit_n": "n_effective"}
-    return ModelInput(matrix=weighted_covariance(matrix, w), n=n_eff, weights=None, missing=handling, weighted=block)
+    return ModelInput(matrix=cov, n=n_eff, weights=None, missing=handling, weighted=block)
 
 
 def model_input(spec: ScaleSpec, responses: Responses, items: Sequence[str], *, missing: str = "listwise",

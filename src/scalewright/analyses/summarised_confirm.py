@@ -48,7 +48,8 @@ def confirm_plan(spec: Any, *, missing: str, ordinal: bool, by: Sequence[str] = 
                     by=tuple(by), patterns=True)
     if ordinal:
         plan = replace(plan, pair_tables="pairwise" if missing == "pairwise" else "listwise")
-    return with_whole_file_items(plan, spec, missing=missing)
+    # with survey weights: exact weighted sums, so the fits equal the whole-file route's (which sums them so)
+    return with_whole_file_items(replace(plan, weighted_exact=True), spec, missing=missing)
 
 
 def with_whole_file_items(plan: Any, spec: Any, *, missing: str) -> Any:
@@ -119,8 +120,7 @@ def _weighted_model_input(spec: Any, part: Any, pool: list[str], where: list[int
 
     cross = part["w_cross_products"]
     _, _, reversed_mask = _keying(spec, pool)
-    n_used, v1, v2 = cross.n_used, cross.sum_w, cross.sum_w2
-    n_eff = v1**2 / v2 if n_used else 0.0
+    n_used, v1, v2, n_eff = cross.n_used, cross.sum_w, cross.sum_w2, cross.effective_n
     cov = cross.covariance(reversed_mask)[np.ix_(where, where)]
     handling = missing_handling(part["patterns"], "listwise", n_used=n_used, scope=scope, item_names=tuple(pool))
     block = {"weighted": True, "weight_column": weight_column, "n": n_used, "n_zero_weight": cross.n_zero_weight,

@@ -99,8 +99,7 @@ def weighted_structure_from_summaries(spec: ScaleSpec, summary: Any, *, weight_c
     item_scale, notes, reversed_mask, _ = joint_keying(spec)
     cross, patterns = summary["w_joint"], summary["joint_patterns"]
     items = tuple(spec.items)
-    k, n_used, v1, v2 = len(items), cross.n_used, cross.sum_w, cross.sum_w2
-    n_eff = v1**2 / v2 if n_used else 0.0
+    k, n_used, v1, v2, n_eff = len(items), cross.n_used, cross.sum_w, cross.sum_w2, cross.effective_n
     covariance = ItemCovariance(cov=cross.covariance(reversed_mask), means=np.full(k, np.nan),
                                 n_used=n_eff,  # type: ignore[arg-type]
                                 n_rows=patterns.n_rows, n_complete=n_used, pair_counts=np.full((k, k), n_used),

@@ -40,8 +40,18 @@ def weighted_structure_of_file(spec: ScaleSpec, responses: Responses, **options:
     n_eff = kish_effective_n(w[used]) if n_used else 0.0
     p = joint.matrix.shape[1]
     means = (np.average(joint.matrix[used], axis=0, weights=w[used]) if n_used else np.full(p, np.nan))
+    cov = weighted_covariance(joint.matrix, w)
+    codes = responses.codes(spec.items)
+    if codes is not None:
+        # whole answer levels: the exact weighted sums the streaming and Dask routes merge, so the structure is
+        # the same on every route (the iterative factoring would carry a last-bit difference into the loadings)
+        from ..summaries.exact_weighted import ExactWeightedCrossProducts
+        from .summarised_structure import joint_keying
+
+        cross = ExactWeightedCrossProducts.from_codes(np.asarray(codes), np.asarray(w, dtype=np.float64))
+        cov, n_eff = cross.covariance(joint_keying(spec)[2]), cross.effective_n
     # Kish's effective n is fractional: the one place an ItemCovariance rests on a weighted n
-    covariance = ItemCovariance(cov=weighted_covariance(joint.matrix, w), means=means,
+    covariance = ItemCovariance(cov=cov, means=means,
                                 n_used=n_eff,  # type: ignore[arg-type]
                                 n_rows=int(joint.matrix.shape[0]), n_complete=n_used,
                                 pair_counts=np.full((p, p), n_used), pairwise=False)

@@ -67,6 +67,9 @@ class SummaryPlan:
     pair_tables: str | None = None
     #: the survey weight column: weighted cross-products, answer and score counts beside the unweighted
     weight: str | None = None
+    #: the weighted cross-products summed exactly (:mod:`scalewright.summaries.exact_weighted`), for fits
+    #: that carry a last-bit difference of the covariance into their results
+    weighted_exact: bool = False
 
     @property
     def columns(self) -> tuple[str, ...]:
@@ -169,9 +172,9 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
         members.update(joint_members(block.codes, span=span, cross_products=plan.joint_cross_products,
                                      pair_tables=plan.joint_pair_tables))
         if weights is not None:
-            from ..summaries.weighted import WeightedCrossProducts
+            from ..summaries.exact_weighted import ExactWeightedCrossProducts
 
-            members["w_joint"] = WeightedCrossProducts.from_codes(block.codes, weights)
+            members["w_joint"] = ExactWeightedCrossProducts.from_codes(block.codes, weights)
     return Summary(members)
 
 
