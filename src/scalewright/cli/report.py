@@ -9,7 +9,6 @@ import click
 from .common import (
     by_option,
     chosen_max_levels,
-    data_argument,
     input_options,
     load_inputs,
     missing_option,
@@ -18,7 +17,9 @@ from .common import (
     scales_option,
     weight_option,
 )
-from .row_route import row_engine_options, row_route, said_read_whole
+from .engine_route import dataset_argument
+from .report_route import report_engine_options
+from .row_route import row_route, said_read_whole
 
 
 def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...] = (), lenient: bool = False,
@@ -27,7 +28,8 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
                       min_group: int = 10, min_cell: int = 5, duration_column: str | None = None,
                       duration_unit: str = "s", quiet: bool = False, single_file: bool = False,
                       missing: str = "listwise", png: bool = False, max_levels: int | None = None,
-                      engine: str = "memory", block_size: int | None = None) -> Any:
+                      engine: str = "memory", block_size: int | None = None, scheduler: str | None = None,
+                      workers: int | None = None) -> Any:
     """Read the inputs, turn the options into ``ReportOptions`` and build the report folder; returns the
     ``ReportResults`` (:func:`scalewright.report_folder.build_report_folder` does the work).
 
@@ -41,13 +43,13 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
     progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
     needs_rows = ("--exclude" if exclude is not None else f"--missing {missing}" if missing != "listwise" else None)
-    if row_route(engine, data, scales, needs_rows=needs_rows) == "stream":
+    if row_route(engine, data, scales, needs_rows=needs_rows) in ("stream", "dask"):
         streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
                                            seed=seed, iterations=iterations, confidence_level=confidence_level,
                                            min_group=min_group, min_cell=min_cell, duration_column=duration_column,
                                            duration_unit=duration_unit, single_file=single_file, png=png,
                                            max_levels=max_levels, engine=engine, block_size=block_size,
-                                           progress=progress)
+                                           progress=progress, scheduler=scheduler, workers=workers)
         if streamed is not None:
             return streamed
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
@@ -67,17 +69,12 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             force: bool, seed: int | None, iterations: int, confidence_level: float, min_group: int,
                             min_cell: int, duration_column: str | None, duration_unit: str, single_file: bool,
                             png: bool, max_levels: int | None, engine: str, block_size: int | None,
-                            progress: Any) -> Any:
+                            progress: Any, scheduler: str | None = None, workers: int | None = None) -> Any:
     """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
     summaries, one that writes ``scores.csv`` a block at a time; None when the file must be read whole."""
-    from concurrent.futures import ThreadPoolExecutor
-
     from ..analyses.report_streamed import report_plan, streamed_report
     from ..engine.blocks import CannotStream
-    from ..engine.score_stream import stream_scores
-    from ..engine.stream import stream_summary
     from ..errors import DataError, Problem
-    from ..present.document import InputInfo
     from ..present.report_files import prepare_report_folder, write_report_folder, write_single_page
     from ..report import DEFAULT_SEED, ReportOptions
     from ..spec import load_spec
@@ -89,15 +86,15 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             confidence_level=confidence_level, min_group=min_group, min_cell=min_cell, lenient=lenient,
                             exclude=None, decimals=decimals, duration_column=duration_column,
                             duration_unit=duration_unit, missing="listwise")
-    with ThreadPoolExecutor(max_workers=1) as pool:  # the provenance digests beside the blocks
-        digests = pool.submit(InputInfo.from_paths, data, scales)
-        try:
-            summary, outcome = stream_summary(data, spec, report_plan(spec, options), lenient=lenient,
-                                              block_bytes=block_size)
-        except CannotStream as reason:
-            said_read_whole(engine, data, reason)
-            return None
-        info = digests.result()
+    from .report_route import report_scores, report_summary
+
+    try:  # the first pass: the merged summary, of the file's blocks or of the partitions on Dask
+        first = report_summary(data, scales, spec, report_plan(spec, options), engine=engine, lenient=lenient,
+                               block_size=block_size, scheduler=scheduler, workers=workers)
+    except CannotStream as reason:
+        said_read_whole(engine, data, reason)
+        return None
+    summary, outcome, info = first.summary, first.outcome, first.info
     # the checks of the whole-file route, before the folder is touched
     resolve_by(options.by, spec, StreamedLevels(summary), max_levels=options.max_levels)
     if duration_column and duration_column not in outcome.counts.file_columns:
@@ -105,11 +102,11 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
     folder = prepare_report_folder(out, force=force, inputs=[data, scales], single_file=single_file)
     progress.step("scoring")
     try:
-        scored = stream_scores(data, spec, None if single_file else folder / "scores.csv", lenient=lenient,
-                               block_bytes=block_size, inputs=[data, scales])
+        score_table = report_scores(first, data, spec, None if single_file else folder / "scores.csv",
+                                    lenient=lenient, block_size=block_size, inputs=[data, scales])
     except CannotStream as reason:  # the first pass read it: only a file changed meanwhile gets here
         raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
-    results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=scored.table,
+    results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=score_table,
                               input_notes=tuple(outcome.notes()), progress=progress.step)
     if single_file:
         write_single_page(results, folder, decimals=decimals, inputs=[data, scales], progress=progress.step)
@@ -123,7 +120,7 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
 @click.command("report", epilog=("Examples:\n\n\b\n"
                   "  scalewright report survey.csv --scales survey.yaml --out report/\n"
                   "  scalewright report survey.csv -s survey.yaml --by shift --exclude flagged.csv --out report/\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @by_option
 @click.option("--out", "-o", "out", required=True, type=click.Path(file_okay=False, path_type=Path),
@@ -154,11 +151,12 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
 @missing_option
 @weight_option
 @input_options
-@row_engine_options
+@report_engine_options
 def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool, decimals: int, seed: int | None,
            iterations: int, confidence_level: float, min_group: int, min_cell: int, duration_column: str | None,
            duration_unit: str, png: bool, quiet: bool, single_file: bool, missing: str | None, lenient: bool,
-           exclude: Path | None, engine: str, block_size: int | None) -> None:
+           exclude: Path | None, engine: str, block_size: int | None, scheduler: str | None,
+           workers: int | None) -> None:
     """Build the full report: every scale's reliability, items, scores, subgroups and structure.
 
     Writes DIR/index.html (one self-contained page: no scripts, nothing from the
@@ -172,4 +170,4 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
                         min_cell=min_cell, duration_column=duration_column, duration_unit=duration_unit, quiet=quiet,
                         single_file=single_file, missing=resolve_missing(missing), png=png, engine=engine,
-                        block_size=block_size)
+                        block_size=block_size, scheduler=scheduler, workers=workers)

@@ -19,13 +19,13 @@ def row_engine_options(fn: Callable) -> Callable:
 
 
 def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | None) -> str:
-    """"memory" or "stream": the route of a command that writes rows (``needs_rows`` names an option that
+    """"memory", "stream" or "dask": the route of a command that writes rows (``needs_rows`` names an option that
     needs the whole file first, or None); survey weights keep the whole-file route."""
     from ..engine.choose import choose_route
     from .common import chosen_weight
 
     route = choose_route(engine, data, needs_rows=needs_rows)
-    if route != "stream":
+    if route not in ("stream", "dask"):
         return route
     weight = chosen_weight()
     if weight is None:
@@ -33,10 +33,10 @@ def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | Non
 
         weight = getattr(load_spec(spec_path), "weight", None)
     if weight:
-        if engine == "stream":
-            raise UsageError(f"--engine stream: survey weights (column {weight!r}) need the rows (use --engine memory)")
+        if engine in ("stream", "dask"):
+            raise UsageError(f"--engine {engine}: survey weights (column {weight!r}) need the rows (use --engine memory)")
         return "memory"
-    return "stream"
+    return route
 
 
 def said_read_whole(engine: str, data: Path, reason: object) -> None:

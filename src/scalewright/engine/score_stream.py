@@ -68,9 +68,11 @@ class StreamedScores:
 
 
 def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_bytes: int | None,
-                   columns: tuple[str, ...], way: Any) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
-    """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads."""
-    start = first_row_number(path)
+                   columns: tuple[str, ...], way: Any,
+                   start: int | None = None) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
+    """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads.
+    ``start``: the row number of the first row (default: the file's own first data row)."""
+    start = first_row_number(path) if start is None else start
     workers = worker_count()
 
     def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts]:
