@@ -113,8 +113,7 @@ def test_duplicate_ids_are_named_by_the_whole_file_route(survey):
     assert not target.exists()
 
 
-@pytest.mark.parametrize(("options", "needs"), [(("--standardize", "z"), "--standardize z"),
-                                                (("--out", "x.xlsx"), "x.xlsx")])
+@pytest.mark.parametrize(("options", "needs"), [(("--out", "x.xlsx"), "x.xlsx")])
 def test_what_needs_the_whole_file_first(survey, options, needs, monkeypatch):
     data, scales = survey
     monkeypatch.chdir(data.parent)

@@ -1,7 +1,7 @@
 """Scoring: reverse-key items and build one composite score per scale per respondent."""
 from __future__ import annotations
 
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -172,11 +172,13 @@ class ScoreTable(ResultMixin):
 
 
 def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | None = None,
-                 scales: Iterable[str] | None = None, weights: Any = None) -> ScoreTable:
+                 scales: Iterable[str] | None = None, weights: Any = None,
+                 z_bases: Mapping[str, dict[str, Any]] | None = None) -> ScoreTable:
     """Score every scale of ``spec`` (or those named) for every respondent.
 
     ``weights`` (:class:`scalewright.weights.SurveyWeights`): ``z`` scores are then taken from the weighted
-    mean and sd; ``pomp`` does not depend on the sample, so weights do not change it.
+    mean and sd; ``pomp`` does not depend on the sample, so weights do not change it. ``z_bases``: per scale
+    the :func:`z_basis` of the whole sample, when these responses are one block of it (a file scored in blocks).
     """
     if standardize not in (None, *STANDARDIZE):
         raise UsageError(f"standardize must be pomp or z, not {standardize!r}").with_setting("standardize")
@@ -191,6 +193,9 @@ def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | No
         if standardize == "pomp":
             standardized = pomp_of_composite(keyed, float(scale.response.min), float(scale.response.max),
                                              required=required)
+        elif standardize == "z" and z_bases is not None:
+            basis = z_bases[name]
+            standardized = z_from_basis(scores, basis)
         elif standardize == "z" and weights is None:
             standardized, basis = z_scores(scores), z_basis(scores)
         elif standardize == "z":

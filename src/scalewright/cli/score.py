@@ -99,7 +99,7 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
               engine: str, block_size: int | None, fmt: str | None, out: Path | None, decimals: int,
               writes_scores: bool) -> bool:
     """Score the file a block at a time when the route says so; False when it is to be read whole."""
-    needs_rows = ("--exclude" if exclude is not None else "--standardize z" if standardize == "z"
+    needs_rows = ("--exclude" if exclude is not None
                   else f"--out {out.name}" if writes_scores and out.suffix.lower() == ".xlsx" else None)
     if row_route(engine, data, scales, needs_rows=needs_rows) != "stream":
         return False
@@ -115,8 +115,13 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     with ThreadPoolExecutor(max_workers=1) as pool:  # the provenance digests beside the blocks
         digests = pool.submit(InputInfo.from_paths, data, scales)
         try:
+            z_bases = None
+            if standardize == "z":  # a first pass for the sample's mean and SD (engine/score_z.py)
+                from ..engine.score_z import z_bases_of_file
+
+                z_bases = z_bases_of_file(data, spec, lenient=lenient, block_bytes=block_size)
             found = stream_scores(data, spec, out if writes_scores else None, standardize=standardize,
-                                  lenient=lenient, block_bytes=block_size, inputs=[data, scales])
+                                  lenient=lenient, block_bytes=block_size, inputs=[data, scales], z_bases=z_bases)
         except CannotStream as reason:
             said_read_whole(engine, data, reason)
             return False
@@ -124,7 +129,7 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     notes = tuple(found.outcome.notes())
     if writes_scores:
         click.echo(f"wrote {out} ({found.n} rows, {len(found.table.scales)} scale(s))", err=True)
-        for note in notes:
+        for note in [*notes, *_z_lines(found.table)]:
             click.echo(f"note: {visible_controls(note)}", err=True)
         return True
     table = found.table
@@ -132,7 +137,7 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     body = {"scores": table.to_dict(), "reading": found.outcome.reading_summary(), "engine": {"name": "stream"}}
     inputs = Inputs(spec=spec, responses=found.outcome, info=info, excluded=0, notes=notes)
     emit(command="score", inputs=inputs, body=body, tables=[summary], fmt=choose_format(fmt, out), out=out,
-         decimals=decimals, options={"standardize": standardize})
+         decimals=decimals, options={"standardize": standardize}, preface=_z_lines(table))
     return True
 
 

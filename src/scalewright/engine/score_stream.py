@@ -68,8 +68,8 @@ class StreamedScores:
 
 
 def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_bytes: int | None,
-                   columns: tuple[str, ...], way: Any,
-                   start: int | None = None) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
+                   columns: tuple[str, ...], way: Any, start: int | None = None,
+                   z_bases: dict | None = None) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
     """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads.
     ``start``: the row number of the first row (default: the file's own first data row)."""
     start = first_row_number(path) if start is None else start
@@ -77,7 +77,7 @@ def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_byte
 
     def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts]:
         block = convert_batch(batch, spec, columns, first_row=first)
-        return score_scales(_BlockRows(block, spec), spec, standardize=standardize), block.reading
+        return score_scales(_BlockRows(block, spec), spec, standardize=standardize, z_bases=z_bases), block.reading
 
     with ThreadPoolExecutor(max_workers=workers) as pool:
         pending: deque = deque()
@@ -124,26 +124,31 @@ class _Appender:
             self._writer.close()
 
 
-def _summary_table(first: ScoreTable, scored: dict[str, int], n: int, standardize: str | None) -> ScoreTable:
-    """The JSON summary of every block: per scale its counts (the rows themselves were written out)."""
+def _summary_table(first: ScoreTable, scored: dict[str, int], n: int, standardize: str | None,
+                   z_bases: dict | None = None) -> ScoreTable:
+    """The JSON summary of every block: per scale its counts (the rows themselves were written out) and,
+    for z scores, the mean and SD they were taken from."""
     scales = {name: ScaleScores(scale=name, scores=np.empty(0), answered=np.empty(0, dtype=np.int64),
                                 required=one.required, k=one.k, method=one.method, n_scored=scored[name],
-                                n_unscored=n - scored[name])
+                                n_unscored=n - scored[name],
+                                standardized_basis=None if z_bases is None else z_bases[name])
               for name, one in first.scales.items()}
     return ScoreTable(ids=pd.Series([], dtype=object), id_name=first.id_name, scales=scales, standardize=standardize)
 
 
 def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, standardize: str | None = None,
                   lenient: bool = False, block_bytes: int | None = None,
-                  inputs: Iterable[Any] = ()) -> StreamedScores:
+                  inputs: Iterable[Any] = (), z_bases: dict | None = None) -> StreamedScores:
     """Score the file block by block; with ``target`` (``.csv`` or ``.parquet``) append each block to it.
+    ``z_bases``: with ``standardize="z"``, per scale the sample's mean and SD from a first pass
+    (:func:`~scalewright.engine.score_z.z_bases_of_file`).
 
     Raises :class:`~scalewright.engine.blocks.CannotStream` when the file (or the option) needs the
     whole-file route; the target is then untouched. Reading errors are raised as the whole-file reader
     raises them, after the last block, and the target is untouched too.
     """
     path = Path(path)
-    if standardize == "z":
+    if standardize == "z" and z_bases is None:
         raise CannotStream("standard scores need the sample's mean and SD first")
     suffix = Path(target).suffix.lower() if target is not None else ""
     if target is not None and suffix not in STREAMED_SCORE_FILES:
@@ -161,7 +166,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
             ids = IdHashSpill()
             try:
                 for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes,
-                                                     columns=columns, way=way):
+                                                     columns=columns, way=way, z_bases=z_bases):
                     if appender is not None:
                         appender.append(table)
                     first = first or table
@@ -185,7 +190,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
             if duplicates:
                 raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
             found["outcome"] = check_reading(str(path), counts, spec, lenient=lenient)
-            found["table"] = _summary_table(first, scored, counts.rows, standardize)
+            found["table"] = _summary_table(first, scored, counts.rows, standardize, z_bases)
             return
 
     if target is None:

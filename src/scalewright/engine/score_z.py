@@ -1,0 +1,104 @@
+"""Standard scores (``score --standardize z``) of a file read in blocks: the sample's mean and SD first.
+
+Pass one reads, scores and drops each block (the whole-file route's scoring, block by block), keeping
+each scale's scores in file order in a temporary file (8 bytes a scored row; removed afterwards), and
+checks what reading found as the whole-file reader does. The mean and SD are then taken from that file
+exactly as the whole-file route takes them from its array (``numpy.mean`` and ``numpy.std(ddof=1)``:
+:class:`~scalewright.engine.ordered_sum.OrderedSum` makes numpy's pairwise sums to the bit), so pass two
+(:func:`~scalewright.engine.score_stream.stream_scores` with these bases) writes the same z scores, and
+the same text, as the whole-file route. Memory holds a few blocks whatever the number of rows.
+"""
+from __future__ import annotations
+
+import math
+import shutil
+import tempfile
+from dataclasses import replace
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from .blocks import CannotStream, batch_sources, retry_errors
+from .id_spill import IdHashSpill
+from .ordered_sum import OrderedSum
+from .reading import ReadingCounts, check_reading
+from .score_stream import _scored_blocks
+
+#: scores read back from the temporary file at a time
+CHUNK = 1 << 20
+
+
+def _spilled(handle_path: Path, n: int, fn: Any = None) -> float:
+    """numpy's sum of the n spilled scores (or of ``fn`` of them), fed in chunks in file order."""
+    total = OrderedSum(n)
+    with open(handle_path, "rb") as handle:
+        while True:
+            chunk = np.fromfile(handle, dtype=np.float64, count=CHUNK)
+            if not chunk.size:
+                break
+            total.add(chunk if fn is None else fn(chunk))
+    return total.total()
+
+
+def z_bases_of_file(path: str | Path, spec: Any, *, lenient: bool = False,
+                    block_bytes: int | None = None) -> dict[str, dict[str, Any]]:
+    """Per scale, :func:`~scalewright.scoring.z_basis` of the file's scores (unweighted), from one pass.
+
+    Raises :class:`~scalewright.engine.blocks.CannotStream` when the file needs the whole-file route, and
+    the whole-file reader's errors (a refused value without ``lenient``...) after the pass.
+    """
+    path = Path(path)
+    columns = (spec.id_column,) if spec.id_column else ()
+    ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
+    folder = Path(tempfile.mkdtemp(prefix="scalewright-z-"))
+    try:
+        for number, way in enumerate(ways, start=1):
+            files = {name: folder / f"{index}.f8" for index, name in enumerate(spec.scales)}
+            counts: ReadingCounts | None = None
+            scored = dict.fromkeys(spec.scales, 0)
+            ids = IdHashSpill()
+            handles = {name: open(file, "wb") for name, file in files.items()}  # noqa: SIM115 (closed below)
+            try:
+                for table, reading in _scored_blocks(path, spec, None, block_bytes=block_bytes, columns=columns,
+                                                     way=way):
+                    for name, one in table.scales.items():
+                        valid = one.scores[~np.isnan(one.scores)]
+                        valid.tofile(handles[name])
+                        scored[name] += valid.size
+                    for hashes in reading.id_hashes:
+                        ids.add(hashes)
+                    reading = replace(reading, id_hashes=())
+                    counts = reading if counts is None else counts.merge(reading)
+                duplicates = ids.has_duplicates()
+            except retry_errors() as error:
+                if number == len(ways):
+                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                continue
+            finally:
+                ids.close()
+                for handle in handles.values():
+                    handle.close()
+            if counts is None or counts.rows == 0:
+                raise CannotStream("no rows")
+            if duplicates:
+                raise CannotStream("an id appears twice")
+            check_reading(str(path), counts, spec, lenient=lenient)
+            return {name: _basis(files[name], scored[name]) for name in spec.scales}
+        raise CannotStream("no way to read the file in blocks")
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
+
+
+def _basis(file: Path, n: int) -> dict[str, Any]:
+    """``z_basis`` of the n scores in ``file``: mean = sum / n, sd = sqrt(sum of squared deviations / (n - 1)),
+    each sum numpy's own (as ``numpy.mean`` and ``numpy.std(ddof=1)`` take them)."""
+    if n < 2:
+        return {"weighted": False, "mean": float("nan"), "sd": float("nan")}
+    mean = _spilled(file, n) / n
+
+    def squared(chunk: np.ndarray) -> np.ndarray:
+        deviation = chunk - mean
+        return deviation * deviation
+
+    return {"weighted": False, "mean": mean, "sd": math.sqrt(_spilled(file, n, squared) / (n - 1))}
