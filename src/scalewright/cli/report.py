@@ -164,7 +164,8 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
     only DIR/index.html, with every figure inside it. With --engine stream (or auto on
     a large file) the file is read in blocks: every section computed from summaries,
-    the screen (it needs the rows) named as left out.
+    the screen (it needs the rows) named as left out; with --engine dask the same from
+    a Parquet dataset or CSV files summarised on a Dask cluster.
     """
     report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
