@@ -88,3 +88,12 @@ def test_dask_report_equals_the_in_memory_report(cluster, dataset, tmp_path):
         _same(b[section], a[section], section)
     assert b["input"]["data"] == str(folder)
     assert (tmp_path / "dask" / "scores.csv").read_bytes() == (tmp_path / "whole" / "scores.csv").read_bytes()
+
+
+def test_scheduler_without_dask_is_a_usage_error(dataset, tmp_path):
+    whole_file, _, scales = dataset
+    code, _, err = run("report", str(whole_file), "-s", str(scales), "--out", str(tmp_path / "r"),
+                       "--engine", "memory", "--workers", "2")
+    assert code == 2
+    assert "--engine dask" in err
+    assert not (tmp_path / "r").exists()

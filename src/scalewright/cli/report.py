@@ -18,7 +18,7 @@ from .common import (
     weight_option,
 )
 from .engine_route import dataset_argument
-from .report_route import report_engine_options
+from .report_route import check_dask_options, report_engine_options
 from .row_route import row_route, said_read_whole
 
 
@@ -43,6 +43,7 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
     progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
     needs_rows = ("--exclude" if exclude is not None else f"--missing {missing}" if missing != "listwise" else None)
+    check_dask_options(engine, scheduler, workers)
     if row_route(engine, data, scales, needs_rows=needs_rows) in ("stream", "dask"):
         streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
                                            seed=seed, iterations=iterations, confidence_level=confidence_level,

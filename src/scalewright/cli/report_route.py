@@ -28,6 +28,12 @@ def report_engine_options(fn: Any) -> Any:
     return fn
 
 
+def check_dask_options(engine: str, scheduler: str | None, workers: int | None) -> None:
+    """``--scheduler`` and ``--workers`` go with ``--engine dask`` only (a usage error otherwise)."""
+    if engine != "dask" and (scheduler is not None or workers is not None):
+        raise UsageError("--scheduler and --workers go with --engine dask")
+
+
 @dataclass(frozen=True)
 class ReportSummary:
     """The first pass: the merged summary, the checked reading, the provenance and, on Dask, the partitions."""
@@ -44,9 +50,8 @@ def report_summary(data: Path, scales: Path, spec: Any, plan: Any, *, engine: st
     blocks must be read whole."""
     from ..present.document import InputInfo
 
+    check_dask_options(engine, scheduler, workers)
     if engine != "dask":
-        if scheduler is not None or workers is not None:
-            raise UsageError("--scheduler and --workers go with --engine dask")
         from concurrent.futures import ThreadPoolExecutor
 
         from ..engine.stream import stream_summary
