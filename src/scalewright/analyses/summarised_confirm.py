@@ -167,7 +167,7 @@ def confirm_from_summaries(spec: Any, summary: Any, *, n_rows: int, missing: str
                 weighted_by_model[WHOLE_FILE] = given.weighted
             if not ordinal:
                 observed = observed_score_correlations(given.matrix, model.items, memberships)
-    notes = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
+    notes: tuple[Any, ...] = (note("dwls-polychoric", estimator="dwls"),) if ordinal else ()
     if weight_column is not None:
         notes += (note("confirm-weighted", weight_column=weight_column),)
     return ConfirmAnalysis(models=models, observed_correlations=observed, missing_handling=missing, n_rows=n_rows,

@@ -10,7 +10,6 @@ weighted cross-products of the complete rows and Kish's effective n, as
 """
 from __future__ import annotations
 
-from collections.abc import Mapping
 from dataclasses import replace
 from typing import TYPE_CHECKING, Any
 
@@ -42,7 +41,7 @@ def structure_plan_options(missing: str, ordinal: bool) -> dict[str, Any]:
             "joint_pair_tables": ordinal}
 
 
-def structure_from_joint(spec: ScaleSpec, joint: Mapping[str, Any], *, missing: str = "listwise",
+def structure_from_joint(spec: ScaleSpec, joint: Any, *, missing: str = "listwise",
                          ordinal: bool = False, **options: Any) -> StructureResult:
     """:func:`~scalewright.analyses.structure.analyse_structure_of_file` from the joint summaries (``joint``,
     ``joint_patterns`` and, with ``ordinal``, ``joint_pair_tables``: see
@@ -101,8 +100,7 @@ def weighted_structure_from_summaries(spec: ScaleSpec, summary: Any, *, weight_c
     items = tuple(spec.items)
     k, n_used, v1, v2, n_eff = len(items), cross.n_used, cross.sum_w, cross.sum_w2, cross.effective_n
     covariance = ItemCovariance(cov=cross.covariance(reversed_mask), means=np.full(k, np.nan),
-                                n_used=n_eff,  # type: ignore[arg-type]
-                                n_rows=patterns.n_rows, n_complete=n_used, pair_counts=np.full((k, k), n_used),
+                                n_used=n_eff, n_rows=patterns.n_rows, n_complete=n_used, pair_counts=np.full((k, k), n_used),
                                 pairwise=False)
     handling = missing_handling(patterns, "listwise", n_used=n_used, scope="file", item_names=items)
     block = {"weighted": True, "weight_column": weight_column, "n": n_used, "n_zero_weight": cross.n_zero_weight,

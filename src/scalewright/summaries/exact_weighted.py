@@ -100,6 +100,14 @@ class ExactWeightedCrossProducts:
                                           w2_exp=square[1], n_used=self.n_used + other.n_used,
                                           n_zero_weight=self.n_zero_weight + other.n_zero_weight)
 
+    @property
+    def _gram_exp(self) -> int:
+        return 0 if self.gram_exp is None else self.gram_exp  # None only when no row was used
+
+    @property
+    def _w2_exp(self) -> int:
+        return 0 if self.w2_exp is None else self.w2_exp
+
     @staticmethod
     def _ratio(numerator: int, num_exp: int, denominator: int, den_exp: int) -> float:
         """``numerator 2^num_exp / (denominator 2^den_exp)`` correctly rounded (Python's integer division)."""
@@ -110,11 +118,11 @@ class ExactWeightedCrossProducts:
 
     @property
     def sum_w(self) -> float:
-        return self._ratio(int(self.gram_int[0, 0]), self.gram_exp, 1, 0) if self.n_used else 0.0
+        return self._ratio(int(self.gram_int[0, 0]), self._gram_exp, 1, 0) if self.n_used else 0.0
 
     @property
     def sum_w2(self) -> float:
-        return self._ratio(self.sum_w2_int, self.w2_exp, 1, 0) if self.n_used else 0.0
+        return self._ratio(self.sum_w2_int, self._w2_exp, 1, 0) if self.n_used else 0.0
 
     @property
     def effective_n(self) -> float:
@@ -122,7 +130,7 @@ class ExactWeightedCrossProducts:
         if not self.n_used:
             return 0.0
         v1 = int(self.gram_int[0, 0])
-        return self._ratio(v1 * v1, 2 * self.gram_exp, self.sum_w2_int, self.w2_exp)
+        return self._ratio(v1 * v1, 2 * self._gram_exp, self.sum_w2_int, self._w2_exp)
 
     def covariance(self, reversed_mask: np.ndarray) -> np.ndarray:
         r"""The weighted covariance of the keyed items, numpy's ``cov(aweights=w, ddof=1)``:
@@ -131,11 +139,11 @@ class ExactWeightedCrossProducts:
         k = self.gram_int.shape[0] - 1
         if self.n_used < 2:
             return np.full((k, k), np.nan)
-        g, e = self.gram_int, self.gram_exp
+        g, e, e2 = self.gram_int, self._gram_exp, self._w2_exp
         v1 = int(g[0, 0])
-        # V1^2 - V2 at the exponent min(2e, w2_exp), a whole number
-        low = min(2 * e, self.w2_exp)
-        denominator = (v1 * v1 << (2 * e - low)) - (self.sum_w2_int << (self.w2_exp - low))
+        # V1^2 - V2 at the exponent min(2e, e2), a whole number
+        low = min(2 * e, e2)
+        denominator = (v1 * v1 << (2 * e - low)) - (self.sum_w2_int << (e2 - low))
         sign = np.where(np.asarray(reversed_mask, dtype=bool), -1.0, 1.0)
         cov = np.empty((k, k))
         for i in range(k):
