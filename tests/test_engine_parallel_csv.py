@@ -54,3 +54,29 @@ def test_a_lone_carriage_return_is_left_to_pyarrows_reader(survey):
     assert not can_cut(data)
     whole, streamed = both_routes("reliability", data, scales)
     assert streamed == whole
+
+
+def test_quoted_names_and_values_are_cut_and_parsed_side_by_side(survey, monkeypatch):
+    # every cell quoted, as pyarrow's own CSV writer writes a file: the quick reader must still take it
+    import scalewright.engine.parallel_csv as parallel_csv
+
+    data, scales = survey
+    lines = data.read_text(encoding="utf-8").splitlines()
+    quoted = ['"' + '","'.join(line.split(",")) + '"' for line in lines]
+    data.write_text("\n".join(quoted) + "\n", encoding="utf-8")
+    assert can_cut(data)
+    taken = []
+    original = parallel_csv.parallel_batches
+    monkeypatch.setattr(parallel_csv, "parallel_batches", lambda *a, **k: taken.append(1) or original(*a, **k))
+    whole, streamed = both_routes("reliability", data, scales, "--by", "shift")
+    assert taken
+    assert streamed == whole
+
+
+def test_a_line_break_inside_a_quoted_name_is_not_cut(survey):
+    data, scales = survey
+    text = data.read_text(encoding="utf-8")
+    data.write_text('"staff\nid"' + text[len("staff_id"):], encoding="utf-8")
+    assert not can_cut(data)
+    data.write_text('"staff ""first"" id"' + text[len("staff_id"):], encoding="utf-8")
+    assert can_cut(data)  # doubled quotes inside a quoted name: the header still ends at the first line feed

@@ -25,14 +25,16 @@ PARALLEL_BLOCK_BYTES = 4 << 20
 
 def can_cut(path: Path) -> bool:
     """Whether the file's rows can be cut at line feeds: its header ends in one (LF or CRLF, not a lone
-    CR) and holds no quotes (a quoted name may hold a line break)."""
+    CR) outside quotes. A quote opens or closes a quoted name (a doubled quote inside one does both), so
+    the first line feed ends the header exactly when the quotes before it are even in number; an odd
+    number means a quoted name holds a line break."""
     with open(path, "rb") as handle:
         head = handle.read(1 << 16)
     end = head.find(b"\n")
     if end < 0:
         return False
     header = head[:end].rstrip(b"\r")
-    return b"\r" not in header and b'"' not in header
+    return b"\r" not in header and header.count(b'"') % 2 == 0
 
 
 def _blocks_of_bytes(path: Path, block_bytes: int) -> Iterator[bytes]:
