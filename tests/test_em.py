@@ -209,6 +209,54 @@ def test_codes_and_values_give_the_same_exact_summary():
     _same(PatternSummary.from_codes(codes), PatternSummary.from_values(values))
 
 
+def _same_rows(a: PatternSummary, b: PatternSummary) -> None:
+    """The rows held (not as a matrix) are the same rows of the same patterns, in any order."""
+    def held(summary: PatternSummary) -> np.ndarray:
+        table = np.column_stack([summary.row_pattern, summary.rows])
+        return table[np.lexsort(table.T[::-1])] if table.size else table
+
+    np.testing.assert_array_equal(held(a), held(b))
+
+
+@settings(max_examples=60, deadline=None)
+@given(coded_blocks())
+def test_pattern_keys_from_codes_give_the_general_summary(block):
+    # Outside reference: the same answers as float64 with NaN through the general route (packed bits,
+    # lexsort, every statistic computed from the rows); the codes take the quick route, with and without
+    # the listwise cross-products the streaming route hands over for the complete rows.
+    from scalewright.stats.coded import listwise_gram
+
+    codes, _ = block
+    general = PatternSummary.from_values(np.where(codes == 255, np.nan, codes.astype(float)))
+    for quick in (PatternSummary.from_codes(codes),
+                  PatternSummary.from_codes(codes, complete_gram=listwise_gram(codes, span=4))):
+        _same(quick, general)
+        _same_rows(quick, general)
+        assert quick.sums.dtype == np.int64
+
+
+@pytest.mark.parametrize("k", [9, 17, 40, 64, 65])
+def test_pattern_keys_of_wide_scales_give_the_general_summary(k):
+    # Outside reference as above; widths that take 16-, 32- and 64-bit keys, and the packed words beyond 64
+    rng = np.random.default_rng(k)
+    codes = rng.integers(0, 4, size=(600, k)).astype(np.uint8)
+    codes[rng.random(codes.shape) < 0.5 / k] = 255
+    codes[:40, : k // 2] = 255  # one pattern with many rows, held as a matrix
+    general = PatternSummary.from_values(np.where(codes == 255, np.nan, codes.astype(float)))
+    quick = PatternSummary.from_codes(codes)
+    _same(quick, general)
+    _same_rows(quick, general)
+
+
+def test_a_listwise_gram_of_other_codes_is_refused():
+    from scalewright.errors import DataError
+    from scalewright.stats.coded import listwise_gram
+
+    codes = np.array([[0, 1], [2, 3], [1, 255]], dtype=np.uint8)
+    with pytest.raises(DataError, match="listwise cross-products"):
+        PatternSummary.from_codes(codes, complete_gram=listwise_gram(codes[:1], span=3))
+
+
 def test_em_from_merged_blocks_equals_em_from_the_whole():
     # Outside reference: EM of the whole matrix in one summary; merged blocks only reorder sums.
     rng = np.random.default_rng(9)

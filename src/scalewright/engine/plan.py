@@ -109,8 +109,10 @@ def summarise_codes(codes: np.ndarray, plan: SummaryPlan, weights: np.ndarray | 
             members["cross_products"] = ListwiseCrossProducts.from_codes(part, span=span)
         elif plan.cross_products == "pairwise":
             members["cross_products"] = PairwiseCrossProducts.from_codes(part, span=span)
-        if plan.patterns:
-            members["patterns"] = PatternSummary.from_codes(part)
+        if plan.patterns:  # the complete rows' statistics are the listwise cross-products, when kept
+            listwise = members.get("cross_products")
+            members["patterns"] = PatternSummary.from_codes(
+                part, complete_gram=listwise.gram if isinstance(listwise, ListwiseCrossProducts) else None)
         if plan.pair_tables:
             members["pair_tables"] = _pair_tables(part, span, listwise=plan.pair_tables == "listwise")
         if plan.scores:
@@ -184,10 +186,13 @@ def joint_members(codes: np.ndarray, *, span: int, cross_products: str = "listwi
     or pairwise cross-products), ``joint_patterns`` (per-pattern statistics: the missing-data block, Little's
     test, EM) and, with ``pair_tables``, ``joint_pair_tables`` (rows answering every item). The whole-file
     route makes them of all its rows at once, so both routes analyse the same integers."""
+    joint = (PairwiseCrossProducts if cross_products == "pairwise" else ListwiseCrossProducts).from_codes(codes,
+                                                                                                        span=span)
+    # listwise: the complete rows' statistics of the per-pattern sums are these cross-products
     members: dict[str, Any] = {
-        "joint": (PairwiseCrossProducts if cross_products == "pairwise" else ListwiseCrossProducts).from_codes(
-            codes, span=span),
-        "joint_patterns": PatternSummary.from_codes(codes)}
+        "joint": joint,
+        "joint_patterns": PatternSummary.from_codes(
+            codes, complete_gram=joint.gram if isinstance(joint, ListwiseCrossProducts) else None)}
     if pair_tables:
         members["joint_pair_tables"] = _pair_tables(codes, span, listwise=True)
     return members

@@ -21,6 +21,7 @@ import numpy as np
 
 from ..answer_codes import MISSING
 from ..errors import DataError
+from .coded import listwise_gram
 
 #: rows of a block whose float32 cross-products stay exact (every partial sum below 2**24, see stats/coded.py)
 _BLOCK_ROWS = 16384
@@ -71,6 +72,22 @@ def group_patterns(observed: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.nda
     return order, starts, inverse
 
 
+def _row_keys(answered: np.ndarray) -> np.ndarray:
+    """Each row's pattern of answered items (a bool mask, k <= 64) as one unsigned integer, the first item
+    the highest bit: sorting by it sorts as :func:`group_patterns` sorts the packed bits, without packing
+    bits across the row and comparing words."""
+    k = answered.shape[1]
+    dtype = next(t for t, bits in ((np.uint8, 8), (np.uint16, 16), (np.uint32, 32), (np.uint64, 64)) if k <= bits)
+    keys = np.zeros(answered.shape[0], dtype=dtype)
+    for j in range(k):
+        keys |= answered[:, j].view(np.uint8).astype(dtype, copy=False) << dtype(k - 1 - j)
+    return keys
+
+
+def _largest_code(codes: np.ndarray) -> int:
+    return int(np.max(codes, initial=0, where=codes != MISSING))
+
+
 @dataclass(frozen=True, eq=False)
 class PatternSummary:
     """Count, sums and cross-products of the answered part, for each pattern of answered items.
@@ -110,11 +127,72 @@ class PatternSummary:
     # ------------------------------------------------------------------------------------------ building
 
     @classmethod
-    def from_codes(cls, codes: np.ndarray) -> PatternSummary:
-        """From one-byte answer codes (n x k uint8, 255 = missing); every statistic is an exact integer."""
+    def from_codes(cls, codes: np.ndarray, *, complete_gram: np.ndarray | None = None) -> PatternSummary:
+        """From one-byte answer codes (n x k uint8, 255 = missing); every statistic is an exact integer.
+
+        ``complete_gram`` is :func:`~scalewright.stats.coded.listwise_gram` of the same codes when the caller
+        has it: its complete-row count, sums and cross-products are the complete pattern's statistics
+        (usually most of the rows), so they are not computed a second time.
+        """
         codes = np.asarray(codes)
         if codes.dtype != np.uint8 or codes.ndim != 2:
             raise DataError("answer codes must be a respondents x items matrix of uint8")
+        n, k = codes.shape
+        if k == 0 or k > 64:
+            return cls._from_codes_by_blocks(codes)
+        columns = [codes[:, j] for j in range(k)]  # contiguous in the column-major answers
+        complete = reduce(np.maximum, columns) != MISSING
+        partial = np.flatnonzero(~complete & (reduce(np.minimum, columns) != MISSING))
+        n_complete = int(np.count_nonzero(complete))
+        n_none = n - n_complete - int(partial.size)
+        limit = rows_limit(k)
+        # the patterns in their canonical order (by key): the incomplete ones, then the complete one (all bits set)
+        observed = [np.empty((0, k), dtype=bool)]
+        counts, sums = [np.empty(0, dtype=np.int64)], [np.empty((0, k), dtype=np.int64)]
+        matrices: dict[int, np.ndarray] = {}
+        rows, row_pattern = [np.empty((0, k))], [np.empty(0, dtype=np.int64)]
+        n_partial_patterns = 0
+        if partial.size:
+            part = codes[partial]
+            answered = part != MISSING
+            partial_keys = _row_keys(answered)
+            order = np.argsort(partial_keys, kind="stable")  # by pattern, rows in file order within one
+            part, answered, partial_keys = part[order], answered[order], partial_keys[order]
+            new = np.ones(partial.size, dtype=bool)
+            new[1:] = partial_keys[1:] != partial_keys[:-1]
+            starts = np.flatnonzero(new)
+            pattern_counts = np.diff(np.append(starts, partial.size))
+            n_partial_patterns = int(starts.size)
+            values = np.where(answered, part, 0).astype(np.int64)
+            for p in np.flatnonzero(pattern_counts >= limit):  # few patterns, many rows each
+                block = values[starts[p]:starts[p] + pattern_counts[p]].astype(np.float64)
+                matrices[int(p)] = np.rint(block.T @ block).astype(np.int64)  # exact: whole numbers below 2**53
+            few = np.repeat(pattern_counts < limit, pattern_counts)
+            observed.append(answered[starts])
+            counts.append(pattern_counts.astype(np.int64))
+            sums.append(np.add.reduceat(values, starts, axis=0))
+            rows.append(values[few].astype(np.float64))
+            row_pattern.append(np.repeat(np.arange(starts.size, dtype=np.int64), pattern_counts)[few])
+        if n_complete:
+            gram = complete_gram if complete_gram is not None else listwise_gram(codes, span=_largest_code(codes))
+            gram = np.asarray(gram)
+            if gram.shape != (k + 1, k + 1) or int(gram[0, 0]) != n_complete:
+                raise DataError("the listwise cross-products given are not those of these answer codes")
+            observed.append(np.ones((1, k), dtype=bool))
+            counts.append(np.array([n_complete], dtype=np.int64))
+            sums.append(np.asarray(gram[0, 1:], dtype=np.int64)[None, :])
+            if n_complete >= limit:
+                matrices[n_partial_patterns] = np.array(gram[1:, 1:], dtype=np.int64)
+            else:  # the complete rows held as rows, before the others (as the general route holds them)
+                rows.insert(1, codes[complete].astype(np.float64))
+                row_pattern.insert(1, np.full(n_complete, n_partial_patterns, dtype=np.int64))
+        return cls(k=k, observed=np.concatenate(observed), counts=np.concatenate(counts), sums=np.concatenate(sums),
+                   matrices=matrices, rows=np.concatenate(rows), row_pattern=np.concatenate(row_pattern),
+                   n_none=n_none, exact=True)
+
+    @classmethod
+    def _from_codes_by_blocks(cls, codes: np.ndarray) -> PatternSummary:
+        """:meth:`from_codes` by the general route (patterns as packed words of any length)."""
         n, k = codes.shape
         columns = [codes[:, j] for j in range(k)]  # contiguous in the column-major answers
         complete = reduce(np.maximum, columns) != MISSING if k else np.zeros(n, dtype=bool)
