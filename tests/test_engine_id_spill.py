@@ -61,3 +61,12 @@ def test_text_id_hashes_agree_with_python_strip(ids, offset):
     for i in range(len(kept)):
         for j in range(len(kept)):
             assert (hashes[i] == hashes[j]) == (kept[i] == kept[j])
+
+
+def test_the_written_out_white_space_is_pythons():
+    # Reference: Python's own str.isspace over every code point (what str.strip removes)
+    import sys
+
+    from scalewright.engine.id_hash import PY_WHITESPACE
+
+    assert PY_WHITESPACE == "".join(chr(c) for c in range(sys.maxunicode + 1) if chr(c).isspace())
