@@ -56,13 +56,15 @@ def _without_scales() -> Any:
 
 def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], Any], *, engine: str,
                    scheduler: str | None, block_size: int | None, lenient: bool, workers: int | None = None,
-                   needs_rows: str | None = None, weighted: bool = False) -> Summarised | None:
+                   needs_rows: str | None = None, weighted: bool = False,
+                   warm: tuple[str, ...] = ()) -> Summarised | None:
     """The inputs as merged summaries, or None when the command should read the file whole.
 
     ``make_plan(spec)`` gives the :class:`~scalewright.engine.plan.SummaryPlan`; ``weighted``: the command
     computes its weighted estimates from the summaries (survey weights then stream). A file the streaming
     route cannot read (see :class:`~scalewright.engine.blocks.CannotStream`) is left to the whole-file
-    route, which names any problem in it.
+    route, which names any problem in it. ``warm`` names the modules the command imports once the
+    summaries are merged: they are imported beside the blocks instead (see :func:`_warm`).
     """
     from ..engine.blocks import CannotStream
     from ..engine.choose import choose_route
@@ -120,6 +122,7 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     # beside the blocks instead of after them
     with ThreadPoolExecutor(max_workers=1) as pool:
         digests = pool.submit(InputInfo.from_paths, data, scales)
+        warmed = pool.submit(_warm, warm)  # after the digests, on the same thread
         try:
             summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size)
         except CannotStream as reason:
@@ -127,9 +130,23 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
                 click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
             return None
         info = digests.result()
+        warmed.result()  # no import is left running beside the command's own
     inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
                     notes=(*outcome.notes(), *weight_notes, *_weight_checked(str(data), summary, weight, lenient)))
     return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"}, weight=weight)
+
+
+def _warm(modules: tuple[str, ...]) -> None:
+    """Import ``modules`` (beside the blocks: the parse and much of the summarising release the interpreter
+    lock, and importing scipy.special alone takes about 0.3 s of one core that would otherwise follow the
+    merge). A module that fails to import here is left to the command's own import, which reports it."""
+    import importlib
+
+    for name in modules:
+        try:
+            importlib.import_module(name)
+        except Exception:  # reported by the command's own import of the module, not here
+            return
 
 
 def _weight_checked(path: str, summary: Any, weight: str | None, lenient: bool) -> list[str]:

@@ -24,6 +24,11 @@ from .common import (
 )
 from .engine_route import StreamedLevels, dataset_argument, engine_options, first_needing_rows, load_summaries
 
+#: what the command imports once its summaries are merged (scipy.special, through the statistics), imported
+#: beside the blocks on the streaming route (``load_summaries(warm=...)``)
+RELIABILITY_MODULES = ("scalewright.analyses.summarised", "scalewright.stats.ordinal_reliability",
+                       "scalewright.present.confirm", "scalewright.stats.cfa_fit")
+
 
 @click.command("reliability", epilog=("Examples:\n\n\b\n"
                   "  scalewright reliability survey.csv --scales survey.yaml\n"
@@ -92,7 +97,7 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     summarised = load_summaries(
         data, scales, plan,
         engine=engine, scheduler=scheduler, block_size=block_size, lenient=lenient, workers=workers,
-        needs_rows=needs_rows, weighted=True)
+        needs_rows=needs_rows, weighted=True, warm=RELIABILITY_MODULES)
     inputs = summarised.inputs if summarised else load_inputs(data, scales, lenient=lenient, exclude=exclude)
     weighted = getattr(inputs.responses, "weights", None) is not None or bool(summarised and summarised.weight)
     # as in `confirm`: a half-weighted ordinal block would pass for a weighted one, so it is refused
