@@ -9,6 +9,8 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from scalewright import data as data_module
 from scalewright.answer_codes import MISSING
@@ -161,6 +163,29 @@ def test_convert_codes_counts_blanks_codes_and_refusals():
     assert (converted.blanks, converted.missing_codes) == (2, 1)
     assert np.flatnonzero(converted.bad).tolist() == [4]
     assert converted.raw[4] == 7
+
+
+@settings(max_examples=80, deadline=None)
+@given(low=st.integers(-300, 300), span=st.sampled_from([1, 4, 6, 10, 250]),
+       values=st.lists(st.one_of(st.none(), st.integers(-(2**15), 2**15 - 1), st.integers(-310, 560)), max_size=40),
+       offset=st.integers(0, 3))
+def test_convert_codes_reads_every_16_bit_number_as_the_rules_say(low, span, values, offset):
+    # Reference: the rules written out value by value in plain Python (an answer low..high is its offset
+    # from low; a blank, a "no answer" code or any other number is missing; only the last is refused; a
+    # "no answer" code inside the range, which the scale file refuses, is read as "no answer")
+    import pyarrow as pa
+
+    fmt = ResponseFormat(min=low, max=low + span, missing_codes=(9, -99))
+    column = pa.array([0] * offset + values, pa.int16()).slice(offset)  # starts mid-buffer
+    out = np.empty(len(values), dtype=np.uint8)
+    converted = convert_codes(column, fmt, out=out)
+    answer = [v is not None and low <= v <= low + span and v not in (9, -99) for v in values]
+    code = [v is not None and not a and v in (9, -99) for v, a in zip(values, answer, strict=True)]
+    refused = [v is not None and not a and not c for v, a, c in zip(values, answer, code, strict=True)]
+    assert out.tolist() == [v - low if a else MISSING for v, a in zip(values, answer, strict=True)]
+    assert converted.blanks == sum(v is None for v in values)
+    assert converted.missing_codes == sum(code)
+    assert np.flatnonzero(converted.bad).tolist() == [i for i, r in enumerate(refused) if r]
 
 
 def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_file, spec, monkeypatch):
