@@ -151,15 +151,19 @@ class ScreenResult:
 
     def not_computable_notes(self) -> list[Note]:
         """A ``not-computable`` note for each per-respondent index that some respondents lack, with their count."""
-        indices = {"irv": (self.irv, "fewer-than-2-answers"),
-                   "mahalanobis_d2": (self.mahalanobis_d2, "mahalanobis-not-computable"),
-                   "mahalanobis_pvalue": (self.mahalanobis_p, "mahalanobis-not-computable"),
-                   "even_odd": (self.even_odd, "fewer-than-3-scales-with-both-halves-or-no-spread"),
-                   "person_total_r": (self.person_total_r, "fewer-than-3-answers-or-no-spread")}
+        indices = {"irv": self.irv, "mahalanobis_d2": self.mahalanobis_d2, "mahalanobis_pvalue": self.mahalanobis_p,
+                   "even_odd": self.even_odd, "person_total_r": self.person_total_r}
         if self.duration is not None:
-            indices["duration"] = (self.duration, "no-completion-time")
-        return [not_computable(key, reason, respondents=int(np.isnan(values).sum()))
-                for key, (values, reason) in indices.items() if np.isnan(values).any()]
+            indices["duration"] = self.duration
+        return [not_computable(key, NOT_COMPUTABLE_REASONS[key], respondents=int(np.isnan(values).sum()))
+                for key, values in indices.items() if np.isnan(values).any()]
+
+
+#: why each per-respondent index can be missing (the reason of its ``not-computable`` note)
+NOT_COMPUTABLE_REASONS = {"irv": "fewer-than-2-answers", "mahalanobis_d2": "mahalanobis-not-computable",
+                          "mahalanobis_pvalue": "mahalanobis-not-computable",
+                          "even_odd": "fewer-than-3-scales-with-both-halves-or-no-spread",
+                          "person_total_r": "fewer-than-3-answers-or-no-spread", "duration": "no-completion-time"}
 
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray,

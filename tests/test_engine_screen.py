@@ -1,0 +1,229 @@
+"""`screen` on the streaming route (three passes over a file read in blocks) against the whole-file route.
+
+The reference is the whole-file screen (``--engine memory``), whose indices are held to published
+definitions and reference libraries in tests/test_quality.py; here a file cut into dozens of 4 KiB blocks
+must give the same flags and counts exactly and the same indices to 1e-12 (the covariance comes from exact
+integer cross-products on this route, from float sums on the other: the last bits may differ). The
+median completion time is checked against numpy's ``np.median``.
+"""
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from .survey_files import AGREEMENT_1_TO_5
+from .test_engine_stream import SMALL_BLOCK, run
+
+SCALES = """\
+version: 1
+title: Staff climate survey
+id_column: staff_id
+""" + AGREEMENT_1_TO_5 + """scales:
+  workload:
+    title: Workload strain
+    items: [wl1, wl2, wl3, wl4]
+    reverse: [wl2]
+  climate:
+    title: Team climate
+    items: [cl1, cl2, cl3, cl4]
+  voice:
+    title: Voice
+    items: [vo1, vo2, vo3, vo4]
+    reverse: [vo4]
+"""
+ITEMS = [f"{s}{i}" for s in ("wl", "cl", "vo") for i in range(1, 5)]
+HEADER = ["staff_id", "minutes", "vo4", *ITEMS[:-1]]  # the questionnaire order is not the scale file's
+
+
+def _rows(n: int, seed: int = 5) -> tuple[list[list[str]], dict]:
+    """A fictional staff climate survey: three correlated scales, blanks, straight-liners, copied rows far
+    apart (in different blocks), respondents who answered little, and completion times (whole seconds)."""
+    rng = np.random.default_rng(seed)
+    factor = rng.standard_normal((n, 3)) @ np.array([[1, 0.4, 0.3], [0, 0.9, 0.3], [0, 0, 0.9]])
+    latent = 0.8 * np.repeat(factor, 4, axis=1) + 0.6 * rng.standard_normal((n, 12))
+    answers = (1 + (latent[:, :, None] > np.array([-1.2, -0.4, 0.4, 1.2])).sum(axis=2)).astype(object)
+    answers[:, 1] = 6 - answers[:, 1]
+    answers[:, 11] = 6 - answers[:, 11]
+    answers[rng.random(answers.shape) < 0.04] = ""
+    answers[rng.integers(0, n, 30)] = 3                         # the same answer throughout
+    mostly_blank = rng.integers(0, n, 12)
+    answers[mostly_blank, 2:] = ""                               # many missing
+    random_rows = rng.integers(0, n, 25)
+    answers[random_rows] = rng.integers(1, 6, (25, 12))          # careless: answers at random
+    copies = [(10, n - 20), (40, n // 2), (41, n // 2 + 300), (700, 701)]
+    for source, target in copies:
+        answers[target] = answers[source]
+    answers[(n // 3, n // 3 + 500), :] = answers[n // 3 + 1000]  # three identical rows
+    seconds = np.rint(rng.lognormal(6.0, 0.4, n)).astype(int).astype(object)
+    seconds[rng.integers(0, n, 15)] = rng.integers(20, 90, 15)   # fast
+    seconds[rng.integers(0, n, 7)] = ""                          # no time
+    usable = [i for i in range(n) if seconds[i] != "" and sum(a != "" for a in answers[i]) >= 6]
+    if len(usable) % 2:  # an even count of usable times: the median is the mean of the two middle ones
+        seconds[usable[0]] = ""
+    rows = []
+    for i in range(n):
+        cells = [str(a) for a in answers[i]]
+        rows.append([f"s{i:05d}", str(seconds[i]), cells[11], *cells[:11]])
+    return rows, {"copies": copies}
+
+
+def _write(path: Path, rows: list[list[str]], header: list[str] = HEADER) -> Path:
+    path.write_text("\n".join(",".join(r) for r in [header, *rows]) + "\n", encoding="utf-8")
+    return path
+
+
+@pytest.fixture
+def survey(tmp_path: Path) -> tuple[Path, Path]:
+    scales = tmp_path / "scales.yaml"
+    scales.write_text(SCALES, encoding="utf-8")
+    rows, _ = _rows(2400)
+    return _write(tmp_path / "survey.csv", rows), scales
+
+
+def assert_same(whole, streamed, where="") -> None:
+    """Equal, floats to 1e-12 (absolute or relative), everything else exactly."""
+    if isinstance(whole, float) or isinstance(streamed, float):
+        assert isinstance(whole, (int, float)), where
+        assert isinstance(streamed, (int, float)), where
+        assert math.isclose(whole, streamed, rel_tol=1e-12, abs_tol=1e-12), (where, whole, streamed)
+    elif isinstance(whole, dict):
+        assert isinstance(streamed, dict), where
+        assert list(whole) == list(streamed), where
+        for key in whole:
+            assert_same(whole[key], streamed[key], f"{where}.{key}")
+    elif isinstance(whole, list):
+        assert isinstance(streamed, list), where
+        assert len(whole) == len(streamed), where
+        for i, (a, b) in enumerate(zip(whole, streamed, strict=True)):
+            assert_same(a, b, f"{where}[{i}]")
+    else:
+        assert whole == streamed, (where, whole, streamed)
+
+
+def both(data: Path, scales: Path, *options: str) -> tuple[dict, dict, str, str]:
+    code_m, out_m, err_m = run("screen", str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
+                               *options)
+    code_s, out_s, err_s = run("screen", str(data), "-s", str(scales), "--format", "json", "--engine", "stream",
+                               "--block-size", SMALL_BLOCK, *options)
+    assert code_m == 0, err_m
+    assert code_s == 0, err_s
+    assert "read whole" not in err_s  # the streaming route was taken
+    streamed = json.loads(out_s)
+    assert streamed.pop("engine") == {"name": "stream"}
+    return json.loads(out_m), streamed, out_m, out_s
+
+
+def test_streamed_screen_equals_the_whole_file_screen(survey, monkeypatch):
+    from scalewright.engine import screen_stream
+
+    blocks = []
+    original = screen_stream.judge_rows
+    monkeypatch.setattr(screen_stream, "judge_rows", lambda *a, **k: (blocks.append(1), original(*a, **k))[1])
+    whole, streamed, _, _ = both(*survey, "--duration-column", "minutes")
+    assert len(blocks) > 10  # the file was really cut into many blocks
+    assert_same(whole, streamed)
+    summary = streamed["summary"]
+    assert summary["n_flagged"] > 40
+    for code in ("long-run", "far-from-sample", "fast", "duplicate-answers", "many-missing"):
+        assert summary["counts"][code] > 0, code
+    groups = streamed["duplicates"]["rows"]
+    rows, facts = _rows(2400)
+    # identical rows far apart (hundreds of rows: different 4 KiB blocks) are found, and the three-row group
+    for source, target in facts["copies"]:
+        assert [f"s{source:05d}", f"s{target:05d}"] in groups
+    assert [f"s{2400 // 3:05d}", f"s{2400 // 3 + 500:05d}", f"s{2400 // 3 + 1000:05d}"] in groups
+    # the median of the usable times (respondents who answered most items), an even count: numpy's median
+    times = np.array([float(r[1]) if r[1] else np.nan for r in rows])
+    answered = np.array([sum(c != "" for c in r[2:]) for r in rows])
+    usable = times[np.isfinite(times) & (answered >= 6)]
+    assert usable.size % 2 == 0
+    assert summary["median_duration"] == float(np.median(usable))  # reference: numpy
+
+
+def test_flag_file_and_messages_equal_the_whole_file_ones(survey):
+    data, scales = survey
+    outputs = {}
+    for engine in ("memory", "stream"):
+        target = data.with_name(f"flags-{engine}.csv")
+        code, _, err = run("screen", str(data), "-s", str(scales), "--out", str(target), "--engine", engine,
+                           "--block-size", SMALL_BLOCK, "--duration-column", "minutes")
+        assert code == 0, err
+        outputs[engine] = (list(csv.reader(io.StringIO(target.read_text(encoding="utf-8")))),
+                           err.replace(target.name, "FLAGS"))
+    (whole, err_m), (streamed, err_s) = outputs["memory"], outputs["stream"]
+    assert err_s == err_m
+    assert streamed[0] == whole[0]
+    assert len(streamed) == len(whole) == 2401
+    numbers = {"irv", "mahalanobis_d2", "mahalanobis_pvalue", "even_odd", "person_total_r", "missing_pct"}
+    for row_m, row_s in zip(whole[1:], streamed[1:], strict=True):
+        for column, a, b in zip(whole[0], row_m, row_s, strict=True):
+            if column in numbers and a and b:
+                assert math.isclose(float(a), float(b), rel_tol=1e-12, abs_tol=1e-12), (column, a, b)
+            else:
+                assert a == b, (column, a, b)
+
+
+def test_flagged_only_and_tables(survey):
+    data, scales = survey
+    whole, streamed, _, _ = both(data, scales, "--flagged-only")
+    assert_same(whole, streamed)
+    assert all(r["flagged"] for r in streamed["respondents"])
+    texts = [run("screen", str(data), "-s", str(scales), "--format", "md", "--engine", engine, "--block-size",
+                 SMALL_BLOCK) for engine in ("memory", "stream")]
+    assert texts[0][0] == texts[1][0] == 0
+    assert texts[1][1].count("\n") == texts[0][1].count("\n")
+
+
+def test_rows_sharing_a_hash_are_told_apart_by_their_answers(survey, monkeypatch):
+    from scalewright.engine import screen_stream
+
+    # every row gets one hash: each is a candidate copy, and only the rows' answers decide
+    monkeypatch.setattr(screen_stream, "answer_row_hashes", lambda codes: np.full(codes.shape[0], 7, dtype=np.uint64))
+    whole, streamed, _, _ = both(*survey)
+    assert_same(whole, streamed)
+    assert len(streamed["duplicates"]["rows"]) >= 5
+
+
+def test_durations_that_are_not_numbers_are_named_as_whole(survey):
+    data, scales = survey
+    lines = data.read_text(encoding="utf-8").splitlines()
+    cells = lines[1800].split(",")
+    cells[1] = "soon"
+    lines[1800] = ",".join(cells)
+    data.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    results = [run("screen", str(data), "-s", str(scales), "--duration-column", "minutes", "--engine", engine,
+                   "--block-size", SMALL_BLOCK) for engine in ("memory", "stream")]
+    assert [code for code, _, _ in results] == [4, 4]
+    assert results[1][2] == results[0][2]
+    assert "row 1801" in results[1][2]
+
+
+def test_weights_and_dask_are_refused_on_the_streaming_route(survey, tmp_path):
+    data, scales = survey
+    code, _, err = run("screen", str(data), "-s", str(scales), "--weight", "minutes", "--engine", "stream")
+    assert code == 2
+    assert err.startswith("error: --engine stream: survey weights")
+    assert err.count("\n") == 1
+    code, _, err = run("screen", str(data), "-s", str(scales), "--engine", "dask")
+    assert code == 2
+
+
+@pytest.mark.parametrize("n", [1, 2, 7, 1000, 4001])
+def test_spilled_median_is_numpys(n, tmp_path):
+    from scalewright.engine.value_spill import ValueSpill
+
+    rng = np.random.default_rng(n)
+    values = np.concatenate([rng.normal(300, 80, n - n // 3), rng.integers(-3, 40, n // 3).astype(float)])
+    with ValueSpill(tmp_path, buffer_values=64) as spill:  # a tiny buffer: on disk, several selection rounds
+        for part in np.array_split(values, 9):
+            spill.add(np.append(part, np.nan))  # missing values are not counted
+        assert spill.median() == float(np.median(values))  # reference: numpy
+        ordered = np.sort(values)
+        for rank in {0, n // 2, n - 1}:
+            assert spill.kth(rank) == ordered[rank]
