@@ -227,3 +227,36 @@ def test_spilled_median_is_numpys(n, tmp_path):
         ordered = np.sort(values)
         for rank in {0, n // 2, n - 1}:
             assert spill.kth(rank) == ordered[rank]
+
+
+def test_the_streamed_reports_screen_section_is_the_whole_file_reports(survey, tmp_path):
+    """The report's screen (``report._screen``, the whole-file route) against the screen a streamed report
+    takes (``cli.report._streamed_screen``): the same document, the first flagged respondents in
+    results.json, every respondent in screen.csv, and the same page section but for where the rows went."""
+    from scalewright.cli.common import load_inputs
+    from scalewright.cli.report import _streamed_screen
+    from scalewright.present.report_sections import _screen_blocks
+    from scalewright.report import ReportOptions
+    from scalewright.report import _screen as whole_file_screen
+
+    data, scales = survey
+    inputs = load_inputs(data, scales)
+    options = ReportOptions(duration_column="minutes", duration_unit="s")
+    whole = whole_file_screen(inputs.spec, inputs.responses, options)
+    streamed = _streamed_screen(data, inputs.spec, tmp_path, options, block_size=int(SMALL_BLOCK), single_file=False)
+    a = json.loads(json.dumps(whole.to_dict()))
+    b = json.loads(json.dumps(streamed.to_dict()))
+    records = a.pop("respondents")
+    assert_same(b.pop("respondents"), [r for r in records if r["flagged"]])
+    assert_same(a, b)
+    with open(tmp_path / "screen.csv", encoding="utf-8", newline="") as handle:
+        table = list(csv.DictReader(handle))
+    assert [row["id"] for row in table] == [r["id"] for r in records]
+    assert [row["flags"] for row in table] == [";".join(r["flags"]) for r in records]
+
+    def words(screen) -> str:
+        return repr(_screen_blocks(screen, 2, n_rows=screen.summary()["n"]))
+
+    page_whole, page_streamed = words(whole), words(streamed)
+    assert "screen.csv lists every respondent with every index" in page_streamed
+    assert page_streamed.split("not a verdict.")[0] == page_whole.split("not a verdict.")[0]

@@ -33,9 +33,7 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
 
     from ..engine.blocks import CannotStream
     from ..engine.screen_stream import stream_screen
-    from ..files import write_atomic_with
     from ..present.document import InputInfo
-    from ..present.quality import respondents_csv_header, respondents_csv_rows
     from ..spec import load_spec
     from .common import choose_format
     from .row_route import said_read_whole
@@ -43,35 +41,18 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
     spec = load_spec(scales)
     table_csv = out is not None and fmt is None and out.suffix.lower() == ".csv"
     chosen = None if table_csv else choose_format(fmt, out)
-    head: dict[str, Any] = {}
-
-    def begin(summary: Any) -> None:  # what explaining a flag needs, known before the first record
-        head.update(summary.to_dict())
-
-    def as_csv(handle: Any) -> Any:
-        def sink(records: Any) -> None:
-            handle.write(respondents_csv_rows({**head, "respondents": records}, flagged_only=flagged_only,
-                                              has_duration=duration_column is not None))
-        return sink
 
     def screen(sink: Any) -> Any:
         return stream_screen(data, spec, thresholds=thresholds, duration_column=duration_column,
-                             duration_unit=duration_unit, lenient=lenient, block_bytes=block_size, sink=sink,
-                             before_rows=begin)
+                             duration_unit=duration_unit, lenient=lenient, block_bytes=block_size, sink=sink)
 
     with ThreadPoolExecutor(max_workers=1) as pool, tempfile.TemporaryDirectory(prefix="scalewright-screen-") as spill:
         digests = pool.submit(InputInfo.from_paths, data, scales)
         try:
             if table_csv:
-                found: dict[str, Any] = {}
-
-                def write(temp: Path) -> None:
-                    with open(temp, "w", encoding="utf-8", newline="") as handle:
-                        handle.write(respondents_csv_header(has_duration=duration_column is not None))
-                        found["result"] = screen(as_csv(handle))
-
-                write_atomic_with(out, write, inputs=[data, scales])
-                result = found["result"]
+                result = screen_to_csv(data, spec, out, flagged_only=flagged_only, thresholds=thresholds,
+                                       duration_column=duration_column, duration_unit=duration_unit,
+                                       lenient=lenient, block_bytes=block_size)
             elif chosen == "json":
                 records = Path(spill) / "respondents.jsonl"
                 with open(records, "w", encoding="utf-8") as handle:
@@ -86,6 +67,57 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
                 flagged_only=flagged_only, duration_column=duration_column, decimals=decimals,
                 records=Path(spill) / "respondents.jsonl")
     return True
+
+
+def screen_to_csv(data: Path, spec: Any, target: Path | None, *, flagged_only: bool = False,
+                  **options: Any) -> Any:
+    """:func:`~scalewright.engine.screen_stream.stream_screen` with every record (or the flagged) appended to the
+    per-respondent table ``target`` (written under a temporary name, renamed when complete); None: no table."""
+    from ..engine.screen_stream import stream_screen
+    from ..files import write_atomic_with
+    from ..present.quality import respondents_csv_header, respondents_csv_rows
+
+    has_duration = options.get("duration_column") is not None
+    head: dict[str, Any] = {}
+    found: dict[str, Any] = {}
+
+    def write(temp: Path | None) -> None:
+        handle = None if temp is None else open(temp, "w", encoding="utf-8", newline="")  # noqa: SIM115
+        try:
+            def sink(records: Any) -> None:
+                handle.write(respondents_csv_rows({**head, "respondents": records}, flagged_only=flagged_only,
+                                                  has_duration=has_duration))
+
+            if handle is not None:
+                handle.write(respondents_csv_header(has_duration=has_duration))
+            found["result"] = stream_screen(data, spec, sink=None if handle is None else sink,
+                                            before_rows=lambda summary: head.update(summary.to_dict()), **options)
+        finally:
+            if handle is not None:
+                handle.close()
+
+    if target is None:
+        write(None)
+    else:
+        write_atomic_with(target, write, inputs=[data])
+    return found["result"]
+
+
+def streamed_screen_csv(data: Path, spec: Any, target: Path | None, *, duration_column: str | None,
+                        duration_unit: str, lenient: bool, block_size: int | None) -> Any:
+    """The report's screen of a file read in blocks: every respondent's record in ``target`` (the report's
+    ``screen.csv``; None: a single page, no table), the summary naming the file."""
+    from dataclasses import replace
+
+    from ..engine.blocks import CannotStream
+    from ..errors import DataError, Problem
+
+    try:
+        result = screen_to_csv(data, spec, target, duration_column=duration_column, duration_unit=duration_unit,
+                               lenient=lenient, block_bytes=block_size)
+    except CannotStream as reason:  # an earlier pass read it: only a file changed meanwhile gets here
+        raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
+    return replace(result.summary, records_file=None if target is None else target.name)
 
 
 def _json_lines(handle: Any, flagged_only: bool) -> Any:

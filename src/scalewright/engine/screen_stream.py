@@ -20,178 +20,30 @@ memory holds a few blocks and the summaries below, whatever the number of rows:
 from __future__ import annotations
 
 import math
-from collections import deque
 from collections.abc import Callable, Iterator
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
 import numpy as np
-import pandas as pd
 
-from ..answer_codes import MISSING, ItemAnswers
-from ..concurrency import worker_count
-from ..data_columns import ids_as_text
+from ..answer_codes import MISSING
 from ..data_file import first_row_number
 from ..errors import DataError
 from ..notes import Note, note
 from ..results import JsonRows
-from ..stats.coded import covariance_from_listwise_gram, covariance_from_pairwise_gram, listwise_gram, pairwise_gram
+from ..stats.coded import covariance_from_listwise_gram, listwise_gram, pairwise_gram
 from ..stats.screen_blocks import JudgedRows, ScreenSample, ScreenSummary, judge_rows
 from ..stats.screen_rules import FLAG_DUPLICATE_ANSWERS, FLAG_FAST, FLAG_ORDER, ScreenThresholds
-from .blocks import Block, CannotStream, batch_sources, convert_batch, retry_errors
+from .blocks import Block, CannotStream
 from .id_spill import IdHashSpill
 from .reading import ReadingCounts, ReadingOutcome, check_reading
 from .row_hash import answer_row_hashes
+from .screen_passes import Layout, Passes, block_durations, block_ids, centre_of, column_totals, median_of_counts
 from .value_spill import ValueSpill
 
 #: flagged records kept in memory for the tables (every record goes to the sink)
 HELD_RECORDS = 1000
-
-
-@dataclass(frozen=True)
-class _Layout:
-    """How a block's codes (items in scale-file order) become the screen's matrices."""
-
-    order: np.ndarray             # the items in questionnaire (file) order
-    lows: np.ndarray
-    highs: np.ndarray
-    keyed: np.ndarray             # positions of every scale's items, scale after scale
-    reversed: np.ndarray
-    spans: np.ndarray
-    keyed_lows: np.ndarray
-    scales: dict[str, slice]
-
-    @classmethod
-    def of(cls, spec: Any, file_columns: tuple[str, ...]) -> _Layout:
-        items = list(spec.items)
-        rank = {name: position for position, name in enumerate(file_columns)}
-        order = sorted(range(len(items)), key=lambda j: rank.get(items[j], len(rank)))
-        index = {name: j for j, name in enumerate(items)}
-        keyed, flipped, spans, lows, scales, at = [], [], [], [], {}, 0
-        for name, scale in spec.scales.items():
-            for item in scale.items:
-                keyed.append(index[item])
-                flipped.append(scale.is_reversed(item))
-                spans.append(int(scale.response.max - scale.response.min))
-                lows.append(int(scale.response.min))
-            scales[name] = slice(at, at + len(scale.items))
-            at += len(scale.items)
-        formats = [spec.response_for(name) for name in items]
-        return cls(order=np.array(order, dtype=np.intp), lows=np.array([f.min for f in formats]),
-                   highs=np.array([f.max for f in formats]), keyed=np.array(keyed, dtype=np.intp),
-                   reversed=np.array(flipped, dtype=bool), spans=np.array(spans, dtype=np.int64),
-                   keyed_lows=np.array(lows, dtype=np.int64), scales=scales)
-
-    def keyed_codes(self, codes: np.ndarray) -> np.ndarray:
-        """The keyed items' codes (``span - code`` for a reversed item; 255 stays missing)."""
-        out = np.asarray(codes[:, self.keyed], order="F").copy()
-        for j in np.flatnonzero(self.reversed):
-            column = out[:, j]
-            answered = column != MISSING
-            column[answered] = self.spans[j] - column[answered]
-        return out
-
-    def matrices(self, codes: np.ndarray) -> tuple[np.ndarray, dict[str, np.ndarray], np.ndarray]:
-        """(answers in questionnaire order, keyed answers per scale, keyed codes), as floats with NaN."""
-        values = ItemAnswers.from_codes(codes, self.lows, self.highs).values
-        kc = self.keyed_codes(codes)
-        keyed = np.where(kc == MISSING, np.nan, kc + self.keyed_lows.astype(float))
-        return values[:, self.order], {name: keyed[:, part] for name, part in self.scales.items()}, kc
-
-
-def _durations(block: Block, column: str | None) -> tuple[np.ndarray | None, tuple | None]:
-    """The block's completion times and its first cell that is not a number ((row, value) or None)."""
-    if column is None:
-        return None, None
-    raw = block.columns[column]
-    values = pd.to_numeric(raw, errors="coerce")
-    bad = (values.isna() & raw.notna()).to_numpy()
-    first = None
-    if bad.any():
-        at = int(np.flatnonzero(bad)[0])
-        first = (block.first_row + at, raw.iloc[at])
-    return values.to_numpy(dtype=float, na_value=np.nan), first
-
-
-def _ids(block: Block, spec: Any) -> list[str]:
-    if spec.id_column:
-        return [str(i) for i in ids_as_text(block.columns[spec.id_column].fillna(""))]
-    return np.arange(block.first_row, block.first_row + block.n).astype(str).tolist()
-
-
-def _median_of_counts(counts: np.ndarray) -> float:
-    """``np.median`` of the values 0, 1, ... taken ``counts`` times each."""
-    total = int(counts.sum())
-    below = np.cumsum(counts)
-    low = int(np.searchsorted(below, (total - 1) // 2, side="right"))
-    high = int(np.searchsorted(below, total // 2, side="right"))
-    return float(np.mean(np.array([low, high], dtype=float)))
-
-
-def _centre(gram: np.ndarray, layout: _Layout, *, n_rows: int, n_basis: int) -> Any:
-    from ..stats.mahalanobis import mahalanobis_centre
-
-    k = layout.keyed.size
-    cov = covariance_from_pairwise_gram(gram, n_rows=n_rows, n_complete=0, low=0, high=0,
-                                        reversed_mask=np.zeros(k, dtype=bool)).cov
-    totals, counts = _totals(gram, layout)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        means = np.array([t / c if c else math.nan for t, c in zip(totals.tolist(), counts.tolist(), strict=True)])
-    return mahalanobis_centre(means, cov, n_rows=n_rows, n_basis=n_basis), cov, means, counts
-
-
-def _totals(gram: np.ndarray, layout: _Layout) -> tuple[np.ndarray, np.ndarray]:
-    """Each keyed column's sum of answers (exact: count x low + sum of codes) and its number of answers."""
-    k = layout.keyed.size
-    counts = np.diag(gram[:k, :k]).astype(np.int64)
-    sums = np.diag(gram[k:, :k]).astype(np.int64)
-    totals = np.array([float(int(c) * int(low) + int(s)) for c, low, s in
-                       zip(counts.tolist(), layout.keyed_lows.tolist(), sums.tolist(), strict=True)])
-    return totals, counts
-
-
-class _Passes:
-    """The file read block by block, the same way on every pass (converted on a pool of threads)."""
-
-    def __init__(self, path: Path, spec: Any, columns: tuple[str, ...], block_bytes: int | None) -> None:
-        self.path, self.spec, self.columns = path, spec, columns
-        self.ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
-        self.way: Callable[[], Iterator[Any]] | None = None
-
-    def run(self, work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
-        """(block, work(block)) in file order; the first pass tries each way of reading in turn."""
-        ways = self.ways if self.way is None else [self.way]
-        for number, way in enumerate(ways, start=1):
-            try:
-                yield from self._blocks(way, work)
-                self.way = way
-                return
-            except retry_errors() as error:
-                if self.way is not None or number == len(ways):
-                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
-
-    def _blocks(self, way: Callable[[], Iterator[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
-        from ..concurrency import one_blas_thread
-
-        workers = worker_count()
-
-        def one(batch: Any, first: int) -> tuple[Block, Any]:
-            block = convert_batch(batch, self.spec, self.columns, first_row=first)
-            return block, work(block)
-
-        with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
-            pending: deque = deque()
-            row = first_row_number(self.path)
-            for batch in way():
-                pending.append(pool.submit(one, batch, row))
-                row += batch.num_rows
-                del batch
-                while len(pending) > workers:
-                    yield pending.popleft().result()
-            while pending:
-                yield pending.popleft().result()
 
 
 @dataclass(frozen=True)
@@ -215,25 +67,25 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     thresholds = thresholds or ScreenThresholds()
     columns = tuple(dict.fromkeys([*([spec.id_column] if spec.id_column else []),
                                    *([duration_column] if duration_column else [])]))
-    passes = _Passes(path, spec, columns, block_bytes)
+    passes = Passes(path, spec, columns, block_bytes)
     p = len(spec.items)
     run_limit = thresholds.long_run_items(p)
-    layout: _Layout | None = None
+    layout: Layout | None = None
     if path.suffix.lower() == ".parquet":  # a batch holds only the columns read: the order is the file's schema's
         import pyarrow.parquet as pq
 
-        layout = _Layout.of(spec, tuple(name.strip() for name in pq.read_schema(path).names))
+        layout = Layout.of(spec, tuple(name.strip() for name in pq.read_schema(path).names))
 
     # ------------------------------------------------------------------------------------------ pass 1
     def first_pass(block: Block) -> dict[str, Any]:
         nonlocal layout
         if layout is None:
-            layout = _Layout.of(spec, block.reading.file_columns)
+            layout = Layout.of(spec, block.reading.file_columns)
         raw, scales, kc = layout.matrices(block.codes)
         from ..stats.careless_indices import even_odd_consistency, missing_share
 
         many_missing = missing_share(raw) > thresholds.missing_share_max
-        durations, bad = _durations(block, duration_column)
+        durations, bad = block_durations(block, duration_column)
         timed = None if durations is None else np.where(many_missing, np.nan, durations)
         halves = even_odd_consistency(scales) if scales else None
         return {"gram": pairwise_gram(kc, span=int(layout.spans.max(initial=1))),
@@ -282,8 +134,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         median_duration = None if duration_column is None else times.median()
         candidates = rows.repeated()
     n = reading.rows
-    first_centre, cov, means, counts = _centre(gram, layout, n_rows=n, n_basis=n)
-    totals, _ = _totals(gram, layout)
+    first_centre, cov, means, counts = centre_of(gram, layout, n_rows=n, n_basis=n)
+    totals, _ = column_totals(gram, layout)
     sample_basics = _sample_basics(cov, means, counts, answered, n=n, typical_halves=typical_halves,
                                    scales_used=scales_used, thresholds=thresholds)
 
@@ -321,7 +173,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
             n_basis += found["n_basis"]
         if "twins" in found:
             chosen, keys, long_run, answered_items = found["twins"]
-            names = _ids(block, spec)
+            names = block_ids(block, spec)
             for position, key, run, count in zip(chosen.tolist(), keys, long_run.tolist(), answered_items.tolist(),
                                                  strict=True):
                 twins.setdefault(key, []).append((offset + position, names[position], run, int(count)))
@@ -329,7 +181,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     notes: list[str | Note] = []
     centre = first_centre if first_centre.ok else None
     if first_centre.ok:
-        second_centre = _centre(reference_gram, layout, n_rows=n, n_basis=n_basis)[0]
+        second_centre = centre_of(reference_gram, layout, n_rows=n, n_basis=n_basis)[0]
         if second_centre.ok:
             centre = second_centre
         else:
@@ -345,9 +197,9 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     # ------------------------------------------------------------------------------------------ pass 3
     def third_pass(block: Block, start: int) -> tuple[JudgedRows, dict[str, np.ndarray]]:
         raw, scales, kc = layout.matrices(block.codes)
-        durations, _ = _durations(block, duration_column)
+        durations, _ = block_durations(block, duration_column)
         rows_at = np.arange(start, start + block.n)
-        judged = judge_rows(raw, scales, ids=_ids(block, spec), sample=sample, thresholds=thresholds,
+        judged = judge_rows(raw, scales, ids=block_ids(block, spec), sample=sample, thresholds=thresholds,
                             durations=durations, in_row_group=np.isin(rows_at, in_group))
         grams = {}
         for name, part in layout.scales.items():
@@ -433,7 +285,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     return StreamedScreen(summary=summary, outcome=outcome)
 
 
-def _numbered_blocks(passes: _Passes, work: Callable[[Block, int], Any]) -> Iterator[tuple[Block, Any]]:
+def _numbered_blocks(passes: Passes, work: Callable[[Block, int], Any]) -> Iterator[tuple[Block, Any]]:
     """The blocks of a pass with each block's position (0-based row index of its first row) given to ``work``.
 
     Blocks are converted in order on the pool, so the position of a block is the rows of the blocks before
@@ -455,7 +307,7 @@ def _sample_basics(cov: np.ndarray, means: np.ndarray, counts: np.ndarray, answe
         kept = np.flatnonzero(counts >= 2)
         if kept.size >= 3:
             typical_total = attentive_r_from_moments(means[kept], cov[np.ix_(kept, kept)])
-    answered_median = int(_median_of_counts(answered)) if n and k else 0
+    answered_median = int(median_of_counts(answered)) if n and k else 0
     return weak_index_uses(typical_total=typical_total, answered_median=answered_median,
                            typical_halves=typical_halves, scales_used=scales_used, thresholds=thresholds)
 

@@ -161,6 +161,8 @@ class ScreenSummary:
     #: per index, the respondents without a value (the not-computable notes)
     missing_values: dict[str, int] = field(default_factory=dict)
     respondents: JsonRows = field(default_factory=JsonRows)
+    #: where every respondent's record was written (a report's per-respondent table), or None
+    records_file: str | None = None
 
     def flag_counts(self) -> dict[str, int | None]:
         counts: dict[str, int | None] = {code: int(self.fired_counts.get(code, 0)) for code in FLAG_ORDER}
