@@ -151,8 +151,9 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
             first = distances_from_centre(keyed, first_centre)
             with np.errstate(invalid="ignore"):
                 reference = (longstring(raw) < run_limit) & ~(first.p < thresholds.mahalanobis_p_weak)
-            out["gram"] = pairwise_gram(kc[reference], span=int(layout.spans.max(initial=1)))
-            out["n_basis"] = int(reference.sum())
+            # the rows set aside are few: their cross-products, taken from everyone's, leave the reference's
+            out["gram"] = pairwise_gram(kc[~reference], span=int(layout.spans.max(initial=1)))
+            out["n_aside"] = int((~reference).sum())
         if candidates.size:
             hashes = answer_row_hashes(block.codes)
             at = np.minimum(np.searchsorted(candidates, hashes), candidates.size - 1)
@@ -165,12 +166,12 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
                                 longstring(part) >= run_limit, p - np.isnan(part).sum(axis=1))
         return out
 
-    reference_gram, n_basis, offset = None, 0, 0
+    aside_gram, n_aside, offset = np.zeros_like(gram), 0, 0
     twins: dict[bytes, list[tuple[int, str, bool, int]]] = {}
     for block, found in passes.run(second_pass):
         if "gram" in found:
-            reference_gram = found["gram"] if reference_gram is None else reference_gram + found["gram"]
-            n_basis += found["n_basis"]
+            aside_gram += found["gram"]
+            n_aside += found["n_aside"]
         if "twins" in found:
             chosen, keys, long_run, answered_items = found["twins"]
             names = block_ids(block, spec)
@@ -181,7 +182,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     notes: list[str | Note] = []
     centre = first_centre if first_centre.ok else None
     if first_centre.ok:
-        second_centre = centre_of(reference_gram, layout, n_rows=n, n_basis=n_basis)[0]
+        second_centre = centre_of(gram - aside_gram, layout, n_rows=n, n_basis=n - n_aside)[0]
         if second_centre.ok:
             centre = second_centre
         else:
@@ -204,7 +205,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         grams = {}
         for name, part in layout.scales.items():
             span = int(layout.spans[part].max(initial=1))
-            grams[name] = (listwise_gram(kc[:, part], span=span), listwise_gram(kc[~judged.flagged][:, part], span=span))
+            # the flagged are few: their cross-products, taken from everyone's, leave the unflagged ones'
+            grams[name] = (listwise_gram(kc[:, part], span=span), listwise_gram(kc[judged.flagged][:, part], span=span))
         return judged, grams
 
     fired_counts = dict.fromkeys(FLAG_ORDER, 0)
@@ -235,12 +237,12 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         for item in judged.distance_notes:
             if item.code == "distance-no-answers":
                 no_answers += int(item.values["respondents"])
-        for name, (all_rows, kept_rows) in grams.items():
+        for name, (all_rows, flagged_rows) in grams.items():
             if name in alpha_grams:
                 alpha_grams[name][0] = alpha_grams[name][0] + all_rows
-                alpha_grams[name][1] = alpha_grams[name][1] + kept_rows
+                alpha_grams[name][1] = alpha_grams[name][1] + flagged_rows
             else:
-                alpha_grams[name] = [all_rows, kept_rows]
+                alpha_grams[name] = [all_rows, flagged_rows]
         if len(kept) < held:
             kept.extend(record for record in judged.records if record["flagged"])
             del kept[held:]
@@ -323,9 +325,9 @@ def _alpha_change(grams: dict[str, list], n: int) -> dict[str, dict[str, Any]]:
         return (cronbach_alpha_from_cov(found.cov) if found.n_used >= 2 else math.nan), found.n_used
 
     out = {}
-    for name, (all_rows, kept_rows) in grams.items():
+    for name, (all_rows, flagged_rows) in grams.items():
         alpha_all, n_all = alpha_of(all_rows)
-        alpha_kept, n_kept = alpha_of(kept_rows)
+        alpha_kept, n_kept = alpha_of(all_rows - flagged_rows)
         out[name] = {"alpha_all": alpha_all, "n_all": n_all, "alpha_without_flagged": alpha_kept,
                      "n_without_flagged": n_kept, "change": alpha_kept - alpha_all}
     return out

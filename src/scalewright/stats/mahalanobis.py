@@ -133,7 +133,7 @@ def mahalanobis_centre(means: Any, cov: Any, *, n_rows: int, n_basis: int) -> Ma
 def distances_from_centre(keyed: Any, centre: MahalanobisCentre) -> MahalanobisResult:
     """Each respondent's squared distance from a :class:`MahalanobisCentre` and its chi-square p (see
     :func:`mahalanobis_distance`); every row is its own, so blocks of rows give the rows of the whole."""
-    from scipy import linalg
+    from scipy.linalg import LinAlgError, lapack
     from scipy.stats import chi2
 
     x = as_answer_matrix(keyed, "keyed")
@@ -159,15 +159,22 @@ def distances_from_centre(keyed: Any, centre: MahalanobisCentre) -> MahalanobisR
     from ..concurrency import one_blas_thread
 
     # over missing-data patterns, every respondent of one at once; with many items and scattered blanks there
-    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine)
+    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine).
+    # LAPACK's Cholesky factor and triangular solve are called directly: the routines scipy.linalg.cholesky
+    # and solve_triangular call, without their checks of finite input (the covariance and the deviations are
+    # finite here), which cost more than the solves on small matrices
     with one_blas_thread():
         for g, pattern in enumerate(patterns):
             if not pattern.any():
                 continue
             rows = by_pattern[bounds[g]:bounds[g + 1]]
             observed = np.flatnonzero(pattern)
-            factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
-            z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
+            factor, info = lapack.dpotrf(cov[observed][:, observed], lower=1, clean=1)
+            if info != 0:
+                raise LinAlgError(f"the covariance of the answered items is not positive definite ({info})")
+            z, info = lapack.dtrtrs(factor, deviations[rows][:, observed].T, lower=1)
+            if info != 0:
+                raise LinAlgError(f"the triangular solve failed ({info})")
             d2[rows] = (z ** 2).sum(axis=0)
     df = answered.sum(axis=1)
     p = np.full(n, np.nan)
