@@ -16,7 +16,6 @@ from .engine_data import SCALES, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
 
 
-
 def _same(a, b, path=""):
     if isinstance(a, dict):
         assert a.keys() == b.keys(), path
