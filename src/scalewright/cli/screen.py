@@ -61,6 +61,8 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
     With --out FILE.csv the per-respondent table is written with the id first, so
     `--exclude FILE.csv` of any other command reads it directly (use --flagged-only
     to list only the flagged). A flag marks a record to look at, not a verdict on a person.
+    With --engine stream (or auto on a large file) the file is read three times in
+    blocks and each respondent's record is written out as it is judged.
     """
     from ..files import write_atomic
     from ..present.quality import duplicate_notes, respondents_csv, screen_notes, screen_tables
