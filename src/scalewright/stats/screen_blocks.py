@@ -94,9 +94,10 @@ def judge_rows(raw: np.ndarray, scales: Mapping[str, np.ndarray], *, ids: Sequen
     irv = intra_individual_variability(keyed)
     missing = missing_share(raw)
     many_missing = missing > thresholds.missing_share_max
+    distance_notes: tuple[Note, ...] = ()
     if sample.centre is None:
         nan = np.full(n, np.nan)
-        d2, pvalue, df, distance_notes = nan, nan.copy(), np.zeros(n, dtype=int), ()
+        d2, pvalue, df = nan, nan.copy(), np.zeros(n, dtype=int)
     else:
         distance = distances_from_centre(keyed, sample.centre)
         d2, pvalue, df, distance_notes = distance.d2, distance.p, distance.df, distance.notes
