@@ -72,7 +72,8 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             png: bool, max_levels: int | None, engine: str, block_size: int | None,
                             progress: Any, scheduler: str | None = None, workers: int | None = None) -> Any:
     """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
-    summaries, one that writes ``scores.csv`` a block at a time; None when the file must be read whole."""
+    summaries, one that writes ``scores.csv`` a block at a time, three for the screen (``screen.csv``; not on
+    Dask); None when the file must be read whole."""
     from ..analyses.report_streamed import report_plan, streamed_report
     from ..engine.blocks import CannotStream
     from ..errors import DataError, Problem
@@ -179,8 +180,9 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
     only DIR/index.html, with every figure inside it. With --engine stream (or auto on
     a large file) the file is read in blocks: every section computed from summaries,
-    the screen (it needs the rows) named as left out; with --engine dask the same from
-    a Parquet dataset or CSV files summarised on a Dask cluster.
+    the screen in three more passes (every respondent's record in DIR/screen.csv); with
+    --engine dask the same from a Parquet dataset or CSV files summarised on a Dask
+    cluster, the screen (it needs the rows) named as left out.
     """
     report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,
