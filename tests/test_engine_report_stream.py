@@ -61,7 +61,7 @@ def test_every_streamed_section_equals_the_whole_file_report(reports):
     # first flagged; screen.csv every respondent)
     screen_a, screen_b = a["screen"], b["screen"]
     flagged = [r for r in screen_a.pop("respondents") if r["flagged"]]
-    _same(screen_b.pop("respondents"), flagged[:len(flagged)], "screen.respondents")
+    _same(screen_b.pop("respondents"), flagged[:1000], "screen.respondents")
     _same(screen_b, screen_a, "screen")
 
 
