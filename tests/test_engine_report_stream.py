@@ -1,5 +1,5 @@
 """`report --engine stream`: the report of a file read in blocks equals the whole-file report section by
-section, and names the section it leaves out (the screen).
+section (the screen's section: tests/test_engine_screen.py).
 
 The reference is the whole-file report (``--engine memory``) of the same file: its statistics are held to
 outside references in the tests of each analysis; here only the route differs.
@@ -14,8 +14,6 @@ import pytest
 
 from .engine_data import SCALES, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
-
-SKIPPED = {"screen"}
 
 
 def _same(a, b, path=""):
@@ -59,19 +57,23 @@ def test_every_streamed_section_equals_the_whole_file_report(reports):
                     "reliability"):
         _same(b[section], a[section], section)
     assert (streamed / "scores.csv").read_bytes() == (whole / "scores.csv").read_bytes()
+    # the screen: every part, and the flagged respondents (results.json of the file read in blocks holds the
+    # first flagged; screen.csv every respondent)
+    screen_a, screen_b = a["screen"], b["screen"]
+    flagged = [r for r in screen_a.pop("respondents") if r["flagged"]]
+    _same(screen_b.pop("respondents"), flagged[:1000], "screen.respondents")
+    _same(screen_b, screen_a, "screen")
 
 
 @pytest.mark.slow
-def test_sections_left_out_are_named_in_json_and_pages(reports):
+def test_no_section_is_left_out(reports):
     _, streamed, _ = reports
     b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
-    assert b["screen"] is None
-    codes = {note["section"]: note["code"] for note in b["notes"] if isinstance(note, dict)}
-    assert codes == {"screen": "stream-section-needs-rows"}
+    assert b["screen"]["summary"]["n"] == 1200
+    assert not [note for note in b["notes"] if isinstance(note, dict) and "section" in note]
     page = (streamed / "index.html").read_text(encoding="utf-8")
-    assert page.count("Not in this report") == len(SKIPPED)
-    assert "screen is not in this report" in page
-    assert "there are no respondents" not in page
+    assert "Not in this report" not in page
+    assert "screen.csv lists every respondent" in page
     assert "not a diagnosis" in page  # the cautions of every report
 
 

@@ -10,7 +10,8 @@ process; peak memory is its maximum resident set size (``os.wait4`` rusage), tim
     python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8] [--commands compare confirm]
 
 ``memory``: `reliability`, `shape`, `tally --items` and `score --standardize pomp` (writing the scored
-CSV) with ``--engine stream`` on each size (goal: peak
+CSV), and with ``--commands screen`` `screen --flagged-only` (writing the flagged respondents' CSV, three
+passes over the file), with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
@@ -84,7 +85,7 @@ def measure(label: str, arguments: list[str], results: list[dict], **fields) -> 
 
 
 COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "score": ["--standardize", "pomp"],
-            "report": ["-q", "--iterations", "20"]}
+            "report": ["-q", "--iterations", "20"], "screen": ["--flagged-only"]}
 #: measured unless --commands names others (the report, with its figures, takes longest)
 DEFAULT_COMMANDS = ["reliability", "shape", "tally", "score"]
 #: the commands the dask measurement can also run (with the options they need on this survey)
@@ -95,6 +96,8 @@ def output_of(name: str, folder: Path, rows: int, route: str = "stream") -> list
     """``score`` writes the scored file (a block at a time on the streaming route); the others their JSON."""
     if name == "score":
         return ["--out", str(folder / f"scores_{rows}_{route}.csv"), "--force"]
+    if name == "screen":  # the flagged respondents' table, written a block at a time on the streaming route
+        return ["--out", str(folder / f"screen_{rows}_{route}.csv")]
     if name == "report":
         return ["--out", str(folder / f"report_{rows}_{route}"), "--force"]
     return ["--format", "json", "--out", str(folder / f"{name}_{rows}{'' if route == 'stream' else '_' + route}.json")]
@@ -152,7 +155,7 @@ def main() -> int:
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--parts", type=int, default=8)
     parser.add_argument("--commands", nargs="+", default=None, choices=sorted({*COMMANDS, *DASK_COMMANDS}),
-                        help="memory: of reliability, shape, tally, score, report (default all but the report); "
+                        help="memory: of reliability, shape, tally, score, report, screen (default the first four); "
                              "dask: any of reliability, shape, tally, compare, confirm (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()

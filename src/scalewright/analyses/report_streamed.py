@@ -8,11 +8,9 @@ counts), subgroup tallies, the structure, the subgroup comparisons (from each le
 and the confirmatory models (from the merged cross-products; with subgroup columns each scale's invariance
 from each level's cross-products) are computed by the same functions as the streamed ``reliability``,
 ``shape``, ``tally``, ``structure``, ``compare`` and ``confirm`` commands. The one section that needs the
-rows is left out, with the note code ``stream-section-needs-rows`` in ``notes`` and a sentence among the
-reading notes:
-
-- ``screen`` (careless responding): a judgement of every row, with a second pass over the file for the
-  Mahalanobis distances; not yet streamed.
+rows, the careless-responding screen, comes from three more passes over the file
+(:mod:`scalewright.engine.screen_stream`, given as ``screen``); when it is not given it is left out, with
+the note code ``stream-section-needs-rows`` in ``notes`` and a sentence among the reading notes.
 
 The scored file (``scores.csv``) is written block by block (:mod:`scalewright.engine.score_stream`).
 """
@@ -61,9 +59,10 @@ def skipped_notes() -> tuple[Note, ...]:
 
 def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options: Any, score_table: Any,
                     input_notes: tuple[str, ...] = (), progress: Callable[[str], None] | None = None,
-                    today: _dt.date | None = None) -> Any:
+                    today: _dt.date | None = None, screen: Any = None) -> Any:
     """The report's results from merged summaries (``outcome``: the checked reading of the file;
-    ``score_table``: the counts of the scored file already written)."""
+    ``score_table``: the counts of the scored file already written; ``screen``: the screen of the file
+    read in blocks, :class:`~scalewright.stats.screen_blocks.ScreenSummary`, or None to leave it out)."""
     from ..present.messages import describe
     from ..report import STEPS, ReportResults, ScaleFindings
     from .summarised import reliability_from_summaries, shape_from_summaries, structure_from_summaries, tally_of_column
@@ -92,7 +91,7 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
                                     comparisons=tuple(by_column[column][i] for column in options.by),
                                     answers=answers[name])
                 for i, (name, scale) in enumerate(spec.scales.items())}
-    skipped = skipped_notes()
+    skipped = skipped_notes() if screen is None else ()
     notes: list[Any] = list(skipped)
     if structure is None:
         notes.append("the structure needs at least two items; it was not analysed")
@@ -100,7 +99,7 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
     return ReportResults(spec=spec, info=info, options=options, n_rows=outcome.n, n_excluded=0,
                          reading=outcome.reading_summary(),
                          input_notes=(*input_notes, missing_texts, *(describe(n) for n in skipped)),
-                         score_table=score_table, scales=findings, structure=structure, screen=None,
+                         score_table=score_table, scales=findings, structure=structure, screen=screen,
                          group_tallies=group_tallies, created=(today or _dt.date.today()).isoformat(),
                          notes=tuple(notes), confirm=confirm)
 

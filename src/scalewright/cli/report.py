@@ -72,7 +72,8 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             png: bool, max_levels: int | None, engine: str, block_size: int | None,
                             progress: Any, scheduler: str | None = None, workers: int | None = None) -> Any:
     """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
-    summaries, one that writes ``scores.csv`` a block at a time; None when the file must be read whole."""
+    summaries, one that writes ``scores.csv`` a block at a time, three for the screen (``screen.csv``; not on
+    Dask); None when the file must be read whole."""
     from ..analyses.report_streamed import report_plan, streamed_report
     from ..engine.blocks import CannotStream
     from ..errors import DataError, Problem
@@ -107,8 +108,11 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                                     lenient=lenient, block_size=block_size, inputs=[data, scales])
     except CannotStream as reason:  # the first pass read it: only a file changed meanwhile gets here
         raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
+    # the screen judges every row: three more passes over a file read in blocks; on Dask it is left out
+    screen = (None if engine == "dask" else
+              _streamed_screen(data, spec, folder, options, block_size=block_size, single_file=single_file))
     results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=score_table,
-                              input_notes=tuple(outcome.notes()), progress=progress.step)
+                              input_notes=tuple(outcome.notes()), progress=progress.step, screen=screen)
     if single_file:
         write_single_page(results, folder, decimals=decimals, inputs=[data, scales], progress=progress.step)
     else:
@@ -116,6 +120,17 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             png=png, scores_written=True)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
+
+
+def _streamed_screen(data: Path, spec: Any, folder: Path, options: Any, *, block_size: int | None,
+                     single_file: bool) -> Any:
+    """The screen of the file read in blocks (:mod:`scalewright.engine.screen_stream`); every respondent's
+    record is written to ``screen.csv`` in the folder as it is judged (results.json holds the first flagged)."""
+    from ..cli.screen_streamed import streamed_screen_csv
+
+    return streamed_screen_csv(data, spec, None if single_file else folder / "screen.csv",
+                               duration_column=options.duration_column, duration_unit=options.duration_unit,
+                               lenient=options.lenient, block_size=block_size)
 
 
 @click.command("report", epilog=("Examples:\n\n\b\n"
@@ -165,8 +180,9 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     DIR/figures/ (SVG; PNG too with --png) and DIR/scores.csv. With --single-file,
     only DIR/index.html, with every figure inside it. With --engine stream (or auto on
     a large file) the file is read in blocks: every section computed from summaries,
-    the screen (it needs the rows) named as left out; with --engine dask the same from
-    a Parquet dataset or CSV files summarised on a Dask cluster.
+    the screen in three more passes (every respondent's record in DIR/screen.csv); with
+    --engine dask the same from a Parquet dataset or CSV files summarised on a Dask
+    cluster, the screen (it needs the rows) named as left out.
     """
     report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,

@@ -1,4 +1,5 @@
-"""The engine options of the commands that write one row per respondent (``score``), and their route."""
+"""The engine options of the commands that write one row per respondent (``score``, ``screen``), and their
+route."""
 from __future__ import annotations
 
 from collections.abc import Callable
@@ -13,8 +14,9 @@ def row_engine_options(fn: Callable) -> Callable:
     fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
                       help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
     fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream"]), default="auto", show_default=True,
-                      help="memory: read the file whole; stream: read, score and write it a block at a time, with "
-                           "memory that does not grow with the rows; auto: stream files of 64 MiB or more.")(fn)
+                      help="memory: read the file whole; stream: read it a block at a time and write its rows as "
+                           "they come, with memory that does not grow with the rows; auto: stream files of 64 MiB "
+                           "or more.")(fn)
     return fn
 
 

@@ -17,6 +17,7 @@ from .common import (
     scales_option,
     weight_option,
 )
+from .row_route import row_engine_options, row_route
 
 
 @click.command("screen", epilog=("Examples:\n\n\b\n"
@@ -48,16 +49,20 @@ from .common import (
               help="Flag identical answer rows only when at least this many items are answered.")
 @weight_option
 @input_options
+@row_engine_options
 @output_options
 def screen(data: Path, scales: Path, duration_column: str | None, duration_unit: str, speed_share: float, flagged_only: bool,
            long_run_share: float, mahalanobis_p: float, mahalanobis_p_weak: float, even_odd_min: float,
            person_total_min: float, missing_share_max: float, duplicate_min_items: int, lenient: bool,
-           exclude: Path | None, fmt: str | None, out: Path | None, decimals: int) -> None:
+           exclude: Path | None, engine: str, block_size: int | None, fmt: str | None, out: Path | None,
+           decimals: int) -> None:
     """Flag respondents whose answers look careless or whose records look suspicious.
 
     With --out FILE.csv the per-respondent table is written with the id first, so
     `--exclude FILE.csv` of any other command reads it directly (use --flagged-only
     to list only the flagged). A flag marks a record to look at, not a verdict on a person.
+    With --engine stream (or auto on a large file) the file is read three times in
+    blocks and each respondent's record is written out as it is judged.
     """
     from ..files import write_atomic
     from ..present.quality import duplicate_notes, respondents_csv, screen_notes, screen_tables
@@ -71,6 +76,13 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
         long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
+    if row_route(engine, data, scales, needs_rows="--exclude" if exclude is not None else None) == "stream":
+        from .screen_streamed import streamed_screen
+
+        if streamed_screen(data, scales, engine=engine, block_size=block_size, lenient=lenient, thresholds=thresholds,
+                           duration_column=duration_column, duration_unit=duration_unit, flagged_only=flagged_only,
+                           fmt=fmt, out=out, decimals=decimals):
+            return
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
     result = analyse_screen(inputs.spec, inputs.responses, duration_column=duration_column, thresholds=thresholds,
                             duration_unit=duration_unit)

@@ -87,6 +87,22 @@ class IdHashSpill:
         return any(_repeats(np.fromfile(path, dtype=np.uint64)) for path in sorted(self._spill.iterdir()))
 
 
+    def repeated(self) -> np.ndarray:
+        """The hashes added more than once (sorted, each once): the candidates a second look confirms."""
+        if self._spill is None:
+            parts = [_repeated(np.concatenate(self._pending))] if self._pending else []
+        else:
+            if self._pending:
+                self._write()
+            parts = [_repeated(np.fromfile(path, dtype=np.uint64)) for path in sorted(self._spill.iterdir())]
+        return np.concatenate(parts) if parts else np.zeros(0, dtype=np.uint64)
+
+
+def _repeated(hashes: np.ndarray) -> np.ndarray:
+    hashes.sort()
+    return np.unique(hashes[1:][hashes[1:] == hashes[:-1]])
+
+
 def _repeats(hashes: np.ndarray) -> bool:
     hashes.sort()
     return bool(np.any(hashes[1:] == hashes[:-1]))

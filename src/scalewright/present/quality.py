@@ -148,11 +148,27 @@ def respondent_rows(document: dict[str, Any], *, flagged_only: bool = False) -> 
 
 def respondents_csv(document: dict[str, Any], *, flagged_only: bool = False) -> str:
     """The per-respondent table as CSV with the id first, as ``--exclude`` reads it. Values are not rounded."""
+    has_duration = any("duration" in r for r in document["respondents"])
+    return (respondents_csv_header(has_duration=has_duration)
+            + respondents_csv_rows(document, flagged_only=flagged_only, has_duration=has_duration))
+
+
+def respondents_csv_header(*, has_duration: bool) -> str:
+    """The header line of :func:`respondents_csv`."""
+    buffer = io.StringIO()
+    csv.writer(buffer, lineterminator="\n").writerow(_respondent_columns(has_duration))
+    return buffer.getvalue()
+
+
+def _respondent_columns(has_duration: bool) -> list[str]:
+    return [c for c in RESPONDENT_COLUMNS if c != "duration" or has_duration]
+
+
+def respondents_csv_rows(document: dict[str, Any], *, flagged_only: bool = False, has_duration: bool) -> str:
+    """The rows of :func:`respondents_csv` of ``document["respondents"]`` (which may be one block of them)."""
     buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    has_duration = any("duration" in r for r in document["respondents"])
-    columns = [c for c in RESPONDENT_COLUMNS if c != "duration" or has_duration]
-    writer.writerow(columns)
+    columns = _respondent_columns(has_duration)
     for row in respondent_rows(document, flagged_only=flagged_only):
         values = []
         for column in columns:
@@ -188,8 +204,10 @@ def screen_tables(document: dict[str, Any], *, flagged_only: bool = True, max_ro
 
     rows = respondent_rows(document, flagged_only=flagged_only)
     notes: list[str] = []
-    if max_rows is not None and len(rows) > max_rows:
-        notes.append(f"showing {max_rows} of {len(rows)} respondents; --out FILE.csv writes them all")
+    # a screen of a file read in blocks holds only the first flagged records: the count comes from the summary
+    total = summary["n_flagged"] if flagged_only else len(rows)
+    if max_rows is not None and total > max_rows:
+        notes.append(f"showing {max_rows} of {total} respondents; --out FILE.csv writes them all")
         rows = rows[:max_rows]
     tables.append(Table(
         title="Flagged respondents" if flagged_only else "Respondents",

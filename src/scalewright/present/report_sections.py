@@ -61,8 +61,10 @@ def _screen_blocks(screen: Any, decimals: int, *, n_rows: int = 0) -> list[Any]:
     blocks: list[Any] = [Paragraph(
         f"The careless-responding screen flagged {summary['n_flagged']} of {summary['n']} respondents "
         f"({format_value(share, 'pct')}%). Flagged respondents are kept in every "
-        "analysis of this report: a flag marks a record to look at, not a verdict. results.json lists every "
-        "respondent with every index.")]
+        "analysis of this report: a flag marks a record to look at, not a verdict. "
+        + (f"{screen.records_file} lists every respondent with every index (results.json the first "
+           f"{len(document['respondents'])} flagged)." if getattr(screen, "records_file", None)
+           else "results.json lists every respondent with every index."))]
     tables = tuple(TableBlock(t) for t in screen_tables(document, flagged_only=True, max_rows=MAX_RESPONDENT_ROWS))
     if tables:
         blocks.append(Details("The screen's indices and the flagged respondents", tables))

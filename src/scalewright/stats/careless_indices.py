@@ -251,8 +251,16 @@ def attentive_person_total_r(keyed: Any) -> float:
     if k < 3:
         return math.nan
     means = np.nansum(x, axis=0) / (~np.isnan(x)).sum(axis=0)
-    cov = item_covariance(x, pairwise=True).cov
-    if not np.isfinite(cov).all():
+    return attentive_r_from_moments(means, item_covariance(x, pairwise=True).cov)
+
+
+def attentive_r_from_moments(means: Any, cov: Any) -> float:
+    """:func:`attentive_person_total_r` from the item means and the pairwise covariance of the items answered
+    at least twice (sufficient statistics, so merged summaries of a file's blocks serve as well as the rows)."""
+    means = np.asarray(means, dtype=float)
+    cov = np.asarray(cov, dtype=float)
+    k = means.size
+    if k < 3 or not np.isfinite(cov).all():
         return math.nan
     unique = float(np.trace(cov)) / k - float(cov[~np.eye(k, dtype=bool)].mean())
     spread = float(np.var(means))
@@ -261,7 +269,7 @@ def attentive_person_total_r(keyed: Any) -> float:
     return math.sqrt(spread / (spread + max(unique, 0.0)))
 
 
-def person_total_correlation(keyed: Any) -> np.ndarray:
+def person_total_correlation(keyed: Any, *, totals: Any = None, counts: Any = None) -> np.ndarray:
     r"""Person-total correlation: how a respondent's answer profile follows the rest of the sample's.
 
     .. math:: r_i = \operatorname{corr}_j\left(x_{ij},\ \bar x_{(-i)j}\right), \qquad
@@ -274,6 +282,9 @@ def person_total_correlation(keyed: Any) -> np.ndarray:
     ----------
     keyed : array_like, shape (n, k)
         Keyed item answers (reverse items reversed); NaN = missing.
+    totals, counts : array_like, shape (k,), optional
+        Each item's sum of answers and number of answers in the whole sample, when ``keyed`` holds only some
+        of its rows (a block of a file read in blocks); default: those of ``keyed``.
 
     Returns
     -------
@@ -294,19 +305,20 @@ def person_total_correlation(keyed: Any) -> np.ndarray:
     x = as_answer_matrix(keyed, "keyed")
     answered = ~np.isnan(x)
     filled = np.where(answered, x, 0.0)
-    totals = filled.sum(axis=0)
-    counts = answered.sum(axis=0)
+    totals = filled.sum(axis=0) if totals is None else np.asarray(totals, dtype=float)
+    counts = answered.sum(axis=0) if counts is None else np.asarray(counts)
     others = np.full(x.shape, np.nan)
     denominator = np.broadcast_to(counts - 1, x.shape)
     np.divide(totals - filled, denominator, out=others, where=answered & (denominator > 0))
     return _rowwise_pearson(np.where(answered, x, np.nan), others, min_pairs=3)
 
 
-def speeders(durations: Any, *, speed_share: float = 1 / 3) -> tuple[np.ndarray, float]:
+def speeders(durations: Any, *, speed_share: float = 1 / 3, median: float | None = None) -> tuple[np.ndarray, float]:
     """Respondents faster than ``speed_share`` of the median completion time.
 
-    Returns the boolean flags (False where the duration is missing) and the median used. A threshold at a
-    share of the median is common practice, no source; 1/3 is a frequent choice.
+    Returns the boolean flags (False where the duration is missing) and the median used (``median`` when
+    given: the whole sample's, when ``durations`` are a block of its rows). A threshold at a share of the
+    median is common practice, no source; 1/3 is a frequent choice.
     """
     if not 0 < speed_share < 1:
         raise DataError(f"speed share must lie between 0 and 1, got {speed_share}")
@@ -314,9 +326,12 @@ def speeders(durations: Any, *, speed_share: float = 1 / 3) -> tuple[np.ndarray,
     valid = np.isfinite(times)
     if (times[valid] < 0).any():
         raise DataError("durations: negative completion time found; times must be zero or positive")
-    if not valid.any():
+    if median is None:
+        if not valid.any():
+            return np.zeros(times.shape, dtype=bool), math.nan
+        median = float(np.median(times[valid]))
+    if math.isnan(median):
         return np.zeros(times.shape, dtype=bool), math.nan
-    median = float(np.median(times[valid]))
     return valid & (times < speed_share * median), median
 
 

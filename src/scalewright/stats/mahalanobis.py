@@ -65,48 +65,88 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None, weights: Any = No
     .. [2] Meade, A. W., & Craig, S. B. (2012). Identifying careless responses in survey data. Psychological
        Methods, 17, 437-455.
     """
-    from scipy import linalg
-    from scipy.stats import chi2
-
     x = as_answer_matrix(keyed, "keyed")
     n, k = x.shape
-    nan = np.full(n, np.nan)
-    if n < 3 or k == 0:
-        return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), (),
-                                 (note("distance-too-few", respondents=n, items=k),))
-    notes: list[Note] = []
     basis = np.ones(n, dtype=bool) if reference is None else np.asarray(reference, dtype=bool).reshape(-1)
     if basis.shape != (n,):
         raise DataError(f"reference: expected {n} true/false values, got {basis.size}")
+    if n < 3 or k == 0:
+        return distances_from_centre(x, mahalanobis_centre(np.full(k, np.nan), np.full((k, k), np.nan), n_rows=n,
+                                                           n_basis=int(basis.sum())))
     if weights is None:
         cov = item_covariance(x[basis], pairwise=True).cov
+        answered = ~np.isnan(x[basis])
+        with np.errstate(invalid="ignore", divide="ignore"):
+            means = np.where(answered, x[basis], 0.0).sum(axis=0) / answered.sum(axis=0)
     else:
         from .weighted import weighted_pairwise_moments
 
         basis = basis & (np.asarray(weights, dtype=float).reshape(-1) > 0)
-        weighted_means, cov = weighted_pairwise_moments(x[basis], np.asarray(weights, dtype=float)[basis])
+        means, cov = weighted_pairwise_moments(x[basis], np.asarray(weights, dtype=float)[basis])
+    return distances_from_centre(x, mahalanobis_centre(means, cov, n_rows=n, n_basis=int(basis.sum())))
+
+
+@dataclass(frozen=True)
+class MahalanobisCentre:
+    """What the distances are measured from: the means and covariance of the usable items (those with
+    spread), with the notes of the checks; ``ok`` is False when no distance can be computed."""
+
+    means: np.ndarray
+    cov: np.ndarray
+    usable: tuple[int, ...]
+    ok: bool
+    notes: tuple[Note, ...] = ()
+
+
+def mahalanobis_centre(means: Any, cov: Any, *, n_rows: int, n_basis: int) -> MahalanobisCentre:
+    """The checked centre of :func:`mahalanobis_distance` from item means and a covariance matrix (a pure
+    function of these sufficient statistics, so they may come from merged summaries of a file's blocks).
+
+    ``n_rows`` is the number of respondents, ``n_basis`` how many the means and covariance rest on.
+    Items without spread are set aside; too few respondents, or a singular covariance, leave the centre
+    unusable (``ok`` False) with a note saying why.
+    """
+    means = np.asarray(means, dtype=float).reshape(-1)
+    cov = np.asarray(cov, dtype=float)
+    k = means.size
+    if n_rows < 3 or k == 0:
+        return MahalanobisCentre(means, cov, (), False, (note("distance-too-few", respondents=n_rows, items=k),))
+    notes: list[Note] = []
     variances = np.diag(cov)
     usable = np.flatnonzero(np.isfinite(variances) & (variances > 1e-12))
+    used = tuple(int(u) for u in usable)
     if len(usable) < k:
         notes.append(note("distance-items-without-spread", items=k - len(usable)))
     if len(usable) == 0:
-        return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), (), tuple(notes))
-    x = x[:, usable]
-    cov = cov[np.ix_(usable, usable)]
-    if basis.sum() <= len(usable) or not np.isfinite(cov).all():
-        notes.append(note("distance-too-few-respondents", respondents=int(basis.sum()), items=len(usable)))
-        return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), tuple(int(u) for u in usable), tuple(notes))
-    eigenvalues = np.linalg.eigvalsh(cov)
+        return MahalanobisCentre(means, cov, (), False, tuple(notes))
+    sub = cov[np.ix_(usable, usable)]
+    if n_basis <= len(usable) or not np.isfinite(sub).all():
+        notes.append(note("distance-too-few-respondents", respondents=int(n_basis), items=len(usable)))
+        return MahalanobisCentre(means[usable], sub, used, False, tuple(notes))
+    eigenvalues = np.linalg.eigvalsh(sub)
     if eigenvalues[0] <= 1e-10 * max(eigenvalues[-1], 1e-300):
         notes.append(note("distance-singular"))
-        return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), tuple(int(u) for u in usable), tuple(notes))
+        return MahalanobisCentre(means[usable], sub, used, False, tuple(notes))
+    return MahalanobisCentre(means[usable], sub, used, True, tuple(notes))
 
+
+def distances_from_centre(keyed: Any, centre: MahalanobisCentre) -> MahalanobisResult:
+    """Each respondent's squared distance from a :class:`MahalanobisCentre` and its chi-square p (see
+    :func:`mahalanobis_distance`); every row is its own, so blocks of rows give the rows of the whole."""
+    from scipy.linalg import LinAlgError, lapack
+    from scipy.stats import chi2
+
+    x = as_answer_matrix(keyed, "keyed")
+    n = x.shape[0]
+    if not centre.ok:
+        nan = np.full(n, np.nan)
+        return MahalanobisResult(nan, nan.copy(), np.zeros(n, dtype=int), centre.usable, centre.notes)
+    notes = list(centre.notes)
+    usable = np.asarray(centre.usable, dtype=np.intp)
+    x = x[:, usable]
+    cov = centre.cov
     answered = ~np.isnan(x)
-    if weights is None:
-        column_means = np.where(answered[basis], x[basis], 0.0).sum(axis=0) / answered[basis].sum(axis=0)
-    else:
-        column_means = weighted_means[usable]
-    deviations = np.where(answered, x - column_means, 0.0)
+    deviations = np.where(answered, x - centre.means, 0.0)
     d2 = np.full(n, np.nan)
     # the missing-data patterns, each row's pattern packed into bytes (one key per row: far quicker to sort
     # than the rows of a boolean matrix), and the rows of each pattern as one slice of a stable sort
@@ -119,15 +159,22 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None, weights: Any = No
     from ..concurrency import one_blas_thread
 
     # over missing-data patterns, every respondent of one at once; with many items and scattered blanks there
-    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine)
+    # are hundreds of small solves, which a multi-threaded BLAS slows down (milliseconds each on a busy machine).
+    # LAPACK's Cholesky factor and triangular solve are called directly: the routines scipy.linalg.cholesky
+    # and solve_triangular call, without their checks of finite input (the covariance and the deviations are
+    # finite here), which cost more than the solves on small matrices
     with one_blas_thread():
         for g, pattern in enumerate(patterns):
             if not pattern.any():
                 continue
             rows = by_pattern[bounds[g]:bounds[g + 1]]
             observed = np.flatnonzero(pattern)
-            factor = linalg.cholesky(cov[np.ix_(observed, observed)], lower=True)
-            z = linalg.solve_triangular(factor, deviations[np.ix_(rows, observed)].T, lower=True)
+            factor, info = lapack.dpotrf(cov[observed][:, observed], lower=1, clean=1)
+            if info != 0:
+                raise LinAlgError(f"the covariance of the answered items is not positive definite ({info})")
+            z, info = lapack.dtrtrs(factor, deviations[rows][:, observed].T, lower=1)
+            if info != 0:
+                raise LinAlgError(f"the triangular solve failed ({info})")
             d2[rows] = (z ** 2).sum(axis=0)
     df = answered.sum(axis=1)
     p = np.full(n, np.nan)
@@ -135,4 +182,4 @@ def mahalanobis_distance(keyed: Any, *, reference: Any = None, weights: Any = No
     p[has] = chi2.sf(d2[has], df[has])
     if (~has).any():
         notes.append(note("distance-no-answers", respondents=int((~has).sum())))
-    return MahalanobisResult(d2, p, df, tuple(int(u) for u in usable), tuple(notes))
+    return MahalanobisResult(d2, p, df, centre.usable, tuple(notes))

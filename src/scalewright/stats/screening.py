@@ -127,17 +127,9 @@ class ScreenResult:
 
     def respondent_records(self) -> JsonRows:
         """One JSON-ready record per respondent (NaN as None), built column by column."""
-        columns = {
-            "id": list(self.ids), "flagged": self.flagged.tolist(), "flags": [list(f) for f in self.flags],
-            "longstring": _plain(self.longstring), "irv": _plain(self.irv),
-            "mahalanobis_d2": _plain(self.mahalanobis_d2), "mahalanobis_pvalue": _plain(self.mahalanobis_p),
-            "mahalanobis_df": _plain(self.mahalanobis_df), "even_odd": _plain(self.even_odd),
-            "person_total_r": _plain(self.person_total_r), "missing_pct": _plain(100 * self.missing),
-        }
-        if self.duration is not None:
-            columns["duration"] = _plain(self.duration)
-        names = list(columns)
-        return JsonRows(dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True))
+        return respondent_records(self.ids, self.flagged, self.flags, self.longstring, self.irv,
+                                  self.mahalanobis_d2, self.mahalanobis_p, self.mahalanobis_df, self.even_odd,
+                                  self.person_total_r, self.missing, self.duration)
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON contract, built once (the report reads it for its page and again for results.json); treat
@@ -159,15 +151,19 @@ class ScreenResult:
 
     def not_computable_notes(self) -> list[Note]:
         """A ``not-computable`` note for each per-respondent index that some respondents lack, with their count."""
-        indices = {"irv": (self.irv, "fewer-than-2-answers"),
-                   "mahalanobis_d2": (self.mahalanobis_d2, "mahalanobis-not-computable"),
-                   "mahalanobis_pvalue": (self.mahalanobis_p, "mahalanobis-not-computable"),
-                   "even_odd": (self.even_odd, "fewer-than-3-scales-with-both-halves-or-no-spread"),
-                   "person_total_r": (self.person_total_r, "fewer-than-3-answers-or-no-spread")}
+        indices = {"irv": self.irv, "mahalanobis_d2": self.mahalanobis_d2, "mahalanobis_pvalue": self.mahalanobis_p,
+                   "even_odd": self.even_odd, "person_total_r": self.person_total_r}
         if self.duration is not None:
-            indices["duration"] = (self.duration, "no-completion-time")
-        return [not_computable(key, reason, respondents=int(np.isnan(values).sum()))
-                for key, (values, reason) in indices.items() if np.isnan(values).any()]
+            indices["duration"] = self.duration
+        return [not_computable(key, NOT_COMPUTABLE_REASONS[key], respondents=int(np.isnan(values).sum()))
+                for key, values in indices.items() if np.isnan(values).any()]
+
+
+#: why each per-respondent index can be missing (the reason of its ``not-computable`` note)
+NOT_COMPUTABLE_REASONS = {"irv": "fewer-than-2-answers", "mahalanobis_d2": "mahalanobis-not-computable",
+                          "mahalanobis_pvalue": "mahalanobis-not-computable",
+                          "even_odd": "fewer-than-3-scales-with-both-halves-or-no-spread",
+                          "person_total_r": "fewer-than-3-answers-or-no-spread", "duration": "no-completion-time"}
 
 
 def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray,
@@ -303,23 +299,13 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         np.full(n, np.nan), np.full(n, np.nan), 0, (note("halves-no-scales"),))
     notes.extend(halves.notes)
     person_total = person_total_correlation(keyed)
-    # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
-    # item means barely differ, attentive people's person-total r scatters around zero; with few scales the
-    # even-odd correlation rests on a handful of points (docs/screening.md)
     typical_total = attentive_person_total_r(keyed)
     answered_median = int(np.median(np.sum(~np.isnan(keyed), axis=1))) if n and keyed.shape[1] else 0
-    total_use = WeakIndexUse(index=FLAG_AGAINST_SAMPLE, used=False, typical=typical_total, points=answered_median,
-                             cutoff=thresholds.person_total_min,
-                             expected_below=expected_share_below(typical_total, thresholds.person_total_min,
-                                                                 answered_median))
     with np.errstate(invalid="ignore"):
         typical_halves = float(np.nanmedian(halves.r_halves)) if np.isfinite(halves.r_halves).any() else math.nan
-    half_cut = thresholds.even_odd_min / (2 - thresholds.even_odd_min)  # undo Spearman-Brown: raw half r
-    halves_use = WeakIndexUse(index=FLAG_UNEVEN_HALVES, used=False, typical=2 * typical_halves / (1 + typical_halves),
-                              points=halves.scales_used, cutoff=thresholds.even_odd_min,
-                              expected_below=expected_share_below(typical_halves, half_cut, halves.scales_used))
-    total_use = replace(total_use, used=bool(total_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
-    halves_use = replace(halves_use, used=bool(halves_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    halves_use, total_use = weak_index_uses(typical_total=typical_total, answered_median=answered_median,
+                                            typical_halves=typical_halves, scales_used=halves.scales_used,
+                                            thresholds=thresholds)
     with np.errstate(invalid="ignore"):
         uneven = (halves.consistency < thresholds.even_odd_min) & halves_use.used
         against = (person_total < thresholds.person_total_min) & total_use.used
@@ -368,17 +354,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         FLAG_DUPLICATE_ANSWERS: duplicate_answers, FLAG_DUPLICATE_ID: duplicates.id_repeated,
         FLAG_SOMEWHAT_FAR: somewhat_far & ~far, FLAG_UNEVEN_HALVES: uneven, FLAG_AGAINST_SAMPLE: against,
     }
-    strong = np.zeros(n, dtype=bool)
-    for code in STRONG_FLAGS:
-        strong |= fired[code]
-    # weak signals rest on few answers when many are missing, so they count only for respondents who
-    # answered most items
-    # uneven-halves and against-sample both drop for attentive people whose scale scores are all alike, so they
-    # do not confirm each other; each may confirm a moderately distant answer pattern
-    flagged = strong | (~many_missing & somewhat_far & (uneven | against))
-    codes = np.array(FLAG_ORDER, dtype=object)
-    matrix = np.column_stack([fired[c] for c in FLAG_ORDER])
-    flags = tuple(tuple(codes[row]) for row in matrix)  # per-respondent lists of codes for the output
+    flagged, flags = combined_flags(fired)
 
     alpha_change = _alpha_change(scales, flagged, weights) if scales else {}
     return ScreenResult(
@@ -389,6 +365,62 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
         not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
         weak_indices=(halves_use, total_use))
+
+
+def weak_index_uses(*, typical_total: float, answered_median: int, typical_halves: float, scales_used: int,
+                    thresholds: ScreenThresholds) -> tuple[WeakIndexUse, WeakIndexUse]:
+    """Whether ``uneven-halves`` and ``against-sample`` can count in this sample (see :class:`WeakIndexUse`),
+    from the attentive respondents' expected person-total r, the median number of answered items, the median
+    raw even-odd half correlation and the number of scales the halves use."""
+    # a weak index counts only where its cut-off sits in the attentive respondents' far lower tail: when
+    # item means barely differ, attentive people's person-total r scatters around zero; with few scales the
+    # even-odd correlation rests on a handful of points (docs/screening.md)
+    total_use = WeakIndexUse(index=FLAG_AGAINST_SAMPLE, used=False, typical=typical_total, points=answered_median,
+                             cutoff=thresholds.person_total_min,
+                             expected_below=expected_share_below(typical_total, thresholds.person_total_min,
+                                                                 answered_median))
+    half_cut = thresholds.even_odd_min / (2 - thresholds.even_odd_min)  # undo Spearman-Brown: raw half r
+    halves_use = WeakIndexUse(index=FLAG_UNEVEN_HALVES, used=False, typical=2 * typical_halves / (1 + typical_halves),
+                              points=scales_used, cutoff=thresholds.even_odd_min,
+                              expected_below=expected_share_below(typical_halves, half_cut, scales_used))
+    total_use = replace(total_use, used=bool(total_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    halves_use = replace(halves_use, used=bool(halves_use.expected_below <= WEAK_INDEX_MAX_EXPECTED_BELOW))
+    return halves_use, total_use
+
+
+def combined_flags(fired: Mapping[str, np.ndarray]) -> tuple[np.ndarray, tuple[tuple[str, ...], ...]]:
+    """Who is flagged by the combined rule, and each respondent's flag codes (in :data:`FLAG_ORDER`), from
+    the rows each flag fired for (see :func:`screen_respondents`, Notes)."""
+    many_missing = fired[FLAG_MANY_MISSING]
+    strong = np.zeros(many_missing.shape[0], dtype=bool)
+    for code in STRONG_FLAGS:
+        strong |= fired[code]
+    # weak signals rest on few answers when many are missing, so they count only for respondents who
+    # answered most items
+    # uneven-halves and against-sample both drop for attentive people whose scale scores are all alike, so they
+    # do not confirm each other; each may confirm a moderately distant answer pattern
+    flagged = strong | (~many_missing & fired[FLAG_SOMEWHAT_FAR] & (fired[FLAG_UNEVEN_HALVES]
+                                                                    | fired[FLAG_AGAINST_SAMPLE]))
+    codes = np.array(FLAG_ORDER, dtype=object)
+    matrix = np.column_stack([fired[c] for c in FLAG_ORDER])
+    return flagged, tuple(tuple(codes[row]) for row in matrix)  # per-respondent lists of codes for the output
+
+
+def respondent_records(ids: Sequence[str], flagged: np.ndarray, flags: Sequence[Sequence[str]],
+                       runs: np.ndarray, irv: np.ndarray, d2: np.ndarray, p: np.ndarray, df: np.ndarray,
+                       even_odd: np.ndarray, person_total: np.ndarray, missing: np.ndarray,
+                       duration: np.ndarray | None) -> JsonRows:
+    """One JSON-ready record per respondent (NaN as None), built column by column (``missing`` as a share)."""
+    columns = {
+        "id": list(ids), "flagged": flagged.tolist(), "flags": [list(f) for f in flags],
+        "longstring": _plain(runs), "irv": _plain(irv), "mahalanobis_d2": _plain(d2),
+        "mahalanobis_pvalue": _plain(p), "mahalanobis_df": _plain(df), "even_odd": _plain(even_odd),
+        "person_total_r": _plain(person_total), "missing_pct": _plain(100 * missing),
+    }
+    if duration is not None:
+        columns["duration"] = _plain(duration)
+    names = list(columns)
+    return JsonRows(dict(zip(names, values, strict=True)) for values in zip(*columns.values(), strict=True))
 
 
 def _plain(values: np.ndarray) -> list[Any]:
