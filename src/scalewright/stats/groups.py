@@ -1,8 +1,8 @@
 """Comparing a score across the levels of one grouping column: summaries, tests, effect sizes, pairs.
 
-The tests come from pingouin (which wraps scipy), run in :mod:`.group_tests`; only the effect sizes pingouin
-does not offer for a one-way design (omega-squared, epsilon-squared) are computed there from pingouin's own
-ANOVA table and H.
+The summaries come from the scores; the tests, effect sizes and pairs from each level's score value counts
+(:mod:`.groups_from_counts`, the one implementation for the whole file and for a file read in blocks; checked
+live against pingouin and scipy in the tests).
 Levels with fewer than ``min_cell`` scores are suppressed: their size and statistics never enter the result.
 """
 from __future__ import annotations
@@ -293,12 +293,10 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
         return comparison()
     if any(np.ptp(x) == 0 for x in testable.values()):
         notes.append(note("level-without-spread"))
-    from .group_tests import many_group_tests, two_group_tests
+    from .groups_from_counts import counted_scores, group_tests
 
-    if len(testable) == 2:
-        result = two_group_tests(testable, student=student, confidence_level=confidence_level)
-    else:
-        result = many_group_tests(testable, student=student)
+    result = group_tests({level: counted_scores(x) for level, x in testable.items()}, student=student,
+                         confidence_level=confidence_level)
     notes.extend(result.pop("extra_notes"))
     return comparison(**result)
 

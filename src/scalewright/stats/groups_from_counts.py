@@ -1,11 +1,12 @@
-"""Comparing a score across the levels of a column from each level's score value counts, without the rows.
+"""The tests of a score across the levels of a column from each level's score value counts.
 
-The same :class:`~scalewright.stats.groups.Comparison` as :func:`~scalewright.stats.groups.compare_groups`
-(which takes the rows and calls pingouin), from what a file read in blocks or a Dask cluster keeps: per
-level, the distinct scores and how many respondents got each. Every statistic there is a function of the
-levels' sizes, means, variances, medians and midranks, and each of these is exact from value counts
-(scores of rating scales take few distinct values). Hand-written because pingouin and scipy take the rows;
-``tests/test_groups_from_counts.py`` checks every number against pingouin and scipy on the expanded rows.
+Every test, effect size and pair of a :class:`~scalewright.stats.groups.Comparison` is a function of the
+levels' sizes, means, variances, medians and midranks, and each of these is exact from value counts (scores of
+rating scales take few distinct values). Both routes use this one implementation: the whole file
+(:func:`~scalewright.stats.groups.compare_groups` counts the values of its rows) and a file read in blocks or
+a Dask cluster (:func:`compare_from_counts`, from the counts kept per level). Hand-written because pingouin
+and scipy take the rows (and pingouin's import, with xarray and seaborn, costs about a second);
+``tests/test_groups_from_counts.py`` checks every number live against pingouin and scipy on the rows.
 """
 from __future__ import annotations
 
@@ -19,6 +20,7 @@ import numpy as np
 from ..notes import Note, note
 from ..summaries.scores import quantiles_from_counts
 from .groups import Comparison, EffectSize, GroupSummary, PairResult, TestResult, _check_options, _left_out_notes
+from .range_pairs import games_howell_from_moments, tukey_from_moments
 from .rank_counts import kruskal_wallis_from_counts, mann_whitney_from_counts
 
 
@@ -122,12 +124,27 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
         return Comparison(**base, notes=tuple(notes))
     if any(x.constant for x in testable.values()):
         notes.append(note("level-without-spread"))
-    if len(testable) == 2:
-        result = _two_groups(testable, student=student, confidence_level=confidence_level)
-    else:
-        result = _many_groups(testable, student=student)
+    result = group_tests(testable, student=student, confidence_level=confidence_level)
     extra_notes = result.pop("extra_notes")
     return Comparison(**base, **result, notes=tuple(notes + extra_notes))
+
+
+def counted_scores(scores: np.ndarray) -> CountedLevel:
+    """The value counts of the scores of one level (no NaN among them)."""
+    values, counts = np.unique(np.asarray(scores, dtype=np.float64), return_counts=True)
+    return CountedLevel(values=values, counts=counts.astype(np.int64))
+
+
+def group_tests(samples: Mapping[str, CountedLevel], *, student: bool, confidence_level: float) -> dict[str, Any]:
+    """The tests, effect sizes, pairs and Levene's test of two or more levels, each with at least two scores
+    and not all without spread: the keyword arguments of a :class:`Comparison` for them, and ``extra_notes``.
+
+    One implementation for both routes: :func:`~scalewright.stats.groups.compare_groups` passes the value
+    counts of the rows, :func:`compare_from_counts` those a file read in blocks keeps.
+    """
+    if len(samples) == 2:
+        return _two_groups(samples, student=student, confidence_level=confidence_level)
+    return _many_groups(samples, student=student)
 
 
 def levene_from_counts(samples: Mapping[str, CountedLevel]) -> TestResult:
@@ -156,16 +173,31 @@ def levene_from_counts(samples: Mapping[str, CountedLevel]) -> TestResult:
 
 
 def _hedges(x: CountedLevel, y: CountedLevel) -> float:
-    """Hedges' g of x against y: Cohen's d on the pooled SD, with pingouin's small-sample correction."""
-    import pingouin as pg
-
+    """Hedges' g of x against y: Cohen's d on the pooled SD, times 1 - 3 / (4 (n_x + n_y) - 9) (Hedges, 1981)."""
     dof = x.n + y.n - 2
     d = (x.mean - y.mean) / math.sqrt(((x.n - 1) * x.var + (y.n - 1) * y.var) / dof)
-    return float(pg.convert_effsize(d, "cohen", "hedges", nx=x.n, ny=y.n))
+    return d * (1 - 3 / (4 * (x.n + y.n) - 9))
+
+
+def hedges_interval(g: float, nx: int, ny: int, confidence_level: float) -> tuple[float, float]:
+    r"""Normal-theory interval of Hedges' g (Hedges & Olkin, 1985, p. 86), as pingouin's ``compute_esci``.
+
+    .. math::
+
+        g \pm t_{1 - \alpha/2,\, n_x + n_y - 2}\,\sqrt{\frac{n_x + n_y}{n_x n_y} + \frac{g^2}{2 (n_x + n_y)}}
+
+    References
+    ----------
+    .. [1] Hedges, L. V. & Olkin, I. (1985). Statistical Methods for Meta-Analysis. Academic Press.
+    """
+    from scipy import stats
+
+    se = math.sqrt((nx + ny) / (nx * ny) + g**2 / (2 * (nx + ny)))
+    crit = abs(float(stats.t.ppf((1 - confidence_level) / 2, nx + ny - 2)))
+    return g - crit * se, g + crit * se
 
 
 def _two_groups(samples: Mapping[str, CountedLevel], *, student: bool, confidence_level: float) -> dict[str, Any]:
-    import pingouin as pg
     from scipy import stats
 
     (name_a, x), (name_b, y) = samples.items()
@@ -186,7 +218,7 @@ def _two_groups(samples: Mapping[str, CountedLevel], *, student: bool, confidenc
         # then as many as the distinct scores, so expanding them costs nothing)
         pvalue_u = float(stats.mannwhitneyu(x.expand(), y.expand(), alternative="two-sided").pvalue)
     g = _hedges(x, y)
-    ci = pg.compute_esci(stat=g, nx=x.n, ny=y.n, eftype="hedges", confidence=confidence_level, decimals=15)
+    ci = hedges_interval(g, x.n, y.n, confidence_level)
     return {
         "test": TestResult(name="Student's t" if student else "Welch's t", statistic=float(t), df=float(dof),
                            pvalue=float(2 * stats.t.sf(abs(t), dof))),
@@ -237,23 +269,14 @@ def _many_groups(samples: Mapping[str, CountedLevel], *, student: bool) -> dict[
         f, df2, p = _welch_anova(sizes, means, variances)
         test = TestResult(name="Welch's F", statistic=f, df=float(k - 1), df2=df2, pvalue=p)
         method = "Games-Howell"
-    pairs = []
-    for a in range(k):
-        for b in range(a + 1, k):
-            if student:  # Tukey (1949): the pooled within-level variance, n - k degrees of freedom
-                se = math.sqrt(ms_within / sizes[a] + ms_within / sizes[b])
-                df = float(n - k)
-            else:  # Games & Howell (1976): each level's own variance, Welch-Satterthwaite df
-                va, vb = variances[a] / sizes[a], variances[b] / sizes[b]
-                se = math.sqrt(va + vb)
-                with np.errstate(divide="ignore", invalid="ignore"):
-                    df = float((va + vb) ** 2 / (va**2 / (sizes[a] - 1) + vb**2 / (sizes[b] - 1)))
-            difference = float(means[a] - means[b])
-            with np.errstate(divide="ignore", invalid="ignore"):
-                t = float(np.float64(difference) / np.float64(se))
-                p = float(np.clip(stats.studentized_range.sf(math.sqrt(2) * abs(t), k, df), 0, 1))
-            pairs.append(PairResult(a=order[a], b=order[b], difference=difference, se=se, statistic=t, df=df,
-                                    pvalue=p, hedges_g=_hedges(levels[a], levels[b])))
+    # Tukey (1949): the pooled within-level variance, n - k degrees of freedom; Games & Howell (1976): each
+    # level's own variance, Welch-Satterthwaite df; p from the studentized range of k means for all pairs at once
+    pair_stats = (tukey_from_moments if student else games_howell_from_moments)(sizes, means, variances)
+    pairs = [PairResult(a=order[i], b=order[j], difference=float(d), se=float(se), statistic=float(t), df=float(df),
+                        pvalue=float(p), hedges_g=float(g))
+             for i, j, d, se, t, df, p, g in zip(pair_stats.first, pair_stats.second, pair_stats.difference,
+                                                 pair_stats.se, pair_stats.statistic, pair_stats.df,
+                                                 pair_stats.pvalue, pair_stats.hedges_g, strict=True)]
     extra = []
     if any(not np.isfinite(p.pvalue) for p in pairs):
         extra.append("some pairs have no spread in either level: no pair test for them")
@@ -271,4 +294,5 @@ def _many_groups(samples: Mapping[str, CountedLevel], *, student: bool) -> dict[
     }
 
 
-__all__ = ["CountedLevel", "compare_from_counts", "counted_level", "levene_from_counts"]
+__all__ = ["CountedLevel", "compare_from_counts", "counted_level", "counted_scores", "group_tests", "hedges_interval",
+           "levene_from_counts"]

@@ -128,11 +128,14 @@ class RangePairs:
     hedges_g: np.ndarray
 
 
-def _pairs_and_moments(samples) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
-    n = np.array([len(x) for x in samples], dtype=float)
-    means = np.array([np.mean(x) for x in samples])
-    variances = np.array([np.var(x, ddof=1) for x in samples])
-    first, second = np.triu_indices(len(samples), k=1)
+def _moments(samples) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    return (np.array([len(x) for x in samples], dtype=float), np.array([np.mean(x) for x in samples]),
+            np.array([np.var(x, ddof=1) for x in samples]))
+
+
+def _pairs_of(n, means, variances) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    n, means, variances = (np.asarray(a, dtype=float) for a in (n, means, variances))
+    first, second = np.triu_indices(len(n), k=1)
     return n, means, variances, first, second
 
 
@@ -169,13 +172,18 @@ def games_howell_pairs(samples) -> RangePairs:
     .. [1] Games, P. A., & Howell, J. F. (1976). Pairwise multiple comparison procedures with unequal n's
        and/or variances: a Monte Carlo study. Journal of Educational Statistics, 1(2), 113-125.
     """
-    n, means, variances, first, second = _pairs_and_moments(samples)
+    return games_howell_from_moments(*_moments(samples))
+
+
+def games_howell_from_moments(n, means, variances) -> RangePairs:
+    """:func:`games_howell_pairs` from each group's size, mean and variance (n - 1 denominator)."""
+    n, means, variances, first, second = _pairs_of(n, means, variances)
     v = variances / n
     with np.errstate(divide="ignore", invalid="ignore"):
         se = np.sqrt(v[first] + v[second])
         statistic = (means[first] - means[second]) / se
         df = (v[first] + v[second]) ** 2 / (v[first] ** 2 / (n[first] - 1) + v[second] ** 2 / (n[second] - 1))
-    pvalue = studentized_range_sf(np.sqrt(2) * np.abs(statistic), len(samples), df)
+    pvalue = studentized_range_sf(np.sqrt(2) * np.abs(statistic), len(n), df)
     return RangePairs(first, second, means[first] - means[second], se, statistic, df, pvalue,
                       _hedges_g(n, means, variances, first, second))
 
@@ -193,15 +201,21 @@ def tukey_pairs(samples) -> RangePairs:
     .. [1] Kramer, C. Y. (1956). Extension of multiple range tests to group means with unequal numbers of
        replications. Biometrics, 12(3), 307-310.
     """
-    n, means, variances, first, second = _pairs_and_moments(samples)
-    df = n.sum() - len(samples)
+    return tukey_from_moments(*_moments(samples))
+
+
+def tukey_from_moments(n, means, variances) -> RangePairs:
+    """:func:`tukey_pairs` from each group's size, mean and variance (n - 1 denominator)."""
+    n, means, variances, first, second = _pairs_of(n, means, variances)
+    df = n.sum() - len(n)
     ms_within = np.sum((n - 1) * variances) / df
     with np.errstate(divide="ignore", invalid="ignore"):
         se = np.sqrt(ms_within / n[first] + ms_within / n[second])
         statistic = (means[first] - means[second]) / se
-    pvalue = studentized_range_sf(np.sqrt(2) * np.abs(statistic), len(samples), df)
+    pvalue = studentized_range_sf(np.sqrt(2) * np.abs(statistic), len(n), df)
     return RangePairs(first, second, means[first] - means[second], se, statistic, np.full(len(first), df),
                       pvalue, _hedges_g(n, means, variances, first, second))
 
 
-__all__ = ["RangePairs", "games_howell_pairs", "studentized_range_sf", "tukey_pairs"]
+__all__ = ["RangePairs", "games_howell_from_moments", "games_howell_pairs", "studentized_range_sf", "tukey_from_moments",
+           "tukey_pairs"]
