@@ -321,11 +321,13 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     # confirmatory models (many small invariance fits) run in processes of their own meanwhile; their results
     # are asked for last. Without subgroups the models are a few fits on large matrix products: in this process
     confirm_work = partial(_confirm, spec, responses, options)
-    import scipy.stats  # noqa: F401  (every process below needs it: imported once before the forks, not in each)
+    # the models need no scipy.stats: their process starts first, while this one imports it (about a second of
+    # CPU) once for itself and the comparisons' process
+    confirmed = start_in_process(confirm_work) if options.by else confirm_work
+    import scipy.stats  # noqa: F401
 
     compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
                                         confidence_level=options.confidence_level, scores=score_table))
-    confirmed = start_in_process(confirm_work) if options.by else confirm_work
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)

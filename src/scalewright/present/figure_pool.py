@@ -54,6 +54,16 @@ def render_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg"
     The files are the same as a serial loop writes (each figure is drawn by one process from the same
     results); errors raised in a worker are raised here.
     """
+    start_figures(jobs, formats=formats, inputs=inputs)()
+
+
+def start_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",),
+                  inputs: Iterable = ()) -> Callable[[], None]:
+    """Start drawing the jobs as :func:`render_figures` does; return a function that waits until every file
+    is written (raising a worker's error). Meanwhile the caller can write what needs no figure.
+
+    Without workers (one core, few figures, no fork) the figures are drawn here before this returns.
+    """
     from .figure_files import use_agg
 
     global _JOBS
@@ -69,14 +79,24 @@ def render_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg"
         if workers <= 1 or len(prepared) < MIN_FIGURES_FOR_WORKERS or not _can_fork():
             for index in range(len(prepared)):
                 _render(index)
-            return
+            return lambda: None
         from concurrent.futures import ProcessPoolExecutor
 
         with RECORDING_WARNINGS, warnings.catch_warnings():
             # Python 3.12+ warns that forking a process with threads (pyarrow's pool) may deadlock the child;
             # the workers only draw with matplotlib and write files, they touch no lock of those threads
             warnings.filterwarnings("ignore", message=r".*multi-threaded, use of fork\(\)", category=DeprecationWarning)
-            with ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork")) as pool:
-                list(pool.map(_render, range(len(prepared))))
+            pool = ProcessPoolExecutor(max_workers=workers, mp_context=multiprocessing.get_context("fork"))
+            # every worker is forked by the first submission, so the jobs can be let go of afterwards
+            futures = [pool.submit(_render, index) for index in range(len(prepared))]
     finally:
         _JOBS = []
+
+    def wait() -> None:
+        try:
+            for future in futures:
+                future.result()
+        finally:
+            pool.shutdown(cancel_futures=True)
+
+    return wait

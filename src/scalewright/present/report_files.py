@@ -66,7 +66,17 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
     Each figure is drawn once per format in ``formats`` (SVG by default; the page inlines it), the figures
     spread over worker processes (:mod:`figure_pool`).
     """
-    from .figure_pool import FigureJob, render_figures
+    figures, wait = start_making_figures(results, folder, inputs=inputs, formats=formats)
+    wait()
+    return figures
+
+
+def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
+                         formats: tuple[str, ...] = FIGURE_FORMATS) \
+        -> tuple[dict[tuple[str, ...], FigureBlock], Callable[[], None]]:
+    """:func:`make_figures` with the drawing started in the worker processes: returns the figures and a
+    function that waits until their files are written (the caller writes what needs none meanwhile)."""
+    from .figure_pool import FigureJob, start_figures
 
     jobs: list[FigureJob] = []
 
@@ -151,10 +161,10 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 stem, "Loadings of the confirmatory model", f"Standardized loadings of the {len(model.items)} "
                 f"items of the {model.structure.replace('-', ' ')} model, one bar per item and factor, with "
                 "whiskers of 1.96 standard errors. The numbers are in the loadings table.")
-    render_figures(jobs, formats=formats, inputs=inputs)
+    wait = start_figures(jobs, formats=formats, inputs=inputs)
     if "png" in formats:
         figures = {key: replace(block, png=True) for key, block in figures.items()}
-    return figures
+    return figures, wait
 
 
 def write_single_page(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
@@ -194,15 +204,20 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     folder = Path(folder)
     inputs = [p for p in inputs if p is not None]
     progress("figures")
-    figures = make_figures(results, folder, inputs=inputs, formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
-    document = build_document(results, figures=figures, decimals=decimals)
-    progress("pages")
-    written = [write_atomic(folder / "index.html", render_html(document, folder=folder), inputs=inputs),
-               write_atomic(folder / "report.md", render_report_markdown(document), inputs=inputs),
-               write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs),
-               # a streamed report has written its scored file block by block already
-               folder / "scores.csv" if scores_written else
-               write_scores(results.score_table, folder / "scores.csv", inputs=inputs)]
+    figures, figures_written = start_making_figures(results, folder, inputs=inputs,
+                                                    formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
+    try:  # while the workers draw: the files that need no figure
+        results_json = write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs)
+        # a streamed report has written its scored file block by block already
+        scores = folder / "scores.csv" if scores_written else write_scores(results.score_table, folder / "scores.csv",
+                                                                           inputs=inputs)
+        document = build_document(results, figures=figures, decimals=decimals)
+        markdown = write_atomic(folder / "report.md", render_report_markdown(document), inputs=inputs)
+    finally:
+        figures_written()
+    progress("pages")  # the page inlines the figures
+    written = [write_atomic(folder / "index.html", render_html(document, folder=folder), inputs=inputs), markdown,
+               results_json, scores]
     for figure in figures.values():
         written += [folder / f"{figure.stem}.svg", *([folder / f"{figure.stem}.png"] if figure.png else [])]
     return written
