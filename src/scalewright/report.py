@@ -260,9 +260,13 @@ def _screen(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> Sc
     # the screen command's own analysis function: items in questionnaire order, durations if named
 
     from .analyses.screen import analyse_screen
+    from .concurrency import one_blas_thread
 
-    return analyse_screen(spec, responses, duration_column=options.duration_column,
-                          duration_unit=options.duration_unit)
+    # in a process of its own beside this one's work: one BLAS thread each, not two processes' threads on the
+    # same cores
+    with one_blas_thread():
+        return analyse_screen(spec, responses, duration_column=options.duration_column,
+                              duration_unit=options.duration_unit)
 
 
 def check_columns(responses: Responses, options: ReportOptions) -> None:
@@ -328,6 +332,8 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
 
     compared = start_in_process(partial(analyse_compare, spec, responses, by=options.by, min_cell=options.min_cell,
                                         confidence_level=options.confidence_level, scores=score_table))
+    # the screen (a row per respondent: large matrix products on a large file) beside reliability and structure
+    screened = start_in_process(partial(_screen, spec, responses, options)) if responses.n else None
 
     progress(STEPS[1])
     reliability = _reliability(spec, responses, options)
@@ -350,7 +356,7 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
         structure = analysed
 
     progress(STEPS[6])
-    screen = _screen(spec, responses, options) if responses.n else None
+    screen = screened() if screened is not None else None
     by_column = compared()
     comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
                                                 for i, name in enumerate(spec.scales)}
