@@ -88,6 +88,17 @@ class ScaleFindings:
     notes: tuple[str, ...] = ()
 
 
+@dataclass(frozen=True)
+class FigureInputs:
+    """What the report's figures are drawn from, ready before the screen and the comparisons: each scale's
+    findings (without their comparisons, which no figure shows), the structure, and the confirmatory models
+    when they are already at hand (None while their process still runs)."""
+
+    scales: Mapping[str, ScaleFindings]
+    structure: StructureResult | None
+    confirm: ConfirmAnalysis | None
+
+
 @dataclass(frozen=True, eq=False)
 class ReportResults:
     """One finished set of results: what :func:`build_report` returns and every renderer reads."""
@@ -286,7 +297,8 @@ def check_columns(responses: Responses, options: ReportOptions) -> None:
 def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, options: ReportOptions = ReportOptions(),
                  input_notes: Sequence[str] = (), n_excluded: int = 0,
                  progress: Callable[[str], None] = _no_progress,
-                 today: _dt.date | None = None) -> ReportResults:
+                 today: _dt.date | None = None,
+                 figures_from: Callable[[FigureInputs], None] | None = None) -> ReportResults:
     """Run every analysis of a report on one data set.
 
     Parameters
@@ -307,6 +319,9 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
         Called with the name of each step of :data:`STEPS` as it starts.
     today : datetime.date, optional
         The report's date (default: today).
+    figures_from : callable, optional
+        Called with the :class:`FigureInputs` as soon as they are ready (before the screen, the comparisons
+        and, with subgroup columns, the confirmatory models are awaited), so the figures can be drawn meanwhile.
 
     Returns
     -------
@@ -355,12 +370,20 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     else:
         structure = analysed
 
+    confirm = None if options.by else confirmed()  # without subgroups the models run here
+    if figures_from is not None:
+        figures_from(FigureInputs(
+            scales={name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name],
+                                        reliability=reliability[name], shape=shapes[name], comparisons=(),
+                                        answers=answers[name]) for name, scale in spec.scales.items()},
+            structure=structure, confirm=confirm))
     progress(STEPS[6])
     screen = screened() if screened is not None else None
     by_column = compared()
     comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
                                                 for i, name in enumerate(spec.scales)}
-    confirm = confirmed()
+    if confirm is None:
+        confirm = confirmed()
     weighted = None
     if _weighted(responses):
         from dataclasses import replace

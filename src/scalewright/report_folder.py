@@ -6,6 +6,7 @@ inputs and options runs before the folder is touched, and no input file is ever 
 """
 from __future__ import annotations
 
+import contextlib
 from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
@@ -29,8 +30,14 @@ def build_report_folder(inputs: Any, out: Path, *, options: ReportOptions, sourc
     folder's outputs. ``progress`` is called with the name of each step as it starts. Returns the
     :class:`~scalewright.report.ReportResults` written to results.json.
     """
-    from .present.report_files import prepare_report_folder, write_report_folder, write_single_page
-    from .report import build_report, check_columns
+    from .present.report_files import (
+        StartedFigures,
+        prepare_report_folder,
+        start_report_figures,
+        write_report_folder,
+        write_single_page,
+    )
+    from .report import FigureInputs, build_report, check_columns
 
     def step(name: str) -> None:
         if progress is not None:
@@ -38,10 +45,24 @@ def build_report_folder(inputs: Any, out: Path, *, options: ReportOptions, sourc
 
     check_columns(inputs.responses, options)
     folder = prepare_report_folder(out, force=force, inputs=sources, single_file=single_file)
-    results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
-                           input_notes=inputs.notes, n_excluded=inputs.excluded, progress=step)
+    started: list[StartedFigures] = []
+
+    def figures_from(ready: FigureInputs) -> None:
+        # the figures are drawn by worker processes while the last analyses finish
+        started.append(start_report_figures(ready, folder, inputs=sources, png=png))
+
+    try:
+        results = build_report(inputs.spec, inputs.responses, info=inputs.info, options=options,
+                               input_notes=inputs.notes, n_excluded=inputs.excluded, progress=step,
+                               figures_from=None if single_file else figures_from)
+    except BaseException:
+        for figures in started:  # no worker is left drawing into the folder of a report that failed
+            with contextlib.suppress(Exception):  # the analysis' error is the one to tell
+                figures.wait()
+        raise
     if single_file:
         write_single_page(results, folder, decimals=options.decimals, inputs=sources, progress=step)
     else:
-        write_report_folder(results, folder, decimals=options.decimals, inputs=sources, progress=step, png=png)
+        write_report_folder(results, folder, decimals=options.decimals, inputs=sources, progress=step, png=png,
+                            started=started[0] if started else None)
     return results

@@ -7,7 +7,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Callable, Iterable
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import Any
 
@@ -71,11 +71,39 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
     return figures
 
 
+@dataclass
+class StartedFigures:
+    """Figures whose drawing has started (:func:`start_report_figures`): the blocks so far, and what
+    :func:`write_report_folder` needs to finish them."""
+
+    figures: dict[tuple[str, ...], FigureBlock]
+    wait: Callable[[], None]
+    names: Any
+    formats: tuple[str, ...]
+    with_confirm: bool
+
+
+def start_report_figures(results: Any, folder: Path, *, inputs: Iterable = (), png: bool = False) -> StartedFigures:
+    """Start drawing the figures of ``results`` (anything with the ``scales``, ``structure`` and ``confirm`` of a
+    :class:`~scalewright.report.ReportResults`; ``confirm`` may still be None) in the worker processes, before
+    the rest of the report is ready; :func:`write_report_folder` (``started=``) draws what is left and waits."""
+    from .figure_files import FigureNames
+
+    names = FigureNames()
+    formats = FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS
+    figures, wait = start_making_figures(results, Path(folder), inputs=inputs, formats=formats, names=names)
+    return StartedFigures(figures, wait, names, formats, with_confirm=getattr(results, "confirm", None) is not None)
+
+
 def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
-                         formats: tuple[str, ...] = FIGURE_FORMATS) \
+                         formats: tuple[str, ...] = FIGURE_FORMATS, names: Any = None, parts: str = "all") \
         -> tuple[dict[tuple[str, ...], FigureBlock], Callable[[], None]]:
     """:func:`make_figures` with the drawing started in the worker processes: returns the figures and a
-    function that waits until their files are written (the caller writes what needs none meanwhile)."""
+    function that waits until their files are written (the caller writes what needs none meanwhile).
+
+    ``parts`` "confirm" draws only the confirmatory model's figure (``names``, the :class:`FigureNames` of the
+    first part, keeps the file names apart).
+    """
     from .figure_pool import FigureJob, start_figures
 
     jobs: list[FigureJob] = []
@@ -92,8 +120,8 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
     from .figure_files import FigureNames, safe_part
     from .figures_shape import box_plots_by_group, histogram
 
-    names = FigureNames()
-    for name, findings in results.scales.items():
+    names = FigureNames() if names is None else names
+    for name, findings in results.scales.items() if parts != "confirm" else ():
         label = scale_label(findings)
         shape = findings.shape
         part = safe_part(name)
@@ -132,7 +160,7 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 f"answer from {findings.answers.labels[0]} to {findings.answers.labels[-1]}; answers below the "
                 "middle of the scale extend to the left, above it to the right. Answers as given, before reverse "
                 "keying: reverse-worded items are marked.")
-    structure = results.structure
+    structure = results.structure if parts != "confirm" else None
     if structure is not None:
         from .figures_structure import loadings_figure, scree_figure
 
@@ -190,10 +218,11 @@ def write_single_page(results: Any, folder: str | Path, *, decimals: int = 2, in
 
 def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, inputs: Iterable = (),
                         progress: Callable[[str], None] = lambda step: None, png: bool = False,
-                        scores_written: bool = False) -> list[Path]:
+                        scores_written: bool = False, started: StartedFigures | None = None) -> list[Path]:
     """Write every file of the report into ``folder`` (already prepared); return the paths written.
 
-    Figures are SVG files; ``png`` writes a PNG of each as well.
+    Figures are SVG files; ``png`` writes a PNG of each as well. ``started``: the figures
+    :func:`start_report_figures` began drawing while the analyses ran (the same ``png``).
     """
     from ..scoring import write_scores
     from .html import render_html
@@ -204,8 +233,15 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     folder = Path(folder)
     inputs = [p for p in inputs if p is not None]
     progress("figures")
-    figures, figures_written = start_making_figures(results, folder, inputs=inputs,
-                                                    formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
+    if started is None:
+        figures, figures_written = start_making_figures(results, folder, inputs=inputs,
+                                                        formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
+    else:  # most figures are being drawn already; the confirmatory model's, if it came later, is drawn here
+        figures, figures_written = dict(started.figures), started.wait
+        if not started.with_confirm:
+            late, _ = start_making_figures(results, folder, inputs=inputs, formats=started.formats,
+                                           names=started.names, parts="confirm")  # one figure: drawn here, now
+            figures.update(late)
     try:  # while the workers draw: the files that need no figure
         results_json = write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs)
         # a streamed report has written its scored file block by block already
