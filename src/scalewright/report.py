@@ -336,7 +336,7 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     progress(STEPS[0])
     score_table = score_scales(responses, spec)
 
-    # the comparisons (pingouin: pure-Python work and a heavy import) and, with subgroup columns, the
+    # the comparisons (many small tests) and, with subgroup columns, the
     # confirmatory models (many small invariance fits) run in processes of their own meanwhile; their results
     # are asked for last. Without subgroups the models are a few fits on large matrix products: in this process
     confirm_work = partial(_confirm, spec, responses, options)
