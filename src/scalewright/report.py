@@ -90,13 +90,10 @@ class ScaleFindings:
 
 @dataclass(frozen=True)
 class FigureInputs:
-    """What the report's figures are drawn from, ready before the screen and the comparisons: each scale's
-    findings (without their comparisons, which no figure shows), the structure, and the confirmatory models
-    when they are already at hand (None while their process still runs)."""
+    """What the figures of the scales are drawn from, ready before the other analyses: each scale's findings
+    with its score shapes and answers (reliability and comparisons, which no figure shows, left out)."""
 
     scales: Mapping[str, ScaleFindings]
-    structure: StructureResult | None
-    confirm: ConfirmAnalysis | None
 
 
 @dataclass(frozen=True, eq=False)
@@ -320,8 +317,8 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     today : datetime.date, optional
         The report's date (default: today).
     figures_from : callable, optional
-        Called with the :class:`FigureInputs` as soon as they are ready (before the screen, the comparisons
-        and, with subgroup columns, the confirmatory models are awaited), so the figures can be drawn meanwhile.
+        Called with the :class:`FigureInputs` as soon as the scores' shapes and the answers are known (the
+        other analyses still running), so the figures of the scales can be drawn meanwhile.
 
     Returns
     -------
@@ -351,7 +348,8 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     screened = start_in_process(partial(_screen, spec, responses, options)) if responses.n else None
 
     progress(STEPS[1])
-    reliability = _reliability(spec, responses, options)
+    # reliability (threads of its own) too, so that the figures of the scales can start from their shapes
+    reliable = start_in_process(partial(_reliability, spec, responses, options))
 
     progress(STEPS[2])
     shapes = _shape(spec, responses, options, score_table)
@@ -360,6 +358,11 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     progress(STEPS[4])
     answers = answer_distributions(spec, responses=responses, min_cell=options.min_cell)
     group_tallies = tally_columns(options.by, responses=responses, min_cell=options.min_cell)
+    if figures_from is not None:
+        figures_from(FigureInputs(scales={
+            name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name], reliability=None,
+                                shape=shapes[name], comparisons=(), answers=answers[name])
+            for name, scale in spec.scales.items()}))
 
     progress(STEPS[5])
     analysed = _structure(spec, responses, options) if len(spec.items) >= 2 else None
@@ -370,20 +373,13 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
     else:
         structure = analysed
 
-    confirm = None if options.by else confirmed()  # without subgroups the models run here
-    if figures_from is not None:
-        figures_from(FigureInputs(
-            scales={name: ScaleFindings(name=name, scale=scale, scores=score_table.scales[name],
-                                        reliability=reliability[name], shape=shapes[name], comparisons=(),
-                                        answers=answers[name]) for name, scale in spec.scales.items()},
-            structure=structure, confirm=confirm))
     progress(STEPS[6])
+    reliability = reliable()
     screen = screened() if screened is not None else None
     by_column = compared()
     comparisons: dict[str, list[Comparison]] = {name: [by_column[column][i] for column in options.by]
                                                 for i, name in enumerate(spec.scales)}
-    if confirm is None:
-        confirm = confirmed()
+    confirm = confirmed()
     weighted = None
     if _weighted(responses):
         from dataclasses import replace

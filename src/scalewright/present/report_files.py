@@ -73,26 +73,26 @@ def make_figures(results: Any, folder: Path, *, inputs: Iterable = (),
 
 @dataclass
 class StartedFigures:
-    """Figures whose drawing has started (:func:`start_report_figures`): the blocks so far, and what
-    :func:`write_report_folder` needs to finish them."""
+    """The figures of the scales, being drawn (:func:`start_report_figures`): their blocks, and what
+    :func:`write_report_folder` needs to draw the others and wait for these."""
 
     figures: dict[tuple[str, ...], FigureBlock]
     wait: Callable[[], None]
     names: Any
     formats: tuple[str, ...]
-    with_confirm: bool
 
 
-def start_report_figures(results: Any, folder: Path, *, inputs: Iterable = (), png: bool = False) -> StartedFigures:
-    """Start drawing the figures of ``results`` (anything with the ``scales``, ``structure`` and ``confirm`` of a
-    :class:`~scalewright.report.ReportResults`; ``confirm`` may still be None) in the worker processes, before
-    the rest of the report is ready; :func:`write_report_folder` (``started=``) draws what is left and waits."""
+def start_report_figures(ready: Any, folder: Path, *, inputs: Iterable = (), png: bool = False) -> StartedFigures:
+    """Start drawing the figures of the scales (``ready.scales``: findings with their shapes and answers, as in
+    :class:`~scalewright.report.ReportResults`) in the worker processes while the other analyses run;
+    :func:`write_report_folder` (``started=``) draws the structure's and the models' figures and waits."""
     from .figure_files import FigureNames
 
     names = FigureNames()
     formats = FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS
-    figures, wait = start_making_figures(results, Path(folder), inputs=inputs, formats=formats, names=names)
-    return StartedFigures(figures, wait, names, formats, with_confirm=getattr(results, "confirm", None) is not None)
+    figures, wait = start_making_figures(ready, Path(folder), inputs=inputs, formats=formats, names=names,
+                                         parts="scales")
+    return StartedFigures(figures, wait, names, formats)
 
 
 def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
@@ -101,8 +101,8 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
     """:func:`make_figures` with the drawing started in the worker processes: returns the figures and a
     function that waits until their files are written (the caller writes what needs none meanwhile).
 
-    ``parts`` "confirm" draws only the confirmatory model's figure (``names``, the :class:`FigureNames` of the
-    first part, keeps the file names apart).
+    ``parts``: "all"; "scales" (histograms, box plots, answers); "rest" (the structure's and the confirmatory
+    model's), with the :class:`FigureNames` of the first part as ``names`` so no file name is given twice.
     """
     from .figure_pool import FigureJob, start_figures
 
@@ -121,7 +121,7 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
     from .figures_shape import box_plots_by_group, histogram
 
     names = FigureNames() if names is None else names
-    for name, findings in results.scales.items() if parts != "confirm" else ():
+    for name, findings in results.scales.items() if parts != "rest" else ():
         label = scale_label(findings)
         shape = findings.shape
         part = safe_part(name)
@@ -160,7 +160,7 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 f"answer from {findings.answers.labels[0]} to {findings.answers.labels[-1]}; answers below the "
                 "middle of the scale extend to the left, above it to the right. Answers as given, before reverse "
                 "keying: reverse-worded items are marked.")
-    structure = results.structure if parts != "confirm" else None
+    structure = results.structure if parts != "scales" else None
     if structure is not None:
         from .figures_structure import loadings_figure, scree_figure
 
@@ -177,7 +177,7 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
                 "vermillion negative, darker for larger loadings. The numbers are in the loadings table.")
-    confirm = getattr(results, "confirm", None)
+    confirm = getattr(results, "confirm", None) if parts != "scales" else None
     if confirm is not None:
         from .figures_confirm import confirm_loadings_figure
 
@@ -236,12 +236,11 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     if started is None:
         figures, figures_written = start_making_figures(results, folder, inputs=inputs,
                                                         formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
-    else:  # most figures are being drawn already; the confirmatory model's, if it came later, is drawn here
+    else:  # the scales' figures are being drawn; the structure's and the models' (three at most) are drawn here
         figures, figures_written = dict(started.figures), started.wait
-        if not started.with_confirm:
-            late, _ = start_making_figures(results, folder, inputs=inputs, formats=started.formats,
-                                           names=started.names, parts="confirm")  # one figure: drawn here, now
-            figures.update(late)
+        late, _ = start_making_figures(results, folder, inputs=inputs, formats=started.formats,
+                                       names=started.names, parts="rest")
+        figures.update(late)
     try:  # while the workers draw: the files that need no figure
         results_json = write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs)
         # a streamed report has written its scored file block by block already
