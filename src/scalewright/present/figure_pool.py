@@ -36,11 +36,14 @@ def _first_axes(drawn: Any) -> Any:
     return drawn.flat[0] if hasattr(drawn, "flat") else drawn
 
 
-def _render(index: int) -> int:
+def _draw_and_save(job: FigureJob, formats: tuple[str, ...], inputs: tuple[Path, ...]) -> None:
     from .figure_files import save_figure
 
-    job, formats, inputs = _JOBS[index]
     save_figure(_first_axes(job.draw()).figure, job.stem, formats=formats, inputs=inputs)
+
+
+def _render(index: int) -> int:
+    _draw_and_save(*_JOBS[index])
     return index
 
 
@@ -57,10 +60,35 @@ def render_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg"
     start_figures(jobs, formats=formats, inputs=inputs)()
 
 
-def start_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",),
-                  inputs: Iterable = ()) -> Callable[[], None]:
-    """Start drawing the jobs as :func:`render_figures` does; return a function that waits until every file
-    is written (raising a worker's error). Meanwhile the caller can write what needs no figure.
+class FigureRun:
+    """Figures being drawn (:func:`start_figures`); call it to wait until every file is written (a worker's
+    error is raised then). :meth:`add` gives the same workers more jobs."""
+
+    def __init__(self, pool: Any, futures: list, formats: tuple[str, ...], inputs: tuple[Path, ...]) -> None:
+        self._pool, self._futures, self._formats, self._inputs = pool, futures, formats, inputs
+
+    def add(self, jobs: Sequence[FigureJob]) -> None:
+        """Draw more jobs: sent to the workers (pickled: the jobs' ``draw`` must be a picklable callable, such
+        as a ``functools.partial`` of a figure function), or drawn here when there are none."""
+        if self._pool is None:
+            for job in jobs:
+                _draw_and_save(job, self._formats, self._inputs)
+            return
+        self._futures += [self._pool.submit(_draw_and_save, job, self._formats, self._inputs) for job in jobs]
+
+    def __call__(self) -> None:
+        if self._pool is None:
+            return
+        try:
+            for future in self._futures:
+                future.result()
+        finally:
+            self._pool.shutdown(cancel_futures=True)
+
+
+def start_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",), inputs: Iterable = ()) -> FigureRun:
+    """Start drawing the jobs as :func:`render_figures` does; return the :class:`FigureRun`, which waits until
+    every file is written when called. Meanwhile the caller can write what needs no figure.
 
     Without workers (one core, few figures, no fork) the figures are drawn here before this returns.
     """
@@ -72,14 +100,15 @@ def start_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",
     from matplotlib import font_manager
 
     font_manager.findfont(font_manager.FontProperties())  # the font cache, loaded once before the fork
-    prepared = [(job, tuple(formats), tuple(Path(p) for p in inputs if p is not None)) for job in jobs]
+    formats, inputs = tuple(formats), tuple(Path(p) for p in inputs if p is not None)
+    prepared = [(job, formats, inputs) for job in jobs]
     workers = min(worker_count(), len(prepared))
     _JOBS = prepared
     try:
         if workers <= 1 or len(prepared) < MIN_FIGURES_FOR_WORKERS or not _can_fork():
             for index in range(len(prepared)):
                 _render(index)
-            return lambda: None
+            return FigureRun(None, [], formats, inputs)
         from concurrent.futures import ProcessPoolExecutor
 
         with RECORDING_WARNINGS, warnings.catch_warnings():
@@ -91,12 +120,4 @@ def start_figures(jobs: Sequence[FigureJob], *, formats: Sequence[str] = ("svg",
             futures = [pool.submit(_render, index) for index in range(len(prepared))]
     finally:
         _JOBS = []
-
-    def wait() -> None:
-        try:
-            for future in futures:
-                future.result()
-        finally:
-            pool.shutdown(cancel_futures=True)
-
-    return wait
+    return FigureRun(pool, futures, formats, inputs)

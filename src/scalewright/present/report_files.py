@@ -8,6 +8,7 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass, replace
+from functools import partial
 from pathlib import Path
 from typing import Any
 
@@ -96,13 +97,14 @@ def start_report_figures(ready: Any, folder: Path, *, inputs: Iterable = (), png
 
 
 def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
-                         formats: tuple[str, ...] = FIGURE_FORMATS, names: Any = None, parts: str = "all") \
-        -> tuple[dict[tuple[str, ...], FigureBlock], Callable[[], None]]:
+                         formats: tuple[str, ...] = FIGURE_FORMATS, names: Any = None, parts: str = "all",
+                         into: Any = None) -> tuple[dict[tuple[str, ...], FigureBlock], Callable[[], None]]:
     """:func:`make_figures` with the drawing started in the worker processes: returns the figures and a
     function that waits until their files are written (the caller writes what needs none meanwhile).
 
     ``parts``: "all"; "scales" (histograms, box plots, answers); "rest" (the structure's and the confirmatory
-    model's), with the :class:`FigureNames` of the first part as ``names`` so no file name is given twice.
+    model's, given to the workers of ``into``, the :class:`~scalewright.present.figure_pool.FigureRun` of the
+    first part), with the :class:`FigureNames` of the first part as ``names`` so no file name is given twice.
     """
     from .figure_pool import FigureJob, start_figures
 
@@ -165,14 +167,15 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
         from .figures_structure import loadings_figure, scree_figure
 
         if structure.parallel is not None:
-            stem = _save(lambda: scree_figure(structure), folder, names.unique("structure-scree"), inputs=inputs)
+            stem = _save(partial(scree_figure, structure), folder, names.unique("structure-scree"), inputs=inputs)
             figures[("scree",)] = FigureBlock(
                 stem, "Parallel analysis", f"Observed eigenvalues of the item correlations against those of "
                 f"random normal data of the same size ({structure.parallel.iterations} random data sets); "
                 f"{structure.parallel.suggested_factors} observed eigenvalue(s) lie above the random "
                 f"{structure.parallel.percentile:g}th percentile.")
         if structure.solution is not None:
-            stem = _save(lambda: loadings_figure(structure), folder, names.unique("structure-loadings"), inputs=inputs)
+            stem = _save(partial(loadings_figure, structure), folder, names.unique("structure-loadings"),
+                         inputs=inputs)
             figures[("loadings",)] = FigureBlock(
                 stem, "Factor loadings", f"Heat table of the loadings of {len(structure.items)} items on "
                 f"{structure.solution.n_factors} factor(s), items grouped by their scale; blue positive, "
@@ -183,13 +186,17 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
 
         model = confirm.models.get("all") or next(iter(confirm.models.values()), None)
         if model is not None and model.loadings:
-            stem = _save(lambda model=model: confirm_loadings_figure(model), folder, names.unique("confirm-loadings"),
+            stem = _save(partial(confirm_loadings_figure, model), folder, names.unique("confirm-loadings"),
                          inputs=inputs)
             figures[("confirm-loadings",)] = FigureBlock(
                 stem, "Loadings of the confirmatory model", f"Standardized loadings of the {len(model.items)} "
                 f"items of the {model.structure.replace('-', ' ')} model, one bar per item and factor, with "
                 "whiskers of 1.96 standard errors. The numbers are in the loadings table.")
-    wait = start_figures(jobs, formats=formats, inputs=inputs)
+    if into is not None:
+        into.add(jobs)
+        wait = into
+    else:
+        wait = start_figures(jobs, formats=formats, inputs=inputs)
     if "png" in formats:
         figures = {key: replace(block, png=True) for key, block in figures.items()}
     return figures, wait
@@ -224,6 +231,7 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     Figures are SVG files; ``png`` writes a PNG of each as well. ``started``: the figures
     :func:`start_report_figures` began drawing while the analyses ran (the same ``png``).
     """
+    from ..concurrency import start_in_process
     from ..scoring import write_scores
     from .html import render_html
     from .render import render_json
@@ -236,18 +244,19 @@ def write_report_folder(results: Any, folder: str | Path, *, decimals: int = 2, 
     if started is None:
         figures, figures_written = start_making_figures(results, folder, inputs=inputs,
                                                         formats=FIGURE_FORMATS_WITH_PNG if png else FIGURE_FORMATS)
-    else:  # the scales' figures are being drawn; the structure's and the models' (three at most) are drawn here
+    else:  # the scales' figures are being drawn; the structure's and the models' join them
         figures, figures_written = dict(started.figures), started.wait
         late, _ = start_making_figures(results, folder, inputs=inputs, formats=started.formats,
-                                       names=started.names, parts="rest")
+                                       names=started.names, parts="rest", into=started.wait)
         figures.update(late)
-    try:  # while the workers draw: the files that need no figure
+    try:  # while the workers draw: the files that need no figure, the scored file in a process of its own
+        # (a streamed report has written it block by block already)
+        scores_done = start_in_process(partial(write_scores, results.score_table, folder / "scores.csv",
+                                               inputs=inputs)) if not scores_written else None
         results_json = write_atomic(folder / "results.json", render_json(results.to_dict()), inputs=inputs)
-        # a streamed report has written its scored file block by block already
-        scores = folder / "scores.csv" if scores_written else write_scores(results.score_table, folder / "scores.csv",
-                                                                           inputs=inputs)
         document = build_document(results, figures=figures, decimals=decimals)
         markdown = write_atomic(folder / "report.md", render_report_markdown(document), inputs=inputs)
+        scores = folder / "scores.csv" if scores_done is None else scores_done()
     finally:
         figures_written()
     progress("pages")  # the page inlines the figures
