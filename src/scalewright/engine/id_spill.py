@@ -16,7 +16,9 @@ from __future__ import annotations
 
 import shutil
 import tempfile
+from dataclasses import replace
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 
@@ -62,6 +64,13 @@ class IdHashSpill:
         self.count += hashes.size
         if self._pending_size >= self._buffer_hashes:
             self._write()
+
+    def take_ids(self, reading: Any) -> Any:
+        """Spill the id hashes a block's reading counts hold and return the counts without them (a
+        :class:`~scalewright.engine.reading.ReadingCounts`): the ids are checked here, on disk, not held."""
+        for hashes in reading.id_hashes:
+            self.add(hashes)
+        return replace(reading, id_hashes=())
 
     def _write(self) -> None:
         if self._spill is None:

@@ -12,10 +12,8 @@ first; they keep the whole-file route.
 """
 from __future__ import annotations
 
-from collections import deque
 from collections.abc import Iterable, Iterator
-from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -23,11 +21,11 @@ import numpy as np
 import pandas as pd
 
 from ..answer_codes import ItemAnswers
-from ..concurrency import worker_count
 from ..data_columns import ids_as_text
 from ..data_file import first_row_number
 from ..files import write_atomic_with
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
+from .block_pool import in_file_order
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
 from .id_spill import IdHashSpill
 from .reading import ReadingCounts, ReadingOutcome, check_reading
@@ -73,23 +71,13 @@ def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_byte
     """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads.
     ``start``: the row number of the first row (default: the file's own first data row)."""
     start = first_row_number(path) if start is None else start
-    workers = worker_count()
 
     def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts]:
         block = convert_batch(batch, spec, columns, first_row=first)
         return score_scales(_BlockRows(block, spec), spec, standardize=standardize, z_bases=z_bases), block.reading
 
-    with ThreadPoolExecutor(max_workers=workers) as pool:
-        pending: deque = deque()
-        row = start
-        for batch in way():
-            pending.append(pool.submit(score, batch, row))
-            row += batch.num_rows
-            del batch
-            while len(pending) > workers:
-                yield pending.popleft().result()
-        while pending:
-            yield pending.popleft().result()
+    # scoring does no matrix products, so the pool's one BLAS thread per worker costs nothing here
+    yield from in_file_order(way(), score, start)
 
 
 class _Appender:
@@ -172,9 +160,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
                     first = first or table
                     for name, one in table.scales.items():
                         scored[name] = scored.get(name, 0) + one.n_scored
-                    for hashes in reading.id_hashes:  # checked on disk, not held (engine/id_spill.py)
-                        ids.add(hashes)
-                    reading = replace(reading, id_hashes=())
+                    reading = ids.take_ids(reading)  # checked on disk, not held (engine/id_spill.py)
                     counts = reading if counts is None else counts.merge(reading)
                 duplicates = ids.has_duplicates()
             except retry_errors() as error:

@@ -13,7 +13,6 @@ from __future__ import annotations
 import math
 import shutil
 import tempfile
-from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -66,9 +65,7 @@ def z_bases_of_file(path: str | Path, spec: Any, *, lenient: bool = False,
                         valid = one.scores[~np.isnan(one.scores)]
                         valid.tofile(handles[name])
                         scored[name] += valid.size
-                    for hashes in reading.id_hashes:
-                        ids.add(hashes)
-                    reading = replace(reading, id_hashes=())
+                    reading = ids.take_ids(reading)  # checked on disk, not held (engine/id_spill.py)
                     counts = reading if counts is None else counts.merge(reading)
                 duplicates = ids.has_duplicates()
             except retry_errors() as error:

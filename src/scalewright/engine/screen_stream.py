@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable, Iterator
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
@@ -104,9 +104,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     no_time = 0
     with IdHashSpill() as ids, IdHashSpill() as rows, ValueSpill() as halves_r, ValueSpill() as times:
         for block, found in passes.run(first_pass):
-            counts = replace(block.reading, id_hashes=())
-            for hashes in block.reading.id_hashes:
-                ids.add(hashes)
+            counts = ids.take_ids(block.reading)
             reading = counts if reading is None else reading.merge(counts)
             gram = found["gram"] if gram is None else gram + found["gram"]
             answered = found["answered"] if answered is None else answered + found["answered"]

@@ -3,15 +3,13 @@ a pool of threads as it arrives, merged into a running total and dropped. Memory
 whatever the number of rows."""
 from __future__ import annotations
 
-from collections import deque
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
-from ..concurrency import worker_count
 from ..data_file import first_row_number
 from ..summaries import Summary
+from .block_pool import in_file_order
 from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
 from .id_spill import IdHashSpill
 from .plan import SummaryPlan, summarise_block
@@ -43,36 +41,15 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
 
 def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *, file: str = "",
                        part: int = 0, spill_ids: bool = False) -> Summary:
-    workers = worker_count()
-    row = start
-
     def summarise(batch: Any, first: int) -> Summary:
         return summarise_block(convert_batch(batch, spec, plan.columns, first_row=first, file=file, part=part), plan)
 
-    from ..concurrency import one_blas_thread
-
-    # each block's cross-products are one matrix product per scale (and one of every item together for the
-    # whole-file models); a multi-threaded BLAS inside each pool thread makes the threads fight over the
-    # cores (61 columns x 16,384 rows: 7 ms on one BLAS thread, 280 ms on all of them on a busy machine)
-    with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool, IdHashSpill() as ids:
-        def take(done: Summary) -> Summary:
-            if not spill_ids:
-                return done
-            reading = done["reading"]
-            for hashes in reading.id_hashes:
-                ids.add(hashes)
-            return Summary({**done.members, "reading": replace(reading, id_hashes=())})
-
-        pending: deque = deque()
+    with IdHashSpill() as ids:
         merged = _TreeMerge()
-        for batch in batches:
-            pending.append(pool.submit(summarise, batch, row))
-            row += batch.num_rows
-            del batch
-            while len(pending) > workers:  # at most this many blocks held at once
-                merged.add(take(pending.popleft().result()))
-        while pending:
-            merged.add(take(pending.popleft().result()))
+        for done in in_file_order(batches, summarise, start):
+            if spill_ids:  # the ids are checked on disk, not held in the summary
+                done = Summary({**done.members, "reading": ids.take_ids(done["reading"])})
+            merged.add(done)
         total = merged.result()
         if total is not None and spill_ids and ids.has_duplicates():
             total = Summary({**total.members, "reading": replace(total["reading"], duplicate_ids=True)})
