@@ -28,13 +28,22 @@ SKIPPED_SECTIONS = {"screen": ("stream-section-needs-rows", "careless-responding
 
 def report_plan(spec: Any, options: Any) -> Any:
     """The summaries one pass over the file must gather for :func:`streamed_report`."""
+    from dataclasses import replace
+
     from ..engine.plan import plan_for
     from .summarised_confirm import with_whole_file_items
+    from .summarised_structure import structure_plan_options
 
-    # the per-level cross-products serve each scale's invariance; the whole-file model's items, its fit
-    plan = plan_for(spec, cross_products=options.missing, scores=True, by=tuple(options.by),
-                    categories=tuple(options.by), joint=len(spec.items) >= 2, patterns=True)
-    return with_whole_file_items(plan, spec, missing=options.missing)
+    # the per-level cross-products serve each scale's invariance; the whole-file model's items, its fit. Under
+    # em the covariances come from the per-pattern sums beside listwise cross-products (as `reliability`
+    # plans them); under pairwise each invariance model takes the listwise cross-products of the complete
+    # pattern (see confirm_for_report)
+    method = options.missing
+    plan = plan_for(spec, cross_products="pairwise" if method == "pairwise" else "listwise", scores=True,
+                    by=tuple(options.by), categories=tuple(options.by), patterns=True)
+    if len(spec.items) >= 2:
+        plan = replace(plan, **structure_plan_options(method, False))
+    return with_whole_file_items(plan, spec, missing=method)
 
 
 def answer_distribution_from_counts(scale: Any, answers: Any, *, min_cell: int = 5) -> Any:
@@ -71,7 +80,8 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
     step = progress or (lambda _: None)
     step(STEPS[1])
     reliability = reliability_from_summaries(spec, summary, by=options.by, confidence_level=options.confidence_level,
-                                             pairwise=options.missing == "pairwise", min_group=options.min_group)
+                                             pairwise=options.missing == "pairwise", min_group=options.min_group,
+                                             missing=options.missing)
     step(STEPS[2])
     shapes = shape_from_summaries(spec, summary, by=options.by, min_group=options.min_group, seed=options.seed)["scales"]
     step(STEPS[4])
@@ -80,7 +90,8 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
                for name, scale in spec.scales.items()}
     group_tallies = tuple(tally_of_column(spec, summary, column, min_cell=options.min_cell) for column in options.by)
     step(STEPS[5])
-    structure = (structure_from_summaries(spec, summary, seed=options.seed, iterations=options.iterations)
+    structure = (structure_from_summaries(spec, summary, missing=options.missing, seed=options.seed,
+                                          iterations=options.iterations)
                  if len(spec.items) >= 2 else None)
     step(STEPS[3])
     by_column = compare_from_summaries(spec, summary, by=options.by, min_cell=options.min_cell,
@@ -109,14 +120,26 @@ def confirm_for_report(spec: Any, summary: Any, n_rows: int, options: Any) -> An
     subgroup columns each scale's invariance (not the whole-file model's: that is for ``confirm --by``)."""
     from dataclasses import replace
 
+    from ..stats.cfa_model import factor_model
+    from ..summaries import ListwiseCrossProducts
     from .summarised_confirm import confirm_from_summaries
-    from .summarised_groups import invariance_by_scale_from_summaries
+    from .summarised_groups import invariance_from_summaries
 
     analysis = confirm_from_summaries(spec, summary, n_rows=n_rows, missing=options.missing,
                                       confidence_level=options.confidence_level)
     if not options.by:
         return analysis
-    invariance = invariance_by_scale_from_summaries(spec, summary, by=options.by, min_group=max(options.min_group, 30))
+
+    def listwise_of(part: Any, name: str) -> Any:
+        # the invariance models take each level's complete rows under every method, as on the whole-file route;
+        # under pairwise the plan keeps pairwise cross-products, and the complete pattern holds the listwise ones
+        if options.missing == "pairwise":
+            return ListwiseCrossProducts.from_patterns(part[name]["patterns"])
+        return part[name]["cross_products"]
+
+    targets = {name: factor_model({name: tuple(scale.items)}) for name, scale in spec.scales.items()}
+    invariance = invariance_from_summaries(spec, summary, targets, by=options.by, min_group=max(options.min_group, 30),
+                                           cross_products_of=listwise_of)
     return replace(analysis, invariance=invariance)
 
 

@@ -42,7 +42,7 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
 
     progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
-    needs_rows = ("--exclude" if exclude is not None else f"--missing {missing}" if missing != "listwise" else None)
+    needs_rows = "--exclude" if exclude is not None else None
     check_dask_options(engine, scheduler, workers)
     if row_route(engine, data, scales, needs_rows=needs_rows) in ("stream", "dask"):
         streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
@@ -50,7 +50,7 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
                                            min_group=min_group, min_cell=min_cell, duration_column=duration_column,
                                            duration_unit=duration_unit, single_file=single_file, png=png,
                                            max_levels=max_levels, engine=engine, block_size=block_size,
-                                           progress=progress, scheduler=scheduler, workers=workers)
+                                           progress=progress, scheduler=scheduler, workers=workers, missing=missing)
         if streamed is not None:
             return streamed
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
@@ -70,7 +70,8 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             force: bool, seed: int | None, iterations: int, confidence_level: float, min_group: int,
                             min_cell: int, duration_column: str | None, duration_unit: str, single_file: bool,
                             png: bool, max_levels: int | None, engine: str, block_size: int | None,
-                            progress: Any, scheduler: str | None = None, workers: int | None = None) -> Any:
+                            progress: Any, scheduler: str | None = None, workers: int | None = None,
+                            missing: str = "listwise") -> Any:
     """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
     summaries, one that writes ``scores.csv`` a block at a time, three for the screen (``screen.csv``; not on
     Dask); None when the file must be read whole."""
@@ -87,7 +88,7 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             seed=DEFAULT_SEED if seed is None else seed, iterations=iterations,
                             confidence_level=confidence_level, min_group=min_group, min_cell=min_cell, lenient=lenient,
                             exclude=None, decimals=decimals, duration_column=duration_column,
-                            duration_unit=duration_unit, missing="listwise")
+                            duration_unit=duration_unit, missing=missing)
     from .report_route import report_scores, report_summary
 
     try:  # the first pass: the merged summary, of the file's blocks or of the partitions on Dask
