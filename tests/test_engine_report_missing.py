@@ -10,7 +10,6 @@ from __future__ import annotations
 import json
 import math
 
-import numpy as np
 import pytest
 
 from .engine_data import SCALES, survey_rows, write_csv
@@ -76,24 +75,6 @@ def test_streamed_report_sections_equal_the_whole_file_report(survey, missing):
     assert whole["structure"]["missing_method"] == missing
     assert whole["confirm"]["missing"] == missing
     assert set(whole["confirm"]["invariance"]["shift"]) == {"workload", "climate"}
-
-
-def test_listwise_cross_products_from_the_complete_pattern():
-    """The complete pattern of the per-pattern sums holds the listwise cross-products (the invariance models
-    of a pairwise report): against numpy's own count, sums and products of the complete rows."""
-    from scalewright.stats.missing_patterns import PatternSummary
-    from scalewright.summaries import ListwiseCrossProducts, merge_all
-
-    rng = np.random.default_rng(8)
-    for rows, k in ((900, 4), (40, 3), (30, 20)):  # the complete pattern held as a matrix, and as rows
-        codes = rng.integers(0, 5, size=(rows, k)).astype(np.uint8)
-        codes[rng.random(codes.shape) < 0.08] = 255
-        merged = merge_all([PatternSummary.from_codes(block) for block in np.array_split(codes, 7)])
-        found = ListwiseCrossProducts.from_patterns(merged)
-        complete = codes[(codes != 255).all(axis=1)].astype(np.int64)
-        design = np.column_stack([np.ones(len(complete), dtype=np.int64), complete])
-        np.testing.assert_array_equal(found.gram, design.T @ design)  # numpy on the complete rows
-        assert found.n_rows == rows
 
 
 def test_report_streams_with_missing_em(tmp_path):

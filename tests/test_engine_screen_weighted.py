@@ -4,7 +4,7 @@ weighted screen.
 The reference is the whole-file screen with survey weights (``--engine memory``: the weighted Mahalanobis
 centre from ``stats.weighted.weighted_pairwise_moments``, the weighted alphas from numpy's
 ``cov(aweights=...)``, held to numpy and statsmodels in tests/test_weighted.py and tests/test_quality.py).
-The exact weighted sums of the streaming route are checked against numpy on the rows directly.
+The exact weighted sums of the streaming route: tests/test_exact_weighted.py.
 """
 from __future__ import annotations
 
@@ -14,7 +14,6 @@ import json
 from pathlib import Path
 
 import numpy as np
-import pytest
 
 from .test_engine_screen import HEADER, SCALES, _rows, _write, assert_same
 from .test_engine_stream import SMALL_BLOCK, run
@@ -94,39 +93,3 @@ def test_flag_file_tables_and_messages_equal_the_whole_file_ones(tmp_path):
     assert texts[1][1] == texts[0][1]  # the tables, rounded for reading (the weighted table too)
     assert "Flagged respondents, weighted" in texts[1][1]
 
-
-def test_exact_weighted_pairwise_moments_against_numpy():
-    """Reference: numpy's ``average(weights=...)`` per item and ``cov(aweights=..., ddof=1)`` of each pair's
-    rows answering both with a positive weight. The sums do not depend on the blocks or their order, and
-    the sums of some rows subtract exactly from those of all."""
-    from scalewright.summaries.base import merge_all
-    from scalewright.summaries.exact_weighted import ExactWeightedPairwise
-
-    rng = np.random.default_rng(21)
-    n, k = 700, 5
-    codes = rng.integers(0, 5, size=(n, k)).astype(np.uint8)
-    codes[rng.random(codes.shape) < 0.1] = 255
-    weights = rng.gamma(2.0, 0.7, n)
-    weights[rng.random(n) < 0.05] = 0
-    lows = np.array([1, 1, 0, 2, 1])
-    blocks = np.array_split(np.arange(n), 9)
-    merged = merge_all([ExactWeightedPairwise.from_codes(codes[b], weights[b]) for b in blocks])
-    shuffled = merge_all([ExactWeightedPairwise.from_codes(codes[b], weights[b]) for b in reversed(blocks)])
-    means, cov = merged.moments(lows)
-    again_means, again_cov = shuffled.moments(lows)
-    np.testing.assert_array_equal(again_means, means)  # to the bit, whatever the order
-    np.testing.assert_array_equal(again_cov, cov)
-    values = np.where(codes == 255, np.nan, codes + lows.astype(float))
-    for j in range(k):
-        rows = ~np.isnan(values[:, j]) & (weights > 0)
-        assert means[j] == pytest.approx(np.average(values[rows, j], weights=weights[rows]), rel=1e-14)
-        for i in range(k):
-            both = rows & ~np.isnan(values[:, i])
-            expected = np.cov(values[both, i], values[both, j], aweights=weights[both], ddof=1)[0, 1]
-            assert cov[i, j] == pytest.approx(expected, rel=1e-12, abs=1e-14)
-    assert merged.n_used == int((weights > 0).sum())
-    aside = rng.random(n) < 0.2
-    rest = merged.without(ExactWeightedPairwise.from_codes(codes[aside], weights[aside]))
-    direct = ExactWeightedPairwise.from_codes(codes[~aside], weights[~aside])
-    np.testing.assert_array_equal(rest.moments(lows)[1], direct.moments(lows)[1])
-    assert rest.n_used == direct.n_used
