@@ -138,14 +138,14 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         if ids.has_duplicates():
             raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
         outcome = check_reading(str(path), reading, spec, lenient=lenient)
+        if weights_read is not None and weight_reading is not None:  # as the whole-file reader, before the times
+            weights_read(weight_reading)
         if bad_duration is not None:
             row, value = bad_duration
             raise DataError(f"{path}: column {duration_column!r}, row {row}: {value!r} is not a number of seconds "
                             "or minutes")
         if negative:
             raise DataError("durations: negative completion time found; times must be zero or positive")
-        if weights_read is not None and weight_reading is not None:
-            weights_read(weight_reading)
         typical_halves = halves_r.median()
         median_duration = None if duration_column is None else times.median()
         candidates = rows.repeated()
