@@ -172,3 +172,18 @@ def test_weighted_report_on_dask_equals_the_whole_file_one(tmp_path):
         _same(b[section], a[section], section)
     assert [n for n in a["notes"] if "weight" in str(n)] == [n for n in b["notes"] if "weight" in str(n)]
     assert (tmp_path / "dask" / "scores.csv").read_bytes() == (tmp_path / "whole" / "scores.csv").read_bytes()
+
+
+def test_outside_a_command_the_scale_files_weights_are_named_not_used_as_on_the_whole_file_route(tmp_path):
+    """The library's ``report_from_files`` offers no ``--weight``: the whole-file reader leaves the scale
+    file's weights off and says so (``cli.common._with_weights``); so does the report of a file read in
+    blocks."""
+    from scalewright.cli.report import report_from_files
+
+    data, scales = _weighted_survey(tmp_path, n=80)
+    scales.write_text(SCALES.replace("groups: [shift]", "groups: [shift]\nweight: wt"), encoding="utf-8")
+    results = report_from_files(data, scales, tmp_path / "r", engine="stream", block_size=int(SMALL_BLOCK),
+                                iterations=2, quiet=True, single_file=True)
+    document = results.to_dict()
+    assert "weighted" not in document
+    assert any("names the weight column wt" in str(text) for text in document["notes"])

@@ -89,10 +89,9 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             confidence_level=confidence_level, min_group=min_group, min_cell=min_cell, lenient=lenient,
                             exclude=None, decimals=decimals, duration_column=duration_column,
                             duration_unit=duration_unit, missing=missing)
-    from .common import chosen_weight
     from .report_route import report_scores, report_summary
 
-    weight = chosen_weight() or getattr(spec, "weight", None)
+    weight, weight_notes = _report_weight(spec)
     try:  # the first pass: the merged summary, of the file's blocks or of the partitions on Dask
         first = report_summary(data, scales, spec, report_plan(spec, options, weight=weight), engine=engine,
                                lenient=lenient, block_size=block_size, scheduler=scheduler, workers=workers)
@@ -101,7 +100,6 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
         return None
     summary, outcome, info = first.summary, first.outcome, first.info
     # the checks of the whole-file route, before the folder is touched
-    weight_notes: list[str] = []
     if weight:
         from ..analyses.summarised_weighted import check_weights
 
@@ -135,6 +133,24 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             png=png, scores_written=True)
     progress.finish(f"wrote the report to {folder} (open {folder / 'index.html'})")
     return results
+
+
+def _report_weight(spec: Any) -> tuple[str | None, list[str]]:
+    """The survey weight column the report weighs by, chosen as the whole-file reader chooses it
+    (``cli.common._with_weights``): ``--weight`` or the scale file's ``weight`` in a command that offers
+    ``--weight``; elsewhere none, with the note that the scale file's weights were not used."""
+    import click
+
+    from .common import chosen_weight
+
+    ctx = click.get_current_context(silent=True)
+    column = chosen_weight() or getattr(spec, "weight", None)
+    if column is None or (ctx is not None and "scalewright.weight" in ctx.meta):
+        return column, []
+    from ..notes import note
+    from ..present.messages import describe
+
+    return None, [describe(note("weights-not-used", weight_column=column, command=ctx.info_name if ctx else ""))]
 
 
 def _streamed_screen(data: Path, spec: Any, folder: Path, options: Any, *, block_size: int | None,
