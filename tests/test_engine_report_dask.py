@@ -52,15 +52,6 @@ def test_scores_of_the_partitions_in_order_equal_the_whole_file_scores(dataset, 
     assert table.scales["workload"].n_scored + table.scales["workload"].n_unscored == 900
 
 
-def test_weights_are_refused_on_the_dask_route_before_any_cluster(dataset, tmp_path):
-    _, folder, scales = dataset
-    code, _, err = run("report", str(folder), "-s", str(scales), "--out", str(tmp_path / "r"), "--engine", "dask",
-                       "--weight", "shift")
-    assert code == 2
-    assert "--engine dask" in err
-    assert not (tmp_path / "r").exists()
-
-
 @pytest.fixture(scope="module")
 def cluster():
     pytest.importorskip("distributed")

@@ -137,10 +137,12 @@ def test_options_that_need_the_rows_keep_the_whole_file_route(tmp_path):
     scales = tmp_path / "scales.yaml"
     scales.write_text(SCALES, encoding="utf-8")
     data = write_csv(tmp_path / "survey.csv", survey_rows(60))
+    listed = tmp_path / "set-aside.txt"
+    listed.write_text("s00001\n", encoding="utf-8")
     code, _, err = run("report", str(data), "-s", str(scales), "--out", str(tmp_path / "r"), "--engine", "stream",
-                       "--missing", "pairwise")
+                       "--exclude", str(listed))
     assert code == 2
-    assert "--missing pairwise" in err
+    assert "--exclude" in err
     assert not (tmp_path / "r").exists()
 
 

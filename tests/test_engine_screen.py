@@ -213,12 +213,9 @@ def test_durations_that_are_not_numbers_are_named_as_whole(survey):
     assert "row 1401" in results[1][2]
 
 
-def test_weights_and_dask_are_refused_on_the_streaming_route(survey, tmp_path):
+def test_dask_is_refused_for_the_screen(survey, tmp_path):
+    # survey weights stream: tests/test_engine_screen_weighted.py
     data, scales = survey
-    code, _, err = run("screen", str(data), "-s", str(scales), "--weight", "minutes", "--engine", "stream")
-    assert code == 2
-    assert err.startswith("error: --engine stream: survey weights")
-    assert err.count("\n") == 1
     code, _, err = run("screen", str(data), "-s", str(scales), "--engine", "dask")
     assert code == 2
 

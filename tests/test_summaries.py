@@ -175,3 +175,20 @@ def test_summaries_of_different_kinds_do_not_merge():
         Summary({"a": AnswerCounts.from_codes(codes, 5)}).merge(Summary({"b": AnswerCounts.from_codes(codes, 5)}))
     with pytest.raises(DataError):
         AnswerCounts.from_codes(codes, 5).merge(AnswerCounts.from_codes(codes[:, :2], 5))
+
+
+def test_listwise_cross_products_from_the_complete_pattern():
+    """The complete pattern of the per-pattern sums holds the listwise cross-products (the invariance models
+    of a pairwise report): against numpy's own count, sums and products of the complete rows."""
+    from scalewright.stats.missing_patterns import PatternSummary
+
+    rng = np.random.default_rng(8)
+    for rows, k in ((900, 4), (40, 3), (30, 20)):  # the complete pattern held as a matrix, and as rows
+        codes = rng.integers(0, 5, size=(rows, k)).astype(np.uint8)
+        codes[rng.random(codes.shape) < 0.08] = 255
+        merged = merge_all([PatternSummary.from_codes(block) for block in np.array_split(codes, 7)])
+        found = ListwiseCrossProducts.from_patterns(merged)
+        complete = codes[(codes != 255).all(axis=1)].astype(np.int64)
+        design = np.column_stack([np.ones(len(complete), dtype=np.int64), complete])
+        np.testing.assert_array_equal(found.gram, design.T @ design)  # numpy on the complete rows
+        assert found.n_rows == rows

@@ -42,15 +42,15 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
 
     progress = Progress(1 + report_folder_steps(), quiet=quiet)
     progress.step("reading the inputs")
-    needs_rows = ("--exclude" if exclude is not None else f"--missing {missing}" if missing != "listwise" else None)
+    needs_rows = "--exclude" if exclude is not None else None
     check_dask_options(engine, scheduler, workers)
-    if row_route(engine, data, scales, needs_rows=needs_rows) in ("stream", "dask"):
+    if row_route(engine, data, scales, needs_rows=needs_rows, weighted_stream=True) in ("stream", "dask"):
         streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
                                            seed=seed, iterations=iterations, confidence_level=confidence_level,
                                            min_group=min_group, min_cell=min_cell, duration_column=duration_column,
                                            duration_unit=duration_unit, single_file=single_file, png=png,
                                            max_levels=max_levels, engine=engine, block_size=block_size,
-                                           progress=progress, scheduler=scheduler, workers=workers)
+                                           progress=progress, scheduler=scheduler, workers=workers, missing=missing)
         if streamed is not None:
             return streamed
     inputs = load_inputs(data, scales, lenient=lenient, exclude=exclude)
@@ -70,7 +70,8 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             force: bool, seed: int | None, iterations: int, confidence_level: float, min_group: int,
                             min_cell: int, duration_column: str | None, duration_unit: str, single_file: bool,
                             png: bool, max_levels: int | None, engine: str, block_size: int | None,
-                            progress: Any, scheduler: str | None = None, workers: int | None = None) -> Any:
+                            progress: Any, scheduler: str | None = None, workers: int | None = None,
+                            missing: str = "listwise") -> Any:
     """The report of a file read in blocks (:mod:`scalewright.analyses.report_streamed`): one pass for the
     summaries, one that writes ``scores.csv`` a block at a time, three for the screen (``screen.csv``; not on
     Dask); None when the file must be read whole."""
@@ -87,20 +88,30 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                             seed=DEFAULT_SEED if seed is None else seed, iterations=iterations,
                             confidence_level=confidence_level, min_group=min_group, min_cell=min_cell, lenient=lenient,
                             exclude=None, decimals=decimals, duration_column=duration_column,
-                            duration_unit=duration_unit, missing="listwise")
+                            duration_unit=duration_unit, missing=missing)
     from .report_route import report_scores, report_summary
 
+    weight, weight_notes = _report_weight(spec)
     try:  # the first pass: the merged summary, of the file's blocks or of the partitions on Dask
-        first = report_summary(data, scales, spec, report_plan(spec, options), engine=engine, lenient=lenient,
-                               block_size=block_size, scheduler=scheduler, workers=workers)
+        first = report_summary(data, scales, spec, report_plan(spec, options, weight=weight), engine=engine,
+                               lenient=lenient, block_size=block_size, scheduler=scheduler, workers=workers)
     except CannotStream as reason:
         said_read_whole(engine, data, reason)
         return None
     summary, outcome, info = first.summary, first.outcome, first.info
     # the checks of the whole-file route, before the folder is touched
+    if weight:
+        from ..analyses.summarised_weighted import check_weights
+
+        weight_notes = check_weights(str(data), summary["weight_reading"], weight, lenient=lenient)
     resolve_by(options.by, spec, StreamedLevels(summary), max_levels=options.max_levels)
     if duration_column and duration_column not in outcome.counts.file_columns:
         raise DataError(Problem(file=str(data), message=f"no column named {duration_column!r}"))
+    if weight and missing != "listwise":
+        from ..errors import UsageError
+
+        raise UsageError(f"survey weights work with --missing listwise only (the weighted covariance of complete "
+                         f"answers), not {missing}")
     folder = prepare_report_folder(out, force=force, inputs=[data, scales], single_file=single_file)
     progress.step("scoring")
     try:
@@ -110,9 +121,11 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
         raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
     # the screen judges every row: three more passes over a file read in blocks; on Dask it is left out
     screen = (None if engine == "dask" else
-              _streamed_screen(data, spec, folder, options, block_size=block_size, single_file=single_file))
+              _streamed_screen(data, spec, folder, options, block_size=block_size, single_file=single_file,
+                               weight=weight))
     results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=score_table,
-                              input_notes=tuple(outcome.notes()), progress=progress.step, screen=screen)
+                              input_notes=(*outcome.notes(), *weight_notes), progress=progress.step, screen=screen,
+                              weight=weight)
     if single_file:
         write_single_page(results, folder, decimals=decimals, inputs=[data, scales], progress=progress.step)
     else:
@@ -122,15 +135,34 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
     return results
 
 
+def _report_weight(spec: Any) -> tuple[str | None, list[str]]:
+    """The survey weight column the report weighs by, chosen as the whole-file reader chooses it
+    (``cli.common._with_weights``): ``--weight`` or the scale file's ``weight`` in a command that offers
+    ``--weight``; elsewhere none, with the note that the scale file's weights were not used."""
+    import click
+
+    from .common import chosen_weight
+
+    ctx = click.get_current_context(silent=True)
+    column = chosen_weight() or getattr(spec, "weight", None)
+    if column is None or (ctx is not None and "scalewright.weight" in ctx.meta):
+        return column, []
+    from ..notes import note
+    from ..present.messages import describe
+
+    return None, [describe(note("weights-not-used", weight_column=column, command=ctx.info_name if ctx else ""))]
+
+
 def _streamed_screen(data: Path, spec: Any, folder: Path, options: Any, *, block_size: int | None,
-                     single_file: bool) -> Any:
+                     single_file: bool, weight: str | None = None) -> Any:
     """The screen of the file read in blocks (:mod:`scalewright.engine.screen_stream`); every respondent's
-    record is written to ``screen.csv`` in the folder as it is judged (results.json holds the first flagged)."""
+    record is written to ``screen.csv`` in the folder as it is judged (results.json holds the first flagged);
+    with ``weight`` the weighted screen."""
     from ..cli.screen_streamed import streamed_screen_csv
 
     return streamed_screen_csv(data, spec, None if single_file else folder / "screen.csv",
                                duration_column=options.duration_column, duration_unit=options.duration_unit,
-                               lenient=options.lenient, block_size=block_size)
+                               lenient=options.lenient, block_size=block_size, weight=weight)
 
 
 @click.command("report", epilog=("Examples:\n\n\b\n"

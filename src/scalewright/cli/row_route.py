@@ -20,14 +20,16 @@ def row_engine_options(fn: Callable) -> Callable:
     return fn
 
 
-def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | None) -> str:
+def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | None,
+              weighted_stream: bool = False) -> str:
     """"memory", "stream" or "dask": the route of a command that writes rows (``needs_rows`` names an option that
-    needs the whole file first, or None); survey weights keep the whole-file route."""
+    needs the whole file first, or None); survey weights keep the whole-file route unless the command's
+    weighted estimates stream (``weighted_stream``)."""
     from ..engine.choose import choose_route
     from .common import chosen_weight
 
     route = choose_route(engine, data, needs_rows=needs_rows)
-    if route not in ("stream", "dask"):
+    if route not in ("stream", "dask") or weighted_stream:
         return route
     weight = chosen_weight()
     if weight is None:

@@ -76,7 +76,9 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
         long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
-    if row_route(engine, data, scales, needs_rows="--exclude" if exclude is not None else None) == "stream":
+    # survey weights stream: only the Mahalanobis centre, the alphas and the flagged shares are weighted
+    if row_route(engine, data, scales, needs_rows="--exclude" if exclude is not None else None,
+                 weighted_stream=True) == "stream":
         from .screen_streamed import streamed_screen
 
         if streamed_screen(data, scales, engine=engine, block_size=block_size, lenient=lenient, thresholds=thresholds,

@@ -41,10 +41,12 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
     spec = load_spec(scales)
     table_csv = out is not None and fmt is None and out.suffix.lower() == ".csv"
     chosen = None if table_csv else choose_format(fmt, out)
+    weighing = WeightCheck(str(data), spec, lenient=lenient)
 
     def screen(sink: Any) -> Any:
         return stream_screen(data, spec, thresholds=thresholds, duration_column=duration_column,
-                             duration_unit=duration_unit, lenient=lenient, block_bytes=block_size, sink=sink)
+                             duration_unit=duration_unit, lenient=lenient, block_bytes=block_size, sink=sink,
+                             **weighing.options())
 
     with ThreadPoolExecutor(max_workers=1) as pool, tempfile.TemporaryDirectory(prefix="scalewright-screen-") as spill:
         digests = pool.submit(InputInfo.from_paths, data, scales)
@@ -52,7 +54,7 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
             if table_csv:
                 result = screen_to_csv(data, spec, out, flagged_only=flagged_only, thresholds=thresholds,
                                        duration_column=duration_column, duration_unit=duration_unit,
-                                       lenient=lenient, block_bytes=block_size)
+                                       lenient=lenient, block_bytes=block_size, **weighing.options())
             elif chosen == "json":
                 records = Path(spill) / "respondents.jsonl"
                 with open(records, "w", encoding="utf-8") as handle:
@@ -65,8 +67,29 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
         info = digests.result()
         _finish(result, info=info, spec=spec, data=data, scales=scales, chosen=chosen, out=out,
                 flagged_only=flagged_only, duration_column=duration_column, decimals=decimals,
-                records=Path(spill) / "respondents.jsonl")
+                records=Path(spill) / "respondents.jsonl", weight_notes=tuple(weighing.notes))
     return True
+
+
+class WeightCheck:
+    """The survey weight column of a screen (``--weight``, else the scale file's), and the check of what
+    reading it found: the run refused as the whole-file route refuses it, or the same notes."""
+
+    def __init__(self, path: str, spec: Any, *, lenient: bool) -> None:
+        from .common import chosen_weight
+
+        self.path, self.lenient = path, lenient
+        self.column: str | None = chosen_weight() or getattr(spec, "weight", None)
+        self.notes: list[str] = []
+
+    def options(self) -> dict[str, Any]:
+        """The weight options of :func:`~scalewright.engine.screen_stream.stream_screen` (none unweighted)."""
+        return {} if self.column is None else {"weight": self.column, "weights_read": self.check}
+
+    def check(self, reading: Any) -> None:
+        from ..analyses.summarised_weighted import check_weights
+
+        self.notes = check_weights(self.path, reading, str(self.column), lenient=self.lenient)
 
 
 def screen_to_csv(data: Path, spec: Any, target: Path | None, *, flagged_only: bool = False,
@@ -104,9 +127,10 @@ def screen_to_csv(data: Path, spec: Any, target: Path | None, *, flagged_only: b
 
 
 def streamed_screen_csv(data: Path, spec: Any, target: Path | None, *, duration_column: str | None,
-                        duration_unit: str, lenient: bool, block_size: int | None) -> Any:
+                        duration_unit: str, lenient: bool, block_size: int | None, weight: str | None = None) -> Any:
     """The report's screen of a file read in blocks: every respondent's record in ``target`` (the report's
-    ``screen.csv``; None: a single page, no table), the summary naming the file."""
+    ``screen.csv``; None: a single page, no table), the summary naming the file; with ``weight`` the weighted
+    screen (the weights were checked by the report's first pass)."""
     from dataclasses import replace
 
     from ..engine.blocks import CannotStream
@@ -114,7 +138,7 @@ def streamed_screen_csv(data: Path, spec: Any, target: Path | None, *, duration_
 
     try:
         result = screen_to_csv(data, spec, target, duration_column=duration_column, duration_unit=duration_unit,
-                               lenient=lenient, block_bytes=block_size)
+                               lenient=lenient, block_bytes=block_size, weight=weight)
     except CannotStream as reason:  # an earlier pass read it: only a file changed meanwhile gets here
         raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
     return replace(result.summary, records_file=None if target is None else target.name)
@@ -129,7 +153,8 @@ def _json_lines(handle: Any, flagged_only: bool) -> Any:
 
 
 def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chosen: str | None, out: Path | None,
-            flagged_only: bool, duration_column: str | None, decimals: int, records: Path) -> None:
+            flagged_only: bool, duration_column: str | None, decimals: int, records: Path,
+            weight_notes: tuple[str, ...] = ()) -> None:
     from ..files import write_atomic_with
     from ..present.document import envelope
     from ..present.quality import duplicate_notes, screen_notes, screen_tables
@@ -138,20 +163,26 @@ def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chos
     from .common import Inputs, emit
 
     summary = result.summary
-    notes = tuple(result.outcome.notes())
+    notes = (*result.outcome.notes(), *weight_notes)
     inputs = Inputs(spec=spec, responses=result.outcome, info=info, excluded=0, notes=notes)
     options = {"duration_column": duration_column, "flagged_only": flagged_only, "excluded": 0}
     document = summary.to_dict()
+    weighted_tables = []
+    if summary.weighted is not None:
+        from ..present.weighted import weighted_screen_table
+
+        weighted_tables.append(weighted_screen_table(summary.weighted, summary.flag_counts(), summary.n))
     if chosen is None:  # the per-respondent table was written
         n_flagged = summary.n_flagged
         written = summary.n if not flagged_only else n_flagged
         click.echo(f"wrote {out} ({written} respondent(s); {n_flagged} of {summary.n} flagged)", err=True)
-        for line in (*notes, *screen_notes(document), *duplicate_notes(document)):
+        lines = [table.notes[0] for table in weighted_tables]
+        for line in (*notes, *screen_notes(document), *duplicate_notes(document), *lines):
             click.echo(f"note: {visible_controls(line)}", err=True)
         return
     held = len(document["respondents"])
-    tables = screen_tables(document, flagged_only=True,
-                           max_rows=held if summary.n_flagged > held else None)
+    tables = [*screen_tables(document, flagged_only=True, max_rows=held if summary.n_flagged > held else None),
+              *weighted_tables]
     if chosen != "json":
         emit(command="screen", inputs=inputs, body={**document, "engine": {"name": "stream"}}, tables=tables,
              fmt=chosen, out=out, decimals=decimals, options=options)

@@ -167,6 +167,10 @@ def summarise_block(block: Any, plan: SummaryPlan) -> Summary:
         from ..summaries.weighted import WeightedCategoryCounts
 
         members["weight_reading"] = weight_reading
+        # the exact sums of w and w squared of every row (the report's "Survey weights" section)
+        from ..summaries.exact_weighted import ExactWeightedCrossProducts
+
+        members["w_rows"] = ExactWeightedCrossProducts.from_codes(np.empty((block.n, 0), dtype=np.uint8), weights)
         members["w_categories"] = Keyed({column: WeightedCategoryCounts.from_values(block.columns[column], weights)
                                          for column in dict.fromkeys([*plan.by, *plan.categories])})
     if plan.joint:

@@ -40,6 +40,7 @@ from .id_spill import IdHashSpill
 from .reading import ReadingCounts, ReadingOutcome, check_reading
 from .row_hash import answer_row_hashes
 from .screen_passes import Layout, Passes, block_durations, block_ids, centre_of, column_totals, median_of_counts
+from .screen_weighted import JudgedSums, first_pass_sums, set_aside_sums
 from .value_spill import ValueSpill
 
 #: flagged records kept in memory for the tables (every record goes to the sink)
@@ -58,15 +59,22 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
                   duration_column: str | None = None, duration_unit: str = "s", lenient: bool = False,
                   block_bytes: int | None = None, sink: Callable[[JsonRows], None] | None = None,
                   before_rows: Callable[[ScreenSummary], None] | None = None,
-                  held: int = HELD_RECORDS) -> StreamedScreen:
+                  held: int = HELD_RECORDS, weight: str | None = None,
+                  weights_read: Callable[[Any], None] | None = None) -> StreamedScreen:
     """Screen the file in three passes (see the module notes); ``sink`` receives every block's records in
     file order, ``before_rows`` is called once before the first (when everything but the rows is known:
     the summary passed has no counts yet). Raises :class:`~scalewright.engine.blocks.CannotStream` for
-    a file the whole-file reader must read, before any record is handed on."""
+    a file the whole-file reader must read, before any record is handed on.
+
+    ``weight`` names the survey weight column: the Mahalanobis centres, the alphas with and without the
+    flagged and the flagged shares are then weighted, from exact sums (:mod:`.screen_weighted`);
+    ``weights_read`` is given what reading the weights found (a
+    :class:`~scalewright.summaries.weighted.WeightReading`) once the first pass is checked, before any
+    record is handed on (to refuse the run as the whole-file route refuses it)."""
     path = Path(path)
     thresholds = thresholds or ScreenThresholds()
     columns = tuple(dict.fromkeys([*([spec.id_column] if spec.id_column else []),
-                                   *([duration_column] if duration_column else [])]))
+                                   *([duration_column] if duration_column else []), *([weight] if weight else [])]))
     passes = Passes(path, spec, columns, block_bytes)
     p = len(spec.items)
     run_limit = thresholds.long_run_items(p)
@@ -93,7 +101,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
                 "halves": halves, "timed": timed, "bad": bad,
                 "negative": bool(timed is not None and (timed[np.isfinite(timed)] < 0).any()),
                 "no_time": 0 if durations is None else int((~np.isfinite(durations)).sum()),
-                "hashes": answer_row_hashes(block.codes)}
+                "hashes": answer_row_hashes(block.codes),
+                "weighted": None if weight is None else first_pass_sums(block, weight, kc)}
 
     reading: ReadingCounts | None = None
     gram = answered = None
@@ -102,6 +111,7 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     bad_duration = None
     negative = False
     no_time = 0
+    weight_reading = weighted = None
     with IdHashSpill() as ids, IdHashSpill() as rows, ValueSpill() as halves_r, ValueSpill() as times:
         for block, found in passes.run(first_pass):
             counts = ids.take_ids(block.reading)
@@ -117,11 +127,17 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
             negative |= found["negative"]
             no_time += found["no_time"]
             rows.add(found["hashes"])
+            if found["weighted"] is not None:
+                read, sums = found["weighted"]
+                weight_reading = read if weight_reading is None else weight_reading.merge(read)
+                weighted = sums if weighted is None else weighted.merge(sums)
         if reading is None or reading.rows == 0 or layout is None:
             raise CannotStream("no rows")  # the whole-file reader says so
         if ids.has_duplicates():
             raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
         outcome = check_reading(str(path), reading, spec, lenient=lenient)
+        if weights_read is not None and weight_reading is not None:  # as the whole-file reader, before the times
+            weights_read(weight_reading)
         if bad_duration is not None:
             row, value = bad_duration
             raise DataError(f"{path}: column {duration_column!r}, row {row}: {value!r} is not a number of seconds "
@@ -133,6 +149,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         candidates = rows.repeated()
     n = reading.rows
     first_centre, cov, means, counts = centre_of(gram, layout, n_rows=n, n_basis=n)
+    if weighted is not None:  # the weighted means and pairwise covariance of the rows of positive weight
+        first_centre = _weighted_centre(weighted, layout, n_rows=n)
     totals, _ = column_totals(gram, layout)
     sample_basics = _sample_basics(cov, means, counts, answered, n=n, typical_halves=typical_halves,
                                    scales_used=scales_used, thresholds=thresholds)
@@ -152,6 +170,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
             # the rows set aside are few: their cross-products, taken from everyone's, leave the reference's
             out["gram"] = pairwise_gram(kc[~reference], span=int(layout.spans.max(initial=1)))
             out["n_aside"] = int((~reference).sum())
+            if weight is not None:
+                out["weighted"] = set_aside_sums(block, weight, kc, reference)
         if candidates.size:
             hashes = answer_row_hashes(block.codes)
             at = np.minimum(np.searchsorted(candidates, hashes), candidates.size - 1)
@@ -165,11 +185,14 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         return out
 
     aside_gram, n_aside, offset = np.zeros_like(gram), 0, 0
+    weighted_aside = None
     twins: dict[bytes, list[tuple[int, str, bool, int]]] = {}
     for block, found in passes.run(second_pass):
         if "gram" in found:
             aside_gram += found["gram"]
             n_aside += found["n_aside"]
+            if "weighted" in found:
+                weighted_aside = found["weighted"] if weighted_aside is None else weighted_aside.merge(found["weighted"])
         if "twins" in found:
             chosen, keys, long_run, answered_items = found["twins"]
             names = block_ids(block, spec)
@@ -181,6 +204,9 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     centre = first_centre if first_centre.ok else None
     if first_centre.ok:
         second_centre = centre_of(gram - aside_gram, layout, n_rows=n, n_basis=n - n_aside)[0]
+        if weighted is not None:
+            second_centre = _weighted_centre(weighted if weighted_aside is None else weighted.without(weighted_aside),
+                                             layout, n_rows=n)
         if second_centre.ok:
             centre = second_centre
         else:
@@ -194,7 +220,8 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
                           median_duration=None if median_duration is None else median_duration)
 
     # ------------------------------------------------------------------------------------------ pass 3
-    def third_pass(block: Block, start: int) -> tuple[JudgedRows, dict[str, np.ndarray]]:
+    def third_pass(block: Block, start: int) -> tuple[JudgedRows, dict[str, tuple[np.ndarray, np.ndarray]],
+                                                      JudgedSums | None]:
         raw, scales, kc = layout.matrices(block.codes)
         durations, _ = block_durations(block, duration_column)
         rows_at = np.arange(start, start + block.n)
@@ -205,7 +232,9 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
             span = int(layout.spans[part].max(initial=1))
             # the flagged are few: their cross-products, taken from everyone's, leave the unflagged ones'
             grams[name] = (listwise_gram(kc[:, part], span=span), listwise_gram(kc[judged.flagged][:, part], span=span))
-        return judged, grams
+        sums = (None if weight is None else
+                JudgedSums.of_block(block, weight, kc, layout.scales, judged.flagged, judged.fired))
+        return judged, grams, sums
 
     fired_counts = dict.fromkeys(FLAG_ORDER, 0)
     together = np.zeros((len(FLAG_ORDER), len(FLAG_ORDER)), dtype=np.int64)
@@ -215,13 +244,16 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
     n_flagged = 0
     alpha_grams: dict[str, list] = {}
     kept: list = []
+    judged_sums = JudgedSums()
     summary = _summary(n=n, fired_counts=fired_counts, together=together, n_flagged=0, alpha={}, p=p,
                        run_limit=run_limit, median_duration=median_duration, duration_column=duration_column,
                        duration_unit=duration_unit, not_checked=(), groups=groups, status=status,
                        thresholds=thresholds, weak=sample_basics, notes=(), missing_values={}, held=JsonRows())
     if before_rows is not None:
         before_rows(summary)
-    for _, (judged, grams) in _numbered_blocks(passes, third_pass):
+    for _, (judged, grams, sums) in _numbered_blocks(passes, third_pass):
+        if sums is not None:
+            judged_sums = judged_sums.merge(sums)
         matrix = np.column_stack([judged.fired[code] for code in FLAG_ORDER]).astype(np.int64)
         together += matrix.T @ matrix
         for code, count in zip(FLAG_ORDER, matrix.sum(axis=0).tolist(), strict=True):
@@ -276,13 +308,33 @@ def stream_screen(path: str | Path, spec: Any, *, thresholds: ScreenThresholds |
         notes.append(note("profile-not-checked", flag=FLAG_AGAINST_SAMPLE))
     from ..stats.screening import _unique_notes
 
+    weighted_block = None
+    alpha = _alpha_change(alpha_grams, n)
+    if weight is not None and judged_sums.everyone is not None:
+        from ..stats.screen_weighted import weighted_alpha_change, weighted_flag_shares
+
+        alpha = weighted_alpha_change({name: pair[0] for name, pair in judged_sums.scales.items()},
+                                      {name: pair[1] for name, pair in judged_sums.scales.items()})
+        weighted_block = weighted_flag_shares(
+            weight_column=weight, n=n, n_zero_weight=0 if weight_reading is None else weight_reading.n_zero_weight,
+            everyone=judged_sums.everyone, flagged=judged_sums.flagged, n_flagged=n_flagged,
+            per_flag={code: None if code in not_checked else judged_sums.per_flag[code] for code in FLAG_ORDER})
     summary = _summary(n=n, fired_counts=fired_counts, together=together, n_flagged=n_flagged,
-                       alpha=_alpha_change(alpha_grams, n), p=p, run_limit=run_limit,
+                       alpha=alpha, p=p, run_limit=run_limit,
                        median_duration=median_duration, duration_column=duration_column, duration_unit=duration_unit,
                        not_checked=tuple(not_checked), groups=groups, status=status, thresholds=thresholds,
                        weak=sample_basics, notes=_unique_notes(notes), missing_values=missing_values,
                        held=JsonRows(kept))
-    return StreamedScreen(summary=summary, outcome=outcome)
+    return StreamedScreen(summary=replace(summary, weighted=weighted_block), outcome=outcome)
+
+
+def _weighted_centre(sums: Any, layout: Layout, *, n_rows: int) -> Any:
+    """The Mahalanobis centre of the weighted moments of the rows of positive weight (``sums``:
+    :class:`~scalewright.summaries.exact_weighted.ExactWeightedPairwise` of the keyed codes)."""
+    from ..stats.mahalanobis import mahalanobis_centre
+
+    means, cov = sums.moments(layout.keyed_lows)
+    return mahalanobis_centre(means, cov, n_rows=n_rows, n_basis=sums.n_used)
 
 
 def _numbered_blocks(passes: Passes, work: Callable[[Block, int], Any]) -> Iterator[tuple[Block, Any]]:

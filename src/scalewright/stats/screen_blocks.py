@@ -164,6 +164,8 @@ class ScreenSummary:
     respondents: JsonRows = field(default_factory=JsonRows)
     #: where every respondent's record was written (a report's per-respondent table), or None
     records_file: str | None = None
+    #: with survey weights: the weighted shares of the flagged (``summary.weighted``), or None
+    weighted: dict[str, Any] | None = None
 
     def flag_counts(self) -> dict[str, int | None]:
         counts: dict[str, int | None] = {code: int(self.fired_counts.get(code, 0)) for code in FLAG_ORDER}
@@ -183,6 +185,7 @@ class ScreenSummary:
             "n_items": self.n_items, "long_run_items": self.long_run_items,
             "median_duration": self.median_duration, "duration_unit": self.duration_unit,
             "not_checked": list(self.not_checked),
+            **({} if self.weighted is None else {"weighted": self.weighted}),
         }
 
     def not_computable_notes(self) -> list[Note]:

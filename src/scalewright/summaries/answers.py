@@ -21,6 +21,7 @@ from ..stats.coded import (
     pairwise_gram,
 )
 from ..stats.item_covariance import ItemCovariance
+from ..stats.missing_patterns import PatternSummary
 
 
 def _same_shape(a: np.ndarray, b: np.ndarray, what: str) -> None:
@@ -54,6 +55,22 @@ class ListwiseCrossProducts:
     @classmethod
     def from_codes(cls, codes: np.ndarray, *, span: int) -> ListwiseCrossProducts:
         return cls(gram=listwise_gram(codes, span=span), n_rows=int(codes.shape[0]))
+
+    @classmethod
+    def from_patterns(cls, patterns: PatternSummary) -> ListwiseCrossProducts:
+        """The listwise cross-products of the rows summarised in ``patterns`` (made of answer codes): the
+        complete pattern's count, sums and cross-products are exactly :func:`listwise_gram`'s integers."""
+        if not patterns.exact:
+            raise DataError("listwise cross-products need per-pattern sums of answer codes (exact integers)")
+        k = patterns.k
+        gram = np.zeros((k + 1, k + 1), dtype=np.int64)
+        complete = np.flatnonzero(patterns.observed.all(axis=1))
+        if complete.size:
+            position = int(complete[0])
+            gram[0, 0] = patterns.counts[position]
+            gram[0, 1:] = gram[1:, 0] = np.asarray(patterns.sums[position], dtype=np.int64)
+            gram[1:, 1:] = patterns.cross_products(position)
+        return cls(gram=gram, n_rows=patterns.n_rows)
 
     def merge(self, other: ListwiseCrossProducts) -> ListwiseCrossProducts:
         _same_shape(self.gram, other.gram, "cross-products")

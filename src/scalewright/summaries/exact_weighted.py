@@ -151,3 +151,104 @@ class ExactWeightedCrossProducts:
                 numerator = v1 * int(g[i + 1, j + 1]) - int(g[0, i + 1]) * int(g[0, j + 1])
                 cov[i, j] = cov[j, i] = self._ratio(numerator, 2 * e, denominator, low) * sign[i] * sign[j]
         return cov
+
+
+def _exact_products(design: np.ndarray, squared: np.ndarray, weights: np.ndarray) \
+        -> tuple[tuple[Any, int | None], tuple[Any, int | None]]:
+    """``(D' diag(w) D, S' diag(w^2) S)``, each exact (an object array of whole numbers and an exponent), for
+    a design ``D`` and ``S`` of whole numbers from 0 to 255 and positive finite weights ``w``: the products
+    of :class:`ExactWeightedCrossProducts`, on any design."""
+    total: tuple[Any, int | None] = (np.zeros((design.shape[1],) * 2, dtype=object), None)
+    squares: tuple[Any, int | None] = (np.zeros((squared.shape[1],) * 2, dtype=object), None)
+    if not weights.size:
+        return total, squares
+    m, e = _split_weights(weights)
+    parts = [(m >> (_PART_BITS * j)) & _PART_MASK for j in range(3)]
+    for exponent in np.unique(e):
+        rows = np.flatnonzero(e == exponent)
+        gram = np.zeros((design.shape[1],) * 2, dtype=object)
+        square = np.zeros((squared.shape[1],) * 2, dtype=object)
+        for start in range(0, rows.size, _ROWS_PER_PRODUCT):
+            piece = rows[start:start + _ROWS_PER_PRODUCT]
+            x, s = design[piece], squared[piece]
+            p = [part[piece].astype(np.float64) for part in parts]
+            for j in range(3):
+                gram = gram + _as_int(x.T @ (x * p[j][:, None])) * (1 << (_PART_BITS * j))
+                for i in range(3):  # w^2 = m^2 2^2e, m^2 = sum_ij p_i p_j 2^(18 (i + j)); each sum below 2^53
+                    square = square + _as_int(s.T @ (s * (p[i] * p[j])[:, None])) * (1 << (_PART_BITS * (i + j)))
+        total = _aligned(total, (gram, int(exponent)))
+        squares = _aligned(squares, (square, 2 * int(exponent)))
+    return total, squares
+
+
+@dataclass(frozen=True, eq=False)
+class ExactWeightedPairwise:
+    r"""The weighted pairwise moments of answer codes, summed exactly, over the rows with a positive weight:
+    :math:`G = D' \mathrm{diag}(w) D` with :math:`D = [a\; z]` (the answered indicators and the codes, zero
+    where missing; 2k columns, as :func:`~scalewright.stats.coded.pairwise_gram`) and
+    :math:`Q = a' \mathrm{diag}(w^2) a`, each whole numbers times a power of two (see the module notes), and
+    how many rows had a positive weight. The pairwise-complete weighted means and covariance of
+    :func:`~scalewright.stats.weighted.weighted_pairwise_moments` (the weighted Mahalanobis centre of the
+    screen) are functions of these sums; the sums of some rows subtract exactly from those of more."""
+
+    gram_int: np.ndarray  # object arrays of Python integers
+    gram_exp: int | None
+    square_int: np.ndarray
+    square_exp: int | None
+    n_used: int
+
+    @classmethod
+    def from_codes(cls, codes: np.ndarray, weights: np.ndarray) -> ExactWeightedPairwise:
+        used = np.asarray(weights) > 0
+        codes = codes[used]
+        answered = (codes != MISSING).astype(np.float64)
+        design = np.concatenate([answered, np.where(codes != MISSING, codes, 0).astype(np.float64)], axis=1)
+        (gram, gram_exp), (square, square_exp) = _exact_products(design, answered, np.asarray(weights)[used])
+        return cls(gram_int=gram, gram_exp=gram_exp, square_int=square, square_exp=square_exp,
+                   n_used=int(used.sum()))
+
+    def merge(self, other: ExactWeightedPairwise) -> ExactWeightedPairwise:
+        gram = _aligned((self.gram_int, self.gram_exp), (other.gram_int, other.gram_exp))
+        square = _aligned((self.square_int, self.square_exp), (other.square_int, other.square_exp))
+        return ExactWeightedPairwise(gram_int=gram[0], gram_exp=gram[1], square_int=square[0], square_exp=square[1],
+                                     n_used=self.n_used + other.n_used)
+
+    def without(self, part: ExactWeightedPairwise) -> ExactWeightedPairwise:
+        """The sums of these rows less those of ``part`` (some of them): exact."""
+        gram = _aligned((self.gram_int, self.gram_exp), (-part.gram_int, part.gram_exp))
+        square = _aligned((self.square_int, self.square_exp), (-part.square_int, part.square_exp))
+        return ExactWeightedPairwise(gram_int=gram[0], gram_exp=gram[1], square_int=square[0], square_exp=square[1],
+                                     n_used=self.n_used - part.n_used)
+
+    def moments(self, lows: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        r"""The weighted item means (every answer given, as answers: ``lows`` plus the codes) and the
+        pairwise-complete weighted covariances, each cell the correctly rounded ratio of exact sums:
+
+        .. math:: s_{jk} = \frac{V_1 C_{jk} - S_{j|k} S_{k|j}}{V_1^2 - V_2}
+
+        over the rows answering both (:math:`V_1`, :math:`V_2` their sums of w and w squared); NaN where a
+        mean has no weight or a pair fewer than two weighted rows."""
+        k = self.gram_int.shape[0] // 2
+        means = np.full(k, np.nan)
+        cov = np.full((k, k), np.nan)
+        if self.gram_exp is None:
+            return means, cov
+        g, e, e2 = self.gram_int, self.gram_exp, self._square_exp
+        ratio = ExactWeightedCrossProducts._ratio
+        for j in range(k):
+            v1 = int(g[j, j])
+            if v1 > 0:
+                means[j] = ratio(int(g[k + j, j]) + int(lows[j]) * v1, e, v1, e)
+        low = min(2 * e, e2)
+        for i in range(k):
+            for j in range(i, k):
+                v1 = int(g[i, j])
+                denominator = (v1 * v1 << (2 * e - low)) - (int(self.square_int[i, j]) << (e2 - low))
+                if v1 > 0 and denominator > 0:
+                    numerator = v1 * int(g[k + i, k + j]) - int(g[k + i, j]) * int(g[k + j, i])
+                    cov[i, j] = cov[j, i] = ratio(numerator, 2 * e, denominator, low)
+        return means, cov
+
+    @property
+    def _square_exp(self) -> int:
+        return 0 if self.square_exp is None else self.square_exp
