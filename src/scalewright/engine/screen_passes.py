@@ -4,9 +4,7 @@ way on every pass (:class:`Passes`). See :mod:`.screen_stream`."""
 from __future__ import annotations
 
 import math
-from collections import deque
 from collections.abc import Callable, Iterator
-from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -15,10 +13,10 @@ import numpy as np
 import pandas as pd
 
 from ..answer_codes import MISSING, ItemAnswers
-from ..concurrency import worker_count
 from ..data_columns import ids_as_text
 from ..data_file import first_row_number
 from ..stats.coded import covariance_from_pairwise_gram
+from .block_pool import in_file_order
 from .blocks import Block, CannotStream, batch_sources, convert_batch, retry_errors
 
 
@@ -145,22 +143,8 @@ class Passes:
                     raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
 
     def _blocks(self, way: Callable[[], Iterator[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
-        from ..concurrency import one_blas_thread
-
-        workers = worker_count()
-
         def one(batch: Any, first: int) -> tuple[Block, Any]:
             block = convert_batch(batch, self.spec, self.columns, first_row=first)
             return block, work(block)
 
-        with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
-            pending: deque = deque()
-            row = first_row_number(self.path)
-            for batch in way():
-                pending.append(pool.submit(one, batch, row))
-                row += batch.num_rows
-                del batch
-                while len(pending) > workers:
-                    yield pending.popleft().result()
-            while pending:
-                yield pending.popleft().result()
+        yield from in_file_order(way(), one, first_row_number(self.path))
