@@ -1,9 +1,12 @@
 """Test data for the streaming and Dask routes: a fictional staff climate survey generated in code."""
 from __future__ import annotations
 
+import math
+from collections.abc import Callable
 from pathlib import Path
 
 import numpy as np
+import pytest
 
 from .survey_files import AGREEMENT_1_TO_5
 
@@ -73,3 +76,27 @@ def write_dataset(folder: Path, rows: list[list[str]], *, parts: int, row_group_
         write_parquet(dataset / f"part-{part}.parquet", rows[part * size:(part + 1) * size],
                       row_group_size=row_group_size)
     return write_csv(folder / "survey.csv", rows), dataset, scales
+
+
+def assert_same_json(a, b, path: str = "", *, rel: float = 1e-12, absolute: float = 1e-12,
+                     rel_at: Callable[[str], float | None] | None = None, exact_types: bool = False) -> None:
+    """Two JSON documents (or parts) alike: keys, lengths, texts and counts exactly; floats to ``rel``
+    (relative) or ``absolute`` (near zero), or to ``rel_at(path)`` where that gives a looser bound; NaN equals
+    NaN. ``exact_types``: an int must not stand where the other has a float."""
+    if isinstance(a, dict):
+        assert a.keys() == b.keys(), path
+        for key in a:
+            assert_same_json(a[key], b[key], f"{path}.{key}", rel=rel, absolute=absolute, rel_at=rel_at,
+                             exact_types=exact_types)
+    elif isinstance(a, list):
+        assert len(a) == len(b), path
+        for i, (x, y) in enumerate(zip(a, b, strict=True)):
+            assert_same_json(x, y, f"{path}[{i}]", rel=rel, absolute=absolute, rel_at=rel_at,
+                             exact_types=exact_types)
+    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
+        looser = rel_at(path) if rel_at else None  # a looser bound, relative and near zero alike
+        assert a == pytest.approx(b, rel=looser or rel, abs=looser or absolute), path
+    else:
+        assert a == b, path
+        if exact_types:
+            assert type(a) is type(b), path

@@ -4,30 +4,18 @@ as one CSV file: its statistics are held to outside references in the tests of e
 from __future__ import annotations
 
 import json
-import math
 from pathlib import Path
 
 import pytest
 
-from .engine_data import survey_rows, write_dataset
+from .engine_data import assert_same_json, survey_rows, write_dataset
 from .test_engine_stream import run
 
 
-def _same(a, b, path=""):
-    if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
-        for key in a:
-            _same(a[key], b[key], f"{path}.{key}")
-    elif isinstance(a, list):
-        assert len(a) == len(b), path
-        for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            _same(x, y, f"{path}[{i}]")
-    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
-        # sums over distinct score values instead of over rows; the studentized range p-values of the pairs
-        # are a numerical integral (see tests/test_groups_from_counts.py): equal to rounding
-        assert a == pytest.approx(b, rel=1e-9, abs=1e-12), path
-    else:
-        assert a == b, path
+def same_to_rounding(a, b, path=""):
+    """Counts and texts exactly; floats to 1e-9: sums over distinct score values instead of over rows, and the
+    studentized range p-values of the pairs are a numerical integral (see tests/test_groups_from_counts.py)."""
+    assert_same_json(a, b, path, rel=1e-9)
 
 
 @pytest.fixture
@@ -76,7 +64,7 @@ def test_dask_report_equals_the_in_memory_report(cluster, dataset, tmp_path):
     assert b["screen"] is None  # the screen takes three passes over the rows: the streamed report only
     assert {"code": "stream-section-needs-rows", "section": "screen", "title": "careless-responding screen"} in b["notes"]
     for section in set(a) - {"input", "screen", "notes", "created"}:
-        _same(b[section], a[section], section)
+        same_to_rounding(b[section], a[section], section)
     assert b["input"]["data"] == str(folder)
     assert (tmp_path / "dask" / "scores.csv").read_bytes() == (tmp_path / "whole" / "scores.csv").read_bytes()
 

@@ -8,31 +8,19 @@ tests/test_em.py, tests/test_confirm.py and tests/test_structure.py; here only t
 from __future__ import annotations
 
 import json
-import math
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv
+from .engine_data import SCALES, assert_same_json, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
 
+
+def same_exactly(a, b, path=""):
+    """Counts and texts exactly (an int never where a float stands), floats to 1e-12."""
+    assert_same_json(a, b, path, exact_types=True)
+
+
 SECTIONS = ("reading", "scores", "shape", "answers", "structure", "tally", "title", "compare", "confirm", "reliability")
-
-
-def _same(a, b, path=""):
-    """Counts and texts exactly, floats to 1e-12 (relative, or absolute near zero)."""
-    if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
-        for key in a:
-            _same(a[key], b[key], f"{path}.{key}")
-    elif isinstance(a, list):
-        assert len(a) == len(b), path
-        for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            _same(x, y, f"{path}[{i}]")
-    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
-        assert a == pytest.approx(b, rel=1e-12, abs=1e-12), path
-    else:
-        assert a == b, path
-        assert type(a) is type(b), path
 
 
 @pytest.fixture(scope="module")
@@ -67,7 +55,7 @@ def test_streamed_report_sections_equal_the_whole_file_report(survey, missing):
     whole, streamed = _both_reports(survey, missing)
     assert whole["options"]["missing"] == streamed["options"]["missing"] == missing
     for section in SECTIONS:
-        _same(streamed[section], whole[section], section)
+        same_exactly(streamed[section], whole[section], section)
     # the method reached every section that rests on the covariance
     workload = whole["reliability"]["scales"]["workload"]
     assert workload["missing_handling"] == missing

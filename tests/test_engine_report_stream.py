@@ -7,29 +7,17 @@ outside references in the tests of each analysis; here only the route differs.
 from __future__ import annotations
 
 import json
-import math
 from pathlib import Path
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv
+from .engine_data import SCALES, assert_same_json, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
 
 
-def _same(a, b, path=""):
-    if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
-        for key in a:
-            _same(a[key], b[key], f"{path}.{key}")
-    elif isinstance(a, list):
-        assert len(a) == len(b), path
-        for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            _same(x, y, f"{path}[{i}]")
-    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
-        # sums over distinct score values instead of over rows: equal to rounding
-        assert a == pytest.approx(b, rel=1e-9, abs=1e-12), path
-    else:
-        assert a == b, path
+def same_to_rounding(a, b, path=""):
+    """Counts and texts exactly; floats to 1e-9 (sums over distinct score values instead of over rows)."""
+    assert_same_json(a, b, path, rel=1e-9)
 
 
 @pytest.fixture(scope="module")
@@ -55,14 +43,14 @@ def test_every_streamed_section_equals_the_whole_file_report(reports):
     b = json.loads((streamed / "results.json").read_text(encoding="utf-8"))
     for section in ("reading", "scores", "shape", "answers", "structure", "tally", "title", "compare", "confirm",
                     "reliability"):
-        _same(b[section], a[section], section)
+        same_to_rounding(b[section], a[section], section)
     assert (streamed / "scores.csv").read_bytes() == (whole / "scores.csv").read_bytes()
     # the screen: every part, and the flagged respondents (results.json of the file read in blocks holds the
     # first flagged; screen.csv every respondent)
     screen_a, screen_b = a["screen"], b["screen"]
     flagged = [r for r in screen_a.pop("respondents") if r["flagged"]]
-    _same(screen_b.pop("respondents"), flagged[:1000], "screen.respondents")
-    _same(screen_b, screen_a, "screen")
+    same_to_rounding(screen_b.pop("respondents"), flagged[:1000], "screen.respondents")
+    same_to_rounding(screen_b, screen_a, "screen")
 
 
 @pytest.mark.slow
@@ -130,7 +118,7 @@ def test_streamed_compare_and_confirm_blocks_equal_the_whole_file_report(tmp_pat
     assert whole["compare"]["scales"]  # both scales compared across the shifts
     assert set(whole["confirm"]["invariance"]["shift"]) == set(inputs.spec.scales)
     assert set(whole["confirmatory"]) == {*inputs.spec.scales, WHOLE_FILE}  # the whole-file model fitted too
-    _same(streamed, whole)
+    same_to_rounding(streamed, whole)
 
 
 def test_options_that_need_the_rows_keep_the_whole_file_route(tmp_path):

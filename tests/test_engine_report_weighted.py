@@ -8,14 +8,13 @@ exactly, with one exception named below: the weighted one-factor fits of small s
 from __future__ import annotations
 
 import json
-import math
 from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from .engine_data import HEADER, SCALES, survey_rows, write_csv
+from .engine_data import HEADER, SCALES, assert_same_json, survey_rows, write_csv
 from .test_engine_stream import SMALL_BLOCK, run
 
 #: the values of an iterative one-factor fit (omega, loadings) that stops at a tolerance: in a level of a few
@@ -24,22 +23,14 @@ from .test_engine_stream import SMALL_BLOCK, run
 FIT_VALUES = {"omega_total", "omega_if_deleted", "loading", "omega_ci"}
 
 
+def _small_level_fit(path: str) -> float | None:
+    """The weighted fits of a small subgroup level stop at the fit's tolerance: equal to 1e-6 there."""
+    return 1e-6 if ".by." in path and ".weighted" in path and path.rsplit(".", 1)[-1] in FIT_VALUES else None
+
+
 def _same(a, b, path=""):
-    """Counts and texts exactly, floats to 1e-12 (relative, or absolute near zero)."""
-    if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
-        for key in a:
-            _same(a[key], b[key], f"{path}.{key}")
-    elif isinstance(a, list):
-        assert len(a) == len(b), path
-        for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            _same(x, y, f"{path}[{i}]")
-    elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
-        small_level_fit = ".by." in path and ".weighted" in path and path.rsplit(".", 1)[-1] in FIT_VALUES
-        tolerance = 1e-6 if small_level_fit else 1e-12
-        assert a == pytest.approx(b, rel=tolerance, abs=tolerance), path
-    else:
-        assert a == b, path
+    """Counts and texts exactly, floats to 1e-12 (relative, or absolute near zero), fits of small levels 1e-6."""
+    assert_same_json(a, b, path, rel_at=_small_level_fit)
 
 
 def _weighted_survey(folder: Path, n: int = 500, changes: dict[int, str] | None = None) -> tuple[Path, Path]:
