@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
-from dataclasses import replace
+from dataclasses import dataclass, replace
 from typing import Any
 
 import numpy as np
@@ -81,7 +81,8 @@ def _weighted_block(part: Any, scale: Any, *, weight_column: str, confidence_lev
             ceiling[j] = 100 * tally[-1] / answered
         missing[j] = 100 * (weighted.total - answered) / weighted.total if weighted.total > 0 else np.nan
     described = replace(described, mean=mean, sd=sd, floor_pct=floor, ceiling_pct=ceiling, missing_pct=missing)
-    result = reliability_from_cov(cross.covariance(reversed_mask), n_eff if np.isfinite(n_eff) else 0,
+    # Feldt's interval on Kish's effective n, which is fractional (as the whole-file weighted route passes it)
+    result = reliability_from_cov(cross.covariance(reversed_mask), n_eff if np.isfinite(n_eff) else 0,  # type: ignore[arg-type]
                                   item_names=scale.items, confidence_level=confidence_level,
                                   thresholds=thresholds or ReliabilityThresholds(), reversed_items=scale.reverse,
                                   descriptives=described, n_rows=answers.n_rows)
@@ -108,8 +109,24 @@ def weighted_reliability_from_summaries(spec: Any, summary: Any, *, weight_colum
             for name, scale in spec.scales.items()}
 
 
-def _pooled(values: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]) -> dict[str, float]:
-    """Sum of weights, of squared weights, rows, weighted mean and sd of value-weight tables put together."""
+@dataclass(frozen=True)
+class _Pooled:
+    """Value-weight tables put together: the scores and weights, the sums of weights and of squared weights,
+    the rows, the weighted mean and sd, Kish's effective n and design effect."""
+
+    x: np.ndarray
+    w: np.ndarray
+    v1: float
+    v2: float
+    rows: int
+    mean: float
+    sd: float
+    n_eff: float
+    deff: float
+
+
+def _pooled(values: Sequence[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]]) -> _Pooled:
+    """The value-weight tables (values, weights, squared weights, rows per value) of some levels put together."""
     x = np.concatenate([v[0] for v in values]) if values else np.array([])
     w = np.concatenate([v[1] for v in values]) if values else np.array([])
     v2 = float(sum(v[2].sum() for v in values))
@@ -117,8 +134,8 @@ def _pooled(values: list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]])
     v1 = float(w.sum())
     mean = float(w @ x) / v1 if rows else math.nan
     sd = math.sqrt(float(w @ (x - mean) ** 2) / (v1 - v2 / v1)) if rows >= 2 else math.nan
-    return {"x": x, "w": w, "v1": v1, "v2": v2, "rows": rows, "mean": mean, "sd": sd,
-            "n_eff": v1**2 / v2 if rows else math.nan, "deff": rows * v2 / v1**2 if rows else math.nan}
+    return _Pooled(x=x, w=w, v1=v1, v2=v2, rows=rows, mean=mean, sd=sd,
+                   n_eff=v1**2 / v2 if rows else math.nan, deff=rows * v2 / v1**2 if rows else math.nan)
 
 
 def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str], weight_column: str,
@@ -144,25 +161,25 @@ def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str
                     not_described[level] = count
                 else:
                     described.append((level, _pooled([table])))
-            everyone = _pooled([(s["x"], s["w"], np.array([s["v2"]]), np.array([s["rows"]])) for _, s in described])
-            levels = tuple(WeightedLevel(level=level, n=s["rows"], n_effective=s["n_eff"], sum_of_weights=s["v1"],
-                                         mean=s["mean"], sd=s["sd"]) for level, s in described)
-            notes = (note("weighted-ci-kish", n_effective=everyone["n_eff"], n=everyone["rows"],
-                          design_effect=everyone["deff"]),)
+            everyone = _pooled([(s.x, s.w, np.array([s.v2]), np.array([s.rows])) for _, s in described])
+            levels = tuple(WeightedLevel(level=level, n=s.rows, n_effective=s.n_eff, sum_of_weights=s.v1,
+                                         mean=s.mean, sd=s.sd) for level, s in described)
+            notes = (note("weighted-ci-kish", n_effective=everyone.n_eff, n=everyone.rows,
+                          design_effect=everyone.deff),)
             fields: dict[str, Any] = {}
             if len(described) >= 2:
-                grand = everyone["mean"]
-                between = sum(s["v1"] * (s["mean"] - grand) ** 2 for _, s in described)
-                total = float(everyone["w"] @ (everyone["x"] - grand) ** 2)
+                grand = everyone.mean
+                between = sum(s.v1 * (s.mean - grand) ** 2 for _, s in described)
+                total = float(everyone.w @ (everyone.x - grand) ** 2)
                 fields["eta_squared"] = between / total if total > 0 else math.nan
             if len(described) == 2:  # the formulas of weighted_compare
                 (_, a), (_, b) = described
-                n1, n2 = a["n_eff"], b["n_eff"]
-                v1, v2 = a["sd"] ** 2 / n1, b["sd"] ** 2 / n2
-                diff = a["mean"] - b["mean"]
+                n1, n2 = a.n_eff, b.n_eff
+                v1, v2 = a.sd ** 2 / n1, b.sd ** 2 / n2
+                diff = a.mean - b.mean
                 t = diff / math.sqrt(v1 + v2) if v1 + v2 > 0 else math.nan
                 df = (v1 + v2) ** 2 / (v1**2 / (n1 - 1) + v2**2 / (n2 - 1)) if v1 + v2 > 0 else math.nan
-                pooled = math.sqrt(((n1 - 1) * a["sd"] ** 2 + (n2 - 1) * b["sd"] ** 2) / (n1 + n2 - 2))
+                pooled = math.sqrt(((n1 - 1) * a.sd ** 2 + (n2 - 1) * b.sd ** 2) / (n1 + n2 - 2))
                 g = (1 - 3 / (4 * (n1 + n2) - 9)) * diff / pooled if pooled > 0 else math.nan
                 se = math.sqrt((n1 + n2) / (n1 * n2) + g**2 / (2 * (n1 + n2)))
                 z = float(stats.t.ppf(0.5 + confidence_level / 2, n1 + n2 - 2))
@@ -170,8 +187,8 @@ def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str
                               pvalue=float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else math.nan,
                               hedges_g=g, hedges_g_ci=(g - z * se, g + z * se))
             out[column][name] = WeightedComparison(column=column, scale=name, weight_column=weight_column,
-                                                   n=everyone["rows"], n_effective=everyone["n_eff"],
-                                                   sum_of_weights=everyone["v1"], levels=levels,
+                                                   n=everyone.rows, n_effective=everyone.n_eff,
+                                                   sum_of_weights=everyone.v1, levels=levels,
                                                    not_described=not_described, notes=notes, **fields)
     return out
 
