@@ -172,7 +172,7 @@ def reliability_from_summaries(spec: Any, summary: Any, *, by: Sequence[str] = (
         for split, parts in splits:
             levels = {level: scale_reliability_from_summary(parts[level][name], scale, **options)
                       for level in split.levels}
-            notes: list[Note | str] = list(split.notes())
+            notes: list[Note] = list(split.notes())
             if len(levels) < 2:
                 notes.append(note("alphas-not-compared", column=split.column, min_size=int(split.min_size)))
             groups.append(GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),

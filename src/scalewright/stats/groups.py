@@ -103,7 +103,7 @@ class Comparison(ResultMixin):
     pairs: tuple[PairResult, ...] = ()
     pairs_method: str | None = None
     levene: TestResult | None = None
-    notes: tuple[Note | str, ...] = ()
+    notes: tuple[Note, ...] = ()
     scale: str | None = None
 
     @property
@@ -180,9 +180,9 @@ def _check_options(min_cell: int, confidence_level: float) -> None:
 
 
 def _left_out_notes(column: str | None, suppressed: list[str], min_cell: int, n_no_score: int,
-                    n_no_group: int) -> list[Note | str]:
+                    n_no_group: int) -> list[Note]:
     """Notes naming what a comparison left out: levels below ``min_cell``, rows without a score or a level."""
-    notes: list[Note | str] = []
+    notes: list[Note] = []
     if suppressed:
         notes.append(note("levels-too-small", column=column, levels=tuple(str(s) for s in suppressed),
                           min_cell=int(min_cell)))
@@ -260,7 +260,7 @@ def compare_groups(scores: np.ndarray, groups: pd.Series, *, min_cell: int = 5, 
     column = column or (str(groups.name) if groups.name is not None else "group")
     has_score = np.isfinite(scores)
     split = split_by(groups, min_size=0, column=column)
-    notes: list[Note | str] = []
+    notes: list[Note] = []
     summaries: list[GroupSummary] = []
     samples: dict[str, np.ndarray] = {}
     suppressed: list[str] = []

@@ -97,7 +97,7 @@ def compare_from_counts(levels: Mapping[str, CountedLevel], *, n_no_score: int, 
            the American Statistical Association, 69, 364-367.
     """
     _check_options(min_cell, confidence_level)
-    notes: list[Note | str] = []
+    notes: list[Note] = []
     summaries: list[GroupSummary] = []
     samples: dict[str, CountedLevel] = {}
     suppressed: list[str] = []

@@ -101,7 +101,7 @@ class ScaleReliability(ResultMixin):
     flags: tuple[ReliabilityFlag, ...]
     thresholds: ReliabilityThresholds
     bootstrap: AlphaBootstrap | None
-    notes: tuple[Note | str, ...]  # codes with values, worded by present/messages
+    notes: tuple[Note, ...]  # codes with values, worded by present/messages
     missing: MissingHandling | None = None
     #: why a statistic is NaN, by its JSON key (see :func:`_unavailable_reasons`); "" when it is not
     unavailable: Mapping[str, str] = field(default_factory=dict)
@@ -153,7 +153,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
                          descriptives: ItemDescriptives | None = None,
                          n_rows: int | None = None, missing_handling: str = "listwise",
                          bootstrap: AlphaBootstrap | None = None,
-                         notes: Sequence[Note | str] = ()) -> ScaleReliability:
+                         notes: Sequence[Note] = ()) -> ScaleReliability:
     """Every reliability statistic of one scale from its sufficient statistics (n and covariance matrix).
 
     This is the function to call with a covariance matrix accumulated elsewhere (chunks of a large file,
@@ -168,7 +168,7 @@ def reliability_from_cov(cov: np.ndarray, n_used: int, *, item_names: Sequence[s
         raise DataError(f"{len(names)} item name(s) given for a {k} x {k} covariance matrix")
     if len(set(names)) != k:
         raise DataError(f"item names must be unique: {', '.join(names)}")
-    out_notes: list[Note | str] = list(notes)
+    out_notes: list[Note] = list(notes)
     nan2 = (math.nan, math.nan)
     usable = k >= 2 and n_used >= 3 and np.isfinite(cov).all()
     if k < 2:
@@ -360,7 +360,7 @@ def scale_reliability(keyed: np.ndarray | ItemAnswers, *, item_names: Sequence[s
     # with nothing missing the EM fixed point is the complete-data estimate: the listwise matrix (its n - 1
     # divisor cancels in every statistic here), so em and listwise agree exactly
     handling = missing_handling(summary, method, n_used=n_used, estimate=estimate, item_names=names)
-    notes: list[Note | str] = list(deletion_notes(stats, method))
+    notes: list[Note] = list(deletion_notes(stats, method))
     if descriptives.off_level:
         notes.append(note("off-level-answers", count=int(descriptives.off_level), low=float(low), high=float(high)))
     boot = None

@@ -69,7 +69,7 @@ class GroupReliability(ResultMixin):
     missing: int
     min_group: int
     comparisons: tuple[AlphaComparison, ...]
-    notes: tuple[Note | str, ...]
+    notes: tuple[Note, ...]
 
     def to_dict(self) -> dict[str, Any]:
         return {"column": self.column, "levels": {k: v.to_dict() for k, v in self.levels.items()},
@@ -89,7 +89,7 @@ def reliability_by_group(keyed: np.ndarray | ItemAnswers, split: SubgroupSplit, 
     """
     data = keyed if isinstance(keyed, ItemAnswers) else np.asarray(keyed, dtype=np.float64)
     levels = {level: scale_reliability(_rows(data, positions), **options) for level, positions in split.levels.items()}
-    notes: list[Note | str] = list(split.notes())
+    notes: list[Note] = list(split.notes())
     if len(levels) < 2:
         notes.append(note("alphas-not-compared", column=split.column, min_size=int(split.min_size)))
     return GroupReliability(column=split.column, levels=levels, too_small=dict(split.too_small),

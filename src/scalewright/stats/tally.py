@@ -57,7 +57,7 @@ class Tally(ResultMixin):
     n_total: int
     n_missing: int
     min_cell: int
-    notes: tuple[Note | str, ...] = ()  # codes with values, worded by present/messages
+    notes: tuple[Note, ...] = ()  # codes with values, worded by present/messages
 
     @property
     def n_valid(self) -> int:
@@ -199,9 +199,9 @@ def tally_from_counts(exact: Mapping[str, int], *, n_total: int, n_missing: int,
                  n_missing=n_missing, min_cell=min_cell, notes=tuple(notes))
 
 
-def _suppression(exact: dict[str, int], min_cell: int, column: str) -> tuple[set[str], list[Note | str]]:
+def _suppression(exact: dict[str, int], min_cell: int, column: str) -> tuple[set[str], list[Note]]:
     primary = {c for c, n in exact.items() if 0 < n < min_cell}
-    notes: list[Note | str] = []
+    notes: list[Note] = []
     hidden = set(primary)
     if len(primary) == 1:
         candidates = sorted((n, i, c) for i, (c, n) in enumerate(exact.items()) if n > 0 and c not in primary)
