@@ -381,3 +381,23 @@ def test_a_column_with_one_analysable_level_is_said_not_a_crash(tmp_path):
     assert "fewer than 60; not analysed" in text
     codes = {n["code"] for n in results.to_dict()["reliability"]["scales"]["voice"]["group_notes"]["team"]}
     assert "subgroup-too-small" in codes
+
+
+def test_a_report_of_one_item_says_by_code_that_the_structure_was_not_analysed(tmp_path):
+    # common practice, no source: a factor structure needs at least two items; the note is a code, worded by
+    # present/messages like every other note
+    from scalewright.notes import note
+    from scalewright.present.messages import describe
+
+    rng = np.random.default_rng(4)
+    data = tmp_path / "one.csv"
+    data.write_text("pid,q1\n" + "".join(f"p{i},{rng.integers(1, 6)}\n" for i in range(40)), encoding="utf-8")
+    scales = tmp_path / "one.yaml"
+    scales.write_text("version: 1\nid_column: pid\nresponse: {min: 1, max: 5}\n"
+                      "scales:\n  single: {items: [q1], score: mean}\n", encoding="utf-8")
+    with contextlib.redirect_stdout(io.StringIO()):
+        assert main(["report", str(data), "--scales", str(scales), "--out", str(tmp_path / "r"), "--quiet"]) == 0
+    document = json.loads((tmp_path / "r" / "results.json").read_text(encoding="utf-8"))
+    assert document["structure"] is None
+    assert {"code": "report-structure-not-analysed"} in document["notes"]
+    assert describe(note("report-structure-not-analysed")) == "the structure needs at least two items; it was not analysed"

@@ -15,6 +15,7 @@ from typing import TYPE_CHECKING, Any
 from . import __version__
 from .analyses.subgroup_columns import DEFAULT_MAX_LEVELS
 from .errors import UsageError
+from .notes import Note, note
 from .present.document import InputInfo, envelope
 from .results import to_jsonable
 from .seeds import DEFAULT_SEED  # one default for every command and the report
@@ -115,7 +116,7 @@ class ReportResults:
     created: str
     confirm: ConfirmAnalysis | None = None  # with invariance when --by is given
     version: str = __version__
-    notes: tuple[str, ...] = field(default=())
+    notes: tuple[Note, ...] = field(default=())  # codes with values, worded by present/messages
     #: with survey weights: analyses.weighted_report.WeightedReport (structure, confirm, screen weighted in place)
     weighted: WeightedReport | None = None
 
@@ -237,8 +238,6 @@ def _confirm(spec: ScaleSpec, responses: Responses, options: ReportOptions) -> C
                                weighted=_weighted(responses))
     if options.by and _weighted(responses):
         from dataclasses import replace
-
-        from .notes import note
 
         # multi-group models are not weighted (as `confirm --by`): no invariance verdicts, said so
         return replace(analysis, notes=(*analysis.notes, note("invariance-not-weighted", by=tuple(options.by))))
@@ -399,9 +398,9 @@ def build_report(spec: ScaleSpec, responses: Responses, *, info: InputInfo, opti
                             answers=answers[name])
         for name, scale in spec.scales.items()
     }
-    notes: list[str] = []
+    notes: list[Note] = []
     if structure is None:
-        notes.append("the structure needs at least two items; it was not analysed")
+        notes.append(note("report-structure-not-analysed"))
     return ReportResults(spec=spec, info=info, options=options, n_rows=responses.n, n_excluded=n_excluded,
                          reading=responses.reading_summary(),
                          input_notes=(*input_notes, responses.missing_texts_note(spec)),

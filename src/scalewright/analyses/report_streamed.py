@@ -118,9 +118,9 @@ def streamed_report(spec: Any, summary: Any, outcome: Any, *, info: Any, options
                                     answers=answers[name])
                 for i, (name, scale) in enumerate(spec.scales.items())}
     skipped = skipped_notes() if screen is None else ()
-    notes: list[Any] = list(skipped)
+    notes: list[Note] = list(skipped)
     if structure is None:
-        notes.append("the structure needs at least two items; it was not analysed")
+        notes.append(note("report-structure-not-analysed"))
     missing_texts = _missing_texts_note(spec)
     weighted = None
     if weight:
