@@ -79,20 +79,23 @@ def write_dataset(folder: Path, rows: list[list[str]], *, parts: int, row_group_
 
 
 def assert_same_json(a, b, path: str = "", *, rel: float = 1e-12, absolute: float = 1e-12,
-                     rel_at: Callable[[str], float | None] | None = None, exact_types: bool = False) -> None:
+                     rel_at: Callable[[str], float | None] | None = None, exact_types: bool = False,
+                     key_order: bool = False) -> None:
     """Two JSON documents (or parts) alike: keys, lengths, texts and counts exactly; floats to ``rel``
     (relative) or ``absolute`` (near zero), or to ``rel_at(path)`` where that gives a looser bound; NaN equals
-    NaN. ``exact_types``: an int must not stand where the other has a float."""
+    NaN. ``exact_types``: an int must not stand where the other has a float. ``key_order``: the keys in the
+    same order too (the same text once written)."""
+    strict = {"rel": rel, "absolute": absolute, "rel_at": rel_at, "exact_types": exact_types, "key_order": key_order}
     if isinstance(a, dict):
-        assert a.keys() == b.keys(), path
+        assert isinstance(b, dict), path
+        assert (list(a) == list(b)) if key_order else (a.keys() == b.keys()), path
         for key in a:
-            assert_same_json(a[key], b[key], f"{path}.{key}", rel=rel, absolute=absolute, rel_at=rel_at,
-                             exact_types=exact_types)
+            assert_same_json(a[key], b[key], f"{path}.{key}", **strict)
     elif isinstance(a, list):
+        assert isinstance(b, list), path
         assert len(a) == len(b), path
         for i, (x, y) in enumerate(zip(a, b, strict=True)):
-            assert_same_json(x, y, f"{path}[{i}]", rel=rel, absolute=absolute, rel_at=rel_at,
-                             exact_types=exact_types)
+            assert_same_json(x, y, f"{path}[{i}]", **strict)
     elif isinstance(a, float) and isinstance(b, float) and not (math.isnan(a) and math.isnan(b)):
         looser = rel_at(path) if rel_at else None  # a looser bound, relative and near zero alike
         assert a == pytest.approx(b, rel=looser or rel, abs=looser or absolute), path

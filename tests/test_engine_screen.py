@@ -17,6 +17,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from .engine_data import assert_same_json
 from .survey_files import AGREEMENT_1_TO_5
 from .test_engine_stream import SMALL_BLOCK, run
 
@@ -88,23 +89,8 @@ def survey(tmp_path: Path) -> tuple[Path, Path]:
 
 
 def assert_same(whole, streamed, where="") -> None:
-    """Equal, floats to 1e-12 (absolute or relative), everything else exactly."""
-    if isinstance(whole, float) or isinstance(streamed, float):
-        assert isinstance(whole, (int, float)), where
-        assert isinstance(streamed, (int, float)), where
-        assert math.isclose(whole, streamed, rel_tol=1e-12, abs_tol=1e-12), (where, whole, streamed)
-    elif isinstance(whole, dict):
-        assert isinstance(streamed, dict), where
-        assert list(whole) == list(streamed), where
-        for key in whole:
-            assert_same(whole[key], streamed[key], f"{where}.{key}")
-    elif isinstance(whole, list):
-        assert isinstance(streamed, list), where
-        assert len(whole) == len(streamed), where
-        for i, (a, b) in enumerate(zip(whole, streamed, strict=True)):
-            assert_same(a, b, f"{where}[{i}]")
-    else:
-        assert whole == streamed, (where, whole, streamed)
+    """Equal, keys in the same order, floats to 1e-12 (absolute or relative), everything else exactly."""
+    assert_same_json(whole, streamed, where, key_order=True)
 
 
 def both(data: Path, scales: Path, *options: str) -> tuple[dict, dict, str, str]:

@@ -13,7 +13,7 @@ from scalewright.engine import blocks
 from scalewright.engine.choose import choose_route
 from scalewright.errors import UsageError
 
-from .engine_data import SCALES, survey_rows, write_csv, write_parquet
+from .engine_data import SCALES, assert_same_json, survey_rows, write_csv, write_parquet
 
 SMALL_BLOCK = "4096"  # bytes: the test files are cut into dozens of blocks
 
@@ -199,21 +199,9 @@ def test_tally_without_a_scale_file_and_numeric_columns(tmp_path):
 
 
 def assert_same_numbers(streamed, whole, path="$"):
-    """Equal structure and texts, counts exactly; other numbers to 1e-12 (sums taken in another order)."""
-    if isinstance(whole, dict):
-        assert isinstance(streamed, dict), path
-        assert list(streamed) == list(whole), path
-        for key in whole:
-            assert_same_numbers(streamed[key], whole[key], f"{path}.{key}")
-    elif isinstance(whole, list):
-        assert isinstance(streamed, list), path
-        assert len(streamed) == len(whole), path
-        for index, (a, b) in enumerate(zip(streamed, whole, strict=True)):
-            assert_same_numbers(a, b, f"{path}[{index}]")
-    elif isinstance(whole, float) and not isinstance(whole, bool):
-        assert streamed == pytest.approx(whole, rel=1e-12, abs=1e-12), path
-    else:
-        assert streamed == whole, path
+    """Equal structure (keys in order) and texts, counts exactly; other numbers to 1e-12 (sums taken in another
+    order)."""
+    assert_same_json(streamed, whole, path, key_order=True)
 
 
 @pytest.mark.parametrize("options", [(), ("--by", "shift", "--items"), ("--by", "site", "--quantile-method", "hazen")])

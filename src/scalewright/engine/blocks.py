@@ -39,6 +39,11 @@ BATCH_ROWS = 131072
 class CannotStream(Exception):
     """This file cannot be read block by block (the reason says why); the whole-file reader takes it."""
 
+    @classmethod
+    def after(cls, error: BaseException) -> CannotStream:
+        """The reason a reading error gives: its first line, or its type when it has no message."""
+        return cls(str(error).splitlines()[0] if str(error) else type(error).__name__)
+
 
 @dataclass(frozen=True, eq=False)
 class Block:

@@ -80,7 +80,7 @@ def _score_part(url: str, local: bool, spec: Any, columns: tuple[str, ...], hand
                         part_scored[name] = part_scored.get(name, 0) + one.n_scored
             except retry_errors() as error:
                 if number == len(ways):
-                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                    raise CannotStream.after(error) from None
                 if handle is not None:  # the next way starts the partition again
                     handle.seek(position)
                     handle.truncate()

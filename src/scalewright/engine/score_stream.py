@@ -165,7 +165,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
                 duplicates = ids.has_duplicates()
             except retry_errors() as error:
                 if number == len(ways):
-                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                    raise CannotStream.after(error) from None
                 continue  # the next way starts the file again
             finally:
                 ids.close()

@@ -70,7 +70,7 @@ def z_bases_of_file(path: str | Path, spec: Any, *, lenient: bool = False,
                 duplicates = ids.has_duplicates()
             except retry_errors() as error:
                 if number == len(ways):
-                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                    raise CannotStream.after(error) from None
                 continue
             finally:
                 ids.close()

@@ -140,7 +140,7 @@ class Passes:
                 return
             except retry_errors() as error:
                 if self.way is not None or number == len(ways):
-                    raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                    raise CannotStream.after(error) from None
 
     def _blocks(self, way: Callable[[], Iterator[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
         def one(batch: Any, first: int) -> tuple[Block, Any]:

@@ -35,7 +35,7 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
             return _summarise_batches(batches(), spec, plan, start, file=file, part=part, spill_ids=spill_ids)
         except retry_errors() as error:
             if number == len(ways):
-                raise CannotStream(str(error).splitlines()[0] if str(error) else type(error).__name__) from None
+                raise CannotStream.after(error) from None
     raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
 
