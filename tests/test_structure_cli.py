@@ -169,3 +169,26 @@ def test_tables_and_figures_from_a_result(tmp_path):
     fig, given_ax = plt.subplots()
     assert loadings_figure(result, ax=given_ax) is given_ax
     plt.close(fig)
+
+
+def test_an_item_keyed_both_ways_is_noted_by_code_on_both_routes(tmp_path, capsys):
+    # common practice, no source: an item belongs to one column of the joint matrix, keyed as its smallest scale
+    # keys it; the scale keying it the other way is named in a note (a code, worded by present/messages)
+    rng = np.random.default_rng(8)
+    trait = rng.normal(size=300)
+    answers = {f"q{i}": np.clip(np.rint(3 + trait + rng.normal(scale=0.8, size=300)), 1, 5).astype(int)
+               for i in range(1, 7)}
+    data = tmp_path / "both.csv"
+    data.write_text("pid," + ",".join(answers) + "\n" + "".join(
+        f"p{r}," + ",".join(str(answers[name][r]) for name in answers) + "\n" for r in range(300)), encoding="utf-8")
+    scales = tmp_path / "both.yaml"
+    scales.write_text("version: 1\nid_column: pid\nresponse: {min: 1, max: 5}\nscales:\n"
+                      "  part: {items: [q1, q2, q3], score: mean}\n"
+                      "  whole: {items: [q1, q2, q3, q4, q5, q6], reverse: [q2], score: mean}\n", encoding="utf-8")
+    sentence = "item q2 is reverse-keyed in some scales and not in others; analysed as part keys it"
+    for engine in ("memory", "stream"):
+        document = run_json(capsys, str(data), "--scales", str(scales), "--engine", engine)
+        found = [n for n in document["notes"] if n.get("code") == "item-keyed-both-ways"]
+        assert found == [{"code": "item-keyed-both-ways", "item": "q2", "scale": "part", "message": sentence}], engine
+    assert main(["structure", str(data), "--scales", str(scales), "--iterations", "30"]) == 0
+    assert sentence in capsys.readouterr().out

@@ -6,6 +6,8 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..notes import Note, note
+
 if TYPE_CHECKING:
     from ..responses import Responses
     from ..spec_model import ScaleSpec
@@ -20,7 +22,20 @@ class JointItems:
     item_names: tuple[str, ...]
     item_scale: dict[str, str]
     scale_items: dict[str, tuple[str, ...]]
-    notes: tuple[str, ...]
+    notes: tuple[Note, ...]  # codes with values, worded by present/messages
+
+
+def item_homes(spec: ScaleSpec) -> tuple[dict[str, Any], tuple[Note, ...]]:
+    """Each item's home scale, the smallest scale listing it (the first of equal size: a subscale rather than
+    the total), and a note for each item that the scales listing it key both ways (analysed as its home keys it)."""
+    homes, notes = {}, []
+    for item in spec.items:
+        listing = [scale for scale in spec.scales.values() if item in scale.items]
+        home = min(listing, key=lambda scale: scale.k)
+        homes[item] = home
+        if len({scale.is_reversed(item) for scale in listing}) > 1:
+            notes.append(note("item-keyed-both-ways", item=item, scale=home.name))
+    return homes, tuple(notes)
 
 
 def joint_keyed_items(responses: Responses, spec: ScaleSpec) -> JointItems:
@@ -32,19 +47,13 @@ def joint_keyed_items(responses: Responses, spec: ScaleSpec) -> JointItems:
     from ..scoring import keyed_items
 
     keyed = {name: keyed_items(responses, scale) for name, scale in spec.scales.items()}
-    columns, item_scale, notes = [], {}, []
-    for item in spec.items:
-        homes = [s for s in spec.scales.values() if item in s.items]
-        home = min(homes, key=lambda s: s.k)  # min keeps the first of equal size
-        columns.append(keyed[home.name][:, home.items.index(item)])
-        item_scale[item] = home.name
-        directions = {s.is_reversed(item) for s in homes}
-        if len(directions) > 1:
-            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    homes, notes = item_homes(spec)
+    columns = [keyed[homes[item].name][:, homes[item].items.index(item)] for item in spec.items]
+    item_scale = {item: home.name for item, home in homes.items()}
     matrix = np.column_stack(columns) if columns else np.empty((responses.n, 0))
     return JointItems(matrix=matrix, item_names=tuple(spec.items), item_scale=item_scale,
                       scale_items={name: tuple(scale.items) for name, scale in spec.scales.items()},
-                      notes=tuple(notes))
+                      notes=notes)
 
 
 def analyse_structure_of_file(spec: ScaleSpec, responses: Responses, *, ordinal: bool = False,

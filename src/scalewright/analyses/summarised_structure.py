@@ -16,21 +16,19 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 if TYPE_CHECKING:
+    from ..notes import Note
     from ..spec_model import ScaleSpec
     from ..stats.structure import StructureResult
 
 
-def joint_keying(spec: ScaleSpec) -> tuple[dict[str, str], list[str], np.ndarray, int]:
+def joint_keying(spec: ScaleSpec) -> tuple[dict[str, str], tuple[Note, ...], np.ndarray, int]:
     """Each item's home scale, the notes on items keyed both ways, the keying and the widest code span, as
     :func:`~scalewright.analyses.structure.joint_keyed_items` chooses each item's home (its smallest scale)."""
-    item_scale, notes, reversed_mask = {}, [], []
-    for item in spec.items:
-        homes = [s for s in spec.scales.values() if item in s.items]
-        home = min(homes, key=lambda s: s.k)
-        item_scale[item] = home.name
-        reversed_mask.append(home.is_reversed(item))
-        if len({s.is_reversed(item) for s in homes}) > 1:
-            notes.append(f"item {item} is reverse-keyed in some scales and not in others; analysed as {home.name} keys it")
+    from .structure import item_homes
+
+    homes, notes = item_homes(spec)
+    item_scale = {item: home.name for item, home in homes.items()}
+    reversed_mask = [homes[item].is_reversed(item) for item in spec.items]
     span = int(max((scale.response.max - scale.response.min for scale in spec.scales.values()), default=1))
     return item_scale, notes, np.array(reversed_mask, dtype=bool), span
 

@@ -158,7 +158,7 @@ class ScreenSummary:
     duplicate_status: tuple[str, ...]
     thresholds: ScreenThresholds
     weak_indices: tuple[WeakIndexUse, ...]
-    notes: tuple[str | Note, ...]
+    notes: tuple[Note, ...]
     #: per index, the respondents without a value (the not-computable notes)
     missing_values: dict[str, int] = field(default_factory=dict)
     respondents: JsonRows = field(default_factory=JsonRows)

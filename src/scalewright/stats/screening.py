@@ -74,7 +74,7 @@ class ScreenResult:
     long_run_items: int
     median_duration: float | None
     alpha_change: dict[str, dict[str, Any]] = field(default_factory=dict)
-    notes: tuple[str | Note, ...] = ()
+    notes: tuple[Note, ...] = ()
     #: flag codes whose check could not run (their count is None, never 0; a note says why)
     not_checked: tuple[str, ...] = ()
     #: per group of identical answer rows: ``flagged`` (duplicate-answers), ``long-run`` (counted there
@@ -198,9 +198,9 @@ def _alpha_change(keyed_by_scale: Mapping[str, np.ndarray], flagged: np.ndarray,
     return out
 
 
-def _unique_notes(notes: Sequence[str | Note]) -> tuple[str | Note, ...]:
+def _unique_notes(notes: Sequence[Note]) -> tuple[Note, ...]:
     """Each note once, in order (a note's values may be unhashable, so it is compared by its JSON form)."""
-    seen: dict[str, str | Note] = {}
+    seen: dict[str, Note] = {}
     for item in notes:
         seen.setdefault(repr(item.to_dict()) if isinstance(item, Note) else item, item)
     return tuple(seen.values())
@@ -271,7 +271,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         if block.shape[0] != n:
             raise DataError(f"keyed items of scale {name}: {block.shape[0]} rows, expected {n}")
     keyed = np.hstack(list(scales.values())) if scales else np.empty((n, 0))
-    notes: list[str | Note] = []
+    notes: list[Note] = []
     not_checked: list[str] = []
 
     runs = longstring(raw)

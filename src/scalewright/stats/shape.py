@@ -323,7 +323,7 @@ def describe_by_subgroup(values, groups, *, min_group: int = 10, column: str | N
     split = split_by(series[scored].reset_index(drop=True), min_size=min_group, column=column or str(series.name))
     x_scored = x[scored]
     levels = {name: describe_scores(x_scored[positions], **options) for name, positions in split.levels.items()}
-    notes: list[str | Note] = list(split.notes())
+    notes: list[Note] = list(split.notes())
     unscored = int((~scored).sum())
     if unscored:
         notes.append(note("subgroup-unscored", unscored=unscored, column=split.column))

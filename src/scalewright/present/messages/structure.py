@@ -24,6 +24,7 @@ STRUCTURE: dict[str, str] = {
     "items-left-out": "{count} item(s) without variance left out: {items}",
     "structure-too-few-respondents": "only {n} complete respondent(s): the structure needs at least {needed}",
     "structure-too-few-items": "fewer than two items with variance: there is no structure to analyse",
+    "item-keyed-both-ways": "item {item} is reverse-keyed in some scales and not in others; analysed as {scale} keys it",
     "report-structure-not-analysed": "the structure needs at least two items; it was not analysed",
     "correlations-incomplete": "some item pairs have no respondents in common: the correlation matrix is incomplete",
     "low-kmo-overall": "overall KMO {kmo} is below {cutoff} (Kaiser, 1974): the correlations may be too weak for "
