@@ -142,10 +142,9 @@ def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str
                                     min_cell: int = 5, confidence_level: float = 0.95) -> dict[str, dict[str, Any]]:
     """``{column: {scale: WeightedComparison}}`` as :func:`~scalewright.stats.weighted_groups.weighted_compare`
     gives it from the rows, from each level's weighted score value counts."""
-    from scipy import stats
 
     from ..notes import note
-    from ..stats.weighted_groups import WeightedComparison, WeightedLevel
+    from ..stats.weighted_groups import WeightedComparison, WeightedLevel, weighted_two_levels
 
     out: dict[str, dict[str, Any]] = {}
     for column in by:
@@ -172,20 +171,10 @@ def weighted_compare_from_summaries(spec: Any, summary: Any, *, by: Sequence[str
                 between = sum(s.v1 * (s.mean - grand) ** 2 for _, s in described)
                 total = float(everyone.w @ (everyone.x - grand) ** 2)
                 fields["eta_squared"] = between / total if total > 0 else math.nan
-            if len(described) == 2:  # the formulas of weighted_compare
+            if len(described) == 2:
                 (_, a), (_, b) = described
-                n1, n2 = a.n_eff, b.n_eff
-                v1, v2 = a.sd ** 2 / n1, b.sd ** 2 / n2
-                diff = a.mean - b.mean
-                t = diff / math.sqrt(v1 + v2) if v1 + v2 > 0 else math.nan
-                df = (v1 + v2) ** 2 / (v1**2 / (n1 - 1) + v2**2 / (n2 - 1)) if v1 + v2 > 0 else math.nan
-                pooled = math.sqrt(((n1 - 1) * a.sd ** 2 + (n2 - 1) * b.sd ** 2) / (n1 + n2 - 2))
-                g = (1 - 3 / (4 * (n1 + n2) - 9)) * diff / pooled if pooled > 0 else math.nan
-                se = math.sqrt((n1 + n2) / (n1 * n2) + g**2 / (2 * (n1 + n2)))
-                z = float(stats.t.ppf(0.5 + confidence_level / 2, n1 + n2 - 2))
-                fields.update(mean_difference=diff, t=t, df=df,
-                              pvalue=float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else math.nan,
-                              hedges_g=g, hedges_g_ci=(g - z * se, g + z * se))
+                fields.update(weighted_two_levels(a.mean, a.sd, a.n_eff, b.mean, b.sd, b.n_eff,
+                                                  confidence_level=confidence_level))
             out[column][name] = WeightedComparison(column=column, scale=name, weight_column=weight_column,
                                                    n=everyone.rows, n_effective=everyone.n_eff,
                                                    sum_of_weights=everyone.v1, levels=levels,

@@ -89,7 +89,6 @@ def weighted_compare(scores: np.ndarray, levels: Mapping[str, np.ndarray], weigh
     comparison uses). For any number of
     levels, the weighted :math:`\eta^2 = \sum_g W_g(\bar x_g - \bar x)^2 / \sum_i w_i (x_i - \bar x)^2`.
     """
-    from scipy import stats
 
     x = np.asarray(scores, dtype=float)
     w = np.asarray(weights, dtype=float)
@@ -118,18 +117,36 @@ def weighted_compare(scores: np.ndarray, levels: Mapping[str, np.ndarray], weigh
         fields["eta_squared"] = between / total if total > 0 else math.nan
     if len(summaries) == 2:
         (_, _, a), (_, _, b) = summaries
-        n1, n2 = a.n_effective, b.n_effective
-        v1, v2 = a.sd**2 / n1, b.sd**2 / n2
-        diff = a.mean - b.mean
-        t = diff / math.sqrt(v1 + v2) if v1 + v2 > 0 else math.nan
-        df = (v1 + v2) ** 2 / (v1**2 / (n1 - 1) + v2**2 / (n2 - 1)) if v1 + v2 > 0 else math.nan
-        pooled = math.sqrt(((n1 - 1) * a.sd**2 + (n2 - 1) * b.sd**2) / (n1 + n2 - 2))
-        g = (1 - 3 / (4 * (n1 + n2) - 9)) * diff / pooled if pooled > 0 else math.nan
-        se = math.sqrt((n1 + n2) / (n1 * n2) + g**2 / (2 * (n1 + n2)))
-        z = float(stats.t.ppf(0.5 + confidence_level / 2, n1 + n2 - 2))  # as pingouin's compute_esci
-        fields.update(mean_difference=diff, t=t, df=df,
-                      pvalue=float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else math.nan,
-                      hedges_g=g, hedges_g_ci=(g - z * se, g + z * se))
+        fields.update(weighted_two_levels(a.mean, a.sd, a.n_effective, b.mean, b.sd, b.n_effective,
+                                          confidence_level=confidence_level))
     return WeightedComparison(column=column, scale=scale, weight_column=weight_column, n=int(every.size),
                               n_effective=everyone.n_effective, sum_of_weights=everyone.sum_of_weights,
                               levels=out_levels, not_described=not_described, notes=tuple(notes), **fields)
+
+
+def weighted_two_levels(mean1: float, sd1: float, n1: float, mean2: float, sd2: float, n2: float, *,
+                        confidence_level: float = 0.95) -> dict[str, Any]:
+    r"""Welch's t and Hedges' g of two levels from their weighted means, SDs and Kish effective sizes.
+
+    .. math::
+
+        t = \frac{\bar x_1 - \bar x_2}{\sqrt{s_1^2/n_1 + s_2^2/n_2}}, \qquad
+        g = \Big(1 - \frac{3}{4(n_1 + n_2) - 9}\Big)\frac{\bar x_1 - \bar x_2}{s_p}
+
+    with the Welch-Satterthwaite df and g's normal-theory interval (Hedges & Olkin, 1985, p. 86), the
+    effective sizes standing in for the counts (an approximation without the design).
+    Returns ``mean_difference``, ``t``, ``df``, ``pvalue``, ``hedges_g`` and ``hedges_g_ci``.
+    """
+    from scipy import stats
+
+    v1, v2 = sd1**2 / n1, sd2**2 / n2
+    diff = mean1 - mean2
+    t = diff / math.sqrt(v1 + v2) if v1 + v2 > 0 else math.nan
+    df = (v1 + v2) ** 2 / (v1**2 / (n1 - 1) + v2**2 / (n2 - 1)) if v1 + v2 > 0 else math.nan
+    pooled = math.sqrt(((n1 - 1) * sd1**2 + (n2 - 1) * sd2**2) / (n1 + n2 - 2))
+    g = (1 - 3 / (4 * (n1 + n2) - 9)) * diff / pooled if pooled > 0 else math.nan
+    se = math.sqrt((n1 + n2) / (n1 * n2) + g**2 / (2 * (n1 + n2)))
+    z = float(stats.t.ppf(0.5 + confidence_level / 2, n1 + n2 - 2))  # as pingouin's compute_esci
+    return {"mean_difference": diff, "t": t, "df": df,
+            "pvalue": float(2 * stats.t.sf(abs(t), df)) if math.isfinite(t) else math.nan,
+            "hedges_g": g, "hedges_g_ci": (g - z * se, g + z * se)}
