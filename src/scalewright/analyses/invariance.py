@@ -1,11 +1,11 @@
 """Measurement invariance of every scale (and the whole file) across the levels of subgroup columns."""
 from __future__ import annotations
 
-from collections.abc import Iterable, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import replace
 from typing import TYPE_CHECKING, Any
 
-from ..concurrency import one_blas_thread
+from ..concurrency import map_in_threads, one_blas_thread
 from .confirm import WHOLE_FILE, ConfirmAnalysis, keyed_covariance
 
 if TYPE_CHECKING:
@@ -26,7 +26,6 @@ def analyse_invariance(spec: ScaleSpec, responses: Responses, analysis: ConfirmA
     A level is left out (and named) when it has fewer than ``min_group`` respondents, or fewer
     respondents with usable answers than the free parameters of one group's configural model.
     """
-    from ..concurrency import map_in_threads
     from ..stats.cfa_model import factor_model, scale_file_structure
     from ..stats.subgroups import split_by
 
@@ -39,18 +38,29 @@ def analyse_invariance(spec: ScaleSpec, responses: Responses, analysis: ConfirmA
     for column in by:
         split = split_by(responses.column(column), min_size=min_group, column=column)
 
-        def one(name: str, split: SubgroupSplit = split, column: str = column) -> InvarianceResult:
-            base = targets[name]
-            level_covariances = ((level, keyed_covariance(spec, responses, base.items, pairwise=pairwise, rows=rows))
-                                 for level, rows in split.levels.items())
-            return invariance_across_levels(base, level_covariances, too_small=split.too_small,
-                                            min_group=min_group, name=name, column=column, strict=strict,
-                                            confidence_level=confidence_level)
+        def levels_of(name: str, split: SubgroupSplit = split) -> Iterable[tuple[str, Any]]:
+            return ((level, keyed_covariance(spec, responses, targets[name].items, pairwise=pairwise, rows=rows))
+                    for level, rows in split.levels.items())
 
-        names = list(targets)
-        with one_blas_thread():
-            results[column] = dict(zip(names, map_in_threads(one, names), strict=True))
+        results[column] = invariance_of_targets(targets, levels_of, too_small=split.too_small, min_group=min_group,
+                                                column=column, strict=strict, confidence_level=confidence_level)
     return replace(analysis, invariance=results)
+
+
+def invariance_of_targets(targets: Mapping[str, CfaModel],
+                          levels_of: Callable[[str], Iterable[tuple[str, Any]]], *, too_small: dict[str, int],
+                          min_group: int, column: str, strict: bool = False,
+                          confidence_level: float = 0.95) -> dict[str, InvarianceResult]:
+    """:func:`invariance_across_levels` of every target model across one column's levels, the targets side by
+    side on threads (each with one BLAS thread: their matrices are small). ``levels_of(name)`` gives the
+    ``(level, keyed covariance)`` pairs of the target ``name``, from the rows or from summaries."""
+    def one(name: str) -> InvarianceResult:
+        return invariance_across_levels(targets[name], levels_of(name), too_small=too_small, min_group=min_group,
+                                        name=name, column=column, strict=strict, confidence_level=confidence_level)
+
+    names = list(targets)
+    with one_blas_thread():
+        return dict(zip(names, map_in_threads(one, names), strict=True))
 
 
 def invariance_across_levels(base: CfaModel, level_covariances: Iterable[tuple[str, Any]], *,

@@ -63,8 +63,7 @@ def invariance_from_summaries(spec: Any, summary: Any, targets: dict[str, Any], 
     ``cross_products_of(level_part, name)`` gives the cross-products of the model's items in a level's
     per-scale summaries (default: the scale of that name).
     """
-    from ..concurrency import map_in_threads, one_blas_thread
-    from .invariance import invariance_across_levels
+    from .invariance import invariance_of_targets
 
     cross_products_of = cross_products_of or (lambda part, name: part[name]["cross_products"])
     results: dict[str, Any] = {}
@@ -72,18 +71,12 @@ def invariance_from_summaries(spec: Any, summary: Any, targets: dict[str, Any], 
         split, members = subgroup_split(spec, summary, column, min_group=min_group)
         parts = level_summaries(summary, column, {level: members[level] for level in split.levels})
 
-        def one(name: str, split: Any = split, parts: Any = parts, column: str = column) -> Any:
-            base = targets[name]
-            level_covariances = ((level, keyed_from_cross_products(spec, cross_products_of(parts[level], name),
-                                                                   base.items))
-                                 for level in split.levels)
-            return invariance_across_levels(base, level_covariances, too_small=split.too_small,
-                                            min_group=min_group, name=name, column=column, strict=strict,
-                                            confidence_level=confidence_level)
+        def levels_of(name: str, split: Any = split, parts: Any = parts) -> Any:
+            return ((level, keyed_from_cross_products(spec, cross_products_of(parts[level], name), targets[name].items))
+                    for level in split.levels)
 
-        names = list(targets)
-        with one_blas_thread():
-            results[column] = dict(zip(names, map_in_threads(one, names), strict=True))
+        results[column] = invariance_of_targets(targets, levels_of, too_small=split.too_small, min_group=min_group,
+                                                column=column, strict=strict, confidence_level=confidence_level)
     return results
 
 
