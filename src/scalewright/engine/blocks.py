@@ -13,7 +13,7 @@ from __future__ import annotations
 from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 import numpy as np
 import pandas as pd
@@ -35,6 +35,8 @@ BLOCK_BYTES = 1 << 20
 #: rows per Parquet batch
 BATCH_ROWS = 131072
 
+
+T = TypeVar("T")
 
 class CannotStream(Exception):
     """This file cannot be read block by block (the reason says why); the whole-file reader takes it."""
@@ -108,6 +110,18 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
 
 class Retry(Exception):
     """The parse must start again another way (a value holds a line break a quick parse may split wrongly)."""
+
+
+def read_by_first_way(ways: Sequence[Callable[[], Iterator[Any]]], attempt: Callable[[Callable[[], Iterator[Any]]], T]) -> T:
+    """``attempt(way)`` with each way of reading the file in turn until one reads it: after an error of
+    :func:`retry_errors` the next way starts the file again; after the last way's, the file cannot stream."""
+    for number, way in enumerate(ways, start=1):
+        try:
+            return attempt(way)
+        except retry_errors() as error:
+            if number == len(ways):
+                raise CannotStream.after(error) from None
+    raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
 
 def retry_errors() -> tuple[type, ...]:

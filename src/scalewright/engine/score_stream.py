@@ -12,7 +12,7 @@ first; they keep the whole-file route.
 """
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -26,7 +26,7 @@ from ..data_file import first_row_number
 from ..files import write_atomic_with
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
 from .block_pool import in_file_order
-from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .blocks import CannotStream, batch_sources, convert_batch, read_by_first_way
 from .id_spill import IdHashSpill
 from .reading import ReadingCounts, ReadingOutcome, check_reading
 
@@ -78,6 +78,27 @@ def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_byte
 
     # scoring does no matrix products, so the pool's one BLAS thread per worker costs nothing here
     yield from in_file_order(way(), score, start)
+
+
+def scored_pass(path: Path, spec: Any, standardize: str | None, take: Callable[[ScoreTable], None], *,
+                block_bytes: int | None, columns: tuple[str, ...], way: Any,
+                z_bases: dict | None = None) -> ReadingCounts:
+    """One pass over the file's scored blocks: ``take(table)`` of each in file order, and what reading found,
+    merged (the ids checked on disk, not held: :mod:`~scalewright.engine.id_spill`). Raises
+    :class:`CannotStream` for a file without rows or with an id twice (the whole-file reader names them)."""
+    counts: ReadingCounts | None = None
+    with IdHashSpill() as ids:
+        for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes, columns=columns,
+                                             way=way, z_bases=z_bases):
+            take(table)
+            reading = ids.take_ids(reading)
+            counts = reading if counts is None else counts.merge(reading)
+        duplicates = ids.has_duplicates()
+    if counts is None or counts.rows == 0:
+        raise CannotStream("no rows")  # the whole-file reader says so
+    if duplicates:
+        raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
+    return counts
 
 
 class _Appender:
@@ -146,38 +167,28 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
     found: dict[str, Any] = {}
 
     def write_all(temp: Path | None) -> None:
-        for number, way in enumerate(ways, start=1):
+        def attempt(way: Any) -> None:
             appender = _Appender(temp, suffix) if temp is not None else None
-            first: ScoreTable | None = None
+            first: list[ScoreTable] = []
             scored: dict[str, int] = {}
-            counts: ReadingCounts | None = None
-            ids = IdHashSpill()
+
+            def take(table: ScoreTable) -> None:
+                if appender is not None:
+                    appender.append(table)
+                first[:] = first or [table]
+                for name, one in table.scales.items():
+                    scored[name] = scored.get(name, 0) + one.n_scored
+
             try:
-                for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes,
-                                                     columns=columns, way=way, z_bases=z_bases):
-                    if appender is not None:
-                        appender.append(table)
-                    first = first or table
-                    for name, one in table.scales.items():
-                        scored[name] = scored.get(name, 0) + one.n_scored
-                    reading = ids.take_ids(reading)  # checked on disk, not held (engine/id_spill.py)
-                    counts = reading if counts is None else counts.merge(reading)
-                duplicates = ids.has_duplicates()
-            except retry_errors() as error:
-                if number == len(ways):
-                    raise CannotStream.after(error) from None
-                continue  # the next way starts the file again
+                counts = scored_pass(path, spec, standardize, take, block_bytes=block_bytes, columns=columns,
+                                     way=way, z_bases=z_bases)
             finally:
-                ids.close()
                 if appender is not None:
                     appender.close()
-            if counts is None or first is None or counts.rows == 0:
-                raise CannotStream("no rows")  # the whole-file reader says so
-            if duplicates:
-                raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
             found["outcome"] = check_reading(str(path), counts, spec, lenient=lenient)
-            found["table"] = _summary_table(first, scored, counts.rows, standardize, z_bases)
-            return
+            found["table"] = _summary_table(first[0], scored, counts.rows, standardize, z_bases)
+
+        read_by_first_way(ways, attempt)
 
     if target is None:
         write_all(None)

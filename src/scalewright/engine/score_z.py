@@ -18,11 +18,10 @@ from typing import Any
 
 import numpy as np
 
-from .blocks import CannotStream, batch_sources, retry_errors
-from .id_spill import IdHashSpill
+from .blocks import batch_sources, read_by_first_way
 from .ordered_sum import OrderedSum
-from .reading import ReadingCounts, check_reading
-from .score_stream import _scored_blocks
+from .reading import check_reading
+from .score_stream import scored_pass
 
 #: scores read back from the temporary file at a time
 CHUNK = 1 << 20
@@ -52,37 +51,26 @@ def z_bases_of_file(path: str | Path, spec: Any, *, lenient: bool = False,
     ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
     folder = Path(tempfile.mkdtemp(prefix="scalewright-z-"))
     try:
-        for number, way in enumerate(ways, start=1):
+        def attempt(way: Any) -> dict[str, dict[str, Any]]:
             files = {name: folder / f"{index}.f8" for index, name in enumerate(spec.scales)}
-            counts: ReadingCounts | None = None
             scored = dict.fromkeys(spec.scales, 0)
-            ids = IdHashSpill()
             handles = {name: open(file, "wb") for name, file in files.items()}  # noqa: SIM115 (closed below)
+
+            def take(table: Any) -> None:
+                for name, one in table.scales.items():
+                    valid = one.scores[~np.isnan(one.scores)]
+                    valid.tofile(handles[name])
+                    scored[name] += valid.size
+
             try:
-                for table, reading in _scored_blocks(path, spec, None, block_bytes=block_bytes, columns=columns,
-                                                     way=way):
-                    for name, one in table.scales.items():
-                        valid = one.scores[~np.isnan(one.scores)]
-                        valid.tofile(handles[name])
-                        scored[name] += valid.size
-                    reading = ids.take_ids(reading)  # checked on disk, not held (engine/id_spill.py)
-                    counts = reading if counts is None else counts.merge(reading)
-                duplicates = ids.has_duplicates()
-            except retry_errors() as error:
-                if number == len(ways):
-                    raise CannotStream.after(error) from None
-                continue
+                counts = scored_pass(path, spec, None, take, block_bytes=block_bytes, columns=columns, way=way)
             finally:
-                ids.close()
                 for handle in handles.values():
                     handle.close()
-            if counts is None or counts.rows == 0:
-                raise CannotStream("no rows")
-            if duplicates:
-                raise CannotStream("an id appears twice")
             check_reading(str(path), counts, spec, lenient=lenient)
             return {name: _basis(files[name], scored[name]) for name in spec.scales}
-        raise CannotStream("no way to read the file in blocks")
+
+        return read_by_first_way(ways, attempt)
     finally:
         shutil.rmtree(folder, ignore_errors=True)
 

@@ -10,7 +10,7 @@ from typing import Any
 from ..data_file import first_row_number
 from ..summaries import Summary
 from .block_pool import in_file_order
-from .blocks import CannotStream, batch_sources, convert_batch, retry_errors
+from .blocks import CannotStream, batch_sources, convert_batch, read_by_first_way
 from .id_spill import IdHashSpill
 from .plan import SummaryPlan, summarise_block
 from .reading import ReadingOutcome, check_reading
@@ -30,13 +30,8 @@ def summarise_file(path: str | Path, spec: Any, plan: SummaryPlan, *, block_byte
     path = Path(path)
     ways = batch_sources(path, spec, plan.columns, block_bytes=block_bytes, batch_rows=batch_rows, source=source)
     start = first_row_number(path) if first_row is None else first_row
-    for number, batches in enumerate(ways, start=1):
-        try:
-            return _summarise_batches(batches(), spec, plan, start, file=file, part=part, spill_ids=spill_ids)
-        except retry_errors() as error:
-            if number == len(ways):
-                raise CannotStream.after(error) from None
-    raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
+    return read_by_first_way(ways, lambda batches: _summarise_batches(batches(), spec, plan, start, file=file,
+                                                                      part=part, spill_ids=spill_ids))
 
 
 def _summarise_batches(batches: Any, spec: Any, plan: SummaryPlan, start: int, *, file: str = "",
