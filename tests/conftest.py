@@ -98,3 +98,15 @@ def demo_run(tmp_path_factory):
         status = main(["demo", "--out", str(folder), "--force", "--quiet"])
     assert status == 0
     return DemoRun(folder=folder, printed=stdout.getvalue())
+
+
+@pytest.fixture(scope="session")
+def cluster():
+    """One local Dask cluster of two workers per test process, shared by every Dask test. Threads, not
+    processes: the tests stay fast and the partitions still go to two separate workers. The dashboard takes a
+    free port (``:0``): clusters of parallel test processes would otherwise all ask for 8787."""
+    pytest.importorskip("distributed")
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=":0") as local:
+        yield local

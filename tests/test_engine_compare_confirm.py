@@ -78,15 +78,6 @@ def test_bad_value_late_in_the_file_is_named_as_whole(survey):
             assert_comparison_equal(lenient_streamed, lenient_whole)
 
 
-@pytest.fixture(scope="module")
-def cluster():
-    pytest.importorskip("distributed")
-    from dask.distributed import LocalCluster
-
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
-        yield local
-
-
 @pytest.mark.parametrize(("command", "options"), [("compare", ("--by", "shift")),
                                                   ("confirm", ("--missing", "em")),
                                                   ("confirm", ("--ordinal",))])
@@ -205,7 +196,9 @@ def test_bad_weights_late_in_the_file_are_named_and_counted_as_whole(tmp_path):
     assert sum("weight" in text for text in lenient_whole["notes"]) >= 3  # refused kinds counted in notes
 
 
-def test_weighted_compare_on_dask(cluster, tmp_path):
+def weighted_runs_in_memory_and_on_dask(cluster, tmp_path: Path, command: str, *options: str) -> tuple[dict, dict]:
+    """The JSON of ``command`` on the weighted survey read whole, and on the same rows as three Parquet files on
+    the cluster, without their provenance (input, engine)."""
     import pyarrow as pa
     import pyarrow.csv as pacsv
     import pyarrow.parquet as pq
@@ -216,14 +209,19 @@ def test_weighted_compare_on_dask(cluster, tmp_path):
     folder.mkdir()
     for part in range(3):
         pq.write_table(table.slice(part * 500, 500), folder / f"part-{part}.parquet", row_group_size=200)
-    code_m, out_m, err_m = run("compare", str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
-                               "--by", "site", "--weight", "wt")
-    code_d, out_d, err_d = run("compare", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, "--by", "site", "--weight", "wt")
+    code_m, out_m, err_m = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
+                               "--weight", "wt", *options)
+    code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
+                               "--scheduler", cluster.scheduler_address, "--weight", "wt", *options)
     assert code_m == 0, err_m
     assert code_d == 0, err_d
     in_memory, on_dask = json.loads(out_m), json.loads(out_d)
     on_dask.pop("engine")
     in_memory.pop("input")
     on_dask.pop("input")
+    return in_memory, on_dask
+
+
+def test_weighted_compare_on_dask(cluster, tmp_path):
+    in_memory, on_dask = weighted_runs_in_memory_and_on_dask(cluster, tmp_path, "compare", "--by", "site")
     assert_comparison_equal(on_dask, in_memory)

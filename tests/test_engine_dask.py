@@ -30,15 +30,6 @@ def without_provenance(document: dict) -> dict:
     return document
 
 
-@pytest.fixture(scope="module")
-def cluster():
-    from dask.distributed import LocalCluster
-
-    # threads, not processes: the test stays fast; the partitions still go to two separate workers
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
-        yield local
-
-
 @pytest.fixture
 def dataset(tmp_path: Path) -> tuple[Path, Path, Path]:
     """The same 2,400 rows as one CSV file and as a folder of four Parquet files."""

@@ -40,15 +40,6 @@ def test_scores_of_the_partitions_in_order_equal_the_whole_file_scores(dataset, 
     assert table.scales["workload"].n_scored + table.scales["workload"].n_unscored == 900
 
 
-@pytest.fixture(scope="module")
-def cluster():
-    pytest.importorskip("distributed")
-    from dask.distributed import LocalCluster
-
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
-        yield local
-
-
 @pytest.mark.slow  # two full reports with figures: about 8 s of CPU
 def test_dask_report_equals_the_in_memory_report(cluster, dataset, tmp_path):
     whole_file, folder, scales = dataset

@@ -134,13 +134,10 @@ def test_every_section_of_the_weighted_report_folder_equals_the_whole_file_one(t
 
 
 @pytest.mark.slow  # a local Dask cluster and two full weighted reports
-def test_weighted_report_on_dask_equals_the_whole_file_one(tmp_path):
+def test_weighted_report_on_dask_equals_the_whole_file_one(cluster, tmp_path):
     """CSV files summarised on a local cluster of two workers against the whole-file weighted report of the
     same rows as one file: every section but the screen (it needs three passes over the rows, named as
     left out on this route) and the provenance."""
-    pytest.importorskip("distributed")
-    from dask.distributed import LocalCluster
-
     data, scales = _weighted_survey(tmp_path, n=900)
     lines = data.read_text(encoding="utf-8").splitlines()
     parts = tmp_path / "parts"
@@ -148,10 +145,9 @@ def test_weighted_report_on_dask_equals_the_whole_file_one(tmp_path):
     for number, start in enumerate(range(1, len(lines), 300)):
         (parts / f"part-{number}.csv").write_text("\n".join([lines[0], *lines[start:start + 300]]) + "\n",
                                                  encoding="utf-8")
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as cluster:
-        code_d, _, err_d = run("report", str(parts / "part-*.csv"), "-s", str(scales), "--out", str(tmp_path / "dask"),
-                               "--engine", "dask", "--scheduler", cluster.scheduler_address, "--weight", "wt",
-                               "--by", "shift", "--iterations", "3", "-q")
+    code_d, _, err_d = run("report", str(parts / "part-*.csv"), "-s", str(scales), "--out", str(tmp_path / "dask"),
+                           "--engine", "dask", "--scheduler", cluster.scheduler_address, "--weight", "wt",
+                           "--by", "shift", "--iterations", "3", "-q")
     code_m, _, err_m = run("report", str(data), "-s", str(scales), "--out", str(tmp_path / "whole"), "--engine",
                            "memory", "--weight", "wt", "--by", "shift", "--iterations", "3", "-q")
     assert code_d == 0, err_d

@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from .engine_data import ITEMS, SCALES, survey_rows, write_csv, write_dataset
-from .test_engine_compare_confirm import _weighted_survey
+from .test_engine_compare_confirm import _weighted_survey, weighted_runs_in_memory_and_on_dask
 from .test_engine_stream import assert_same_numbers, both_routes, run
 
 
@@ -131,15 +131,6 @@ def test_weights_named_in_the_scale_file_stream_structure_and_confirm(tmp_path):
         assert "weighted" in json.dumps(whole)
 
 
-@pytest.fixture(scope="module")
-def cluster():
-    pytest.importorskip("distributed")
-    from dask.distributed import LocalCluster
-
-    with LocalCluster(n_workers=2, threads_per_worker=1, processes=False, dashboard_address=None) as local:
-        yield local
-
-
 @pytest.mark.parametrize("options", [("--missing", "em"), ("--ordinal", "--missing", "pairwise")])
 def test_structure_on_dask_equals_the_in_memory_run(cluster, tmp_path, options):
     whole_file, folder, scales = write_dataset(tmp_path, survey_rows(1200, seed=5), parts=3, row_group_size=150)
@@ -159,25 +150,6 @@ def test_structure_on_dask_equals_the_in_memory_run(cluster, tmp_path, options):
 @pytest.mark.parametrize("command", ["structure", "confirm"])
 def test_weighted_fits_on_dask_equal_the_in_memory_run(cluster, tmp_path, command):
     # the exact weighted sums merge to the same bits in any tree of partitions
-    import pyarrow as pa
-    import pyarrow.csv as pacsv
-    import pyarrow.parquet as pq
-
-    data, scales = _weighted_survey(tmp_path)
-    table = pacsv.read_csv(data, convert_options=pacsv.ConvertOptions(column_types={"staff_id": pa.string()}))
-    folder = tmp_path / "parts"
-    folder.mkdir()
-    for part in range(3):
-        pq.write_table(table.slice(part * 500, 500), folder / f"part-{part}.parquet", row_group_size=200)
-    code_m, out_m, err_m = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
-                               "--weight", "wt")
-    code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, "--weight", "wt")
-    assert code_m == 0, err_m
-    assert code_d == 0, err_d
-    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
-    on_dask.pop("engine")
-    in_memory.pop("input")
-    on_dask.pop("input")
+    in_memory, on_dask = weighted_runs_in_memory_and_on_dask(cluster, tmp_path, command)
     assert_same_numbers(on_dask, in_memory)
     assert "weighted" in json.dumps(on_dask)

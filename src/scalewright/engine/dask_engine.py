@@ -107,8 +107,9 @@ def _client(scheduler: str | None, workers: int | None):
         return Client(scheduler), None
     from ..concurrency import worker_count
 
+    # the dashboard on a free port: two runs at once on one machine would otherwise both ask for 8787
     cluster = LocalCluster(n_workers=workers or worker_count(), threads_per_worker=1, processes=True,
-                           dashboard_address=None)
+                           dashboard_address=":0")
     return Client(cluster), cluster
 
 
