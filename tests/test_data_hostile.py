@@ -279,3 +279,22 @@ def test_the_report_notes_which_texts_were_read_as_missing(write_file):
     note = responses.missing_texts_note(spec)
     assert "'NA', 'N/A', '#N/A'" in note
     assert "in the items of other: 'skip'" in note
+
+
+@pytest.mark.parametrize("engine", ["memory", "stream"])
+def test_the_count_of_other_problems_leaves_out_the_line_that_totals_them(tmp_path, capsys, engine):
+    # two refused values: the one-line error names the first and counts one more, not the closing total
+    data = tmp_path / "two-bad.csv"
+    rows = [f"r{i},{(i % 5) + 1},{(i * 2 % 5) + 1}" for i in range(30)]
+    rows[4] = "r4,8,2"
+    rows[9] = "r9,3,agree"
+    data.write_text("rid,a,b\n" + "\n".join(rows) + "\n", encoding="utf-8")
+    scales = tmp_path / "two-bad.yaml"
+    scales.write_text("version: 1\nid_column: rid\nresponse: {min: 1, max: 5}\nscales:\n"
+                      "  pair: {items: [a, b], score: mean}\n", encoding="utf-8")
+    before = data.read_bytes()
+    assert main(["reliability", str(data), "--scales", str(scales), "--engine", engine]) == 4
+    err = capsys.readouterr().err.strip()
+    assert len(err.splitlines()) == 1
+    assert "(row 6, column a): 8 is outside the answer range 1..5 (and 1 more problem;" in err
+    assert data.read_bytes() == before

@@ -187,7 +187,7 @@ def read_responses(path: str | Path, spec: ScaleSpec, *, lenient: bool = False, 
                                                message=_describe_bad(value, fmt))))
     if bad_total and not lenient:
         in_row_order = [problem for _, problem in sorted(bad_sample, key=lambda numbered: numbered[0])]
-        summary = Problem(file=str(path), message=f"{bad_total} value(s) in all are neither an answer nor a "
+        summary = Problem(total=True, file=str(path), message=f"{bad_total} value(s) in all are neither an answer nor a "
                                                   "'no answer' code; fix them, add them to missing_codes, or read "
                                                   "the data leniently to treat them as missing")
         raise DataError([*in_row_order, summary] if bad_total > 1 else in_row_order).with_setting("lenient")

@@ -42,6 +42,7 @@ class Problem:
     message: str
     line: int | None = None
     where: str = ""  # key path in a scale file, or "column X" in a data file
+    total: bool = False  # a count of the problems listed before it ("... in all"), not one more problem
 
     def __str__(self) -> str:
         place = self.file
@@ -84,7 +85,7 @@ class _ProblemsError(ScalewrightError):
 
     def summary(self) -> str:
         first = str(self.problems[0]) if self.problems else "unknown problem"
-        more = len(self.problems) - 1
+        more = sum(not problem.total for problem in self.problems[1:])
         if more > 0:
             first += f" (and {more} more problem{'s' if more > 1 else ''}; `scalewright lint` lists them all)"
         return first

@@ -98,7 +98,7 @@ def read_weights(frame: pd.DataFrame, column: str, line_numbers: np.ndarray, *, 
         else:
             detail = ", ".join(f"{count} {kind.replace('_', ' ')}" for kind, count in counts.items())
             problems.append(Problem(file=path, where=f"column {column}",
-                                    message=f"{total} weight(s) in all cannot be used ({detail}); {remedy}"))
+                                    message=f"{total} weight(s) in all cannot be used ({detail}); {remedy}", total=True))
         raise DataError(problems)
     refused_kind = np.full(len(raw), -1, dtype=np.int8)
     for index, kind in reversed(list(enumerate(BAD_KINDS))):  # the first kind in BAD_KINDS names a row

@@ -38,7 +38,7 @@ def check_weights(path: str, reading: Any, column: str, *, lenient: bool) -> lis
         else:
             detail = ", ".join(f"{count} {kind.replace('_', ' ')}" for kind, count in reading.refused.items())
             problems.append(Problem(file=path, where=f"column {column}",
-                                    message=f"{total} weight(s) in all cannot be used ({detail}); {remedy}"))
+                                    message=f"{total} weight(s) in all cannot be used ({detail}); {remedy}", total=True))
         raise DataError(problems)
     found = [note("weights-approximate-inference", weight_column=column)]
     if reading.n_zero_weight:

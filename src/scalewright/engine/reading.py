@@ -194,7 +194,7 @@ def check_reading(path: str, counts: ReadingCounts, spec: Any, *, lenient: bool)
     total = sum(counts.refused.values())
     if total and not lenient:
         in_row_order = [problem for _, problem in sorted(sample, key=lambda numbered: numbered[0])]
-        summary = Problem(file=path, message=f"{total} value(s) in all are neither an answer nor a "
+        summary = Problem(total=True, file=path, message=f"{total} value(s) in all are neither an answer nor a "
                                              "'no answer' code; fix them, add them to missing_codes, or read "
                                              "the data leniently to treat them as missing")
         raise DataError([*in_row_order, summary] if total > 1 else in_row_order).with_setting("lenient")
