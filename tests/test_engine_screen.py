@@ -19,7 +19,7 @@ import pytest
 
 from .engine_data import assert_same_json
 from .survey_files import AGREEMENT_1_TO_5
-from .test_engine_stream import SMALL_BLOCK, run
+from .test_engine_stream import SMALL_BLOCK, both_routes_with_texts, run
 
 SCALES = """\
 version: 1
@@ -94,16 +94,7 @@ def assert_same(whole, streamed, where="") -> None:
 
 
 def both(data: Path, scales: Path, *options: str) -> tuple[dict, dict, str, str]:
-    code_m, out_m, err_m = run("screen", str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
-                               *options)
-    code_s, out_s, err_s = run("screen", str(data), "-s", str(scales), "--format", "json", "--engine", "stream",
-                               "--block-size", SMALL_BLOCK, *options)
-    assert code_m == 0, err_m
-    assert code_s == 0, err_s
-    assert "read whole" not in err_s  # the streaming route was taken
-    streamed = json.loads(out_s)
-    assert streamed.pop("engine") == {"name": "stream"}
-    return json.loads(out_m), streamed, out_m, out_s
+    return both_routes_with_texts("screen", data, scales, *options)
 
 
 def test_streamed_screen_equals_the_whole_file_screen(survey, monkeypatch):

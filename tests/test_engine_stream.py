@@ -27,6 +27,12 @@ def run(*args: str) -> tuple[int, str, str]:
 
 def both_routes(command: str, data: Path, scales: Path, *options: str) -> tuple[dict, dict]:
     """The JSON of the whole-file route and of the streaming route (its own ``engine`` block set aside)."""
+    whole, streamed, _, _ = both_routes_with_texts(command, data, scales, *options)
+    return whole, streamed
+
+
+def both_routes_with_texts(command: str, data: Path, scales: Path, *options: str) -> tuple[dict, dict, str, str]:
+    """:func:`both_routes` and the two printed documents as text."""
     code_m, out_m, err_m = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
                                *options)
     code_s, out_s, err_s = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "stream",
@@ -36,7 +42,7 @@ def both_routes(command: str, data: Path, scales: Path, *options: str) -> tuple[
     assert "read whole" not in err_s  # the streaming route was taken
     streamed = json.loads(out_s)
     assert streamed.pop("engine") == {"name": "stream"}
-    return json.loads(out_m), streamed
+    return json.loads(out_m), streamed, out_m, out_s
 
 
 @pytest.fixture
