@@ -66,8 +66,9 @@ def test_quoted_names_and_values_are_cut_and_parsed_side_by_side(survey, monkeyp
     data.write_text("\n".join(quoted) + "\n", encoding="utf-8")
     assert can_cut(data)
     taken = []
-    original = parallel_csv.parallel_batches
-    monkeypatch.setattr(parallel_csv, "parallel_batches", lambda *a, **k: taken.append(1) or original(*a, **k))
+    original = parallel_csv.ParallelBlocks.in_order
+    monkeypatch.setattr(parallel_csv.ParallelBlocks, "in_order",
+                        lambda *a, **k: taken.append(1) or original(*a, **k))
     whole, streamed = both_routes("reliability", data, scales, "--by", "shift")
     assert taken
     assert streamed == whole

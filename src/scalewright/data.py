@@ -10,10 +10,9 @@ from collections.abc import Sequence
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from .answer_codes import ItemAnswers
 from .concurrency import worker_count
@@ -29,6 +28,9 @@ from .read_codes import (
 from .responses import Responses
 from .spec_model import ResponseFormat, ScaleSpec, normalise_answer_text
 from .text_cells import clear_missing_texts, is_plain_number
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 SHOW_FIRST = 20  # bad cells listed one by one before the rest are only counted
 
@@ -53,6 +55,7 @@ def convert_item(series: pd.Series, fmt: ResponseFormat, *, out: np.ndarray | No
 
     ``out`` (a float64 vector of the column's length) receives the codes in place, sparing a copy.
     """
+    import pandas as pd
     texts = 0
     missing_texts: dict[str, int] = {}
     listed_blank = 0  # cells of a listed "no answer" text: NaN below, but not blank
@@ -222,6 +225,7 @@ def _convert_frame(pool, frame: pd.DataFrame, spec: ScaleSpec):
 
 def _convert_table(pool, table, item_raw_names: Sequence[str], spec: ScaleSpec):
     """Every int16 item column of an Arrow table as one-byte codes (the quick route)."""
+    import pandas as pd
     needed = list(spec.items)
     codes = np.empty((table.num_rows, len(needed)), dtype=np.uint8, order="F")
     as_written = {raw.strip(): raw for raw in item_raw_names}

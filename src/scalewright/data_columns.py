@@ -3,13 +3,16 @@ from __future__ import annotations
 
 from collections.abc import Mapping, Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from .errors import DataError, Problem, did_you_mean, quoted
 from .spec_model import ScaleSpec
 from .text_cells import is_plain_number
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 def check_columns_present(path: Path, spec: ScaleSpec, columns: Sequence[str]) -> None:
@@ -60,6 +63,7 @@ def ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str,
     (``{"1": "woman", ...}`` from the scale file) the data's codes become their names, so tables, figures and
     sentences say "woman", not "gender = 1"; a value already written as a name is kept.
     """
+    import pandas as pd
     text = values.astype("string").str.strip()
     text = text.mask(text == "")
     text = named_levels(text, order, codes)
@@ -74,6 +78,7 @@ def ordered_levels(path: Path, values: pd.Series, column: str, order: tuple[str,
 
 
 def check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numbers: np.ndarray) -> pd.Series:
+    import pandas as pd
     if id_column is None:
         return pd.Series(line_numbers.astype(str), name="row")
     raw = frame[id_column]
@@ -98,6 +103,7 @@ def check_ids(path: Path, frame: pd.DataFrame, id_column: str | None, line_numbe
 
 def ids_as_text(raw: pd.Series, path_text: str = "", line_numbers: np.ndarray | None = None) -> pd.Series:
     """Ids as text, whole-number floats without '.0' (a spreadsheet's 17 is the id '17')."""
+    import pandas as pd
     if pd.api.types.is_integer_dtype(raw.dtype):
         return raw.astype(str)
     if pd.api.types.is_float_dtype(raw.dtype):

@@ -10,8 +10,7 @@ import io
 import re
 from collections.abc import Sequence
 from pathlib import Path
-
-import pandas as pd
+from typing import TYPE_CHECKING
 
 from .errors import DataError, Problem, UsageError, quoted
 from .read_codes import (
@@ -21,6 +20,9 @@ from .read_codes import (
     without_empty_lines,
 )
 from .text_cells import clear_missing_texts
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 DELIMITERS = (",", ";", "\t")
 READABLE = (".csv", ".tsv", ".txt", ".xlsx", ".parquet")
@@ -118,6 +120,8 @@ def delimited_header(path: Path, delimiter: str | None) -> tuple[str, list[str]]
 def _read_delimited(path: Path, delimiter: str | None, text_columns: Sequence[str] = ()) -> pd.DataFrame:
     """The file as a pandas frame (typed as ``pandas.read_csv`` types it, ``text_columns`` as text);
     ``frame.attrs[ROW_NUMBERS]`` holds the rows' spreadsheet numbers when empty lines shift them."""
+    import pandas as pd
+
     from . import limits
 
     sep, raw_names = delimited_header(path, delimiter)
@@ -211,6 +215,7 @@ def read_table(path: str | Path, *, delimiter: str | None = None, text_columns: 
 
 def _read_parquet(path: Path) -> pd.DataFrame:
     """A Parquet file, after refusing duplicate column names and cells that hold lists or records."""
+    import pandas as pd
     import pyarrow as pa
     import pyarrow.parquet as pq
 

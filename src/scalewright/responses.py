@@ -3,15 +3,17 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from .answer_codes import ItemAnswers
 from .errors import DataError, Problem, did_you_mean, quoted
 from .notes import Note, note
 from .spec_model import ScaleSpec
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True, eq=False)
@@ -71,6 +73,7 @@ class Responses:
 
     def column(self, name: str) -> pd.Series:
         """A non-item column (a group, id or other), or an item's clean codes, as a Series."""
+        import pandas as pd
         if name in self.frame.columns:
             return self.frame[name]
         if name in self.item_names:

@@ -10,9 +10,12 @@ from __future__ import annotations
 import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: a number as a person types one: ASCII digits, one optional sign, point and exponent. Python's float()
 #: also takes "1_2", "nan", "inf", "0x3"-like forms elsewhere and digits of other scripts, none of which
@@ -46,6 +49,7 @@ def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *, sk
     A text column whose remaining cells are all plain numbers becomes numeric, as the parser would have
     typed it without those cells. Columns in ``skip`` (ids) are left exactly as read.
     """
+    import pandas as pd
     listed = {normalise(text): text for text in missing_texts}
     found = MissingCells()
     changed: dict[str, pd.Series] = {}
@@ -72,9 +76,19 @@ def clear_missing_texts(frame: pd.DataFrame, missing_texts: Sequence[str], *, sk
     return frame, found
 
 
+def clear_column_texts(column: pd.Series, missing_texts: Sequence[str]) -> pd.Series:
+    """One column as :func:`clear_missing_texts` leaves it (a column of another type than text as it is)."""
+    import pandas as pd
+
+    if not (column.dtype == object or pd.api.types.is_string_dtype(column.dtype)):
+        return column
+    return _clear_column(column, {normalise(text): text for text in missing_texts})[0]
+
+
 def _clear_column(column: pd.Series, listed: dict[str, str]) -> tuple[pd.Series, dict[str, int]]:
     """One text column with blank and listed cells missing (the same object when none is), and the count
     of each listed text."""
+    import pandas as pd
     positions, uniques = pd.factorize(column)
     if not len(uniques):
         return column, {}

@@ -10,10 +10,12 @@ from dataclasses import dataclass
 from typing import TYPE_CHECKING
 
 import numpy as np
-import pandas as pd
 
 from ..errors import UsageError
 from ..results import ResultMixin
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 if TYPE_CHECKING:
     from ..responses import Responses
@@ -41,6 +43,7 @@ def count_levels(values: pd.Series, *, column: str) -> LevelCount:
     Numbers look continuous when some are not whole, or when the distinct whole numbers fill at least half
     of the range between the smallest and the largest (our own rule of thumb: an age or a score, not codes).
     """
+    import pandas as pd
     present = pd.Series(values).dropna()
     if present.dtype == object or pd.api.types.is_string_dtype(present.dtype):
         present = present.astype(str).str.strip()

@@ -10,13 +10,13 @@ with its own types, by the general route. Whatever neither can read block by blo
 """
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from functools import partial
 from pathlib import Path
-from typing import Any, TypeVar
+from typing import TYPE_CHECKING, Any, TypeVar
 
 import numpy as np
-import pandas as pd
 
 from ..answer_codes import MISSING, ItemAnswers
 from ..data import SHOW_FIRST, convert_item
@@ -25,8 +25,12 @@ from ..data_file import delimited_header
 from ..read_codes import BLANK_TEXTS, convert_codes, fits
 from ..text_cells import clear_missing_texts
 from .id_hash import text_id_hashes
-from .parallel_csv import can_cut
+from .other_columns import ArrowColumns, count_missing_cells, is_text
+from .parallel_csv import Retry, can_cut
 from .reading import ReadingCounts
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 #: bytes of CSV text per parsed block (pyarrow's default). pyarrow's streaming reader parses blocks ahead
 #: of the consumer, a bounded queue of them: its memory is this times the queue's length, so a small block
@@ -53,7 +57,7 @@ class Block:
     what reading it found. ``columns`` holds the id, group and tallied columns as pandas Series."""
 
     codes: np.ndarray
-    columns: dict[str, pd.Series]
+    columns: Mapping[str, pd.Series]
     reading: ReadingCounts
     first_row: int
     #: the file's position in a dataset and its name (the place of a row is (part, row, file))
@@ -108,10 +112,6 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
             for as_int16, quote_aware, parallel in ways]
 
 
-class Retry(Exception):
-    """The parse must start again another way (a value holds a line break a quick parse may split wrongly)."""
-
-
 def read_by_first_way(ways: Sequence[Callable[[], Iterator[Any]]], attempt: Callable[[Callable[[], Iterator[Any]]], T]) -> T:
     """``attempt(way)`` with each way of reading the file in turn until one reads it: after an error of
     :func:`retry_errors` the next way starts the file again; after the last way's, the file cannot stream."""
@@ -132,42 +132,57 @@ def retry_errors() -> tuple[type, ...]:
 
 
 def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str], *, block_bytes: int,
-                 as_int16: bool, quote_aware: bool, parallel: bool = False) -> Iterator[Any]:
-    """Arrow record batches of the file (item columns int16 or text, the rest text)."""
+                 as_int16: bool, quote_aware: bool, parallel: bool = False) -> Iterable[Any]:
+    """Arrow record batches of the file (item columns int16 or text, the rest text), each checked by
+    :func:`_check_batch`. The parallel reader is handed back whole, so that :func:`in_file_order` can parse
+    and work each block on one thread (:meth:`~scalewright.engine.parallel_csv.ParallelBlocks.in_order`)."""
     import pyarrow as pa
-    import pyarrow.compute as pc
     import pyarrow.csv as pacsv
 
     wanted = set(items)
     types = {raw: (pa.int16() if as_int16 and raw.strip() in wanted else pa.string()) for raw in raw_names}
     parse_options = pacsv.ParseOptions(delimiter=sep, ignore_empty_lines=False, newlines_in_values=quote_aware)
     convert_options = pacsv.ConvertOptions(column_types=types, null_values=list(BLANK_TEXTS), strings_can_be_null=True)
+    check = partial(_check_batch, quote_aware=quote_aware)
     if parallel:
         from ..concurrency import worker_count
-        from .parallel_csv import parallel_batches
+        from .parallel_csv import ParallelBlocks
 
         # a block_size given on the command line is kept as the streaming reader's; the parallel reader
         # takes its own larger blocks (their count in memory is bounded by the threads, not by a queue)
-        reader = parallel_batches(path, raw_names, parse_options=parse_options, convert_options=convert_options,
-                                  workers=worker_count(), block_bytes=block_bytes if block_bytes != BLOCK_BYTES else None)
-    else:
-        reader = pacsv.open_csv(path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
-                                parse_options=parse_options, convert_options=convert_options)
-        if len(reader.schema.names) != len(raw_names):
-            raise CannotStream("the parser saw the header differently")
+        return ParallelBlocks(path, raw_names, parse_options=parse_options, convert_options=convert_options,
+                              workers=worker_count(), block_bytes=block_bytes if block_bytes != BLOCK_BYTES else None,
+                              check=check)
+    reader = pacsv.open_csv(path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
+                            parse_options=parse_options, convert_options=convert_options)
+    if len(reader.schema.names) != len(raw_names):
+        raise CannotStream("the parser saw the header differently")
+    return _checked(reader, check)
+
+
+def _checked(reader: Iterable[Any], check: Callable[[Any], None]) -> Iterator[Any]:
     for batch in reader:
-        if batch.num_rows and all(column.null_count for column in batch.columns):
-            blank = pc.and_(*[pc.is_null(c) for c in batch.columns[:2]]) if batch.num_columns > 1 else \
-                pc.is_null(batch.column(0))
-            for column in batch.columns[2:]:
-                blank = pc.and_(blank, pc.is_null(column))
-            if pc.any(blank).as_py():
-                raise CannotStream("a row is blank in every column (an empty line?)")
-        if not quote_aware:
-            texts = [c for c, t in zip(batch.columns, batch.schema.types, strict=True) if pa.types.is_string(t)]
-            if any(pc.any(pc.match_substring(c, "\n")).as_py() is True for c in texts):
-                raise Retry()  # a value holds a line break: only a quote-aware parse is safe
+        check(batch)
         yield batch
+
+
+def _check_batch(batch: Any, *, quote_aware: bool) -> None:
+    """Refuse a batch holding a row blank in every column (an empty line: the whole-file reader names it),
+    or, unless the parse was quote-aware, a text holding a line break (:class:`Retry`)."""
+    import pyarrow as pa
+    import pyarrow.compute as pc
+
+    if batch.num_rows and all(column.null_count for column in batch.columns):
+        blank = pc.and_(*[pc.is_null(c) for c in batch.columns[:2]]) if batch.num_columns > 1 else \
+            pc.is_null(batch.column(0))
+        for column in batch.columns[2:]:
+            blank = pc.and_(blank, pc.is_null(column))
+        if pc.any(blank).as_py():
+            raise CannotStream("a row is blank in every column (an empty line?)")
+    if not quote_aware:
+        texts = [c for c, t in zip(batch.columns, batch.schema.types, strict=True) if pa.types.is_string(t)]
+        if any(pc.any(pc.match_substring(c, "\n")).as_py() is True for c in texts):
+            raise Retry()  # a value holds a line break: only a quote-aware parse is safe
 
 
 # ---------------------------------------------------------------------------------------------------- Parquet
@@ -232,7 +247,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         if bad.size:
             refused[name] = int(bad.size)
             shown = bad[:SHOW_FIRST]
-            as_read = raw.iloc[shown] if isinstance(raw, pd.Series) else raw[shown]
+            as_read = raw.iloc[shown] if hasattr(raw, "iloc") else raw[shown]
             refused_first[name] = tuple(((part, first_row + int(row), file), _plain(value))
                                         for row, value in zip(shown, as_read, strict=True))
     if as_floats:
@@ -242,30 +257,36 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         if float_codes is None:
             raise CannotStream("an answer is not a whole answer level (it needs the float route)")
         codes[:, as_floats] = float_codes
-    wanted = {}
     id_hashes, id_empty, unknown = (), (), {}
     # "no answer" texts of every other column read (a CSV file's all, a Parquet file's wanted ones) read as
     # missing and counted, blanks of the group columns counted, as the whole-file reader does
-    # (data.read_responses)
+    # (data.read_responses); the columns themselves become pandas Series only when a command reads them
     item_set = set(items)
-    others = pd.DataFrame({name: batch.column(position).to_pandas() for name, position in by_name.items()
-                           if name not in item_set})
-    others, found = clear_missing_texts(others, tuple(getattr(spec, "missing_texts", ()) or ()),
-                                        skip=[spec.id_column] if spec.id_column else (),
-                                        count_blank=tuple(spec.groups))
+    others = {name: batch.column(position) for name, position in by_name.items() if name not in item_set}
+    listed = tuple(getattr(spec, "missing_texts", ()) or ())
+    skip = [spec.id_column] if spec.id_column else []
+    wanted = ArrowColumns({name: others[name] for name in dict.fromkeys(columns)}, listed, keep_as_read=skip)
+    if all(is_text(array) for array in others.values()):
+        found = count_missing_cells(others, listed, skip=skip, count_blank=tuple(spec.groups))
+    else:  # numbers or dates beside the texts (Parquet): the whole-file reader's own function
+        import pandas as pd
+
+        frame, found = clear_missing_texts(pd.DataFrame({name: array.to_pandas() for name, array in others.items()}),
+                                           listed, skip=skip, count_blank=tuple(spec.groups))
+        wanted = ArrowColumns({}, listed, ready={name: frame[name] for name in dict.fromkeys(columns)})
     missing_texts.update({column: dict(counts) for column, counts in found.texts.items()})
     blanks.update(found.blank)
     for name in dict.fromkeys(columns):
-        series = others[name]
         if name == spec.id_column:
-            hashes, id_empty = _id_check(series, (part, first_row, file), arrow=batch.column(by_name[name]))
+            hashes, id_empty = _id_check(lambda name=name: wanted[name], (part, first_row, file),
+                                         arrow=batch.column(by_name[name]))
             id_hashes = (hashes,)
         if name in spec.group_levels:
-            series, found = _known_levels(series, spec.group_levels[name], (part, first_row, file),
-                                          codes=getattr(spec, "group_codes", {}).get(name))
-            if found:
-                unknown[name] = found
-        wanted[name] = series
+            series, found_levels = _known_levels(wanted[name], spec.group_levels[name], (part, first_row, file),
+                                                 codes=getattr(spec, "group_codes", {}).get(name))
+            if found_levels:
+                unknown[name] = found_levels
+            wanted.keep(name, series)
     reading = ReadingCounts(rows=n, missing_codes=missing_codes, blanks=blanks, texts=texts, refused=refused,
                             refused_first=refused_first, id_hashes=id_hashes, id_empty=id_empty,
                             unknown_levels=unknown, missing_texts=missing_texts, file_columns=tuple(by_name))
@@ -282,13 +303,17 @@ def _at(start: tuple, offset: int) -> tuple:
     return (start[0], start[1] + offset, start[2])
 
 
-def _id_check(raw: pd.Series, start: tuple, *, arrow: Any = None) -> tuple[np.ndarray, tuple]:
-    """The ids' hashes and the first empty id with their count; ids read as text are hashed from Arrow."""
+def _id_check(read: Callable[[], pd.Series], start: tuple, *, arrow: Any = None) -> tuple[np.ndarray, tuple]:
+    """The ids' hashes and the first empty id with their count; ids read as text are hashed from Arrow,
+    others from the column as pandas reads it (``read()``)."""
     fast = text_id_hashes(arrow) if arrow is not None else None
     if fast is not None:
         hashes, empty = fast
         found = ((_at(start, int(np.flatnonzero(empty)[0])), int(empty.sum())),) if empty.any() else ()
         return hashes, found
+    import pandas as pd
+
+    raw = read()
     empty = raw.isna().to_numpy().copy()
     if raw.dtype == object or pd.api.types.is_string_dtype(raw.dtype):
         empty |= (raw.astype("string").str.strip() == "").fillna(True).to_numpy()

@@ -16,6 +16,8 @@ from typing import Any
 
 import numpy as np
 
+from .arrow_numpy import string_offsets, validity
+
 #: the characters ``str.strip()`` removes (Python's white space, ``str.isspace``), for Arrow's trim; written
 #: out because finding them among every code point took 0.07 - 0.3 s at each start
 #: (tests/test_engine_id_spill.py checks the list against ``str.isspace``)
@@ -52,18 +54,21 @@ def text_id_hashes(column: Any) -> tuple[np.ndarray, np.ndarray] | None:
     if not pa.types.is_string(array.type) and not pa.types.is_large_string(array.type):
         return None
     trimmed = pc.utf8_trim(array, characters=PY_WHITESPACE)
-    lengths = pc.binary_length(trimmed).to_numpy(zero_copy_only=False)
-    empty = np.isnan(lengths) | (lengths == 0) if lengths.dtype.kind == "f" else lengths == 0
-    kept = trimmed.filter(pa.array(~empty))
-    if not len(kept):
-        return np.zeros(0, dtype=np.uint64), empty
-    kept = pa.concat_arrays([kept]) if isinstance(kept, pa.ChunkedArray) else kept
-    offset_type = np.int64 if pa.types.is_large_string(kept.type) else np.int32
-    offsets = np.frombuffer(kept.buffers()[1], dtype=offset_type, count=len(kept) + 1, offset=kept.offset *
-                            np.dtype(offset_type).itemsize).astype(np.int64)
-    data = np.frombuffer(kept.buffers()[2], dtype=np.uint8)[offsets[0]: offsets[-1]].astype(np.uint64)
-    starts = offsets[:-1] - offsets[0]
+    # read through the buffers (engine/arrow_numpy.py): pyarrow's own conversions would import pandas
+    offsets = string_offsets(trimmed)
     sizes = np.diff(offsets)
+    empty = ~validity(trimmed) | (sizes == 0)
+    kept = ~empty
+    if not kept.any():
+        return np.zeros(0, dtype=np.uint64), empty
+    text = np.frombuffer(trimmed.buffers()[2], dtype=np.uint8)
+    if kept.all():
+        data = text[offsets[0]: offsets[-1]].astype(np.uint64)
+        starts = offsets[:-1] - offsets[0]
+    else:  # the kept ids' bytes gathered end to end (a null entry may still span bytes)
+        sizes = sizes[kept]
+        starts = np.cumsum(sizes) - sizes
+        data = text[np.repeat(offsets[:-1][kept] - starts, sizes) + np.arange(int(sizes.sum()))].astype(np.uint64)
     # each byte weighted by BASE^(bytes after it in its id), the weighted bytes summed per id (mod 2^64)
     ends = np.repeat(starts + sizes, sizes)
     from_end = ends - 1 - np.arange(data.size)

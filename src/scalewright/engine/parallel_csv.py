@@ -8,19 +8,31 @@ the parsed blocks on in file order, holding at most ``workers + 1`` blocks. It i
 reader (items as 16-bit integers, values without line breaks): a block that fails to parse, or a value
 holding a line break, makes the caller start the file again with pyarrow's own streaming reader.
 
+:meth:`ParallelBlocks.in_order` goes one step further: each block is parsed *and* worked (converted and
+summarised) by the same thread, so a block is handed from thread to thread once instead of twice. A
+block's first row number is known before it is parsed, from the line feeds before it (every line feed
+ends a row when the rows can be cut at line feeds; a block whose parse gives another number of rows
+raises :class:`Retry`).
+
 Hand-written because pyarrow offers either parallel parsing of a whole file or streaming one block at a
 time, not both.
 """
 from __future__ import annotations
 
 from collections import deque
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
+
+Result = TypeVar("Result")
 
 #: bytes of CSV text per block parsed on one thread (the memory is a few times this per thread)
 PARALLEL_BLOCK_BYTES = 4 << 20
+
+
+class Retry(Exception):
+    """The parse must start again another way (a value holds a line break a quick parse may split wrongly)."""
 
 
 def can_cut(path: Path) -> bool:
@@ -60,27 +72,89 @@ def _blocks_of_bytes(path: Path, block_bytes: int) -> Iterator[bytes]:
 def parallel_batches(path: Path, raw_names: Sequence[str], *, parse_options: Any, convert_options: Any,
                      block_bytes: int | None = None, workers: int = 2) -> Iterator[Any]:
     """Arrow record batches of the file, in order; each block parsed by ``pyarrow.csv.read_csv`` on a thread."""
-    import pyarrow as pa
-    import pyarrow.csv as pacsv
+    return iter(ParallelBlocks(path, raw_names, parse_options=parse_options, convert_options=convert_options,
+                               block_bytes=block_bytes, workers=workers))
 
-    block_bytes = block_bytes or PARALLEL_BLOCK_BYTES
-    read_options = pacsv.ReadOptions(column_names=list(raw_names), use_threads=False,
-                                     block_size=max(block_bytes * 2, 1 << 20))
 
-    def parse(data: bytes) -> Any:
-        return pacsv.read_csv(pa.py_buffer(data), read_options=read_options, parse_options=parse_options,
-                              convert_options=convert_options).combine_chunks()
+class ParallelBlocks:
+    """The file's blocks parsed on ``workers`` threads. Iterating gives the parsed record batches in file
+    order; :meth:`in_order` parses and works each block on the same thread. ``check(batch)`` is called on
+    every parsed batch (on the pool's thread) and may raise to stop the reading."""
 
-    with ThreadPoolExecutor(max_workers=workers) as pool:
-        pending: deque = deque()
-        try:
-            for data in _blocks_of_bytes(path, block_bytes):
-                pending.append(pool.submit(parse, data))
-                del data
-                while len(pending) > workers:
-                    yield from pending.popleft().result().to_batches()
-            while pending:
-                yield from pending.popleft().result().to_batches()
-        finally:
-            for future in pending:
-                future.cancel()
+    def __init__(self, path: Path, raw_names: Sequence[str], *, parse_options: Any, convert_options: Any,
+                 block_bytes: int | None = None, workers: int = 2,
+                 check: Callable[[Any], None] | None = None) -> None:
+        import pyarrow.csv as pacsv
+
+        self.path = path
+        self.block_bytes = block_bytes or PARALLEL_BLOCK_BYTES
+        self.workers = workers
+        self._check = check
+        self._parse_options, self._convert_options = parse_options, convert_options
+        self._read_options = pacsv.ReadOptions(column_names=list(raw_names), use_threads=False,
+                                               block_size=max(self.block_bytes * 2, 1 << 20))
+
+    def _batches(self, data: bytes) -> list[Any]:
+        import pyarrow as pa
+        import pyarrow.csv as pacsv
+
+        table = pacsv.read_csv(pa.py_buffer(data), read_options=self._read_options, parse_options=self._parse_options,
+                               convert_options=self._convert_options).combine_chunks()
+        batches = table.to_batches()
+        if self._check is not None:
+            for batch in batches:
+                self._check(batch)
+        return batches
+
+    def __iter__(self) -> Iterator[Any]:
+        with ThreadPoolExecutor(max_workers=self.workers) as pool:
+            yield from bounded_in_order((pool.submit(self._batches, data)
+                                         for data in _blocks_of_bytes(self.path, self.block_bytes)), self.workers)
+
+    def in_order(self, work: Callable[[Any, int], Result], first_row: int, *,
+                 workers: int | None = None) -> Iterator[Result]:
+        """``work(batch, row)`` of every batch, ``row`` being its first row number, yielded in file order;
+        each block parsed and worked on one thread of ``workers`` (default: this reader's)."""
+        from ..concurrency import one_blas_thread
+
+        def submitted(pool: ThreadPoolExecutor) -> Iterator[Any]:
+            row = first_row
+            for data in _blocks_of_bytes(self.path, self.block_bytes):
+                rows = _rows_in(data)
+                yield pool.submit(self.parse_and_work, data, row, rows, work)
+                row += rows
+
+        workers = workers or self.workers
+        with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
+            yield from bounded_in_order(submitted(pool), workers)
+
+    def parse_and_work(self, data: bytes, row: int, rows: int, work: Callable[[Any, int], Result]) -> list[Result]:
+        """``work(batch, row)`` of each batch of one block's bytes, ``rows`` rows from row number ``row``."""
+        batches = self._batches(data)
+        if sum(batch.num_rows for batch in batches) != rows:
+            raise Retry()  # a line feed inside a value: only a quote-aware parse reads it
+        done = []
+        for batch in batches:
+            done.append(work(batch, row))
+            row += batch.num_rows
+        return done
+
+def _rows_in(data: bytes) -> int:
+    """Rows in a block cut at line feeds: one per line feed, and a last line without one."""
+    return data.count(b"\n") + (not data.endswith(b"\n"))
+
+
+def bounded_in_order(futures: Iterator[Any], workers: int) -> Iterator[Any]:
+    """The items of each future's list, in submission order, with at most ``workers`` futures waiting
+    beside the one handed on (memory: a few blocks); queued work is cancelled when the consumer stops."""
+    pending: deque = deque()
+    try:
+        for future in futures:
+            pending.append(future)
+            while len(pending) > workers:
+                yield from pending.popleft().result()
+        while pending:
+            yield from pending.popleft().result()
+    finally:
+        for future in pending:
+            future.cancel()

@@ -4,13 +4,15 @@ from __future__ import annotations
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
-import pandas as pd
 
 from ..notes import Note, note, notes_to_json
 from ..results import ResultMixin, to_jsonable
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 @dataclass(frozen=True)
@@ -48,6 +50,7 @@ def natural_key(text: object) -> list:
 
 def level_order(values: pd.Series) -> list:
     """Levels in their natural order: categorical order if given, numbers numerically, else natural text order."""
+    import pandas as pd
     present = values.dropna()
     if isinstance(values.dtype, pd.CategoricalDtype):
         return [c for c in values.cat.categories if (present == c).any()]
@@ -65,6 +68,7 @@ def level_name(level) -> str:
 
 def blank_as_missing(values: pd.Series) -> pd.Series:
     """Text values stripped, blank text as missing (other types as they are), indexed from 0."""
+    import pandas as pd
     values = pd.Series(values).reset_index(drop=True)
     if values.dtype == object or pd.api.types.is_string_dtype(values.dtype):
         stripped = values.astype("string").str.strip()
