@@ -27,7 +27,7 @@ from .engine_route import StreamedLevels, dataset_argument, engine_options, firs
 #: what the command imports once its summaries are merged (scipy.special, through the statistics), imported
 #: beside the blocks on the streaming route (``load_summaries(warm=...)``)
 RELIABILITY_MODULES = ("scalewright.analyses.summarised", "scalewright.stats.ordinal_reliability",
-                       "scalewright.present.confirm", "scalewright.stats.cfa_fit")
+                       "scalewright.present.confirm", "scalewright.stats.cfa_fit", "scalewright.present.reliability")
 
 
 @click.command("reliability", epilog=("Examples:\n\n\b\n"
@@ -75,7 +75,6 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     omega and the reliability of the sum score from polychoric correlations (whole sample).
     """
     from ..engine.plan import plan_for
-    from ..present.reliability import reliability_tables
     from ..stats.reliability_flags import ReliabilityThresholds
 
     method = resolve_missing(missing, pairwise)
@@ -157,6 +156,8 @@ def reliability(data: Path, scales: Path, by: tuple[str, ...], confidence_level:
     options = {"by": list(columns), "confidence_level": confidence_level, "missing": method,
                "bootstrap": n_resamples, "seed": seed, "min_group": min_group, "ordinal": ordinal,
                "thresholds": thresholds.to_dict()}
+    from ..present.reliability import reliability_tables
+
     tables = [*reliability_tables(reports), beside]
     if getattr(inputs.responses, "weights", None) is not None:
         from ..analyses.weighted_reliability import weighted_reliability

@@ -280,6 +280,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         if name == spec.id_column:
             hashes, id_empty = _id_check(lambda name=name: wanted[name], (part, first_row, file),
                                          arrow=batch.column(by_name[name]))
+            hashes = np.sort(hashes)  # here, beside the other blocks' work: the duplicate check merges sorted runs
             id_hashes = (hashes,)
         if name in spec.group_levels:
             series, found_levels = _known_levels(wanted[name], spec.group_levels[name], (part, first_row, file),

@@ -108,10 +108,10 @@ class IdHashSpill:
 
 
 def _repeated(hashes: np.ndarray) -> np.ndarray:
-    hashes.sort()
+    hashes.sort(kind="stable")  # a merge of the blocks' sorted runs (the blocks sort their own hashes)
     return np.unique(hashes[1:][hashes[1:] == hashes[:-1]])
 
 
 def _repeats(hashes: np.ndarray) -> bool:
-    hashes.sort()
+    hashes.sort(kind="stable")  # a merge of the blocks' sorted runs (the blocks sort their own hashes)
     return bool(np.any(hashes[1:] == hashes[:-1]))

@@ -92,7 +92,7 @@ class ReadingCounts:
         if not self.id_hashes:
             return False
         joined = np.concatenate(self.id_hashes)
-        joined.sort()
+        joined.sort(kind="stable")  # a merge of the blocks' sorted runs
         return bool(np.any(joined[1:] == joined[:-1]))
 
 
