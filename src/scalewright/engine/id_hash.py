@@ -2,8 +2,10 @@
 
 The whole-file reader compares ids as text with surrounding white space stripped (``str.strip``); here
 the same stripping is done by Arrow (with Python's own set of white-space characters) and each id's
-bytes are hashed in numpy: a polynomial over its bytes modulo 2^64 followed by the splitmix64 finaliser
-(Steele, Lea & Flood 2014) so that the top bits, which pick the spill bucket, are well mixed. Equal ids
+bytes are hashed in numpy: its bytes, zero-padded to whole 8-byte words, each word times its own odd
+constant, summed modulo 2^64 with the length mixed in, then the splitmix64 finaliser (Steele, Lea &
+Flood 2014) so that the top bits, which pick the spill bucket, are well mixed. A padding word adds
+nothing, so an id's hash depends on its own bytes only, whatever the longest id of its block. Equal ids
 always get equal hashes; two different ids that share one are handed to the whole-file reader, which
 compares the texts (see :mod:`scalewright.engine.id_spill`).
 
@@ -23,16 +25,12 @@ from .arrow_numpy import string_offsets, validity
 #: (tests/test_engine_id_spill.py checks the list against ``str.isspace``)
 PY_WHITESPACE = ("\t\n\x0b\x0c\r\x1c\x1d\x1e\x1f \x85\xa0\u1680\u2000\u2001\u2002\u2003\u2004\u2005\u2006"
                  "\u2007\u2008\u2009\u200a\u2028\u2029\u202f\u205f\u3000")
-_BASE = np.uint64(0x100000001B3)
+_GOLDEN = 0x9E3779B97F4A7C15
 
 
-def _powers(length: int) -> np.ndarray:
-    powers = np.empty(max(length, 1), dtype=np.uint64)
-    powers[0] = 1
-    with np.errstate(over="ignore"):
-        for shift in range(1, length):
-            powers[shift] = powers[shift - 1] * _BASE
-    return powers
+def _word_weights(words: int) -> np.ndarray:
+    """An odd 64-bit constant per word position (odd: a multiplication modulo 2^64 that loses nothing)."""
+    return np.array([((position + 1) * _GOLDEN) % 2**64 | 1 for position in range(words)], dtype=np.uint64)
 
 
 def _finalise(h: np.ndarray) -> np.ndarray:
@@ -62,17 +60,14 @@ def text_id_hashes(column: Any) -> tuple[np.ndarray, np.ndarray] | None:
     if not kept.any():
         return np.zeros(0, dtype=np.uint64), empty
     text = np.frombuffer(trimmed.buffers()[2], dtype=np.uint8)
-    if kept.all():
-        data = text[offsets[0]: offsets[-1]].astype(np.uint64)
-        starts = offsets[:-1] - offsets[0]
-    else:  # the kept ids' bytes gathered end to end (a null entry may still span bytes)
-        sizes = sizes[kept]
-        starts = np.cumsum(sizes) - sizes
-        data = text[np.repeat(offsets[:-1][kept] - starts, sizes) + np.arange(int(sizes.sum()))].astype(np.uint64)
-    # each byte weighted by BASE^(bytes after it in its id), the weighted bytes summed per id (mod 2^64)
-    ends = np.repeat(starts + sizes, sizes)
-    from_end = ends - 1 - np.arange(data.size)
+    sizes = sizes[kept]
+    width = 8 * -(-int(sizes.max()) // 8)
+    # each kept id's bytes, from its start, as whole words: a gather of width bytes per id, the bytes past
+    # its end zeroed (the text is padded so the last id's window stays inside it)
+    padded = np.concatenate([text[offsets[0]: offsets[-1]], np.zeros(width, dtype=np.uint8)])
+    window = padded[(offsets[:-1][kept] - offsets[0])[:, None] + np.arange(width)]
+    window[np.arange(width) >= sizes[:, None]] = 0
+    words = window.view("<u8")
     with np.errstate(over="ignore"):
-        terms = (data + np.uint64(1)) * _powers(int(sizes.max()))[from_end]
-        sums = np.add.reduceat(terms, starts)
-        return _finalise(sums ^ (sizes.astype(np.uint64) * np.uint64(0x9E3779B97F4A7C15))), empty
+        sums = (words * _word_weights(words.shape[1])).sum(axis=1, dtype=np.uint64)
+        return _finalise(sums ^ (sizes.astype(np.uint64) * np.uint64(_GOLDEN))), empty

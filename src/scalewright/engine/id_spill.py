@@ -3,7 +3,7 @@
 Each id is kept as its 64-bit hash. The hashes are spread over :data:`BUCKETS` bucket files on disk by
 their top bits (a buffer of at most :data:`BUFFER_HASHES` hashes is held in memory between writes); at
 the end each bucket is read, sorted and searched for two equal hashes, one bucket at a time. So the
-memory is the buffer (2 MiB) plus one bucket: 8 bytes per id / 256 (about 31 KB per million ids) at the
+memory is the buffer (8 MiB) plus one bucket: 8 bytes per id / 256 (about 31 KB per million ids) at the
 check, and the disk holds 8 MB per million ids, in a temporary folder removed afterwards. A file with
 fewer ids than the buffer holds never touches the disk.
 
@@ -24,8 +24,8 @@ import numpy as np
 
 #: bucket files (by the top 8 bits of the hash)
 BUCKETS = 256
-#: hashes held in memory before they are written to their buckets (8 bytes each: 2 MiB)
-BUFFER_HASHES = 262_144
+#: hashes held in memory before they are written to their buckets (8 bytes each: 8 MiB)
+BUFFER_HASHES = 1 << 20
 
 
 class IdHashSpill:

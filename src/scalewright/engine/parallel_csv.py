@@ -9,10 +9,8 @@ reader (items as 16-bit integers, values without line breaks): a block that fail
 holding a line break, makes the caller start the file again with pyarrow's own streaming reader.
 
 :meth:`ParallelBlocks.in_order` goes one step further: each block is parsed *and* worked (converted and
-summarised) by the same thread, so a block is handed from thread to thread once instead of twice. A
-block's first row number is known before it is parsed, from the line feeds before it (every line feed
-ends a row when the rows can be cut at line feeds; a block whose parse gives another number of rows
-raises :class:`Retry`).
+summarised) by the same thread, so a block is handed from thread to thread once instead of twice; a
+block's first row number is handed on by the block before it once that one is parsed.
 
 Hand-written because pyarrow offers either parallel parsing of a whole file or streaming one block at a
 time, not both.
@@ -49,24 +47,29 @@ def can_cut(path: Path) -> bool:
     return b"\r" not in header and header.count(b'"') % 2 == 0
 
 
-def _blocks_of_bytes(path: Path, block_bytes: int) -> Iterator[bytes]:
-    """The file's data rows (the header line left out) in pieces of about ``block_bytes`` ending at a line feed."""
+def _blocks_of_bytes(path: Path, block_bytes: int) -> Iterator[memoryview]:
+    """The file's data rows (the header line left out) in pieces of about ``block_bytes`` ending at a line feed.
+
+    Each piece is a view of the bytes read (no copy); the part after its last line feed is read again
+    with the next piece. A line longer than a piece makes the piece grow until it holds one.
+    """
     with open(path, "rb") as handle:
         handle.readline()  # the header
-        carry = b""
+        size = block_bytes
         while True:
-            chunk = handle.read(block_bytes)
+            start = handle.tell()
+            chunk = handle.read(size)
             if not chunk:
                 break
-            chunk = carry + chunk
             cut = chunk.rfind(b"\n")
-            if cut < 0:
-                carry = chunk
+            if cut < 0 and len(chunk) == size:  # no line feed yet: read a larger piece from the same place
+                handle.seek(start)
+                size *= 2
                 continue
-            carry = chunk[cut + 1:]
-            yield chunk[: cut + 1]
-        if carry:
-            yield carry
+            end = len(chunk) if cut < 0 else cut + 1  # the file's last line may have no line feed
+            handle.seek(start + end)
+            size = block_bytes
+            yield memoryview(chunk)[:end]
 
 
 def parallel_batches(path: Path, raw_names: Sequence[str], *, parse_options: Any, convert_options: Any,
@@ -94,7 +97,7 @@ class ParallelBlocks:
         self._read_options = pacsv.ReadOptions(column_names=list(raw_names), use_threads=False,
                                                block_size=max(self.block_bytes * 2, 1 << 20))
 
-    def _batches(self, data: bytes) -> list[Any]:
+    def _batches(self, data: bytes | memoryview) -> list[Any]:
         import pyarrow as pa
         import pyarrow.csv as pacsv
 
@@ -114,34 +117,42 @@ class ParallelBlocks:
     def in_order(self, work: Callable[[Any, int], Result], first_row: int, *,
                  workers: int | None = None) -> Iterator[Result]:
         """``work(batch, row)`` of every batch, ``row`` being its first row number, yielded in file order;
-        each block parsed and worked on one thread of ``workers`` (default: this reader's)."""
+        each block parsed and worked on one thread of ``workers`` (default: this reader's).
+
+        A block's first row is where the block before it ends, known once that block is parsed: each
+        block, once parsed, hands its end to the next (the blocks start in file order, so the one before
+        is always parsed or being parsed, never waiting behind).
+        """
+        from concurrent.futures import Future
+
         from ..concurrency import one_blas_thread
 
+        def parse_and_work(data: memoryview, starts: Future, ends: Future) -> list[Result]:
+            try:
+                batches = self._batches(data)
+                row = starts.result()
+                ends.set_result(row + sum(batch.num_rows for batch in batches))
+            except BaseException as error:
+                if not ends.done():
+                    ends.set_exception(error)  # the next block stops too instead of waiting
+                raise
+            done = []
+            for batch in batches:
+                done.append(work(batch, row))
+                row += batch.num_rows
+            return done
+
         def submitted(pool: ThreadPoolExecutor) -> Iterator[Any]:
-            row = first_row
+            previous: Future = Future()
+            previous.set_result(first_row)
             for data in _blocks_of_bytes(self.path, self.block_bytes):
-                rows = _rows_in(data)
-                yield pool.submit(self.parse_and_work, data, row, rows, work)
-                row += rows
+                ends: Future = Future()
+                yield pool.submit(parse_and_work, data, previous, ends)
+                previous = ends
 
         workers = workers or self.workers
         with one_blas_thread(), ThreadPoolExecutor(max_workers=workers) as pool:
             yield from bounded_in_order(submitted(pool), workers)
-
-    def parse_and_work(self, data: bytes, row: int, rows: int, work: Callable[[Any, int], Result]) -> list[Result]:
-        """``work(batch, row)`` of each batch of one block's bytes, ``rows`` rows from row number ``row``."""
-        batches = self._batches(data)
-        if sum(batch.num_rows for batch in batches) != rows:
-            raise Retry()  # a line feed inside a value: only a quote-aware parse reads it
-        done = []
-        for batch in batches:
-            done.append(work(batch, row))
-            row += batch.num_rows
-        return done
-
-def _rows_in(data: bytes) -> int:
-    """Rows in a block cut at line feeds: one per line feed, and a last line without one."""
-    return data.count(b"\n") + (not data.endswith(b"\n"))
 
 
 def bounded_in_order(futures: Iterator[Any], workers: int) -> Iterator[Any]:

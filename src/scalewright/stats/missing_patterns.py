@@ -334,15 +334,19 @@ class PatternSummary:
         for source, shift in ((self, 0), (other, offset)):
             for p, matrix in source.matrices.items():
                 target = int(inverse[shift + p])
-                matrices[target] = matrices.get(target, 0) + matrix.astype(dtype)
+                matrix = matrix.astype(dtype, copy=False)
+                matrices[target] = matrices[target] + matrix if target in matrices else matrix
         keep_rows = np.ones(rows.shape[0], dtype=bool)
-        for position in np.flatnonzero(counts >= rows_limit(k)):
+        # a pattern held as rows in either part becomes a matrix once the two together reach the limit
+        # (only the patterns that have rows are looked at: most large patterns have none)
+        has_rows = np.bincount(row_pattern, minlength=n_patterns) > 0
+        grown = np.flatnonzero(has_rows & (counts >= rows_limit(k)))
+        for position in grown:
             mine = row_pattern == position
-            if mine.any():
-                gram = rows[mine].T @ rows[mine]
-                matrices[int(position)] = (matrices.get(int(position), 0)
-                                           + (np.rint(gram).astype(np.int64) if exact else gram))
-                keep_rows &= ~mine
+            gram = rows[mine].T @ rows[mine]
+            gram = np.rint(gram).astype(np.int64) if exact else gram
+            matrices[int(position)] = matrices[int(position)] + gram if int(position) in matrices else gram
+            keep_rows &= ~mine
         return PatternSummary(k=k, observed=observed[order[starts]], counts=counts, sums=sums, matrices=matrices,
                               rows=rows[keep_rows], row_pattern=row_pattern[keep_rows],
                               n_none=self.n_none + other.n_none, exact=exact)
