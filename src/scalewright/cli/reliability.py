@@ -26,8 +26,8 @@ from .engine_route import StreamedLevels, dataset_argument, engine_options, firs
 
 #: what the command imports once its summaries are merged (scipy.special, through the statistics), imported
 #: beside the blocks on the streaming route (``load_summaries(warm=...)``)
-RELIABILITY_MODULES = ("scalewright.analyses.summarised", "scalewright.stats.ordinal_reliability",
-                       "scalewright.present.confirm", "scalewright.stats.cfa_fit", "scalewright.present.reliability")
+RELIABILITY_MODULES = ("scipy.special", "scalewright.analyses.summarised", "scalewright.present.confirm",
+                       "scalewright.stats.cfa_fit", "scalewright.present.reliability")
 
 
 @click.command("reliability", epilog=("Examples:\n\n\b\n"

@@ -5,16 +5,17 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from scipy.special import ndtr
 
 from ..notes import Note, note
 from ..results import to_jsonable
-from .bivariate_normal import bivariate_normal_cdf_grid
 from .omega import fit_one_factor
-from .polychoric_matrix import PolychoricMatrix
+
+if TYPE_CHECKING:
+    from .polychoric_matrix import PolychoricMatrix
 
 __all__ = ["FEW_OPTIONS", "OrdinalReliability", "STRONG_SKEW", "ordinal_advice", "ordinal_alpha",
            "ordinal_omega", "ordinal_reliability", "sum_score_reliability"]
@@ -103,6 +104,9 @@ def _answer_covariances(thresholds: np.ndarray, rho: np.ndarray) -> np.ndarray:
     k = thresholds.shape[0]
     rows = np.repeat(np.arange(k), k)
     columns = np.tile(np.arange(k), k)
+    # the polychoric modules are imported only with --ordinal: every reliability run reads ordinal_advice here
+    from .bivariate_normal import bivariate_normal_cdf_grid
+
     joint = bivariate_normal_cdf_grid(thresholds[rows], thresholds[columns], rho.ravel())
     margins = ndtr(thresholds)
     product = margins[rows][:, :, None] * margins[columns][:, None, :]
