@@ -26,7 +26,7 @@ from typing import Any, TypeVar
 Result = TypeVar("Result")
 
 #: bytes of CSV text per block parsed on one thread (the memory is a few times this per thread)
-PARALLEL_BLOCK_BYTES = 4 << 20
+PARALLEL_BLOCK_BYTES = 8 << 20
 
 
 class Retry(Exception):
