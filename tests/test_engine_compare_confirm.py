@@ -8,7 +8,7 @@ from pathlib import Path
 
 import pytest
 
-from .engine_data import SCALES, survey_rows, write_csv, write_dataset
+from .engine_data import SCALES, assert_same_json, survey_rows, write_csv, write_dataset
 from .test_engine_stream import _with_cells, assert_same_numbers, both_routes, run
 
 
@@ -180,7 +180,17 @@ def test_weighted_estimates_streamed_equal_whole_file(tmp_path, command, options
     data, scales = _weighted_survey(tmp_path)
     whole, streamed = both_routes(command, data, scales, "--weight", "wt", *options)
     assert "weighted" in json.dumps(whole)
-    assert_same_numbers(streamed, whole)
+    assert_same_json(streamed, whole, key_order=True, rel_at=_fit_discrepancy)
+
+
+#: a weighted one-factor fit's chi-square (and its p-value) is N times a small discrepancy left over from terms
+#: of order one (log-determinants and a trace), so a last-bit difference of the weighted covariance (numpy's
+#: float cov on the whole-file route, exact sums on the block route) moves it by about 1e-12 relative
+FIT_DISCREPANCY = {"chi2", "pvalue"}
+
+
+def _fit_discrepancy(path: str) -> float | None:
+    return 1e-9 if ".confirmatory." in path and path.rsplit(".", 1)[-1] in FIT_DISCREPANCY else None
 
 
 def test_bad_weights_late_in_the_file_are_named_and_counted_as_whole(tmp_path):

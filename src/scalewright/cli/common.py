@@ -15,6 +15,10 @@ from ..present.document import InputInfo, envelope
 from ..present.render import render_csv, render_json, render_markdown, render_text
 from ..present.table import Table
 
+#: the help of every command's --block-size
+BLOCK_SIZE_HELP = ("Bytes of CSV text per block when streaming (default: 8 MiB blocks parsed side by side, 1 MiB "
+                   "where the file needs pyarrow's one-block-at-a-time reader).")
+
 FORMATS = ("table", "json", "md", "csv")
 
 

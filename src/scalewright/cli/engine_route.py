@@ -9,14 +9,14 @@ from typing import Any
 import click
 
 from ..errors import UsageError
-from .common import Inputs
+from .common import BLOCK_SIZE_HELP, Inputs
 
 
 def engine_options(fn: Callable) -> Callable:
     fn = click.option("--workers", type=click.IntRange(min=1), default=None, metavar="N",
                       help="With --engine dask and no --scheduler: workers of the local cluster (default: the cores).")(fn)
     fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
-                      help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
+                      help=BLOCK_SIZE_HELP)(fn)
     fn = click.option("--scheduler", default=None, metavar="ADDRESS",
                       help="With --engine dask: the Dask scheduler (default: a local cluster).")(fn)
     fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream", "dask"]), default="auto",

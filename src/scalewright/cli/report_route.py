@@ -10,6 +10,7 @@ from typing import Any
 import click
 
 from ..errors import UsageError
+from .common import BLOCK_SIZE_HELP
 
 
 def report_engine_options(fn: Any) -> Any:
@@ -19,7 +20,7 @@ def report_engine_options(fn: Any) -> Any:
     fn = click.option("--scheduler", default=None, metavar="ADDRESS",
                       help="With --engine dask: the Dask scheduler (default: a local cluster).")(fn)
     fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
-                      help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
+                      help=BLOCK_SIZE_HELP)(fn)
     fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream", "dask"]), default="auto",
                       show_default=True,
                       help="memory: read the file whole; stream: read it in blocks (memory that does not grow with "

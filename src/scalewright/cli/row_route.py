@@ -8,11 +8,12 @@ from pathlib import Path
 import click
 
 from ..errors import UsageError
+from .common import BLOCK_SIZE_HELP
 
 
 def row_engine_options(fn: Callable) -> Callable:
     fn = click.option("--block-size", "block_size", type=click.IntRange(min=1024), default=None, metavar="BYTES",
-                      help="Bytes of CSV text per block when streaming (default 1 MiB).")(fn)
+                      help=BLOCK_SIZE_HELP)(fn)
     fn = click.option("--engine", type=click.Choice(["auto", "memory", "stream"]), default="auto", show_default=True,
                       help="memory: read the file whole; stream: read it a block at a time and write its rows as "
                            "they come, with memory that does not grow with the rows; auto: stream files of 64 MiB "

@@ -33,7 +33,8 @@ def _word_weights(words: int) -> np.ndarray:
     return np.array([((position + 1) * _GOLDEN) % 2**64 | 1 for position in range(words)], dtype=np.uint64)
 
 
-def _finalise(h: np.ndarray) -> np.ndarray:
+def splitmix64(h: np.ndarray) -> np.ndarray:
+    """The splitmix64 finaliser of 64-bit values (Steele, Lea & Flood 2014): every output bit depends on every input bit."""
     with np.errstate(over="ignore"):
         h = h ^ (h >> np.uint64(30))
         h = h * np.uint64(0xBF58476D1CE4E5B9)
@@ -70,4 +71,4 @@ def text_id_hashes(column: Any) -> tuple[np.ndarray, np.ndarray] | None:
     words = window.view("<u8")
     with np.errstate(over="ignore"):
         sums = (words * _word_weights(words.shape[1])).sum(axis=1, dtype=np.uint64)
-        return _finalise(sums ^ (sizes.astype(np.uint64) * np.uint64(_GOLDEN))), empty
+        return splitmix64(sums ^ (sizes.astype(np.uint64) * np.uint64(_GOLDEN))), empty
