@@ -154,3 +154,13 @@ def test_weighted_score_takes_the_streaming_route_under_auto(survey, monkeypatch
     code, out, err = run("score", str(data), "-s", str(scales), "--format", "json", *WEIGHTED, "--lenient")
     assert code == 0, err
     assert json.loads(out)["engine"] == {"name": "stream"}
+
+
+def test_an_item_as_the_weight_column_is_refused_as_whole(survey):
+    data, scales = survey
+    results = [run("score", str(data), "-s", str(scales), "--format", "json", "--engine", engine, "--weight", "wl1")
+               for engine in ("memory", "stream")]
+    assert [code for code, _, _ in results] == [4, 4]
+    assert "read whole" in results[1][2]  # the whole-file reader names the problem
+    assert results[1][2].splitlines()[-1] == results[0][2].splitlines()[-1]
+    assert "the weight column 'wl1' is not in the data file" in results[0][2]

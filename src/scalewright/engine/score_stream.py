@@ -137,7 +137,10 @@ def scored_pass(path: Path, spec: Any, standardize: str | None, take: Callable[[
 
 
 def weight_columns(spec: Any, weight: str | None) -> tuple[str, ...]:
-    """The columns a scored pass reads beside the items: the id column and the survey weight column."""
+    """The columns a scored pass reads beside the items: the id column and the survey weight column. Raises
+    :class:`CannotStream` when the weight column is an item (the whole-file reader refuses it)."""
+    if weight is not None and weight in spec.items:
+        raise CannotStream(f"the weight column {weight!r} is an item")
     return tuple(dict.fromkeys([*([spec.id_column] if spec.id_column else []), *([weight] if weight else [])]))
 
 
