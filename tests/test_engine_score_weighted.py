@@ -66,6 +66,20 @@ def test_weighted_z_parquet_streamed_reads_back_as_the_whole_file_one(survey):
     pd.testing.assert_frame_equal(pd.read_parquet(streamed), pd.read_parquet(whole), check_exact=True)
 
 
+def test_weighted_z_of_a_parquet_file_in_small_batches(survey, monkeypatch):
+    import pyarrow.csv as pacsv
+    import pyarrow.parquet as pq
+
+    from scalewright.engine import blocks
+
+    monkeypatch.setattr(blocks, "BATCH_ROWS", 300)
+    data, scales = survey
+    source = data.with_suffix(".parquet")  # the weights as doubles with nulls (the two missing ones)
+    pq.write_table(pacsv.read_csv(data), source, row_group_size=300)
+    whole, streamed, _ = score_both(source, scales, ".csv", *WEIGHTED, "--lenient", "--standardize", "z")
+    assert streamed.read_bytes() == whole.read_bytes()
+
+
 @pytest.mark.parametrize("standardize", [(), ("--standardize", "z")])
 def test_weighted_summary_streamed_equals_the_whole_file_one(survey, standardize):
     whole, streamed = both_routes("score", *survey, *WEIGHTED, "--lenient", *standardize)
