@@ -96,18 +96,24 @@ def z_scores(scores: np.ndarray) -> np.ndarray:
 
 def z_basis(scores: np.ndarray, weights: Any = None) -> dict[str, Any]:
     """The mean and sd the z scores are taken from: the sample's (sd with n - 1), or with survey weights the
-    weighted mean and sd (divisor sum(w) - sum(w^2)/sum(w), :mod:`scalewright.stats.weighted`) of the rows
-    with a score and a positive weight."""
+    weighted mean and sd (divisor sum(w) - sum(w^2)/sum(w)) of the rows with a score and a positive weight,
+    from exact sums (:func:`scalewright.stats.weighted_scores.exact_weighted_summary`, the same to the bit
+    when a file is scored in blocks)."""
     scores = np.asarray(scores, dtype=np.float64)
     if weights is None:
         valid = scores[~np.isnan(scores)]
         usable = valid.size >= 2
         return {"weighted": False, "mean": float(valid.mean()) if usable else float("nan"),
                 "sd": float(np.std(valid, ddof=1)) if usable else float("nan")}
-    from .stats.weighted import weighted_summary
+    from .stats.weighted_scores import exact_weighted_summary_of
 
-    summary = weighted_summary(scores, weights.values, weight_column=weights.column)
-    return {"weighted": True, "weight_column": weights.column, "n": summary.n,
+    return weighted_z_basis(exact_weighted_summary_of(scores, weights.values, weight_column=weights.column))
+
+
+def weighted_z_basis(summary: Any) -> dict[str, Any]:
+    """:func:`z_basis` with survey weights from the score's weighted summary
+    (:class:`~scalewright.stats.weighted.WeightedSummary`)."""
+    return {"weighted": True, "weight_column": summary.weight_column, "n": summary.n,
             "n_zero_weight": summary.n_zero_weight, "n_effective": summary.n_effective,
             "sum_of_weights": summary.sum_of_weights, "mean": summary.mean, "sd": summary.sd}
 

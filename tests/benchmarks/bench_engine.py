@@ -11,7 +11,8 @@ process; peak memory is its maximum resident set size (``os.wait4`` rusage), tim
 
 ``memory``: `reliability`, `shape`, `tally --items` and `score --standardize pomp` (writing the scored
 CSV), and with ``--commands screen`` `screen --flagged-only` (writing the flagged respondents' CSV, three
-passes over the file), with ``--engine stream`` on each size (goal: peak
+passes over the file), with ``--commands score-weighted`` `score --standardize z` with survey weights (two
+passes), with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
@@ -85,7 +86,22 @@ def measure(label: str, arguments: list[str], results: list[dict], **fields) -> 
 
 
 COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "score": ["--standardize", "pomp"],
-            "report": ["-q", "--iterations", "20"], "screen": ["--flagged-only"]}
+            "report": ["-q", "--iterations", "20"], "screen": ["--flagged-only"],
+            # survey weights: the survey has no weight column, so the answers (1-5) to s0_1, taken out of its
+            # scale (weighted_scales), stand in for the weights, its 1% blanks missing weights counted with
+            # --lenient; z needs a first pass
+            "score-weighted": ["--standardize", "z", "--weight", "s0_1", "--lenient"]}
+#: the command a measured name runs, when the name is a variant's own
+COMMAND_OF = {"score-weighted": "score"}
+
+
+def scales_of(name: str, scales: Path) -> Path:
+    """The scale file of a measured name: the benchmark's, or for ``score-weighted`` the same without s0_1."""
+    if name != "score-weighted":
+        return scales
+    weighted = scales.with_name("climate_weighted.yaml")
+    weighted.write_text(scales.read_text(encoding="utf-8").replace("items: [s0_1, ", "items: ["), encoding="utf-8")
+    return weighted
 #: measured unless --commands names others (the report, with its figures, takes longest)
 DEFAULT_COMMANDS = ["reliability", "shape", "tally", "score"]
 #: the commands the dask measurement can also run (with the options they need on this survey)
@@ -94,8 +110,8 @@ DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare"
 
 def output_of(name: str, folder: Path, rows: int, route: str = "stream") -> list[str]:
     """``score`` writes the scored file (a block at a time on the streaming route); the others their JSON."""
-    if name == "score":
-        return ["--out", str(folder / f"scores_{rows}_{route}.csv"), "--force"]
+    if COMMAND_OF.get(name, name) == "score":
+        return ["--out", str(folder / f"{name.replace('score', 'scores')}_{rows}_{route}.csv"), "--force"]
     if name == "screen":  # the flagged respondents' table, written a block at a time on the streaming route
         return ["--out", str(folder / f"screen_{rows}_{route}.csv")]
     if name == "report":
@@ -108,12 +124,14 @@ def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], na
     for rows in sizes:
         data = write_csv(folder, rows)
         for name, extra in ((name, COMMANDS[name]) for name in names):
-            measure(f"{name} stream", command(name, str(data), "--scales", str(scales), *output_of(name, folder, rows),
-                                              "--engine", "stream", *extra), results, rows=rows,
-                    file_mb=round(data.stat().st_size / 1e6))
+            measure(f"{name} stream", command(COMMAND_OF.get(name, name), str(data), "--scales",
+                                              str(scales_of(name, scales)),
+                                              *output_of(name, folder, rows), "--engine", "stream", *extra),
+                    results, rows=rows, file_mb=round(data.stat().st_size / 1e6))
     data = write_csv(folder, min(sizes))
     for name, extra in ((name, COMMANDS[name]) for name in names if whole):
-        measure(f"{name} memory", command(name, str(data), "--scales", str(scales),
+        measure(f"{name} memory", command(COMMAND_OF.get(name, name), str(data), "--scales",
+                                          str(scales_of(name, scales)),
                                           *output_of(name, folder, min(sizes), "memory"),
                                           "--engine", "memory", *extra), results, rows=min(sizes))
 
@@ -155,7 +173,8 @@ def main() -> int:
     parser.add_argument("--repeat", type=int, default=3)
     parser.add_argument("--parts", type=int, default=8)
     parser.add_argument("--commands", nargs="+", default=None, choices=sorted({*COMMANDS, *DASK_COMMANDS}),
-                        help="memory: of reliability, shape, tally, score, report, screen (default the first four); "
+                        help="memory: of reliability, shape, tally, score, report, screen, score-weighted (default the "
+                             "first four); "
                              "dask: any of reliability, shape, tally, compare, confirm (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()

@@ -44,7 +44,7 @@ def report_from_files(data: Path, scales: Path, out: Path, *, by: tuple[str, ...
     progress.step("reading the inputs")
     needs_rows = "--exclude" if exclude is not None else None
     check_dask_options(engine, scheduler, workers)
-    if row_route(engine, data, scales, needs_rows=needs_rows, weighted_stream=True) in ("stream", "dask"):
+    if row_route(engine, data, needs_rows=needs_rows) in ("stream", "dask"):
         streamed = _streamed_report_folder(data, scales, out, by=by, lenient=lenient, decimals=decimals, force=force,
                                            seed=seed, iterations=iterations, confidence_level=confidence_level,
                                            min_group=min_group, min_cell=min_cell, duration_column=duration_column,

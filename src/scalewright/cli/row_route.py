@@ -7,7 +7,6 @@ from pathlib import Path
 
 import click
 
-from ..errors import UsageError
 from .common import BLOCK_SIZE_HELP
 
 
@@ -21,27 +20,13 @@ def row_engine_options(fn: Callable) -> Callable:
     return fn
 
 
-def row_route(engine: str, data: Path, spec_path: Path, *, needs_rows: str | None,
-              weighted_stream: bool = False) -> str:
+def row_route(engine: str, data: Path, *, needs_rows: str | None) -> str:
     """"memory", "stream" or "dask": the route of a command that writes rows (``needs_rows`` names an option that
-    needs the whole file first, or None); survey weights keep the whole-file route unless the command's
-    weighted estimates stream (``weighted_stream``)."""
+    needs the whole file first, or None). Survey weights stream on every such command (``score``, ``screen``,
+    ``report``)."""
     from ..engine.choose import choose_route
-    from .common import chosen_weight
 
-    route = choose_route(engine, data, needs_rows=needs_rows)
-    if route not in ("stream", "dask") or weighted_stream:
-        return route
-    weight = chosen_weight()
-    if weight is None:
-        from ..spec import load_spec
-
-        weight = getattr(load_spec(spec_path), "weight", None)
-    if weight:
-        if engine in ("stream", "dask"):
-            raise UsageError(f"--engine {engine}: survey weights (column {weight!r}) need the rows (use --engine memory)")
-        return "memory"
-    return route
+    return choose_route(engine, data, needs_rows=needs_rows)
 
 
 def said_read_whole(engine: str, data: Path, reason: object) -> None:

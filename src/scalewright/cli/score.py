@@ -98,10 +98,12 @@ def _scores_table(table) -> Table:
 def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: bool, exclude: Path | None,
               engine: str, block_size: int | None, fmt: str | None, out: Path | None, decimals: int,
               writes_scores: bool) -> bool:
-    """Score the file a block at a time when the route says so; False when it is to be read whole."""
+    """Score the file a block at a time when the route says so; False when it is to be read whole. With survey
+    weights the weighted mean and sd (the summary's and the z scores') come from exact sums, the same to the
+    bit as the whole-file route's."""
     needs_rows = ("--exclude" if exclude is not None
                   else f"--out {out.name}" if writes_scores and out.suffix.lower() == ".xlsx" else None)
-    if row_route(engine, data, scales, needs_rows=needs_rows) != "stream":
+    if row_route(engine, data, needs_rows=needs_rows) != "stream":
         return False
     from concurrent.futures import ThreadPoolExecutor
 
@@ -110,8 +112,10 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     from ..present.document import InputInfo
     from ..spec import load_spec
     from .common import Inputs
+    from .screen_streamed import WeightCheck
 
     spec = load_spec(scales)
+    weighing = WeightCheck(str(data), spec, lenient=lenient)  # survey weights: refused or noted as whole
     with ThreadPoolExecutor(max_workers=1) as pool:  # the provenance digests beside the blocks
         digests = pool.submit(InputInfo.from_paths, data, scales)
         try:
@@ -119,14 +123,15 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
             if standardize == "z":  # a first pass for the sample's mean and SD (engine/score_z.py)
                 from ..engine.score_z import z_bases_of_file
 
-                z_bases = z_bases_of_file(data, spec, lenient=lenient, block_bytes=block_size)
+                z_bases = z_bases_of_file(data, spec, lenient=lenient, block_bytes=block_size, **weighing.options())
             found = stream_scores(data, spec, out if writes_scores else None, standardize=standardize,
-                                  lenient=lenient, block_bytes=block_size, inputs=[data, scales], z_bases=z_bases)
+                                  lenient=lenient, block_bytes=block_size, inputs=[data, scales], z_bases=z_bases,
+                                  **weighing.options())
         except CannotStream as reason:
             said_read_whole(engine, data, reason)
             return False
         info = digests.result()
-    notes = tuple(found.outcome.notes())
+    notes = (*found.outcome.notes(), *weighing.notes)
     if writes_scores:
         click.echo(f"wrote {out} ({found.n} rows, {len(found.table.scales)} scale(s))", err=True)
         for note in [*notes, *_z_lines(found.table)]:
@@ -135,21 +140,33 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     table = found.table
     summary = _scores_table(table)
     body = {"scores": table.to_dict(), "reading": found.outcome.reading_summary(), "engine": {"name": "stream"}}
+    tables = [summary]
+    if found.weighted is not None:
+        from ..stats.weighted_scores import exact_weighted_summary
+
+        tables += _weighted_block(body, {name: exact_weighted_summary(sums, weight_column=str(weighing.column))
+                                         for name, sums in found.weighted.items()})
     inputs = Inputs(spec=spec, responses=found.outcome, info=info, excluded=0, notes=notes)
-    emit(command="score", inputs=inputs, body=body, tables=[summary], fmt=choose_format(fmt, out), out=out,
+    emit(command="score", inputs=inputs, body=body, tables=tables, fmt=choose_format(fmt, out), out=out,
          decimals=decimals, options={"standardize": standardize}, preface=_z_lines(table))
     return True
 
 
 def _weighted(body, inputs, table) -> list:
-    """Weighted mean and sd of every scale score (``weighted.<scale>``); the scored file keeps every row."""
+    """Weighted mean and sd of every scale score (``weighted.<scale>``), from exact sums
+    (:mod:`scalewright.stats.weighted_scores`); the scored file keeps every row."""
     weights = getattr(inputs.responses, "weights", None)
     if weights is None:
         return []
-    from ..present.weighted import weighted_scores_table
-    from ..stats.weighted import weighted_summary
+    from ..stats.weighted_scores import exact_weighted_summary_of
 
-    found = {name: weighted_summary(s.scores, weights.values, weight_column=weights.column)
-             for name, s in table.scales.items()}
+    return _weighted_block(body, {name: exact_weighted_summary_of(s.scores, weights.values, weight_column=weights.column)
+                                  for name, s in table.scales.items()})
+
+
+def _weighted_block(body: dict, found: dict) -> list:
+    """``body["weighted"]`` and its table from each scale's weighted summary (the same on both routes)."""
+    from ..present.weighted import weighted_scores_table
+
     body["weighted"] = {name: summary.to_dict() for name, summary in found.items()}
     return [weighted_scores_table(found)]

@@ -77,8 +77,7 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
     # survey weights stream: only the Mahalanobis centre, the alphas and the flagged shares are weighted
-    if row_route(engine, data, scales, needs_rows="--exclude" if exclude is not None else None,
-                 weighted_stream=True) == "stream":
+    if row_route(engine, data, needs_rows="--exclude" if exclude is not None else None) == "stream":
         from .screen_streamed import streamed_screen
 
         if streamed_screen(data, scales, engine=engine, block_size=block_size, lenient=lenient, thresholds=thresholds,

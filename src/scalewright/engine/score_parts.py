@@ -69,8 +69,8 @@ def _score_part(url: str, local: bool, spec: Any, columns: tuple[str, ...], hand
         for number, way in enumerate(ways, start=1):
             part_rows, part_scored, part_first = 0, dict.fromkeys(scored, 0), first
             try:
-                for table, reading in _scored_blocks(Path(url), spec, None, block_bytes=block_bytes,
-                                                     columns=columns, way=way, start=start):
+                for table, reading, _ in _scored_blocks(Path(url), spec, None, block_bytes=block_bytes,
+                                                        columns=columns, way=way, start=start):
                     if handle is not None:
                         frame = scored_frame(table, ".csv")
                         handle.write(frame.to_csv(index=False, header=part_first is None, lineterminator="\n"))

@@ -8,7 +8,13 @@ What reading found is merged over the blocks and checked at the end, exactly as 
 checks it: a refused value (without ``--lenient``), an empty id or a group level the scale file does not
 list refuses the run, and the file being written is removed (written to a temporary file and renamed only
 when complete, as every output). Standard scores in the sample (``z``) need the sample's mean and SD
-first; they keep the whole-file route.
+first: a first pass gives them (:mod:`~scalewright.engine.score_z`).
+
+With survey weights each block's weights are read by the whole-file rules
+(:func:`~scalewright.summaries.weighted.block_weights`) and each scale's scores summed with them exactly
+(:class:`~scalewright.summaries.exact_scores.ExactWeightedScores`): the weighted mean and sd of the summary,
+and of weighted z scores, are the whole-file route's to the bit; a refused weight is named by its global
+row and refuses the run (or, with ``--lenient``, is counted) after the last block, as reading errors are.
 """
 from __future__ import annotations
 
@@ -25,6 +31,8 @@ from ..data_columns import ids_as_text
 from ..data_file import first_row_number
 from ..files import write_atomic_with
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
+from ..summaries.exact_scores import ExactWeightedScores
+from ..summaries.weighted import WeightReading, block_weights
 from .block_pool import in_file_order
 from .blocks import CannotStream, batch_sources, convert_batch, read_by_first_way
 from .id_spill import IdHashSpill
@@ -53,12 +61,33 @@ class _BlockRows:
         return self._answers.values[:, [self._index[name] for name in names]]
 
 
+@dataclass(frozen=True, eq=False)
+class WeighedScores:
+    """What the survey weights of some rows gave: what reading them found and, per scale, the exact
+    weighted sums of its scores."""
+
+    reading: WeightReading
+    scales: dict[str, ExactWeightedScores]
+
+    @classmethod
+    def of_block(cls, block: Any, column: str, table: ScoreTable) -> WeighedScores:
+        weights, reading = block_weights(block.columns[column], (block.part, block.first_row, block.file))
+        return cls(reading=reading, scales={name: ExactWeightedScores.from_values(one.scores, weights)
+                                            for name, one in table.scales.items()})
+
+    def merge(self, other: WeighedScores) -> WeighedScores:
+        return WeighedScores(reading=self.reading.merge(other.reading),
+                             scales={name: sums.merge(other.scales[name]) for name, sums in self.scales.items()})
+
+
 @dataclass(frozen=True)
 class StreamedScores:
-    """What was written: rows, per scale the counts of the JSON summary (``ScoreTable.to_dict``), the reading."""
+    """What was written: rows, per scale the counts of the JSON summary (``ScoreTable.to_dict``), the reading;
+    with survey weights, per scale the exact weighted sums of its scores."""
 
     table: ScoreTable
     outcome: ReadingOutcome
+    weighted: dict[str, ExactWeightedScores] | None = None
 
     @property
     def n(self) -> int:
@@ -66,39 +95,53 @@ class StreamedScores:
 
 
 def _scored_blocks(path: Path, spec: Any, standardize: str | None, *, block_bytes: int | None,
-                   columns: tuple[str, ...], way: Any, start: int | None = None,
-                   z_bases: dict | None = None) -> Iterator[tuple[ScoreTable, ReadingCounts]]:
-    """Each block scored (in file order) with what reading it found; blocks are converted on a pool of threads.
+                   columns: tuple[str, ...], way: Any, start: int | None = None, z_bases: dict | None = None,
+                   weight: str | None = None) -> Iterator[tuple[ScoreTable, ReadingCounts, WeighedScores | None]]:
+    """Each block scored (in file order) with what reading it found and, with a ``weight`` column (one of
+    ``columns``), its weighed scores; blocks are converted on a pool of threads.
     ``start``: the row number of the first row (default: the file's own first data row)."""
     start = first_row_number(path) if start is None else start
 
-    def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts]:
+    def score(batch: Any, first: int) -> tuple[ScoreTable, ReadingCounts, WeighedScores | None]:
         block = convert_batch(batch, spec, columns, first_row=first)
-        return score_scales(_BlockRows(block, spec), spec, standardize=standardize, z_bases=z_bases), block.reading
+        table = score_scales(_BlockRows(block, spec), spec, standardize=standardize, z_bases=z_bases)
+        return table, block.reading, None if weight is None else WeighedScores.of_block(block, weight, table)
 
     # scoring does no matrix products, so the pool's one BLAS thread per worker costs nothing here
     yield from in_file_order(way(), score, start)
 
 
 def scored_pass(path: Path, spec: Any, standardize: str | None, take: Callable[[ScoreTable], None], *,
-                block_bytes: int | None, columns: tuple[str, ...], way: Any,
-                z_bases: dict | None = None) -> ReadingCounts:
+                block_bytes: int | None, columns: tuple[str, ...], way: Any, z_bases: dict | None = None,
+                weight: str | None = None) -> tuple[ReadingCounts, WeighedScores | None]:
     """One pass over the file's scored blocks: ``take(table)`` of each in file order, and what reading found,
-    merged (the ids checked on disk, not held: :mod:`~scalewright.engine.id_spill`). Raises
-    :class:`CannotStream` for a file without rows or with an id twice (the whole-file reader names them)."""
+    merged (the ids checked on disk, not held: :mod:`~scalewright.engine.id_spill`); with a ``weight``
+    column (one of ``columns``) the weighed scores, merged. Raises :class:`CannotStream` for a file without
+    rows or with an id twice (the whole-file reader names them)."""
     counts: ReadingCounts | None = None
+    weighed: WeighedScores | None = None
     with IdHashSpill() as ids:
-        for table, reading in _scored_blocks(path, spec, standardize, block_bytes=block_bytes, columns=columns,
-                                             way=way, z_bases=z_bases):
+        for table, reading, found in _scored_blocks(path, spec, standardize, block_bytes=block_bytes,
+                                                    columns=columns, way=way, z_bases=z_bases, weight=weight):
             take(table)
             reading = ids.take_ids(reading)
             counts = reading if counts is None else counts.merge(reading)
+            if found is not None:
+                weighed = found if weighed is None else weighed.merge(found)
         duplicates = ids.has_duplicates()
     if counts is None or counts.rows == 0:
         raise CannotStream("no rows")  # the whole-file reader says so
     if duplicates:
         raise CannotStream("an id appears twice")  # the whole-file reader names it and its rows
-    return counts
+    return counts, weighed
+
+
+def weight_columns(spec: Any, weight: str | None) -> tuple[str, ...]:
+    """The columns a scored pass reads beside the items: the id column and the survey weight column. Raises
+    :class:`CannotStream` when the weight column is an item (the whole-file reader refuses it)."""
+    if weight is not None and weight in spec.items:
+        raise CannotStream(f"the weight column {weight!r} is an item")
+    return tuple(dict.fromkeys([*([spec.id_column] if spec.id_column else []), *([weight] if weight else [])]))
 
 
 class _Appender:
@@ -146,11 +189,15 @@ def _summary_table(first: ScoreTable, scored: dict[str, int], n: int, standardiz
 
 
 def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, standardize: str | None = None,
-                  lenient: bool = False, block_bytes: int | None = None,
-                  inputs: Iterable[Any] = (), z_bases: dict | None = None) -> StreamedScores:
+                  lenient: bool = False, block_bytes: int | None = None, inputs: Iterable[Any] = (),
+                  z_bases: dict | None = None, weight: str | None = None,
+                  weights_read: Callable[[WeightReading], None] | None = None) -> StreamedScores:
     """Score the file block by block; with ``target`` (``.csv`` or ``.parquet``) append each block to it.
     ``z_bases``: with ``standardize="z"``, per scale the sample's mean and SD from a first pass
-    (:func:`~scalewright.engine.score_z.z_bases_of_file`).
+    (:func:`~scalewright.engine.score_z.z_bases_of_file`). ``weight`` names the survey weight column: each
+    scale's scores are then summed with the weights (``StreamedScores.weighted``), and ``weights_read`` is
+    given what reading the weights found once reading is checked, before the target is put in place (it
+    may refuse the run as the whole-file reader does).
 
     Raises :class:`~scalewright.engine.blocks.CannotStream` when the file (or the option) needs the
     whole-file route; the target is then untouched. Reading errors are raised as the whole-file reader
@@ -162,7 +209,7 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
     suffix = Path(target).suffix.lower() if target is not None else ""
     if target is not None and suffix not in STREAMED_SCORE_FILES:
         raise CannotStream(f"a {suffix or 'scored'} file is written whole")
-    columns = (spec.id_column,) if spec.id_column else ()
+    columns = weight_columns(spec, weight)
     ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
     found: dict[str, Any] = {}
 
@@ -180,12 +227,15 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
                     scored[name] = scored.get(name, 0) + one.n_scored
 
             try:
-                counts = scored_pass(path, spec, standardize, take, block_bytes=block_bytes, columns=columns,
-                                     way=way, z_bases=z_bases)
+                counts, weighed = scored_pass(path, spec, standardize, take, block_bytes=block_bytes,
+                                              columns=columns, way=way, z_bases=z_bases, weight=weight)
             finally:
                 if appender is not None:
                     appender.close()
             found["outcome"] = check_reading(str(path), counts, spec, lenient=lenient)
+            if weighed is not None and weights_read is not None:  # as the whole-file reader: after the answers
+                weights_read(weighed.reading)
+            found["weighted"] = None if weighed is None else weighed.scales
             found["table"] = _summary_table(first[0], scored, counts.rows, standardize, z_bases)
 
         read_by_first_way(ways, attempt)
@@ -194,4 +244,4 @@ def stream_scores(path: str | Path, spec: Any, target: str | Path | None, *, sta
         write_all(None)
     else:
         write_atomic_with(target, write_all, inputs=inputs)
-    return StreamedScores(table=found["table"], outcome=found["outcome"])
+    return StreamedScores(table=found["table"], outcome=found["outcome"], weighted=found["weighted"])
