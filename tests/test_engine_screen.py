@@ -190,13 +190,6 @@ def test_durations_that_are_not_numbers_are_named_as_whole(survey):
     assert "row 1401" in results[1][2]
 
 
-def test_dask_is_refused_for_the_screen(survey, tmp_path):
-    # survey weights stream: tests/test_engine_screen_weighted.py
-    data, scales = survey
-    code, _, err = run("screen", str(data), "-s", str(scales), "--engine", "dask")
-    assert code == 2
-
-
 @pytest.mark.parametrize("n", [1, 2, 7, 1000, 4001])
 def test_spilled_median_is_numpys(n, tmp_path):
     from scalewright.engine.value_spill import ValueSpill
