@@ -15,8 +15,9 @@ passes over the file), with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
---engine dask` (or the commands named: `compare --by shift`, `confirm`...) on the Parquet folder with a
-local cluster of 1 and of 2 workers, and the same command on the whole CSV file in memory. Results are printed and
+--engine dask` (or the commands named: `compare --by shift`, `confirm`, `screen --flagged-only`...) on the
+Parquet folder with a local cluster of 1 and of 2 workers, and the same command on the whole CSV file in
+memory (the screen also with ``--engine stream``). Results are printed and
 written as JSON beside the data; record them, with ``cat /proc/loadavg``, in docs/performance.md.
 """
 from __future__ import annotations
@@ -89,7 +90,8 @@ COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "score": ["--s
 #: measured unless --commands names others (the report, with its figures, takes longest)
 DEFAULT_COMMANDS = ["reliability", "shape", "tally", "score"]
 #: the commands the dask measurement can also run (with the options they need on this survey)
-DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare": ["--by", "shift"], "confirm": []}
+DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare": ["--by", "shift"], "confirm": [],
+                 "screen": ["--flagged-only"]}
 
 
 def output_of(name: str, folder: Path, rows: int, route: str = "stream") -> list[str]:
@@ -135,16 +137,20 @@ def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
     for name in names:
         extra = DASK_COMMANDS[name]
         for workers in (1, 2):
+            written = (["--out", str(folder / f"dask_screen_{rows}_{workers}.csv")] if name == "screen" else
+                       ["--format", "json", "--out", str(folder / f"dask_{name}_{workers}.json")])
             measure(f"{name} dask {workers} worker(s)",
-                    command(name, str(dataset), "--scales", str(scales), "--format", "json",
-                            "--out", str(folder / f"dask_{name}_{workers}.json"), "--engine", "dask",
+                    command(name, str(dataset), "--scales", str(scales), *written, "--engine", "dask",
                             "--workers", str(workers), *extra),
                     results, rows=rows, parts=parts, workers=workers)
         if name != "reliability":  # the same numbers from the whole file in memory, for scale
             data = write_csv(folder, rows)
-            measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
-                                              "--out", str(folder / f"memory_{name}.json"), "--engine", "memory",
-                                              *extra), results, rows=rows)
+            routes = ("memory", "stream") if name == "screen" else ("memory",)
+            for route in routes:
+                written = (["--out", str(folder / f"screen_{rows}_{route}.csv")] if name == "screen" else
+                           ["--format", "json", "--out", str(folder / f"{route}_{name}.json")])
+                measure(f"{name} {route}", command(name, str(data), "--scales", str(scales), *written,
+                                                   "--engine", route, *extra), results, rows=rows)
 
 
 def main() -> int:
@@ -156,7 +162,7 @@ def main() -> int:
     parser.add_argument("--parts", type=int, default=8)
     parser.add_argument("--commands", nargs="+", default=None, choices=sorted({*COMMANDS, *DASK_COMMANDS}),
                         help="memory: of reliability, shape, tally, score, report, screen (default the first four); "
-                             "dask: any of reliability, shape, tally, compare, confirm (default reliability)")
+                             "dask: any of reliability, shape, tally, compare, confirm, screen (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)

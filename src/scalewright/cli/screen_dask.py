@@ -54,7 +54,7 @@ def dask_screened(data: Path, scales: Path, *, scheduler: str | None, workers: i
                             weight=weighing.column)
     urls, local = dataset_parts(str(data))
 
-    def screen(records: RecordsText | None, write: Callable[[str], None] | None) -> Any:
+    def screen(records: RecordsText | None, write: Callable[[str], Any] | None) -> Any:
         return dask_screen(str(data), spec, options, lenient=lenient, scheduler=scheduler, workers=workers,
                            block_bytes=block_size, records=records, write=write,
                            weights_read=weighing.check if weighing.column else None)

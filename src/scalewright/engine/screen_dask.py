@@ -82,7 +82,7 @@ class PartitionFirst:
 
 def dask_screen(data: str, spec: Any, options: ScreenOptions, *, lenient: bool = False, scheduler: str | None = None,
                 workers: int | None = None, block_bytes: int | None = None, records: RecordsText | None = None,
-                write: Callable[[str], None] | None = None, held: int = HELD_RECORDS,
+                write: Callable[[str], Any] | None = None, held: int = HELD_RECORDS,
                 weights_read: Callable[[Any], None] | None = None) -> tuple[StreamedScreen, dict[str, Any]]:
     """Screen every partition of ``data`` (see :func:`~scalewright.engine.dask_engine.dataset_parts`) in
     three passes on the cluster; with ``records`` and ``write`` every record's text is handed to ``write``
@@ -213,9 +213,10 @@ class _PartitionFirst(Folded):
             return np.concatenate(present).astype(dtype, copy=False) if present else None
 
         ids = join([h for v in self.values for h in v.id_hashes], np.uint64)
+        rows = join([v.row_hashes for v in self.values], np.uint64)
         return FirstValues(halves=join([v.halves for v in self.values], np.float64),
                            timed=join([v.timed for v in self.values], np.float64),
-                           row_hashes=join([v.row_hashes for v in self.values], np.uint64),
+                           row_hashes=np.zeros(0, dtype=np.uint64) if rows is None else rows,
                            id_hashes=() if ids is None else (ids,))
 
 
@@ -249,7 +250,8 @@ def second_pass_of_partition(url: str, part: int, base: int, shift: int, *, sett
 class _PartitionJudged(Folded):
     def __init__(self, held: int, records: RecordsText | None) -> None:
         super().__init__(ThirdSums(held=held))
-        self.records, self.texts = records, []
+        self.records = records
+        self.texts: list[str] = []
 
     def add(self, block: Block, found: Any) -> None:
         judged, sums = found
