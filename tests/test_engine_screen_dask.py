@@ -245,3 +245,23 @@ def test_a_dataset_behind_an_fsspec_url(cluster, survey):
     whole = _json(run("screen", str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory"))
     assert on_dask.pop("engine")["partitions"] == PARTS
     assert_same(whole, on_dask)
+
+
+def test_a_refused_weight_in_the_last_file_is_named_or_counted(cluster, tmp_path):
+    rows, _ = _rows(N_ROWS)
+    for row in rows:
+        row.append("1.5")
+    rows[3 * 400 + 100][-1] = "abc"  # the 101st data row of the last file: its row 102 below the header
+    header = [*HEADER, "wt"]
+    scales = _scales(tmp_path)
+    folder = _csv_parts(tmp_path / "waves", rows, header)
+    code, _, err = _dask(cluster, folder, scales, "--weight", "wt")
+    assert code == 4
+    assert "wave-3.csv (row 102, column wt): 'abc' is a weight that is not a number" in err
+    whole = _json(run("screen", str(_write(tmp_path / "survey.csv", rows, header)), "-s", str(scales), "--format",
+                      "json", "--engine", "memory", "--weight", "wt", "--lenient"))
+    on_dask = _json(_dask(cluster, folder, scales, "--format", "json", "--weight", "wt", "--lenient"))
+    on_dask.pop("engine")
+    assert_same(whole, on_dask)
+    assert any("1 row(s) have not numeric weight(s) in wt" in str(item) for item in on_dask["notes"])
+    assert on_dask["summary"]["weighted"]["sum_of_weights"] == 1.5 * (N_ROWS - 1)  # the refused row weighs nothing
