@@ -17,7 +17,8 @@ route on the smallest size for comparison. ``speed``: `reliability --engine stre
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
 --engine dask` (or the commands named: `compare --by shift`, `confirm`, `screen --flagged-only`...) on the
 Parquet folder with a local cluster of 1 and of 2 workers, and the same command on the whole CSV file in
-memory (the screen also with ``--engine stream``). Results are printed and
+memory (the screen also with ``--engine stream``); with ``--client-only`` the command's own peak, given
+the address of 2 workers the benchmark starts. Results are printed and
 written as JSON beside the data; record them, with ``cat /proc/loadavg``, in docs/performance.md.
 """
 from __future__ import annotations
@@ -132,8 +133,11 @@ def speed(folder: Path, scales: Path, rows: int, repeat: int, results: list[dict
 
 
 def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
-         names: tuple[str, ...] = ("reliability",)) -> None:
+         names: tuple[str, ...] = ("reliability",), client_only: bool = False) -> None:
     dataset = write_parquet_folder(folder, rows, parts)
+    if client_only:
+        client_alone(folder, scales, dataset, rows, parts, results, names)
+        return
     for name in names:
         extra = DASK_COMMANDS[name]
         for workers in (1, 2):
@@ -153,6 +157,24 @@ def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
                                                    "--engine", route, *extra), results, rows=rows)
 
 
+def client_alone(folder: Path, scales: Path, dataset: Path, rows: int, parts: int, results: list[dict],
+                 names: tuple[str, ...]) -> None:
+    """The command's own peak without its workers': a local cluster of 2 worker processes started here, the
+    command given its address (the screen once with ``--flagged-only``, once writing every record)."""
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=":0") as cluster:
+        for name in names:
+            variants = ([["--flagged-only"], []] if name == "screen" else [DASK_COMMANDS[name]])
+            for extra in variants:
+                written = (["--out", str(folder / f"client_{name}_{rows}.csv")] if name == "screen" else
+                           ["--format", "json", "--out", str(folder / f"client_{name}_{rows}.json")])
+                measure(f"{name} dask client {' '.join(extra)}", command(
+                            name, str(dataset), "--scales", str(scales), *written, "--engine", "dask",
+                            "--scheduler", cluster.scheduler_address, *extra),
+                        results, rows=rows, parts=parts, workers=2)
+
+
 def main() -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("folder", type=Path)
@@ -164,6 +186,8 @@ def main() -> int:
                         help="memory: of reliability, shape, tally, score, report, screen (default the first four); "
                              "dask: any of reliability, shape, tally, compare, confirm, screen (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
+    parser.add_argument("--client-only", action="store_true",
+                        help="dask: the command's own peak, its 2 workers started by the benchmark")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)
     scales = write_scales(options.folder)
@@ -180,7 +204,7 @@ def main() -> int:
         speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
     else:
         dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results,
-             tuple(options.commands or ("reliability",)))
+             tuple(options.commands or ("reliability",)), client_only=options.client_only)
     if results:
         out = options.folder / f"bench_engine_{options.what}.json"
         out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results}, indent=2), encoding="utf-8")
