@@ -1,7 +1,7 @@
 """64-bit hashes of answer rows (for the screen's identical-rows check on a file read in blocks).
 
-Each row's one-byte answer codes (255 = no answer) are hashed as :mod:`.id_hash` hashes an id's bytes: a
-polynomial over the codes modulo 2^64 and the splitmix64 finaliser. Equal rows always get equal hashes;
+Each row's one-byte answer codes (255 = no answer) are hashed as a polynomial over the codes modulo 2^64
+followed by the splitmix64 finaliser of :mod:`.id_hash`. Equal rows always get equal hashes;
 two different rows that share one are told apart by a second look at the rows themselves
 (:mod:`.screen_stream`), so no row is ever called a copy that is not one.
 """
@@ -9,7 +9,19 @@ from __future__ import annotations
 
 import numpy as np
 
-from .id_hash import _finalise, _powers
+from .id_hash import _finalise
+
+_BASE = np.uint64(0x100000001B3)
+
+
+def _powers(length: int) -> np.ndarray:
+    """BASE^0, BASE^1, ... modulo 2^64 (the weights of the codes by their distance from the row's end)."""
+    powers = np.empty(max(length, 1), dtype=np.uint64)
+    powers[0] = 1
+    with np.errstate(over="ignore"):
+        for shift in range(1, length):
+            powers[shift] = powers[shift - 1] * _BASE
+    return powers
 
 
 def answer_row_hashes(codes: np.ndarray) -> np.ndarray:
