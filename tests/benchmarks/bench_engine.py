@@ -16,8 +16,10 @@ passes), with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
 multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
---engine dask` (or the commands named: `compare --by shift`, `confirm`...) on the Parquet folder with a
-local cluster of 1 and of 2 workers, and the same command on the whole CSV file in memory. Results are printed and
+--engine dask` (or the commands named: `compare --by shift`, `confirm`, `screen --flagged-only`...) on the
+Parquet folder with a local cluster of 1 and of 2 workers, and the same command on the whole CSV file in
+memory (the screen also with ``--engine stream``); with ``--client-only`` the command's own peak, given
+the address of 2 workers the benchmark starts. Results are printed and
 written as JSON beside the data; record them, with ``cat /proc/loadavg``, in docs/performance.md.
 """
 from __future__ import annotations
@@ -105,7 +107,8 @@ def scales_of(name: str, scales: Path) -> Path:
 #: measured unless --commands names others (the report, with its figures, takes longest)
 DEFAULT_COMMANDS = ["reliability", "shape", "tally", "score"]
 #: the commands the dask measurement can also run (with the options they need on this survey)
-DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare": ["--by", "shift"], "confirm": []}
+DASK_COMMANDS = {"reliability": [], "shape": [], "tally": ["--items"], "compare": ["--by", "shift"], "confirm": [],
+                 "screen": ["--flagged-only"]}
 
 
 def output_of(name: str, folder: Path, rows: int, route: str = "stream") -> list[str]:
@@ -148,21 +151,46 @@ def speed(folder: Path, scales: Path, rows: int, repeat: int, results: list[dict
 
 
 def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
-         names: tuple[str, ...] = ("reliability",)) -> None:
+         names: tuple[str, ...] = ("reliability",), client_only: bool = False) -> None:
     dataset = write_parquet_folder(folder, rows, parts)
+    if client_only:
+        client_alone(folder, scales, dataset, rows, parts, results, names)
+        return
     for name in names:
         extra = DASK_COMMANDS[name]
         for workers in (1, 2):
+            written = (["--out", str(folder / f"dask_screen_{rows}_{workers}.csv")] if name == "screen" else
+                       ["--format", "json", "--out", str(folder / f"dask_{name}_{workers}.json")])
             measure(f"{name} dask {workers} worker(s)",
-                    command(name, str(dataset), "--scales", str(scales), "--format", "json",
-                            "--out", str(folder / f"dask_{name}_{workers}.json"), "--engine", "dask",
+                    command(name, str(dataset), "--scales", str(scales), *written, "--engine", "dask",
                             "--workers", str(workers), *extra),
                     results, rows=rows, parts=parts, workers=workers)
         if name != "reliability":  # the same numbers from the whole file in memory, for scale
             data = write_csv(folder, rows)
-            measure(f"{name} memory", command(name, str(data), "--scales", str(scales), "--format", "json",
-                                              "--out", str(folder / f"memory_{name}.json"), "--engine", "memory",
-                                              *extra), results, rows=rows)
+            routes = ("memory", "stream") if name == "screen" else ("memory",)
+            for route in routes:
+                written = (["--out", str(folder / f"screen_{rows}_{route}.csv")] if name == "screen" else
+                           ["--format", "json", "--out", str(folder / f"{route}_{name}.json")])
+                measure(f"{name} {route}", command(name, str(data), "--scales", str(scales), *written,
+                                                   "--engine", route, *extra), results, rows=rows)
+
+
+def client_alone(folder: Path, scales: Path, dataset: Path, rows: int, parts: int, results: list[dict],
+                 names: tuple[str, ...]) -> None:
+    """The command's own peak without its workers': a local cluster of 2 worker processes started here, the
+    command given its address (the screen once with ``--flagged-only``, once writing every record)."""
+    from dask.distributed import LocalCluster
+
+    with LocalCluster(n_workers=2, threads_per_worker=1, processes=True, dashboard_address=":0") as cluster:
+        for name in names:
+            variants = ([["--flagged-only"], []] if name == "screen" else [DASK_COMMANDS[name]])
+            for extra in variants:
+                written = (["--out", str(folder / f"client_{name}_{rows}.csv")] if name == "screen" else
+                           ["--format", "json", "--out", str(folder / f"client_{name}_{rows}.json")])
+                measure(f"{name} dask client {' '.join(extra)}", command(
+                            name, str(dataset), "--scales", str(scales), *written, "--engine", "dask",
+                            "--scheduler", cluster.scheduler_address, *extra),
+                        results, rows=rows, parts=parts, workers=2)
 
 
 def main() -> int:
@@ -175,8 +203,10 @@ def main() -> int:
     parser.add_argument("--commands", nargs="+", default=None, choices=sorted({*COMMANDS, *DASK_COMMANDS}),
                         help="memory: of reliability, shape, tally, score, report, screen, score-weighted (default the "
                              "first four); "
-                             "dask: any of reliability, shape, tally, compare, confirm (default reliability)")
+                             "dask: any of reliability, shape, tally, compare, confirm, screen (default reliability)")
     parser.add_argument("--no-whole", action="store_true", help="memory: skip the whole-file route")
+    parser.add_argument("--client-only", action="store_true",
+                        help="dask: the command's own peak, its 2 workers started by the benchmark")
     options = parser.parse_args()
     options.folder.mkdir(parents=True, exist_ok=True)
     scales = write_scales(options.folder)
@@ -193,7 +223,7 @@ def main() -> int:
         speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
     else:
         dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results,
-             tuple(options.commands or ("reliability",)))
+             tuple(options.commands or ("reliability",)), client_only=options.client_only)
     if results:
         out = options.folder / f"bench_engine_{options.what}.json"
         out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results}, indent=2), encoding="utf-8")

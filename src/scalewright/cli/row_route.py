@@ -1,5 +1,5 @@
-"""The engine options of the commands that write one row per respondent (``score``, ``screen``), and their
-route."""
+"""The route of the commands that write one row per respondent (``score``, ``screen``), and ``score``'s engine
+options (``screen``'s, which add Dask: :mod:`.screen_dask`)."""
 from __future__ import annotations
 
 from collections.abc import Callable

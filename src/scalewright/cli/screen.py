@@ -9,7 +9,6 @@ from ..analyses.screen import analyse_screen, weighted_screen_summary
 from ..errors import UsageError
 from .common import (
     choose_format,
-    data_argument,
     emit,
     input_options,
     load_inputs,
@@ -17,13 +16,15 @@ from .common import (
     scales_option,
     weight_option,
 )
-from .row_route import row_engine_options, row_route
+from .engine_route import dataset_argument
+from .row_route import row_route
+from .screen_dask import screen_engine_options
 
 
 @click.command("screen", epilog=("Examples:\n\n\b\n"
                   "  scalewright screen survey.csv --scales survey.yaml\n"
                   "  scalewright screen survey.csv -s survey.yaml --out flagged.csv --flagged-only\n"))
-@data_argument
+@dataset_argument
 @scales_option
 @click.option("--duration-column", metavar="COLUMN", default=None,
               help="Column holding each respondent's completion time; enables the 'fast' flag.")
@@ -49,26 +50,31 @@ from .row_route import row_engine_options, row_route
               help="Flag identical answer rows only when at least this many items are answered.")
 @weight_option
 @input_options
-@row_engine_options
+@screen_engine_options
 @output_options
 def screen(data: Path, scales: Path, duration_column: str | None, duration_unit: str, speed_share: float, flagged_only: bool,
            long_run_share: float, mahalanobis_p: float, mahalanobis_p_weak: float, even_odd_min: float,
            person_total_min: float, missing_share_max: float, duplicate_min_items: int, lenient: bool,
-           exclude: Path | None, engine: str, block_size: int | None, fmt: str | None, out: Path | None,
-           decimals: int) -> None:
+           exclude: Path | None, engine: str, block_size: int | None, scheduler: str | None, workers: int | None,
+           fmt: str | None, out: Path | None, decimals: int) -> None:
     """Flag respondents whose answers look careless or whose records look suspicious.
 
     With --out FILE.csv the per-respondent table is written with the id first, so
     `--exclude FILE.csv` of any other command reads it directly (use --flagged-only
     to list only the flagged). A flag marks a record to look at, not a verdict on a person.
     With --engine stream (or auto on a large file) the file is read three times in
-    blocks and each respondent's record is written out as it is judged.
+    blocks and each respondent's record is written out as it is judged. With --engine
+    dask the same three passes run on a Dask cluster over a Parquet dataset (a folder,
+    a glob or a URL) or a set of CSV files, and the records come back a partition at a
+    time, written in dataset order.
     """
     from ..files import write_atomic
     from ..present.quality import duplicate_notes, respondents_csv, screen_notes, screen_tables
     from ..present.render import visible_controls
     from ..stats.screen_rules import ScreenThresholds
+    from .report_route import check_dask_options
 
+    check_dask_options(engine, scheduler, workers)
     if mahalanobis_p_weak < mahalanobis_p:
         raise UsageError(f"--mahalanobis-p-weak ({mahalanobis_p_weak:g}) must not be below --mahalanobis-p "
                          f"({mahalanobis_p:g}): the weak signal is the wider net")
@@ -77,7 +83,15 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
         speed_share=speed_share, duplicate_min_items=duplicate_min_items)
     # survey weights stream: only the Mahalanobis centre, the alphas and the flagged shares are weighted
-    if row_route(engine, data, needs_rows="--exclude" if exclude is not None else None) == "stream":
+    route = row_route(engine, data, needs_rows="--exclude" if exclude is not None else None)
+    if route == "dask":
+        from .screen_dask import dask_screened
+
+        dask_screened(data, scales, scheduler=scheduler, workers=workers, block_size=block_size, lenient=lenient,
+                      thresholds=thresholds, duration_column=duration_column, duration_unit=duration_unit,
+                      flagged_only=flagged_only, fmt=fmt, out=out, decimals=decimals)
+        return
+    if route == "stream":
         from .screen_streamed import streamed_screen
 
         if streamed_screen(data, scales, engine=engine, block_size=block_size, lenient=lenient, thresholds=thresholds,

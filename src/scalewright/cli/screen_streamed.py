@@ -154,7 +154,7 @@ def _json_lines(handle: Any, flagged_only: bool) -> Any:
 
 def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chosen: str | None, out: Path | None,
             flagged_only: bool, duration_column: str | None, decimals: int, records: Path,
-            weight_notes: tuple[str, ...] = ()) -> None:
+            weight_notes: tuple[str, ...] = (), engine: dict[str, Any] | None = None) -> None:
     from ..files import write_atomic_with
     from ..present.document import envelope
     from ..present.quality import duplicate_notes, screen_notes, screen_tables
@@ -163,6 +163,7 @@ def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chos
     from .common import Inputs, emit
 
     summary = result.summary
+    engine = engine or {"name": "stream"}
     notes = (*result.outcome.notes(), *weight_notes)
     inputs = Inputs(spec=spec, responses=result.outcome, info=info, excluded=0, notes=notes)
     options = {"duration_column": duration_column, "flagged_only": flagged_only, "excluded": 0}
@@ -184,11 +185,11 @@ def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chos
     tables = [*screen_tables(document, flagged_only=True, max_rows=held if summary.n_flagged > held else None),
               *weighted_tables]
     if chosen != "json":
-        emit(command="screen", inputs=inputs, body={**document, "engine": {"name": "stream"}}, tables=tables,
+        emit(command="screen", inputs=inputs, body={**document, "engine": engine}, tables=tables,
              fmt=chosen, out=out, decimals=decimals, options=options)
         return
     has_records = records.exists() and records.stat().st_size > 0
-    body = {**document, "respondents": JsonRows([_MARK] if has_records else []), "engine": {"name": "stream"}}
+    body = {**document, "respondents": JsonRows([_MARK] if has_records else []), "engine": engine}
     text = render_json(envelope("screen", info, body, options=options, notes=list(notes)))
     prefix, suffix = text.split(json.dumps(_MARK), 1) if has_records else (text, "")
     indent = prefix[prefix.rindex("\n"):]  # the line break and indent before the first record
@@ -216,7 +217,7 @@ def _finish(result: Any, *, info: Any, spec: Any, data: Path, scales: Path, chos
         with open(temp, "w", encoding="utf-8", newline="") as handle:
             write(handle.write)
 
-    write_atomic_with(out, to_file, inputs=[data, scales])
+    write_atomic_with(out, to_file, inputs=[data, scales] if engine["name"] != "dask" else [scales])
     click.echo(f"wrote {out}", err=True)
 
 

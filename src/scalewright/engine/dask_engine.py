@@ -27,6 +27,7 @@ def dataset_parts(data: str) -> tuple[list[str], bool]:
     they are on the local file system."""
     from fsspec.core import url_to_fs
 
+    data = _url_as_given(data)
     try:
         fs, root = url_to_fs(data)
     except (ImportError, ValueError) as error:
@@ -50,6 +51,19 @@ def dataset_parts(data: str) -> tuple[list[str], bool]:
     if not local and kinds == {"delimited"}:
         raise UsageError("CSV partitions must be on a local or shared file system; use Parquet for other storage")
     return urls, local
+
+
+def _url_as_given(data: str) -> str:
+    """``data`` with the second slash of its URL put back: the command line's path argument goes through
+    pathlib, which reads ``s3://bucket/x`` as ``s3:/bucket/x`` (one letter before the colon is a drive)."""
+    import re
+
+    from fsspec.registry import known_implementations
+
+    found = re.match(r"([A-Za-z][A-Za-z0-9+.-]+):/(?!/)", data)
+    if found and found.group(1).lower() in known_implementations:
+        return f"{data[:found.end()]}/{data[found.end():]}"
+    return data
 
 
 @functools.lru_cache(maxsize=4)

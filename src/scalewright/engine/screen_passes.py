@@ -7,7 +7,7 @@ import math
 from collections.abc import Callable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import numpy as np
 import pandas as pd
@@ -85,10 +85,13 @@ def block_durations(block: Block, column: str | None) -> tuple[np.ndarray | None
     return values.to_numpy(dtype=float, na_value=np.nan), first
 
 
-def block_ids(block: Block, spec: Any) -> list[str]:
+def block_ids(block: Block, spec: Any, *, shift: int = 0) -> list[str]:
+    """The block's ids, or without an id column its row numbers (plus ``shift``: a partition's rows numbered
+    through the dataset)."""
     if spec.id_column:
         return [str(i) for i in ids_as_text(block.columns[spec.id_column].fillna(""))]
-    return np.arange(block.first_row, block.first_row + block.n).astype(str).tolist()
+    first = block.first_row + shift
+    return np.arange(first, first + block.n).astype(str).tolist()
 
 
 def median_of_counts(counts: np.ndarray) -> float:
@@ -123,28 +126,64 @@ def column_totals(gram: np.ndarray, layout: Layout) -> tuple[np.ndarray, np.ndar
 
 
 class Passes:
-    """The file read block by block, the same way on every pass (converted on a pool of threads)."""
+    """The file read block by block, the same way on every pass (converted on a pool of threads).
 
-    def __init__(self, path: Path, spec: Any, columns: tuple[str, ...], block_bytes: int | None) -> None:
-        self.path, self.spec, self.columns = path, spec, columns
-        self.ways = batch_sources(path, spec, columns, block_bytes=block_bytes)
+    ``source``, ``file`` and ``part``: an open binary file to read instead of ``path`` (a Parquet file
+    behind any fsspec URL), and the file's name and position when it is one partition of a dataset (the
+    place of what reading finds, see :func:`~scalewright.engine.blocks.convert_batch`).
+    """
+
+    def __init__(self, path: Path, spec: Any, columns: tuple[str, ...], block_bytes: int | None, *,
+                 source: Any = None, file: str = "", part: int = 0) -> None:
+        self.path, self.spec, self.columns, self.file, self.part = path, spec, columns, file, part
+        self.ways = batch_sources(path, spec, columns, block_bytes=block_bytes, source=source)
         self.way: Callable[[], Iterator[Any]] | None = None
 
-    def run(self, work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
-        """(block, work(block)) in file order; the first pass tries each way of reading in turn."""
+    def fold(self, work: Callable[[Block], Any], fresh: Callable[[], Collector]) -> Any:
+        """``fresh()`` given (block, work(block)) of every block in file order, and returned. The first pass
+        tries each way of reading in turn; a way that fails part-way starts again from the file's first
+        block with a new collector (the one that saw part of the file is closed), so no block counts twice."""
         ways = self.ways if self.way is None else [self.way]
         for number, way in enumerate(ways, start=1):
+            collector = fresh()
             try:
-                yield from self._blocks(way, work)
+                for block, found in self._blocks(way, work):
+                    collector.add(block, found)
                 self.way = way
-                return
+                return collector
             except retry_errors() as error:
+                collector.close()
                 if self.way is not None or number == len(ways):
                     raise CannotStream.after(error) from None
+            except BaseException:
+                collector.close()
+                raise
+        raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
     def _blocks(self, way: Callable[[], Iterator[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
         def one(batch: Any, first: int) -> tuple[Block, Any]:
-            block = convert_batch(batch, self.spec, self.columns, first_row=first)
+            block = convert_batch(batch, self.spec, self.columns, first_row=first, file=self.file, part=self.part)
             return block, work(block)
 
         yield from in_file_order(way(), one, first_row_number(self.path))
+
+
+class Collector(Protocol):
+    """What :meth:`Passes.fold` hands each block's result to."""
+
+    def add(self, block: Block, found: Any) -> None: ...
+
+    def close(self) -> None: ...
+
+
+class Folded:
+    """A :class:`Collector` merging each block's sums (a ``merge`` method, in file order) into one."""
+
+    def __init__(self, start: Any = None) -> None:
+        self.sums = start
+
+    def add(self, block: Block, found: Any) -> None:
+        self.sums = found if self.sums is None else self.sums.merge(found)
+
+    def close(self) -> None:
+        self.sums = None
