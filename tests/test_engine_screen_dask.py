@@ -230,7 +230,9 @@ def test_a_dataset_behind_an_fsspec_url(cluster, survey):
     try:
         for path in sorted(folder.iterdir()):
             fs.pipe(f"{root}/{path.name}", path.read_bytes())
-        on_dask = _json(_dask(cluster, Path(f"memory:/{root}"), scales, "--format", "json"))
+        code, out, err = _dask(cluster, Path(f"memory:/{root}"), scales, "--format", "json")
+        assert json.loads(out)["input"]["data"] == f"memory:/{root}"  # the URL as written (root starts with "/")
+        on_dask = _json((code, out, err))
     finally:
         fs.rm(root, recursive=True)
     whole = _json(run("screen", str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory"))

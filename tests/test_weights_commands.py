@@ -512,3 +512,19 @@ def test_report_findings_say_the_estimates_are_weighted(tmp_path):
     entry = reliable.values["scales"][0] if reliable.code == "scales-reliable" else reliable.values
     assert entry["alpha_weighted"] == pytest.approx(
         results.weighted.reliability[entry["scale"]]["all"]["alpha"], rel=1e-12)
+
+
+@pytest.mark.parametrize("engine", ["memory", "stream"])
+@pytest.mark.parametrize(("command", "extra"), [("reliability", ()), ("score", ()), ("screen", ()),
+                                                ("compare", ("--by", "site")), ("shape", ())])
+def test_an_item_named_as_the_weight_column_is_refused_in_one_line(tmp_path, capsys, engine, command, extra):
+    # an answer cannot weigh the answers: the same usage error on every route (it used to be an internal error
+    # on the block route and "not in the data file" on the whole-file route)
+    data, scales = write(tmp_path / "d", climate(200, np.ones(200)))
+    before = data.read_bytes()
+    code = main([command, str(data), "--scales", str(scales), "--weight", "wl2", "--engine", engine, *extra])
+    err = capsys.readouterr().err
+    assert code == 2
+    assert err.strip().splitlines() == ["error: --weight 'wl2' is an item of the scale file: survey weights need "
+                                        "a column of their own"]
+    assert data.read_bytes() == before

@@ -83,6 +83,16 @@ def chosen_weight() -> str | None:
     return ctx.meta.get("scalewright.weight") if ctx is not None else None
 
 
+def weight_in_force(spec: Any) -> str | None:
+    """``--weight``, else the scale file's ``weight``, or None. Refused when it names an item of the scale file
+    (the scale file's own ``weight`` is refused so when the file is read; ``--weight`` here, on every route)."""
+    column = chosen_weight() or getattr(spec, "weight", None)
+    if column is not None and column in set(getattr(spec, "items", ()) or ()):
+        raise UsageError(f"--weight {column!r} is an item of the scale file: survey weights need a column of "
+                         "their own")
+    return column
+
+
 def weight_option(fn: Callable) -> Callable:
     """``--weight COLUMN``, for the commands that give weighted estimates (it wins over the scale file's)."""
     return click.option("--weight", metavar="COLUMN", expose_value=False, callback=_remember_weight,
@@ -195,7 +205,7 @@ def _with_weights(spec: Any, responses: Any, *, lenient: bool) -> tuple[Any, lis
 
     ctx = click.get_current_context(silent=True)
     weighs = ctx is not None and "scalewright.weight" in ctx.meta
-    column = (ctx.meta.get("scalewright.weight") if weighs else None) or getattr(spec, "weight", None)
+    column = weight_in_force(spec)
     if column is None:
         return responses, []
     if not weighs:

@@ -77,9 +77,9 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     if route == "memory":
         return None
     spec = load_spec(scales) if scales is not None else _without_scales()
-    from .common import chosen_weight
+    from .common import weight_in_force
 
-    weight = chosen_weight() or getattr(spec, "weight", None)
+    weight = weight_in_force(spec)
     weight_notes: list[str] = []
     if weight:
         ctx = click.get_current_context(silent=True)
@@ -103,11 +103,11 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
     if route == "dask":
         if scales is None:
             raise UsageError("--engine dask needs the scale file: give --scales FILE")
-        from ..engine.dask_engine import dask_summary
+        from ..engine.dask_engine import dask_summary, url_as_given
 
         summary, outcome, info = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient,
                                               workers=workers)
-        inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=str(data), data_sha256=info["data_sha256"],
+        inputs = Inputs(spec=spec, responses=outcome, info=InputInfo(data=url_as_given(str(data)), data_sha256=info["data_sha256"],
                                                                      scales=str(scales),
                                                                      scales_sha256=InputInfo.from_paths(None, scales).scales_sha256),
                         excluded=0, notes=(*outcome.notes(), *weight_notes,

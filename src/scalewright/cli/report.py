@@ -141,10 +141,10 @@ def _report_weight(spec: Any) -> tuple[str | None, list[str]]:
     ``--weight``; elsewhere none, with the note that the scale file's weights were not used."""
     import click
 
-    from .common import chosen_weight
+    from .common import weight_in_force
 
     ctx = click.get_current_context(silent=True)
-    column = chosen_weight() or getattr(spec, "weight", None)
+    column = weight_in_force(spec)
     if column is None or (ctx is not None and "scalewright.weight" in ctx.meta):
         return column, []
     from ..notes import note

@@ -61,12 +61,12 @@ def report_summary(data: Path, scales: Path, spec: Any, plan: Any, *, engine: st
             digests = pool.submit(InputInfo.from_paths, data, scales)
             summary, outcome = stream_summary(data, spec, plan, lenient=lenient, block_bytes=block_size)
             return ReportSummary(summary=summary, outcome=outcome, info=digests.result())
-    from ..engine.dask_engine import dask_summary, dataset_parts
+    from ..engine.dask_engine import dask_summary, dataset_parts, url_as_given
 
     parts = dataset_parts(str(data))
     summary, outcome, found = dask_summary(str(data), spec, plan, scheduler=scheduler, lenient=lenient,
                                            workers=workers)
-    info = InputInfo(data=str(data), data_sha256=found["data_sha256"], scales=str(scales),
+    info = InputInfo(data=url_as_given(str(data)), data_sha256=found["data_sha256"], scales=str(scales),
                      scales_sha256=InputInfo.from_paths(None, scales).scales_sha256)
     return ReportSummary(summary=summary, outcome=outcome, info=info, parts=parts)
 

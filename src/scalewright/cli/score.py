@@ -112,7 +112,7 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     from ..present.document import InputInfo
     from ..spec import load_spec
     from .common import Inputs
-    from .screen_streamed import WeightCheck
+    from .weight_check import WeightCheck
 
     spec = load_spec(scales)
     weighing = WeightCheck(str(data), spec, lenient=lenient)  # survey weights: refused or noted as whole

@@ -37,14 +37,15 @@ def dask_screened(data: Path, scales: Path, *, scheduler: str | None, workers: i
                   lenient: bool, thresholds: Any, duration_column: str | None, duration_unit: str,
                   flagged_only: bool, fmt: str | None, out: Path | None, decimals: int) -> None:
     """Screen the dataset on the cluster and write what the whole-file route writes."""
-    from ..engine.dask_engine import dataset_parts
+    from ..engine.dask_engine import dataset_parts, url_as_given
     from ..engine.screen_dask import RecordsText, dask_screen
     from ..engine.screen_steps import ScreenOptions
     from ..files import write_atomic_with
     from ..present.document import InputInfo
     from ..spec import load_spec
     from .common import choose_format
-    from .screen_streamed import WeightCheck, _finish
+    from .screen_streamed import _finish
+    from .weight_check import WeightCheck
 
     spec = load_spec(scales)
     table_csv = out is not None and fmt is None and out.suffix.lower() == ".csv"
@@ -80,7 +81,7 @@ def dask_screened(data: Path, scales: Path, *, scheduler: str | None, workers: i
         else:
             found["run"] = screen(None, None)
         result, run = found["run"]
-        info = InputInfo(data=str(data), data_sha256=run["data_sha256"], scales=str(scales),
+        info = InputInfo(data=url_as_given(str(data)), data_sha256=run["data_sha256"], scales=str(scales),
                          scales_sha256=InputInfo.from_paths(None, scales).scales_sha256)
         _finish(result, info=info, spec=spec, data=data, scales=scales, chosen=chosen, out=out,
                 flagged_only=flagged_only, duration_column=duration_column, decimals=decimals, records=records_file,

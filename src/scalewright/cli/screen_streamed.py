@@ -17,6 +17,7 @@ from typing import Any
 import click
 
 from ..present.render import visible_controls
+from .weight_check import WeightCheck
 
 #: stands in for the list of records in the rendered JSON document until they are copied into place
 _MARK = "@@scalewright-screen-respondents@@"
@@ -69,27 +70,6 @@ def streamed_screen(data: Path, scales: Path, *, engine: str, block_size: int | 
                 flagged_only=flagged_only, duration_column=duration_column, decimals=decimals,
                 records=Path(spill) / "respondents.jsonl", weight_notes=tuple(weighing.notes))
     return True
-
-
-class WeightCheck:
-    """The survey weight column of a screen (``--weight``, else the scale file's), and the check of what
-    reading it found: the run refused as the whole-file route refuses it, or the same notes."""
-
-    def __init__(self, path: str, spec: Any, *, lenient: bool) -> None:
-        from .common import chosen_weight
-
-        self.path, self.lenient = path, lenient
-        self.column: str | None = chosen_weight() or getattr(spec, "weight", None)
-        self.notes: list[str] = []
-
-    def options(self) -> dict[str, Any]:
-        """The weight options of :func:`~scalewright.engine.screen_stream.stream_screen` (none unweighted)."""
-        return {} if self.column is None else {"weight": self.column, "weights_read": self.check}
-
-    def check(self, reading: Any) -> None:
-        from ..analyses.summarised_weighted import check_weights
-
-        self.notes = check_weights(self.path, reading, str(self.column), lenient=self.lenient)
 
 
 def screen_to_csv(data: Path, spec: Any, target: Path | None, *, flagged_only: bool = False,

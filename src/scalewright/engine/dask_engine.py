@@ -27,7 +27,7 @@ def dataset_parts(data: str) -> tuple[list[str], bool]:
     they are on the local file system."""
     from fsspec.core import url_to_fs
 
-    data = _url_as_given(data)
+    data = url_as_given(data)
     try:
         fs, root = url_to_fs(data)
     except (ImportError, ValueError) as error:
@@ -53,7 +53,7 @@ def dataset_parts(data: str) -> tuple[list[str], bool]:
     return urls, local
 
 
-def _url_as_given(data: str) -> str:
+def url_as_given(data: str) -> str:
     """``data`` with the second slash of its URL put back: the command line's path argument goes through
     pathlib, which reads ``s3://bucket/x`` as ``s3:/bucket/x`` (one letter before the colon is a drive)."""
     import re
