@@ -170,11 +170,10 @@ def test_weighted_score_takes_the_streaming_route_under_auto(survey, monkeypatch
     assert json.loads(out)["engine"] == {"name": "stream"}
 
 
-def test_an_item_as_the_weight_column_is_refused_as_whole(survey):
+def test_an_item_as_the_weight_column_is_refused_on_both_routes(survey):
     data, scales = survey
     results = [run("score", str(data), "-s", str(scales), "--format", "json", "--engine", engine, "--weight", "wl1")
                for engine in ("memory", "stream")]
-    assert [code for code, _, _ in results] == [4, 4]
-    assert "read whole" in results[1][2]  # the whole-file reader names the problem
-    assert results[1][2].splitlines()[-1] == results[0][2].splitlines()[-1]
-    assert "the weight column 'wl1' is not in the data file" in results[0][2]
+    assert [code for code, _, _ in results] == [2, 2]
+    assert results[1][2] == results[0][2]
+    assert "--weight 'wl1' is an item of the scale file" in results[0][2]
