@@ -258,3 +258,28 @@ def test_a_refused_weight_in_the_last_file_is_named_or_counted(cluster, tmp_path
     assert_same(whole, on_dask)
     assert any("1 row(s) have not numeric weight(s) in wt" in str(item) for item in on_dask["notes"])
     assert on_dask["summary"]["weighted"]["sum_of_weights"] == 1.5 * (N_ROWS - 1)  # the refused row weighs nothing
+
+
+def test_the_reports_screen_on_dask_equals_the_reports_streamed_screen(cluster, survey, tmp_path):
+    """`report --engine dask` screens the partitions (cli/screen_dask.dask_screen_csv) as the streamed report
+    screens the file's blocks (cli/screen_streamed.streamed_screen_csv): the same summary and screen.csv. The
+    streamed screen is held to the whole-file screen in tests/test_engine_screen.py."""
+    from scalewright.cli.screen_dask import dask_screen_csv
+    from scalewright.cli.screen_streamed import streamed_screen_csv
+    from scalewright.spec import load_spec
+
+    whole_file, folder, scales = survey
+    spec = load_spec(scales)
+    (tmp_path / "stream").mkdir()
+    (tmp_path / "dask").mkdir()
+    common = {"duration_column": None, "duration_unit": "s", "lenient": False}
+    streamed = streamed_screen_csv(whole_file, spec, tmp_path / "stream" / "screen.csv", block_size=int(SMALL_BLOCK),
+                                   **common)
+    on_dask = dask_screen_csv(folder, spec, tmp_path / "dask" / "screen.csv", block_size=None,
+                              scheduler=cluster.scheduler_address, **common)
+    assert_same(streamed.to_dict(), on_dask.to_dict())
+    assert on_dask.records_file == "screen.csv"
+    tables = [list(csv.reader(io.StringIO((tmp_path / route / "screen.csv").read_text(encoding="utf-8"))))
+              for route in ("stream", "dask")]
+    assert len(tables[1]) == N_ROWS + 1
+    assert_same_rows(tables[1], tables[0])

@@ -119,10 +119,17 @@ def _streamed_report_folder(data: Path, scales: Path, out: Path, *, by: tuple[st
                                     lenient=lenient, block_size=block_size, inputs=[data, scales])
     except CannotStream as reason:  # the first pass read it: only a file changed meanwhile gets here
         raise DataError(Problem(file=str(data), message=f"the file changed while it was read ({reason})")) from None
-    # the screen judges every row: three more passes over a file read in blocks; on Dask it is left out
-    screen = (None if engine == "dask" else
-              _streamed_screen(data, spec, folder, options, block_size=block_size, single_file=single_file,
-                               weight=weight))
+    # the screen judges every row: three more passes over the file's blocks, or over the partitions on Dask
+    if engine == "dask":
+        from .screen_dask import dask_screen_csv
+
+        screen = dask_screen_csv(data, spec, None if single_file else folder / "screen.csv",
+                                 duration_column=options.duration_column, duration_unit=options.duration_unit,
+                                 lenient=options.lenient, block_size=block_size, weight=weight, scheduler=scheduler,
+                                 workers=workers)
+    else:
+        screen = _streamed_screen(data, spec, folder, options, block_size=block_size, single_file=single_file,
+                                  weight=weight)
     results = streamed_report(spec, summary, outcome, info=info, options=options, score_table=score_table,
                               input_notes=(*outcome.notes(), *weight_notes), progress=progress.step, screen=screen,
                               weight=weight)
@@ -213,8 +220,8 @@ def report(data: Path, scales: Path, by: tuple[str, ...], out: Path, force: bool
     only DIR/index.html, with every figure inside it. With --engine stream (or auto on
     a large file) the file is read in blocks: every section computed from summaries,
     the screen in three more passes (every respondent's record in DIR/screen.csv); with
-    --engine dask the same from a Parquet dataset or CSV files summarised on a Dask
-    cluster, the screen (it needs the rows) named as left out.
+    --engine dask the same from a Parquet dataset or CSV files summarised and screened
+    on a Dask cluster.
     """
     report_from_files(data, scales, out, by=by, lenient=lenient, exclude=exclude, decimals=decimals, force=force,
                         seed=seed, iterations=iterations, confidence_level=confidence_level, min_group=min_group,

@@ -89,4 +89,40 @@ def dask_screened(data: Path, scales: Path, *, scheduler: str | None, workers: i
                 engine={"name": "dask", "scheduler": run["scheduler"], "partitions": run["partitions"]})
 
 
-__all__ = ["dask_screened", "screen_engine_options"]
+def dask_screen_csv(data: Path, spec: Any, target: Path | None, *, duration_column: str | None, duration_unit: str,
+                    lenient: bool, block_size: int | None, weight: str | None = None, scheduler: str | None = None,
+                    workers: int | None = None) -> Any:
+    """The report's screen of a dataset on Dask, as :func:`~scalewright.cli.screen_streamed.streamed_screen_csv`
+    makes it of a file read in blocks: every respondent's record in ``target`` (the report's ``screen.csv``;
+    None: a single page, no table), in dataset order; with ``weight`` the weighted screen (the weights were
+    checked by the report's first pass)."""
+    from dataclasses import replace
+
+    from ..engine.screen_dask import RecordsText, dask_screen
+    from ..engine.screen_steps import ScreenOptions
+    from ..files import write_atomic_with
+    from ..present.quality import respondents_csv_header
+    from ..stats.screen_rules import ScreenThresholds
+
+    options = ScreenOptions(thresholds=ScreenThresholds(), duration_column=duration_column,
+                            duration_unit=duration_unit, weight=weight)
+    has_duration = duration_column is not None
+    found: dict[str, Any] = {}
+
+    def screen(records: RecordsText | None, write: Callable[[str], Any] | None) -> None:
+        found["result"], _ = dask_screen(str(data), spec, options, lenient=lenient, scheduler=scheduler,
+                                         workers=workers, block_bytes=block_size, records=records, write=write)
+
+    if target is None:
+        screen(None, None)
+    else:
+        def to_table(temp: Path) -> None:
+            with open(temp, "w", encoding="utf-8", newline="") as handle:
+                handle.write(respondents_csv_header(has_duration=has_duration))
+                screen(RecordsText("csv", flagged_only=False, has_duration=has_duration), handle.write)
+
+        write_atomic_with(target, to_table, inputs=[])
+    return replace(found["result"].summary, records_file=None if target is None else target.name)
+
+
+__all__ = ["dask_screen_csv", "dask_screened", "screen_engine_options"]
