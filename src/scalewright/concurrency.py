@@ -60,8 +60,31 @@ def one_blas_thread() -> Iterator[None]:
 _FORKED_WORK: list[Callable[[], object]] = []
 
 
-def _run_forked_work() -> object:
-    return _FORKED_WORK[0]()
+class ChildTraceback(Exception):
+    """The traceback of an error raised in a forked child (the ``__cause__`` of the error raised here)."""
+
+
+def _run_forked_work() -> tuple[bool, bytes]:
+    """The work's result, or the error it raised with its traceback, pickled to bytes in the child.
+
+    The executor's thread in the parent then unpickles only a bytes object: unpickling the result itself
+    would import the modules of its classes on that thread, and a child forked meanwhile by the main thread
+    inherits the lock of a module being imported and waits for it forever when it imports that module
+    (seen: a report's reliability process hung importing ``stats.cfa_result`` while the confirmatory
+    models' result was unpickled). Unpickled by the caller, the imports happen on the thread that forks.
+    """
+    import pickle
+
+    try:
+        return True, pickle.dumps(_FORKED_WORK[0](), protocol=pickle.HIGHEST_PROTOCOL)
+    except BaseException as error:
+        import traceback
+
+        text = "".join(traceback.format_exception(type(error), error, error.__traceback__))
+        try:
+            return False, pickle.dumps((error, text), protocol=pickle.HIGHEST_PROTOCOL)
+        except Exception:  # an error that cannot be pickled is named by its text
+            return False, pickle.dumps((RuntimeError(f"{type(error).__name__}: {error}"), text))
 
 
 def start_in_process(work: Callable[[], Result]) -> Callable[[], Result]:
@@ -69,7 +92,8 @@ def start_in_process(work: Callable[[], Result]) -> Callable[[], Result]:
 
     For a step that is pure-Python work (so threads would take turns under the interpreter lock) and
     independent of what the caller does meanwhile. The child inherits everything by the fork and sends
-    back only the pickled result; an exception it raises is raised by the returned function. On one core,
+    back only the pickled result, unpickled by the returned function on the caller's thread (see
+    :func:`_run_forked_work`); an exception it raises is raised by the returned function. On one core,
     or where processes cannot be forked, ``work`` simply runs when the result is asked for.
     """
     import multiprocessing
@@ -91,9 +115,15 @@ def start_in_process(work: Callable[[], Result]) -> Callable[[], Result]:
         _FORKED_WORK.clear()
 
     def result() -> Result:
+        import pickle
+
         try:
-            return cast(Result, future.result())  # what work() returned, pickled back
+            done, payload = future.result()
         finally:
             pool.shutdown()
+        if done:
+            return cast(Result, pickle.loads(payload))
+        error, text = pickle.loads(payload)
+        raise error from ChildTraceback(text)
 
     return result
