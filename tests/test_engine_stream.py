@@ -109,6 +109,34 @@ def test_refused_values_far_down_name_their_global_row_exactly_as_whole(survey):
     assert lenient_whole["reading"]["refused_total"] == 4
 
 
+def test_one_digit_blocks_and_blocks_parsed_as_numbers_read_alike(survey, monkeypatch):
+    # every answer of the scale file is one digit, so the first blocks are read from the cells' bytes; a
+    # two-digit code and a padded number further down send the later blocks to the 16-bit parse. The
+    # reference is the whole-file route (pandas and pyarrow's whole-file parse), which has no block.
+    from scalewright import read_codes
+
+    calls = {"digits": 0, "numbers": 0}
+    for name, key in (("convert_digit_codes", "digits"), ("convert_codes", "numbers")):
+        original = getattr(read_codes, name)
+
+        def counted(*args, original=original, key=key, **options):
+            calls[key] += 1
+            return original(*args, **options)
+
+        monkeypatch.setattr(blocks, name, counted)
+    data, scales = survey
+    _with_cells(data, {(40, 3): "7", (61, 4): "0", (1900, 5): "99", (2300, 6): " 3"})
+    strict = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--block-size", SMALL_BLOCK)
+              for engine in ("memory", "stream")]
+    assert strict[0][0] == strict[1][0] == 4
+    assert strict[0][2] == strict[1][2]
+    assert calls["digits"]
+    assert calls["numbers"]
+    whole, streamed = both_routes("reliability", data, scales, "--lenient", "--by", "shift")
+    assert streamed == whole
+    assert whole["reading"]["refused_total"] == 3
+
+
 def test_answer_texts_and_decimals_take_the_text_route_or_the_whole_file(survey):
     data, scales = survey
     _with_cells(data, {(300, 5): "Agree", (2100, 6): " strongly DISAGREE "})

@@ -16,7 +16,14 @@ from scalewright import data as data_module
 from scalewright.answer_codes import MISSING
 from scalewright.data import read_responses
 from scalewright.errors import DataError
-from scalewright.read_codes import code_table, convert_codes, fits
+from scalewright.read_codes import (
+    code_table,
+    convert_codes,
+    convert_digit_codes,
+    fits,
+    holds_one_digit_cells,
+    one_digit_format,
+)
 from scalewright.spec import load_spec
 from scalewright.spec_model import ResponseFormat
 
@@ -186,6 +193,44 @@ def test_convert_codes_reads_every_16_bit_number_as_the_rules_say(low, span, val
     assert converted.blanks == sum(v is None for v in values)
     assert converted.missing_codes == sum(code)
     assert np.flatnonzero(converted.bad).tolist() == [i for i, r in enumerate(refused) if r]
+
+
+@settings(max_examples=80, deadline=None)
+@given(low=st.integers(0, 9), span=st.integers(1, 9), missing=st.lists(st.integers(0, 9), max_size=3),
+       values=st.lists(st.one_of(st.none(), st.integers(0, 9)), max_size=40), offset=st.integers(0, 3))
+def test_one_digit_cells_read_as_their_16_bit_parse(low, span, missing, values, offset):
+    # Reference: convert_codes on the same numbers as 16-bit integers (itself checked value by value above):
+    # a one-digit cell is its own number, so both must give the same codes, counts, refusals and raw numbers
+    import pyarrow as pa
+
+    fmt = ResponseFormat(min=low, max=min(low + span, 9), missing_codes=tuple(missing))
+    as_text = pa.array([b"0"] * offset + [None if v is None else str(v).encode() for v in values],
+                       pa.binary()).slice(offset)
+    as_numbers = pa.array([0] * offset + values, pa.int16()).slice(offset)
+    assert holds_one_digit_cells(as_text)
+    out_text, out_numbers = np.empty(len(values), dtype=np.uint8), np.empty(len(values), dtype=np.uint8)
+    text = convert_digit_codes(as_text, fmt, out=out_text)
+    numbers = convert_codes(as_numbers, fmt, out=out_numbers)
+    assert out_text.tolist() == out_numbers.tolist()
+    assert (text.blanks, text.missing_codes) == (numbers.blanks, numbers.missing_codes)
+    refused = np.flatnonzero(numbers.bad).tolist()
+    assert np.flatnonzero(text.bad).tolist() == refused
+    assert text.raw[refused].tolist() == numbers.raw[refused].tolist()
+
+
+@pytest.mark.parametrize(("cells", "holds"), [
+    ([b"1", None, b"5", b"0", b"9"], True), ([None, None], True), ([], True),
+    ([b"1", b"10"], False), ([b"1", b" 3"], False), ([b"-1"], False), ([b"a"], False), ([b" "], False),
+    ([b"3", b"\xc3"], False), ([b"/"], False), ([b":"], False)])
+def test_only_one_digit_cells_take_the_digit_route(cells, holds):
+    import pyarrow as pa
+
+    column = pa.array([b"22", *cells, b"x"], pa.binary())
+    assert holds_one_digit_cells(column.slice(1, len(cells))) is holds  # the cells beside the slice do not count
+    assert one_digit_format(ResponseFormat(min=1, max=5, missing_codes=(9, 99)))
+    assert one_digit_format(ResponseFormat(min=0, max=9))
+    assert not one_digit_format(ResponseFormat(min=0, max=10))
+    assert not one_digit_format(ResponseFormat(min=-2, max=2))
 
 
 def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_file, spec, monkeypatch):

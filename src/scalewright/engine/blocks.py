@@ -2,7 +2,8 @@
 
 CSV is parsed by pyarrow's streaming reader (blocks of bytes, several threads) with the item columns as
 16-bit integers and each block converted by :func:`scalewright.read_codes.convert_codes`, the quick
-route of the whole-file reader. A block that route cannot take (an answer text, a decimal, a number
+route of the whole-file reader (where every answer is one digit, the item cells' bytes are first read
+straight into codes: :func:`scalewright.read_codes.convert_digit_codes`). A block that route cannot take (an answer text, a decimal, a number
 beyond 16 bits) restarts the file with the item columns as text, converted by
 :func:`scalewright.data.convert_item`, the general route. Parquet is read a row group batch at a time
 with its own types, by the general route. Whatever neither can read block by block (see
@@ -22,7 +23,14 @@ from ..answer_codes import MISSING, ItemAnswers
 from ..data import SHOW_FIRST, convert_item
 from ..data_columns import ids_as_text
 from ..data_file import delimited_header
-from ..read_codes import BLANK_TEXTS, convert_codes, fits
+from ..read_codes import (
+    BLANK_TEXTS,
+    convert_codes,
+    convert_digit_codes,
+    fits,
+    holds_one_digit_cells,
+    one_digit_format,
+)
 from ..text_cells import clear_missing_texts
 from .id_hash import text_id_hashes
 from .other_columns import ArrowColumns, count_missing_cells, is_text
@@ -102,13 +110,14 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
     if missing:
         raise CannotStream(f"column {missing[0]!r} is absent")  # the whole-file reader names every one
     whole_numbers = all(fits(spec.response_for(name)) for name in spec.items)
+    one_digit = all(one_digit_format(spec.response_for(name)) for name in spec.items)
     # the quick way (items as 16-bit integers) parses blocks side by side when the rows can be cut at line
     # feeds (engine/parallel_csv.py), else one block at a time; the text ways read one block at a time
     ways = [(True, False, can_cut(path))] if whole_numbers else []
     ways += [(False, False, False), (False, True, False)]
     return [lambda as_int16=as_int16, quote_aware=quote_aware, parallel=parallel: _csv_batches(
                 path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16, quote_aware=quote_aware,
-                parallel=parallel)
+                parallel=parallel, digits=one_digit)
             for as_int16, quote_aware, parallel in ways]
 
 
@@ -132,10 +141,15 @@ def retry_errors() -> tuple[type, ...]:
 
 
 def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence[str], *, block_bytes: int,
-                 as_int16: bool, quote_aware: bool, parallel: bool = False) -> Iterable[Any]:
+                 as_int16: bool, quote_aware: bool, parallel: bool = False, digits: bool = False) -> Iterable[Any]:
     """Arrow record batches of the file (item columns int16 or text, the rest text), each checked by
     :func:`_check_batch`. The parallel reader is handed back whole, so that :func:`in_file_order` can parse
-    and work each block on one thread (:meth:`~scalewright.engine.parallel_csv.ParallelBlocks.in_order`)."""
+    and work each block on one thread (:meth:`~scalewright.engine.parallel_csv.ParallelBlocks.in_order`).
+
+    ``digits`` (every answer one digit): the parallel reader first parses each block with the item columns
+    as bytes and keeps it when every item cell is one digit or blank (read as its 16-bit parse would read
+    it, see :func:`~scalewright.read_codes.convert_digit_codes`); from the first block holding another
+    cell (a code 99, a stray 10, a text), blocks are parsed with the items as 16-bit numbers."""
     import pyarrow as pa
     import pyarrow.csv as pacsv
 
@@ -148,16 +162,29 @@ def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence
         from ..concurrency import worker_count
         from .parallel_csv import ParallelBlocks
 
+        quicker = None
+        if as_int16 and digits:
+            as_bytes = {raw: (pa.binary() if column_type == pa.int16() else column_type) for raw, column_type in types.items()}
+            quicker = (pacsv.ConvertOptions(column_types=as_bytes, null_values=list(BLANK_TEXTS), strings_can_be_null=True),
+                       _one_digit_items)
         # a block_size given on the command line is kept as the streaming reader's; the parallel reader
         # takes its own larger blocks (their count in memory is bounded by the threads, not by a queue)
         return ParallelBlocks(path, raw_names, parse_options=parse_options, convert_options=convert_options,
                               workers=worker_count(), block_bytes=block_bytes if block_bytes != BLOCK_BYTES else None,
-                              check=check)
+                              check=check, quicker=quicker)
     reader = pacsv.open_csv(path, read_options=pacsv.ReadOptions(block_size=block_bytes, use_threads=True),
                             parse_options=parse_options, convert_options=convert_options)
     if len(reader.schema.names) != len(raw_names):
         raise CannotStream("the parser saw the header differently")
     return _checked(reader, check)
+
+
+def _one_digit_items(table: Any) -> bool:
+    """Whether every item column of a table parsed with the items as bytes holds one-digit cells only."""
+    import pyarrow as pa
+
+    return all(holds_one_digit_cells(chunk) for column, column_type in zip(table.columns, table.schema.types, strict=True)
+               if column_type == pa.binary() for chunk in column.chunks)
 
 
 def _checked(reader: Iterable[Any], check: Callable[[Any], None]) -> Iterator[Any]:
@@ -231,6 +258,9 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
         fmt = spec.response_for(name)
         if column.type == pa.int16():
             converted = convert_codes(column, fmt, out=codes[:, j])
+            raw = converted.raw
+        elif column.type == pa.binary():  # one-digit cells (see _csv_batches)
+            converted = convert_digit_codes(column, fmt, out=codes[:, j])
             raw = converted.raw
         else:
             if values is None:

@@ -82,11 +82,16 @@ def parallel_batches(path: Path, raw_names: Sequence[str], *, parse_options: Any
 class ParallelBlocks:
     """The file's blocks parsed on ``workers`` threads. Iterating gives the parsed record batches in file
     order; :meth:`in_order` parses and works each block on the same thread. ``check(batch)`` is called on
-    every parsed batch (on the pool's thread) and may raise to stop the reading."""
+    every parsed batch (on the pool's thread) and may raise to stop the reading.
+
+    ``quicker`` is (other convert options, ``holds(table)``): each block is parsed with those options
+    first and kept when ``holds`` accepts the table; from the first block it refuses on, blocks are
+    parsed with ``convert_options``."""
 
     def __init__(self, path: Path, raw_names: Sequence[str], *, parse_options: Any, convert_options: Any,
                  block_bytes: int | None = None, workers: int = 2,
-                 check: Callable[[Any], None] | None = None) -> None:
+                 check: Callable[[Any], None] | None = None,
+                 quicker: tuple[Any, Callable[[Any], bool]] | None = None) -> None:
         import pyarrow.csv as pacsv
 
         self.path = path
@@ -94,15 +99,28 @@ class ParallelBlocks:
         self.workers = workers
         self._check = check
         self._parse_options, self._convert_options = parse_options, convert_options
+        self._quicker = quicker
         self._read_options = pacsv.ReadOptions(column_names=list(raw_names), use_threads=False,
                                                block_size=max(self.block_bytes * 2, 1 << 20))
 
-    def _batches(self, data: bytes | memoryview) -> list[Any]:
+    def _parse(self, data: bytes | memoryview, convert_options: Any) -> Any:
         import pyarrow as pa
         import pyarrow.csv as pacsv
 
-        table = pacsv.read_csv(pa.py_buffer(data), read_options=self._read_options, parse_options=self._parse_options,
-                               convert_options=self._convert_options).combine_chunks()
+        return pacsv.read_csv(pa.py_buffer(data), read_options=self._read_options, parse_options=self._parse_options,
+                              convert_options=convert_options).combine_chunks()
+
+    def _batches(self, data: bytes | memoryview) -> list[Any]:
+        table = None
+        if self._quicker is not None:
+            convert_options, holds = self._quicker
+            table = self._parse(data, convert_options)
+            if not holds(table):
+                # this block and every later one parsed with the usual options: a file holding one such
+                # cell tends to hold more, and a block parsed twice costs more than the quicker parse saves
+                self._quicker, table = None, None
+        if table is None:
+            table = self._parse(data, self._convert_options)
         batches = table.to_batches()
         if self._check is not None:
             for batch in batches:
