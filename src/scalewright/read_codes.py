@@ -285,25 +285,36 @@ def convert_digit_codes(array, fmt: ResponseFormat, *, out: np.ndarray) -> Conve
     (uint8), read exactly as :func:`convert_codes` reads the same column parsed as 16-bit numbers.
 
     Hand-written beside :func:`convert_codes` because pyarrow's tokenizer is a quarter quicker when it
-    hands on the cells' bytes than when it also turns them into numbers, and a byte is its own lookup
-    index. ``raw`` is filled only when some row is refused (it is read only for those rows' messages).
+    hands on the cells' bytes than when it also turns them into numbers, and a digit's byte less the
+    lowest answer's is its code. ``raw`` is filled only when some row is refused (it is read only for
+    those rows' messages).
     """
     blanks = int(array.null_count)
     filled = len(array) - blanks
     first = int(np.frombuffer(array.buffers()[1], dtype=np.int32, count=1, offset=array.offset * 4)[0])
     digits = (np.frombuffer(array.buffers()[2], dtype=np.uint8, count=filled, offset=first) if filled
               else np.zeros(0, dtype=np.uint8))
-    table = digit_code_table(fmt)
-    if blanks:
-        answered = _validity(array)
-        out.fill(MISSING)
-        out[answered] = np.take(table, digits)
-    else:
-        np.take(table, digits, out=out)
+    answered = _validity(array) if blanks else None
+
+    def place(values: np.ndarray) -> None:
+        if answered is None:
+            out[:] = values
+        else:
+            out.fill(MISSING)
+            out[answered] = values
+
+    # the answers' digits become 0..span by one subtraction (wrapping, so every other digit lands above
+    # span); the table, which tells "no answer" codes from refused digits, only for a column holding one
+    # (and for a format with a "no answer" code inside its range, as in convert_codes)
+    looked_up = any(fmt.min <= code <= fmt.max for code in fmt.missing_codes)
+    place(np.take(digit_code_table(fmt), digits) if looked_up
+          else np.subtract(digits, np.uint8(ASCII_DIGITS[0] + int(fmt.min))))
     bad = np.zeros(0, dtype=bool)
     missing_codes = 0
     raw = np.zeros(0, dtype=np.int16)
     if np.count_nonzero(out > int(fmt.max) - int(fmt.min)) > blanks:  # beside the blanks, a code or a bad number
+        if not looked_up:
+            place(np.take(digit_code_table(fmt), digits))
         is_code = out == NO_ANSWER_CODE
         missing_codes = int(np.count_nonzero(is_code))
         out[is_code] = MISSING
@@ -312,10 +323,10 @@ def convert_digit_codes(array, fmt: ResponseFormat, *, out: np.ndarray) -> Conve
         if bad.any():
             raw = np.zeros(len(array), dtype=np.int16)
             numbers = digits.astype(np.int16) - ASCII_DIGITS[0]
-            if blanks:
-                raw[answered] = numbers
-            else:
+            if answered is None:
                 raw[:] = numbers
+            else:
+                raw[answered] = numbers
     return ConvertedCodes(bad=bad, raw=raw, missing_codes=missing_codes, blanks=blanks)
 
 
@@ -327,7 +338,6 @@ def _validity(array) -> np.ndarray:
 
 def _mark_blanks(array, out: np.ndarray) -> None:
     """Set ``out`` to MISSING where the Arrow array has no value, straight from its validity bitmap."""
-    bits = np.unpackbits(np.frombuffer(array.buffers()[0], dtype=np.uint8), bitorder="little")
-    valid = bits[array.offset: array.offset + len(array)]
+    valid = _validity(array).view(np.uint8)  # a fresh array: changed in place below
     np.subtract(valid, 1, out=valid)  # 1 (a value) -> 0, 0 (blank) -> 255 in unsigned bytes
     np.bitwise_or(out, valid, out=out)

@@ -123,4 +123,26 @@ def main(argv: list[str] | None = None) -> int:
 
 
 def run() -> None:  # pragma: no cover - console script shim
-    sys.exit(main())
+    leave(main())
+
+
+def leave(code: int) -> None:
+    """End the process with ``code``, skipping the interpreter's teardown when nothing is left to finish.
+
+    Unloading numpy, scipy and pyarrow at exit costs 0.05 - 0.1 s, a twentieth of a streamed
+    `reliability` of a million rows. By the time a command returns, every file it wrote is closed and
+    every temporary folder removed (all by context managers), so the process may end at once once the
+    standard streams are flushed; while a thread or child process is still running, or a stream cannot
+    be flushed, the usual exit runs instead.
+    """
+    import threading
+
+    children = sys.modules.get("multiprocessing")
+    if threading.active_count() > 1 or (children is not None and children.active_children()):
+        sys.exit(code)
+    try:
+        sys.stdout.flush()
+        sys.stderr.flush()
+    except (OSError, ValueError):
+        sys.exit(code)
+    os._exit(code)
