@@ -47,6 +47,19 @@ def survey_rows(n: int, seed: int = 11) -> list[list[str]]:
 HEADER = ["staff_id", "shift", "site", *ITEMS]
 
 
+def with_weights(rows: list[list[str]], *, zero_share: float, changes: dict[int, str] | None = None) -> list[list[str]]:
+    """The rows with a last cell of survey weights (gamma-distributed, rounded to 3 decimals, ``zero_share``
+    of them 0), the weights of the rows in ``changes`` replaced by its texts (the rows are changed in place)."""
+    rng = np.random.default_rng(3)
+    weights = np.round(rng.gamma(2.0, 0.5, len(rows)), 3)
+    weights[rng.random(len(rows)) < zero_share] = 0
+    for row, weight in zip(rows, weights, strict=True):
+        row.append(f"{weight:g}")
+    for index, value in (changes or {}).items():
+        rows[index][-1] = value
+    return rows
+
+
 def write_csv(path: Path, rows: list[list[str]], header: list[str] = HEADER) -> Path:
     path.write_text("\n".join(",".join(row) for row in [header, *rows]) + "\n", encoding="utf-8")
     return path

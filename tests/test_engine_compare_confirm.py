@@ -9,7 +9,7 @@ from pathlib import Path
 import pytest
 
 from .engine_data import SCALES, assert_same_json, survey_rows, write_csv, write_dataset
-from .test_engine_stream import _with_cells, assert_same_numbers, both_routes, run
+from .test_engine_stream import _with_cells, assert_same_numbers, both_routes, memory_and_dask, run
 
 
 @pytest.fixture
@@ -83,13 +83,7 @@ def test_bad_value_late_in_the_file_is_named_as_whole(survey):
                                                   ("confirm", ("--ordinal",))])
 def test_dask_dataset_equals_the_in_memory_run(cluster, tmp_path, command, options):
     whole_file, folder, scales = write_dataset(tmp_path, survey_rows(1200, seed=5), parts=3, row_group_size=150)
-    code_m, out_m, err_m = run(command, str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory",
-                               *options)
-    code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, *options)
-    assert code_m == 0, err_m
-    assert code_d == 0, err_d
-    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    in_memory, on_dask = memory_and_dask(command, whole_file, folder, scales, cluster.scheduler_address, *options)
     assert on_dask.pop("engine") == {"name": "dask", "scheduler": cluster.scheduler_address, "partitions": 3}
     in_memory.pop("input")
     on_dask.pop("input")
@@ -152,20 +146,11 @@ def test_an_unlisted_group_code_late_in_the_file_is_named_as_whole(tmp_path):
 
 def _weighted_survey(tmp_path: Path, changes: dict[int, str] | None = None) -> tuple[Path, Path]:
     """The survey with a column of survey weights (gamma-distributed, 2% zero), some cells changed."""
-    import numpy as np
-
-    from .engine_data import HEADER
+    from .engine_data import HEADER, with_weights
 
     scales = tmp_path / "scales.yaml"
     scales.write_text(SCALES, encoding="utf-8")
-    rows = survey_rows(1500)
-    rng = np.random.default_rng(3)
-    weights = np.round(rng.gamma(2.0, 0.5, len(rows)), 3)
-    weights[rng.random(len(rows)) < 0.02] = 0
-    for row, weight in zip(rows, weights, strict=True):
-        row.append(f"{weight:g}")
-    for index, value in (changes or {}).items():
-        rows[index][-1] = value
+    rows = with_weights(survey_rows(1500), zero_share=0.02, changes=changes)
     return write_csv(tmp_path / "weighted.csv", rows, header=[*HEADER, "wt"]), scales
 
 
@@ -219,13 +204,8 @@ def weighted_runs_in_memory_and_on_dask(cluster, tmp_path: Path, command: str, *
     folder.mkdir()
     for part in range(3):
         pq.write_table(table.slice(part * 500, 500), folder / f"part-{part}.parquet", row_group_size=200)
-    code_m, out_m, err_m = run(command, str(data), "-s", str(scales), "--format", "json", "--engine", "memory",
-                               "--weight", "wt", *options)
-    code_d, out_d, err_d = run(command, str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, "--weight", "wt", *options)
-    assert code_m == 0, err_m
-    assert code_d == 0, err_d
-    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    in_memory, on_dask = memory_and_dask(command, data, folder, scales, cluster.scheduler_address, "--weight", "wt",
+                                         *options)
     on_dask.pop("engine")
     in_memory.pop("input")
     on_dask.pop("input")

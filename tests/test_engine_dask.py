@@ -2,25 +2,15 @@
 the in-memory run on the same rows, apart from provenance (input digests, the engine block)."""
 from __future__ import annotations
 
-import io
 import json
-from contextlib import redirect_stderr, redirect_stdout
 from pathlib import Path
 
 import pytest
 
-from scalewright.cli import main
-
 from .engine_data import survey_rows, write_csv, write_dataset
+from .test_engine_stream import memory_and_dask, run
 
 pytest.importorskip("distributed")
-
-
-def run(*args: str) -> tuple[int, str, str]:
-    out, err = io.StringIO(), io.StringIO()
-    with redirect_stdout(out), redirect_stderr(err):
-        code = main(list(args))
-    return code, out.getvalue(), err.getvalue()
 
 
 def without_provenance(document: dict) -> dict:
@@ -39,13 +29,7 @@ def dataset(tmp_path: Path) -> tuple[Path, Path, Path]:
 @pytest.mark.parametrize("options", [("--by", "shift"), ("--pairwise", "--by", "site")])
 def test_dask_dataset_equals_the_in_memory_run(cluster, dataset, options):
     whole_file, folder, scales = dataset
-    code_m, out_m, err_m = run("reliability", str(whole_file), "-s", str(scales), "--format", "json",
-                               "--engine", "memory", *options)
-    code_d, out_d, err_d = run("reliability", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, *options)
-    assert code_m == 0, err_m
-    assert code_d == 0, err_d
-    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    in_memory, on_dask = memory_and_dask("reliability", whole_file, folder, scales, cluster.scheduler_address, *options)
     assert on_dask["engine"] == {"name": "dask", "scheduler": cluster.scheduler_address, "partitions": 4}
     assert without_provenance(on_dask) == without_provenance(in_memory)
 

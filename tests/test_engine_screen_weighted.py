@@ -13,8 +13,7 @@ import io
 import json
 from pathlib import Path
 
-import numpy as np
-
+from .engine_data import with_weights
 from .test_engine_screen import HEADER, SCALES, _rows, _write, assert_same
 from .test_engine_stream import SMALL_BLOCK, run
 
@@ -26,14 +25,8 @@ def _weighted_survey(folder: Path, changes: dict[int, str] | None = None) -> tup
     scales = folder / "scales.yaml"
     scales.write_text(SCALES, encoding="utf-8")
     rows, _ = _rows(N_ROWS)
-    rng = np.random.default_rng(3)
-    weights = np.round(rng.gamma(2.0, 0.5, len(rows)), 3)
-    weights[rng.random(len(rows)) < 0.03] = 0
-    for row, weight in zip(rows, weights, strict=True):
-        row.append(f"{weight:g}")
-    for index, value in (changes or {}).items():
-        rows[index][-1] = value
-    return _write(folder / "weighted.csv", rows, header=[*HEADER, "wt"]), scales
+    return _write(folder / "weighted.csv", with_weights(rows, zero_share=0.03, changes=changes),
+                  header=[*HEADER, "wt"]), scales
 
 
 def _both(data: Path, scales: Path, *options: str) -> tuple[dict, dict]:

@@ -45,6 +45,19 @@ def both_routes_with_texts(command: str, data: Path, scales: Path, *options: str
     return json.loads(out_m), streamed, out_m, out_s
 
 
+def memory_and_dask(command: str, whole_file: Path, dataset: Path, scales: Path, scheduler: str,
+                    *options: str) -> tuple[dict, dict]:
+    """The JSON of the whole-file route on ``whole_file`` and of the Dask route (``scheduler``) on
+    ``dataset``, the same rows as a dataset."""
+    code_m, out_m, err_m = run(command, str(whole_file), "-s", str(scales), "--format", "json", "--engine", "memory",
+                               *options)
+    code_d, out_d, err_d = run(command, str(dataset), "-s", str(scales), "--format", "json", "--engine", "dask",
+                               "--scheduler", scheduler, *options)
+    assert code_m == 0, err_m
+    assert code_d == 0, err_d
+    return json.loads(out_m), json.loads(out_d)
+
+
 @pytest.fixture
 def survey(tmp_path: Path) -> tuple[Path, Path]:
     scales = tmp_path / "scales.yaml"

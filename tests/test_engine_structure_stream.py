@@ -11,7 +11,7 @@ import pytest
 
 from .engine_data import ITEMS, SCALES, survey_rows, write_csv, write_dataset
 from .test_engine_compare_confirm import _weighted_survey, weighted_runs_in_memory_and_on_dask
-from .test_engine_stream import assert_same_numbers, both_routes, run
+from .test_engine_stream import assert_same_numbers, both_routes, memory_and_dask, run
 
 
 @pytest.fixture
@@ -134,13 +134,7 @@ def test_weights_named_in_the_scale_file_stream_structure_and_confirm(tmp_path):
 @pytest.mark.parametrize("options", [("--missing", "em"), ("--ordinal", "--missing", "pairwise")])
 def test_structure_on_dask_equals_the_in_memory_run(cluster, tmp_path, options):
     whole_file, folder, scales = write_dataset(tmp_path, survey_rows(1200, seed=5), parts=3, row_group_size=150)
-    code_m, out_m, err_m = run("structure", str(whole_file), "-s", str(scales), "--format", "json",
-                               "--engine", "memory", *options)
-    code_d, out_d, err_d = run("structure", str(folder), "-s", str(scales), "--format", "json", "--engine", "dask",
-                               "--scheduler", cluster.scheduler_address, *options)
-    assert code_m == 0, err_m
-    assert code_d == 0, err_d
-    in_memory, on_dask = json.loads(out_m), json.loads(out_d)
+    in_memory, on_dask = memory_and_dask("structure", whole_file, folder, scales, cluster.scheduler_address, *options)
     assert on_dask.pop("engine")["partitions"] == 3
     in_memory.pop("input")
     on_dask.pop("input")
