@@ -22,13 +22,15 @@ from typing import Any
 
 import numpy as np
 
+from .spill_buffer import BufferedSpill
+
 #: bucket files (by the top 8 bits of the hash)
 BUCKETS = 256
 #: hashes held in memory before they are written to their buckets (8 bytes each: 8 MiB)
 BUFFER_HASHES = 1 << 20
 
 
-class IdHashSpill:
+class IdHashSpill(BufferedSpill):
     """Collects id hashes block by block; :meth:`has_duplicates` says whether any hash came twice.
 
     Use as a context manager (the bucket files are removed on leaving); ``folder`` is where the temporary
@@ -36,34 +38,11 @@ class IdHashSpill:
     """
 
     def __init__(self, folder: str | Path | None = None, *, buffer_hashes: int = BUFFER_HASHES) -> None:
-        self._folder = folder
-        self._buffer_hashes = buffer_hashes
-        self._pending: list[np.ndarray] = []
-        self._pending_size = 0
+        super().__init__(folder, buffer_size=buffer_hashes)
         self._spill: Path | None = None
-        self.count = 0
-
-    def __enter__(self) -> IdHashSpill:
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
-
-    def close(self) -> None:
-        if self._spill is not None:
-            shutil.rmtree(self._spill, ignore_errors=True)
-            self._spill = None
-        self._pending, self._pending_size = [], 0
 
     def add(self, hashes: np.ndarray) -> None:
-        hashes = np.asarray(hashes, dtype=np.uint64)
-        if not hashes.size:
-            return
-        self._pending.append(hashes)
-        self._pending_size += hashes.size
-        self.count += hashes.size
-        if self._pending_size >= self._buffer_hashes:
-            self._write()
+        self._hold(np.asarray(hashes, dtype=np.uint64))
 
     def take_ids(self, reading: Any) -> Any:
         """Spill the id hashes a block's reading counts hold and return the counts without them (a
@@ -72,11 +51,9 @@ class IdHashSpill:
             self.add(hashes)
         return replace(reading, id_hashes=())
 
-    def _write(self) -> None:
+    def _write_out(self, joined: np.ndarray) -> None:
         if self._spill is None:
             self._spill = Path(tempfile.mkdtemp(prefix="scalewright-ids-", dir=self._folder))
-        joined = np.concatenate(self._pending)
-        self._pending, self._pending_size = [], 0
         bucket = (joined >> np.uint64(56)).astype(np.intp)
         order = np.argsort(bucket, kind="stable")
         joined, bucket = joined[order], bucket[order]
@@ -85,24 +62,22 @@ class IdHashSpill:
             with open(self._spill / f"{index:03d}.u64", "ab") as handle:
                 joined[bounds[index]:bounds[index + 1]].tofile(handle)
 
+    def _remove(self) -> None:
+        if self._spill is not None:
+            shutil.rmtree(self._spill, ignore_errors=True)
+            self._spill = None
+
     def has_duplicates(self) -> bool:
         """Whether two of the hashes added are equal (every bucket checked, one at a time)."""
-        if self._spill is None:  # everything is still in memory
-            if not self._pending:
-                return False
-            return _repeats(np.concatenate(self._pending))
-        if self._pending:
-            self._write()
-        return any(_repeats(np.fromfile(path, dtype=np.uint64)) for path in sorted(self._spill.iterdir()))
-
+        return bool(self.repeated().size)
 
     def repeated(self) -> np.ndarray:
         """The hashes added more than once (sorted, each once): the candidates a second look confirms."""
-        if self._spill is None:
-            parts = [_repeated(np.concatenate(self._pending))] if self._pending else []
+        if self._spill is None:  # everything is still in memory
+            held = self._held()
+            parts = [_repeated(held)] if held is not None else []
         else:
-            if self._pending:
-                self._write()
+            self._flush()
             parts = [_repeated(np.fromfile(path, dtype=np.uint64)) for path in sorted(self._spill.iterdir())]
         return np.concatenate(parts) if parts else np.zeros(0, dtype=np.uint64)
 
@@ -110,8 +85,3 @@ class IdHashSpill:
 def _repeated(hashes: np.ndarray) -> np.ndarray:
     hashes.sort(kind="stable")  # a merge of the blocks' sorted runs (the blocks sort their own hashes)
     return np.unique(hashes[1:][hashes[1:] == hashes[:-1]])
-
-
-def _repeats(hashes: np.ndarray) -> bool:
-    hashes.sort(kind="stable")  # a merge of the blocks' sorted runs (the blocks sort their own hashes)
-    return bool(np.any(hashes[1:] == hashes[:-1]))

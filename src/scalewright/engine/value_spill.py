@@ -18,6 +18,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .spill_buffer import BufferedSpill
+
 #: values held in memory before they are written out (8 bytes each: 2 MiB), and the chunk read per pass
 BUFFER_VALUES = 262_144
 
@@ -29,62 +31,43 @@ def _keys(values: np.ndarray) -> np.ndarray:
     return np.where(negative, ~bits, bits | np.uint64(1 << 63))
 
 
-class ValueSpill:
+class ValueSpill(BufferedSpill):
     """Finite float64 values collected block by block; :meth:`median` is exact (NumPy's ``np.median``).
 
     Use as a context manager (the file is removed on leaving).
     """
 
     def __init__(self, folder: str | Path | None = None, *, buffer_values: int = BUFFER_VALUES) -> None:
-        self._folder = folder
-        self._buffer_values = buffer_values
-        self._pending: list[np.ndarray] = []
-        self._pending_size = 0
+        super().__init__(folder, buffer_size=buffer_values)
         self._path: Path | None = None
-        self.count = 0
-
-    def __enter__(self) -> ValueSpill:
-        return self
-
-    def __exit__(self, *exc: object) -> None:
-        self.close()
-
-    def close(self) -> None:
-        if self._path is not None:
-            self._path.unlink(missing_ok=True)
-            self._path = None
-        self._pending, self._pending_size = [], 0
 
     def add(self, values: np.ndarray) -> None:
         values = np.asarray(values, dtype=np.float64).reshape(-1)
-        values = values[np.isfinite(values)]
-        if not values.size:
-            return
-        self._pending.append(values)
-        self._pending_size += values.size
-        self.count += values.size
-        if self._pending_size >= self._buffer_values:
-            self._write()
+        self._hold(values[np.isfinite(values)])
 
-    def _write(self) -> None:
+    def _write_out(self, values: np.ndarray) -> None:
         if self._path is None:
-            handle, name = tempfile.mkstemp(prefix="scalewright-values-", suffix=".f64", dir=self._folder)
-            os.close(handle)
+            descriptor, name = tempfile.mkstemp(prefix="scalewright-values-", suffix=".f64", dir=self._folder)
+            os.close(descriptor)
             self._path = Path(name)
         with open(self._path, "ab") as handle:
-            np.concatenate(self._pending).tofile(handle)
-        self._pending, self._pending_size = [], 0
+            values.tofile(handle)
+
+    def _remove(self) -> None:
+        if self._path is not None:
+            self._path.unlink(missing_ok=True)
+            self._path = None
 
     def _chunks(self):
         if self._path is None:
-            if self._pending:
-                yield np.concatenate(self._pending)
+            held = self._held()
+            if held is not None:
+                yield held
             return
-        if self._pending:
-            self._write()
+        self._flush()
         with open(self._path, "rb") as handle:
             while True:
-                chunk = np.fromfile(handle, dtype=np.float64, count=self._buffer_values)
+                chunk = np.fromfile(handle, dtype=np.float64, count=self._buffer_size)
                 if not chunk.size:
                     return
                 yield chunk
@@ -99,7 +82,7 @@ class ValueSpill:
             keys = _keys(chunk)
             return keys if bits == 0 else keys[(keys >> np.uint64(64 - bits)) == prefix]
 
-        while remaining > self._buffer_values and bits < 64:
+        while remaining > self._buffer_size and bits < 64:
             counts = np.zeros(65536, dtype=np.int64)
             for chunk in self._chunks():
                 digits = (matching(chunk) >> np.uint64(48 - bits)) & np.uint64(0xFFFF)
