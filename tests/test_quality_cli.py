@@ -97,12 +97,15 @@ def test_screen_bad_options_and_columns(tmp_path, capsys):
 
 def test_present_tables_have_raw_values(tmp_path):
     from scalewright.present.quality import screen_tables
+    from scalewright.stats.screen_rules import ScreenThresholds
     from scalewright.stats.screening import screen_respondents
 
     raw = np.random.default_rng(2).integers(1, 6, size=(40, 9)).astype(float)
     raw[3] = 5
     keyed = {"a": raw[:, :3], "b": raw[:, 3:6], "c": raw[:, 6:]}
-    tables = screen_tables(screen_respondents(raw, keyed, ids=[str(i) for i in range(40)]).to_dict())
+    long_runs_on_9 = ScreenThresholds(long_run_min_items=9)  # long runs judged on these 9 items (by default from 10)
+    tables = screen_tables(screen_respondents(raw, keyed, ids=[str(i) for i in range(40)],
+                                              thresholds=long_runs_on_9).to_dict())
     respondents = next(t for t in tables if t.key == "respondents")
     row = next(r for r in respondents.rows if r[0] == "3")
     assert row[2] == 9
@@ -140,6 +143,27 @@ def test_few_items_leave_duplicate_answers_not_checked(tmp_path, capsys):
     doc = json.loads(capsys.readouterr().out)  # 8 items: identical rows that short can be chance
     assert doc["summary"]["counts"]["duplicate-answers"] is None
     assert {"code": "duplicates-not-checked", "flag": "duplicate-answers", "items": 8, "min_items": 10} in doc["notes"]
+
+
+@pytest.mark.parametrize("engine", ["memory", "stream"])
+def test_few_items_leave_long_runs_not_checked_unless_asked(tmp_path, capsys, engine):
+    # on 8 items, attentive respondents give a run of 5 by chance too often (docs/screening.md): by default the
+    # flag is not judged and says so; --long-run-min-items 8 judges it, and the planted straight-liner is flagged
+    data, scales = write_survey(tmp_path)
+    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    base = ["screen", str(data), "--scales", str(scales), "-f", "json", "--engine", engine]
+    assert main(base) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["summary"]["counts"]["long-run"] is None
+    assert "long-run" in doc["summary"]["not_checked"]
+    assert {"code": "long-run-not-checked", "flag": "long-run", "items": 8, "min_items": 10} in doc["notes"]
+    assert not any("long-run" in r["flags"] for r in doc["respondents"])
+    assert doc["thresholds"]["long_run_min_items"] == 10
+    assert main([*base, "--long-run-min-items", "8"]) == 0
+    asked = json.loads(capsys.readouterr().out)
+    assert "long-run" not in asked["summary"]["not_checked"]
+    assert "long-run" in next(r for r in asked["respondents"] if r["id"] == "W000")["flags"]
+    assert asked["summary"]["long_run_items"] == doc["summary"]["long_run_items"] == 5  # 60% of 8, rounded up
 
 
 @pytest.mark.parametrize("unit", ["s", "min"])

@@ -56,13 +56,13 @@ def run_json(capsys, *args) -> dict:
     return json.loads(captured.out)
 
 
-def runs_by_weight(capsys, command: str, data, scales, *weights: str) -> list[dict]:
+def runs_by_weight(capsys, command: str, data, scales, *weights: str, options: tuple[str, ...] = ()) -> list[dict]:
     """The JSON of ``command`` weighted by the scale file's ``w``, by each column of ``weights``, and (last)
-    with the scale file's weight line removed: the unweighted run."""
-    runs = [run_json(capsys, command, data, "--scales", scales)]
-    runs += [run_json(capsys, command, data, "--scales", scales, "--weight", w) for w in weights]
+    with the scale file's weight line removed: the unweighted run (each with ``options``)."""
+    runs = [run_json(capsys, command, data, "--scales", scales, *options)]
+    runs += [run_json(capsys, command, data, "--scales", scales, "--weight", w, *options) for w in weights]
     scales.write_text(TWO_SCALES.replace("weight: w\n", ""))
-    return [*runs, run_json(capsys, command, data, "--scales", scales)]
+    return [*runs, run_json(capsys, command, data, "--scales", scales, *options)]
 
 
 # ----------------------------------------------------------------------------- score --standardize z
@@ -322,7 +322,9 @@ def test_screen_unit_weights_equal_unweighted_scaling_changes_nothing_zero_weigh
     frame.loc[10:12, "wr"] = 0.0
     frame["wr5"] = frame["wr"] * 5
     data, scales = write(tmp_path, frame)
-    ones, varied, scaled, plain = runs_by_weight(capsys, "screen", data, scales, "wr", "wr5")
+    # long runs judged on these 8 items (by default only from 10)
+    ones, varied, scaled, plain = runs_by_weight(capsys, "screen", data, scales, "wr", "wr5",
+                                                 options=("--long-run-min-items", "8"))
     for reference, other in ((plain, ones), (varied, scaled)):
         assert [r["flags"] for r in other["respondents"]] == [r["flags"] for r in reference["respondents"]]
         np.testing.assert_allclose([r["mahalanobis_d2"] for r in other["respondents"]],

@@ -48,13 +48,16 @@ from .screen_dask import screen_engine_options
               show_default=True, help="List 'many-missing' above this share of unanswered items.")
 @click.option("--duplicate-min-items", type=click.IntRange(min=1), default=10, show_default=True,
               help="Flag identical answer rows only when at least this many items are answered.")
+@click.option("--long-run-min-items", type=click.IntRange(min=1), default=10, show_default=True,
+              help="Flag long runs of one answer only on questionnaires of at least this many items.")
 @weight_option
 @input_options
 @screen_engine_options
 @output_options
 def screen(data: Path, scales: Path, duration_column: str | None, duration_unit: str, speed_share: float, flagged_only: bool,
            long_run_share: float, mahalanobis_p: float, mahalanobis_p_weak: float, even_odd_min: float,
-           person_total_min: float, missing_share_max: float, duplicate_min_items: int, lenient: bool,
+           person_total_min: float, missing_share_max: float, duplicate_min_items: int, long_run_min_items: int,
+           lenient: bool,
            exclude: Path | None, engine: str, block_size: int | None, scheduler: str | None, workers: int | None,
            fmt: str | None, out: Path | None, decimals: int) -> None:
     """Flag respondents whose answers look careless or whose records look suspicious.
@@ -81,7 +84,7 @@ def screen(data: Path, scales: Path, duration_column: str | None, duration_unit:
     thresholds = ScreenThresholds(
         long_run_share=long_run_share, mahalanobis_p=mahalanobis_p, mahalanobis_p_weak=mahalanobis_p_weak,
         person_total_min=person_total_min, even_odd_min=even_odd_min, missing_share_max=missing_share_max,
-        speed_share=speed_share, duplicate_min_items=duplicate_min_items)
+        speed_share=speed_share, duplicate_min_items=duplicate_min_items, long_run_min_items=long_run_min_items)
     # survey weights stream: only the Mahalanobis centre, the alphas and the flagged shares are weighted
     route = row_route(engine, data, needs_rows="--exclude" if exclude is not None else None)
     if route == "dask":

@@ -21,6 +21,7 @@ from ..stats.screen_rules import (
     FLAG_DUPLICATE_ANSWERS,
     FLAG_FAR_FROM_SAMPLE,
     FLAG_FAST,
+    FLAG_LONG_RUN,
     FLAG_ORDER,
     FLAG_SOMEWHAT_FAR,
     FLAG_UNEVEN_HALVES,
@@ -96,7 +97,7 @@ def after_first_pass(sums: FirstSums, layout: Layout, options: ScreenOptions, *,
     totals, _ = column_totals(sums.gram, layout)
     weak = _sample_basics(cov, means, counts, sums.answered, n=n, typical_halves=typical_halves,
                           scales_used=sums.scales_used, thresholds=thresholds)
-    run_limit = thresholds.long_run_items(len(layout.order))
+    run_limit = thresholds.run_limit(len(layout.order))
     return FirstFound(n=n, first_centre=first_centre, totals=totals, counts=counts, weak=weak,
                       second=SecondSettings(layout=layout, first_centre=first_centre, candidates=candidates,
                                             thresholds=thresholds, run_limit=run_limit, weight=options.weight))
@@ -171,6 +172,9 @@ def finish_summary(first_sums: FirstSums, first: FirstFound, second: SecondFound
     elif first_sums.no_time:
         notes.append(note("durations-missing", respondents=first_sums.no_time))
     thresholds = options.thresholds
+    if not thresholds.checks_long_runs(p):
+        not_checked.append(FLAG_LONG_RUN)
+        notes.append(note("long-run-not-checked", flag=FLAG_LONG_RUN, items=p, min_items=thresholds.long_run_min_items))
     if p < thresholds.duplicate_min_items:
         not_checked.append(FLAG_DUPLICATE_ANSWERS)
         notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
@@ -259,7 +263,7 @@ def _summary(*, first: FirstFound, second: SecondFound, options: ScreenOptions, 
     median = None if median_duration is None or math.isnan(median_duration) else median_duration
     return ScreenSummary(
         n=first.n, fired_counts=dict(third.fired_counts), together=third.together.copy(), n_flagged=third.n_flagged,
-        alpha_change=alpha, n_items=p, long_run_items=first.second.run_limit, median_duration=median,
+        alpha_change=alpha, n_items=p, long_run_items=options.thresholds.long_run_items(p), median_duration=median,
         duration_unit=options.duration_unit if options.duration_column is not None else None,
         not_checked=not_checked,
         duplicate_rows=tuple(tuple(name for _, name, *_ in group) for group in second.groups),

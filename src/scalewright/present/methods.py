@@ -221,7 +221,11 @@ def thresholds_used(results: Any) -> list[Threshold]:
         t = screen.thresholds
         out += [
             Threshold("Data quality", "long-run: identical answers in a row covering at least this share of items",
-                      f"{100 * t.long_run_share:g}% ({screen.long_run_items} items)", "Meade & Craig (2012)"),
+                      f"{100 * t.long_run_share:g}% ({screen.long_run_items} items)"
+                      if t.checks_long_runs(screen.n_items) else f"{100 * t.long_run_share:g}% (not checked)",
+                      "Meade & Craig (2012)"),
+            Threshold("Data quality", "long-run: judged on questionnaires of at least this many items",
+                      _v(t.long_run_min_items, "int"), "this project's rule (docs/screening.md)"),
             Threshold("Data quality", "far-from-sample: Mahalanobis p below (weak signal below)",
                       f"{_v(t.mahalanobis_p, 'p')} ({_v(t.mahalanobis_p_weak, 'p')})", "Meade & Craig (2012)"),
             Threshold("Data quality", "against-sample (weak): person-total correlation below",

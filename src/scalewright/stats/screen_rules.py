@@ -96,6 +96,7 @@ class ScreenThresholds(ResultMixin):
     """
 
     long_run_share: float = 0.6        # longest identical run covers at least this share of the items
+    long_run_min_items: int = 10       # long runs flag only on questionnaires of at least this many items
     mahalanobis_p: float = 0.001       # strong: chi-square p of D2 below this
     mahalanobis_p_weak: float = 0.05   # weak: chi-square p of D2 below this
     person_total_min: float = 0.15     # weak: person-total r below this
@@ -118,20 +119,34 @@ class ScreenThresholds(ResultMixin):
         if self.mahalanobis_p_weak < self.mahalanobis_p:
             raise UsageError(f"screen threshold mahalanobis_p_weak ({self.mahalanobis_p_weak!r}) must not be below "
                              f"mahalanobis_p ({self.mahalanobis_p!r})")
-        if int(self.duplicate_min_items) != self.duplicate_min_items or self.duplicate_min_items < 1:
-            raise UsageError(f"screen threshold duplicate_min_items must be a whole number >= 1, "
-                             f"got {self.duplicate_min_items!r}")
+        for name in ("duplicate_min_items", "long_run_min_items"):
+            value = getattr(self, name)
+            if int(value) != value or value < 1:
+                raise UsageError(f"screen threshold {name} must be a whole number >= 1, got {value!r}")
 
     def to_dict(self) -> dict[str, Any]:
         """The JSON form: shares in percent with ``_pct`` in the key, p-value cut-offs as ``pvalue``."""
         return {"long_run_pct": 100 * self.long_run_share, "mahalanobis_pvalue": self.mahalanobis_p,
                 "mahalanobis_pvalue_weak": self.mahalanobis_p_weak, "person_total_min": self.person_total_min,
                 "even_odd_min": self.even_odd_min, "missing_pct_max": 100 * self.missing_share_max,
-                "speed_pct": 100 * self.speed_share, "duplicate_min_items": self.duplicate_min_items}
+                "speed_pct": 100 * self.speed_share, "duplicate_min_items": self.duplicate_min_items,
+                "long_run_min_items": self.long_run_min_items}
 
     def long_run_items(self, n_items: int) -> int:
         """The run length that raises ``long-run`` on a questionnaire of ``n_items`` items (at least 2)."""
         return max(2, math.ceil(self.long_run_share * n_items - 1e-9))
+
+    def checks_long_runs(self, n_items: int) -> bool:
+        """Whether ``long-run`` is judged on a questionnaire of ``n_items`` items. On a short one, attentive
+        respondents give long runs by chance: on generated one-factor data (5-point answers, loadings
+        .6 to .85, every item keyed one way) 23 - 41% of them reach 60% of 5 items, 2 - 12% of 10
+        (tests/benchmarks/long_run_chance.py)."""
+        return n_items >= self.long_run_min_items
+
+    def run_limit(self, n_items: int) -> int:
+        """The run length that raises ``long-run``, or ``n_items + 1`` (no row has such a run) when the
+        questionnaire is too short for the flag (:meth:`checks_long_runs`)."""
+        return self.long_run_items(n_items) if self.checks_long_runs(n_items) else n_items + 1
 
 
 #: the default cut-offs, one shared instance (a frozen dataclass, so safe as a default argument)

@@ -275,7 +275,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     not_checked: list[str] = []
 
     runs = longstring(raw)
-    run_limit = thresholds.long_run_items(p)
+    run_limit = thresholds.run_limit(p)
     long_run = runs >= run_limit
     irv = intra_individual_variability(keyed)
     missing = missing_share(raw)
@@ -335,6 +335,9 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     duplicate_answers = duplicates.in_row_group & ~long_run & (answered_items >= thresholds.duplicate_min_items)
     duplicate_status = _duplicate_status(duplicates.row_groups, long_run, answered_items,
                                          thresholds.duplicate_min_items)
+    if not thresholds.checks_long_runs(p):
+        not_checked.append(FLAG_LONG_RUN)
+        notes.append(note("long-run-not-checked", flag=FLAG_LONG_RUN, items=p, min_items=thresholds.long_run_min_items))
     if p < thresholds.duplicate_min_items:
         not_checked.append(FLAG_DUPLICATE_ANSWERS)
         notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
@@ -361,7 +364,7 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
         ids=tuple(str(i) for i in ids), longstring=runs, irv=irv, mahalanobis_d2=distance.d2,
         mahalanobis_p=distance.p, mahalanobis_df=distance.df, even_odd=halves.consistency,
         person_total_r=person_total, missing=missing, duration=duration, flags=flags, flagged=flagged,
-        duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=run_limit,
+        duplicates=duplicates, thresholds=thresholds, n_items=p, long_run_items=thresholds.long_run_items(p),
         median_duration=median_duration, alpha_change=alpha_change, notes=_unique_notes(notes),
         not_checked=tuple(not_checked), duplicate_status=duplicate_status, duration_unit=duration_unit,
         weak_indices=(halves_use, total_use))

@@ -15,6 +15,9 @@ SCREENING: dict[str, str] = {
     # a check that could not run: its count is "not checked", never 0
     "fast-not-checked": "fast: not checked, as no column of completion times was named (--duration-column)",
     "fast-no-durations": "fast: not checked, as no respondent who answered most items has a completion time",
+    "long-run-not-checked": "long-run: not checked, as the questionnaire has {items} item(s) and long runs of one "
+                            "answer are flagged only from {min_items} items (on fewer, attentive respondents "
+                            "give them by chance)",
     "duplicates-not-checked": "duplicate-answers: not checked, as the questionnaire has {items} item(s) and "
                               "identical rows are flagged only from {min_items} answered items (shorter rows "
                               "can be alike by chance)",
