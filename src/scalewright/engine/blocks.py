@@ -3,11 +3,11 @@
 CSV is parsed by pyarrow's streaming reader (blocks of bytes, several threads) with the item columns as
 16-bit integers and each block converted by :func:`scalewright.read_codes.convert_codes`, the quick
 route of the whole-file reader (where every answer is one digit, the item cells' bytes are first read
-straight into codes: :func:`scalewright.read_codes.convert_digit_codes`). A block that route cannot take (an answer text, a decimal, a number
-beyond 16 bits) restarts the file with the item columns as text, converted by
-:func:`scalewright.data.convert_item`, the general route. Parquet is read a row group batch at a time
-with its own types, by the general route. Whatever neither can read block by block (see
-:class:`CannotStream`) is left to the whole-file reader, which names the problem.
+straight into codes: :func:`scalewright.read_codes.convert_digit_codes`). A block that route cannot
+take (an answer text, a decimal, a number beyond 16 bits) restarts the file with the item columns as
+text, converted by :func:`scalewright.data.convert_item`, the general route. Parquet is read a row
+group batch at a time with its own types, by the general route. Whatever neither can read block by
+block (see :class:`CannotStream`) is left to the whole-file reader, which names the problem.
 """
 from __future__ import annotations
 
@@ -164,9 +164,10 @@ def _csv_batches(path: Path, sep: str, raw_names: Sequence[str], items: Sequence
 
         quicker = None
         if as_int16 and digits:
-            as_bytes = {raw: (pa.binary() if column_type == pa.int16() else column_type) for raw, column_type in types.items()}
-            quicker = (pacsv.ConvertOptions(column_types=as_bytes, null_values=list(BLANK_TEXTS), strings_can_be_null=True),
-                       _one_digit_items)
+            as_bytes = {raw: pa.binary() if column_type == pa.int16() else column_type
+                        for raw, column_type in types.items()}
+            quicker = (pacsv.ConvertOptions(column_types=as_bytes, null_values=list(BLANK_TEXTS),
+                                            strings_can_be_null=True), _one_digit_items)
         # a block_size given on the command line is kept as the streaming reader's; the parallel reader
         # takes its own larger blocks (their count in memory is bounded by the threads, not by a queue)
         return ParallelBlocks(path, raw_names, parse_options=parse_options, convert_options=convert_options,
@@ -183,7 +184,8 @@ def _one_digit_items(table: Any) -> bool:
     """Whether every item column of a table parsed with the items as bytes holds one-digit cells only."""
     import pyarrow as pa
 
-    return all(holds_one_digit_cells(chunk) for column, column_type in zip(table.columns, table.schema.types, strict=True)
+    return all(holds_one_digit_cells(chunk)
+               for column, column_type in zip(table.columns, table.schema.types, strict=True)
                if column_type == pa.binary() for chunk in column.chunks)
 
 
