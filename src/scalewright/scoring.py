@@ -1,17 +1,16 @@
 """Scoring: reverse-key items and build one composite score per scale per respondent."""
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, Protocol
 
 import numpy as np
 import pandas as pd
 
 from .errors import UsageError
 from .files import neutralise_formula, write_atomic, write_atomic_with
-from .responses import Responses
 from .results import ResultMixin
 from .spec_model import Scale, ScaleSpec
 
@@ -23,7 +22,20 @@ def reverse_key(values: np.ndarray, low: float, high: float) -> np.ndarray:
     return low + high - np.asarray(values, dtype=np.float64)
 
 
-def keyed_items(responses: Responses, scale: Scale) -> np.ndarray:
+class RowsToScore(Protocol):
+    """What scoring reads of the responses: :class:`~scalewright.responses.Responses`, or one block of a
+    file read in blocks (``engine/score_stream.py``)."""
+
+    @property
+    def ids(self) -> pd.Series: ...
+
+    @property
+    def n(self) -> int: ...
+
+    def matrix(self, names: Sequence[str]) -> np.ndarray: ...
+
+
+def keyed_items(responses: RowsToScore, scale: Scale) -> np.ndarray:
     """The scale's items as an n x k float64 matrix, reverse-worded items keyed, NaN where missing."""
     keyed = responses.matrix(scale.items)  # fancy indexing already made a copy
     for position, item in enumerate(scale.items):
@@ -177,7 +189,7 @@ class ScoreTable(ResultMixin):
         return {"standardize": self.standardize, "scales": {n: s.to_dict() for n, s in self.scales.items()}}
 
 
-def score_scales(responses: Responses, spec: ScaleSpec, *, standardize: str | None = None,
+def score_scales(responses: RowsToScore, spec: ScaleSpec, *, standardize: str | None = None,
                  scales: Iterable[str] | None = None, weights: Any = None,
                  z_bases: Mapping[str, dict[str, Any]] | None = None) -> ScoreTable:
     """Score every scale of ``spec`` (or those named) for every respondent.

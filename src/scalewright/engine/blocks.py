@@ -86,7 +86,7 @@ def streamable(path: Path) -> bool:
 
 
 def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes: int | None = None,
-                  batch_rows: int | None = None, source: Any = None) -> list[Callable[[], Iterator[Any]]]:
+                  batch_rows: int | None = None, source: Any = None) -> list[Callable[[], Iterable[Any]]]:
     """Ways to read the file as Arrow record batches, quickest first. ``columns`` are the non-item columns
     wanted (id, groups, tallied).
 
@@ -115,13 +115,13 @@ def batch_sources(path: Path, spec: Any, columns: Sequence[str], *, block_bytes:
     # feeds (engine/parallel_csv.py), else one block at a time; the text ways read one block at a time
     ways = [(True, False, can_cut(path))] if whole_numbers else []
     ways += [(False, False, False), (False, True, False)]
-    return [lambda as_int16=as_int16, quote_aware=quote_aware, parallel=parallel: _csv_batches(
-                path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16, quote_aware=quote_aware,
-                parallel=parallel, digits=one_digit)
+    return [partial(_csv_batches, path, sep, raw_names, spec.items, block_bytes=block_bytes, as_int16=as_int16,
+                    quote_aware=quote_aware, parallel=parallel, digits=one_digit)
             for as_int16, quote_aware, parallel in ways]
 
 
-def read_by_first_way(ways: Sequence[Callable[[], Iterator[Any]]], attempt: Callable[[Callable[[], Iterator[Any]]], T]) -> T:
+def read_by_first_way(ways: Sequence[Callable[[], Iterable[Any]]],
+                      attempt: Callable[[Callable[[], Iterable[Any]]], T]) -> T:
     """``attempt(way)`` with each way of reading the file in turn until one reads it: after an error of
     :func:`retry_errors` the next way starts the file again; after the last way's, the file cannot stream."""
     for number, way in enumerate(ways, start=1):
@@ -133,7 +133,7 @@ def read_by_first_way(ways: Sequence[Callable[[], Iterator[Any]]], attempt: Call
     raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
 
-def retry_errors() -> tuple[type, ...]:
+def retry_errors() -> tuple[type[BaseException], ...]:
     """The errors after which the next way of reading is tried."""
     import pyarrow as pa
 
@@ -251,8 +251,13 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     items = list(spec.items)
     n = batch.num_rows
     codes = np.empty((n, len(items)), dtype=np.uint8, order="F")
-    missing_codes, blanks, texts, refused, refused_first = {}, {}, {}, {}, {}
+    missing_codes: dict[str, int] = {}
+    blanks: dict[str, int] = {}
+    texts: dict[str, int] = {}
+    refused: dict[str, int] = {}
+    refused_first: dict[str, tuple] = {}
     missing_texts: dict[str, dict[str, int]] = {}
+    converted: Any  # ConvertedCodes of the number routes, or the general route's conversion
     as_floats: list[int] = []
     values = None
     for j, name in enumerate(items):
@@ -271,8 +276,10 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             converted = convert_item(series, fmt, out=values[:, j])
             raw = series
             as_floats.append(j)
-        for counts, value in ((missing_codes, converted.missing_codes), (blanks, converted.blanks),
-                              (texts, converted.texts), (missing_texts, getattr(converted, "missing_texts", None))):
+        counted: tuple[tuple[dict[str, Any], Any], ...] = (
+            (missing_codes, converted.missing_codes), (blanks, converted.blanks), (texts, converted.texts),
+            (missing_texts, getattr(converted, "missing_texts", None)))
+        for counts, value in counted:
             if value:
                 counts[name] = dict(value) if isinstance(value, dict) else value
         bad = np.flatnonzero(converted.bad) if converted.bad.size else np.zeros(0, dtype=np.int64)
@@ -282,14 +289,16 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
             as_read = raw.iloc[shown] if hasattr(raw, "iloc") else raw[shown]
             refused_first[name] = tuple(((part, first_row + int(row), file), _plain(value))
                                         for row, value in zip(shown, as_read, strict=True))
-    if as_floats:
+    if as_floats and values is not None:
         float_answers = ItemAnswers.from_values(values[:, as_floats], [spec.response_for(items[j]).min for j in as_floats],
                                                 [spec.response_for(items[j]).max for j in as_floats])
         float_codes = float_answers.codes_of(range(len(as_floats)))
         if float_codes is None:
             raise CannotStream("an answer is not a whole answer level (it needs the float route)")
         codes[:, as_floats] = float_codes
-    id_hashes, id_empty, unknown = (), (), {}
+    id_hashes: tuple[np.ndarray, ...] = ()
+    id_empty: tuple = ()
+    unknown: dict[str, tuple] = {}
     # "no answer" texts of every other column read (a CSV file's all, a Parquet file's wanted ones) read as
     # missing and counted, blanks of the group columns counted, as the whole-file reader does
     # (data.read_responses); the columns themselves become pandas Series only when a command reads them
@@ -310,7 +319,7 @@ def convert_batch(batch: Any, spec: Any, columns: Sequence[str], *, first_row: i
     blanks.update(found.blank)
     for name in dict.fromkeys(columns):
         if name == spec.id_column:
-            hashes, id_empty = _id_check(lambda name=name: wanted[name], (part, first_row, file),
+            hashes, id_empty = _id_check(partial(wanted.__getitem__, name), (part, first_row, file),
                                          arrow=batch.column(by_name[name]))
             hashes = np.sort(hashes)  # here, beside the other blocks' work: the duplicate check merges sorted runs
             id_hashes = (hashes,)
@@ -369,7 +378,7 @@ def _known_levels(values: pd.Series, order: Sequence[str], start: tuple, *,
     text = raw.str.strip()
     text = named_levels(text.mask(text == ""), order, codes)
     unknown = (text.notna() & ~text.isin(order)).to_numpy(dtype=bool)
-    found = ()
+    found: tuple = ()
     if unknown.any():
         first = int(np.flatnonzero(unknown)[0])
         found = (_at(start, first), str(raw.iloc[first]), int(unknown.sum()))

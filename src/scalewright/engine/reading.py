@@ -63,7 +63,7 @@ class ReadingCounts:
         # the blocks' sorted hashes are kept apart (no copy of all of them at every merge); they are
         # joined once, when the duplicates are looked for
         hashes = (*self.id_hashes, *other.id_hashes)
-        empty = ()
+        empty: tuple[tuple[Any, int], ...] = ()
         if self.id_empty or other.id_empty:
             found = [*self.id_empty, *other.id_empty]  # (place, count) pairs
             empty = ((min(place for place, _ in found), sum(count for _, count in found)),)

@@ -4,7 +4,7 @@ way on every pass (:class:`Passes`). See :mod:`.screen_stream`."""
 from __future__ import annotations
 
 import math
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, Protocol
@@ -137,7 +137,7 @@ class Passes:
                  source: Any = None, file: str = "", part: int = 0) -> None:
         self.path, self.spec, self.columns, self.file, self.part = path, spec, columns, file, part
         self.ways = batch_sources(path, spec, columns, block_bytes=block_bytes, source=source)
-        self.way: Callable[[], Iterator[Any]] | None = None
+        self.way: Callable[[], Iterable[Any]] | None = None
 
     def fold(self, work: Callable[[Block], Any], fresh: Callable[[], Collector]) -> Any:
         """``fresh()`` given (block, work(block)) of every block in file order, and returned. The first pass
@@ -160,7 +160,7 @@ class Passes:
                 raise
         raise CannotStream("no way to read the file in blocks")  # unreachable: ways is never empty
 
-    def _blocks(self, way: Callable[[], Iterator[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
+    def _blocks(self, way: Callable[[], Iterable[Any]], work: Callable[[Block], Any]) -> Iterator[tuple[Block, Any]]:
         def one(batch: Any, first: int) -> tuple[Block, Any]:
             block = convert_batch(batch, self.spec, self.columns, first_row=first, file=self.file, part=self.part)
             return block, work(block)
