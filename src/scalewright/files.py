@@ -20,8 +20,9 @@ def sha256_of(path: str | os.PathLike[str]) -> str:
     return digest.hexdigest()
 
 
-def refuse_input_overwrite(target: str | os.PathLike[str], inputs: Iterable[str | os.PathLike[str]]) -> None:
-    """Raise ``UsageError`` when ``target`` is one of the input files (also through links)."""
+def refuse_input_overwrite(target: str | os.PathLike[str], inputs: Iterable[str | os.PathLike[str] | None]) -> None:
+    """Raise ``UsageError`` when ``target`` is one of the input files (also through links); an input given
+    as None (an option not given) is passed over."""
     target_path = Path(target)
     for source in inputs:
         if source is None:
@@ -37,7 +38,7 @@ def write_atomic(
     target: str | os.PathLike[str],
     content: str | bytes,
     *,
-    inputs: Iterable[str | os.PathLike[str]] = (),
+    inputs: Iterable[str | os.PathLike[str] | None] = (),
 ) -> Path:
     """Write ``content`` to ``target`` through a temporary file in the same folder and a rename."""
     data = content.encode("utf-8") if isinstance(content, str) else content

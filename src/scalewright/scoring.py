@@ -257,7 +257,7 @@ def scored_frame(table: ScoreTable, suffix: str) -> pd.DataFrame:
     return frame
 
 
-def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path] = ()) -> Path:
+def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str | Path | None] = ()) -> Path:
     """Write the scored file as CSV, XLSX or Parquet (by extension), atomically, never over an input.
 
     Text cells that a spreadsheet would run as a formula are neutralised in CSV and XLSX.

@@ -1,7 +1,9 @@
 """`scalewright compare`: subgroup differences per scale, with tests, effect sizes and post-hoc pairs."""
 from __future__ import annotations
 
+from collections.abc import Mapping, Sequence
 from pathlib import Path
+from typing import Any
 
 import click
 
@@ -58,6 +60,7 @@ def compare(data: Path, scales: Path, by: tuple[str, ...], student: bool, min_ce
     if not columns:
         raise UsageError("compare needs a grouping column: give --by COLUMN or list `groups` in the scale file")
     scored = None
+    per_column: Mapping[str, Sequence[Any]]  # each column's comparisons, one per scale
     if summarised:
         from ..analyses.summarised_groups import compare_from_summaries, invariance_by_scale_from_summaries
 

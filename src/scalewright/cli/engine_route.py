@@ -129,9 +129,9 @@ def load_summaries(data: Path, scales: Path | None, make_plan: Callable[[Any], A
             if engine == "stream":
                 click.echo(f"note: {data} is read whole, not in blocks: {reason}", err=True)
             return None
-        info = digests.result()
+        input_info = digests.result()
         warmed.result()  # no import is left running beside the command's own
-    inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=info, excluded=0,
+    inputs = Inputs(spec=spec if scales is not None else None, responses=outcome, info=input_info, excluded=0,
                     notes=(*outcome.notes(), *weight_notes, *_weight_checked(str(data), summary, weight, lenient)))
     return Summarised(inputs=inputs, summary=summary, engine={"name": "stream"}, weight=weight)
 

@@ -102,7 +102,8 @@ def _streamed(data: Path, scales: Path, *, standardize: str | None, lenient: boo
     weights the weighted mean and sd (the summary's and the z scores') come from exact sums, the same to the
     bit as the whole-file route's."""
     needs_rows = ("--exclude" if exclude is not None
-                  else f"--out {out.name}" if writes_scores and out.suffix.lower() == ".xlsx" else None)
+                  else f"--out {out.name}" if writes_scores and out is not None and out.suffix.lower() == ".xlsx"
+                  else None)
     if row_route(engine, data, needs_rows=needs_rows) != "stream":
         return False
     from concurrent.futures import ThreadPoolExecutor

@@ -12,7 +12,7 @@ from __future__ import annotations
 import json
 import tempfile
 from pathlib import Path
-from typing import Any
+from typing import Any, TextIO
 
 import click
 
@@ -87,13 +87,14 @@ def screen_to_csv(data: Path, spec: Any, target: Path | None, *, flagged_only: b
     def write(temp: Path | None) -> None:
         handle = None if temp is None else open(temp, "w", encoding="utf-8", newline="")  # noqa: SIM115
         try:
-            def sink(records: Any) -> None:
-                handle.write(respondents_csv_rows({**head, "respondents": records}, flagged_only=flagged_only,
-                                                  has_duration=has_duration))
-
+            sink = None
             if handle is not None:
+                def sink(records: Any, handle: TextIO = handle) -> None:
+                    handle.write(respondents_csv_rows({**head, "respondents": records}, flagged_only=flagged_only,
+                                                      has_duration=has_duration))
+
                 handle.write(respondents_csv_header(has_duration=has_duration))
-            found["result"] = stream_screen(data, spec, sink=None if handle is None else sink,
+            found["result"] = stream_screen(data, spec, sink=sink,
                                             before_rows=lambda summary: head.update(summary.to_dict()), **options)
         finally:
             if handle is not None:

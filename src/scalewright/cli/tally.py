@@ -3,6 +3,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 import click
 
@@ -17,6 +18,9 @@ from .common import (
     weight_option,
 )
 from .engine_route import dataset_argument, engine_options, load_summaries
+
+if TYPE_CHECKING:
+    import pandas as pd
 
 
 def _per_column(values: tuple[str, ...], columns: list[str], option: str) -> dict[str, str]:
@@ -45,7 +49,7 @@ def _missing_texts_notes(texts: dict) -> tuple[str, ...]:
             f"{detail}",)
 
 
-def _inputs_without_scales(data: Path) -> tuple[Inputs, object]:
+def _inputs_without_scales(data: Path) -> tuple[Inputs, pd.DataFrame]:
     from ..data_file import MISSING_CELLS, read_table
     from ..present.document import InputInfo
     from ..spec_model import DEFAULT_MISSING_TEXTS
