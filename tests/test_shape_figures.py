@@ -87,6 +87,23 @@ def _report():
                        groups=(describe_by_subgroup(x, groups, min_group=10, **options),), x_label="mean score"), x, groups
 
 
+@pytest.mark.parametrize("levels", [4, 5])
+def test_small_multiples_of_levels_that_leave_grid_cells_empty(levels):
+    # 4 or 5 levels fill a 2 x 3 grid only in part: the empty cells are hidden, one histogram per level
+    x = _three_item_means(n=300, seed=6)
+    groups = pd.Series([f"site {i % levels}" for i in range(300)], name="site")
+    options = dict(attainable=attainable_scores(1, 5, 3))
+    report = ShapeReport(name="support", title="Team support", kind="scale", overall=describe_scores(x, **options),
+                         groups=(describe_by_subgroup(x, groups, min_group=10, **options),), x_label="mean score")
+    axes = histograms_by_group(report)
+    assert len(axes) == levels
+    cells = axes[0].figure.axes
+    assert len(cells) == 6
+    assert [cell.get_visible() for cell in cells] == [True] * levels + [False] * (6 - levels)
+    # the score axis is labelled under the last histogram of every column
+    assert all(cell.xaxis.get_tick_params()["labelbottom"] for cell in cells[levels - 3:levels])
+
+
 def test_box_plots_by_group_share_one_axis_and_skip_small_levels():
     report, x, groups = _report()
     ax = box_plots_by_group(report)

@@ -126,7 +126,7 @@ def _svg_and_box(figure) -> tuple[str, Any]:
 
     import matplotlib
 
-    measured = []
+    measured: list[Any] = []
 
     def measure(event) -> None:
         # the first draw: the only one, or, with a layout engine, matplotlib's layout pass (same positions,

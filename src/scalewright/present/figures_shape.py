@@ -152,15 +152,20 @@ def histograms_by_group(report: ShapeReport, *, column: str | None = None, perce
         rows = int(np.ceil(len(samples) / columns))
         figure, grid = plt.subplots(rows, columns, figsize=(4.2 * columns, 3.0 * rows), sharex=True, sharey=True,
                                     squeeze=False, layout="constrained")
-        axes = grid.ravel()
-        for spare in axes[len(samples):]:
-            spare.set_visible(False)
+        cells = list(grid.ravel())
+        for position in range(len(samples), len(cells)):  # the grid's last row may have more cells than levels
+            cells[position].set_visible(False)
+            # the shared score axis is labelled under the bottom histogram of each column
+            cells[position - columns].xaxis.set_tick_params(labelbottom=True)
         figure.suptitle(f"{report.title} by {name}")
     elif len(axes) < len(samples):
         raise UsageError(f"{len(samples)} levels of {name} need as many Axes, got {len(axes)}")
-    for ax, (level, summary), colour in zip(axes, samples, _colours(len(samples)), strict=True):
+    else:
+        cells = list(axes)
+    used = cells[:len(samples)]
+    for ax, (level, summary), colour in zip(used, samples, _colours(len(samples)), strict=True):
         histogram(summary, title=str(level), x_label=report.x_label, percent=percent, colour=colour, ax=ax)
-    return np.asarray(axes[:len(samples)])
+    return np.asarray(used)
 
 
 def _colours(n: int) -> list[str]:

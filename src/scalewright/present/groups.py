@@ -102,7 +102,7 @@ def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = F
             sentence += f" {c.pairs_method} pairs that differ: {listed}."
         else:
             sentence += f" No {c.pairs_method} pair differed at p < {_level(c.significance_level)}."
-    if c.spread_differs:
+    if c.spread_differs and c.levene is not None:  # Levene's test is there whenever the spread differs
         sentence += (f" The spread differs between levels ({_test_plain(c.levene, decimals)}), so the Welch "
                      "version of the test is the safer reading.")
     if c.suppressed:
@@ -124,7 +124,7 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
     for c in comparisons:
         label = f"{c.scale} by {c.column}" if c.scale else f"by {c.column}"
         key = f"{c.scale}.{c.column}" if c.scale else c.column
-        rows = [(g.level, g.n, g.mean, g.sd, g.median, g.q1, g.q3, g.iqr) for g in c.groups]
+        rows: list[tuple] = [(g.level, g.n, g.mean, g.sd, g.median, g.q1, g.q3, g.iqr) for g in c.groups]
         rows += [(level, suppressed_text(c.min_cell), None, None, None, None, None, None) for level in c.suppressed]
         tables.append(Table(title=f"Groups: {label}", key=f"groups.{key}",
                             columns=("level", "n", "mean", "sd", "median", "q1", "q3", "IQR"),

@@ -32,7 +32,7 @@ ITEM_KINDS = {"scale": "text", "item": "text", "reversed": "text", "n": "int", K
 
 
 def _summary_row(name: str, sample: str, result: ScaleReliability, with_bootstrap: bool) -> tuple:
-    row = (name, sample, result.n_rows, result.n_used, result.k, result.alpha, result.alpha_ci[0],
+    row: tuple = (name, sample, result.n_rows, result.n_used, result.k, result.alpha, result.alpha_ci[0],
            result.alpha_ci[1], result.alpha_standardized, result.omega_total, result.lambda2, result.lambda6,
            result.mean_inter_item_r, result.min_inter_item_r, result.max_inter_item_r)
     if with_bootstrap:

@@ -128,9 +128,8 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
         shape = findings.shape
         part = safe_part(name)
         if shape is not None and shape.overall.histogram is not None:
-            stem = _save(lambda shape=shape, label=label: histogram(shape.overall, title=f"Scores of {label}",
-                                                              x_label=shape.x_label), folder,
-                         names.unique(f"{part}-histogram"), inputs=inputs)
+            stem = _save(partial(histogram, shape.overall, title=f"Scores of {label}", x_label=shape.x_label),
+                         folder, names.unique(f"{part}-histogram"), inputs=inputs)
             overall = shape.overall
             figures[("histogram", name)] = FigureBlock(
                 stem, f"Distribution of the {label} scores",
@@ -141,7 +140,7 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
         for position, group in enumerate(shape.groups if shape is not None else ()):
             if not group.levels:
                 continue
-            stem = _save(lambda shape=shape, group=group: box_plots_by_group(shape, column=group.column), folder,
+            stem = _save(partial(box_plots_by_group, shape, column=group.column), folder,
                          names.unique(f"{part}-by-{_file_part(group.column, position)}-boxplot"), inputs=inputs)
             medians = sorted(group.levels.items(), key=lambda pair: pair[1].median)
             figures[("boxplot", name, group.column)] = FigureBlock(
@@ -153,9 +152,8 @@ def start_making_figures(results: Any, folder: Path, *, inputs: Iterable = (),
                 "the box and circles mark scores beyond.")
         if findings.answers is not None and findings.answers.items:
             titles = item_bar_labels(findings.scale.items, findings.scale.wording, findings.scale.reverse)
-            stem = _save(lambda findings=findings, label=label, titles=titles: diverging_bars(
-                findings.answers, title=f"Answers to the items of {label}", titles=titles),
-                         folder, names.unique(f"{part}-answers"), inputs=inputs)
+            stem = _save(partial(diverging_bars, findings.answers, title=f"Answers to the items of {label}",
+                                 titles=titles), folder, names.unique(f"{part}-answers"), inputs=inputs)
             figures[("answers", name)] = FigureBlock(
                 stem, f"Answers to the items of {label}",
                 f"Diverging stacked bars, one per item named with its shortened wording, of the share of each "

@@ -29,7 +29,7 @@ def tally_sentence(t: Tally) -> str:
     shown = [c for c in t.categories if c.count is not None and c.count > 0]
     if t.n_valid == 0 or not shown:
         return f"{t.column}: no answers to describe ({t.n_missing} of {t.n_total} missing)."
-    top = max(shown, key=lambda c: c.count)
+    top = max(shown, key=lambda c: c.count or 0)  # every shown count is a number above 0
     text = (f"{t.column}: {t.n_valid} of {t.n_total} respondents answered; the most frequent answer was "
             f"{top.label} ({format_value(top.valid_percent, 'pct')}% of those who answered).")
     if t.suppressed:
