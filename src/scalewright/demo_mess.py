@@ -90,7 +90,7 @@ def add_mess(rng: np.random.Generator, answers: np.ndarray) -> Mess:
             & (draw < BLANK_SHARE + CODE_9_SHARE + CODE_99_SHARE)] = 99
 
     # response duration: careless respondents are fast, partial ones stopped early
-    seconds = rng.lognormal(np.log(470), 0.35, size=n)
+    seconds = np.asarray(rng.lognormal(np.log(470), 0.35, size=n))
     seconds[straight] = rng.lognormal(np.log(150), 0.30, size=len(straight))
     seconds[random_rows] = rng.lognormal(np.log(135), 0.30, size=len(random_rows))
     seconds[partial_rows] *= (stop + 1) / p

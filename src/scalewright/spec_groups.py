@@ -32,11 +32,11 @@ def read_groups(checker: NodeReader, node: yaml.Node,
                 continue
             (column, (_, levels_node)), = entry.items()
             if isinstance(levels_node, yaml.MappingNode):
-                named = _level_names(checker, levels_node, f"{where}.{column}")
-                if named is None:
+                level_names = _level_names(checker, levels_node, f"{where}.{column}")
+                if level_names is None:
                     continue
-                codes[column] = named
-                named_levels = list(named.values())
+                codes[column] = level_names
+                named_levels = list(level_names.values())
             else:
                 named_levels = None
             ordered = named_levels if named_levels is not None else \

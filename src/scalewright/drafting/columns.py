@@ -4,6 +4,7 @@ from __future__ import annotations
 import math
 import re
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 import pandas as pd
@@ -145,7 +146,7 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, ParsedC
     parsed = _parse(series)
     n_blank = int(parsed.blank.sum())
     n_values = len(series) - n_blank
-    base = {"name": name, "n_values": n_values, "n_blank": n_blank, "stem": _stem_of(name)}
+    base: dict[str, Any] = {"name": name, "n_values": n_values, "n_blank": n_blank, "stem": _stem_of(name)}
     if n_values == 0:
         return ColumnProfile(role=EMPTY, reason="every cell is blank", n_distinct=0, **base), parsed
     if pd.api.types.is_datetime64_any_dtype(series.dtype):
@@ -163,8 +164,9 @@ def profile_column(name: str, series: pd.Series) -> tuple[ColumnProfile, ParsedC
     codes, odd, answers = _peel_codes(numbers, texts_are_answers=bool(known))
     low, high = (float(answers[0]), float(answers[-1])) if len(answers) else (None, None)
     integer_answers = bool(len(answers)) and bool(np.all(np.equal(np.mod(answers, 1), 0)))
-    rating_numbers = len(answers) == 0 or (integer_answers and high - low + 1 <= MAX_RATING_POINTS)
-    numeric = {"low": low, "high": high, "codes": codes, "odd_values": odd}
+    rating_numbers = len(answers) == 0 or (integer_answers and low is not None and high is not None
+                                           and high - low + 1 <= MAX_RATING_POINTS)
+    numeric: dict[str, Any] = {"low": low, "high": high, "codes": codes, "odd_values": odd}
 
     if (distinct_texts and not numbers.empty) or known:
         unknown_count = int(texts.isin(unknown).sum())
