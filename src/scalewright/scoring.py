@@ -10,7 +10,7 @@ import numpy as np
 import pandas as pd
 
 from .errors import UsageError
-from .files import neutralise_formula, write_atomic, write_atomic_with
+from .files import neutralise_formula, write_atomic_with
 from .results import ResultMixin
 from .spec_model import Scale, ScaleSpec
 
@@ -268,7 +268,9 @@ def write_scores(table: ScoreTable, target: str | Path, *, inputs: Iterable[str 
         raise UsageError(f"cannot write {target}: the scored file must end in .csv, .xlsx or .parquet")
     frame = scored_frame(table, suffix)
     if suffix == ".csv":
-        return write_atomic(target, frame.to_csv(index=False, lineterminator="\n"), inputs=inputs)
+        from .scored_csv import write_scored_csv
+
+        return write_atomic_with(target, lambda tmp: write_scored_csv(frame, tmp), inputs=inputs)
     if suffix == ".xlsx":
         _refuse_what_a_cell_cannot_hold(frame, target)
         return write_atomic_with(target, lambda tmp: frame.to_excel(tmp, index=False, engine="openpyxl"),

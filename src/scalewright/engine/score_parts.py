@@ -15,6 +15,7 @@ from typing import Any
 
 from ..data_file import first_row_number
 from ..files import write_atomic_with
+from ..scored_csv import scored_csv
 from ..scoring import ScoreTable, scored_frame
 from .blocks import CannotStream, batch_sources, retry_errors
 from .score_stream import _scored_blocks, _summary_table
@@ -73,7 +74,7 @@ def _score_part(url: str, local: bool, spec: Any, columns: tuple[str, ...], hand
                                                         columns=columns, way=way, start=start):
                     if handle is not None:
                         frame = scored_frame(table, ".csv")
-                        handle.write(frame.to_csv(index=False, header=part_first is None, lineterminator="\n"))
+                        handle.write(scored_csv(frame, header=part_first is None))
                     part_first = part_first or table
                     part_rows += reading.rows
                     for name, one in table.scales.items():

@@ -30,6 +30,7 @@ from ..answer_codes import ItemAnswers
 from ..data_columns import ids_as_text
 from ..data_file import first_row_number
 from ..files import write_atomic_with
+from ..scored_csv import scored_csv
 from ..scoring import ScaleScores, ScoreTable, score_scales, scored_frame
 from ..summaries.exact_scores import ExactWeightedScores
 from ..summaries.weighted import WeightReading, block_weights
@@ -157,9 +158,9 @@ class _Appender:
         if self.suffix == ".csv":
             if self._handle is None:
                 self._handle = open(self.target, "w", encoding="utf-8", newline="")  # noqa: SIM115 (closed in close())
-                self._handle.write(frame.to_csv(index=False, lineterminator="\n"))
+                self._handle.write(scored_csv(frame))
             else:
-                self._handle.write(frame.to_csv(index=False, header=False, lineterminator="\n"))
+                self._handle.write(scored_csv(frame, header=False))
             return
         import pyarrow as pa
         import pyarrow.parquet as pq
