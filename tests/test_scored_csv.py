@@ -23,9 +23,9 @@ IDS = st.text(alphabet=st.sampled_from(list("AZaz09_'=-+@ .,\"\n\r\té")), max_s
 
 @settings(max_examples=150, deadline=None)
 @given(rows=st.lists(st.tuples(IDS, FLOATS, FLOATS, st.integers(0, 12)), max_size=30), header=st.booleans(),
-       id_name=st.sampled_from(["staff_id", "id,with comma", "'=id"]))
-def test_the_text_is_pandas_to_csv(rows, header, id_name):
-    frame = pd.DataFrame({id_name: pd.Series([r[0] for r in rows], dtype=object),
+       id_name=st.sampled_from(["staff_id", "id,with comma", "'=id"]), id_type=st.sampled_from([object, "str"]))
+def test_the_text_is_pandas_to_csv(rows, header, id_name, id_type):
+    frame = pd.DataFrame({id_name: pd.Series([r[0] for r in rows], dtype=id_type),
                           "workload": pd.Series([r[1] for r in rows], dtype=np.float64),
                           "workload__z": pd.Series([r[2] for r in rows], dtype=np.float64),
                           "workload__answered": pd.Series([r[3] for r in rows], dtype=np.int64)})
