@@ -194,3 +194,16 @@ def test_duplicates_are_counted_listed_and_explained_alike(tmp_path, capsys):
            "respondents carry duplicate-answers" in out
     assert re.search(r"identical answers +W000, W008 +no: counted under long-run", out)
     assert re.search(r"identical answers +W005, W006, W007 +yes", out)
+
+
+def test_the_reports_screen_finding_names_the_checks_that_did_not_run(tmp_path, capsys):
+    # 8 items and no completion times: long-run, duplicate-answers and fast are not judged, so a count of
+    # flagged respondents alone would read as a cleaner sample than was checked
+    data, scales = write_survey(tmp_path)
+    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    assert main(["report", str(data), "--scales", str(scales), "--out", str(tmp_path / "report")]) == 0
+    page = (tmp_path / "report" / "report.md").read_text(encoding="utf-8")
+    unchecked = re.search(r"The careless-responding screen flagged [^\n]* Not checked here: ([^(]*) \(the screen's "
+                          r"notes say why\)", page)
+    assert unchecked is not None
+    assert {"long-run", "duplicate-answers", "fast"} <= set(re.split(r", | and ", unchecked.group(1)))

@@ -164,7 +164,9 @@ def _quality(results: ReportResults) -> list[Finding]:
         summary = results.screen.summary()
         if summary.get("n"):
             values = {"n_flagged": summary["n_flagged"], "n": summary["n"],
-                      "share_pct": 100.0 * summary["n_flagged"] / summary["n"]}
+                      "share_pct": 100.0 * summary["n_flagged"] / summary["n"],
+                      # a count of flagged respondents says nothing of the checks that could not run
+                      "not_checked": list(summary.get("not_checked", ()))}
             weighted = getattr(results, "weighted", None)
             if weighted is not None and weighted.screen is not None:
                 values["weighted_share_pct"] = weighted.screen["flagged_pct"]

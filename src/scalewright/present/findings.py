@@ -93,9 +93,11 @@ def finding_sentence(finding: Finding, *, decimals: int = 2) -> str:
     if code == "screen-flagged":
         weighted = (f"; {format_value(v['weighted_share_pct'], 'pct')}% of the weight"
                     if "weighted_share_pct" in v else "")
+        unchecked = (f" Not checked here: {_join(list(v['not_checked']))} (the screen's notes say why)."
+                     if v.get("not_checked") else "")
         return (f"The careless-responding screen flagged {v['n_flagged']} of {v['n']} respondents "
                 f"({format_value(v['share_pct'], 'pct')}%{weighted}); they are kept in every analysis as records to look at "
-                "again.")
+                "again." + unchecked)
     if code == "model-fit-misses":
         shape = {"correlated-factors": "with a factor per scale", "bifactor": "with a general factor beside the "
                  "subscales"}.get(v["structure"], f"({v['structure']})")
