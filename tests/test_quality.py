@@ -195,6 +195,10 @@ def test_thresholds_validate():
         ScreenThresholds(mahalanobis_p=0.1, mahalanobis_p_weak=0.05)
     with pytest.raises(UsageError):
         ScreenThresholds(even_odd_min=2)
+    for name in ("duplicate_min_items", "long_run_min_items"):
+        for value in (0, 2.5):
+            with pytest.raises(UsageError, match=f"{name} must be a whole number"):
+                ScreenThresholds(**{name: value})
 
 
 def test_bad_input_is_a_data_error():

@@ -196,6 +196,17 @@ def test_duplicates_are_counted_listed_and_explained_alike(tmp_path, capsys):
     assert re.search(r"identical answers +W005, W006, W007 +yes", out)
 
 
+def test_a_long_run_minimum_below_one_is_refused_in_one_line(tmp_path, capsys):
+    data, scales = write_survey(tmp_path)
+    before = data.read_bytes()
+    assert main(["screen", str(data), "--scales", str(scales), "--long-run-min-items", "0"]) == 2
+    err = capsys.readouterr().err
+    assert err.startswith("error: ")
+    assert "--long-run-min-items" in err
+    assert len(err.strip().splitlines()) == 1
+    assert data.read_bytes() == before
+
+
 def test_the_reports_screen_finding_names_the_checks_that_did_not_run(tmp_path, capsys):
     # 8 items and no completion times: long-run, duplicate-answers and fast are not judged, so a count of
     # flagged respondents alone would read as a cleaner sample than was checked
