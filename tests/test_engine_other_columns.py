@@ -1,4 +1,4 @@
-"""A block's columns other than the items, read in Arrow (engine/other_columns.py, engine/arrow_numpy.py).
+"""A block's columns other than the items, read in Arrow (engine/other_columns.py, arrow_numpy.py).
 
 References: the whole-file reader's own function for "no answer" cells
 (:func:`scalewright.text_cells.clear_missing_texts`, itself checked in tests/test_text_cells.py) and
@@ -15,7 +15,7 @@ import pyarrow as pa
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from scalewright.engine.arrow_numpy import integers, string_offsets, validity
+from scalewright.arrow_numpy import integers, string_offsets, validity
 from scalewright.engine.other_columns import ArrowColumns, count_missing_cells
 from scalewright.text_cells import clear_missing_texts
 

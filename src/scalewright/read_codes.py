@@ -16,6 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from .answer_codes import MAX_SPAN, MISSING
+from .arrow_numpy import validity
 from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec_model import ResponseFormat
 
@@ -294,7 +295,7 @@ def convert_digit_codes(array, fmt: ResponseFormat, *, out: np.ndarray) -> Conve
     first = int(np.frombuffer(array.buffers()[1], dtype=np.int32, count=1, offset=array.offset * 4)[0])
     digits = (np.frombuffer(array.buffers()[2], dtype=np.uint8, count=filled, offset=first) if filled
               else np.zeros(0, dtype=np.uint8))
-    answered = _validity(array) if blanks else None
+    answered = validity(array) if blanks else None
 
     def place(values: np.ndarray) -> None:
         if answered is None:
@@ -330,14 +331,8 @@ def convert_digit_codes(array, fmt: ResponseFormat, *, out: np.ndarray) -> Conve
     return ConvertedCodes(bad=bad, raw=raw, missing_codes=missing_codes, blanks=blanks)
 
 
-def _validity(array) -> np.ndarray:
-    """Whether each cell of the Arrow array has a value, from its validity bitmap (a bool array)."""
-    bits = np.unpackbits(np.frombuffer(array.buffers()[0], dtype=np.uint8), bitorder="little")
-    return bits[array.offset: array.offset + len(array)].view(bool)
-
-
 def _mark_blanks(array, out: np.ndarray) -> None:
     """Set ``out`` to MISSING where the Arrow array has no value, straight from its validity bitmap."""
-    valid = _validity(array).view(np.uint8)  # a fresh array: changed in place below
+    valid = validity(array).view(np.uint8)  # a fresh array: changed in place below
     np.subtract(valid, 1, out=valid)  # 1 (a value) -> 0, 0 (blank) -> 255 in unsigned bytes
     np.bitwise_or(out, valid, out=out)

@@ -18,7 +18,7 @@ from typing import Any
 
 import numpy as np
 
-from .arrow_numpy import string_offsets, validity
+from ..arrow_numpy import string_offsets, validity
 
 #: the characters ``str.strip()`` removes (Python's white space, ``str.isspace``), for Arrow's trim; written
 #: out because finding them among every code point took 0.07 - 0.3 s at each start
@@ -53,7 +53,7 @@ def text_id_hashes(column: Any) -> tuple[np.ndarray, np.ndarray] | None:
     if not pa.types.is_string(array.type) and not pa.types.is_large_string(array.type):
         return None
     trimmed = pc.utf8_trim(array, characters=PY_WHITESPACE)
-    # read through the buffers (engine/arrow_numpy.py): pyarrow's own conversions would import pandas
+    # read through the buffers (arrow_numpy.py): pyarrow's own conversions would import pandas
     offsets = string_offsets(trimmed)
     sizes = np.diff(offsets)
     empty = ~validity(trimmed) | (sizes == 0)

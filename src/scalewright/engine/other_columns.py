@@ -16,8 +16,8 @@ from typing import Any
 
 import numpy as np
 
+from ..arrow_numpy import integers
 from ..text_cells import MissingCells, normalise
-from .arrow_numpy import integers
 
 
 def is_text(array: Any) -> bool:

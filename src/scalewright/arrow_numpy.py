@@ -3,6 +3,7 @@
 pyarrow imports pandas the first time it converts an array holding nulls to numpy, or a Python number to
 an Arrow scalar (``fill_null(array, 0)``, ``greater(array, 0)``); pandas' import costs a quarter of a
 second, which the block route of a summary command (``reliability`` and the like) otherwise never pays.
+Used by the readers of answer codes (:mod:`scalewright.read_codes`) and the block engine.
 """
 from __future__ import annotations
 
