@@ -18,10 +18,8 @@ from ..stats.coded import covariance_from_listwise_gram
 from ..stats.screen_blocks import ScreenSample, ScreenSummary
 from ..stats.screen_rules import (
     FLAG_AGAINST_SAMPLE,
-    FLAG_DUPLICATE_ANSWERS,
     FLAG_FAR_FROM_SAMPLE,
     FLAG_FAST,
-    FLAG_LONG_RUN,
     FLAG_ORDER,
     FLAG_SOMEWHAT_FAR,
     FLAG_UNEVEN_HALVES,
@@ -172,13 +170,9 @@ def finish_summary(first_sums: FirstSums, first: FirstFound, second: SecondFound
     elif first_sums.no_time:
         notes.append(note("durations-missing", respondents=first_sums.no_time))
     thresholds = options.thresholds
-    if not thresholds.checks_long_runs(p):
-        not_checked.append(FLAG_LONG_RUN)
-        notes.append(note("long-run-not-checked", flag=FLAG_LONG_RUN, items=p, min_items=thresholds.long_run_min_items))
-    if p < thresholds.duplicate_min_items:
-        not_checked.append(FLAG_DUPLICATE_ANSWERS)
-        notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
-                          min_items=thresholds.duplicate_min_items))
+    for flag, why in thresholds.too_short_for(p):
+        not_checked.append(flag)
+        notes.append(why)
     if not third.finite["p"]:
         not_checked.extend((FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR))
         notes.append(note("distance-not-checked", flags=(FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR)))

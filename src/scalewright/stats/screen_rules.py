@@ -9,7 +9,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
-from ..notes import not_computable
+from ..notes import Note, not_computable, note
 from ..results import ResultMixin
 
 # ---------------------------------------------------------------------------------------------------------------
@@ -147,6 +147,18 @@ class ScreenThresholds(ResultMixin):
         """The run length that raises ``long-run``, or ``n_items + 1`` (no row has such a run) when the
         questionnaire is too short for the flag (:meth:`checks_long_runs`)."""
         return self.long_run_items(n_items) if self.checks_long_runs(n_items) else n_items + 1
+
+    def too_short_for(self, n_items: int) -> list[tuple[str, Note]]:
+        """The flags a questionnaire of ``n_items`` items is too short to judge, each with the note saying
+        why (the same on every route of the screen)."""
+        out = []
+        if not self.checks_long_runs(n_items):
+            out.append((FLAG_LONG_RUN, note("long-run-not-checked", flag=FLAG_LONG_RUN, items=n_items,
+                                            min_items=self.long_run_min_items)))
+        if n_items < self.duplicate_min_items:
+            out.append((FLAG_DUPLICATE_ANSWERS, note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS,
+                                                     items=n_items, min_items=self.duplicate_min_items)))
+        return out
 
 
 #: the default cut-offs, one shared instance (a frozen dataclass, so safe as a default argument)

@@ -335,13 +335,9 @@ def screen_respondents(items_raw_order: Any, keyed_by_scale: Mapping[str, Any], 
     duplicate_answers = duplicates.in_row_group & ~long_run & (answered_items >= thresholds.duplicate_min_items)
     duplicate_status = _duplicate_status(duplicates.row_groups, long_run, answered_items,
                                          thresholds.duplicate_min_items)
-    if not thresholds.checks_long_runs(p):
-        not_checked.append(FLAG_LONG_RUN)
-        notes.append(note("long-run-not-checked", flag=FLAG_LONG_RUN, items=p, min_items=thresholds.long_run_min_items))
-    if p < thresholds.duplicate_min_items:
-        not_checked.append(FLAG_DUPLICATE_ANSWERS)
-        notes.append(note("duplicates-not-checked", flag=FLAG_DUPLICATE_ANSWERS, items=p,
-                          min_items=thresholds.duplicate_min_items))
+    for flag, why in thresholds.too_short_for(p):
+        not_checked.append(flag)
+        notes.append(why)
     if not np.isfinite(distance.p).any():
         not_checked.extend((FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR))
         notes.append(note("distance-not-checked", flags=(FLAG_FAR_FROM_SAMPLE, FLAG_SOMEWHAT_FAR)))
