@@ -24,6 +24,10 @@ scales:
 """
 
 
+#: the scale file without the voice scale: 8 items, too few for long-run and duplicate-answers by default
+EIGHT_ITEM_SCALES = SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", "")
+
+
 def write_survey(folder: Path, *, n: int = 120, seed: int = 5) -> tuple[Path, Path]:
     rng = np.random.default_rng(seed)
     trait = rng.normal(size=(n, 3))
@@ -138,7 +142,7 @@ def test_a_check_that_did_not_run_is_not_checked_never_zero(tmp_path, capsys):
 
 def test_few_items_leave_duplicate_answers_not_checked(tmp_path, capsys):
     data, scales = write_survey(tmp_path)
-    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    scales.write_text(EIGHT_ITEM_SCALES)
     assert main(["screen", str(data), "--scales", str(scales), "-f", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)  # 8 items: identical rows that short can be chance
     assert doc["summary"]["counts"]["duplicate-answers"] is None
@@ -150,7 +154,7 @@ def test_few_items_leave_long_runs_not_checked_unless_asked(tmp_path, capsys, en
     # on 8 items, attentive respondents give a run of 5 by chance too often (docs/screening.md): by default the
     # flag is not judged and says so; --long-run-min-items 8 judges it, and the planted straight-liner is flagged
     data, scales = write_survey(tmp_path)
-    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    scales.write_text(EIGHT_ITEM_SCALES)
     base = ["screen", str(data), "--scales", str(scales), "-f", "json", "--engine", engine]
     assert main(base) == 0
     doc = json.loads(capsys.readouterr().out)
@@ -211,7 +215,7 @@ def test_the_reports_screen_finding_names_the_checks_that_did_not_run(tmp_path, 
     # 8 items and no completion times: long-run, duplicate-answers and fast are not judged, so a count of
     # flagged respondents alone would read as a cleaner sample than was checked
     data, scales = write_survey(tmp_path)
-    scales.write_text(SCALES.replace("  voice: {title: Voice, items: [vo1, vo2, vo3, vo4], reverse: [vo4]}\n", ""))
+    scales.write_text(EIGHT_ITEM_SCALES)
     assert main(["report", str(data), "--scales", str(scales), "--out", str(tmp_path / "report")]) == 0
     page = (tmp_path / "report" / "report.md").read_text(encoding="utf-8")
     unchecked = re.search(r"The careless-responding screen flagged [^\n]* Not checked here: ([^(]*) \(the screen's "
