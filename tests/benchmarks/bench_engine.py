@@ -6,7 +6,7 @@ as CSV (and, for ``dask``, as a folder of Parquet files), into FOLDER. Each meas
 process; peak memory is its maximum resident set size (``os.wait4`` rusage), time its wall time.
 
     python tests/benchmarks/bench_engine.py FOLDER memory [--rows 1000000 4000000 20000000]
-    python tests/benchmarks/bench_engine.py FOLDER speed [--rows 1000000] [--repeat 3]
+    python tests/benchmarks/bench_engine.py FOLDER speed [--rows 1000 1000000 4000000] [--repeat 3]
     python tests/benchmarks/bench_engine.py FOLDER dask [--rows 4000000] [--parts 8] [--commands compare confirm]
 
 ``memory``: `reliability`, `shape`, `tally --items` and `score --standardize pomp` (writing the scored
@@ -15,7 +15,9 @@ passes over the file), with ``--commands score-weighted`` `score --standardize z
 passes), with ``--engine stream`` on each size (goal: peak
 on 4,000,000 rows at most 1.3x the peak on 1,000,000; 20,000,000 rows under 1 GB), and the whole-file
 route on the smallest size for comparison. ``speed``: `reliability --engine stream` against a bare
-multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x). ``dask``: `reliability
+multi-threaded ``pyarrow.csv.read_csv`` of the same file (goal: at most 1.2x), alternated on each size given
+(default 1,000,000 rows); with several sizes, each side's median seconds are split into a fixed part and a
+part per million rows (a straight line through the sizes). ``dask``: `reliability
 --engine dask` (or the commands named: `compare --by shift`, `confirm`, `screen --flagged-only`...) on the
 Parquet folder with a local cluster of 1 and of 2 workers, and the same command on the whole CSV file in
 memory (the screen also with ``--engine stream``); with ``--client-only`` the command's own peak, given
@@ -139,15 +141,41 @@ def memory(folder: Path, scales: Path, sizes: list[int], results: list[dict], na
                                           "--engine", "memory", *extra), results, rows=min(sizes))
 
 
-def speed(folder: Path, scales: Path, rows: int, repeat: int, results: list[dict]) -> None:
-    data = write_csv(folder, rows)
-    parse = [sys.executable, "-c", f"import pyarrow.csv as c; c.read_csv({str(data)!r})"]
+def speed(folder: Path, scales: Path, sizes: list[int], repeat: int, results: list[dict]) -> dict:
+    """Alternate the bare parse and the streamed command on each size, ``repeat`` times; with two sizes or
+    more, also split each one's median seconds into a fixed part and a part per million rows (least
+    squares on the sizes), so the ratio at one size can be read as start-up cost against per-row cost."""
+    from statistics import median
+
+    files = {rows: write_csv(folder, rows) for rows in sizes}
+    seconds: dict[int, dict[str, list[float]]] = {rows: {"parse": [], "command": []} for rows in sizes}
     for _ in range(repeat):
-        bare = measure("pyarrow.csv.read_csv", parse, results, rows=rows)
-        streamed = measure("reliability stream", command("reliability", str(data), "--scales", str(scales),
-                                                         "--format", "json", "--out", str(folder / "speed.json"),
-                                                         "--engine", "stream"), results, rows=rows)
-        print(f"ratio {streamed['seconds'] / bare['seconds']:.2f}", flush=True)
+        for rows, data in files.items():
+            parse = [sys.executable, "-c", f"import pyarrow.csv as c; c.read_csv({str(data)!r})"]
+            bare = measure("pyarrow.csv.read_csv", parse, results, rows=rows)
+            streamed = measure("reliability stream", command("reliability", str(data), "--scales", str(scales),
+                                                             "--format", "json", "--out", str(folder / "speed.json"),
+                                                             "--engine", "stream"), results, rows=rows)
+            seconds[rows]["parse"].append(bare["seconds"])
+            seconds[rows]["command"].append(streamed["seconds"])
+            print(f"{rows} rows: ratio {streamed['seconds'] / bare['seconds']:.2f}", flush=True)
+    summary: dict = {"sizes": {}}
+    for rows, runs in seconds.items():
+        parse, streamed = runs["parse"], runs["command"]
+        summary["sizes"][rows] = {
+            "runs": len(parse), "median_parse_s": median(parse), "median_command_s": median(streamed),
+            "median_of_ratios": round(median(c / b for b, c in zip(parse, streamed, strict=True)), 3),
+            "ratio_of_medians": round(median(streamed) / median(parse), 3)}
+        print(f"{rows} rows, {len(parse)} pairs: parse {median(parse):.2f} s, command {median(streamed):.2f} s, "
+              f"median of ratios {summary['sizes'][rows]['median_of_ratios']:.2f}, "
+              f"ratio of medians {summary['sizes'][rows]['ratio_of_medians']:.2f}", flush=True)
+    if len(sizes) >= 2:
+        millions = np.array(sizes, dtype=float) / 1e6
+        for what in ("parse", "command"):
+            per_million, fixed = np.polyfit(millions, [median(seconds[rows][what]) for rows in sizes], 1)
+            summary[what] = {"fixed_s": round(float(fixed), 3), "per_million_rows_s": round(float(per_million), 3)}
+            print(f"{what}: {fixed:.2f} s fixed + {per_million:.2f} s per million rows", flush=True)
+    return summary
 
 
 def dask(folder: Path, scales: Path, rows: int, parts: int, results: list[dict],
@@ -211,6 +239,7 @@ def main() -> int:
     options.folder.mkdir(parents=True, exist_ok=True)
     scales = write_scales(options.folder)
     results: list[dict] = []
+    summary: dict = {}
     if options.what == "generate":
         for rows in options.rows or [1_000_000, 4_000_000, 20_000_000]:
             start = time.perf_counter()
@@ -220,13 +249,14 @@ def main() -> int:
         memory(options.folder, scales, options.rows or [1_000_000, 4_000_000, 20_000_000], results,
                [name for name in options.commands or DEFAULT_COMMANDS if name in COMMANDS], whole=not options.no_whole)
     elif options.what == "speed":
-        speed(options.folder, scales, (options.rows or [1_000_000])[0], options.repeat, results)
+        summary = speed(options.folder, scales, options.rows or [1_000_000], options.repeat, results)
     else:
         dask(options.folder, scales, (options.rows or [4_000_000])[0], options.parts, results,
              tuple(options.commands or ("reliability",)), client_only=options.client_only)
     if results:
         out = options.folder / f"bench_engine_{options.what}.json"
-        out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results}, indent=2), encoding="utf-8")
+        out.write_text(json.dumps({"cpu_count": os.cpu_count(), "results": results, **({"summary": summary} if summary else {})},
+                                  indent=2), encoding="utf-8")
     return 0 if all(r["exit"] == 0 for r in results) else 1
 
 
