@@ -17,6 +17,7 @@ from scalewright.present.groups import (
     comparison_record,
     comparison_sentence,
 )
+from scalewright.present.messages import describe
 from scalewright.present.render import (
     render_csv,
     render_json,
@@ -221,6 +222,10 @@ def test_degenerate_input_gives_notes_not_crashes():
     sentence = comparison_sentence(one)
     assert "not compared" in sentence
     json.loads(render_json(one.to_dict()))  # no NaN reaches JSON
+    # the reason is given once, in the sentence, not again as a note beneath it
+    (tests,) = [t for t in compare_tables([one]) if t.key.startswith("tests.")]
+    reason = describe(one.notes[-1])
+    assert sum(reason in text for text in tests.notes) == 1
 
 
 def test_missing_scores_and_groups_are_counted():

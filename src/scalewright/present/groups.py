@@ -143,7 +143,7 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                             rows=tuple(test_rows),
                             kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text",
                                    "statistic": "whole", "df": "whole", "df2": "whole"},
-                            notes=(comparison_sentence(c, decimals=decimals), *(describe(n) for n in c.notes))))
+                            notes=(comparison_sentence(c, decimals=decimals), *_notes_beside_sentence(c))))
         if c.pairs:
             tables.append(Table(title=f"{c.pairs_method} pairs: {label}", key=f"pairs.{key}",
                                 columns=("a", "b", "difference", "se", "statistic", "df", "p", "Hedges' g"),
@@ -153,6 +153,12 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                                 notes=("p-values are adjusted for all pairs of this comparison; difference is "
                                        "mean(a) - mean(b)",)))
     return tables
+
+
+def _notes_beside_sentence(c: Comparison) -> list[str]:
+    """The comparison's notes, less the one its sentence already gives as the reason no test was run."""
+    notes = [describe(n) for n in c.notes]
+    return notes[:-1] if c.test is None else notes
 
 
 __all__ = ["compare_tables", "comparison_record", "comparison_sentence", "effect_label"]
