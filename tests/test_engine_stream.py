@@ -180,6 +180,20 @@ def test_empty_lines_and_line_breaks_in_values(survey):
     assert "north\nside" in whole["scales"]["workload"]["by"]["site"]
 
 
+def test_bytes_that_are_not_utf8_are_refused_alike_and_the_note_says_why(survey):
+    data, scales = survey
+    lines = data.read_bytes().split(b"\n")
+    lines[1700] = lines[1700].replace(b",day,", b",d\xe9y,", 1)  # a Latin-1 byte in a group level
+    data.write_bytes(b"\n".join(lines))
+    refusals = [run("reliability", str(data), "-s", str(scales), "--engine", engine, "--format", "json")
+                for engine in ("memory", "stream")]
+    assert [code for code, _, _ in refusals] == [4, 4]
+    whole_error, streamed_error = (err.splitlines()[-1] for _, _, err in refusals)
+    assert streamed_error == whole_error
+    assert whole_error.startswith(f"error: {data}:1701: not UTF-8 text (byte 0xe9")
+    assert "read whole, not in blocks: it holds bytes that are not UTF-8 text" in refusals[1][2]
+
+
 def test_id_problems_are_refused_as_whole(survey):
     data, scales = survey
     _with_cells(data, {(2000, 0): ""})

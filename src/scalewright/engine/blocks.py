@@ -55,7 +55,10 @@ class CannotStream(Exception):
 
     @classmethod
     def after(cls, error: BaseException) -> CannotStream:
-        """The reason a reading error gives: its first line, or its type when it has no message."""
+        """The reason a reading error gives: its first line, or its type when it has no message; bytes that
+        are not UTF-8 in plain words (the whole-file reader then names the line and the first such byte)."""
+        if isinstance(error, UnicodeDecodeError) or "invalid UTF8" in str(error):
+            return cls("it holds bytes that are not UTF-8 text")
         return cls(str(error).splitlines()[0] if str(error) else type(error).__name__)
 
 
