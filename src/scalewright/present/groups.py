@@ -6,7 +6,7 @@ from typing import Any
 
 from ..stats.effect_benchmarks import effect_magnitude
 from ..stats.groups import Comparison, TestResult, suppressed_text
-from .messages import describe
+from .messages import untested_reason
 from .numbers import format_value
 from .table import Table
 
@@ -67,8 +67,8 @@ def comparison_sentence(c: Comparison, *, decimals: int = 2, lead_only: bool = F
     bracket after it (never nested), then the means and the follow-up pairs (left out with ``lead_only``)."""
     subject = c.scale or "The score"
     if c.test is None:
-        reason = describe(c.notes[-1]) if c.notes else "no test was possible"
-        return f"{subject} by {c.column}: not compared ({reason})."
+        reason, _ = untested_reason(c.notes, tested=False)
+        return f"{subject} by {c.column}: not compared ({reason or 'no test was possible'})."
     significant = c.differs
     size = effect_label(c.effect_size.name, c.effect_size.value) if c.effect_size else "unknown"
     ordered = sorted(c.groups, key=lambda g: g.mean, reverse=True)
@@ -143,7 +143,8 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                             rows=tuple(test_rows),
                             kinds={"test": "text", "p": "p", "p Holm": "p", "effect size": "text",
                                    "statistic": "whole", "df": "whole", "df2": "whole"},
-                            notes=(comparison_sentence(c, decimals=decimals), *_notes_beside_sentence(c))))
+                            notes=(comparison_sentence(c, decimals=decimals),
+                                   *untested_reason(c.notes, tested=c.test is not None)[1])))
         if c.pairs:
             tables.append(Table(title=f"{c.pairs_method} pairs: {label}", key=f"pairs.{key}",
                                 columns=("a", "b", "difference", "se", "statistic", "df", "p", "Hedges' g"),
@@ -153,12 +154,6 @@ def compare_tables(comparisons: Sequence[Comparison], *, decimals: int = 2) -> l
                                 notes=("p-values are adjusted for all pairs of this comparison; difference is "
                                        "mean(a) - mean(b)",)))
     return tables
-
-
-def _notes_beside_sentence(c: Comparison) -> list[str]:
-    """The comparison's notes, less the one its sentence already gives as the reason no test was run."""
-    notes = [describe(n) for n in c.notes]
-    return notes[:-1] if c.test is None else notes
 
 
 __all__ = ["compare_tables", "comparison_record", "comparison_sentence", "effect_label"]

@@ -7,7 +7,7 @@ from typing import Any
 from ..stats.groups import suppressed_text
 from ..stats.tally import Tally
 from ..stats.tally_fit import FitResult
-from .messages import describe
+from .messages import describe, untested_reason
 from .numbers import format_value
 from .table import Table
 
@@ -48,8 +48,8 @@ def unanswered_sentence(t: Tally) -> str:
 def fit_sentence(fit: FitResult, *, decimals: int = 2) -> str:
     """The verdict on representativeness, with the chi-square test in APA style."""
     if fit.verdict is None:
-        reason = describe(fit.notes[-1]) if fit.notes else "no test was possible"
-        return f"{fit.column}: not compared with the reference proportions ({reason})."
+        reason, _ = untested_reason(fit.notes, tested=False)
+        return f"{fit.column}: not compared with the reference proportions ({reason or 'no test was possible'})."
     stats = (f"χ²({fit.df}, N = {fit.n}) = {format_value(fit.chi2, 'num', decimals)}, {_p(fit.pvalue)}, "
              f"w = {format_value(fit.w, 'bounded', decimals)}")
     text = f"The sample's {fit.column} mix {_VERDICT_WORDS[fit.verdict]} ({stats})."

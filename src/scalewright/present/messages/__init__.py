@@ -26,10 +26,10 @@ from .shape import SHAPE, shape_message
 from .structure import STRUCTURE, STRUCTURE_FLAGS, structure_message
 from .vocabulary import NOT_COMPUTABLE_REASONS, VOCABULARY
 from .weights import WEIGHTS
-from .wording import describe, flag_message, word_document
+from .wording import describe, flag_message, untested_reason, word_document
 
 __all__ = [
     "CONFIRM", "DRAFTING", "ENGINE", "GROUPS", "MISSING", "ORDINAL", "READING", "RELIABILITY", "SCREENING",
     "SHAPE", "STRUCTURE", "STRUCTURE_FLAGS", "VOCABULARY", "NOT_COMPUTABLE_REASONS", "WEIGHTS", "describe", "flag_message", "reliability_flag_message",
-    "shape_message", "structure_message", "weak_index_sentence", "word_document",
+    "shape_message", "structure_message", "untested_reason", "weak_index_sentence", "word_document",
 ]

@@ -1,7 +1,7 @@
 """Words any note or flag by its code: finds the area's template or function."""
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from typing import Any
 
 from ...notes import Note
@@ -78,6 +78,16 @@ def _all_templates() -> dict[str, str]:
             raise RuntimeError(f"message codes defined twice: {sorted(clash)}")
         merged.update(block)
     return merged
+
+
+def untested_reason(notes: Sequence[Note | str], *, tested: bool) -> tuple[str | None, list[str]]:
+    """For a test that could not run (``tested`` false), the reason in words (its last note) apart from the
+    other notes' sentences; for one that ran, None and every note's sentence. A sentence that quotes the
+    reason and the notes listed beneath it then give the reason once."""
+    sentences = [describe(note) for note in notes]
+    if tested or not sentences:
+        return None, sentences
+    return sentences[-1], sentences[:-1]
 
 
 def describe(note: Note | str, formatted: Mapping[str, str] | None = None) -> str:
