@@ -158,6 +158,17 @@ def test_goodness_of_fit_notes_are_codes_for_zero_references_and_small_expected_
     assert impossible.notes[0].values["categories"] == ("c",)
 
 
+def test_a_fit_that_could_not_run_gives_its_reason_once():
+    t = tally(repeated({"a": 40}), min_cell=1)
+    fit = goodness_of_fit(t, {"a": 1.0})
+    assert fit.verdict is None
+    reason = "fewer than two categories left to compare: no test"
+    assert [n.code for n in fit.notes] == ["fit-too-few-categories"]
+    (table,) = [table for table in tally_tables([t], [fit]) if table.key.startswith("fit.")]
+    assert reason in fit_sentence(fit)
+    assert sum(reason in text for text in table.notes) == 1  # in the sentence, not again beneath it
+
+
 def test_expected_proportions_are_validated():
     t = tally(repeated({"North": 20, "South": 20}))
     with pytest.raises(DataError, match=r"census.csv:3.*'Mars'"):

@@ -106,7 +106,8 @@ def tally_tables(tallies: Sequence[Tally], fits: Sequence[FitResult | None] = ()
                 rows=tuple((c.category, c.observed, c.expected_proportion, c.expected, c.standardized_residual)
                            for c in fit.categories),
                 kinds={"category": "text", "observed": "int", "reference proportion": "bounded"},
-                notes=(fit_sentence(fit, decimals=decimals), *(describe(n) for n in fit.notes),
+                notes=(fit_sentence(fit, decimals=decimals),
+                       *untested_reason(fit.notes, tested=fit.verdict is not None)[1],
                        "standardized residuals beyond ±1.96 mark categories with more (+) or fewer (-) "
                        "respondents than the reference implies")))
     return tables
