@@ -17,6 +17,7 @@ import numpy as np
 
 from .answer_codes import MAX_SPAN, MISSING
 from .arrow_numpy import validity
+from .errors import UsageError
 from .row_numbers import empty_lines, numbers_of_kept_rows
 from .spec_model import ResponseFormat
 
@@ -253,19 +254,27 @@ def holds_one_digit_cells(array) -> bool:
     """Whether every cell of a binary Arrow array (parsed with blank cells as null) is one ASCII digit.
 
     Such a column reads exactly as its 16-bit parse would (a digit is its own number), so
-    :func:`convert_digit_codes` can take it without the parser's number conversion. A non-blank cell
-    holds at least one byte, so the cells are one byte each exactly when their bytes number the
-    non-blank cells; those bytes then lie in one run of the value buffer.
+    :func:`convert_digit_codes` can take it without the parser's number conversion.
     """
+    cells = _one_byte_cells(array)
+    if cells is None:
+        return False
+    return not cells.size or bool(cells.min() >= ASCII_DIGITS[0] and cells.max() <= ASCII_DIGITS[1])
+
+
+def _one_byte_cells(array) -> np.ndarray | None:
+    """The bytes of a binary Arrow array's non-blank cells in row order (a view of its value buffer) when
+    every such cell is one byte, else None. A non-blank cell holds at least one byte, so the cells are one
+    byte each exactly when their bytes number the non-blank cells; those bytes then lie in one run. Only
+    the first and last offsets are read (the offsets are not widened or copied: this runs on every block)."""
     filled = len(array) - array.null_count
     offsets = np.frombuffer(array.buffers()[1], dtype=np.int32, count=len(array) + 1, offset=array.offset * 4)
     first, last = int(offsets[0]), int(offsets[-1])
     if last - first != filled:
-        return False
-    if filled == 0:
-        return True
-    digits = np.frombuffer(array.buffers()[2], dtype=np.uint8, count=filled, offset=first)
-    return bool(digits.min() >= ASCII_DIGITS[0] and digits.max() <= ASCII_DIGITS[1])
+        return None
+    if not filled:
+        return np.zeros(0, dtype=np.uint8)
+    return np.frombuffer(array.buffers()[2], dtype=np.uint8, count=filled, offset=first)
 
 
 def digit_code_table(fmt: ResponseFormat) -> np.ndarray:
@@ -291,10 +300,9 @@ def convert_digit_codes(array, fmt: ResponseFormat, *, out: np.ndarray) -> Conve
     those rows' messages).
     """
     blanks = int(array.null_count)
-    filled = len(array) - blanks
-    first = int(np.frombuffer(array.buffers()[1], dtype=np.int32, count=1, offset=array.offset * 4)[0])
-    digits = (np.frombuffer(array.buffers()[2], dtype=np.uint8, count=filled, offset=first) if filled
-              else np.zeros(0, dtype=np.uint8))
+    digits = _one_byte_cells(array)
+    if digits is None:
+        raise UsageError("convert_digit_codes takes cells of one byte each (see holds_one_digit_cells)")
     answered = validity(array) if blanks else None
 
     def place(values: np.ndarray) -> None:
