@@ -15,7 +15,7 @@ from hypothesis import strategies as st
 from scalewright import data as data_module
 from scalewright.answer_codes import MISSING
 from scalewright.data import read_responses
-from scalewright.errors import DataError
+from scalewright.errors import DataError, UsageError
 from scalewright.read_codes import (
     code_table,
     convert_codes,
@@ -231,6 +231,14 @@ def test_only_one_digit_cells_take_the_digit_route(cells, holds):
     assert one_digit_format(ResponseFormat(min=0, max=9))
     assert not one_digit_format(ResponseFormat(min=0, max=10))
     assert not one_digit_format(ResponseFormat(min=-2, max=2))
+
+
+def test_the_digit_conversion_refuses_cells_the_check_refuses():
+    import pyarrow as pa
+
+    out = np.empty(2, dtype=np.uint8)
+    with pytest.raises(UsageError, match="one byte each"):
+        convert_digit_codes(pa.array([b"1", b"10"], pa.binary()), ResponseFormat(min=1, max=5), out=out)
 
 
 def test_windows_line_ends_quoted_numbers_and_an_empty_item_read_alike(write_file, spec, monkeypatch):
